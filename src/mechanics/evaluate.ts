@@ -1,0 +1,390 @@
+/**
+ * Evaluation of one candidate design: workspace by grid, connected usable region, task coverage,
+ * every per-pose metric aggregated over the evaluation region, and the constraint values.
+ *
+ * An Evaluator is made once per study and per worker; it owns every buffer, so evaluating a design
+ * allocates only its small result object. Pure: no I/O.
+ */
+import { FiveBarPose, PoseStatus, footprint, poseDynamics, solvePose, type FiveBarModel } from './fivebar.js';
+import { MarginGrid } from './grid.js';
+import { METRICS, metricIndex } from './metrics.js';
+import { buildFiveBarModel, designVariables, movingMass, resolveDesign, type DesignVariable } from './designSpace.js';
+import type { Study, TaskRegion } from '../study/types.js';
+
+export interface ConstraintDefinition {
+  /** Column-safe name, e.g. "task_coverage" or "drive_torque_1". */
+  readonly name: string;
+  readonly metric: string;
+  readonly metricIndex: number;
+  readonly min?: number;
+  readonly max?: number;
+  /** Where the bound comes from, for messages. */
+  readonly origin: 'study' | 'drive';
+}
+
+export interface DesignEvaluation {
+  /** Metric values in METRICS order (SI). NaN = not available for this study (e.g. no drives given). */
+  readonly metrics: Float64Array;
+  /** Signed normalised margin per constraint: ≥ 0 satisfied, < 0 violated (by that fraction of the bound). */
+  readonly margins: Float64Array;
+  /** Total normalised violation Σ max(0, −margin); 0 when feasible. */
+  readonly violation: number;
+  readonly feasible: boolean;
+}
+
+/** Constraint list of a study: its own constraints plus the drive limits of mechanics §6. */
+export function constraintDefinitions(study: Study): ConstraintDefinition[] {
+  const out: ConstraintDefinition[] = [];
+  const seen = new Map<string, number>();
+  for (const c of study.constraints) {
+    const count = seen.get(c.metric) ?? 0;
+    seen.set(c.metric, count + 1);
+    const name = count === 0 ? c.metric : `${c.metric}_${count + 1}`;
+    const def: { -readonly [K in keyof ConstraintDefinition]: ConstraintDefinition[K] } = {
+      name, metric: c.metric, metricIndex: metricIndex(c.metric), origin: 'study',
+    };
+    if (c.min !== undefined) def.min = c.min;
+    if (c.max !== undefined) def.max = c.max;
+    out.push(def);
+  }
+  if (study.drives) {
+    study.drives.forEach((drive, i) => {
+      const n = i + 1;
+      out.push({
+        name: `drive_torque_${n}`, metric: `peak_gravity_torque_${n}`, metricIndex: metricIndex(`peak_gravity_torque_${n}`),
+        max: (drive.efficiency * drive.gearRatio * drive.ratedTorque) / study.torqueSafetyFactor, origin: 'drive',
+      });
+      if (study.task.speed > 0) {
+        out.push({
+          name: `drive_speed_${n}`, metric: `peak_joint_speed_${n}`, metricIndex: metricIndex(`peak_joint_speed_${n}`),
+          max: drive.maxSpeed / drive.gearRatio, origin: 'drive',
+        });
+      }
+    });
+    if (study.task.acceleration > 0) {
+      out.push({ name: 'drive_acceleration', metric: 'accel_capability', metricIndex: metricIndex('accel_capability'), min: study.task.acceleration, origin: 'drive' });
+    }
+  }
+  return out;
+}
+
+/** Violations beyond this many times the bound count as this much (keeps infinite metrics comparable). */
+const MAX_NORMALISED_VIOLATION = 1e6;
+
+export function constraintMargin(def: ConstraintDefinition, value: number): number {
+  if (Number.isNaN(value)) return -MAX_NORMALISED_VIOLATION;
+  let margin = Infinity;
+  if (def.min !== undefined) margin = Math.min(margin, (value - def.min) / (Math.abs(def.min) || 1));
+  if (def.max !== undefined) margin = Math.min(margin, (def.max - value) / (Math.abs(def.max) || 1));
+  return Math.max(margin, -MAX_NORMALISED_VIOLATION);
+}
+
+/** Task-region sample points with area weights (summing to 1). Edges and corners are included. */
+export function taskSamples(region: TaskRegion, intervals: number): { x: Float64Array; y: Float64Array; weight: Float64Array } {
+  const xs: number[] = [];
+  const ys: number[] = [];
+  const ws: number[] = [];
+  if (region.shape === 'rectangle') {
+    const long = Math.max(region.width, region.height);
+    const nxIntervals = Math.max(2, Math.round((intervals * region.width) / long));
+    const nyIntervals = Math.max(2, Math.round((intervals * region.height) / long));
+    for (let j = 0; j <= nyIntervals; j++) {
+      for (let i = 0; i <= nxIntervals; i++) {
+        xs.push(region.centreX - region.width / 2 + (region.width * i) / nxIntervals);
+        ys.push(region.centreY - region.height / 2 + (region.height * j) / nyIntervals);
+        // Trapezoid rule weights.
+        ws.push((i === 0 || i === nxIntervals ? 0.5 : 1) * (j === 0 || j === nyIntervals ? 0.5 : 1));
+      }
+    }
+  } else {
+    const rings = Math.max(2, Math.round(intervals / 2));
+    const dr = region.radius / rings;
+    xs.push(region.centreX);
+    ys.push(region.centreY);
+    ws.push(Math.PI * (dr / 2) ** 2);
+    for (let k = 1; k <= rings; k++) {
+      const r = k * dr;
+      const count = 6 * k;
+      const dphi = (2 * Math.PI) / count;
+      const radialWidth = k === rings ? dr / 2 : dr;
+      const ringRadius = k === rings ? r - dr / 4 : r;
+      for (let m = 0; m < count; m++) {
+        xs.push(region.centreX + r * Math.cos(m * dphi));
+        ys.push(region.centreY + r * Math.sin(m * dphi));
+        ws.push(ringRadius * radialWidth * dphi);
+      }
+    }
+  }
+  const total = ws.reduce((a, b) => a + b, 0);
+  return { x: Float64Array.from(xs), y: Float64Array.from(ys), weight: Float64Array.from(ws, (w) => w / total) };
+}
+
+const M = {
+  reachable: metricIndex('reachable_area'),
+  workspace: metricIndex('workspace_area'),
+  coverage: metricIndex('task_coverage'),
+  inscribed: metricIndex('inscribed_radius'),
+  gci: metricIndex('gci'),
+  minInvCond: metricIndex('min_inv_condition'),
+  minTransmission: metricIndex('min_transmission_angle'),
+  minStiffness: metricIndex('min_stiffness'),
+  peakTorque: metricIndex('peak_gravity_torque'),
+  peakTorque1: metricIndex('peak_gravity_torque_1'),
+  peakTorque2: metricIndex('peak_gravity_torque_2'),
+  bandwidth: metricIndex('bandwidth'),
+  accel: metricIndex('accel_capability'),
+  peakSpeed: metricIndex('peak_joint_speed'),
+  peakSpeed1: metricIndex('peak_joint_speed_1'),
+  peakSpeed2: metricIndex('peak_joint_speed_2'),
+  resolution: metricIndex('resolution'),
+  footprint: metricIndex('footprint'),
+  movingMass: metricIndex('moving_mass'),
+} as const;
+
+/** Running aggregate of the per-pose metrics over the evaluation region. */
+class RegionAggregate {
+  weight = 0;
+  invCondSum = 0;
+  minInvCond = Infinity;
+  minTransmissionSine = Infinity;
+  minStiffness = Infinity;
+  peakTorque1 = 0;
+  peakTorque2 = 0;
+  minFrequency = Infinity;
+  minAccel = Infinity;
+  peakSpeed1 = 0;
+  peakSpeed2 = 0;
+  maxStep = 0;
+  count = 0;
+  unassembled = 0;
+  reset(): void {
+    this.weight = 0; this.invCondSum = 0; this.minInvCond = Infinity; this.minTransmissionSine = Infinity;
+    this.minStiffness = Infinity; this.peakTorque1 = 0; this.peakTorque2 = 0; this.minFrequency = Infinity;
+    this.minAccel = Infinity; this.peakSpeed1 = 0; this.peakSpeed2 = 0; this.maxStep = 0; this.count = 0; this.unassembled = 0;
+  }
+}
+
+export class Evaluator {
+  readonly study: Study;
+  readonly variables: readonly DesignVariable[];
+  readonly constraints: readonly ConstraintDefinition[];
+  private readonly grid: MarginGrid;
+  private readonly pose = new FiveBarPose();
+  private readonly task: { x: Float64Array; y: Float64Array; weight: Float64Array } | null;
+  private readonly aggregate = new RegionAggregate();
+  /** Joint torque limits for acceleration (η N τ_peak), N·m, and joint step per encoder count, rad. */
+  private readonly peakJointTorque: readonly [number, number] | null;
+  private readonly encoderStep: readonly [number, number] | null;
+
+  constructor(study: Study) {
+    this.study = study;
+    this.variables = designVariables(study);
+    this.constraints = constraintDefinitions(study);
+    this.grid = new MarginGrid(study.evaluation.gridCells + 4);
+    this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
+    const drives = study.drives;
+    this.peakJointTorque = drives
+      ? [drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].peakTorque]
+      : null;
+    this.encoderStep =
+      drives && drives[0].encoderCounts > 0 && drives[1].encoderCounts > 0
+        ? [(2 * Math.PI) / (drives[0].encoderCounts * drives[0].gearRatio), (2 * Math.PI) / (drives[1].encoderCounts * drives[1].gearRatio)]
+        : null;
+  }
+
+  /** Model of a design vector. */
+  model(design: ArrayLike<number>): FiveBarModel {
+    return buildFiveBarModel(this.study, resolveDesign(this.study, this.variables, design));
+  }
+
+  /** Usability margin of the pose last solved: ≥ 0 when usable (dimensionless; see README). */
+  private usableMargin(status: PoseStatus): number {
+    const pose = this.pose;
+    if (status === PoseStatus.Unreachable) return -1;
+    const e = this.study.evaluation;
+    const sinMin = Math.sin(e.minTransmissionAngle);
+    const assembly = this.study.assemblyMode === '+' ? 1 : -1;
+    let m = pose.inverseCondition - e.minInverseCondition;
+    const t1 = Math.abs(pose.s1) - sinMin;
+    const t2 = Math.abs(pose.s2) - sinMin;
+    const t3 = assembly * pose.detA - sinMin;
+    if (t1 < m) m = t1;
+    if (t2 < m) m = t2;
+    if (t3 < m) m = t3;
+    if (pose.jointMargin < m) m = pose.jointMargin;
+    // Zero-threshold settings still exclude exact singularities and the wrong assembly mode.
+    if (m === 0 && (pose.inverseCondition === 0 || assembly * pose.detA <= 0)) m = -1e-12;
+    return m;
+  }
+
+  evaluate(design: ArrayLike<number>): DesignEvaluation {
+    const model = this.model(design);
+    const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
+    this.analyseWorkspace(model, metrics);
+    this.finishMetrics(model, design, metrics);
+    const margins = new Float64Array(this.constraints.length);
+    let violation = 0;
+    this.constraints.forEach((c, k) => {
+      const margin = constraintMargin(c, metrics[c.metricIndex]!);
+      margins[k] = margin;
+      if (margin < 0) violation -= margin;
+    });
+    return { metrics, margins, violation, feasible: violation === 0 };
+  }
+
+  private analyseWorkspace(model: FiveBarModel, metrics: Float64Array): void {
+    const grid = this.grid;
+    const pose = this.pose;
+    // Bounding box of the reachable set: intersection of the legs' outer discs' boxes.
+    const r1 = model.crank[0] + model.rod[0];
+    const r2 = model.crank[1] + model.rod[1];
+    const xmin = Math.max(model.pivotX[0] - r1, model.pivotX[1] - r2);
+    const xmax = Math.min(model.pivotX[0] + r1, model.pivotX[1] + r2);
+    const ymin = Math.max(model.pivotY[0] - r1, model.pivotY[1] - r2);
+    const ymax = Math.min(model.pivotY[0] + r1, model.pivotY[1] + r2);
+    const agg = this.aggregate;
+    agg.reset();
+    if (!(xmax > xmin && ymax > ymin)) {
+      metrics[M.reachable] = 0;
+      metrics[M.workspace] = 0;
+      metrics[M.inscribed] = 0;
+      metrics[M.coverage] = this.task ? 0 : Number.NaN;
+      if (this.task) this.aggregateTask(model, -1);
+      return;
+    }
+    grid.layout(xmin, xmax, ymin, ymax, this.study.evaluation.gridCells);
+    const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
+    // One sampling pass: reach margin (m) for the reachable area, usable margin for the workspace.
+    for (let j = 0; j < ny; j++) {
+      const y = y0 + j * h;
+      for (let i = 0; i < nx; i++) {
+        const status = solvePose(model, pose, x0 + i * h, y);
+        reach[j * nx + i] = pose.reachMargin;
+        values[j * nx + i] = this.usableMargin(status);
+      }
+    }
+    metrics[M.reachable] = grid.positiveArea(reach);
+    grid.labelRegions();
+    let region = -1;
+    const taskRegion = this.study.task.region;
+    if (taskRegion) {
+      const status = solvePose(model, pose, taskRegion.centreX, taskRegion.centreY);
+      if (this.usableMargin(status) >= 0) region = grid.regionAt(taskRegion.centreX, taskRegion.centreY);
+    } else {
+      region = grid.largestRegion();
+    }
+    metrics[M.workspace] = grid.regionArea(region);
+    metrics[M.inscribed] = grid.inscribedRadius(region);
+    if (this.task) {
+      metrics[M.coverage] = this.aggregateTask(model, region);
+    } else {
+      this.aggregateRegionNodes(model, region);
+    }
+  }
+
+  /** Per-pose metrics over the task samples; returns the covered fraction of the task area. */
+  private aggregateTask(model: FiveBarModel, region: number): number {
+    const task = this.task!;
+    const pose = this.pose;
+    let covered = 0;
+    for (let k = 0; k < task.x.length; k++) {
+      const x = task.x[k]!;
+      const y = task.y[k]!;
+      const status = solvePose(model, pose, x, y);
+      if (region >= 0 && this.usableMargin(status) >= 0 && this.grid.regionAt(x, y) === region) covered += task.weight[k]!;
+      this.accumulate(model, status, task.weight[k]!);
+    }
+    return Math.min(covered, 1);
+  }
+
+  /** Per-pose metrics over the nodes of the usable region (no task region given). */
+  private aggregateRegionNodes(model: FiveBarModel, region: number): void {
+    if (region < 0) return;
+    const grid = this.grid;
+    const { nx, ny, x0, y0, h, labels } = grid;
+    for (let j = 0; j < ny; j++) {
+      for (let i = 0; i < nx; i++) {
+        if (labels[j * nx + i] !== region) continue;
+        const status = solvePose(model, this.pose, x0 + i * h, y0 + j * h);
+        this.accumulate(model, status, 1);
+      }
+    }
+  }
+
+  private accumulate(model: FiveBarModel, status: PoseStatus, weight: number): void {
+    const agg = this.aggregate;
+    const pose = this.pose;
+    agg.weight += weight;
+    if (status !== PoseStatus.Assembled || pose.inverseCondition === 0) {
+      // Not a pose the mechanism can hold: the worst limit of every per-pose metric.
+      agg.unassembled++;
+      agg.minInvCond = 0;
+      agg.minTransmissionSine = 0;
+      agg.minStiffness = 0;
+      agg.minFrequency = 0;
+      agg.minAccel = 0;
+      agg.peakTorque1 = Infinity;
+      agg.peakTorque2 = Infinity;
+      agg.peakSpeed1 = Infinity;
+      agg.peakSpeed2 = Infinity;
+      agg.maxStep = Infinity;
+      return;
+    }
+    agg.count++;
+    poseDynamics(model, pose);
+    agg.invCondSum += weight * pose.inverseCondition;
+    if (pose.inverseCondition < agg.minInvCond) agg.minInvCond = pose.inverseCondition;
+    const ts = Math.min(Math.abs(pose.s1), Math.abs(pose.s2), Math.abs(pose.detA));
+    if (ts < agg.minTransmissionSine) agg.minTransmissionSine = ts;
+    if (pose.minStiffness < agg.minStiffness) agg.minStiffness = pose.minStiffness;
+    if (pose.frequencyLow < agg.minFrequency) agg.minFrequency = pose.frequencyLow;
+    const t1 = Math.abs(pose.tauG1);
+    const t2 = Math.abs(pose.tauG2);
+    if (t1 > agg.peakTorque1) agg.peakTorque1 = t1;
+    if (t2 > agg.peakTorque2) agg.peakTorque2 = t2;
+    if (this.peakJointTorque) {
+      const a1 = (this.peakJointTorque[0] - t1) / pose.inertiaRowNorm1;
+      const a2 = (this.peakJointTorque[1] - t2) / pose.inertiaRowNorm2;
+      const a = a1 < a2 ? a1 : a2;
+      if (a < agg.minAccel) agg.minAccel = a;
+    }
+    const v = this.study.task.speed;
+    if (v * pose.inverseJacobianRowNorm1 > agg.peakSpeed1) agg.peakSpeed1 = v * pose.inverseJacobianRowNorm1;
+    if (v * pose.inverseJacobianRowNorm2 > agg.peakSpeed2) agg.peakSpeed2 = v * pose.inverseJacobianRowNorm2;
+    if (this.encoderStep) {
+      // Largest end-point step for one count on each joint: σ_max(J diag(δθ_1, δθ_2)).
+      const d1 = this.encoderStep[0];
+      const d2 = this.encoderStep[1];
+      const a = pose.j11 * d1, b = pose.j12 * d2, c = pose.j21 * d1, d = pose.j22 * d2;
+      const frob = a * a + b * b + c * c + d * d;
+      const det = a * d - b * c;
+      const step = Math.sqrt((frob + Math.sqrt(Math.max(frob * frob - 4 * det * det, 0))) / 2);
+      if (step > agg.maxStep) agg.maxStep = step;
+    }
+  }
+
+  private finishMetrics(model: FiveBarModel, design: ArrayLike<number>, metrics: Float64Array): void {
+    const agg = this.aggregate;
+    const empty = agg.weight === 0;
+    const worst = (v: number, fallback: number): number => (empty ? fallback : v);
+    metrics[M.gci] = empty ? 0 : agg.invCondSum / agg.weight;
+    metrics[M.minInvCond] = worst(agg.minInvCond, 0);
+    metrics[M.minTransmission] = worst(Math.asin(Math.min(agg.minTransmissionSine, 1)), 0);
+    const stiffnessKnown = model.complianceBending[0] + model.complianceCrankAxial[0] + model.complianceRodAxial[0] > 0
+      && model.complianceBending[1] + model.complianceCrankAxial[1] + model.complianceRodAxial[1] > 0;
+    metrics[M.minStiffness] = stiffnessKnown ? worst(agg.minStiffness, 0) : Number.NaN;
+    metrics[M.bandwidth] = stiffnessKnown ? worst(agg.minFrequency, 0) : Number.NaN;
+    metrics[M.peakTorque1] = worst(agg.peakTorque1, Infinity);
+    metrics[M.peakTorque2] = worst(agg.peakTorque2, Infinity);
+    metrics[M.peakTorque] = Math.max(metrics[M.peakTorque1]!, metrics[M.peakTorque2]!);
+    metrics[M.accel] = this.peakJointTorque ? worst(agg.minAccel, 0) : Number.NaN;
+    if (this.study.task.speed > 0) {
+      metrics[M.peakSpeed1] = worst(agg.peakSpeed1, Infinity);
+      metrics[M.peakSpeed2] = worst(agg.peakSpeed2, Infinity);
+      metrics[M.peakSpeed] = Math.max(metrics[M.peakSpeed1]!, metrics[M.peakSpeed2]!);
+    }
+    metrics[M.resolution] = this.encoderStep ? worst(agg.maxStep, Infinity) : Number.NaN;
+    metrics[M.footprint] = footprint(model);
+    metrics[M.movingMass] = movingMass(this.study, resolveDesign(this.study, this.variables, design).geometry);
+  }
+}

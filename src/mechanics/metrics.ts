@@ -1,0 +1,50 @@
+/**
+ * The metric catalogue: every quantity a design evaluation reports, with its unit and meaning.
+ * The order here is the order of columns in tables, the store and exports.
+ */
+import type { QuantityKind } from '../study/units.js';
+
+export interface MetricInfo {
+  readonly name: string;
+  readonly kind: QuantityKind;
+  /** Which direction is better, when the metric is used as an objective. */
+  readonly better: 'min' | 'max';
+  /** One-line meaning, in the project's own words, shown by `loopsmith check` and the README. */
+  readonly description: string;
+}
+
+export const METRICS: readonly MetricInfo[] = [
+  { name: 'reachable_area', kind: 'area', better: 'max', description: 'area both legs can reach, before any quality filter' },
+  { name: 'workspace_area', kind: 'area', better: 'max', description: 'area of the usable (singularity-free, well-conditioned) workspace region' },
+  { name: 'task_coverage', kind: 'dimensionless', better: 'max', description: 'fraction of the task region inside the usable workspace (1 = all of it)' },
+  { name: 'inscribed_radius', kind: 'length', better: 'max', description: 'radius of the largest circle that fits inside the usable workspace' },
+  { name: 'gci', kind: 'dimensionless', better: 'max', description: 'area-mean of 1/κ(J) over the evaluation region (global conditioning index)' },
+  { name: 'min_inv_condition', kind: 'dimensionless', better: 'max', description: 'worst 1/κ(J) over the evaluation region' },
+  { name: 'min_transmission_angle', kind: 'angle', better: 'max', description: 'worst transmission angle (crank–rod or rod–rod) over the evaluation region' },
+  { name: 'min_stiffness', kind: 'linearStiffness', better: 'max', description: 'smallest eigenvalue of the end-point stiffness K_x over the evaluation region' },
+  { name: 'peak_gravity_torque', kind: 'torque', better: 'min', description: 'largest static holding torque at any actuator joint, payload included' },
+  { name: 'peak_gravity_torque_1', kind: 'torque', better: 'min', description: 'largest static holding torque at joint 1' },
+  { name: 'peak_gravity_torque_2', kind: 'torque', better: 'min', description: 'largest static holding torque at joint 2' },
+  { name: 'bandwidth', kind: 'frequency', better: 'max', description: 'lowest natural frequency of the end point over the evaluation region' },
+  { name: 'accel_capability', kind: 'acceleration', better: 'max', description: 'end-point acceleration available in every direction from standstill, at the worst pose' },
+  { name: 'peak_joint_speed', kind: 'angularSpeed', better: 'min', description: 'largest actuator joint speed needed to move the end point at the required speed' },
+  { name: 'peak_joint_speed_1', kind: 'angularSpeed', better: 'min', description: 'largest joint-1 speed for the required end-point speed' },
+  { name: 'peak_joint_speed_2', kind: 'angularSpeed', better: 'min', description: 'largest joint-2 speed for the required end-point speed' },
+  { name: 'resolution', kind: 'length', better: 'min', description: 'largest end-point step caused by one encoder count' },
+  { name: 'footprint', kind: 'length', better: 'min', description: 'size proxy: pivot distance plus the longer leg reach' },
+  { name: 'moving_mass', kind: 'mass', better: 'min', description: 'mass of cranks, rods and hubs (payload not included)' },
+];
+
+export type MetricName = (typeof METRICS)[number]['name'];
+export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
+const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
+
+export function metricIndex(name: string): number {
+  const hit = BY_NAME.get(name);
+  if (!hit) throw new Error(`unknown metric "${name}"`);
+  return hit.index;
+}
+
+export function metricInfo(name: string): MetricInfo | undefined {
+  return BY_NAME.get(name)?.info;
+}

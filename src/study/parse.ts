@@ -1,0 +1,511 @@
+/**
+ * Study files: YAML text → validated, typed Study in SI units.
+ * Validation runs in two layers: the JSON Schema in schema/study.schema.json (shape, names, enums;
+ * editors can use the same file), then the unit conversion and cross-field checks here.
+ */
+import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
+import { Ajv, type ErrorObject } from 'ajv';
+import { parseDocument } from 'yaml';
+import type { AssemblyMode, JointRange, WorkingMode } from '../mechanics/fivebar.js';
+import { metricInfo } from '../mechanics/metrics.js';
+import { parseQuantity, UnitError, type QuantityKind } from './units.js';
+import {
+  FIVE_BAR_PARAMETERS,
+  type ConstraintSpec,
+  type DriveSpec,
+  type FiveBarParameter,
+  type LinkSpec,
+  type ObjectiveSpec,
+  type ParameterSpec,
+  type Study,
+  type TaskRegion,
+} from './types.js';
+import studySchema from './study.schema.json' with { type: 'json' };
+
+/** A problem with a study file that the user can fix. The message names the file and the field. */
+export class StudyError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'StudyError';
+  }
+}
+
+export const STANDARD_GRAVITY = 9.80665; // m/s², CGPM 1901 conventional value (common practice, no source)
+
+/** Handbook values (from memory): aluminium 6061-T6 and structural steel. */
+export const MATERIALS: Readonly<Record<string, { density: number; youngsModulus: number }>> = {
+  'aluminium-6061': { density: 2700, youngsModulus: 68.9e9 },
+  steel: { density: 7850, youngsModulus: 200e9 },
+};
+
+export const DEFAULT_EVALUATION = {
+  gridCells: 120,
+  taskSamples: 12,
+  minInverseCondition: 0.2,
+  minTransmissionAngle: (30 * Math.PI) / 180,
+} as const;
+
+export const DEFAULT_OPTIMIZER = { population: 100, generations: 100, seed: 1 } as const;
+
+type Json = null | boolean | number | string | Json[] | { [key: string]: Json };
+type JsonObject = { [key: string]: Json };
+
+let validator: ReturnType<Ajv['compile']> | undefined;
+function validateShape(data: unknown): readonly ErrorObject[] {
+  if (!validator) {
+    const ajv = new Ajv({ allErrors: true, strict: false });
+    validator = ajv.compile(studySchema);
+  }
+  return validator(data) ? [] : (validator.errors ?? []);
+}
+
+function describeSchemaError(error: ErrorObject): string {
+  const at = error.instancePath ? error.instancePath.slice(1).replaceAll('/', '.') : '(top level)';
+  switch (error.keyword) {
+    case 'additionalProperties':
+      return `${at}: unknown field "${String(error.params['additionalProperty'])}"`;
+    case 'required':
+      return `${at}: missing field "${String(error.params['missingProperty'])}"`;
+    case 'enum':
+      return `${at}: must be one of ${JSON.stringify(error.params['allowedValues'])}`;
+    case 'const':
+      return `${at}: must be ${JSON.stringify(error.params['allowedValue'])}`;
+    default:
+      return `${at}: ${error.message ?? 'is not valid'}`;
+  }
+}
+
+/** Keep the most specific schema errors: oneOf branches produce noise that hides the real fault. */
+function summariseSchemaErrors(errors: readonly ErrorObject[]): string[] {
+  const useful = errors.filter((e) => e.keyword !== 'oneOf' && e.keyword !== 'if');
+  const deepest = new Map<string, ErrorObject[]>();
+  for (const e of useful) {
+    const list = deepest.get(e.instancePath) ?? [];
+    list.push(e);
+    deepest.set(e.instancePath, list);
+  }
+  const lines = new Set<string>();
+  for (const [path, list] of deepest) {
+    // Skip a parent path when a child path has errors too.
+    const hasChild = [...deepest.keys()].some((p) => p !== path && p.startsWith(path + '/'));
+    if (hasChild && list.every((e) => e.keyword === 'type')) continue;
+    const nonType = list.filter((e) => e.keyword !== 'type');
+    for (const e of nonType.length > 0 ? nonType : list.slice(0, 1)) lines.add(describeSchemaError(e));
+  }
+  return [...lines].slice(0, 12);
+}
+
+function isObject(v: Json | undefined): v is JsonObject {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
+}
+
+/** SHA-256 hex of a text. */
+export function sha256(text: string): string {
+  return createHash('sha256').update(text).digest('hex');
+}
+
+export interface LoadedStudy {
+  readonly study: Study;
+  /** The file text exactly as read. */
+  readonly text: string;
+  /** SHA-256 of the text. */
+  readonly fileHash: string;
+  /** Hash of everything that changes an evaluation's result (not names, objectives or optimizer settings). */
+  readonly settingsHash: string;
+  /** Where it came from, for messages. */
+  readonly source: string;
+}
+
+export function loadStudyFile(path: string): LoadedStudy {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (error) {
+    const code = (error as NodeJS.ErrnoException).code;
+    throw new StudyError(`${path}: cannot read the study file (${code ?? String(error)})`);
+  }
+  return parseStudyText(text, path);
+}
+
+export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
+  const doc = parseDocument(text, { prettyErrors: true });
+  if (doc.errors.length > 0) {
+    throw new StudyError(`${source}: not valid YAML: ${doc.errors[0]!.message}`);
+  }
+  const data = doc.toJS() as Json;
+  if (!isObject(data)) throw new StudyError(`${source}: a study file must be a YAML mapping (key: value lines)`);
+  const schemaErrors = validateShape(data);
+  if (schemaErrors.length > 0) {
+    const lines = summariseSchemaErrors(schemaErrors);
+    throw new StudyError(`${source}: the study does not match the study schema (schema/study.schema.json):\n  - ${lines.join('\n  - ')}`);
+  }
+  let study: Study;
+  try {
+    study = buildStudy(data);
+  } catch (error) {
+    if (error instanceof UnitError || error instanceof StudyError) {
+      throw new StudyError(`${source}: ${error.message}`);
+    }
+    throw error;
+  }
+  return {
+    study,
+    text,
+    fileHash: sha256(text),
+    settingsHash: evaluationSettingsHash(study),
+    source,
+  };
+}
+
+/** Hash of the parts of a study that change evaluation results (canonical JSON of the typed study). */
+export function evaluationSettingsHash(study: Study): string {
+  const relevant = {
+    architecture: study.architecture,
+    geometry: study.geometry,
+    workingModes: study.workingModes,
+    assemblyMode: study.assemblyMode,
+    jointLimits: study.jointLimits,
+    links: study.links,
+    masses: [study.elbowHubMass, study.endHubMass, study.payloadMass],
+    gravity: study.gravity,
+    drives: study.drives,
+    torqueSafetyFactor: study.torqueSafetyFactor,
+    task: study.task,
+    evaluation: study.evaluation,
+    constraints: study.constraints,
+  };
+  return sha256(canonicalJson(relevant));
+}
+
+/** JSON with sorted keys and Infinity spelled out, so equal values give equal text. */
+export function canonicalJson(value: unknown): string {
+  if (value === null || typeof value !== 'object') {
+    if (typeof value === 'number' && !Number.isFinite(value)) return JSON.stringify(String(value));
+    return JSON.stringify(value) ?? 'null';
+  }
+  if (Array.isArray(value)) return `[${value.map(canonicalJson).join(',')}]`;
+  const entries = Object.entries(value as Record<string, unknown>)
+    .filter(([, v]) => v !== undefined)
+    .sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
+  return `{${entries.map(([k, v]) => `${JSON.stringify(k)}:${canonicalJson(v)}`).join(',')}}`;
+}
+
+function q(value: Json | undefined, kind: QuantityKind, where: string, fallback?: number): number {
+  if (value === undefined || value === null) {
+    if (fallback !== undefined) return fallback;
+    throw new StudyError(`${where}: missing value`);
+  }
+  return parseQuantity(value, kind, where);
+}
+
+function positive(value: number, where: string, allowZero = false): number {
+  if (!(allowZero ? value >= 0 : value > 0)) {
+    throw new StudyError(`${where}: must be ${allowZero ? 'zero or positive' : 'positive'} (got ${value})`);
+  }
+  return value;
+}
+
+function buildStudy(data: JsonObject): Study {
+  const geometryIn = data['geometry'] as JsonObject;
+  const geometry = {} as Record<FiveBarParameter, ParameterSpec>;
+  for (const name of FIVE_BAR_PARAMETERS) {
+    const where = `geometry.${name}`;
+    const raw = geometryIn[name];
+    const allowZero = name === 'base_rise' || name === 'base_span';
+    const signed = name === 'base_rise';
+    if (raw === undefined) {
+      geometry[name] = { kind: 'fixed', value: 0 };
+    } else if (isObject(raw) && 'same_as' in raw) {
+      const to = raw['same_as'] as FiveBarParameter;
+      if (to === name) throw new StudyError(`${where}.same_as: a parameter cannot be tied to itself`);
+      geometry[name] = { kind: 'tied', to };
+    } else if (isObject(raw)) {
+      const min = q(raw['min'], 'length', `${where}.min`);
+      const max = q(raw['max'], 'length', `${where}.max`);
+      if (!signed) positive(min, `${where}.min`, allowZero);
+      if (!(max > min)) throw new StudyError(`${where}: max (${max} m) must be greater than min (${min} m)`);
+      geometry[name] = { kind: 'variable', min, max };
+    } else {
+      const value = q(raw, 'length', where);
+      if (!signed) positive(value, where, allowZero);
+      geometry[name] = { kind: 'fixed', value };
+    }
+  }
+  for (const name of FIVE_BAR_PARAMETERS) {
+    const spec = geometry[name];
+    if (spec.kind === 'tied' && geometry[spec.to].kind === 'tied') {
+      throw new StudyError(`geometry.${name}.same_as: "${spec.to}" is itself tied; tie to the parameter it follows instead`);
+    }
+  }
+
+  const wm = data['working_mode'];
+  const workingModes: WorkingMode[] = wm === undefined ? ['+-'] : Array.isArray(wm) ? (wm as WorkingMode[]) : [wm as WorkingMode];
+  const assemblyMode = (data['assembly_mode'] ?? '+') as AssemblyMode;
+
+  const limitsIn = isObject(data['joint_limits']) ? data['joint_limits'] : {};
+  const range = (raw: Json | undefined, where: string): JointRange | null => {
+    if (!isObject(raw)) return null;
+    const min = q(raw['min'], 'angle', `${where}.min`);
+    const max = q(raw['max'], 'angle', `${where}.max`);
+    if (!(max > min)) throw new StudyError(`${where}: max must be greater than min`);
+    if (max - min >= 2 * Math.PI) return null;
+    return { min, max };
+  };
+  const bothLimits = range(limitsIn['both'], 'joint_limits.both');
+  const jointLimits: [JointRange | null, JointRange | null] = [
+    range(limitsIn['actuator_1'], 'joint_limits.actuator_1') ?? bothLimits,
+    range(limitsIn['actuator_2'], 'joint_limits.actuator_2') ?? bothLimits,
+  ];
+
+  const massIn = isObject(data['mass']) ? data['mass'] : {};
+  const link = (specific: string, shared: string): LinkSpec => {
+    const raw = massIn[specific] ?? massIn[shared];
+    return buildLink(raw, `mass.${massIn[specific] !== undefined ? specific : shared}`);
+  };
+  const links = {
+    cranks: [link('crank_1', 'cranks'), link('crank_2', 'cranks')] as const,
+    rods: [link('rod_1', 'rods'), link('rod_2', 'rods')] as const,
+  };
+  const elbowHubMass = positive(q(massIn['elbow_hubs'], 'mass', 'mass.elbow_hubs', 0), 'mass.elbow_hubs', true);
+  const endHubMass = positive(q(massIn['end_hub'], 'mass', 'mass.end_hub', 0), 'mass.end_hub', true);
+  const payloadMass = positive(q(massIn['payload'], 'mass', 'mass.payload', 0), 'mass.payload', true);
+
+  const gravityIn = data['gravity'] ?? 'vertical';
+  let gravity: [number, number];
+  if (gravityIn === 'vertical') gravity = [0, -STANDARD_GRAVITY];
+  else if (gravityIn === 'horizontal') gravity = [0, 0];
+  else {
+    const g = gravityIn as JsonObject;
+    gravity = [q(g['x'], 'acceleration', 'gravity.x'), q(g['y'], 'acceleration', 'gravity.y')];
+  }
+
+  const drivesIn = isObject(data['drives']) ? data['drives'] : undefined;
+  let drives: [DriveSpec, DriveSpec] | null = null;
+  let torqueSafetyFactor = 1.5;
+  if (drivesIn) {
+    const pick = (name: string): DriveSpec => {
+      const raw = drivesIn[name] ?? drivesIn['both'];
+      if (!isObject(raw)) throw new StudyError(`drives: give "both" or "actuator_1" and "actuator_2" (missing a drive for ${name})`);
+      return buildDrive(raw, `drives.${drivesIn[name] !== undefined ? name : 'both'}`);
+    };
+    drives = [pick('actuator_1'), pick('actuator_2')];
+    if (typeof drivesIn['torque_safety_factor'] === 'number') torqueSafetyFactor = drivesIn['torque_safety_factor'];
+  }
+
+  const taskIn = isObject(data['task']) ? data['task'] : {};
+  let region: TaskRegion | null = null;
+  if (isObject(taskIn['region'])) {
+    const r = taskIn['region'];
+    const centre = r['centre'] as Json[];
+    const centreX = q(centre[0], 'length', 'task.region.centre[0]');
+    const centreY = q(centre[1], 'length', 'task.region.centre[1]');
+    if (r['shape'] === 'rectangle') {
+      region = {
+        shape: 'rectangle',
+        centreX,
+        centreY,
+        width: positive(q(r['width'], 'length', 'task.region.width'), 'task.region.width'),
+        height: positive(q(r['height'], 'length', 'task.region.height'), 'task.region.height'),
+      };
+    } else {
+      region = { shape: 'circle', centreX, centreY, radius: positive(q(r['radius'], 'length', 'task.region.radius'), 'task.region.radius') };
+    }
+  }
+  const task = {
+    region,
+    speed: positive(q(taskIn['speed'], 'speed', 'task.speed', 0), 'task.speed', true),
+    acceleration: positive(q(taskIn['acceleration'], 'acceleration', 'task.acceleration', 0), 'task.acceleration', true),
+  };
+
+  const evalIn = isObject(data['evaluation']) ? data['evaluation'] : {};
+  const minTransmissionAngle = q(evalIn['min_transmission_angle'], 'angle', 'evaluation.min_transmission_angle', DEFAULT_EVALUATION.minTransmissionAngle);
+  if (minTransmissionAngle < 0 || minTransmissionAngle >= Math.PI / 2) {
+    throw new StudyError('evaluation.min_transmission_angle: must be between 0 and 90 deg');
+  }
+  const evaluation = {
+    gridCells: (evalIn['grid_cells'] as number | undefined) ?? DEFAULT_EVALUATION.gridCells,
+    taskSamples: (evalIn['task_samples'] as number | undefined) ?? DEFAULT_EVALUATION.taskSamples,
+    minInverseCondition: (evalIn['min_inverse_condition'] as number | undefined) ?? DEFAULT_EVALUATION.minInverseCondition,
+    minTransmissionAngle,
+  };
+
+  const objectives: ObjectiveSpec[] = (data['objectives'] as JsonObject[]).map((o, i) => {
+    const metric = o['metric'] as string;
+    const info = metricInfo(metric);
+    if (!info) throw new StudyError(`objectives[${i}].metric: unknown metric "${metric}"`);
+    return { metric, sense: (o['sense'] as 'min' | 'max' | undefined) ?? info.better };
+  });
+  const seenObjectives = new Set<string>();
+  for (const o of objectives) {
+    if (seenObjectives.has(o.metric)) throw new StudyError(`objectives: "${o.metric}" is listed twice`);
+    seenObjectives.add(o.metric);
+  }
+  const constraints: ConstraintSpec[] = ((data['constraints'] as JsonObject[] | undefined) ?? []).map((c, i) => {
+    const metric = c['metric'] as string;
+    const info = metricInfo(metric)!;
+    const where = `constraints[${i}]`;
+    if (c['min'] === undefined && c['max'] === undefined) throw new StudyError(`${where}: give min, max or both for "${metric}"`);
+    const spec: { metric: string; min?: number; max?: number } = { metric };
+    if (c['min'] !== undefined) spec.min = q(c['min'], info.kind, `${where}.min`);
+    if (c['max'] !== undefined) spec.max = q(c['max'], info.kind, `${where}.max`);
+    if (spec.min !== undefined && spec.max !== undefined && spec.max < spec.min) throw new StudyError(`${where}: max is below min`);
+    return spec;
+  });
+
+  const optIn = isObject(data['optimizer']) ? data['optimizer'] : {};
+  const optimizer = {
+    population: (optIn['population'] as number | undefined) ?? DEFAULT_OPTIMIZER.population,
+    generations: (optIn['generations'] as number | undefined) ?? DEFAULT_OPTIMIZER.generations,
+    seed: (optIn['seed'] as number | undefined) ?? DEFAULT_OPTIMIZER.seed,
+  };
+
+  const partial = {
+    name: data['study'] as string,
+    description: (data['description'] as string | undefined) ?? '',
+    architecture: 'five-bar' as const,
+    geometry,
+    workingModes,
+    assemblyMode,
+    jointLimits,
+    links,
+    elbowHubMass,
+    endHubMass,
+    payloadMass,
+    gravity,
+    drives,
+    torqueSafetyFactor,
+    task,
+    evaluation,
+    objectives,
+    constraints,
+    optimizer,
+  };
+  const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
+  return { ...partial, baseline };
+}
+
+function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<string, number | string> {
+  const out: Record<string, number | string> = {};
+  for (const [name, value] of Object.entries(raw)) {
+    const where = `baseline.${name}`;
+    if (name === 'working_mode') {
+      if (typeof value !== 'string' || !study.workingModes.includes(value as WorkingMode)) {
+        throw new StudyError(`${where}: must be one of the study's working modes ${JSON.stringify(study.workingModes)}`);
+      }
+      out[name] = value;
+      continue;
+    }
+    if (!(FIVE_BAR_PARAMETERS as readonly string[]).includes(name)) {
+      throw new StudyError(`${where}: unknown design variable (expected one of ${FIVE_BAR_PARAMETERS.join(', ')}, working_mode)`);
+    }
+    const spec = study.geometry[name as FiveBarParameter];
+    if (spec.kind !== 'variable') {
+      throw new StudyError(`${where}: "${name}" is not a design variable in this study (it is ${spec.kind}); remove it from the baseline`);
+    }
+    out[name] = q(value, 'length', where);
+  }
+  return out;
+}
+
+function buildLink(raw: Json | undefined, where: string): LinkSpec {
+  if (!isObject(raw)) {
+    return { massPerLength: 0, area: Infinity, secondMoment: Infinity, youngsModulus: Infinity, label: 'massless, rigid' };
+  }
+  let density: number | undefined;
+  let youngsModulus = Infinity;
+  let materialLabel = '';
+  const material = raw['material'];
+  if (typeof material === 'string') {
+    const m = MATERIALS[material]!;
+    density = m.density;
+    youngsModulus = m.youngsModulus;
+    materialLabel = material;
+  } else if (isObject(material)) {
+    density = q(material['density'], 'density', `${where}.material.density`);
+    youngsModulus = q(material['youngs_modulus'], 'modulus', `${where}.material.youngs_modulus`);
+    materialLabel = 'custom material';
+  }
+  if (raw['youngs_modulus'] !== undefined) youngsModulus = q(raw['youngs_modulus'], 'modulus', `${where}.youngs_modulus`);
+
+  let area = Infinity;
+  let secondMoment = Infinity;
+  let sectionLabel = '';
+  const section = raw['section'];
+  if (isObject(section)) {
+    const s = `${where}.section`;
+    switch (section['shape']) {
+      case 'rectangle': {
+        const w = positive(q(section['width'], 'length', `${s}.width`), `${s}.width`);
+        const h = positive(q(section['height'], 'length', `${s}.height`), `${s}.height`);
+        area = w * h;
+        secondMoment = (h * w ** 3) / 12;
+        sectionLabel = `rectangle ${fmtMm(w)}×${fmtMm(h)} mm`;
+        break;
+      }
+      case 'rectangular-tube': {
+        const w = positive(q(section['width'], 'length', `${s}.width`), `${s}.width`);
+        const h = positive(q(section['height'], 'length', `${s}.height`), `${s}.height`);
+        const t = positive(q(section['wall'], 'length', `${s}.wall`), `${s}.wall`);
+        if (2 * t >= Math.min(w, h)) throw new StudyError(`${s}.wall: twice the wall must be less than width and height`);
+        area = w * h - (w - 2 * t) * (h - 2 * t);
+        secondMoment = (h * w ** 3 - (h - 2 * t) * (w - 2 * t) ** 3) / 12;
+        sectionLabel = `rectangular tube ${fmtMm(w)}×${fmtMm(h)}×${fmtMm(t)} mm`;
+        break;
+      }
+      case 'round': {
+        const d = positive(q(section['diameter'], 'length', `${s}.diameter`), `${s}.diameter`);
+        area = (Math.PI * d * d) / 4;
+        secondMoment = (Math.PI * d ** 4) / 64;
+        sectionLabel = `round ⌀${fmtMm(d)} mm`;
+        break;
+      }
+      default: {
+        const d = positive(q(section['diameter'], 'length', `${s}.diameter`), `${s}.diameter`);
+        const t = positive(q(section['wall'], 'length', `${s}.wall`), `${s}.wall`);
+        if (2 * t >= d) throw new StudyError(`${s}.wall: twice the wall must be less than the diameter`);
+        const inner = d - 2 * t;
+        area = (Math.PI * (d * d - inner * inner)) / 4;
+        secondMoment = (Math.PI * (d ** 4 - inner ** 4)) / 64;
+        sectionLabel = `round tube ⌀${fmtMm(d)}×${fmtMm(t)} mm`;
+      }
+    }
+  }
+  if (raw['area'] !== undefined) area = q(raw['area'], 'area', `${where}.area`);
+  if (raw['second_moment'] !== undefined) secondMoment = q(raw['second_moment'], 'secondMomentOfArea', `${where}.second_moment`);
+
+  let massPerLength: number;
+  if (raw['mass_per_length'] !== undefined) {
+    massPerLength = q(raw['mass_per_length'], 'massPerLength', `${where}.mass_per_length`);
+  } else if (density !== undefined && Number.isFinite(area)) {
+    massPerLength = density * area;
+  } else {
+    throw new StudyError(`${where}: give a section and a material, or mass_per_length`);
+  }
+  positive(massPerLength, `${where}.mass_per_length`, true);
+  const label = [sectionLabel, materialLabel].filter((x) => x).join(', ') || `${massPerLength} kg/m`;
+  return { massPerLength, area, secondMoment, youngsModulus, label };
+}
+
+function fmtMm(metres: number): string {
+  return String(Math.round(metres * 1e4) / 10);
+}
+
+function buildDrive(raw: JsonObject, where: string): DriveSpec {
+  const gearRatio = raw['gear_ratio'] as number;
+  const ratedTorque = positive(q(raw['rated_torque'], 'torque', `${where}.rated_torque`), `${where}.rated_torque`);
+  const peakTorque = positive(q(raw['peak_torque'], 'torque', `${where}.peak_torque`), `${where}.peak_torque`);
+  if (peakTorque < ratedTorque) throw new StudyError(`${where}: peak_torque is below rated_torque`);
+  return {
+    label: (raw['name'] as string | undefined) ?? 'drive',
+    gearRatio,
+    efficiency: (raw['efficiency'] as number | undefined) ?? 1,
+    rotorInertia: positive(q(raw['rotor_inertia'], 'inertia', `${where}.rotor_inertia`, 0), `${where}.rotor_inertia`, true),
+    gearInertia: positive(q(raw['gear_inertia'], 'inertia', `${where}.gear_inertia`, 0), `${where}.gear_inertia`, true),
+    ratedTorque,
+    peakTorque,
+    maxSpeed: positive(q(raw['max_speed'], 'angularSpeed', `${where}.max_speed`), `${where}.max_speed`),
+    jointStiffness: positive(q(raw['joint_stiffness'], 'rotationalStiffness', `${where}.joint_stiffness`, Infinity), `${where}.joint_stiffness`),
+    encoderCounts: (raw['encoder_counts'] as number | undefined) ?? 0,
+  };
+}

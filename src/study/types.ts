@@ -1,0 +1,116 @@
+/**
+ * A study after parsing and validation: typed, every quantity in SI units.
+ */
+import type { AssemblyMode, JointRange, WorkingMode } from '../mechanics/fivebar.js';
+
+export type Architecture = 'five-bar';
+
+/** Geometry parameters of the five-bar, in the order design vectors list them. */
+export const FIVE_BAR_PARAMETERS = ['base_span', 'base_rise', 'crank_1', 'rod_1', 'crank_2', 'rod_2'] as const;
+export type FiveBarParameter = (typeof FIVE_BAR_PARAMETERS)[number];
+
+export type ParameterSpec =
+  | { readonly kind: 'fixed'; readonly value: number }
+  | { readonly kind: 'variable'; readonly min: number; readonly max: number }
+  | { readonly kind: 'tied'; readonly to: FiveBarParameter };
+
+export interface LinkSpec {
+  /** Mass per unit length, kg/m. */
+  readonly massPerLength: number;
+  /** Cross-section area for axial stiffness, m² (Infinity = rigid). */
+  readonly area: number;
+  /** Second moment of area for in-plane bending, m⁴ (Infinity = rigid). */
+  readonly secondMoment: number;
+  /** Young's modulus, Pa (Infinity = rigid). */
+  readonly youngsModulus: number;
+  /** Human-readable description of section and material. */
+  readonly label: string;
+}
+
+export interface DriveSpec {
+  readonly label: string;
+  /** Gear ratio N (motor turns per joint turn). */
+  readonly gearRatio: number;
+  /** Gearbox efficiency η (0..1]. */
+  readonly efficiency: number;
+  /** Motor rotor inertia, kg·m² (motor side). */
+  readonly rotorInertia: number;
+  /** Gearbox inertia referred to the joint, kg·m². */
+  readonly gearInertia: number;
+  /** Motor continuous (rated) torque, N·m (motor side). */
+  readonly ratedTorque: number;
+  /** Motor peak torque, N·m (motor side). */
+  readonly peakTorque: number;
+  /** Motor maximum speed, rad/s (motor side). */
+  readonly maxSpeed: number;
+  /** Torsional stiffness of servo plus transmission at the joint, N·m/rad (Infinity = rigid). */
+  readonly jointStiffness: number;
+  /** Encoder counts per motor revolution. */
+  readonly encoderCounts: number;
+}
+
+export type TaskRegion =
+  | { readonly shape: 'rectangle'; readonly centreX: number; readonly centreY: number; readonly width: number; readonly height: number }
+  | { readonly shape: 'circle'; readonly centreX: number; readonly centreY: number; readonly radius: number };
+
+export interface EvaluationSettings {
+  /** Grid cells across the longer side of the reachable bounding box. */
+  readonly gridCells: number;
+  /** Task-region samples across the region's longer side. */
+  readonly taskSamples: number;
+  /** Threshold c_min on 1/κ(J) for a well-conditioned pose. */
+  readonly minInverseCondition: number;
+  /** Minimum transmission angle μ_min, rad. */
+  readonly minTransmissionAngle: number;
+}
+
+export interface ObjectiveSpec {
+  readonly metric: string;
+  readonly sense: 'min' | 'max';
+}
+
+export interface ConstraintSpec {
+  readonly metric: string;
+  readonly min?: number;
+  readonly max?: number;
+}
+
+export interface OptimizerSettings {
+  readonly population: number;
+  readonly generations: number;
+  readonly seed: number;
+}
+
+export interface Study {
+  readonly name: string;
+  readonly description: string;
+  readonly architecture: Architecture;
+  readonly geometry: Readonly<Record<FiveBarParameter, ParameterSpec>>;
+  /** Working modes allowed: one = fixed; several = the optimizer chooses. */
+  readonly workingModes: readonly WorkingMode[];
+  readonly assemblyMode: AssemblyMode;
+  readonly jointLimits: readonly [JointRange | null, JointRange | null];
+  readonly links: { readonly cranks: readonly [LinkSpec, LinkSpec]; readonly rods: readonly [LinkSpec, LinkSpec] };
+  /** Lumped masses, kg. */
+  readonly elbowHubMass: number;
+  readonly endHubMass: number;
+  readonly payloadMass: number;
+  /** Gravity in the plane of motion, m/s² (x, y). */
+  readonly gravity: readonly [number, number];
+  readonly drives: readonly [DriveSpec, DriveSpec] | null;
+  /** Safety factor on the rated torque for the static-torque drive limit. */
+  readonly torqueSafetyFactor: number;
+  readonly task: {
+    readonly region: TaskRegion | null;
+    /** Required end-point speed, m/s. */
+    readonly speed: number;
+    /** Required end-point acceleration, m/s² (0 = no requirement). */
+    readonly acceleration: number;
+  };
+  readonly evaluation: EvaluationSettings;
+  readonly objectives: readonly ObjectiveSpec[];
+  readonly constraints: readonly ConstraintSpec[];
+  /** Baseline design: a value for every design variable. */
+  readonly baseline: Readonly<Record<string, number | string>>;
+  readonly optimizer: OptimizerSettings;
+}

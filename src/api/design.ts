@@ -1,0 +1,140 @@
+/**
+ * Programmatic API for single designs: baseline plus overrides, full evaluation report, one-pose probe,
+ * study summary. The CLI commands `check`, `evaluate` and `probe` are thin wrappers over these.
+ */
+import { DesignError, designFromValues, designToValues, designVariables, type DesignVariable } from '../mechanics/designSpace.js';
+import { Evaluator, type DesignEvaluation } from '../mechanics/evaluate.js';
+import { METRICS } from '../mechanics/metrics.js';
+import { probePose, type PoseReport } from '../mechanics/probe.js';
+import { WORKING_MODES } from '../mechanics/fivebar.js';
+import { parseQuantity, UnitError } from '../study/units.js';
+import { FIVE_BAR_PARAMETERS, type FiveBarParameter, type Study } from '../study/types.js';
+
+export interface DesignChoice {
+  /** The study, with fixed parameters replaced where an override named one. */
+  readonly study: Study;
+  readonly variables: readonly DesignVariable[];
+  readonly design: Float64Array;
+  /** Named values of every design variable (SI; working mode by name). */
+  readonly values: Readonly<Record<string, number | string>>;
+  /** Things the user should know (e.g. a value outside its bounds). */
+  readonly warnings: readonly string[];
+}
+
+/**
+ * The study's baseline design with `NAME=VALUE` overrides (values with units, e.g. `crank_1=320 mm`).
+ * A design variable takes the value (outside its bounds with a warning); a fixed geometry parameter is
+ * replaced for this evaluation.
+ */
+export function chooseDesign(study: Study, overrides: readonly string[] = []): DesignChoice {
+  const values: Record<string, number | string> = { ...study.baseline };
+  const warnings: string[] = [];
+  let geometry = study.geometry;
+  for (const raw of overrides) {
+    const eq = raw.indexOf('=');
+    if (eq <= 0) throw new DesignError(`--set ${raw}: expected NAME=VALUE, for example --set crank_1=320mm`);
+    const name = raw.slice(0, eq).trim();
+    const text = raw.slice(eq + 1).trim();
+    if (name === 'working_mode') {
+      if (!(WORKING_MODES as readonly string[]).includes(text)) throw new DesignError(`--set working_mode: expected one of ${WORKING_MODES.join(', ')}`);
+      if (study.workingModes.length > 1) values[name] = text;
+      else study = { ...study, workingModes: [text as (typeof WORKING_MODES)[number]] };
+      continue;
+    }
+    if (!(FIVE_BAR_PARAMETERS as readonly string[]).includes(name)) {
+      throw new DesignError(`--set ${name}: unknown name (expected one of ${FIVE_BAR_PARAMETERS.join(', ')}, working_mode)`);
+    }
+    let value: number;
+    try {
+      value = parseQuantity(text, 'length', `--set ${name}`);
+    } catch (error) {
+      if (error instanceof UnitError) throw new DesignError(error.message);
+      throw error;
+    }
+    const spec = geometry[name as FiveBarParameter];
+    if (spec.kind === 'variable') {
+      values[name] = value;
+      if (value < spec.min || value > spec.max) warnings.push(`${name} = ${value} m lies outside its bounds [${spec.min}, ${spec.max}] m`);
+    } else if (spec.kind === 'fixed') {
+      geometry = { ...geometry, [name]: { kind: 'fixed', value } };
+    } else {
+      throw new DesignError(`--set ${name}: this parameter is tied to ${spec.to}; set ${spec.to} instead`);
+    }
+  }
+  if (geometry !== study.geometry) study = { ...study, geometry };
+  const variables = designVariables(study);
+  const design = designFromValues(variables, values, true);
+  return { study, variables, design, values: designToValues(variables, design), warnings };
+}
+
+export interface ConstraintReport {
+  readonly name: string;
+  readonly metric: string;
+  readonly value: number | null;
+  readonly min: number | null;
+  readonly max: number | null;
+  /** Signed normalised margin: ≥ 0 satisfied. */
+  readonly margin: number;
+  readonly satisfied: boolean;
+  readonly origin: 'study' | 'drive';
+}
+
+export interface EvaluationReport {
+  readonly study: string;
+  readonly design: Readonly<Record<string, number | string>>;
+  /** Every metric in SI; null where the study gives no data for it (e.g. no drives). */
+  readonly metrics: Readonly<Record<string, number | null>>;
+  readonly constraints: readonly ConstraintReport[];
+  readonly violation: number;
+  readonly feasible: boolean;
+}
+
+export function metricsRecord(metrics: Float64Array): Record<string, number | null> {
+  const out: Record<string, number | null> = {};
+  METRICS.forEach((m, i) => {
+    const v = metrics[i]!;
+    out[m.name] = Number.isNaN(v) ? null : v;
+  });
+  return out;
+}
+
+export function evaluationReport(evaluator: Evaluator, choice: DesignChoice, result: DesignEvaluation): EvaluationReport {
+  return {
+    study: choice.study.name,
+    design: choice.values,
+    metrics: metricsRecord(result.metrics),
+    constraints: evaluator.constraints.map((c, k) => {
+      const v = result.metrics[c.metricIndex]!;
+      return {
+        name: c.name,
+        metric: c.metric,
+        value: Number.isNaN(v) ? null : v,
+        min: c.min ?? null,
+        max: c.max ?? null,
+        margin: result.margins[k]!,
+        satisfied: result.margins[k]! >= 0,
+        origin: c.origin,
+      };
+    }),
+    violation: result.violation,
+    feasible: result.feasible,
+  };
+}
+
+/** Evaluate one design of a study completely. */
+export function evaluateDesign(study: Study, overrides: readonly string[] = []): { report: EvaluationReport; warnings: readonly string[] } {
+  const choice = chooseDesign(study, overrides);
+  const evaluator = new Evaluator(choice.study);
+  const result = evaluator.evaluate(choice.design);
+  return { report: evaluationReport(evaluator, choice, result), warnings: choice.warnings };
+}
+
+/** Everything about one pose of one design. */
+export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
+  const choice = chooseDesign(study, overrides);
+  const evaluator = new Evaluator(choice.study);
+  const model = evaluator.model(choice.design);
+  return { report: { design: choice.values, ...probePose(choice.study, model, x, y) }, warnings: choice.warnings };
+}
+
+export { DesignError };

@@ -1,0 +1,39 @@
+/** Plain-text tables and value formatting for the terminal. */
+import { metricInfo } from '../mechanics/metrics.js';
+import { formatQuantity, type QuantityKind } from '../study/units.js';
+
+/** Align columns; numbers right-aligned. */
+export function table(header: readonly string[], rows: readonly (readonly string[])[]): string {
+  const widths = header.map((h, c) => Math.max(h.length, ...rows.map((r) => (r[c] ?? '').length)));
+  const numeric = header.map((_, c) => rows.length > 0 && rows.every((r) => /^[-+]?[\d.]/.test(r[c] ?? '') || (r[c] ?? '') === '—'));
+  const line = (cells: readonly string[]): string =>
+    cells.map((cell, c) => (numeric[c] ? cell.padStart(widths[c]!) : cell.padEnd(widths[c]!))).join('  ').trimEnd();
+  return [line(header), line(widths.map((w) => '-'.repeat(w))), ...rows.map(line)].join('\n');
+}
+
+export function formatValue(value: number | null | undefined, kind: QuantityKind): string {
+  if (value === null || value === undefined || Number.isNaN(value)) return '—';
+  if (!Number.isFinite(value)) return value > 0 ? '∞' : '−∞';
+  // Areas of workspaces read best in m², encoder-scale lengths in µm.
+  if (kind === 'area') return `${trim(value)} m²`;
+  if (kind === 'length' && value !== 0 && Math.abs(value) < 1e-3) return `${trim(value * 1e6)} µm`;
+  return formatQuantity(value, kind);
+}
+
+function trim(value: number): string {
+  return Number(value.toPrecision(4)).toString();
+}
+
+export function formatMetric(name: string, value: number | null | undefined): string {
+  const info = metricInfo(name);
+  return formatValue(value, info ? info.kind : 'dimensionless');
+}
+
+/** JSON with Infinity written as the strings "Infinity"/"-Infinity" (JSON has no infinities). */
+export function toJson(value: unknown): string {
+  return JSON.stringify(
+    value,
+    (_key, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) && !Number.isNaN(v) ? (v > 0 ? 'Infinity' : '-Infinity') : v),
+    2,
+  );
+}

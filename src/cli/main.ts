@@ -1,0 +1,228 @@
+/**
+ * The `loopsmith` command line: thin glue over the programmatic API in src/api.
+ * Errors a user can cause end with one message and exit code 1; a bad command line exits with 2.
+ */
+import { existsSync, writeFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import yargs, { type Argv } from 'yargs';
+import { DesignError, evaluateDesign, probeDesign } from '../api/design.js';
+import { designVariables } from '../mechanics/designSpace.js';
+import { constraintDefinitions } from '../mechanics/evaluate.js';
+import { METRICS, metricInfo } from '../mechanics/metrics.js';
+import { loadStudyFile, StudyError } from '../study/parse.js';
+import { STUDY_TEMPLATE } from '../study/template.js';
+import { parseQuantity, UnitError } from '../study/units.js';
+import { FIVE_BAR_PARAMETERS, type Study } from '../study/types.js';
+import { formatMetric, formatValue, table, toJson } from './format.js';
+import { registerStoreCommands } from './storeCommands.js';
+
+/** An error whose message is for the user as it stands. */
+export class UserError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'UserError';
+  }
+}
+
+export function isUserError(error: unknown): error is Error {
+  return (
+    error instanceof UserError ||
+    error instanceof StudyError ||
+    error instanceof DesignError ||
+    error instanceof UnitError ||
+    (error instanceof Error && (error.name === 'StoreError' || error.name === 'QueryError' || error.name === 'SqliteError'))
+  );
+}
+
+const out = (text: string): void => {
+  process.stdout.write(text.endsWith('\n') ? text : text + '\n');
+};
+const warn = (text: string): void => {
+  process.stderr.write(`loopsmith: warning: ${text}\n`);
+};
+
+function schemaPath(): string {
+  return fileURLToPath(new URL('../study/study.schema.json', import.meta.url));
+}
+
+function studySummary(study: Study): string {
+  const lines: string[] = [];
+  lines.push(`study ${study.name} (${study.architecture})${study.description ? ' — ' + study.description : ''}`);
+  const vars = designVariables(study);
+  const geomRows = FIVE_BAR_PARAMETERS.map((name) => {
+    const spec = study.geometry[name];
+    if (spec.kind === 'fixed') return [name, 'fixed', formatValue(spec.value, 'length'), ''];
+    if (spec.kind === 'tied') return [name, 'tied', `= ${spec.to}`, ''];
+    return [name, 'variable', `${formatValue(spec.min, 'length')} … ${formatValue(spec.max, 'length')}`, study.baseline[name] !== undefined ? formatValue(study.baseline[name] as number, 'length') : '(none)'];
+  });
+  lines.push('', table(['parameter', 'kind', 'value or bounds', 'baseline'], geomRows));
+  lines.push('', `working mode: ${study.workingModes.length > 1 ? 'chosen by the optimizer from ' + study.workingModes.join(', ') : study.workingModes[0]}; assembly mode: ${study.assemblyMode}`);
+  lines.push(`design variables: ${vars.length} (${vars.map((v) => v.name).join(', ') || 'none'})`);
+  const g = study.gravity;
+  lines.push(`gravity in the plane: (${g[0]}, ${g[1]}) m/s²; payload ${formatValue(study.payloadMass, 'mass')}; links: cranks ${study.links.cranks[0].label}; rods ${study.links.rods[0].label}`);
+  if (study.drives) {
+    study.drives.forEach((d, i) =>
+      lines.push(`drive ${i + 1}: ${d.label}: ratio ${d.gearRatio}, η ${d.efficiency}, rated ${formatValue(d.ratedTorque, 'torque')}, peak ${formatValue(d.peakTorque, 'torque')}, max ${formatValue(d.maxSpeed, 'angularSpeed')} (motor side)`),
+    );
+  } else {
+    lines.push('drives: none given (acceleration capability and resolution are not computed; no drive limits)');
+  }
+  const r = study.task.region;
+  if (r) {
+    lines.push(
+      r.shape === 'rectangle'
+        ? `task region: rectangle ${formatValue(r.width, 'length')} × ${formatValue(r.height, 'length')} centred at (${formatValue(r.centreX, 'length')}, ${formatValue(r.centreY, 'length')})`
+        : `task region: circle radius ${formatValue(r.radius, 'length')} centred at (${formatValue(r.centreX, 'length')}, ${formatValue(r.centreY, 'length')})`,
+    );
+  } else {
+    lines.push('task region: none (per-pose metrics are taken over the whole usable workspace)');
+  }
+  lines.push(`required end-point speed ${formatValue(study.task.speed, 'speed')}, acceleration ${formatValue(study.task.acceleration, 'acceleration')}`);
+  const e = study.evaluation;
+  lines.push(`evaluation: ${e.gridCells} grid cells, ${e.taskSamples} task samples, 1/κ ≥ ${e.minInverseCondition}, transmission angle ≥ ${formatValue(e.minTransmissionAngle, 'angle')}`);
+  lines.push('', table(['objective', 'sense', 'meaning'], study.objectives.map((o) => [o.metric, o.sense, metricInfo(o.metric)!.description])));
+  const cons = constraintDefinitions(study);
+  if (cons.length > 0) {
+    lines.push('', table(['constraint', 'metric', 'min', 'max', 'from'], cons.map((c) => [c.name, c.metric, formatMetric(c.metric, c.min), formatMetric(c.metric, c.max), c.origin])));
+  }
+  lines.push('', `optimizer: population ${study.optimizer.population}, generations ${study.optimizer.generations}, seed ${study.optimizer.seed}`);
+  return lines.join('\n');
+}
+
+function parsePoint(text: string): [number, number] {
+  const parts = text.split(',');
+  if (parts.length !== 2) throw new UserError(`--at ${text}: expected X,Y, for example --at 0,-450mm or --at "0 mm,-450 mm"`);
+  return [parseQuantity(parts[0]!.trim(), 'length', '--at X'), parseQuantity(parts[1]!.trim(), 'length', '--at Y')];
+}
+
+function asStrings(value: unknown): string[] {
+  if (value === undefined) return [];
+  return (Array.isArray(value) ? value : [value]).map(String);
+}
+
+export function buildCli(argv: readonly string[]): Argv {
+  let cli = yargs([...argv])
+    .scriptName('loopsmith')
+    .usage('$0 <command> [options]\n\nChooses link lengths of planar parallel robots. Results are early-design estimates, not a safety analysis.')
+    .command(
+      'new <file>',
+      'write a commented study template',
+      (y) => y.positional('file', { type: 'string', demandOption: true }).option('force', { type: 'boolean', default: false, describe: 'overwrite an existing file' }),
+      (args) => {
+        if (existsSync(args.file) && !args.force) throw new UserError(`${args.file} exists; use --force to overwrite`);
+        writeFileSync(args.file, STUDY_TEMPLATE.replace('https://loopsmith.invalid/schema/study.schema.json', schemaPath()));
+        out(`wrote ${args.file}; edit it, then run: loopsmith check ${args.file}`);
+      },
+    )
+    .command(
+      'check <study>',
+      'validate a study file and summarise it',
+      (y) => y.positional('study', { type: 'string', demandOption: true }).option('json', { type: 'boolean', default: false }),
+      (args) => {
+        const loaded = loadStudyFile(args.study);
+        if (args.json) {
+          out(toJson({ ok: true, study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, designVariables: designVariables(loaded.study), constraints: constraintDefinitions(loaded.study) }));
+        } else {
+          out(`${args.study}: valid\n\n${studySummary(loaded.study)}`);
+        }
+      },
+    )
+    .command(
+      'evaluate <study>',
+      'evaluate the baseline design (with overrides): every metric and constraint',
+      (y) =>
+        y
+          .positional('study', { type: 'string', demandOption: true })
+          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
+          .option('json', { type: 'boolean', default: false }),
+      (args) => {
+        const loaded = loadStudyFile(args.study);
+        const { report, warnings } = evaluateDesign(loaded.study, asStrings(args.set));
+        warnings.forEach(warn);
+        if (args.json) {
+          out(toJson(report));
+          return;
+        }
+        const design = Object.entries(report.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, 'length') : v}`).join(', ');
+        const lines = [`${report.study} — design: ${design || '(no design variables)'}`, ''];
+        lines.push(table(['metric', 'value', 'meaning'], METRICS.map((m) => [m.name, formatMetric(m.name, report.metrics[m.name]), m.description])));
+        if (report.constraints.length > 0) {
+          lines.push('', table(['constraint', 'value', 'min', 'max', 'margin', 'ok'], report.constraints.map((c) => [c.name, formatMetric(c.metric, c.value), formatMetric(c.metric, c.min), formatMetric(c.metric, c.max), c.margin.toFixed(3), c.satisfied ? 'yes' : 'NO'])));
+        }
+        lines.push('', report.feasible ? 'feasible: every constraint holds' : `NOT feasible: total normalised violation ${report.violation.toPrecision(3)}`);
+        out(lines.join('\n'));
+      },
+    )
+    .command(
+      'probe <study>',
+      'everything at one end-point position of one design',
+      (y) =>
+        y
+          .positional('study', { type: 'string', demandOption: true })
+          .option('at', { type: 'string', demandOption: true, describe: 'end point X,Y (units allowed, e.g. 0,-450mm)' })
+          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE' })
+          .option('json', { type: 'boolean', default: false }),
+      (args) => {
+        const loaded = loadStudyFile(args.study);
+        const [x, y] = parsePoint(args.at);
+        const { report, warnings } = probeDesign(loaded.study, x, y, asStrings(args.set));
+        warnings.forEach(warn);
+        if (args.json) {
+          out(toJson(report));
+          return;
+        }
+        const rows: string[][] = [['status', report.status]];
+        const deg = (r: number): string => formatValue(r, 'angle');
+        const mat = (m: [[number, number], [number, number]], digits = 4): string => `[${m[0].map((v) => v.toPrecision(digits)).join(' ')}; ${m[1].map((v) => v.toPrecision(digits)).join(' ')}]`;
+        if (report.jointAngles) rows.push(['joint angles θ1, θ2', `${deg(report.jointAngles[0])}, ${deg(report.jointAngles[1])}`]);
+        if (report.elbows) rows.push(['elbows C1, C2 (mm)', report.elbows.map((c) => `(${(c[0] * 1000).toFixed(1)}, ${(c[1] * 1000).toFixed(1)})`).join(', ')]);
+        if (report.jacobian) rows.push(['J (m/rad)', mat(report.jacobian)]);
+        if (report.inverseCondition !== undefined) rows.push(['1/κ(J)', report.inverseCondition.toFixed(4)]);
+        if (report.detA !== undefined) rows.push(['det A', report.detA.toFixed(4)]);
+        if (report.transmissionAngles) rows.push(['transmission angles leg1, leg2, rods', `${deg(report.transmissionAngles.leg1)}, ${deg(report.transmissionAngles.leg2)}, ${deg(report.transmissionAngles.rods)}`]);
+        if (report.gravityTorque) rows.push(['gravity torque τ_g (N·m)', report.gravityTorque.map((v) => v.toPrecision(4)).join(', ')]);
+        if (report.inertia) rows.push(['D (kg·m²)', mat(report.inertia)]);
+        if (report.cartesianMass) rows.push(['M_x (kg)', mat(report.cartesianMass)]);
+        if (report.cartesianStiffness) rows.push(['K_x (N/m)', mat(report.cartesianStiffness)]);
+        if (report.minStiffness !== undefined) rows.push(['min stiffness', formatValue(report.minStiffness, 'linearStiffness')]);
+        if (report.naturalFrequencies) rows.push(['natural frequencies', report.naturalFrequencies.map((f) => formatValue(f, 'frequency')).join(', ')]);
+        if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
+        if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? report.requiredJointSpeeds.map((s) => formatValue(s, 'angularSpeed')).join(', ') : '— (no task speed)']);
+        out(`probe at (${formatValue(x, 'length')}, ${formatValue(y, 'length')})\n\n${table(['quantity', 'value'], rows)}`);
+      },
+    );
+  cli = registerStoreCommands(cli);
+  return cli
+    .demandCommand(1, 'give a command; see loopsmith --help')
+    .strict()
+    .help()
+    .version()
+    .fail((message, error) => {
+      if (error) throw error;
+      throw new UsageError(message);
+    });
+}
+
+class UsageError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'UsageError';
+  }
+}
+
+export async function main(argv: readonly string[]): Promise<number> {
+  try {
+    await buildCli(argv).parseAsync();
+    return process.exitCode === undefined ? 0 : Number(process.exitCode);
+  } catch (error) {
+    if (error instanceof UsageError) {
+      process.stderr.write(`loopsmith: ${error.message}\nsee: loopsmith --help\n`);
+      return 2;
+    }
+    if (isUserError(error)) {
+      process.stderr.write(`loopsmith: ${error.message}\n`);
+      return 1;
+    }
+    throw error;
+  }
+}

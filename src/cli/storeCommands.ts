@@ -1,6 +1,260 @@
-/** Commands that run studies and read the store (run, sweep, runs, front, query). */
+/** Commands that run studies and read the store: run, sweep, runs, front, query. */
+import { basename, extname, join } from 'node:path';
+import cliProgress from 'cli-progress';
 import type { Argv } from 'yargs';
+import { METRICS } from '../mechanics/metrics.js';
+import { runFront } from '../run/front.js';
+import { runOptimization, type GenerationProgress } from '../run/optimize.js';
+import { runSweep } from '../run/sweep.js';
+import { queryEvaluations } from '../store/query.js';
+import { Store } from '../store/store.js';
+import { formatTable, toCsv } from '../store/format.js';
+import { loadStudyFile } from '../study/parse.js';
+import { formatMetric, formatValue, table, toJson } from './format.js';
+
+const out = (text: string): void => {
+  process.stdout.write(text.endsWith('\n') ? text : text + '\n');
+};
+
+function defaultDb(studyPath: string, studyName: string): string {
+  return join('results', `${studyName || basename(studyPath, extname(studyPath))}.db`);
+}
+
+/** Stop after the current generation on the first Ctrl-C; a second one exits at once. */
+function interruptFlag(quiet: boolean): { stop: () => boolean; dispose: () => void } {
+  let requested = false;
+  const handler = (): void => {
+    if (requested) process.exit(130);
+    requested = true;
+    if (!quiet) process.stderr.write('\nloopsmith: stopping after the current generation (Ctrl-C again to quit at once; committed generations are kept)\n');
+  };
+  process.on('SIGINT', handler);
+  process.on('SIGTERM', handler);
+  return { stop: () => requested, dispose: () => { process.off('SIGINT', handler); process.off('SIGTERM', handler); } };
+}
+
+function fmtTime(seconds: number): string {
+  if (!Number.isFinite(seconds) || seconds < 0) return '—';
+  if (seconds < 60) return `${seconds.toFixed(0)} s`;
+  return `${Math.floor(seconds / 60)} min ${Math.round(seconds % 60)} s`;
+}
+
+/** Progress reporter: a bar on a terminal, a plain line every few seconds otherwise, nothing when quiet. */
+function progressReporter(quiet: boolean, label: string) {
+  const tty = process.stderr.isTTY === true;
+  let bar: cliProgress.SingleBar | undefined;
+  let lastLine = 0;
+  return {
+    update(done: number, total: number, fields: { rate: number; hv: string; feasible: number; elapsed: number }): void {
+      if (quiet) return;
+      const eta = done > 0 ? (fields.elapsed / done) * (total - done) : Number.NaN;
+      if (tty) {
+        if (!bar) {
+          bar = new cliProgress.SingleBar(
+            { format: `${label} [{bar}] {value}/{total} | {rate} eval/s | HV {hv} | feasible {feasible} | left {eta_text}`, stream: process.stderr, hideCursor: true },
+            cliProgress.Presets.shades_classic,
+          );
+          bar.start(total, 0, { rate: '—', hv: '—', feasible: 0, eta_text: '—' });
+        }
+        bar.update(done, { rate: fields.rate.toFixed(0), hv: fields.hv, feasible: fields.feasible, eta_text: fmtTime(eta) });
+      } else {
+        const now = Date.now();
+        if (done === total || done === 1 || now - lastLine >= 5000) {
+          lastLine = now;
+          process.stderr.write(`${label} ${done}/${total}: ${fields.rate.toFixed(0)} eval/s, HV ${fields.hv}, feasible ${fields.feasible}, elapsed ${fmtTime(fields.elapsed)}, left ${fmtTime(eta)}\n`);
+        }
+      }
+    },
+    stop(): void {
+      bar?.stop();
+    },
+  };
+}
+
+const positiveInt = (name: string) => (value: unknown): number | undefined => {
+  if (value === undefined) return undefined;
+  const n = Number(value);
+  if (!Number.isInteger(n) || n < 1) throw new Error(`--${name} must be a positive integer`);
+  return n;
+};
 
 export function registerStoreCommands(cli: Argv): Argv {
-  return cli;
+  return cli
+    .command(
+      'run <study>',
+      'optimize: NSGA-II over the design space into SQLite (resumes an unfinished run)',
+      (y) =>
+        y
+          .positional('study', { type: 'string', demandOption: true })
+          .option('db', { type: 'string', describe: 'database file (default results/<study>.db)' })
+          .option('seed', { type: 'number', describe: 'random seed (default: the study\'s)' })
+          .option('workers', { type: 'number', describe: 'worker threads (default: available cores)', coerce: positiveInt('workers') })
+          .option('generations', { type: 'number', describe: 'generations in all, the initial population included', coerce: positiveInt('generations') })
+          .option('population', { type: 'number', describe: 'population size', coerce: positiveInt('population') })
+          .option('quiet', { type: 'boolean', default: false }),
+      async (args) => {
+        const loaded = loadStudyFile(args.study);
+        const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
+        const interrupt = interruptFlag(args.quiet);
+        const progress = progressReporter(args.quiet, 'generation');
+        try {
+          const summary = await runOptimization(loaded, {
+            dbPath,
+            ...(args.seed !== undefined ? { seed: args.seed } : {}),
+            ...(args.workers !== undefined ? { workers: args.workers } : {}),
+            ...(args.generations !== undefined ? { generations: args.generations } : {}),
+            ...(args.population !== undefined ? { population: args.population } : {}),
+            shouldStop: interrupt.stop,
+            onGeneration: (p: GenerationProgress) =>
+              progress.update(p.generation + 1, p.generations, { rate: p.evaluationsPerSecond, hv: p.hypervolume === null ? '—' : p.hypervolume.toFixed(4), feasible: p.feasibleCount, elapsed: p.elapsedSeconds }),
+          });
+          progress.stop();
+          if (!args.quiet) {
+            const front = runFront(dbPath, summary.runId);
+            out(
+              `${summary.status === 'finished' ? 'finished' : 'stopped'} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (resumed at generation ${summary.resumedFromGeneration})` : ''}: ` +
+                `${summary.generationsDone} generations, ${summary.newEvaluations} new evaluations in ${fmtTime(summary.elapsedSeconds)}; ` +
+                `${front.designs.length} designs on the feasible front\ndatabase: ${dbPath}\nnext: loopsmith front ${dbPath}`,
+            );
+          }
+          if (summary.status === 'stopped') process.exitCode = 130;
+        } finally {
+          progress.stop();
+          interrupt.dispose();
+        }
+      },
+    )
+    .command(
+      'sweep <study>',
+      'evaluate a space-filling sample of the design space into SQLite',
+      (y) =>
+        y
+          .positional('study', { type: 'string', demandOption: true })
+          .option('samples', { type: 'number', demandOption: true, coerce: positiveInt('samples') })
+          .option('method', { choices: ['lhs', 'grid'] as const, default: 'lhs' as const })
+          .option('db', { type: 'string' })
+          .option('seed', { type: 'number' })
+          .option('workers', { type: 'number', coerce: positiveInt('workers') })
+          .option('quiet', { type: 'boolean', default: false }),
+      async (args) => {
+        const loaded = loadStudyFile(args.study);
+        const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
+        const interrupt = interruptFlag(args.quiet);
+        const progress = progressReporter(args.quiet, 'designs');
+        try {
+          const result = await runSweep(loaded, {
+            dbPath,
+            samples: args.samples!,
+            method: args.method,
+            ...(args.seed !== undefined ? { seed: args.seed } : {}),
+            ...(args.workers !== undefined ? { workers: args.workers } : {}),
+            shouldStop: interrupt.stop,
+            onChunk: (p) => progress.update(p.done, p.total, { rate: p.evaluationsPerSecond, hv: '—', feasible: p.feasible, elapsed: p.elapsedSeconds }),
+          });
+          progress.stop();
+          if (!args.quiet) out(`${result.status} sweep run ${result.runId}: ${result.evaluations} designs, ${result.feasible} feasible\ndatabase: ${dbPath}`);
+        } finally {
+          progress.stop();
+          interrupt.dispose();
+        }
+      },
+    )
+    .command(
+      'runs <db>',
+      'list the runs in a database',
+      (y) => y.positional('db', { type: 'string', demandOption: true }).option('json', { type: 'boolean', default: false }),
+      (args) => {
+        const store = openExisting(args.db);
+        try {
+          const runs = store.listRuns();
+          if (args.json) {
+            out(toJson(runs.map(({ optimizerState: _state, ...rest }) => ({ ...rest, study: store.getStudy(rest.studyId)?.name }))));
+            return;
+          }
+          out(
+            table(
+              ['run', 'study', 'kind', 'status', 'seed', 'generations', 'workers', 'started', 'elapsed'],
+              runs.map((r) => [String(r.id), store.getStudy(r.studyId)?.name ?? '?', r.kind, r.status, String(r.seed), String(r.generationsDone), String(r.workers), r.startedAt, fmtTime(r.elapsedSeconds)]),
+            ),
+          );
+        } finally {
+          store.close();
+        }
+      },
+    )
+    .command(
+      'front <db>',
+      'the feasible Pareto front of a run (default: the latest)',
+      (y) =>
+        y
+          .positional('db', { type: 'string', demandOption: true })
+          .option('run', { type: 'number' })
+          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const }),
+      (args) => {
+        openExisting(args.db).close();
+        const front = runFront(args.db, args.run);
+        const variableNames = front.designs[0] ? Object.keys(front.designs[0].variables) : [];
+        const objectiveNames = front.objectives.map((o) => o.metric);
+        const otherMetrics = METRICS.map((m) => m.name).filter((n) => !objectiveNames.includes(n));
+        if (args.format === 'json') {
+          out(toJson({ run: front.runId, objectives: front.objectives, designs: front.designs.map((d) => ({ id: d.id, variables: d.variables, metrics: d.metrics, constraints: d.constraints })) }));
+          return;
+        }
+        const columns = ['id', ...variableNames, ...objectiveNames, ...(args.format === 'csv' ? otherMetrics : [])];
+        if (args.format === 'csv') {
+          out(toCsv(columns, front.designs.map((d) => ({ id: d.id, ...d.variables, ...d.metrics }))));
+          return;
+        }
+        out(`run ${front.runId} (${front.kind}): ${front.designs.length} designs on the feasible front; objectives ${front.objectives.map((o) => `${o.metric} (${o.sense})`).join(', ')}\n`);
+        out(
+          table(
+            columns,
+            front.designs.map((d) => [
+              String(d.id),
+              ...variableNames.map((v) => (typeof d.variables[v] === 'number' ? formatValue(d.variables[v] as number, 'length') : String(d.variables[v]))),
+              ...objectiveNames.map((m) => formatMetric(m, d.metrics[m])),
+            ]),
+          ),
+        );
+      },
+    )
+    .command(
+      'query <db>',
+      'select stored evaluations with an SQL expression (read-only)',
+      (y) =>
+        y
+          .positional('db', { type: 'string', demandOption: true })
+          .option('where', { type: 'string', describe: 'SQL expression over the columns, e.g. "feasible = 1 AND m_gci > 0.8"' })
+          .option('order-by', { type: 'string', describe: 'column [asc|desc]' })
+          .option('limit', { type: 'number', coerce: positiveInt('limit') })
+          .option('run', { type: 'number', describe: 'only designs that were members of this run' })
+          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const }),
+      (args) => {
+        openExisting(args.db).close();
+        const result = queryEvaluations(args.db, {
+          ...(args.where !== undefined ? { where: args.where } : {}),
+          ...(args.orderBy !== undefined ? { orderBy: args.orderBy } : {}),
+          ...(args.limit !== undefined ? { limit: args.limit } : {}),
+          ...(args.run !== undefined ? { runId: args.run } : {}),
+        });
+        if (args.format === 'json') out(toJson(result.rows));
+        else if (args.format === 'csv') out(toCsv(result.columns, result.rows));
+        else out(`${formatTable(result.columns, result.rows)}\n(${result.rows.length} rows)`);
+      },
+    );
+}
+
+function openExisting(path: string): Store {
+  const { existsSync } = require_fs();
+  if (!existsSync(path)) {
+    const error = new Error(`${path}: no such database (run a study first: loopsmith run STUDY)`);
+    error.name = 'StoreError';
+    throw error;
+  }
+  return Store.open(path);
+}
+
+import * as fs from 'node:fs';
+function require_fs(): typeof fs {
+  return fs;
 }

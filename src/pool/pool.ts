@@ -1,0 +1,140 @@
+/**
+ * Pool of worker threads (piscina) that evaluates batches of designs. Results come back in design
+ * order whatever the number of threads, so runs are reproducible. A design that crashes its worker
+ * thread is isolated by re-running its batch one design at a time, and reported as failed.
+ */
+import { existsSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
+import { fileURLToPath } from 'node:url';
+import { Piscina } from 'piscina';
+import { METRICS } from '../mechanics/metrics.js';
+import type { EvaluationTask, EvaluationTaskResult } from './worker.js';
+
+export interface PoolOptions {
+  /** Worker threads; default: the machine's available parallelism. */
+  readonly workers?: number;
+  /** Designs per task sent to a thread; default: chosen from batch size and workers. */
+  readonly batchSize?: number;
+  /** Module exporting `createEvaluator(study)` to use instead of the built-in engine (tests, other models). */
+  readonly evaluatorModule?: string;
+}
+
+export interface DesignOutcome {
+  readonly metrics: Float64Array;
+  readonly margins: Float64Array;
+  readonly violation: number;
+  readonly error: string | null;
+  readonly seconds: number;
+}
+
+export function defaultWorkerCount(): number {
+  return Math.max(1, availableParallelism());
+}
+
+function workerFile(): string {
+  const beside = new URL('./worker.js', import.meta.url);
+  if (existsSync(fileURLToPath(beside))) return fileURLToPath(beside);
+  // Running from TypeScript sources (tests): use the compiled worker (npm run build).
+  const compiled = new URL('../../dist/pool/worker.js', import.meta.url);
+  if (existsSync(fileURLToPath(compiled))) return fileURLToPath(compiled);
+  throw new Error('compiled worker not found: run "npm run build" first');
+}
+
+export class EvaluationPool {
+  readonly workers: number;
+  private readonly piscina: Piscina;
+  private readonly options: PoolOptions;
+
+  constructor(
+    private readonly studyText: string,
+    private readonly source: string,
+    private readonly variableCount: number,
+    private readonly constraintCount: number,
+    options: PoolOptions = {},
+  ) {
+    this.options = options;
+    this.workers = Math.max(1, Math.floor(options.workers ?? defaultWorkerCount()));
+    this.piscina = new Piscina({
+      filename: workerFile(),
+      minThreads: this.workers,
+      maxThreads: this.workers,
+      idleTimeout: 60_000,
+      // One queue slot per thread is plenty: the run loop submits whole batches at once.
+      maxQueue: 'auto',
+    });
+  }
+
+  /** Evaluate designs; outcomes in the same order. */
+  async evaluate(designs: readonly Float64Array[]): Promise<DesignOutcome[]> {
+    if (designs.length === 0) return [];
+    const size = this.options.batchSize ?? Math.max(1, Math.ceil(designs.length / (this.workers * 4)));
+    const chunks: (readonly Float64Array[])[] = [];
+    for (let start = 0; start < designs.length; start += size) chunks.push(designs.slice(start, start + size));
+    const results = await Promise.all(chunks.map((chunk) => this.runChunk(chunk)));
+    return results.flat();
+  }
+
+  private async runChunk(chunk: readonly Float64Array[]): Promise<DesignOutcome[]> {
+    try {
+      return this.unpack(await this.runTask(chunk), chunk.length);
+    } catch (error) {
+      if (chunk.length === 1) {
+        return [this.crashed(error)];
+      }
+      // A thread died: evaluate one by one to find the design that kills it.
+      const out: DesignOutcome[] = [];
+      for (const design of chunk) {
+        try {
+          out.push(...this.unpack(await this.runTask([design]), 1));
+        } catch (inner) {
+          out.push(this.crashed(inner));
+        }
+      }
+      return out;
+    }
+  }
+
+  private crashed(error: unknown): DesignOutcome {
+    const reason = error instanceof Error ? error.message : String(error);
+    return {
+      metrics: new Float64Array(METRICS.length).fill(Number.NaN),
+      margins: new Float64Array(this.constraintCount).fill(Number.NaN),
+      violation: Number.NaN,
+      error: `worker thread crashed: ${reason}`,
+      seconds: 0,
+    };
+  }
+
+  private runTask(chunk: readonly Float64Array[]): Promise<EvaluationTaskResult> {
+    const flat = new Float64Array(chunk.length * this.variableCount);
+    chunk.forEach((d, k) => flat.set(d, k * this.variableCount));
+    const task: EvaluationTask = {
+      studyText: this.studyText,
+      source: this.source,
+      designs: flat,
+      count: chunk.length,
+      ...(this.options.evaluatorModule ? { evaluatorModule: this.options.evaluatorModule } : {}),
+    };
+    return this.piscina.run(task, { transferList: [flat.buffer] }) as Promise<EvaluationTaskResult>;
+  }
+
+  private unpack(result: EvaluationTaskResult, count: number): DesignOutcome[] {
+    const nm = METRICS.length;
+    const nc = this.constraintCount;
+    const out: DesignOutcome[] = [];
+    for (let k = 0; k < count; k++) {
+      out.push({
+        metrics: result.metrics.slice(k * nm, (k + 1) * nm),
+        margins: result.margins.slice(k * nc, (k + 1) * nc),
+        violation: result.violation[k]!,
+        error: result.errors[k] ?? null,
+        seconds: result.seconds[k]!,
+      });
+    }
+    return out;
+  }
+
+  async close(): Promise<void> {
+    await this.piscina.destroy();
+  }
+}

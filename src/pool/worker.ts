@@ -1,0 +1,80 @@
+/**
+ * Worker-thread side of the evaluation pool. Each task carries the study text and a batch of design
+ * vectors (flat); the worker keeps one Evaluator per study text, so its buffers are reused across
+ * every design it ever sees. A design whose evaluation throws is returned with the error text.
+ */
+import { Evaluator } from '../mechanics/evaluate.js';
+import { METRICS } from '../mechanics/metrics.js';
+import { parseStudyText } from '../study/parse.js';
+
+export interface EvaluationTask {
+  readonly studyText: string;
+  readonly source: string;
+  /** count × variableCount design values, row-major. */
+  readonly designs: Float64Array;
+  readonly count: number;
+  /** Optional module (file URL) exporting `createEvaluator(study)`; default: the built-in engine. */
+  readonly evaluatorModule?: string;
+}
+
+export interface EvaluationTaskResult {
+  /** count × METRICS.length values. */
+  readonly metrics: Float64Array;
+  /** count × constraintCount margins. */
+  readonly margins: Float64Array;
+  readonly violation: Float64Array;
+  readonly errors: (string | null)[];
+  /** Wall time per design, s. */
+  readonly seconds: Float64Array;
+}
+
+/** What an evaluator module provides (the built-in one is the five-bar Evaluator). */
+export interface DesignEvaluatorLike {
+  readonly variables: readonly unknown[];
+  readonly constraints: readonly unknown[];
+  evaluate(design: Float64Array): { metrics: Float64Array; margins: Float64Array; violation: number };
+}
+
+const evaluators = new Map<string, DesignEvaluatorLike>();
+
+async function evaluatorFor(task: EvaluationTask): Promise<DesignEvaluatorLike> {
+  const key = `${task.evaluatorModule ?? ''}\u0000${task.studyText}`;
+  let evaluator = evaluators.get(key);
+  if (!evaluator) {
+    const { study } = parseStudyText(task.studyText, task.source);
+    if (task.evaluatorModule) {
+      const mod = (await import(task.evaluatorModule)) as { createEvaluator(study: unknown): DesignEvaluatorLike };
+      evaluator = mod.createEvaluator(study);
+    } else {
+      evaluator = new Evaluator(study);
+    }
+    evaluators.set(key, evaluator);
+  }
+  return evaluator;
+}
+
+export default async function evaluateBatch(task: EvaluationTask): Promise<EvaluationTaskResult> {
+  const evaluator = await evaluatorFor(task);
+  const nv = evaluator.variables.length;
+  const nm = METRICS.length;
+  const nc = evaluator.constraints.length;
+  const metrics = new Float64Array(task.count * nm).fill(Number.NaN);
+  const margins = new Float64Array(task.count * nc).fill(Number.NaN);
+  const violation = new Float64Array(task.count).fill(Number.NaN);
+  const seconds = new Float64Array(task.count);
+  const errors: (string | null)[] = new Array<string | null>(task.count).fill(null);
+  for (let k = 0; k < task.count; k++) {
+    const design = task.designs.subarray(k * nv, (k + 1) * nv);
+    const start = performance.now();
+    try {
+      const result = evaluator.evaluate(design);
+      metrics.set(result.metrics, k * nm);
+      margins.set(result.margins, k * nc);
+      violation[k] = result.violation;
+    } catch (error) {
+      errors[k] = error instanceof Error ? `${error.name}: ${error.message}` : String(error);
+    }
+    seconds[k] = (performance.now() - start) / 1000;
+  }
+  return { metrics, margins, violation, errors, seconds };
+}

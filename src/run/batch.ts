@@ -1,0 +1,54 @@
+/** Evaluate a batch of designs through the store's cache and the worker pool. */
+import type { Evaluation } from '../optimizer/types.js';
+import type { EvaluationPool } from '../pool/pool.js';
+import type { NewEvaluation, Store } from '../store/store.js';
+import type { LoadedStudy } from '../study/parse.js';
+import { evaluationFromOutcome, evaluationFromStored, evaluationKey, newEvaluationRecord, type StudyProblem } from './problem.js';
+
+export interface BatchResult {
+  /** One per design, in order. */
+  readonly evaluations: Evaluation[];
+  readonly keys: string[];
+  /** Rows to insert: designs not found in the store, each once. */
+  readonly newRecords: NewEvaluation[];
+  /** Failed evaluations among the new ones. */
+  readonly failed: number;
+}
+
+export async function evaluateWithCache(
+  store: Store,
+  pool: EvaluationPool,
+  sp: StudyProblem,
+  loaded: LoadedStudy,
+  designs: readonly Float64Array[],
+): Promise<BatchResult> {
+  const keys = designs.map((d) => evaluationKey(loaded.settingsHash, d));
+  const cached = store.findEvaluations(keys);
+  const evaluations: Evaluation[] = new Array<Evaluation>(designs.length);
+  const firstIndexOfKey = new Map<string, number>();
+  const unique: number[] = [];
+  const repeats: number[] = [];
+  designs.forEach((_, k) => {
+    const key = keys[k]!;
+    const hit = cached.get(key);
+    if (hit) {
+      evaluations[k] = evaluationFromStored(sp, hit);
+    } else if (firstIndexOfKey.has(key)) {
+      repeats.push(k); // the same design twice in one batch is evaluated once
+    } else {
+      firstIndexOfKey.set(key, k);
+      unique.push(k);
+    }
+  });
+  const outcomes = await pool.evaluate(unique.map((k) => designs[k]!));
+  const newRecords: NewEvaluation[] = [];
+  let failed = 0;
+  unique.forEach((k, u) => {
+    const evaluation = evaluationFromOutcome(sp, outcomes[u]!);
+    evaluations[k] = evaluation;
+    if (evaluation.failed !== undefined) failed++;
+    newRecords.push(newEvaluationRecord(sp, loaded.settingsHash, keys[k]!, designs[k]!, outcomes[u]!, evaluation));
+  });
+  for (const k of repeats) evaluations[k] = evaluations[firstIndexOfKey.get(keys[k]!)!]!;
+  return { evaluations, keys, newRecords, failed };
+}

@@ -1,0 +1,57 @@
+/**
+ * Pareto front of a stored run: the feasible, non-dominated designs among the final population of an
+ * optimization run, or among every design of a sweep, by the objectives of the run's study.
+ */
+import { Store, type StoredEvaluation } from '../store/store.js';
+import { parseStudyText } from '../study/parse.js';
+import type { ObjectiveSpec } from '../study/types.js';
+
+export class FrontError extends Error {
+  override readonly name = 'FrontError';
+}
+
+export interface FrontResult {
+  readonly runId: number;
+  readonly kind: string;
+  readonly objectives: readonly ObjectiveSpec[];
+  readonly designs: readonly StoredEvaluation[];
+}
+
+function dominates(a: readonly number[], b: readonly number[]): boolean {
+  let better = false;
+  for (let k = 0; k < a.length; k++) {
+    if (a[k]! > b[k]!) return false;
+    if (a[k]! < b[k]!) better = true;
+  }
+  return better;
+}
+
+/** Non-dominated subset (objectives in minimisation form), in input order. */
+export function nonDominated<T>(items: readonly T[], objectives: (item: T) => number[]): T[] {
+  const values = items.map(objectives);
+  return items.filter((_, i) => !values.some((other, j) => j !== i && dominates(other, values[i]!)));
+}
+
+export function runFront(dbPath: string, runId?: number): FrontResult {
+  const store = Store.open(dbPath);
+  try {
+    const run = runId !== undefined ? store.getRun(runId) : store.listRuns().filter((r) => r.kind === 'optimize' || r.kind === 'sweep' || r.kind === 'rescore').at(-1);
+    if (!run) throw new FrontError(runId !== undefined ? `${dbPath}: no run ${runId} (see: loopsmith runs ${dbPath})` : `${dbPath}: no optimization or sweep run yet`);
+    const studyRow = store.getStudy(run.studyId)!;
+    const { study } = parseStudyText(studyRow.fileText, `${dbPath} (study of run ${run.id})`);
+    const last = store.lastGeneration(run.id);
+    if (last === undefined) return { runId: run.id, kind: run.kind, objectives: study.objectives, designs: [] };
+    const generations = run.kind === 'sweep' ? Array.from({ length: last + 1 }, (_, g) => g) : [last];
+    const byId = new Map<number, StoredEvaluation>();
+    for (const g of generations) for (const m of store.generationMembers(run.id, g)) if (m.feasible && m.error === null) byId.set(m.id, m);
+    const minimised = (e: StoredEvaluation): number[] =>
+      study.objectives.map((o) => {
+        const v = e.metrics[o.metric] ?? Number.NaN;
+        return o.sense === 'max' ? -v : v;
+      });
+    const designs = nonDominated([...byId.values()], minimised).sort((a, b) => a.id - b.id);
+    return { runId: run.id, kind: run.kind, objectives: study.objectives, designs };
+  } finally {
+    store.close();
+  }
+}

@@ -1,0 +1,198 @@
+/**
+ * `loopsmith run`: NSGA-II over a study's design space, evaluations on the worker pool, one SQLite
+ * transaction per generation. A run that was killed or stopped resumes from its last committed
+ * generation when started again with the same study, seed and population.
+ */
+import { hypervolume } from '../optimizer/hypervolume.js';
+import { Nsga2, type Nsga2State } from '../optimizer/nsga2.js';
+import { isFeasible, type Evaluation } from '../optimizer/types.js';
+import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
+import { canonicalJson, Store } from '../store/store.js';
+import type { LoadedStudy } from '../study/parse.js';
+import { evaluationKey, studyProblem, type StudyProblem } from './problem.js';
+import { evaluateWithCache } from './batch.js';
+
+export interface RunOptions extends PoolOptions {
+  readonly dbPath: string;
+  readonly seed?: number;
+  readonly population?: number;
+  /** Generations in all, the initial population included (evaluations ≈ population × generations). */
+  readonly generations?: number;
+  /** Called after each committed generation. */
+  readonly onGeneration?: (progress: GenerationProgress) => void;
+  /** Checked after each committed generation; true stops the run cleanly (status "stopped"). */
+  readonly shouldStop?: () => boolean;
+}
+
+export interface GenerationProgress {
+  readonly runId: number;
+  readonly generation: number;
+  readonly generations: number;
+  readonly evaluations: number;
+  readonly newEvaluations: number;
+  readonly failed: number;
+  readonly feasibleCount: number;
+  readonly hypervolume: number | null;
+  readonly evaluationsPerSecond: number;
+  readonly elapsedSeconds: number;
+  readonly resumed: boolean;
+}
+
+export interface RunSummary {
+  readonly runId: number;
+  readonly status: 'finished' | 'stopped';
+  readonly resumedFromGeneration: number | null;
+  readonly generationsDone: number;
+  readonly evaluations: number;
+  readonly newEvaluations: number;
+  readonly elapsedSeconds: number;
+}
+
+/** Fixed objective bounds for the hypervolume record of one run (minimisation form). */
+interface HypervolumeFrame {
+  ideal: number[];
+  nadir: number[];
+}
+
+interface RunState {
+  nsga2: Nsga2State;
+  hypervolumeFrame: HypervolumeFrame | null;
+}
+
+/** Objectives in minimisation form. */
+function minimised(sp: StudyProblem, evaluation: Evaluation): number[] {
+  return evaluation.objectives.map((v, k) => (sp.study.objectives[k]!.sense === 'max' ? -v : v));
+}
+
+/**
+ * Hypervolume of the feasible members, objectives normalised to the frame (ideal → 0, nadir → 1),
+ * reference point 1.1 in every objective.
+ */
+export function frameHypervolume(points: readonly number[][], frame: HypervolumeFrame): number {
+  const m = frame.ideal.length;
+  const reference = new Array<number>(m).fill(1.1);
+  const normalised = points.map((p) => p.map((v, k) => {
+    const span = frame.nadir[k]! - frame.ideal[k]!;
+    return span > 0 ? (v - frame.ideal[k]!) / span : v - frame.ideal[k]!;
+  }));
+  return hypervolume(normalised, reference);
+}
+
+function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
+  if (points.length === 0) return null;
+  const m = points[0]!.length;
+  const ideal = new Array<number>(m).fill(Infinity);
+  const nadir = new Array<number>(m).fill(-Infinity);
+  for (const p of points) {
+    for (let k = 0; k < m; k++) {
+      ideal[k] = Math.min(ideal[k]!, p[k]!);
+      nadir[k] = Math.max(nadir[k]!, p[k]!);
+    }
+  }
+  // A frame needs a spread in every objective; until a generation shows one, no hypervolume is recorded.
+  for (let k = 0; k < m; k++) if (!(nadir[k]! > ideal[k]!)) return null;
+  return { ideal, nadir };
+}
+
+export async function runOptimization(loaded: LoadedStudy, options: RunOptions): Promise<RunSummary> {
+  const sp = studyProblem(loaded.study);
+  const seed = options.seed ?? loaded.study.optimizer.seed;
+  const population = options.population ?? loaded.study.optimizer.population;
+  const generations = options.generations ?? loaded.study.optimizer.generations;
+  const nsgaSettings = { populationSize: population, seed };
+  const settings = { algorithm: 'nsga2', population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20 };
+  const settingsJson = canonicalJson(settings);
+
+  const store = Store.open(options.dbPath);
+  const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
+  try {
+    const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
+    store.ensureColumns(sp.columns);
+    let runId: number;
+    let optimizer: Nsga2;
+    let frame: HypervolumeFrame | null = null;
+    let resumedFrom: number | null = null;
+    const unfinished = store.findUnfinishedRun(studyId, 'optimize', seed, settingsJson);
+    if (unfinished && unfinished.optimizerState) {
+      const state = JSON.parse(unfinished.optimizerState) as RunState;
+      optimizer = Nsga2.restore(sp.problem, nsgaSettings, state.nsga2);
+      frame = state.hypervolumeFrame;
+      runId = unfinished.id;
+      resumedFrom = unfinished.generationsDone;
+      store.markRun(runId, 'running');
+    } else {
+      runId = unfinished?.id ?? store.createRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers });
+      if (unfinished) store.markRun(runId, 'running');
+      optimizer = new Nsga2(sp.problem, nsgaSettings);
+    }
+
+    let totalEvaluations = 0;
+    let totalNew = 0;
+    const started = performance.now();
+    let status: 'finished' | 'stopped' = 'finished';
+    while (optimizer.generation + 1 < generations) {
+      const generation = optimizer.generation + 1;
+      const genStart = performance.now();
+      const designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
+      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs);
+      optimizer.tell(designs, evaluations);
+
+      const members = optimizer.population();
+      const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
+      const feasibleCount = members.filter((m) => isFeasible(m.evaluation)).length;
+      frame ??= frameFrom(feasibleFront);
+      const hv = frame ? frameHypervolume(feasibleFront, frame) : null;
+      const elapsed = (performance.now() - genStart) / 1000;
+      const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
+      const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame };
+      store.writeGeneration({
+        runId,
+        generation,
+        newEvaluations: newRecords,
+        members: memberKeys,
+        stats: {
+          evaluations: designs.length,
+          newEvaluations: newRecords.length,
+          failed,
+          feasibleCount,
+          hypervolume: hv,
+          elapsedSeconds: elapsed,
+          evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
+        },
+        optimizerState: JSON.stringify(state),
+      });
+      totalEvaluations += designs.length;
+      totalNew += newRecords.length;
+      options.onGeneration?.({
+        runId,
+        generation,
+        generations,
+        evaluations: designs.length,
+        newEvaluations: newRecords.length,
+        failed,
+        feasibleCount,
+        hypervolume: hv,
+        evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
+        elapsedSeconds: (performance.now() - started) / 1000,
+        resumed: resumedFrom !== null,
+      });
+      if (options.shouldStop?.() && optimizer.generation + 1 < generations) {
+        status = 'stopped';
+        break;
+      }
+    }
+    store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : undefined);
+    return {
+      runId,
+      status,
+      resumedFromGeneration: resumedFrom,
+      generationsDone: optimizer.generation + 1,
+      evaluations: totalEvaluations,
+      newEvaluations: totalNew,
+      elapsedSeconds: (performance.now() - started) / 1000,
+    };
+  } finally {
+    await pool.close();
+    store.close();
+  }
+}

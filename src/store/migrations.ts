@@ -1,0 +1,135 @@
+/**
+ * Schema creation and upgrade for the loopsmith SQLite store.
+ *
+ * The schema version is SQLite's `PRAGMA user_version`:
+ *   0              a new, empty file: schema.sql is applied as a whole;
+ *   1..current-1   written by older code: the numbered migrations below run in order;
+ *   current        nothing to do;
+ *   > current      written by newer code: refused with SchemaVersionError.
+ * Every step runs in its own IMMEDIATE transaction, and the version is read again
+ * inside that transaction, so two processes opening the same new file do not both
+ * create the schema.
+ */
+import { readFileSync } from 'node:fs';
+import type Database from 'better-sqlite3';
+
+/** Schema version this code reads and writes; equals the `PRAGMA user_version` set by schema.sql. */
+export const SCHEMA_VERSION = 1;
+
+/** Raised when a database cannot be used at this schema version. */
+export class SchemaVersionError extends Error {
+  override readonly name = 'SchemaVersionError';
+}
+
+/** One step from schema version `from` to `from + 1`. */
+export interface Migration {
+  readonly from: number;
+  readonly description: string;
+  /** Runs inside the step's transaction; must not change `user_version` itself. */
+  apply(db: Database.Database): void;
+}
+
+/**
+ * Steps from older schema versions, in order. Version 1 is the first released
+ * schema, so there is none yet. A future version N adds `{ from: N - 1, ... }`
+ * here and sets `PRAGMA user_version = N` in schema.sql.
+ */
+export const MIGRATIONS: readonly Migration[] = [];
+
+/** Full text of schema.sql, read next to this module (src/store in tests, dist/store when built). */
+export function readSchemaSql(): string {
+  return readFileSync(new URL('./schema.sql', import.meta.url), 'utf8');
+}
+
+export interface MigrateOptions {
+  /** Version to reach; defaults to SCHEMA_VERSION (other values are for tests of the mechanism). */
+  readonly targetVersion?: number;
+  /** Upgrade steps; defaults to MIGRATIONS. */
+  readonly migrations?: readonly Migration[];
+  /** Text that creates a fresh database at targetVersion; defaults to schema.sql. */
+  readonly schemaSql?: string;
+  /** Shown in error messages. */
+  readonly label?: string;
+}
+
+export interface MigrateResult {
+  readonly fromVersion: number;
+  readonly toVersion: number;
+}
+
+function userVersion(db: Database.Database): number {
+  const value: unknown = db.pragma('user_version', { simple: true });
+  if (typeof value !== 'number') throw new SchemaVersionError(`unexpected PRAGMA user_version result: ${String(value)}`);
+  return value;
+}
+
+function userTableCount(db: Database.Database): number {
+  const row = db
+    .prepare("SELECT COUNT(*) AS n FROM sqlite_schema WHERE name NOT LIKE 'sqlite\\_%' ESCAPE '\\'")
+    .get() as { n: number };
+  return row.n;
+}
+
+function tooNewMessage(label: string, found: number, target: number): string {
+  return (
+    `database ${label} has schema version ${found}, but this loopsmith only understands versions up to ${target}; ` +
+    `it was written by a newer loopsmith. Upgrade loopsmith, or use a different database file.`
+  );
+}
+
+/**
+ * Brings the schema of `db` to the target version. Call it with foreign keys in
+ * their normal (ON) state; a future migration that rebuilds a table must turn
+ * them off itself outside its step, as SQLite ignores that pragma inside a transaction.
+ */
+export function migrate(db: Database.Database, options: MigrateOptions = {}): MigrateResult {
+  const targetVersion = options.targetVersion ?? SCHEMA_VERSION;
+  const migrations = options.migrations ?? MIGRATIONS;
+  const label = options.label ?? db.name;
+  const fromVersion = userVersion(db);
+
+  if (fromVersion > targetVersion) throw new SchemaVersionError(tooNewMessage(label, fromVersion, targetVersion));
+  if (fromVersion === targetVersion) return { fromVersion, toVersion: targetVersion };
+
+  if (fromVersion === 0) {
+    const schemaSql = options.schemaSql ?? readSchemaSql();
+    db.transaction(() => {
+      const current = userVersion(db);
+      if (current !== 0) return; // another process created it meanwhile; handled below
+      if (userTableCount(db) > 0) {
+        throw new SchemaVersionError(
+          `database ${label} has tables but no loopsmith schema version (user_version 0); it is not a loopsmith store`,
+        );
+      }
+      db.exec(schemaSql);
+      const created = userVersion(db);
+      if (created !== targetVersion) {
+        throw new SchemaVersionError(
+          `schema.sql sets user_version ${created}, but the code expects ${targetVersion}; the two must be changed together`,
+        );
+      }
+    }).immediate();
+    const after = userVersion(db);
+    if (after === targetVersion) return { fromVersion, toVersion: targetVersion };
+    return { fromVersion, toVersion: migrate(db, { ...options, label }).toVersion };
+  }
+
+  let version = fromVersion;
+  while (version < targetVersion) {
+    const step = migrations.find((m) => m.from === version);
+    if (step === undefined) {
+      throw new SchemaVersionError(
+        `database ${label} has schema version ${version}, and there is no migration from it towards ${targetVersion}`,
+      );
+    }
+    db.transaction(() => {
+      const current = userVersion(db);
+      if (current !== step.from) return; // upgraded by another process meanwhile
+      step.apply(db);
+      db.pragma(`user_version = ${step.from + 1}`);
+    }).immediate();
+    version = userVersion(db);
+    if (version > targetVersion) throw new SchemaVersionError(tooNewMessage(label, version, targetVersion));
+  }
+  return { fromVersion, toVersion: version };
+}

@@ -1,0 +1,958 @@
+/**
+ * SQLite store of loopsmith studies, runs and evaluations.
+ *
+ * The store keeps rows; it evaluates nothing and knows nothing of the optimizer
+ * beyond the opaque `optimizer_state` text it is handed with each generation.
+ * See docs/store.md for the schema and the rules on numbers (doubles round-trip
+ * exactly, ±Infinity round-trips, NaN is stored as NULL, -0 reads back as 0).
+ */
+import Database from 'better-sqlite3';
+import { createHash } from 'node:crypto';
+import { mkdirSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
+import { migrate } from './migrations.js';
+
+export type RunKind = 'optimize' | 'sweep' | 'rescore' | 'evaluate';
+export type RunStatus = 'running' | 'stopped' | 'finished' | 'failed';
+export type VariableType = 'real' | 'text';
+
+const RUN_KINDS: readonly RunKind[] = ['optimize', 'sweep', 'rescore', 'evaluate'];
+const RUN_STATUSES: readonly RunStatus[] = ['running', 'stopped', 'finished', 'failed'];
+
+/** Names of variables, metrics and constraints; also the part after the column prefix. */
+export const COLUMN_NAME_PATTERN = /^[a-z][a-z0-9_]*$/;
+export const VARIABLE_PREFIX = 'v_';
+export const METRIC_PREFIX = 'm_';
+export const CONSTRAINT_PREFIX = 'c_';
+
+/** Fixed columns of `evaluations`, in table order. */
+export const EVALUATION_BASE_COLUMNS: readonly string[] = [
+  'id',
+  'eval_key',
+  'settings_hash',
+  'first_run_id',
+  'column_set_id',
+  'violation',
+  'feasible',
+  'error',
+  'eval_seconds',
+];
+
+/** Keys per IN (...) query in findEvaluations; well under SQLite's bound-parameter limit. */
+const KEY_LOOKUP_CHUNK = 500;
+
+/** Busy timeout for lock waits between processes [ms]. */
+const BUSY_TIMEOUT_MS = 10_000;
+
+export interface ColumnSet {
+  variables: readonly { name: string; type: VariableType }[];
+  metrics: readonly string[];
+  constraints: readonly string[];
+}
+
+export interface NewEvaluation {
+  key: string;
+  settingsHash: string;
+  variables: Record<string, number | string>;
+  metrics: Record<string, number | null>;
+  constraints: Record<string, number | null>;
+  violation: number;
+  feasible: boolean;
+  error: string | null;
+  /** Time the evaluation took [s]. */
+  evalSeconds: number | null;
+}
+
+export interface StoredEvaluation extends NewEvaluation {
+  id: number;
+  firstRunId: number;
+}
+
+/** A stored evaluation as a member of one generation's population. */
+export interface MemberEvaluation extends StoredEvaluation {
+  position: number;
+  rank: number;
+  crowding: number;
+}
+
+export interface GenerationStats {
+  /** Designs in this generation. */
+  evaluations: number;
+  /** Designs not served from the cache. */
+  newEvaluations: number;
+  failed: number;
+  feasibleCount: number;
+  hypervolume: number | null;
+  /** Wall time of the generation [s]. */
+  elapsedSeconds: number;
+  /** [1/s] */
+  evaluationsPerSecond: number;
+}
+
+export interface GenerationWrite {
+  runId: number;
+  generation: number;
+  newEvaluations: readonly NewEvaluation[];
+  /** In population order; each key is either in newEvaluations or already stored. */
+  members: readonly { key: string; rank: number; crowding: number }[];
+  stats: GenerationStats;
+  optimizerState: string | null;
+}
+
+export interface GenerationStatsRow extends GenerationStats {
+  runId: number;
+  generation: number;
+}
+
+export interface RunRow {
+  id: number;
+  studyId: number;
+  kind: RunKind;
+  parentRunId: number | null;
+  seed: number;
+  /** Canonical JSON of the run settings (object keys sorted). */
+  settingsJson: string;
+  status: RunStatus;
+  workers: number;
+  /** ISO 8601 UTC. */
+  startedAt: string;
+  /** ISO 8601 UTC; set when stopped, finished or failed, cleared when running again. */
+  finishedAt: string | null;
+  /** Active time summed over the sessions of the run [s]. */
+  elapsedSeconds: number;
+  generationsDone: number;
+  optimizerState: string | null;
+  message: string | null;
+}
+
+export interface StudyRow {
+  id: number;
+  name: string;
+  architecture: string;
+  fileText: string;
+  fileHash: string;
+  settingsHash: string;
+  createdAt: string;
+}
+
+export interface StoreOptions {
+  /** Source of "now" for timestamps and elapsed time; defaults to the system clock. */
+  readonly clock?: () => Date;
+}
+
+/** Raised for calls the store refuses (bad names, unknown columns, out-of-order generations...). */
+export class StoreError extends Error {
+  override readonly name = 'StoreError';
+}
+
+/**
+ * JSON with object keys sorted at every level, otherwise as JSON.stringify
+ * (so undefined members are dropped and non-finite numbers become null).
+ * `undefined` as a whole becomes "null".
+ */
+export function canonicalJson(value: unknown): string {
+  const text = JSON.stringify(value, (_key, member: unknown) => {
+    if (member === null || typeof member !== 'object' || Array.isArray(member)) return member;
+    const sorted: Record<string, unknown> = {};
+    for (const name of Object.keys(member).sort()) sorted[name] = (member as Record<string, unknown>)[name];
+    return sorted;
+  }) as string | undefined;
+  return text ?? 'null';
+}
+
+/** sha256 of UTF-8 text, lowercase hex. */
+export function sha256Hex(text: string): string {
+  return createHash('sha256').update(text, 'utf8').digest('hex');
+}
+
+/** Double-quoted SQL identifier. */
+export function quoteIdentifier(name: string): string {
+  return `"${name.replaceAll('"', '""')}"`;
+}
+
+/** Names of the per-study columns currently in `evaluations`, without prefixes, in table order. */
+interface EvaluationColumnLayout {
+  variables: { name: string; type: VariableType }[];
+  metrics: string[];
+  constraints: string[];
+}
+
+/** The names one evaluation row carries (sorted), and their column names. */
+interface ColumnSetNames {
+  variables: string[];
+  metrics: string[];
+  constraints: string[];
+}
+
+interface TableInfoRow {
+  cid: number;
+  name: string;
+  type: string;
+}
+
+interface RunDbRow {
+  id: number;
+  study_id: number;
+  kind: RunKind;
+  parent_run_id: number | null;
+  seed: number;
+  settings_json: string;
+  status: RunStatus;
+  workers: number;
+  started_at: string;
+  finished_at: string | null;
+  elapsed_seconds: number;
+  active_since: string | null;
+  generations_done: number;
+  optimizer_state: string | null;
+  message: string | null;
+}
+
+interface StatsDbRow {
+  run_id: number;
+  generation: number;
+  evaluations: number;
+  new_evaluations: number;
+  failed: number;
+  feasible_count: number;
+  hypervolume: number | null;
+  elapsed_seconds: number;
+  evaluations_per_second: number;
+}
+
+interface StudyDbRow {
+  id: number;
+  name: string;
+  architecture: string;
+  file_text: string;
+  file_hash: string;
+  settings_hash: string;
+  created_at: string;
+}
+
+interface ColumnSetDbRow {
+  id: number;
+  variables: string;
+  metrics: string;
+  constraints: string;
+}
+
+type EvaluationDbRow = Record<string, unknown>;
+
+/** A column set's names are not all in this connection's cached column list (another process added columns). */
+class StaleColumnsError extends Error {}
+
+function toRunRow(row: RunDbRow): RunRow {
+  return {
+    id: row.id,
+    studyId: row.study_id,
+    kind: row.kind,
+    parentRunId: row.parent_run_id,
+    seed: row.seed,
+    settingsJson: row.settings_json,
+    status: row.status,
+    workers: row.workers,
+    startedAt: row.started_at,
+    finishedAt: row.finished_at,
+    elapsedSeconds: row.elapsed_seconds,
+    generationsDone: row.generations_done,
+    optimizerState: row.optimizer_state,
+    message: row.message,
+  };
+}
+
+function toStatsRow(row: StatsDbRow): GenerationStatsRow {
+  return {
+    runId: row.run_id,
+    generation: row.generation,
+    evaluations: row.evaluations,
+    newEvaluations: row.new_evaluations,
+    failed: row.failed,
+    feasibleCount: row.feasible_count,
+    hypervolume: row.hypervolume,
+    elapsedSeconds: row.elapsed_seconds,
+    evaluationsPerSecond: row.evaluations_per_second,
+  };
+}
+
+function checkName(kind: string, name: string): void {
+  if (!COLUMN_NAME_PATTERN.test(name)) {
+    throw new StoreError(`${kind} name ${JSON.stringify(name)} is not allowed: names must match ${COLUMN_NAME_PATTERN.source}`);
+  }
+}
+
+function checkInteger(what: string, value: number): void {
+  if (!Number.isSafeInteger(value)) throw new StoreError(`${what} must be an integer, got ${value}`);
+}
+
+function checkNumber(what: string, value: number): void {
+  if (typeof value !== 'number' || Number.isNaN(value)) throw new StoreError(`${what} must be a number, got ${String(value)}`);
+}
+
+function columnSetSignature(names: ColumnSetNames): string {
+  return JSON.stringify([names.variables, names.metrics, names.constraints]);
+}
+
+/** Non-finite-safe number for a nullable REAL column: NaN is stored as NULL. */
+function nullableReal(value: number | null): number | null {
+  return value === null || Number.isNaN(value) ? null : value;
+}
+
+export class Store {
+  private readonly db: Database.Database;
+  private readonly clock: () => Date;
+  private layout: EvaluationColumnLayout = { variables: [], metrics: [], constraints: [] };
+  /** Column names in `evaluations` known to this connection (all of them, with prefixes). */
+  private knownColumns = new Set<string>();
+  private readonly columnSetIdBySignature = new Map<string, number>();
+  private readonly columnSetById = new Map<number, ColumnSetNames>();
+
+  // Statements over fixed columns, prepared once.
+  private readonly insertStudyStatement: Database.Statement<unknown[]>;
+  private readonly selectStudyIdByHashStatement: Database.Statement<unknown[], { id: number }>;
+  private readonly selectStudyStatement: Database.Statement<unknown[], StudyDbRow>;
+  private readonly insertRunStatement: Database.Statement<unknown[]>;
+  private readonly selectRunStatement: Database.Statement<unknown[], RunDbRow>;
+  private readonly listRunsStatement: Database.Statement<unknown[], RunDbRow>;
+  private readonly latestRunStatement: Database.Statement<unknown[], RunDbRow>;
+  private readonly latestRunOfKindStatement: Database.Statement<unknown[], RunDbRow>;
+  private readonly findUnfinishedRunStatement: Database.Statement<unknown[], RunDbRow>;
+  private readonly markRunStatement: Database.Statement<unknown[]>;
+  private readonly updateRunAfterGenerationStatement: Database.Statement<unknown[]>;
+  private readonly selectEvaluationIdByKeyStatement: Database.Statement<unknown[], { id: number }>;
+  private readonly insertColumnSetStatement: Database.Statement<unknown[]>;
+  private readonly selectColumnSetIdStatement: Database.Statement<unknown[], { id: number }>;
+  private readonly selectColumnSetStatement: Database.Statement<unknown[], ColumnSetDbRow>;
+  private readonly insertMemberStatement: Database.Statement<unknown[]>;
+  private readonly insertStatsStatement: Database.Statement<unknown[]>;
+  private readonly selectStatsStatement: Database.Statement<unknown[], StatsDbRow>;
+  private readonly lastGenerationStatement: Database.Statement<unknown[], { generation: number | null }>;
+  private readonly tableInfoStatement: Database.Statement<unknown[], TableInfoRow>;
+
+  // Statements over the per-study columns, prepared again when the columns change.
+  private insertEvaluationStatement!: Database.Statement<unknown[]>;
+  private selectMembersStatement!: Database.Statement<unknown[], EvaluationDbRow>;
+  private readonly selectEvaluationsByKeysStatements = new Map<number, Database.Statement<unknown[], EvaluationDbRow>>();
+
+  private constructor(db: Database.Database, clock: () => Date) {
+    this.db = db;
+    this.clock = clock;
+
+    this.insertStudyStatement = db.prepare(
+      `INSERT INTO studies (name, architecture, file_text, file_hash, settings_hash, created_at)
+       VALUES (?, ?, ?, ?, ?, ?) ON CONFLICT (file_hash) DO NOTHING`,
+    );
+    this.selectStudyIdByHashStatement = db.prepare('SELECT id FROM studies WHERE file_hash = ?');
+    this.selectStudyStatement = db.prepare('SELECT * FROM studies WHERE id = ?');
+    this.insertRunStatement = db.prepare(
+      `INSERT INTO runs (study_id, kind, parent_run_id, seed, settings_json, status, workers, started_at, active_since)
+       VALUES (?, ?, ?, ?, ?, 'running', ?, ?, ?)`,
+    );
+    this.selectRunStatement = db.prepare('SELECT * FROM runs WHERE id = ?');
+    this.listRunsStatement = db.prepare('SELECT * FROM runs ORDER BY id');
+    this.latestRunStatement = db.prepare('SELECT * FROM runs ORDER BY id DESC LIMIT 1');
+    this.latestRunOfKindStatement = db.prepare('SELECT * FROM runs WHERE kind = ? ORDER BY id DESC LIMIT 1');
+    this.findUnfinishedRunStatement = db.prepare(
+      `SELECT * FROM runs
+       WHERE study_id = ? AND kind = ? AND seed = ? AND settings_json = ? AND status IN ('running', 'stopped')
+       ORDER BY id DESC LIMIT 1`,
+    );
+    this.markRunStatement = db.prepare(
+      `UPDATE runs SET status = ?, finished_at = ?, elapsed_seconds = ?, active_since = ?, message = ? WHERE id = ?`,
+    );
+    this.updateRunAfterGenerationStatement = db.prepare(
+      `UPDATE runs SET generations_done = ?, optimizer_state = ?, elapsed_seconds = ?, active_since = ? WHERE id = ?`,
+    );
+    this.selectEvaluationIdByKeyStatement = db.prepare('SELECT id FROM evaluations WHERE eval_key = ?');
+    this.insertColumnSetStatement = db.prepare(
+      'INSERT INTO column_sets (variables, metrics, constraints) VALUES (?, ?, ?) ON CONFLICT DO NOTHING',
+    );
+    this.selectColumnSetIdStatement = db.prepare(
+      'SELECT id FROM column_sets WHERE variables = ? AND metrics = ? AND constraints = ?',
+    );
+    this.selectColumnSetStatement = db.prepare('SELECT * FROM column_sets WHERE id = ?');
+    this.insertMemberStatement = db.prepare(
+      `INSERT INTO generation_members (run_id, generation, position, evaluation_id, rank, crowding) VALUES (?, ?, ?, ?, ?, ?)`,
+    );
+    this.insertStatsStatement = db.prepare(
+      `INSERT INTO generation_stats (run_id, generation, evaluations, new_evaluations, failed, feasible_count,
+         hypervolume, elapsed_seconds, evaluations_per_second) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+    );
+    this.selectStatsStatement = db.prepare('SELECT * FROM generation_stats WHERE run_id = ? ORDER BY generation');
+    this.lastGenerationStatement = db.prepare(
+      'SELECT MAX(generation) AS generation FROM generation_stats WHERE run_id = ?',
+    );
+    this.tableInfoStatement = db.prepare("SELECT cid, name, type FROM pragma_table_info('evaluations') ORDER BY cid");
+
+    this.reloadColumns();
+  }
+
+  /**
+   * Opens (creating parent folders and the file if needed) the store at `path`,
+   * creates or upgrades the schema, and sets WAL journal, foreign keys, busy timeout.
+   * Throws SchemaVersionError for a database written by newer code.
+   */
+  static open(path: string, options: StoreOptions = {}): Store {
+    const inMemory = path === ':memory:';
+    const location = inMemory ? path : resolve(path);
+    if (!inMemory) mkdirSync(dirname(location), { recursive: true });
+    const db = new Database(location, { timeout: BUSY_TIMEOUT_MS });
+    try {
+      db.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
+      db.pragma('foreign_keys = ON');
+      if (!inMemory) {
+        const mode: unknown = db.pragma('journal_mode = WAL', { simple: true });
+        if (mode !== 'wal') throw new StoreError(`could not switch ${location} to WAL journal mode (got ${String(mode)})`);
+      }
+      // Safe with WAL: a power loss may drop the last commits but never corrupts the file.
+      db.pragma('synchronous = NORMAL');
+      migrate(db, { label: location });
+      return new Store(db, options.clock ?? (() => new Date()));
+    } catch (error) {
+      db.close();
+      throw error;
+    }
+  }
+
+  close(): void {
+    if (this.db.open) this.db.close();
+  }
+
+  /** Absolute path of the database file (or ":memory:"). */
+  get path(): string {
+    return this.db.name;
+  }
+
+  // ---------------------------------------------------------------- studies
+
+  /** Stores a study file once (deduplicated on the sha256 of its text) and returns its id. An existing row is left as it is. */
+  upsertStudy(s: { name: string; architecture: string; fileText: string; settingsHash: string }): number {
+    const fileHash = sha256Hex(s.fileText);
+    return this.db.transaction(() => {
+      this.insertStudyStatement.run(s.name, s.architecture, s.fileText, fileHash, s.settingsHash, this.nowIso());
+      const row = this.selectStudyIdByHashStatement.get(fileHash);
+      if (row === undefined) throw new StoreError(`study with file hash ${fileHash} was not stored`);
+      return row.id;
+    }).immediate();
+  }
+
+  getStudy(id: number): StudyRow | undefined {
+    const row = this.selectStudyStatement.get(id);
+    if (row === undefined) return undefined;
+    return {
+      id: row.id,
+      name: row.name,
+      architecture: row.architecture,
+      fileText: row.file_text,
+      fileHash: row.file_hash,
+      settingsHash: row.settings_hash,
+      createdAt: row.created_at,
+    };
+  }
+
+  // ---------------------------------------------------------------- columns
+
+  /**
+   * Adds the `v_`/`m_`/`c_` columns this column set needs and recreates the
+   * `results` view. Existing columns are kept; a variable whose column exists
+   * with the other type is refused.
+   */
+  ensureColumns(c: ColumnSet): void {
+    const wanted: { column: string; sqlType: 'REAL' | 'TEXT' }[] = [];
+    const wantedTypes = new Map<string, 'REAL' | 'TEXT'>();
+    const want = (kind: string, name: string, prefix: string, sqlType: 'REAL' | 'TEXT'): void => {
+      checkName(kind, name);
+      const column = prefix + name;
+      const earlier = wantedTypes.get(column);
+      if (earlier !== undefined) {
+        if (earlier !== sqlType) throw new StoreError(`${kind} ${name} is listed twice with different types`);
+        return;
+      }
+      wantedTypes.set(column, sqlType);
+      wanted.push({ column, sqlType });
+    };
+    for (const variable of c.variables) {
+      if (variable.type !== 'real' && variable.type !== 'text') {
+        throw new StoreError(`variable ${variable.name} has type ${String(variable.type)}; expected 'real' or 'text'`);
+      }
+      want('variable', variable.name, VARIABLE_PREFIX, variable.type === 'real' ? 'REAL' : 'TEXT');
+    }
+    for (const metric of c.metrics) want('metric', metric, METRIC_PREFIX, 'REAL');
+    for (const constraint of c.constraints) want('constraint', constraint, CONSTRAINT_PREFIX, 'REAL');
+
+    const missingHere = wanted.some((w) => !this.knownColumns.has(w.column));
+    // Type check against what this connection knows, even when nothing is missing.
+    if (!missingHere) {
+      this.checkColumnTypes(wanted, this.readTableInfo());
+      return;
+    }
+
+    this.db.transaction(() => {
+      const existing = this.readTableInfo();
+      this.checkColumnTypes(wanted, existing);
+      const existingNames = new Set(existing.map((row) => row.name));
+      let added = false;
+      for (const w of wanted) {
+        if (existingNames.has(w.column)) continue;
+        this.db.exec(`ALTER TABLE evaluations ADD COLUMN ${quoteIdentifier(w.column)} ${w.sqlType}`);
+        added = true;
+      }
+      if (added) this.recreateResultsView();
+    }).immediate();
+    this.reloadColumns();
+  }
+
+  /** Per-study column names in `evaluations`, without prefixes, in table order. */
+  evaluationColumns(): { variables: string[]; metrics: string[]; constraints: string[] } {
+    this.reloadColumnsIfChanged();
+    return {
+      variables: this.layout.variables.map((v) => v.name),
+      metrics: [...this.layout.metrics],
+      constraints: [...this.layout.constraints],
+    };
+  }
+
+  /** Like evaluationColumns, with the type of each variable column. */
+  evaluationColumnSet(): ColumnSet {
+    this.reloadColumnsIfChanged();
+    return {
+      variables: this.layout.variables.map((v) => ({ ...v })),
+      metrics: [...this.layout.metrics],
+      constraints: [...this.layout.constraints],
+    };
+  }
+
+  // ---------------------------------------------------------------- runs
+
+  /** Starts a run in status 'running'; settings are stored as canonical JSON (see canonicalJson). */
+  createRun(r: {
+    studyId: number;
+    kind: RunKind;
+    parentRunId?: number | null;
+    seed: number;
+    settings: unknown;
+    workers: number;
+  }): number {
+    if (!RUN_KINDS.includes(r.kind)) throw new StoreError(`run kind ${String(r.kind)} is not one of ${RUN_KINDS.join(', ')}`);
+    checkInteger('seed', r.seed);
+    checkInteger('workers', r.workers);
+    const now = this.nowIso();
+    const result = this.insertRunStatement.run(
+      r.studyId,
+      r.kind,
+      r.parentRunId ?? null,
+      r.seed,
+      canonicalJson(r.settings),
+      r.workers,
+      now,
+      now,
+    );
+    return Number(result.lastInsertRowid);
+  }
+
+  /**
+   * The newest run of this study, kind, seed and settings that is 'running' or
+   * 'stopped': the run to resume. `settingsJson` may be any JSON text of the
+   * settings; it is compared in canonical form.
+   */
+  findUnfinishedRun(studyId: number, kind: string, seed: number, settingsJson: string): RunRow | undefined {
+    let canonical = settingsJson;
+    try {
+      canonical = canonicalJson(JSON.parse(settingsJson) as unknown);
+    } catch {
+      // Not JSON: compare as given (it then matches nothing createRun wrote).
+    }
+    const row = this.findUnfinishedRunStatement.get(studyId, kind, seed, canonical);
+    return row === undefined ? undefined : toRunRow(row);
+  }
+
+  getRun(id: number): RunRow | undefined {
+    const row = this.selectRunStatement.get(id);
+    return row === undefined ? undefined : toRunRow(row);
+  }
+
+  listRuns(): RunRow[] {
+    return this.listRunsStatement.all().map(toRunRow);
+  }
+
+  latestRun(kind?: string): RunRow | undefined {
+    const row = kind === undefined ? this.latestRunStatement.get() : this.latestRunOfKindStatement.get(kind);
+    return row === undefined ? undefined : toRunRow(row);
+  }
+
+  /**
+   * Sets a run's status. 'running' (resume) clears finished_at and starts a new
+   * session; 'stopped', 'finished' and 'failed' add the session's time since
+   * the last generation write to elapsed_seconds and set finished_at.
+   * The message is replaced only when given.
+   */
+  markRun(runId: number, status: RunStatus, message?: string): void {
+    if (!RUN_STATUSES.includes(status)) throw new StoreError(`run status ${String(status)} is not one of ${RUN_STATUSES.join(', ')}`);
+    this.db.transaction(() => {
+      const run = this.selectRunStatement.get(runId);
+      if (run === undefined) throw new StoreError(`run ${runId} does not exist`);
+      const now = this.clock();
+      const nowIso = now.toISOString();
+      const newMessage = message === undefined ? run.message : message;
+      if (status === 'running') {
+        // Time of an earlier session that ended without markRun (a crash) after its last generation is not counted.
+        this.markRunStatement.run(status, null, run.elapsed_seconds, nowIso, newMessage, runId);
+      } else {
+        const elapsed = run.elapsed_seconds + this.secondsSince(run.active_since, now);
+        this.markRunStatement.run(status, nowIso, elapsed, null, newMessage, runId);
+      }
+    }).immediate();
+  }
+
+  // ---------------------------------------------------------------- evaluations
+
+  /** Cache lookup: the stored evaluations among `keys` (missing keys are absent from the map). */
+  findEvaluations(keys: readonly string[]): Map<string, StoredEvaluation> {
+    return this.withFreshColumns(() => {
+      const found = new Map<string, StoredEvaluation>();
+      const distinct = [...new Set(keys)];
+      for (let start = 0; start < distinct.length; start += KEY_LOOKUP_CHUNK) {
+        const chunk = distinct.slice(start, start + KEY_LOOKUP_CHUNK);
+        for (const row of this.selectEvaluationsByKeys(chunk.length).all(...chunk)) {
+          const evaluation = this.decodeEvaluation(row);
+          found.set(evaluation.key, evaluation);
+        }
+      }
+      return found;
+    });
+  }
+
+  /**
+   * Writes one generation in ONE transaction: the new evaluations (in the given
+   * order, so ids are deterministic; a key already stored is reused), the
+   * members, the stats, and the run's generations_done (= generation + 1) and
+   * optimizer_state. Any error rolls the whole generation back.
+   * `generation` must equal the run's generations_done.
+   */
+  writeGeneration(w: GenerationWrite): void {
+    checkInteger('generation', w.generation);
+    const prepared = w.newEvaluations.map((evaluation, index) => this.prepareEvaluation(evaluation, index));
+    w.members.forEach((member, position) => {
+      checkInteger(`rank of member ${position}`, member.rank);
+      checkNumber(`crowding of member ${position}`, member.crowding);
+    });
+    const s = w.stats;
+    checkInteger('stats.evaluations', s.evaluations);
+    checkInteger('stats.newEvaluations', s.newEvaluations);
+    checkInteger('stats.failed', s.failed);
+    checkInteger('stats.feasibleCount', s.feasibleCount);
+    checkNumber('stats.elapsedSeconds', s.elapsedSeconds);
+    checkNumber('stats.evaluationsPerSecond', s.evaluationsPerSecond);
+
+    const newColumnSets = new Map<string, { id: number; names: ColumnSetNames }>();
+    this.db.transaction(() => {
+      const run = this.selectRunStatement.get(w.runId);
+      if (run === undefined) throw new StoreError(`run ${w.runId} does not exist`);
+      if (w.generation !== run.generations_done) {
+        throw new StoreError(
+          `run ${w.runId} has ${run.generations_done} generation(s) stored; the next one to write is ${run.generations_done}, not ${w.generation}`,
+        );
+      }
+
+      const idByKey = new Map<string, number>();
+      for (const p of prepared) {
+        const signature = columnSetSignature(p.names);
+        let columnSetId = this.columnSetIdBySignature.get(signature) ?? newColumnSets.get(signature)?.id;
+        if (columnSetId === undefined) {
+          columnSetId = this.storeColumnSet(p.names);
+          newColumnSets.set(signature, { id: columnSetId, names: p.names });
+        }
+        const result = this.insertEvaluationStatement.run(p.key, p.settingsHash, w.runId, columnSetId, ...p.values);
+        const id = result.changes === 1 ? Number(result.lastInsertRowid) : this.selectEvaluationIdByKeyStatement.get(p.key)?.id;
+        if (id === undefined) throw new StoreError(`evaluation ${p.key} was neither inserted nor found`);
+        idByKey.set(p.key, id);
+      }
+
+      w.members.forEach((member, position) => {
+        const id = idByKey.get(member.key) ?? this.selectEvaluationIdByKeyStatement.get(member.key)?.id;
+        if (id === undefined) {
+          throw new StoreError(
+            `member ${position} of generation ${w.generation} (run ${w.runId}) has key ${member.key}, which is neither in newEvaluations nor stored`,
+          );
+        }
+        this.insertMemberStatement.run(w.runId, w.generation, position, id, member.rank, member.crowding);
+      });
+
+      this.insertStatsStatement.run(
+        w.runId,
+        w.generation,
+        s.evaluations,
+        s.newEvaluations,
+        s.failed,
+        s.feasibleCount,
+        nullableReal(s.hypervolume),
+        s.elapsedSeconds,
+        s.evaluationsPerSecond,
+      );
+
+      const now = this.clock();
+      const elapsed = run.elapsed_seconds + this.secondsSince(run.active_since, now);
+      const activeSince = run.active_since === null ? null : now.toISOString();
+      this.updateRunAfterGenerationStatement.run(w.generation + 1, w.optimizerState, elapsed, activeSince, w.runId);
+    }).immediate();
+
+    // Only after commit: a rolled-back column set must not stay cached.
+    for (const [signature, entry] of newColumnSets) {
+      this.columnSetIdBySignature.set(signature, entry.id);
+      this.columnSetById.set(entry.id, entry.names);
+    }
+  }
+
+  /** The population of one generation, in population order, with rank and crowding. */
+  generationMembers(runId: number, generation: number): MemberEvaluation[] {
+    return this.withFreshColumns(() =>
+      this.selectMembersStatement.all(runId, generation).map((row) => ({
+        ...this.decodeEvaluation(row),
+        position: row['member_position'] as number,
+        rank: row['member_rank'] as number,
+        crowding: row['member_crowding'] as number,
+      })),
+    );
+  }
+
+  /** Highest generation number with stats stored for the run, or undefined when none. */
+  lastGeneration(runId: number): number | undefined {
+    const row = this.lastGenerationStatement.get(runId);
+    return row === undefined || row.generation === null ? undefined : row.generation;
+  }
+
+  generationStats(runId: number): GenerationStatsRow[] {
+    return this.selectStatsStatement.all(runId).map(toStatsRow);
+  }
+
+  // ---------------------------------------------------------------- internals
+
+  private nowIso(): string {
+    return this.clock().toISOString();
+  }
+
+  /** Seconds from an ISO time to `now`, 0 for null or a clock that went back. */
+  private secondsSince(iso: string | null, now: Date): number {
+    if (iso === null) return 0;
+    const seconds = (now.getTime() - Date.parse(iso)) / 1000;
+    return Number.isFinite(seconds) && seconds > 0 ? seconds : 0;
+  }
+
+  private readTableInfo(): TableInfoRow[] {
+    return this.tableInfoStatement.all();
+  }
+
+  private checkColumnTypes(wanted: readonly { column: string; sqlType: string }[], existing: readonly TableInfoRow[]): void {
+    const typeByName = new Map(existing.map((row) => [row.name, row.type.toUpperCase()]));
+    for (const w of wanted) {
+      const type = typeByName.get(w.column);
+      if (type !== undefined && type !== w.sqlType) {
+        throw new StoreError(`column ${w.column} already exists with type ${type}; this study needs ${w.sqlType}`);
+      }
+    }
+  }
+
+  /** Reads the per-study columns and prepares the statements that list them. */
+  private reloadColumns(): void {
+    const info = this.readTableInfo();
+    const layout: EvaluationColumnLayout = { variables: [], metrics: [], constraints: [] };
+    for (const row of info) {
+      if (row.name.startsWith(VARIABLE_PREFIX)) {
+        layout.variables.push({ name: row.name.slice(VARIABLE_PREFIX.length), type: row.type.toUpperCase() === 'TEXT' ? 'text' : 'real' });
+      } else if (row.name.startsWith(METRIC_PREFIX)) {
+        layout.metrics.push(row.name.slice(METRIC_PREFIX.length));
+      } else if (row.name.startsWith(CONSTRAINT_PREFIX)) {
+        layout.constraints.push(row.name.slice(CONSTRAINT_PREFIX.length));
+      }
+    }
+    this.layout = layout;
+    this.knownColumns = new Set(info.map((row) => row.name));
+
+    const dynamicColumns = this.dynamicColumnNames();
+    const insertColumns = ['eval_key', 'settings_hash', 'first_run_id', 'column_set_id', 'violation', 'feasible', 'error', 'eval_seconds', ...dynamicColumns];
+    this.insertEvaluationStatement = this.db.prepare(
+      `INSERT INTO evaluations (${insertColumns.map(quoteIdentifier).join(', ')})
+       VALUES (${insertColumns.map(() => '?').join(', ')}) ON CONFLICT (eval_key) DO NOTHING`,
+    );
+    const selectList = [...EVALUATION_BASE_COLUMNS, ...dynamicColumns].map((name) => `e.${quoteIdentifier(name)}`).join(', ');
+    this.selectMembersStatement = this.db.prepare(
+      `SELECT ${selectList}, g.position AS member_position, g.rank AS member_rank, g.crowding AS member_crowding
+       FROM generation_members g JOIN evaluations e ON e.id = g.evaluation_id
+       WHERE g.run_id = ? AND g.generation = ? ORDER BY g.position`,
+    );
+    this.selectEvaluationsByKeysStatements.clear();
+  }
+
+  private reloadColumnsIfChanged(): void {
+    const info = this.readTableInfo();
+    if (info.length !== this.knownColumns.size || info.some((row) => !this.knownColumns.has(row.name))) this.reloadColumns();
+  }
+
+  /** Runs a read; if it met columns another process added since, reloads the column list and runs it again. */
+  private withFreshColumns<T>(read: () => T): T {
+    try {
+      return read();
+    } catch (error) {
+      if (!(error instanceof StaleColumnsError)) throw error;
+      this.reloadColumns();
+      return read();
+    }
+  }
+
+  private dynamicColumnNames(): string[] {
+    return [
+      ...this.layout.variables.map((v) => VARIABLE_PREFIX + v.name),
+      ...this.layout.metrics.map((m) => METRIC_PREFIX + m),
+      ...this.layout.constraints.map((c) => CONSTRAINT_PREFIX + c),
+    ];
+  }
+
+  private selectEvaluationsByKeys(count: number): Database.Statement<unknown[], EvaluationDbRow> {
+    let statement = this.selectEvaluationsByKeysStatements.get(count);
+    if (statement === undefined) {
+      const selectList = [...EVALUATION_BASE_COLUMNS, ...this.dynamicColumnNames()].map(quoteIdentifier).join(', ');
+      statement = this.db.prepare(
+        `SELECT ${selectList} FROM evaluations WHERE eval_key IN (${new Array<string>(count).fill('?').join(', ')})`,
+      );
+      this.selectEvaluationsByKeysStatements.set(count, statement);
+    }
+    return statement;
+  }
+
+  /** Checks one new evaluation against the known columns and lays out its values for the insert statement. */
+  private prepareEvaluation(
+    evaluation: NewEvaluation,
+    index: number,
+  ): { key: string; settingsHash: string; names: ColumnSetNames; values: unknown[] } {
+    const where = `newEvaluations[${index}] (key ${evaluation.key})`;
+    if (typeof evaluation.key !== 'string' || evaluation.key.length === 0) throw new StoreError(`${where}: key must be a non-empty string`);
+    if (typeof evaluation.settingsHash !== 'string') throw new StoreError(`${where}: settingsHash must be a string`);
+    checkNumber(`${where}: violation`, evaluation.violation);
+
+    const valueByColumn = new Map<string, number | string | null>();
+    const variableTypes = new Map(this.layout.variables.map((v) => [v.name, v.type]));
+    for (const [name, value] of Object.entries(evaluation.variables)) {
+      const type = variableTypes.get(name);
+      if (type === undefined) throw new StoreError(`${where}: variable ${name} has no column; call ensureColumns first`);
+      if (type === 'real' && (typeof value !== 'number' || Number.isNaN(value))) {
+        throw new StoreError(`${where}: variable ${name} must be a number, got ${String(value)}`);
+      }
+      if (type === 'text' && typeof value !== 'string') throw new StoreError(`${where}: variable ${name} must be a string, got ${String(value)}`);
+      valueByColumn.set(VARIABLE_PREFIX + name, value);
+    }
+    const addReals = (kind: string, prefix: string, record: Record<string, number | null>): void => {
+      for (const [name, value] of Object.entries(record)) {
+        const column = prefix + name;
+        if (!this.knownColumns.has(column)) throw new StoreError(`${where}: ${kind} ${name} has no column; call ensureColumns first`);
+        if (value !== null && typeof value !== 'number') throw new StoreError(`${where}: ${kind} ${name} must be a number or null, got ${String(value)}`);
+        valueByColumn.set(column, nullableReal(value));
+      }
+    };
+    addReals('metric', METRIC_PREFIX, evaluation.metrics);
+    addReals('constraint', CONSTRAINT_PREFIX, evaluation.constraints);
+
+    const values: unknown[] = [
+      evaluation.violation,
+      evaluation.feasible ? 1 : 0,
+      evaluation.error,
+      evaluation.evalSeconds === null ? null : nullableReal(evaluation.evalSeconds),
+    ];
+    for (const column of this.dynamicColumnNames()) values.push(valueByColumn.get(column) ?? null);
+    return {
+      key: evaluation.key,
+      settingsHash: evaluation.settingsHash,
+      names: {
+        variables: Object.keys(evaluation.variables).sort(),
+        metrics: Object.keys(evaluation.metrics).sort(),
+        constraints: Object.keys(evaluation.constraints).sort(),
+      },
+      values,
+    };
+  }
+
+  /** Inserts (or finds) a column set inside the caller's transaction and returns its id. */
+  private storeColumnSet(names: ColumnSetNames): number {
+    const variables = JSON.stringify(names.variables);
+    const metrics = JSON.stringify(names.metrics);
+    const constraints = JSON.stringify(names.constraints);
+    this.insertColumnSetStatement.run(variables, metrics, constraints);
+    const row = this.selectColumnSetIdStatement.get(variables, metrics, constraints);
+    if (row === undefined) throw new StoreError('column set was neither inserted nor found');
+    return row.id;
+  }
+
+  private columnSetNames(id: number): ColumnSetNames {
+    let names = this.columnSetById.get(id);
+    if (names === undefined) {
+      const row = this.selectColumnSetStatement.get(id);
+      if (row === undefined) throw new StoreError(`column set ${id} does not exist`);
+      names = {
+        variables: JSON.parse(row.variables) as string[],
+        metrics: JSON.parse(row.metrics) as string[],
+        constraints: JSON.parse(row.constraints) as string[],
+      };
+      this.columnSetById.set(id, names);
+      this.columnSetIdBySignature.set(columnSetSignature(names), id);
+    }
+    return names;
+  }
+
+  private decodeEvaluation(row: EvaluationDbRow): StoredEvaluation {
+    const names = this.columnSetNames(row['column_set_id'] as number);
+    const read = (column: string): unknown => {
+      if (!(column in row)) throw new StaleColumnsError(`column ${column} is not in this connection's column list of evaluations`);
+      return row[column];
+    };
+    const variables: Record<string, number | string> = {};
+    for (const name of names.variables) {
+      const value = read(VARIABLE_PREFIX + name);
+      if (typeof value !== 'number' && typeof value !== 'string') {
+        throw new StoreError(`evaluation ${String(row['id'])}: variable ${name} is missing`);
+      }
+      variables[name] = value;
+    }
+    const metrics: Record<string, number | null> = {};
+    for (const name of names.metrics) metrics[name] = read(METRIC_PREFIX + name) as number | null;
+    const constraints: Record<string, number | null> = {};
+    for (const name of names.constraints) constraints[name] = read(CONSTRAINT_PREFIX + name) as number | null;
+    return {
+      id: row['id'] as number,
+      key: row['eval_key'] as string,
+      settingsHash: row['settings_hash'] as string,
+      firstRunId: row['first_run_id'] as number,
+      variables,
+      metrics,
+      constraints,
+      violation: row['violation'] as number,
+      feasible: row['feasible'] === 1,
+      error: row['error'] as string | null,
+      evalSeconds: row['eval_seconds'] as number | null,
+    };
+  }
+
+  /**
+   * Recreates the `results` view: every evaluations column, with v_/m_/c_
+   * columns named without their prefix unless that name is a real column of
+   * evaluations or already used by an earlier column (table order), in which
+   * case the prefixed name is kept.
+   */
+  private recreateResultsView(): void {
+    const info = this.readTableInfo();
+    const realNames = new Set(info.map((row) => row.name));
+    const used = new Set<string>();
+    const selectItems: string[] = [];
+    for (const row of info) {
+      if (row.name === 'column_set_id') continue;
+      let friendly = row.name;
+      const prefix = [VARIABLE_PREFIX, METRIC_PREFIX, CONSTRAINT_PREFIX].find((p) => row.name.startsWith(p));
+      if (prefix !== undefined) {
+        const stripped = row.name.slice(prefix.length);
+        if (!realNames.has(stripped) && !used.has(stripped)) friendly = stripped;
+      }
+      used.add(friendly);
+      selectItems.push(friendly === row.name ? quoteIdentifier(row.name) : `${quoteIdentifier(row.name)} AS ${quoteIdentifier(friendly)}`);
+    }
+    this.db.exec('DROP VIEW IF EXISTS results');
+    this.db.exec(`CREATE VIEW results AS SELECT ${selectItems.join(', ')} FROM evaluations`);
+  }
+}

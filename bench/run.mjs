@@ -1,0 +1,49 @@
+// loopsmith benchmarks: figures only, no pass/fail (targets are printed beside the figures).
+// Run with: npm run bench   (builds first). Options: --quick (smaller sizes, for a smoke check).
+import { mkdtempSync, rmSync } from 'node:fs';
+import { availableParallelism, cpus, tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { Evaluator, loadStudyFile, runOptimization } from '../dist/index.js';
+
+const quick = process.argv.includes('--quick');
+const study = loadStudyFile(new URL('../studies/parcel-sorter.yaml', import.meta.url).pathname);
+const line = (s) => process.stdout.write(s + '\n');
+
+line(`loopsmith bench — node ${process.version}, ${availableParallelism()} cores (${cpus()[0]?.model ?? 'unknown cpu'})${quick ? ', quick mode' : ''}`);
+
+// 1. Single-thread design evaluations per second (the hot path), demo study, baseline-like designs.
+{
+  const evaluator = new Evaluator(study.study);
+  const vars = evaluator.variables;
+  const designs = [];
+  let seed = 12345;
+  const rand = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+  for (let k = 0; k < 200; k++) designs.push(Float64Array.from(vars.map((v) => v.min + rand() * (v.max - v.min))));
+  for (let k = 0; k < 50; k++) evaluator.evaluate(designs[k]); // warm-up
+  const count = quick ? 400 : 2000;
+  const t0 = performance.now();
+  for (let k = 0; k < count; k++) evaluator.evaluate(designs[k % designs.length]);
+  const seconds = (performance.now() - t0) / 1000;
+  line(`single thread: ${(count / seconds).toFixed(0)} design evaluations/s (${((seconds / count) * 1000).toFixed(2)} ms each; grid ${study.study.evaluation.gridCells} cells, task samples ${study.study.evaluation.taskSamples})`);
+}
+
+// 2. Demo study end to end with SQLite writes: population 100 × 250 generations = 25,000 evaluations.
+async function endToEnd(workers, population, generations) {
+  const dir = mkdtempSync(join(tmpdir(), 'loopsmith-bench-'));
+  try {
+    const t0 = performance.now();
+    const summary = await runOptimization(study, { dbPath: join(dir, 'bench.db'), workers, population, generations, seed: 1 });
+    return { seconds: (performance.now() - t0) / 1000, evaluations: summary.newEvaluations };
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+const population = 100;
+const generations = quick ? 20 : 250;
+const two = await endToEnd(2, population, generations);
+line(`end to end, 2 workers: ${two.evaluations} new evaluations (${population} × ${generations}) with SQLite writes in ${two.seconds.toFixed(1)} s = ${(two.evaluations / two.seconds).toFixed(0)} evaluations/s  [target ≤ 60 s for 25,000]`);
+const one = await endToEnd(1, population, generations);
+line(`end to end, 1 worker:  ${one.evaluations} new evaluations in ${one.seconds.toFixed(1)} s = ${(one.evaluations / one.seconds).toFixed(0)} evaluations/s`);
+const efficiency = (one.seconds / one.evaluations) / (2 * (two.seconds / two.evaluations));
+line(`scaling 1 → 2 workers: ${(efficiency * 100).toFixed(0)} % parallel efficiency  [target ≥ 80 %]`);

@@ -1,6 +1,8 @@
 /**
- * Pareto front of a stored run: the feasible, non-dominated designs among the final population of an
- * optimization run, or among every design of a sweep, by the objectives of the run's study.
+ * Pareto front of a stored run: the feasible, non-dominated designs among every design that was a
+ * member of any generation of the run (all populations of an optimization, every chunk of a sweep),
+ * by the objectives of the run's study. Taking every generation, not only the last population, keeps
+ * good designs that the population's fixed size pushed out.
  */
 import { Store, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
@@ -41,7 +43,7 @@ export function runFront(dbPath: string, runId?: number): FrontResult {
     const { study } = parseStudyText(studyRow.fileText, `${dbPath} (study of run ${run.id})`);
     const last = store.lastGeneration(run.id);
     if (last === undefined) return { runId: run.id, kind: run.kind, objectives: study.objectives, designs: [] };
-    const generations = run.kind === 'sweep' ? Array.from({ length: last + 1 }, (_, g) => g) : [last];
+    const generations = Array.from({ length: last + 1 }, (_, g) => g);
     const byId = new Map<number, StoredEvaluation>();
     for (const g of generations) for (const m of store.generationMembers(run.id, g)) if (m.feasible && m.error === null) byId.set(m.id, m);
     const minimised = (e: StoredEvaluation): number[] =>

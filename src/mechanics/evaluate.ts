@@ -287,14 +287,19 @@ export class Evaluator {
     const task = this.task!;
     const pose = this.pose;
     let covered = 0;
+    let coveredPoints = 0;
     for (let k = 0; k < task.x.length; k++) {
       const x = task.x[k]!;
       const y = task.y[k]!;
       const status = solvePose(model, pose, x, y);
-      if (region >= 0 && this.usableMargin(status) >= 0 && this.grid.regionAt(x, y) === region) covered += task.weight[k]!;
+      if (region >= 0 && this.usableMargin(status) >= 0 && this.grid.regionAt(x, y) === region) {
+        covered += task.weight[k]!;
+        coveredPoints++;
+      }
       this.accumulate(model, status, task.weight[k]!);
     }
-    return Math.min(covered, 1);
+    // Every sample covered is exactly full coverage (the weights' sum carries rounding error).
+    return coveredPoints === task.x.length ? 1 : Math.min(covered, 1);
   }
 
   /** Per-pose metrics over the nodes of the usable region (no task region given). */

@@ -50,9 +50,12 @@ export function generalizedEigen2(
   const detK = k11 * k22 - k12 * k12;
   const beta = k11 * m22 + k22 * m11 - 2 * k12 * m12;
   const disc = Math.sqrt(Math.max(beta * beta - 4 * detM * detK, 0));
-  const large = (beta + disc) / (2 * detM);
-  // Smaller root through the product of roots (detK/detM) avoids cancellation.
-  const small = beta + disc > 0 ? (2 * detK) / (beta + disc) : 0;
+  // Roots (β ± disc)/(2 detM); take the one without cancellation, the other from the product detK/detM.
+  const q = beta >= 0 ? beta + disc : beta - disc;
+  const first = q / (2 * detM);
+  const second = q !== 0 ? (2 * detK) / q : 0;
+  const small = Math.min(first, second);
+  const large = Math.max(first, second);
   out[0] = small;
   out[1] = large;
 }

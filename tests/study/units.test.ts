@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import Ajv from 'ajv';
+import { Ajv } from 'ajv';
 import {
   QUANTITY_KINDS,
   UNIT_PATTERN,
@@ -144,6 +144,14 @@ describe('parseQuantity: named units', () => {
     // derived: 1 lbf*ft = 4.4482216152605 * 0.3048 = 1.3558179483314004 N*m (exact decimal product)
     expect(parse('1 lbf*ft', 'torque')).toBe(Number.parseFloat('1.35581794833140040'));
     expect(parse('1 lbf*in', 'torque')).toBe(Number.parseFloat('0.112984829027616700'));
+  });
+
+  it('units in a denominator are converted with one correct rounding', () => {
+    // derived: 1/0.0254 = 39.37007874015748031496...; 4.4482216152605/0.0254 = 175.1268352464763779527...
+    // (naive floating point gives 175.12683524647636 for the second); 1/0.3048^3 = 35.31466672148859025...
+    expect(parse('1 N/in', 'linearStiffness')).toBe(Number.parseFloat('39.3700787401574803149606299'));
+    expect(parse('1 lbf/in', 'linearStiffness')).toBe(Number.parseFloat('175.126835246476377952755906'));
+    expect(parse('1 kg/ft^3', 'density')).toBe(Number.parseFloat('35.3146667214885902504380104'));
   });
 });
 

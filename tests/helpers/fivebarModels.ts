@@ -117,7 +117,8 @@ export function massiveAsymmetricFiveBar(workingMode: WorkingMode = '+-', assemb
 
 /**
  * Area of the lens where two discs of radii r1, r2 with centres `distance` apart overlap, m².
- * Weisstein, "Circle-Circle Intersection", MathWorld (lens-area formula):
+ * Weisstein, "Circle-Circle Intersection", MathWorld (lens-area formula; written from memory, and it
+ * reproduces the worked example 0.577664 m² checked in evaluate.test.ts):
  * A = r1² acos((d² + r1² − r2²)/(2 d r1)) + r2² acos((d² + r2² − r1²)/(2 d r2))
  *     − ½ √((−d + r1 + r2)(d + r1 − r2)(d − r1 + r2)(d + r1 + r2)).
  * Disjoint discs give 0; a disc inside the other gives the smaller disc's area.

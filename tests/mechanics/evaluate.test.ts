@@ -4,6 +4,7 @@
  * aggregated per-pose metrics recomputed directly with solvePose/poseDynamics.
  */
 import { describe, expect, it } from 'vitest';
+import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { Evaluator } from '../../src/mechanics/evaluate.js';
 import { FiveBarPose, PoseStatus, poseDynamics, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
 import { METRICS, metricIndex } from '../../src/mechanics/metrics.js';
@@ -17,7 +18,7 @@ import {
   type StudyTextParts,
 } from '../helpers/fivebarModels.js';
 
-/** The symmetric design of the worked example in the checks: p = 0.2 m, d = 0.3 m, span 0.15 m. */
+/** The symmetric design of the worked reachable-area example: p = 0.2 m, d = 0.3 m, span 0.15 m. */
 const WORKED_GEOMETRY = symmetricGeometry(0.2, 0.3, 0.15);
 
 /** Masses and a drive that give every metric something to chew on (invented numbers). */
@@ -35,7 +36,7 @@ function evaluateParts(parts: StudyTextParts): { study: Study; metrics: Float64A
   return { study, metrics: new Evaluator(study).evaluate([]).metrics };
 }
 
-/** Usability of one end point by the rule of the mechanics reference §2, written out independently. */
+/** Usability of one end point by the rule in the README ("Workspace and evaluation region"), written out independently. */
 function usableAt(study: Study, model: FiveBarModel, pose: FiveBarPose, x: number, y: number): boolean {
   if (solvePose(model, pose, x, y) !== PoseStatus.Assembled) return false;
   const sinMin = Math.sin(study.evaluation.minTransmissionAngle);
@@ -58,7 +59,7 @@ function* rectangleMidpoints(cx: number, cy: number, width: number, height: numb
 
 describe('reachable area against the closed form (Weisstein, "Circle-Circle Intersection", MathWorld, lens-area formula)', () => {
   it('worked example: symmetric p = 0.2, d = 0.3, span 0.15 → 0.577664 m² (computed from the lens formula)', () => {
-    // The closed form used below reproduces the value of the checks table.
+    // The closed form used below gives 0.577664 m² for this design (computed from the lens formula).
     expect(annulusIntersectionArea(symmetricFiveBar(0.2, 0.3, 0.15))).toBeCloseTo(0.577664, 6);
     const { metrics } = evaluateParts({ geometry: WORKED_GEOMETRY });
     // Derived: within 0.5 % at the default grid resolution.
@@ -215,7 +216,7 @@ describe('drives: metrics and constraints', () => {
     const result = weak.evaluate([]);
     expect(result.feasible).toBe(false);
     const torqueIndex = weak.constraints.findIndex((c) => c.name === 'drive_torque_1');
-    // mechanics reference §6: peak_gravity_torque ≤ η N τ_rated / SF; the margin is normalised by the bound.
+    // README, "Drive limits": peak_gravity_torque ≤ η N τ_rated / SF; the margin is normalised by the bound.
     const bound = (0.9 * 10 * tinyRated) / 1.5;
     expect(weak.constraints[torqueIndex]!.max).toBeCloseTo(bound, 18);
     const torque1 = metric(result.metrics, 'peak_gravity_torque_1');
@@ -272,6 +273,53 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
     expect(metric(metrics, 'peak_gravity_torque')).toBeGreaterThan(0.97 * densePeak);
   });
 
+  it('every other per-pose metric is the worst case over the same task samples (definitions in the README, "Metrics")', () => {
+    const speed = 1.3; // m/s
+    const { study, metrics } = evaluateParts({
+      ...parts,
+      drives: drives(1.2),
+      task: `{ region: { shape: rectangle, centre: [${cx}, ${cy}], width: ${side}, height: ${side} }, speed: ${speed}, acceleration: 5 }`,
+    });
+    const model = modelOfStudy(study);
+    const pose = new FiveBarPose();
+    const peakJointTorque = 0.9 * 10 * 3.6; // η N τ_peak of the drive above, N·m
+    const encoderStep = (2 * Math.PI) / (4096 * 10); // one count at the joint, rad
+    const worst = { invCond: Infinity, sine: Infinity, stiffness: Infinity, frequency: Infinity, accel: Infinity, speed1: 0, speed2: 0, step: 0 };
+    for (let j = 0; j <= 10; j++) {
+      for (let i = 0; i <= 10; i++) {
+        expect(solvePose(model, pose, cx - side / 2 + (side * i) / 10, cy - side / 2 + (side * j) / 10)).toBe(PoseStatus.Assembled);
+        poseDynamics(model, pose);
+        worst.invCond = Math.min(worst.invCond, pose.inverseCondition);
+        worst.sine = Math.min(worst.sine, Math.abs(pose.s1), Math.abs(pose.s2), Math.abs(pose.detA));
+        worst.stiffness = Math.min(worst.stiffness, pose.minStiffness);
+        worst.frequency = Math.min(worst.frequency, pose.frequencyLow);
+        // Rows of D J⁻¹ and of J⁻¹, written out from the matrices.
+        const g = new Matrix([[pose.g11, pose.g12], [pose.g21, pose.g22]]);
+        const dg = new Matrix([[pose.d11, pose.d12], [pose.d12, pose.d22]]).mmul(g);
+        const accel1 = (peakJointTorque - Math.abs(pose.tauG1)) / Math.hypot(dg.get(0, 0), dg.get(0, 1));
+        const accel2 = (peakJointTorque - Math.abs(pose.tauG2)) / Math.hypot(dg.get(1, 0), dg.get(1, 1));
+        worst.accel = Math.min(worst.accel, accel1, accel2);
+        worst.speed1 = Math.max(worst.speed1, speed * Math.hypot(pose.g11, pose.g12));
+        worst.speed2 = Math.max(worst.speed2, speed * Math.hypot(pose.g21, pose.g22));
+        const jacobian = new Matrix([[pose.j11, pose.j12], [pose.j21, pose.j22]]);
+        const stepSingular = new SingularValueDecomposition(jacobian.mul(encoderStep)).diagonal;
+        worst.step = Math.max(worst.step, ...stepSingular);
+      }
+    }
+    const close = (name: string, expected: number): void => {
+      expect(Math.abs(metric(metrics, name) / expected - 1), `${name}: ${metric(metrics, name)} vs ${expected}`).toBeLessThan(1e-9);
+    };
+    close('min_inv_condition', worst.invCond);
+    close('min_transmission_angle', Math.asin(worst.sine));
+    close('min_stiffness', worst.stiffness);
+    close('bandwidth', worst.frequency);
+    close('accel_capability', worst.accel);
+    close('peak_joint_speed_1', worst.speed1);
+    close('peak_joint_speed_2', worst.speed2);
+    close('peak_joint_speed', Math.max(worst.speed1, worst.speed2));
+    close('resolution', worst.step);
+  });
+
   it('gci is the area mean of 1/κ over a rectangular task region', () => {
     const { study, metrics } = evaluateParts({ ...parts, evaluation: '{ task_samples: 12 }' });
     const model = modelOfStudy(study);
@@ -285,7 +333,8 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
       worst = Math.min(worst, pose.inverseCondition);
       count++;
     }
-    // Gosselin & Angeles 1991, J. Mechanical Design 113(3): global conditioning index = ∫ 1/κ dA / ∫ dA.
+    // Gosselin & Angeles 1991, J. Mechanical Design 113(3): global conditioning index = ∫ 1/κ dA / ∫ dA
+    // (from memory).
     // Midpoint rule (200²) vs the engine's trapezoid rule (12²) on a smooth field: both O(h²).
     expect(Math.abs(metric(metrics, 'gci') / (sum / count) - 1)).toBeLessThan(1e-3);
     // The minimum over the samples cannot be below the minimum over the region by much (smooth field).
@@ -330,7 +379,7 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
 
   it('footprint and moving_mass follow their definitions', () => {
     const { metrics } = evaluateParts(parts);
-    // mechanics reference §6: base span plus the longer leg's reach; pivot distance is √(0.14² + 0.02²).
+    // README, "Metrics": pivot distance plus the longer leg's reach; pivot distance is √(0.14² + 0.02²).
     expect(metric(metrics, 'footprint')).toBeCloseTo(Math.hypot(0.14, 0.02) + 0.51, 14);
     // Derived: 0.8 kg/m × (0.2 + 0.22) m + 0.5 kg/m × (0.31 + 0.29) m + 2 × 0.1 + 0.1 kg (payload excluded).
     expect(metric(metrics, 'moving_mass')).toBeCloseTo(0.8 * 0.42 + 0.5 * 0.6 + 0.3, 14);

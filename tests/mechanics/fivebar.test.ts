@@ -135,6 +135,8 @@ describe('isotropic pose of a symmetric five-bar', () => {
 // Singularities
 // ---------------------------------------------------------------------------------------------
 
+// Gosselin & Angeles 1990, "Singularity analysis of closed-loop kinematic chains", IEEE Trans. Robotics
+// and Automation 6(3): the two singularity kinds of closed chains (from memory).
 describe('singularities (Gosselin & Angeles 1990, "Singularity analysis of closed-loop kinematic chains", IEEE Trans. Robotics and Automation 6(3))', () => {
   it('rods collinear: det A → 0 and 1/κ → 0 (type-2, parallel singularity)', () => {
     /*
@@ -489,7 +491,8 @@ function massiveAsymmetricFiveBarGeometry(): { pivot1: [number, number]; pivot2:
 }
 
 // ---------------------------------------------------------------------------------------------
-// Stiffness (mechanics.md §5 model), models built from studies so the section → compliance path runs
+// Stiffness (leg compliance model of the README, "The five-bar model"), models built from studies so
+// the section → compliance path runs
 // ---------------------------------------------------------------------------------------------
 
 describe('stiffness', () => {
@@ -605,6 +608,52 @@ describe('stiffness', () => {
     expectRelative(pose.compliance2, expected, 1e-12);
   });
 
+  it('unequal legs, every source compliant, random poses: c_i = s_i² (p_i²/k_i + p_i³/(3 E I_i)) + (1 − s_i²) p_i/(E A_i) + d_i/(E A_d,i)', () => {
+    // Derived: springs in series add compliances; a unit force along u_i has s_i of it across the
+    // crank (bending, drive) and √(1 − s_i²) along it (stretch), and each displacement projects back
+    // on u_i with the same factor. Cantilever p³/(3 E I): Roark, 7th ed., Table 8.1 case 1a (from
+    // memory); bars L/(E A): Gere & Goodno (from memory).
+    const cranks = [0.2, 0.23] as const;
+    const rods = [0.33, 0.29] as const;
+    const moments = [2e-9, 3.5e-9] as const;
+    const crankAreas = [8e-5, 6e-5] as const;
+    const rodAreas = [5e-5, 4e-5] as const;
+    const stiffnesses = [2100, 3900] as const;
+    const link = (area: number, moment: number | null): string =>
+      `{ mass_per_length: 0, youngs_modulus: ${youngsModulus}, area: ${area}${moment === null ? '' : `, second_moment: ${moment}`} }`;
+    const model = modelOfStudy(
+      studyFromParts({
+        geometry: `{ base_span: 0.12, base_rise: 0.02, crank_1: ${cranks[0]}, rod_1: ${rods[0]}, crank_2: ${cranks[1]}, rod_2: ${rods[1]} }`,
+        mass: `{ crank_1: ${link(crankAreas[0], moments[0])}, crank_2: ${link(crankAreas[1], moments[1])}, rod_1: ${link(rodAreas[0], null)}, rod_2: ${link(rodAreas[1], null)} }`,
+        drives: `{ actuator_1: ${drive(stiffnesses[0])}, actuator_2: ${drive(stiffnesses[1])} }`,
+      }),
+    );
+    const pose = new FiveBarPose();
+    const points = sampleAssembledPoints(model, 20, 808, 0.05);
+    expect(points.length).toBe(20);
+    for (const { x, y } of points) {
+      solvePose(model, pose, x, y);
+      poseDynamics(model, pose);
+      const sines = [pose.s1, pose.s2];
+      const compliances = [pose.compliance1, pose.compliance2];
+      for (const i of [0, 1] as const) {
+        const s2 = sines[i]! ** 2;
+        const expected =
+          s2 * (cranks[i] ** 2 / stiffnesses[i] + cranks[i] ** 3 / (3 * youngsModulus * moments[i])) +
+          (1 - s2) * (cranks[i] / (youngsModulus * crankAreas[i])) +
+          rods[i] / (youngsModulus * rodAreas[i]);
+        expectRelative(compliances[i]!, expected, 1e-12);
+      }
+      // Derived: K_x = Aᵀ diag(1/c_i) A (each leg a spring along its rod).
+      const k1 = 1 / pose.compliance1;
+      const k2 = 1 / pose.compliance2;
+      const scale = k1 + k2;
+      expect(Math.abs(pose.kx11 - (k1 * pose.u1x ** 2 + k2 * pose.u2x ** 2))).toBeLessThan(1e-12 * scale);
+      expect(Math.abs(pose.kx12 - (k1 * pose.u1x * pose.u1y + k2 * pose.u2x * pose.u2y))).toBeLessThan(1e-12 * scale);
+      expect(Math.abs(pose.kx22 - (k1 * pose.u1y ** 2 + k2 * pose.u2y ** 2))).toBeLessThan(1e-12 * scale);
+    }
+  });
+
   it('rigid links: K_x = J⁻ᵀ K_θ J⁻¹ with K_θ = diag(k_1, k_2) at random poses (derived: c_i = s_i² p_i²/k_i)', () => {
     const model = modelOfStudy(
       studyFromParts({
@@ -667,7 +716,7 @@ describe('spring–inertia', () => {
         drives: `{ actuator_1: ${drive(ratio1, rotor1, k1)}, actuator_2: ${drive(ratio2, rotor2, k2)} }`,
       }),
     );
-    // Uniform bar about its end m L²/3 (Meriam & Kraige, from memory) plus reflected rotor N² J (mechanics.md §3).
+    // Uniform bar about its end m L²/3 (Meriam & Kraige, from memory) plus reflected rotor N² J (README, "The five-bar model").
     const inertia1 = (massPerLength * crank1 ** 3) / 3 + ratio1 ** 2 * rotor1;
     const inertia2 = (massPerLength * crank2 ** 3) / 3 + ratio2 ** 2 * rotor2;
     const hz = [Math.sqrt(k1 / inertia1), Math.sqrt(k2 / inertia2)].map((w) => w / (2 * Math.PI)).sort((a, b) => a - b);

@@ -122,7 +122,7 @@ describe('MarginGrid', () => {
     grid.layout(cx - radius, cx + radius, cy - radius, cy + radius, 100);
     fillField(grid, discMargin(cx, cy, radius));
     const area = grid.positiveArea(grid.values);
-    // Area of a disc π R² (common knowledge); linear interpolation cuts chords, so the estimate is
+    // Area of a disc π R² (elementary geometry, no source); linear interpolation cuts chords, so the estimate is
     // slightly low, O(h²) (derived).
     expect(Math.abs(area / (Math.PI * radius ** 2) - 1)).toBeLessThan(1e-3);
     expect(grid.labelRegions()).toBe(1);
@@ -188,7 +188,7 @@ describe('MarginGrid', () => {
     expect(smallLabel).toBeGreaterThanOrEqual(0);
     expect(bigLabel).not.toBe(smallLabel);
     expect(grid.largestRegion()).toBe(bigLabel);
-    // Area of each disc π R² (common knowledge), to the grid's O(h²) accuracy.
+    // Area of each disc π R² (elementary geometry, no source), to the grid's O(h²) accuracy.
     expect(Math.abs(grid.regionArea(bigLabel) / (Math.PI * big.r ** 2) - 1)).toBeLessThan(5e-3);
     expect(Math.abs(grid.regionArea(smallLabel) / (Math.PI * small.r ** 2) - 1)).toBeLessThan(5e-3);
     expect(grid.regionArea(bigLabel) + grid.regionArea(smallLabel)).toBeCloseTo(grid.positiveArea(grid.values), 12);
@@ -226,7 +226,7 @@ describe('MarginGrid', () => {
     });
     expect(grid.labelRegions()).toBe(1);
     const region = grid.largestRegion();
-    // Area of an annulus π (R² − r²) (common knowledge).
+    // Area of an annulus π (R² − r²) (elementary geometry, no source).
     expect(Math.abs(grid.regionArea(region) / (Math.PI * (outer ** 2 - inner ** 2)) - 1)).toBeLessThan(2e-3);
     // Derived: the widest circle in the band has diameter R − r.
     expect(Math.abs(grid.inscribedRadius(region) - (outer - inner) / 2)).toBeLessThan(grid.h);

@@ -15,6 +15,8 @@ import { parseQuantity, UnitError } from '../study/units.js';
 import { FIVE_BAR_PARAMETERS, type Study } from '../study/types.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';
 import { registerStoreCommands } from './storeCommands.js';
+import { registerReportCommands } from './reportCommands.js';
+import { registerExportCommands } from './exportCommands.js';
 
 /** An error whose message is for the user as it stands. */
 export class UserError extends Error {
@@ -192,6 +194,8 @@ export function buildCli(argv: readonly string[]): Argv {
       },
     );
   cli = registerStoreCommands(cli);
+  cli = registerReportCommands(cli);
+  cli = registerExportCommands(cli);
   return cli
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()

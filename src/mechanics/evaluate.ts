@@ -164,6 +164,29 @@ class RegionAggregate {
   }
 }
 
+/**
+ * Usability margin of a solved pose (dimensionless; ≥ 0 when usable): the smallest of
+ * 1/κ − c_min, |s_i| − sin μ_min, σ_a det A − sin μ_min and the joint-limit margin (rad);
+ * −1 when a leg cannot reach. Its zero level is the boundary of the usable workspace.
+ */
+export function usableMargin(pose: FiveBarPose, status: PoseStatus, study: Pick<Study, 'evaluation' | 'assemblyMode'>): number {
+  if (status === PoseStatus.Unreachable) return -1;
+  const e = study.evaluation;
+  const sinMin = Math.sin(e.minTransmissionAngle);
+  const assembly = study.assemblyMode === '+' ? 1 : -1;
+  let m = pose.inverseCondition - e.minInverseCondition;
+  const t1 = Math.abs(pose.s1) - sinMin;
+  const t2 = Math.abs(pose.s2) - sinMin;
+  const t3 = assembly * pose.detA - sinMin;
+  if (t1 < m) m = t1;
+  if (t2 < m) m = t2;
+  if (t3 < m) m = t3;
+  if (pose.jointMargin < m) m = pose.jointMargin;
+  // Zero-threshold settings still exclude exact singularities and the wrong assembly mode.
+  if (m === 0 && (pose.inverseCondition === 0 || assembly * pose.detA <= 0)) m = -1e-12;
+  return m;
+}
+
 export class Evaluator {
   readonly study: Study;
   readonly variables: readonly DesignVariable[];
@@ -197,24 +220,9 @@ export class Evaluator {
     return buildFiveBarModel(this.study, resolveDesign(this.study, this.variables, design));
   }
 
-  /** Usability margin of the pose last solved: ≥ 0 when usable (dimensionless; see README). */
+  /** Usability margin of the pose last solved: ≥ 0 when usable (see usableMargin). */
   private usableMargin(status: PoseStatus): number {
-    const pose = this.pose;
-    if (status === PoseStatus.Unreachable) return -1;
-    const e = this.study.evaluation;
-    const sinMin = Math.sin(e.minTransmissionAngle);
-    const assembly = this.study.assemblyMode === '+' ? 1 : -1;
-    let m = pose.inverseCondition - e.minInverseCondition;
-    const t1 = Math.abs(pose.s1) - sinMin;
-    const t2 = Math.abs(pose.s2) - sinMin;
-    const t3 = assembly * pose.detA - sinMin;
-    if (t1 < m) m = t1;
-    if (t2 < m) m = t2;
-    if (t3 < m) m = t3;
-    if (pose.jointMargin < m) m = pose.jointMargin;
-    // Zero-threshold settings still exclude exact singularities and the wrong assembly mode.
-    if (m === 0 && (pose.inverseCondition === 0 || assembly * pose.detA <= 0)) m = -1e-12;
-    return m;
+    return usableMargin(this.pose, status, this.study);
   }
 
   evaluate(design: ArrayLike<number>): DesignEvaluation {

@@ -4,7 +4,7 @@
  * immutable FiveBarModel.
  */
 import type { FiveBarModel, WorkingMode } from './fivebar.js';
-import { FIVE_BAR_PARAMETERS, type FiveBarParameter, type Study } from '../study/types.js';
+import { FIVE_BAR_PARAMETERS, type DriveSpec, type FiveBarParameter, type Study } from '../study/types.js';
 
 export type DesignVariable =
   | { readonly name: FiveBarParameter; readonly kind: 'real'; readonly min: number; readonly max: number }
@@ -24,6 +24,8 @@ export function designVariables(study: Study): DesignVariable[] {
 export interface ResolvedDesign {
   readonly geometry: Readonly<Record<FiveBarParameter, number>>;
   readonly workingMode: WorkingMode;
+  /** Drives of this design (per actuator), or null when the study gives none. */
+  readonly drives: readonly [DriveSpec, DriveSpec] | null;
 }
 
 /** Full geometry and working mode of a design vector. */
@@ -42,7 +44,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     const spec = study.geometry[name];
     if (spec.kind === 'tied') geometry[name] = geometry[spec.to];
   }
-  return { geometry, workingMode };
+  return { geometry, workingMode, drives: study.drives };
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
@@ -126,7 +128,7 @@ export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveB
   const crankFirstMoment = [(crankMass[0] * crank[0]) / 2 + hub * crank[0], (crankMass[1] * crank[1]) / 2 + hub * crank[1]] as const;
   const rodMass = [rods[0].massPerLength * rod[0], rods[1].massPerLength * rod[1]] as const;
 
-  const drives = study.drives;
+  const drives = resolved.drives;
   const reflected = (i: 0 | 1): number => (drives ? drives[i].gearRatio ** 2 * drives[i].rotorInertia + drives[i].gearInertia : 0);
   const jointStiffness = (i: 0 | 1): number => (drives ? drives[i].jointStiffness : Infinity);
   const bending = (i: 0 | 1): number =>

@@ -35,6 +35,10 @@ export function chooseDesign(study: Study, overrides: readonly string[] = []): D
     if (eq <= 0) throw new DesignError(`--set ${raw}: expected NAME=VALUE, for example --set crank_1=320mm`);
     const name = raw.slice(0, eq).trim();
     const text = raw.slice(eq + 1).trim();
+    if (name === 'drive' || name === 'drive_1' || name === 'drive_2') {
+      values[name] = text;
+      continue;
+    }
     if (name === 'working_mode') {
       if (!(WORKING_MODES as readonly string[]).includes(text)) throw new DesignError(`--set working_mode: expected one of ${WORKING_MODES.join(', ')}`);
       if (study.workingModes.length > 1) values[name] = text;
@@ -42,7 +46,7 @@ export function chooseDesign(study: Study, overrides: readonly string[] = []): D
       continue;
     }
     if (!(FIVE_BAR_PARAMETERS as readonly string[]).includes(name)) {
-      throw new DesignError(`--set ${name}: unknown name (expected one of ${FIVE_BAR_PARAMETERS.join(', ')}, working_mode)`);
+      throw new DesignError(`--set ${name}: unknown name (expected one of ${FIVE_BAR_PARAMETERS.join(', ')}, working_mode, drive, drive_1, drive_2)`);
     }
     let value: number;
     try {
@@ -109,8 +113,8 @@ export function evaluationReport(evaluator: Evaluator, choice: DesignChoice, res
         name: c.name,
         metric: c.metric,
         value: Number.isNaN(v) ? null : v,
-        min: c.min ?? null,
-        max: c.max ?? null,
+        min: Number.isNaN(result.constraintMin[k]!) ? null : result.constraintMin[k]!,
+        max: Number.isNaN(result.constraintMax[k]!) ? null : result.constraintMax[k]!,
         margin: result.margins[k]!,
         satisfied: result.margins[k]! >= 0,
         origin: c.origin,
@@ -133,8 +137,9 @@ export function evaluateDesign(study: Study, overrides: readonly string[] = []):
 export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
+  const resolved = evaluator.resolve(choice.design);
   const model = evaluator.model(choice.design);
-  return { report: { design: choice.values, ...probePose(choice.study, model, x, y) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probePose(choice.study, model, x, y, resolved.drives) }, warnings: choice.warnings };
 }
 
 export { DesignError };

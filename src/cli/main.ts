@@ -7,7 +7,7 @@ import { fileURLToPath } from 'node:url';
 import yargs, { type Argv } from 'yargs';
 import { DesignError, evaluateDesign, probeDesign } from '../api/design.js';
 import { designVariables } from '../mechanics/designSpace.js';
-import { constraintDefinitions } from '../mechanics/evaluate.js';
+import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.js';
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
 import { loadStudyFile, StudyError } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
@@ -66,9 +66,12 @@ function studySummary(study: Study): string {
     study.drives.forEach((d, i) =>
       lines.push(`drive ${i + 1}: ${d.label}: ratio ${d.gearRatio}, η ${d.efficiency}, rated ${formatValue(d.ratedTorque, 'torque')}, peak ${formatValue(d.peakTorque, 'torque')}, max ${formatValue(d.maxSpeed, 'angularSpeed')} (motor side)`),
     );
+  } else if (study.driveChoice.kind !== 'fixed') {
+    lines.push(`drives: chosen by the optimizer (${study.driveChoice.kind === 'shared' ? 'one option for both actuators' : 'one option per actuator'}) from ${study.driveChoice.options.map((o) => o.label).join(', ')}`);
   } else {
     lines.push('drives: none given (acceleration capability and resolution are not computed; no drive limits)');
   }
+  if (study.driveCatalogue) lines.push(`drive catalogue: ${study.driveCatalogue.path} (${study.driveCatalogue.options.length} options)`);
   const r = study.task.region;
   if (r) {
     lines.push(
@@ -85,7 +88,12 @@ function studySummary(study: Study): string {
   lines.push('', table(['objective', 'sense', 'meaning'], study.objectives.map((o) => [o.metric, o.sense, metricInfo(o.metric)!.description])));
   const cons = constraintDefinitions(study);
   if (cons.length > 0) {
-    lines.push('', table(['constraint', 'metric', 'min', 'max', 'from'], cons.map((c) => [c.name, c.metric, formatMetric(c.metric, c.min), formatMetric(c.metric, c.max), c.origin])));
+    const drives = study.drives;
+    const bound = (c: (typeof cons)[number], side: 'min' | 'max'): string => {
+      if (c.driveLimit && !drives) return side === 'max' ? 'per drive' : '—';
+      return formatMetric(c.metric, constraintBounds(c, study, drives)[side]);
+    };
+    lines.push('', table(['constraint', 'metric', 'min', 'max', 'from'], cons.map((c) => [c.name, c.metric, bound(c, 'min'), bound(c, 'max'), c.origin])));
   }
   lines.push('', `optimizer: population ${study.optimizer.population}, generations ${study.optimizer.generations}, seed ${study.optimizer.seed}`);
   return lines.join('\n');

@@ -8,9 +8,14 @@ import { FIVE_BAR_PARAMETERS, type DriveSpec, type FiveBarParameter, type Study 
 
 export type DesignVariable =
   | { readonly name: FiveBarParameter; readonly kind: 'real'; readonly min: number; readonly max: number }
-  | { readonly name: 'working_mode'; readonly kind: 'categorical'; readonly choices: readonly WorkingMode[] };
+  | { readonly name: 'working_mode'; readonly kind: 'categorical'; readonly choices: readonly WorkingMode[] }
+  | { readonly name: 'drive' | 'drive_1' | 'drive_2'; readonly kind: 'categorical'; readonly choices: readonly string[]; readonly options: readonly DriveSpec[] };
 
-/** The study's design variables, in design-vector order: geometry variables, then the working mode when it is a choice. */
+/**
+ * The study's design variables, in design-vector order: geometry variables, the working mode when it
+ * is a choice, then the drive choice (`drive`, or `drive_1` and `drive_2`) when the optimizer picks
+ * catalogue options.
+ */
 export function designVariables(study: Study): DesignVariable[] {
   const out: DesignVariable[] = [];
   for (const name of FIVE_BAR_PARAMETERS) {
@@ -18,6 +23,12 @@ export function designVariables(study: Study): DesignVariable[] {
     if (spec.kind === 'variable') out.push({ name, kind: 'real', min: spec.min, max: spec.max });
   }
   if (study.workingModes.length > 1) out.push({ name: 'working_mode', kind: 'categorical', choices: study.workingModes });
+  const choice = study.driveChoice;
+  if (choice.kind !== 'fixed') {
+    const labels = choice.options.map((o) => o.label);
+    const names = choice.kind === 'shared' ? (['drive'] as const) : (['drive_1', 'drive_2'] as const);
+    for (const name of names) out.push({ name, kind: 'categorical', choices: labels, options: choice.options });
+  }
   return out;
 }
 
@@ -32,10 +43,18 @@ export interface ResolvedDesign {
 export function resolveDesign(study: Study, variables: readonly DesignVariable[], design: ArrayLike<number>): ResolvedDesign {
   const geometry = {} as Record<FiveBarParameter, number>;
   let workingMode = study.workingModes[0]!;
+  let drives = study.drives;
+  let drive1: DriveSpec | undefined;
+  let drive2: DriveSpec | undefined;
   variables.forEach((v, k) => {
+    const index = Math.round(design[k]!);
     if (v.kind === 'real') geometry[v.name] = design[k]!;
-    else workingMode = v.choices[Math.round(design[k]!)]!;
+    else if (v.name === 'working_mode') workingMode = v.choices[index]!;
+    else if (v.name === 'drive') drive1 = drive2 = v.options[index]!;
+    else if (v.name === 'drive_1') drive1 = v.options[index]!;
+    else drive2 = v.options[index]!;
   });
+  if (drive1 && drive2) drives = [drive1, drive2];
   for (const name of FIVE_BAR_PARAMETERS) {
     const spec = study.geometry[name];
     if (spec.kind === 'fixed') geometry[name] = spec.value;
@@ -44,7 +63,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     const spec = study.geometry[name];
     if (spec.kind === 'tied') geometry[name] = geometry[spec.to];
   }
-  return { geometry, workingMode, drives: study.drives };
+  return { geometry, workingMode, drives };
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
@@ -75,7 +94,7 @@ export function designFromValues(
     const value = values[v.name];
     if (value === undefined) throw new DesignError(`no value for design variable "${v.name}" (give it in the baseline or with --set ${v.name}=...)`);
     if (v.kind === 'categorical') {
-      const index = v.choices.indexOf(value as WorkingMode);
+      const index = (v.choices as readonly string[]).indexOf(String(value));
       if (index < 0) throw new DesignError(`${v.name}: "${value}" is not one of ${v.choices.join(', ')}`);
       design[k] = index;
     } else {

@@ -8,8 +8,8 @@
 import { FiveBarPose, PoseStatus, footprint, poseDynamics, solvePose, type FiveBarModel } from './fivebar.js';
 import { MarginGrid } from './grid.js';
 import { METRICS, metricIndex } from './metrics.js';
-import { buildFiveBarModel, designVariables, movingMass, resolveDesign, type DesignVariable } from './designSpace.js';
-import type { Study, TaskRegion } from '../study/types.js';
+import { buildFiveBarModel, designVariables, movingMass, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
+import type { DriveSpec, Study, TaskRegion } from '../study/types.js';
 
 export interface ConstraintDefinition {
   /** Column-safe name, e.g. "task_coverage" or "drive_torque_1". */
@@ -20,9 +20,28 @@ export interface ConstraintDefinition {
   readonly max?: number;
   /** Where the bound comes from, for messages. */
   readonly origin: 'study' | 'drive';
+  /** Drive limits: the bound follows from the design's drive on this actuator (0 or 1). */
+  readonly driveLimit?: { readonly kind: 'torque' | 'speed'; readonly actuator: 0 | 1 };
+}
+
+/** Bounds of a constraint for a design with the given drives. */
+export function constraintBounds(
+  def: ConstraintDefinition,
+  study: Pick<Study, 'torqueSafetyFactor'>,
+  drives: readonly [DriveSpec, DriveSpec] | null,
+): { min?: number; max?: number } {
+  if (!def.driveLimit) return { ...(def.min !== undefined ? { min: def.min } : {}), ...(def.max !== undefined ? { max: def.max } : {}) };
+  if (!drives) return {};
+  const drive = drives[def.driveLimit.actuator];
+  return def.driveLimit.kind === 'torque'
+    ? { max: (drive.efficiency * drive.gearRatio * drive.ratedTorque) / study.torqueSafetyFactor }
+    : { max: drive.maxSpeed / drive.gearRatio };
 }
 
 export interface DesignEvaluation {
+  /** Bounds used per constraint (NaN = none); drive limits follow the design's drives. */
+  readonly constraintMin: Float64Array;
+  readonly constraintMax: Float64Array;
   /** Metric values in METRICS order (SI). NaN = not available for this study (e.g. no drives given). */
   readonly metrics: Float64Array;
   /** Signed normalised margin per constraint: ≥ 0 satisfied, < 0 violated (by that fraction of the bound). */
@@ -47,20 +66,20 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     if (c.max !== undefined) def.max = c.max;
     out.push(def);
   }
-  if (study.drives) {
-    study.drives.forEach((drive, i) => {
+  if (study.drives || study.driveChoice.kind !== 'fixed') {
+    for (const i of [0, 1] as const) {
       const n = i + 1;
       out.push({
         name: `drive_torque_${n}`, metric: `peak_gravity_torque_${n}`, metricIndex: metricIndex(`peak_gravity_torque_${n}`),
-        max: (drive.efficiency * drive.gearRatio * drive.ratedTorque) / study.torqueSafetyFactor, origin: 'drive',
+        origin: 'drive', driveLimit: { kind: 'torque', actuator: i },
       });
       if (study.task.speed > 0) {
         out.push({
           name: `drive_speed_${n}`, metric: `peak_joint_speed_${n}`, metricIndex: metricIndex(`peak_joint_speed_${n}`),
-          max: drive.maxSpeed / drive.gearRatio, origin: 'drive',
+          origin: 'drive', driveLimit: { kind: 'speed', actuator: i },
         });
       }
-    });
+    }
     if (study.task.acceleration > 0) {
       out.push({ name: 'drive_acceleration', metric: 'accel_capability', metricIndex: metricIndex('accel_capability'), min: study.task.acceleration, origin: 'drive' });
     }
@@ -71,11 +90,11 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
 /** Violations beyond this many times the bound count as this much (keeps infinite metrics comparable). */
 const MAX_NORMALISED_VIOLATION = 1e6;
 
-export function constraintMargin(def: ConstraintDefinition, value: number): number {
+export function constraintMargin(bounds: { min?: number; max?: number }, value: number): number {
   if (Number.isNaN(value)) return -MAX_NORMALISED_VIOLATION;
   let margin = Infinity;
-  if (def.min !== undefined) margin = Math.min(margin, (value - def.min) / (Math.abs(def.min) || 1));
-  if (def.max !== undefined) margin = Math.min(margin, (def.max - value) / (Math.abs(def.max) || 1));
+  if (bounds.min !== undefined) margin = Math.min(margin, (value - bounds.min) / (Math.abs(bounds.min) || 1));
+  if (bounds.max !== undefined) margin = Math.min(margin, (bounds.max - value) / (Math.abs(bounds.max) || 1));
   return Math.max(margin, -MAX_NORMALISED_VIOLATION);
 }
 
@@ -195,9 +214,9 @@ export class Evaluator {
   private readonly pose = new FiveBarPose();
   private readonly task: { x: Float64Array; y: Float64Array; weight: Float64Array } | null;
   private readonly aggregate = new RegionAggregate();
-  /** Joint torque limits for acceleration (η N τ_peak), N·m, and joint step per encoder count, rad. */
-  private readonly peakJointTorque: readonly [number, number] | null;
-  private readonly encoderStep: readonly [number, number] | null;
+  /** Joint torque limits for acceleration (η N τ_peak), N·m, and joint step per encoder count, rad, of the design in hand. */
+  private peakJointTorque: readonly [number, number] | null = null;
+  private encoderStep: readonly [number, number] | null = null;
 
   constructor(study: Study) {
     this.study = study;
@@ -205,7 +224,19 @@ export class Evaluator {
     this.constraints = constraintDefinitions(study);
     this.grid = new MarginGrid(study.evaluation.gridCells + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
-    const drives = study.drives;
+  }
+
+  /** Model of a design vector. */
+  model(design: ArrayLike<number>): FiveBarModel {
+    return buildFiveBarModel(this.study, resolveDesign(this.study, this.variables, design));
+  }
+
+  /** Geometry, working mode and drives of a design vector. */
+  resolve(design: ArrayLike<number>): ResolvedDesign {
+    return resolveDesign(this.study, this.variables, design);
+  }
+
+  private useDrives(drives: readonly [DriveSpec, DriveSpec] | null): void {
     this.peakJointTorque = drives
       ? [drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].peakTorque]
       : null;
@@ -215,29 +246,36 @@ export class Evaluator {
         : null;
   }
 
-  /** Model of a design vector. */
-  model(design: ArrayLike<number>): FiveBarModel {
-    return buildFiveBarModel(this.study, resolveDesign(this.study, this.variables, design));
-  }
-
   /** Usability margin of the pose last solved: ≥ 0 when usable (see usableMargin). */
   private usableMargin(status: PoseStatus): number {
     return usableMargin(this.pose, status, this.study);
   }
 
   evaluate(design: ArrayLike<number>): DesignEvaluation {
-    const model = this.model(design);
+    const resolved = this.resolve(design);
+    const model = buildFiveBarModel(this.study, resolved);
+    this.useDrives(resolved.drives);
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
-    this.finishMetrics(model, design, metrics);
-    const margins = new Float64Array(this.constraints.length);
+    this.finishMetrics(model, resolved, metrics);
+    return this.withConstraints(metrics, resolved);
+  }
+
+  private withConstraints(metrics: Float64Array, resolved: ResolvedDesign): DesignEvaluation {
+    const n = this.constraints.length;
+    const margins = new Float64Array(n);
+    const constraintMin = new Float64Array(n).fill(Number.NaN);
+    const constraintMax = new Float64Array(n).fill(Number.NaN);
     let violation = 0;
     this.constraints.forEach((c, k) => {
-      const margin = constraintMargin(c, metrics[c.metricIndex]!);
+      const bounds = constraintBounds(c, this.study, resolved.drives);
+      if (bounds.min !== undefined) constraintMin[k] = bounds.min;
+      if (bounds.max !== undefined) constraintMax[k] = bounds.max;
+      const margin = constraintMargin(bounds, metrics[c.metricIndex]!);
       margins[k] = margin;
       if (margin < 0) violation -= margin;
     });
-    return { metrics, margins, violation, feasible: violation === 0 };
+    return { metrics, margins, constraintMin, constraintMax, violation, feasible: violation === 0 };
   }
 
   private analyseWorkspace(model: FiveBarModel, metrics: Float64Array): void {
@@ -376,7 +414,7 @@ export class Evaluator {
     }
   }
 
-  private finishMetrics(model: FiveBarModel, design: ArrayLike<number>, metrics: Float64Array): void {
+  private finishMetrics(model: FiveBarModel, resolved: ResolvedDesign, metrics: Float64Array): void {
     const agg = this.aggregate;
     const empty = agg.weight === 0;
     const worst = (v: number, fallback: number): number => (empty ? fallback : v);
@@ -398,6 +436,6 @@ export class Evaluator {
     }
     metrics[M.resolution] = this.encoderStep ? worst(agg.maxStep, Infinity) : Number.NaN;
     metrics[M.footprint] = footprint(model);
-    metrics[M.movingMass] = movingMass(this.study, resolveDesign(this.study, this.variables, design).geometry);
+    metrics[M.movingMass] = movingMass(this.study, resolved.geometry);
   }
 }

@@ -2,7 +2,7 @@
  * One pose of one design, reported in full: what `loopsmith probe` prints.
  */
 import { FiveBarPose, PoseStatus, poseDynamics, solvePose, type FiveBarModel } from './fivebar.js';
-import type { Study } from '../study/types.js';
+import type { DriveSpec, Study } from '../study/types.js';
 
 export interface PoseReport {
   /** End point, m. */
@@ -38,7 +38,7 @@ export interface PoseReport {
 
 const STATUS_NAMES = ['assembled', 'unreachable', 'outside-joint-limits', 'wrong-assembly-mode'] as const;
 
-export function probePose(study: Study, model: FiveBarModel, x: number, y: number): PoseReport {
+export function probePose(study: Study, model: FiveBarModel, x: number, y: number, drives: readonly [DriveSpec, DriveSpec] | null = study.drives): PoseReport {
   const pose = new FiveBarPose();
   const status = solvePose(model, pose, x, y);
   const base = { point: { x, y }, status: STATUS_NAMES[status] };
@@ -54,7 +54,6 @@ export function probePose(study: Study, model: FiveBarModel, x: number, y: numbe
   };
   if (pose.inverseCondition === 0) return kinematics;
   poseDynamics(model, pose);
-  const drives = study.drives;
   let accel: number | null = null;
   if (drives) {
     const limit1 = drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque;

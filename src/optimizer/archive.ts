@@ -118,7 +118,36 @@ export class ParetoArchive {
       candidate[m] = this.maximize[m] ? -value : value;
     }
 
+    const kept = objectiveCount === 2 ? this.scanTwo() : objectiveCount === 3 ? this.scanThree() : this.scanAny();
+    if (kept < 0) return false;
+    this.entries.length = kept;
+
+    if (this.minimized.length < (kept + 1) * objectiveCount) {
+      const grown = new Float64Array(Math.max(16, 2 * (kept + 1)) * objectiveCount);
+      grown.set(this.minimized.subarray(0, kept * objectiveCount));
+      this.minimized = grown;
+    }
+    this.minimized.set(candidate, kept * objectiveCount);
+    const copy = new Float64Array(design.length);
+    for (let i = 0; i < design.length; i++) copy[i] = design[i]! + 0;
+    this.entries.push({ design: copy, evaluation: sanitized });
+    this.view = undefined;
+    return true;
+  }
+
+  /*
+   * The scans compare the candidate with every member in order. They return -1
+   * as soon as a member weakly dominates the candidate (nothing has been
+   * removed by then, see the top of the file); otherwise they drop the members
+   * the candidate dominates by compacting the survivors to the front, and
+   * return how many survived. One generic version and two unrolled ones for
+   * the common cases of 2 and 3 objectives.
+   */
+
+  private scanAny(): number {
+    const objectiveCount = this.objectiveCount;
     const minimized = this.minimized;
+    const candidate = this.candidate;
     const entries = this.entries;
     const count = entries.length;
     let kept = 0;
@@ -132,29 +161,63 @@ export class ParetoArchive {
         if (member < value) memberBetterSomewhere = true;
         else if (value < member) candidateBetterSomewhere = true;
       }
-      // Member weakly dominates the candidate: reject. Nothing has been removed yet (see top).
-      if (!candidateBetterSomewhere) return false;
-      // Candidate dominates the member: drop it by not copying it down.
+      if (!candidateBetterSomewhere) return -1;
       if (!memberBetterSomewhere) continue;
       if (kept !== i) {
         entries[kept] = entries[i]!;
-        minimized.copyWithin(kept * objectiveCount, offset, offset + objectiveCount);
+        const target = kept * objectiveCount;
+        for (let m = 0; m < objectiveCount; m++) minimized[target + m] = minimized[offset + m]!;
       }
       kept++;
     }
-    entries.length = kept;
+    return kept;
+  }
 
-    if (minimized.length < (kept + 1) * objectiveCount) {
-      const grown = new Float64Array(Math.max(16, 2 * (kept + 1)) * objectiveCount);
-      grown.set(minimized.subarray(0, kept * objectiveCount));
-      this.minimized = grown;
+  private scanTwo(): number {
+    const minimized = this.minimized;
+    const c0 = this.candidate[0]!;
+    const c1 = this.candidate[1]!;
+    const entries = this.entries;
+    const count = entries.length;
+    let kept = 0;
+    for (let i = 0; i < count; i++) {
+      const a0 = minimized[2 * i]!;
+      const a1 = minimized[2 * i + 1]!;
+      if (a0 <= c0 && a1 <= c1) return -1;
+      if (c0 <= a0 && c1 <= a1) continue;
+      if (kept !== i) {
+        entries[kept] = entries[i]!;
+        minimized[2 * kept] = a0;
+        minimized[2 * kept + 1] = a1;
+      }
+      kept++;
     }
-    this.minimized.set(candidate, kept * objectiveCount);
-    const copy = new Float64Array(design.length);
-    for (let i = 0; i < design.length; i++) copy[i] = design[i]! + 0;
-    entries.push({ design: copy, evaluation: sanitized });
-    this.view = undefined;
-    return true;
+    return kept;
+  }
+
+  private scanThree(): number {
+    const minimized = this.minimized;
+    const c0 = this.candidate[0]!;
+    const c1 = this.candidate[1]!;
+    const c2 = this.candidate[2]!;
+    const entries = this.entries;
+    const count = entries.length;
+    let kept = 0;
+    for (let i = 0; i < count; i++) {
+      const a0 = minimized[3 * i]!;
+      const a1 = minimized[3 * i + 1]!;
+      const a2 = minimized[3 * i + 2]!;
+      if (a0 <= c0 && a1 <= c1 && a2 <= c2) return -1;
+      if (c0 <= a0 && c1 <= a1 && c2 <= a2) continue;
+      if (kept !== i) {
+        entries[kept] = entries[i]!;
+        minimized[3 * kept] = a0;
+        minimized[3 * kept + 1] = a1;
+        minimized[3 * kept + 2] = a2;
+      }
+      kept++;
+    }
+    return kept;
   }
 
   /** Members in admission order (survivors only). The array is not changed by later offers. */

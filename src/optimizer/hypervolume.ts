@@ -4,7 +4,12 @@
  *
  * - 1 objective: reference minus the best value.
  * - 2 objectives: sort by the first objective and sweep.
- * - 3 or more: WFG, after While, Bradstreet & Barone 2012, "A fast way of
+ * - 3 objectives: sweep along the third objective keeping the 2-D non-dominated
+ *   staircase of the points seen so far (the slicing idea of the 3-D algorithm of
+ *   Beume, Fonseca, López-Ibáñez, Paquete & Vahrenhold 2009, "On the complexity of
+ *   computing the hypervolume indicator", IEEE TEVC 13(5)); O(n²) here, fast enough
+ *   for archives of thousands of points.
+ * - 4 or more (and on request for 3): WFG, after While, Bradstreet & Barone 2012, "A fast way of
  *   calculating exact hypervolumes", IEEE TEVC 16(1): the hypervolume is the
  *   sum of exclusive hypervolumes, exclhv(p) = inclhv(p) - hv(nds(limitset)),
  *   with the points sorted by the last objective (worst first) so that each
@@ -32,8 +37,59 @@ export function hypervolume(points: readonly ArrayLike<number>[], reference: Arr
   if (kept.length === 0) return 0;
   if (dimension === 1) return hypervolume1(kept, referencePoint);
   if (dimension === 2) return hypervolume2(kept, referencePoint);
+  if (dimension === 3) return hypervolume3(kept, [referencePoint[0]!, referencePoint[1]!, referencePoint[2]!]);
   return wfg(nonDominated(kept, dimension), dimension, referencePoint);
 }
+
+/** WFG for any dimension ≥ 2 (used by `hypervolume` from 4 objectives on; exported to cross-check the 3-D sweep). */
+export function wfgHypervolume(points: readonly ArrayLike<number>[], reference: ArrayLike<number>): number {
+  const dimension = reference.length;
+  const referencePoint = Float64Array.from(reference as ArrayLike<number>);
+  const kept = points
+    .filter((p) => Array.from({ length: dimension }, (_, k) => p[k]! < referencePoint[k]!).every(Boolean))
+    .map((p) => Float64Array.from(p as ArrayLike<number>));
+  if (kept.length === 0) return 0;
+  return wfg(nonDominated(kept, dimension), dimension, referencePoint);
+}
+
+function hypervolume3(points: readonly ArrayLike<number>[], reference: readonly [number, number, number]): number {
+  const [referenceX, referenceY, referenceZ] = reference;
+  const inside = points.filter((point) => point[0]! < referenceX && point[1]! < referenceY && point[2]! < referenceZ);
+  inside.sort((a, b) => a[2]! - b[2]!);
+  const frontX: number[] = [];
+  const frontY: number[] = [];
+  let volume = 0;
+  let area = 0;
+  for (let i = 0; i < inside.length; i++) {
+    const x = inside[i]![0]!;
+    const y = inside[i]![1]!;
+    // First front index with frontX >= x; the front has at most one point with frontX = x.
+    let low = 0;
+    let high = frontX.length;
+    while (low < high) {
+      const middle = (low + high) >> 1;
+      if (frontX[middle]! < x) low = middle + 1;
+      else high = middle;
+    }
+    const dominated = (low > 0 && frontY[low - 1]! <= y) || (low < frontX.length && frontX[low] === x && frontY[low]! <= y);
+    if (!dominated) {
+      let end = low;
+      while (end < frontX.length && frontY[end]! >= y) end++;
+      frontX.splice(low, end - low, x);
+      frontY.splice(low, end - low, y);
+      area = 0;
+      for (let k = 0; k < frontX.length; k++) {
+        const nextX = k + 1 < frontX.length ? frontX[k + 1]! : referenceX;
+        area += (nextX - frontX[k]!) * (referenceY - frontY[k]!);
+      }
+    }
+    const nextZ = i + 1 < inside.length ? inside[i + 1]![2]! : referenceZ;
+    volume += area * (nextZ - inside[i]![2]!);
+  }
+  return volume;
+}
+
+
 
 function hypervolume1(points: Float64Array[], reference: Float64Array): number {
   let best = Number.POSITIVE_INFINITY;

@@ -28,6 +28,10 @@
  *   that a population restored from a snapshot is indistinguishable;
  * - offspring equal to a parent or to an earlier offspring are re-mutated
  *   (bounded number of attempts), see `ask()`.
+ *
+ * Not in the paper: every told design is also offered to an external archive
+ * (archive.ts) of the non-dominated feasible designs found so far, which is
+ * the run's real result (`archive()`). The search never reads it.
  */
 
 import {

@@ -5,11 +5,13 @@
  */
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
-import { parseDocument } from 'yaml';
+import { parseAllDocuments, parseDocument, stringify } from 'yaml';
 import type { AssemblyMode, JointRange, WorkingMode } from '../mechanics/fivebar.js';
 import { metricInfo } from '../mechanics/metrics.js';
 import { parseQuantity, UnitError, type QuantityKind } from './units.js';
+import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
   FIVE_BAR_PARAMETERS,
   type ConstraintSpec,
@@ -125,15 +127,55 @@ export function loadStudyFile(path: string): LoadedStudy {
     const code = (error as NodeJS.ErrnoException).code;
     throw new StudyError(`${path}: cannot read the study file (${code ?? String(error)})`);
   }
-  return parseStudyText(text, path);
+  return parseStudyText(bundleAttachments(text, path), path);
+}
+
+/** Marker of an attached file (a drive catalogue) in a study bundle. */
+const ATTACHMENT_KEY = 'loopsmith_attachment';
+
+/**
+ * A study that references other files (a drive catalogue) is kept as one self-contained text: the
+ * study document, then one YAML document per attached file ({loopsmith_attachment: path, content}).
+ * That text is what workers receive and what the store keeps, so a stored study never depends on
+ * files that may have changed since.
+ */
+export function bundleAttachments(text: string, studyPath: string): string {
+  const doc = parseDocument(text);
+  if (doc.errors.length > 0) return text; // parseStudyText reports it
+  const catalogue = doc.getIn(['drives', 'catalogue']);
+  if (typeof catalogue !== 'string' || hasAttachments(text)) return text;
+  const file = resolve(dirname(studyPath), catalogue);
+  let content: string;
+  try {
+    content = readFileSync(file, 'utf8');
+  } catch (error) {
+    const code = (error as NodeJS.ErrnoException).code;
+    throw new StudyError(`${studyPath}: drives.catalogue: cannot read "${catalogue}" (${code ?? String(error)}; the path is relative to the study file)`);
+  }
+  return `${text.endsWith('\n') ? text : text + '\n'}---\n${stringify({ [ATTACHMENT_KEY]: catalogue, content })}`;
+}
+
+function hasAttachments(text: string): boolean {
+  return text.includes(ATTACHMENT_KEY);
 }
 
 export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
-  const doc = parseDocument(text, { prettyErrors: true });
-  if (doc.errors.length > 0) {
-    throw new StudyError(`${source}: not valid YAML: ${doc.errors[0]!.message}`);
+  const docs = parseAllDocuments(text, { prettyErrors: true });
+  const list = Array.isArray(docs) ? docs : [docs];
+  const first = list[0];
+  if (!first) throw new StudyError(`${source}: the study file is empty`);
+  for (const d of list) {
+    if (d.errors.length > 0) throw new StudyError(`${source}: not valid YAML: ${d.errors[0]!.message}`);
   }
-  const data = doc.toJS() as Json;
+  const attachments = new Map<string, string>();
+  for (const d of list.slice(1)) {
+    const a = d.toJS() as Json;
+    if (!isObject(a) || typeof a[ATTACHMENT_KEY] !== 'string' || typeof a['content'] !== 'string') {
+      throw new StudyError(`${source}: a study file holds one YAML document (found a second one after "---")`);
+    }
+    attachments.set(a[ATTACHMENT_KEY], a['content']);
+  }
+  const data = first.toJS() as Json;
   if (!isObject(data)) throw new StudyError(`${source}: a study file must be a YAML mapping (key: value lines)`);
   const schemaErrors = validateShape(data);
   if (schemaErrors.length > 0) {
@@ -142,9 +184,9 @@ export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
   }
   let study: Study;
   try {
-    study = buildStudy(data);
+    study = buildStudy(data, attachments);
   } catch (error) {
-    if (error instanceof UnitError || error instanceof StudyError) {
+    if (error instanceof UnitError || error instanceof StudyError || error instanceof CatalogueError) {
       throw new StudyError(`${source}: ${error.message}`);
     }
     throw error;
@@ -170,6 +212,7 @@ export function evaluationSettingsHash(study: Study): string {
     masses: [study.elbowHubMass, study.endHubMass, study.payloadMass],
     gravity: study.gravity,
     drives: study.drives,
+    driveChoice: study.driveChoice,
     torqueSafetyFactor: study.torqueSafetyFactor,
     task: study.task,
     evaluation: study.evaluation,
@@ -206,7 +249,7 @@ function positive(value: number, where: string, allowZero = false): number {
   return value;
 }
 
-function buildStudy(data: JsonObject): Study {
+function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>): Study {
   const geometryIn = data['geometry'] as JsonObject;
   const geometry = {} as Record<FiveBarParameter, ParameterSpec>;
   for (const name of FIVE_BAR_PARAMETERS) {
@@ -283,13 +326,44 @@ function buildStudy(data: JsonObject): Study {
   const drivesIn = isObject(data['drives']) ? data['drives'] : undefined;
   let drives: [DriveSpec, DriveSpec] | null = null;
   let torqueSafetyFactor = 1.5;
+  let driveCatalogue: Study['driveCatalogue'] = null;
+  let driveChoice: Study['driveChoice'] = { kind: 'fixed' };
   if (drivesIn) {
-    const pick = (name: string): DriveSpec => {
-      const raw = drivesIn[name] ?? drivesIn['both'];
-      if (!isObject(raw)) throw new StudyError(`drives: give "both" or "actuator_1" and "actuator_2" (missing a drive for ${name})`);
-      return buildDrive(raw, `drives.${drivesIn[name] !== undefined ? name : 'both'}`);
-    };
-    drives = [pick('actuator_1'), pick('actuator_2')];
+    if (typeof drivesIn['catalogue'] === 'string') {
+      const path = drivesIn['catalogue'];
+      const content = attachments.get(path);
+      if (content === undefined) throw new StudyError(`drives.catalogue: "${path}" is not attached (load the study with loadStudyFile so the file is read)`);
+      const options = catalogueRecords(content, path).map((record, i) => {
+        if (typeof record['name'] !== 'string' || record['name'] === '') throw new StudyError(`drives.catalogue ${path}: option ${i + 1} has no name`);
+        return buildDrive(record as JsonObject, `drives.catalogue ${path}: option "${record['name']}"`);
+      });
+      const names = new Set<string>();
+      for (const o of options) {
+        if (names.has(o.label)) throw new StudyError(`drives.catalogue ${path}: option "${o.label}" appears twice`);
+        names.add(o.label);
+      }
+      driveCatalogue = { path, options };
+    }
+    const choose = drivesIn['choose'] as 'shared' | 'per-actuator' | undefined;
+    if (choose) {
+      if (!driveCatalogue) throw new StudyError('drives.choose: needs drives.catalogue (the options to choose from)');
+      const choices = drivesIn['choices'] as string[] | undefined;
+      const options = choices ? choices.map((n) => findOption(driveCatalogue!.options, n, 'drives.choices')) : driveCatalogue.options;
+      if (options.length < 2) throw new StudyError('drives.choose: needs at least two options to choose from');
+      driveChoice = { kind: choose, options };
+    } else {
+      const pick = (name: string): DriveSpec => {
+        const raw = drivesIn[name] ?? drivesIn['both'];
+        const where = `drives.${drivesIn[name] !== undefined ? name : 'both'}`;
+        if (typeof raw === 'string') {
+          if (!driveCatalogue) throw new StudyError(`${where}: "${raw}" names a catalogue option, but drives.catalogue is not given`);
+          return findOption(driveCatalogue.options, raw, where);
+        }
+        if (!isObject(raw)) throw new StudyError(`drives: give "both" or "actuator_1" and "actuator_2" (missing a drive for ${name}), or "choose" with a catalogue`);
+        return buildDrive(raw, where);
+      };
+      drives = [pick('actuator_1'), pick('actuator_2')];
+    }
     if (typeof drivesIn['torque_safety_factor'] === 'number') torqueSafetyFactor = drivesIn['torque_safety_factor'];
   }
 
@@ -374,6 +448,8 @@ function buildStudy(data: JsonObject): Study {
     payloadMass,
     gravity,
     drives,
+    driveChoice,
+    driveCatalogue,
     torqueSafetyFactor,
     task,
     evaluation,
@@ -392,6 +468,18 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     if (name === 'working_mode') {
       if (typeof value !== 'string' || !study.workingModes.includes(value as WorkingMode)) {
         throw new StudyError(`${where}: must be one of the study's working modes ${JSON.stringify(study.workingModes)}`);
+      }
+      out[name] = value;
+      continue;
+    }
+    if (name === 'drive' || name === 'drive_1' || name === 'drive_2') {
+      const choice = study.driveChoice;
+      const expected = choice.kind === 'shared' ? ['drive'] : choice.kind === 'per-actuator' ? ['drive_1', 'drive_2'] : [];
+      if (!expected.includes(name) || choice.kind === 'fixed') {
+        throw new StudyError(`${where}: "${name}" is not a design variable in this study (drives.choose is ${choice.kind === 'fixed' ? 'not set' : choice.kind})`);
+      }
+      if (typeof value !== 'string' || !choice.options.some((o) => o.label === value)) {
+        throw new StudyError(`${where}: must be one of the catalogue options ${JSON.stringify(choice.options.map((o) => o.label))}`);
       }
       out[name] = value;
       continue;
@@ -492,20 +580,27 @@ function fmtMm(metres: number): string {
 }
 
 function buildDrive(raw: JsonObject, where: string): DriveSpec {
-  const gearRatio = raw['gear_ratio'] as number;
+  const gearRatio = raw['gear_ratio'];
+  if (typeof gearRatio !== 'number' || !(gearRatio > 0)) throw new StudyError(`${where}.gear_ratio: must be a positive number`);
+  const efficiency = raw['efficiency'] ?? 1;
+  if (typeof efficiency !== 'number' || !(efficiency > 0 && efficiency <= 1)) throw new StudyError(`${where}.efficiency: must be a number in (0, 1]`);
+  const encoderCounts = raw['encoder_counts'] ?? 0;
+  if (typeof encoderCounts !== 'number' || !Number.isInteger(encoderCounts) || encoderCounts < 0) throw new StudyError(`${where}.encoder_counts: must be a whole number`);
+  if (raw['max_speed'] === undefined) throw new StudyError(`${where}: missing max_speed`);
   const ratedTorque = positive(q(raw['rated_torque'], 'torque', `${where}.rated_torque`), `${where}.rated_torque`);
   const peakTorque = positive(q(raw['peak_torque'], 'torque', `${where}.peak_torque`), `${where}.peak_torque`);
   if (peakTorque < ratedTorque) throw new StudyError(`${where}: peak_torque is below rated_torque`);
   return {
     label: (raw['name'] as string | undefined) ?? 'drive',
+    mass: positive(q(raw['mass'], 'mass', `${where}.mass`, 0), `${where}.mass`, true),
     gearRatio,
-    efficiency: (raw['efficiency'] as number | undefined) ?? 1,
+    efficiency,
     rotorInertia: positive(q(raw['rotor_inertia'], 'inertia', `${where}.rotor_inertia`, 0), `${where}.rotor_inertia`, true),
     gearInertia: positive(q(raw['gear_inertia'], 'inertia', `${where}.gear_inertia`, 0), `${where}.gear_inertia`, true),
     ratedTorque,
     peakTorque,
     maxSpeed: positive(q(raw['max_speed'], 'angularSpeed', `${where}.max_speed`), `${where}.max_speed`),
     jointStiffness: positive(q(raw['joint_stiffness'], 'rotationalStiffness', `${where}.joint_stiffness`, Infinity), `${where}.joint_stiffness`),
-    encoderCounts: (raw['encoder_counts'] as number | undefined) ?? 0,
+    encoderCounts,
   };
 }

@@ -28,7 +28,10 @@ export interface LinkSpec {
 }
 
 export interface DriveSpec {
+  /** Name (a catalogue option's name, or the study's label for an inline drive). */
   readonly label: string;
+  /** Mass of motor and gearbox, kg (0 when not given; it sits at the base and does not move). */
+  readonly mass: number;
   /** Gear ratio N (motor turns per joint turn). */
   readonly gearRatio: number;
   /** Gearbox efficiency η (0..1]. */
@@ -97,7 +100,14 @@ export interface Study {
   readonly payloadMass: number;
   /** Gravity in the plane of motion, m/s² (x, y). */
   readonly gravity: readonly [number, number];
+  /** Fixed drives of every design, or null when there are none or the optimizer chooses them. */
   readonly drives: readonly [DriveSpec, DriveSpec] | null;
+  /** How drives are chosen: fixed (see `drives`), or catalogue options shared by both actuators or per actuator. */
+  readonly driveChoice:
+    | { readonly kind: 'fixed' }
+    | { readonly kind: 'shared' | 'per-actuator'; readonly options: readonly DriveSpec[] };
+  /** The referenced drive catalogue, if any (path as written in the study). */
+  readonly driveCatalogue: { readonly path: string; readonly options: readonly DriveSpec[] } | null;
   /** Safety factor on the rated torque for the static-torque drive limit. */
   readonly torqueSafetyFactor: number;
   readonly task: {

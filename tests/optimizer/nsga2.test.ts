@@ -1,6 +1,8 @@
 import { describe, expect, it } from 'vitest';
+import { createHash } from 'node:crypto';
+import { ParetoArchive } from '../../src/optimizer/archive.js';
 import { Nsga2, optimize, type Member, type Nsga2State } from '../../src/optimizer/nsga2.js';
-import { constr, tnk, zdt1 } from '../../src/optimizer/testProblems.js';
+import { constr, dtlz2, tnk, zdt1, zdt3, type TestProblem } from '../../src/optimizer/testProblems.js';
 import { sanitizeEvaluation, type BatchEvaluate, type Evaluation, type ProblemSpec } from '../../src/optimizer/types.js';
 
 /** Bit pattern of numbers, so that comparisons are exact (no tolerance, -0 distinct from 0). */
@@ -324,5 +326,90 @@ describe('argument checks', () => {
     expect(optimizer.population()).toHaveLength(6);
     expect(() => new Nsga2(problem.problem, { populationSize: 1, seed: 1 })).toThrow();
     expect(() => new Nsga2({ variables: [{ name: 'n', kind: 'integer', lower: 0.5, upper: 3 }], objectives: [{ name: 'f', sense: 'min' }] }, { populationSize: 4, seed: 1 })).toThrow();
+  });
+});
+
+describe('external archive', () => {
+  it('the search is unchanged by the archive: populations match digests recorded before the archive was added', async () => {
+    // Digests of every generation's population (design, objectives, violation, rank, crowding
+    // bits), recorded with the optimizer as it was before the archive existed. The archive is
+    // only written by tell() and read by archive()/snapshot(); nothing in the search reads it.
+    const recorded: [string, TestProblem, number, number, number, string][] = [
+      ['ZDT1', zdt1(), 7, 40, 30, '83d8788cc2e778d0a564596c60ac5b0238a00587273c5ce789cfbaa381f24c9f'],
+      ['ZDT3', zdt3(), 11, 30, 25, '54200075b89c599c2a63694e966d472487c8e424bb5c7ef50bce520fdbbe0357'],
+      ['DTLZ2', dtlz2(3), 3, 40, 20, 'f26aade946fe1b8d5dfd737c1bfe9dd3b6d6fe619fb054e5b88d67a23f8857fa'],
+      ['CONSTR', constr(), 5, 20, 30, '36233e8242d8610d12ee133464e71d8e1cb45f99bcadfecd9d7a86d7f31750ac'],
+    ];
+    for (const [name, testProblem, seed, populationSize, generations, digest] of recorded) {
+      const hash = createHash('sha256');
+      await optimize(testProblem.problem, testProblem.evaluate, {
+        populationSize,
+        seed,
+        termination: { generations },
+        onGeneration: ({ population }) => {
+          for (const member of population) {
+            hash.update(Buffer.from(member.design.buffer, member.design.byteOffset, member.design.byteLength));
+            const numbers = Float64Array.from([...member.evaluation.objectives, member.evaluation.violation, member.rank, member.crowding]);
+            hash.update(Buffer.from(numbers.buffer));
+          }
+        },
+      });
+      expect(`${name} ${hash.digest('hex')}`).toBe(`${name} ${digest}`);
+    }
+  });
+
+  it('holds exactly the non-dominated feasible designs of everything told, first of equals, in order of telling', async () => {
+    const told: { design: Float64Array; evaluation: Evaluation }[] = [];
+    const recordingEvaluate: BatchEvaluate = async (designs) => {
+      const evaluations = await mixedEvaluate(designs);
+      designs.forEach((design, j) => told.push({ design: design.slice(), evaluation: sanitizeEvaluation(evaluations[j]!, 2) }));
+      return evaluations;
+    };
+    const { archive, front } = await optimize(mixedProblem, recordingEvaluate, { populationSize: 24, seed: 4, termination: { generations: 25 } });
+    expect(told.length).toBe(24 * 26);
+    // Brute force in minimisation form ('benefit' is maximised).
+    const minimised = told.map(({ evaluation }) => [evaluation.objectives[0]!, -evaluation.objectives[1]!]);
+    const feasible = told.map(({ evaluation }) => evaluation.failed === undefined && evaluation.violation === 0);
+    const expected: number[] = [];
+    for (let i = 0; i < told.length; i++) {
+      if (!feasible[i]) continue;
+      const [a0, a1] = minimised[i]! as [number, number];
+      const beaten = minimised.some(([b0, b1], j) => feasible[j] && j !== i && b0! <= a0 && b1! <= a1 && (b0 !== a0 || b1 !== a1 || j < i));
+      if (!beaten) expected.push(i);
+    }
+    expect(told.some((entry) => entry.evaluation.failed !== undefined)).toBe(true);
+    expect(told.some((entry) => entry.evaluation.violation > 0 && entry.evaluation.failed === undefined)).toBe(true);
+    expect(archive.map((member) => bits(member.design))).toEqual(expected.map((i) => bits(told[i]!.design)));
+    expect(archive.map((member) => member.evaluation)).toEqual(expected.map((i) => told[i]!.evaluation));
+    // Every member of the final front is matched or dominated by an archive member.
+    for (const member of front) {
+      expect(archive.some((kept) => kept.evaluation.objectives[0]! <= member.evaluation.objectives[0]! && kept.evaluation.objectives[1]! >= member.evaluation.objectives[1]!)).toBe(true);
+    }
+  });
+
+  it('a resumed run has the identical archive; a snapshot without an archive rebuilds it from its population', async () => {
+    const settings = { populationSize: 20, seed: 9, termination: { generations: 20 } };
+    const uninterrupted = new Map<number, string>();
+    const full = await optimize(mixedProblem, mixedEvaluate, {
+      ...settings,
+      onGeneration: ({ generation, snapshot }) => void uninterrupted.set(generation, JSON.stringify(snapshot())),
+    });
+    const atTen = JSON.parse(uninterrupted.get(10)!) as Nsga2State;
+    expect(atTen.archive?.members.length).toBeGreaterThan(0);
+    const resumed = await optimize(mixedProblem, mixedEvaluate, { ...settings, resume: atTen });
+    expect(resumed.archive.map((member) => bits(member.design))).toEqual(full.archive.map((member) => bits(member.design)));
+    expect(resumed.archive.map((member) => member.evaluation)).toEqual(full.archive.map((member) => member.evaluation));
+
+    // Old format: no archive field. The population still resumes bit for bit; the archive
+    // starts from the population's non-dominated feasible members.
+    const { archive: _dropped, ...withoutArchive } = atTen;
+    const old: Nsga2State = withoutArchive;
+    const restored = Nsga2.restore(mixedProblem, settings, old);
+    const fromPopulation = new ParetoArchive(mixedProblem.objectives);
+    for (const entry of old.population) fromPopulation.offer(entry.design, sanitizeEvaluation({ objectives: entry.evaluation.objectives.map((value) => value ?? Number.NaN), violation: entry.evaluation.violation ?? Number.POSITIVE_INFINITY }));
+    expect(restored.archive().map((member) => bits(member.design))).toEqual(fromPopulation.members().map((member) => bits(member.design)));
+    expect(restored.archive().length).toBeGreaterThan(0);
+    const fromOld = await optimize(mixedProblem, mixedEvaluate, { ...settings, resume: old });
+    expect(fingerprint(fromOld.population)).toBe(fingerprint(full.population));
   });
 });

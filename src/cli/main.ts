@@ -26,13 +26,16 @@ export class UserError extends Error {
   }
 }
 
+/** Errors whose message is meant for the user (bad input, missing files, refused queries). */
+const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError']);
+
 export function isUserError(error: unknown): error is Error {
   return (
     error instanceof UserError ||
     error instanceof StudyError ||
     error instanceof DesignError ||
     error instanceof UnitError ||
-    (error instanceof Error && (error.name === 'StoreError' || error.name === 'QueryError' || error.name === 'SqliteError'))
+    (error instanceof Error && USER_ERROR_NAMES.has(error.name))
   );
 }
 

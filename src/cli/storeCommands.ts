@@ -6,6 +6,7 @@ import { METRICS } from '../mechanics/metrics.js';
 import { runFront } from '../run/front.js';
 import { runOptimization, type GenerationProgress } from '../run/optimize.js';
 import { runSweep } from '../run/sweep.js';
+import { rescoreRun } from '../run/rescore.js';
 import { queryEvaluations } from '../store/query.js';
 import { Store } from '../store/store.js';
 import { formatTable, toCsv } from '../store/format.js';
@@ -91,6 +92,7 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('workers', { type: 'number', describe: 'worker threads (default: available cores)', coerce: positiveInt('workers') })
           .option('generations', { type: 'number', describe: 'generations in all, the initial population included', coerce: positiveInt('generations') })
           .option('population', { type: 'number', describe: 'population size', coerce: positiveInt('population') })
+          .option('from', { type: 'string', describe: 'warm start from the final population of DB[:RUN]' })
           .option('quiet', { type: 'boolean', default: false }),
       async (args) => {
         const loaded = loadStudyFile(args.study);
@@ -104,6 +106,7 @@ export function registerStoreCommands(cli: Argv): Argv {
             ...(args.workers !== undefined ? { workers: args.workers } : {}),
             ...(args.generations !== undefined ? { generations: args.generations } : {}),
             ...(args.population !== undefined ? { population: args.population } : {}),
+            ...(args.from !== undefined ? { warmStart: parseFrom(args.from) } : {}),
             shouldStop: interrupt.stop,
             onGeneration: (p: GenerationProgress) =>
               progress.update(p.generation + 1, p.generations, { rate: p.evaluationsPerSecond, hv: p.hypervolume === null ? '—' : p.hypervolume.toFixed(4), feasible: p.feasibleCount, elapsed: p.elapsedSeconds }),
@@ -157,6 +160,47 @@ export function registerStoreCommands(cli: Argv): Argv {
           progress.stop();
           interrupt.dispose();
         }
+      },
+    )
+    .command(
+      'rescore <db>',
+      'rescore the designs of a run under a changed study (drives, margins, constraints, objectives)',
+      (y) =>
+        y
+          .positional('db', { type: 'string', demandOption: true })
+          .option('study', { type: 'string', demandOption: true, describe: 'the changed study file' })
+          .option('run', { type: 'number', describe: 'run to rescore (default: the latest)' })
+          .option('workers', { type: 'number', coerce: positiveInt('workers') })
+          .option('json', { type: 'boolean', default: false })
+          .option('quiet', { type: 'boolean', default: false }),
+      async (args) => {
+        openExisting(args.db).close();
+        const loaded = loadStudyFile(args.study);
+        const progress = progressReporter(args.quiet || args.json, 'designs');
+        const started = performance.now();
+        const result = await rescoreRun(loaded, {
+          dbPath: args.db,
+          ...(args.run !== undefined ? { runId: args.run } : {}),
+          ...(args.workers !== undefined ? { workers: args.workers } : {}),
+          onProgress: (done, total) => progress.update(done, total, { rate: done / ((performance.now() - started) / 1000), hv: '—', feasible: 0, elapsed: (performance.now() - started) / 1000 }),
+        });
+        progress.stop();
+        if (args.json) {
+          const brief = (e: { id: number; variables: unknown; metrics: unknown }) => ({ id: e.id, variables: e.variables, metrics: e.metrics });
+          out(toJson({ run: result.runId, from: result.parentRunId, mode: result.mode, designs: result.designs, evaluated: result.evaluated, feasible: result.feasible, front: result.front.map(brief), left: result.left.map(brief), joined: result.joined.map(brief), constraints: result.constraints }));
+          return;
+        }
+        const modeText = { cached: 'nothing to recompute (same evaluation settings)', 'per-pose': 'per-pose metrics recomputed, workspace reused', full: 'full evaluation' }[result.mode];
+        const lines = [
+          `rescore run ${result.runId} of run ${result.parentRunId}: ${result.designs} designs, ${result.evaluated} evaluated (${modeText}), ${result.feasible} feasible`,
+          `front: ${result.front.length} designs; ${result.left.length} left the front, ${result.joined.length} joined`,
+        ];
+        const binding = result.constraints.filter((c) => c.violatedByOldFront > 0 || c.activeOnNewFront > 0);
+        if (binding.length > 0) {
+          lines.push('', table(['constraint', 'old-front designs now violating', 'new-front designs within 1 %'], binding.map((c) => [c.name, String(c.violatedByOldFront), String(c.activeOnNewFront)])));
+        }
+        lines.push('', `see the new front: loopsmith front ${args.db} --run ${result.runId}`);
+        out(lines.join('\n'));
       },
     )
     .command(
@@ -242,6 +286,12 @@ export function registerStoreCommands(cli: Argv): Argv {
         else out(`${formatTable(result.columns, result.rows)}\n(${result.rows.length} rows)`);
       },
     );
+}
+
+/** DB or DB:RUN. */
+function parseFrom(text: string): { dbPath: string; runId?: number } {
+  const match = /^(.*):(\d+)$/.exec(text);
+  return match ? { dbPath: match[1]!, runId: Number(match[2]) } : { dbPath: text };
 }
 
 function openExisting(path: string): Store {

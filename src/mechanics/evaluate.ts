@@ -138,6 +138,9 @@ export function taskSamples(region: TaskRegion, intervals: number): { x: Float64
   return { x: Float64Array.from(xs), y: Float64Array.from(ys), weight: Float64Array.from(ws, (w) => w / total) };
 }
 
+/** Metrics that `evaluateWithWorkspace` takes from an earlier evaluation, in its argument order. */
+export const WORKSPACE_METRICS = ['reachable_area', 'workspace_area', 'task_coverage', 'inscribed_radius'] as const;
+
 const M = {
   reachable: metricIndex('reachable_area'),
   workspace: metricIndex('workspace_area'),
@@ -257,6 +260,29 @@ export class Evaluator {
     this.useDrives(resolved.drives);
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
+    this.finishMetrics(model, resolved, metrics);
+    return this.withConstraints(metrics, resolved);
+  }
+
+  /**
+   * Evaluate with the workspace metrics (reachable_area, workspace_area, task_coverage,
+   * inscribed_radius, in that order) taken from an earlier evaluation of the same geometry: only the
+   * per-pose metrics over the task region are recomputed. Valid when nothing that shapes the
+   * workspace changed (same `workspaceSettingsHash`), for studies with a task region. Gives exactly
+   * the numbers of a full evaluation.
+   */
+  evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation {
+    if (!this.task) throw new Error('evaluateWithWorkspace needs a study with a task region');
+    const resolved = this.resolve(design);
+    const model = buildFiveBarModel(this.study, resolved);
+    this.useDrives(resolved.drives);
+    const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
+    this.aggregate.reset();
+    this.aggregateTask(model, -1);
+    metrics[M.reachable] = workspace[0]!;
+    metrics[M.workspace] = workspace[1]!;
+    metrics[M.coverage] = workspace[2]!;
+    metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, resolved, metrics);
     return this.withConstraints(metrics, resolved);
   }

@@ -59,33 +59,37 @@ export class EvaluationPool {
       minThreads: this.workers,
       maxThreads: this.workers,
       idleTimeout: 60_000,
-      // One queue slot per thread is plenty: the run loop submits whole batches at once.
-      maxQueue: 'auto',
+      // The whole batch is queued at once (unbounded queue); results are collected in order.
     });
   }
 
-  /** Evaluate designs; outcomes in the same order. */
-  async evaluate(designs: readonly Float64Array[]): Promise<DesignOutcome[]> {
+  /**
+   * Evaluate designs; outcomes in the same order. `workspace` optionally gives, per design, the four
+   * stored workspace metrics to reuse (null = full evaluation).
+   */
+  async evaluate(designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<DesignOutcome[]> {
     if (designs.length === 0) return [];
-    const size = this.options.batchSize ?? Math.max(1, Math.ceil(designs.length / (this.workers * 4)));
-    const chunks: (readonly Float64Array[])[] = [];
-    for (let start = 0; start < designs.length; start += size) chunks.push(designs.slice(start, start + size));
-    const results = await Promise.all(chunks.map((chunk) => this.runChunk(chunk)));
+    const size = this.options.batchSize ?? Math.max(1, Math.min(256, Math.ceil(designs.length / (this.workers * 4))));
+    const chunks: number[][] = [];
+    for (let start = 0; start < designs.length; start += size) {
+      chunks.push(Array.from({ length: Math.min(size, designs.length - start) }, (_, k) => start + k));
+    }
+    const results = await Promise.all(chunks.map((chunk) => this.runChunk(chunk, designs, workspace)));
     return results.flat();
   }
 
-  private async runChunk(chunk: readonly Float64Array[]): Promise<DesignOutcome[]> {
+  private async runChunk(chunk: readonly number[], designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<DesignOutcome[]> {
     try {
-      return this.unpack(await this.runTask(chunk), chunk.length);
+      return this.unpack(await this.runTask(chunk, designs, workspace), chunk.length);
     } catch (error) {
       if (chunk.length === 1) {
         return [this.crashed(error)];
       }
       // A thread died: evaluate one by one to find the design that kills it.
       const out: DesignOutcome[] = [];
-      for (const design of chunk) {
+      for (const index of chunk) {
         try {
-          out.push(...this.unpack(await this.runTask([design]), 1));
+          out.push(...this.unpack(await this.runTask([index], designs, workspace), 1));
         } catch (inner) {
           out.push(this.crashed(inner));
         }
@@ -105,17 +109,28 @@ export class EvaluationPool {
     };
   }
 
-  private runTask(chunk: readonly Float64Array[]): Promise<EvaluationTaskResult> {
+  private runTask(chunk: readonly number[], designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<EvaluationTaskResult> {
     const flat = new Float64Array(chunk.length * this.variableCount);
-    chunk.forEach((d, k) => flat.set(d, k * this.variableCount));
+    chunk.forEach((index, k) => flat.set(designs[index]!, k * this.variableCount));
+    const transfer: ArrayBuffer[] = [flat.buffer as ArrayBuffer];
+    let reuse: Float64Array | undefined;
+    if (workspace) {
+      reuse = new Float64Array(chunk.length * 4).fill(Number.NaN);
+      chunk.forEach((index, k) => {
+        const w = workspace[index];
+        if (w) reuse!.set(w, k * 4);
+      });
+      transfer.push(reuse.buffer as ArrayBuffer);
+    }
     const task: EvaluationTask = {
       studyText: this.studyText,
       source: this.source,
       designs: flat,
       count: chunk.length,
+      ...(reuse ? { workspace: reuse } : {}),
       ...(this.options.evaluatorModule ? { evaluatorModule: this.options.evaluatorModule } : {}),
     };
-    return this.piscina.run(task, { transferList: [flat.buffer] }) as Promise<EvaluationTaskResult>;
+    return this.piscina.run(task, { transferList: transfer }) as Promise<EvaluationTaskResult>;
   }
 
   private unpack(result: EvaluationTaskResult, count: number): DesignOutcome[] {

@@ -13,6 +13,8 @@ export interface EvaluationTask {
   /** count × variableCount design values, row-major. */
   readonly designs: Float64Array;
   readonly count: number;
+  /** Optional: count × 4 stored workspace metrics per design (see Evaluator.evaluateWithWorkspace); a NaN row means a full evaluation. */
+  readonly workspace?: Float64Array;
   /** Optional module (file URL) exporting `createEvaluator(study)`; default: the built-in engine. */
   readonly evaluatorModule?: string;
 }
@@ -33,6 +35,7 @@ export interface DesignEvaluatorLike {
   readonly variables: readonly unknown[];
   readonly constraints: readonly unknown[];
   evaluate(design: Float64Array): { metrics: Float64Array; margins: Float64Array; violation: number };
+  evaluateWithWorkspace?(design: Float64Array, workspace: Float64Array): { metrics: Float64Array; margins: Float64Array; violation: number };
 }
 
 const evaluators = new Map<string, DesignEvaluatorLike>();
@@ -67,7 +70,11 @@ export default async function evaluateBatch(task: EvaluationTask): Promise<Evalu
     const design = task.designs.subarray(k * nv, (k + 1) * nv);
     const start = performance.now();
     try {
-      const result = evaluator.evaluate(design);
+      const reuse = task.workspace?.subarray(k * 4, (k + 1) * 4);
+      const result =
+        reuse && !Number.isNaN(reuse[0]!) && evaluator.evaluateWithWorkspace
+          ? evaluator.evaluateWithWorkspace(design, reuse)
+          : evaluator.evaluate(design);
       metrics.set(result.metrics, k * nm);
       margins.set(result.margins, k * nc);
       violation[k] = result.violation;

@@ -28,10 +28,25 @@ function dominates(a: readonly number[], b: readonly number[]): boolean {
   return better;
 }
 
-/** Non-dominated subset (objectives in minimisation form), in input order. */
+/**
+ * Non-dominated subset (objectives in minimisation form), in input order. Points are visited in
+ * lexicographic order of their objectives, so a point can only be dominated by one already kept:
+ * O(n · front size) instead of O(n²).
+ */
 export function nonDominated<T>(items: readonly T[], objectives: (item: T) => number[]): T[] {
   const values = items.map(objectives);
-  return items.filter((_, i) => !values.some((other, j) => j !== i && dominates(other, values[i]!)));
+  const order = items.map((_, i) => i).sort((i, j) => {
+    const a = values[i]!;
+    const b = values[j]!;
+    for (let k = 0; k < a.length; k++) if (a[k] !== b[k]) return a[k]! - b[k]!;
+    return i - j;
+  });
+  const kept: number[] = [];
+  for (const i of order) {
+    if (values[i]!.some((v) => Number.isNaN(v))) continue;
+    if (!kept.some((j) => dominates(values[j]!, values[i]!))) kept.push(i);
+  }
+  return kept.sort((a, b) => a - b).map((i) => items[i]!);
 }
 
 export function runFront(dbPath: string, runId?: number): FrontResult {

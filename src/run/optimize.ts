@@ -3,6 +3,8 @@
  * transaction per generation. A run that was killed or stopped resumes from its last committed
  * generation when started again with the same study, seed and population.
  */
+import { existsSync } from 'node:fs';
+import { designFromValues } from '../mechanics/designSpace.js';
 import { hypervolume } from '../optimizer/hypervolume.js';
 import { Nsga2, type Nsga2State } from '../optimizer/nsga2.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
@@ -18,6 +20,8 @@ export interface RunOptions extends PoolOptions {
   readonly population?: number;
   /** Generations in all, the initial population included (evaluations ≈ population × generations). */
   readonly generations?: number;
+  /** Warm start: the first generation takes the final population of this earlier run (its database and run id; default the latest optimize run there). */
+  readonly warmStart?: { readonly dbPath: string; readonly runId?: number };
   /** Called after each committed generation. */
   readonly onGeneration?: (progress: GenerationProgress) => void;
   /** Checked after each committed generation; true stops the run cleanly (status "stopped"). */
@@ -94,13 +98,45 @@ function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
   return { ideal, nadir };
 }
 
+export class WarmStartError extends Error {
+  override readonly name = 'WarmStartError';
+}
+
+/** Final population of an earlier optimization run, as design vectors of this study (clamped to its bounds). */
+function warmStartDesigns(from: { dbPath: string; runId?: number }, sp: StudyProblem): { runId: number; designs: Float64Array[] } {
+  if (!existsSync(from.dbPath)) throw new WarmStartError(`--from ${from.dbPath}: no such database`);
+  const store = Store.open(from.dbPath);
+  try {
+    const run = from.runId !== undefined ? store.getRun(from.runId) : store.listRuns().filter((r) => r.kind === 'optimize').at(-1);
+    if (!run) throw new WarmStartError(`--from ${from.dbPath}${from.runId !== undefined ? ':' + from.runId : ''}: no such optimization run`);
+    const last = store.lastGeneration(run.id);
+    if (last === undefined) throw new WarmStartError(`--from: run ${run.id} has no generation yet`);
+    const designs = store.generationMembers(run.id, last).map((m) => {
+      const values: Record<string, number | string> = {};
+      for (const v of sp.variables) {
+        const value = m.variables[v.name];
+        if (value === undefined) throw new WarmStartError(`--from: run ${run.id} has no variable "${v.name}"; warm starts need the same design variables`);
+        values[v.name] = v.kind === 'real' ? Math.min(Math.max(value as number, v.min), v.max) : value;
+      }
+      return designFromValues(sp.variables, values);
+    });
+    return { runId: run.id, designs };
+  } finally {
+    store.close();
+  }
+}
+
 export async function runOptimization(loaded: LoadedStudy, options: RunOptions): Promise<RunSummary> {
   const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const population = options.population ?? loaded.study.optimizer.population;
   const generations = options.generations ?? loaded.study.optimizer.generations;
   const nsgaSettings = { populationSize: population, seed };
-  const settings = { algorithm: 'nsga2', population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20 };
+  const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
+  const settings = {
+    algorithm: 'nsga2', population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20,
+    ...(warm ? { warmStart: { database: options.warmStart!.dbPath, run: warm.runId } } : {}),
+  };
   const settingsJson = canonicalJson(settings);
 
   const store = Store.open(options.dbPath);
@@ -133,7 +169,11 @@ export async function runOptimization(loaded: LoadedStudy, options: RunOptions):
     while (optimizer.generation + 1 < generations) {
       const generation = optimizer.generation + 1;
       const genStart = performance.now();
-      const designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
+      let designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
+      if (generation === 0 && warm) {
+        // Warm start: the earlier run's final population first, then space-filling designs up to the population size.
+        designs = [...warm.designs, ...designs].slice(0, population);
+      }
       const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs);
       optimizer.tell(designs, evaluations);
 

@@ -221,6 +221,26 @@ export function evaluationSettingsHash(study: Study): string {
   return sha256(canonicalJson(relevant));
 }
 
+/**
+ * Hash of what shapes the workspace of a design (geometry, modes, joint limits, task region,
+ * evaluation settings). Two studies with the same value give the same reachable area, usable
+ * workspace, task coverage and inscribed radius for the same design: a rescore then recomputes only
+ * the per-pose metrics.
+ */
+export function workspaceSettingsHash(study: Study): string {
+  return sha256(
+    canonicalJson({
+      architecture: study.architecture,
+      geometry: study.geometry,
+      workingModes: study.workingModes,
+      assemblyMode: study.assemblyMode,
+      jointLimits: study.jointLimits,
+      region: study.task.region,
+      evaluation: study.evaluation,
+    }),
+  );
+}
+
 /** JSON with sorted keys and Infinity spelled out, so equal values give equal text. */
 export function canonicalJson(value: unknown): string {
   if (value === null || typeof value !== 'object') {

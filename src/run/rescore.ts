@@ -1,0 +1,194 @@
+/**
+ * `loopsmith rescore`: the designs of an earlier run under a changed study (other drives, margins,
+ * constraints or objectives). Writes a new run linked to the old one and reports how the front moved.
+ *
+ * What is recomputed depends on what changed:
+ * - same evaluation settings: nothing (every design is found in the store's cache);
+ * - same workspace settings (geometry, modes, joint limits, task region, evaluation grid) and a task
+ *   region: only the per-pose metrics over the task region; the stored workspace metrics are reused;
+ * - anything else: a full evaluation.
+ */
+import { designFromValues } from '../mechanics/designSpace.js';
+import { WORKSPACE_METRICS } from '../mechanics/evaluate.js';
+import { isFeasible, type Evaluation } from '../optimizer/types.js';
+import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
+import { Store, type NewEvaluation, type StoredEvaluation } from '../store/store.js';
+import { parseStudyText, workspaceSettingsHash, type LoadedStudy } from '../study/parse.js';
+import { nonDominated, runFront } from './front.js';
+import { evaluationFromOutcome, evaluationFromStored, evaluationKey, newEvaluationRecord, studyProblem, type StudyProblem } from './problem.js';
+
+export class RescoreError extends Error {
+  override readonly name = 'RescoreError';
+}
+
+export interface RescoreOptions extends PoolOptions {
+  readonly dbPath: string;
+  /** Run whose designs are rescored (default: the latest optimize, sweep or rescore run). */
+  readonly runId?: number;
+  readonly onProgress?: (done: number, total: number) => void;
+}
+
+export interface RescoreResult {
+  readonly runId: number;
+  readonly parentRunId: number;
+  readonly mode: 'cached' | 'per-pose' | 'full';
+  readonly designs: number;
+  readonly evaluated: number;
+  readonly feasible: number;
+  readonly front: readonly StoredEvaluation[];
+  /** Old-front designs (by design values) no longer on the front, and new ones that joined. */
+  readonly left: readonly StoredEvaluation[];
+  readonly joined: readonly StoredEvaluation[];
+  /** Per constraint: how many designs of the old front now violate it, and how many new-front designs hold it with less than 1 % to spare. */
+  readonly constraints: readonly { name: string; violatedByOldFront: number; activeOnNewFront: number }[];
+}
+
+function designIdentity(values: Readonly<Record<string, number | string>>): string {
+  return JSON.stringify(Object.keys(values).sort().map((k) => [k, values[k]]));
+}
+
+export async function rescoreRun(loaded: LoadedStudy, options: RescoreOptions): Promise<RescoreResult> {
+  const store = Store.open(options.dbPath);
+  let pool: EvaluationPool | undefined;
+  try {
+    const runs = store.listRuns();
+    const oldRun = options.runId !== undefined ? store.getRun(options.runId) : runs.filter((r) => r.kind !== 'evaluate').at(-1);
+    if (!oldRun) throw new RescoreError(options.runId !== undefined ? `${options.dbPath}: no run ${options.runId}` : `${options.dbPath}: no run to rescore`);
+    const oldStudyRow = store.getStudy(oldRun.studyId)!;
+    const oldLoaded = parseStudyText(oldStudyRow.fileText, `${options.dbPath} (study of run ${oldRun.id})`);
+    const sp: StudyProblem = studyProblem(loaded.study);
+    const oldSp = studyProblem(oldLoaded.study);
+    const oldNames = oldSp.variables.map((v) => v.name).join(',');
+    const newNames = sp.variables.map((v) => v.name).join(',');
+    if (oldNames !== newNames) {
+      throw new RescoreError(`rescore needs the same design variables: run ${oldRun.id} has [${oldNames}], the study has [${newNames}]; use "loopsmith run" for a new design space`);
+    }
+
+    // Every distinct design that was a member of the old run.
+    const last = store.lastGeneration(oldRun.id);
+    const byId = new Map<number, StoredEvaluation>();
+    for (let g = 0; last !== undefined && g <= last; g++) for (const m of store.generationMembers(oldRun.id, g)) byId.set(m.id, m);
+    const stored = [...byId.values()].sort((a, b) => a.id - b.id);
+    if (stored.length === 0) throw new RescoreError(`${options.dbPath}: run ${oldRun.id} has no stored designs`);
+
+    const designs = stored.map((e) => designFromValues(sp.variables, e.variables, true));
+    const keys = designs.map((d) => evaluationKey(loaded.settingsHash, d));
+    const cached = store.findEvaluations(keys);
+    const sameWorkspace = workspaceSettingsHash(oldLoaded.study) === workspaceSettingsHash(loaded.study) && loaded.study.task.region !== null;
+    const evaluations: Evaluation[] = new Array<Evaluation>(designs.length);
+    const toEvaluate: number[] = [];
+    const seen = new Set<string>();
+    designs.forEach((_, k) => {
+      const hit = cached.get(keys[k]!);
+      if (hit) evaluations[k] = evaluationFromStored(sp, hit);
+      else if (!seen.has(keys[k]!)) {
+        seen.add(keys[k]!);
+        toEvaluate.push(k);
+      }
+    });
+    const mode: RescoreResult['mode'] = toEvaluate.length === 0 ? 'cached' : sameWorkspace ? 'per-pose' : 'full';
+    const newRecords: NewEvaluation[] = [];
+    if (toEvaluate.length > 0) {
+      pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
+      const workspace = toEvaluate.map((k) => {
+        const old = stored[k]!;
+        if (!sameWorkspace || old.error !== null) return null;
+        const values = WORKSPACE_METRICS.map((m) => old.metrics[m]);
+        return values.every((v) => typeof v === 'number') ? Float64Array.from(values as number[]) : null;
+      });
+      const batch = 4096;
+      for (let start = 0; start < toEvaluate.length; start += batch) {
+        const part = toEvaluate.slice(start, start + batch);
+        const outcomes = await pool.evaluate(part.map((k) => designs[k]!), workspace.slice(start, start + batch));
+        part.forEach((k, u) => {
+          const evaluation = evaluationFromOutcome(sp, outcomes[u]!);
+          evaluations[k] = evaluation;
+          newRecords.push(newEvaluationRecord(sp, loaded.settingsHash, keys[k]!, designs[k]!, outcomes[u]!, evaluation));
+        });
+        options.onProgress?.(Math.min(start + batch, toEvaluate.length), toEvaluate.length);
+      }
+    }
+    designs.forEach((_, k) => {
+      evaluations[k] ??= evaluations[designs.findIndex((_, j) => keys[j] === keys[k])]!;
+    });
+
+    // Rank 0: feasible and non-dominated; 1: other feasible; 2: infeasible or failed.
+    const minimised = (k: number): number[] => evaluations[k]!.objectives.map((v, i) => (loaded.study.objectives[i]!.sense === 'max' ? -v : v));
+    const feasibleIndices = designs.map((_, k) => k).filter((k) => isFeasible(evaluations[k]!));
+    const frontSet = new Set(nonDominated(feasibleIndices, minimised));
+    const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
+    store.ensureColumns(sp.columns);
+    const runId = store.createRun({
+      studyId,
+      kind: 'rescore',
+      parentRunId: oldRun.id,
+      seed: oldRun.seed,
+      settings: { from: oldRun.id, mode },
+      workers: pool?.workers ?? 0,
+    });
+    const uniqueMembers = new Set<string>();
+    const members = designs
+      .map((_, k) => ({ key: keys[k]!, rank: frontSet.has(k) ? 0 : isFeasible(evaluations[k]!) ? 1 : 2, crowding: 0 }))
+      .filter((m) => (uniqueMembers.has(m.key) ? false : (uniqueMembers.add(m.key), true)));
+    store.writeGeneration({
+      runId,
+      generation: 0,
+      newEvaluations: newRecords,
+      members,
+      stats: {
+        evaluations: members.length,
+        newEvaluations: newRecords.length,
+        failed: newRecords.filter((r) => r.error !== null).length,
+        feasibleCount: feasibleIndices.length,
+        hypervolume: null,
+        elapsedSeconds: 0,
+        evaluationsPerSecond: 0,
+      },
+      optimizerState: null,
+    });
+    store.markRun(runId, 'finished', `rescore of run ${oldRun.id} (${mode})`);
+    store.close();
+
+    const oldFront = runFront(options.dbPath, oldRun.id).designs;
+    const newFront = runFront(options.dbPath, runId).designs;
+    const oldIds = new Set(oldFront.map((e) => designIdentity(e.variables)));
+    const newIds = new Set(newFront.map((e) => designIdentity(e.variables)));
+    const reopened = Store.open(options.dbPath);
+    let oldFrontNow: StoredEvaluation[];
+    try {
+      const oldFrontKeys = oldFront.map((e) => evaluationKey(loaded.settingsHash, designFromValues(sp.variables, e.variables, true)));
+      const found = reopened.findEvaluations(oldFrontKeys);
+      oldFrontNow = oldFrontKeys.map((k) => found.get(k)).filter((e): e is StoredEvaluation => e !== undefined);
+    } finally {
+      reopened.close();
+    }
+    const constraints = sp.constraints.map((c) => ({
+      name: c.name,
+      violatedByOldFront: oldFrontNow.filter((e) => (e.constraints[c.name] ?? 0) < 0).length,
+      activeOnNewFront: newFront.filter((e) => {
+        const m = e.constraints[c.name];
+        // Strictly inside 1 % of the bound: a metric sitting exactly on its best possible value (a task coverage of 1) is not a limit.
+        return m !== undefined && m !== null && m > 0 && m < 0.01;
+      }).length,
+    }));
+    return {
+      runId,
+      parentRunId: oldRun.id,
+      mode,
+      designs: members.length,
+      evaluated: newRecords.length,
+      feasible: feasibleIndices.length,
+      front: newFront,
+      left: oldFront.filter((e) => !newIds.has(designIdentity(e.variables))),
+      joined: newFront.filter((e) => !oldIds.has(designIdentity(e.variables))),
+      constraints,
+    };
+  } finally {
+    await pool?.close();
+    try {
+      store.close();
+    } catch {
+      // already closed
+    }
+  }
+}

@@ -42,3 +42,8 @@ export { runSweep, type SweepOptions } from './run/sweep.js';
 export { runFront, type FrontResult } from './run/front.js';
 export { Store, StoreError } from './store/store.js';
 export { queryEvaluations, QueryError } from './store/query.js';
+
+// Drive changes and candidates for detailed simulation
+export { rescoreRun, type RescoreOptions, type RescoreResult } from './run/rescore.js';
+export * as exporting from './export/index.js';
+export { exportCandidates, candidateSheet, toMjcf } from './export/index.js';

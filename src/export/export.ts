@@ -1,0 +1,181 @@
+/**
+ * `loopsmith export`: selects stored designs (the front of a run, or evaluation ids), builds their
+ * candidate sheets and writes them as JSON sheets, one CSV table, or MJCF models.
+ */
+import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { Ajv, type ErrorObject } from 'ajv';
+import { FrontError, runFront } from '../run/front.js';
+import { queryEvaluations } from '../store/query.js';
+import { Store, type RunRow, type StoredEvaluation } from '../store/store.js';
+import { parseStudyText } from '../study/parse.js';
+import type { Study } from '../study/types.js';
+import { candidateSheet, ExportError, loopsmithVersion, sheetToJson, type CandidateSheet } from './candidate.js';
+import { candidatesCsv } from './csv.js';
+import { toMjcf } from './mjcf.js';
+import candidateSchema from './candidate.schema.json' with { type: 'json' };
+
+export type ExportFormat = 'json' | 'csv' | 'mjcf';
+export const EXPORT_FORMATS: readonly ExportFormat[] = ['json', 'csv', 'mjcf'];
+
+export interface ExportSelection {
+  /** The feasible Pareto front of the run (default: the latest optimization or sweep run). */
+  readonly front?: boolean;
+  /** Evaluation ids. */
+  readonly ids?: readonly number[];
+  /** Run whose study and provenance to use (with `front`: whose front). */
+  readonly runId?: number;
+}
+
+export interface ExportOptions extends ExportSelection {
+  readonly format: ExportFormat;
+  /** Output folder, created when missing. */
+  readonly outDir: string;
+}
+
+export interface ExportResult {
+  readonly sheets: readonly CandidateSheet[];
+  /** Files written, in candidate order. */
+  readonly files: readonly string[];
+}
+
+let validator: ReturnType<Ajv['compile']> | undefined;
+
+/** Schema errors of a candidate sheet as parsed JSON (empty when it conforms to candidate.schema.json). */
+export function candidateSchemaErrors(parsedJson: unknown): readonly ErrorObject[] {
+  if (!validator) validator = new Ajv({ allErrors: true, strict: true }).compile(candidateSchema);
+  return validator(parsedJson) ? [] : (validator.errors ?? []);
+}
+
+interface Selected {
+  readonly run: RunRow;
+  readonly study: Study;
+  readonly studyFileHash: string;
+  readonly settingsHash: string;
+  readonly studyName: string;
+  readonly evaluation: StoredEvaluation;
+}
+
+function runStudy(store: Store, dbPath: string, run: RunRow): { study: Study; fileHash: string; settingsHash: string; name: string } {
+  const row = store.getStudy(run.studyId);
+  if (!row) throw new ExportError(`${dbPath}: run ${run.id} has no stored study`);
+  const loaded = parseStudyText(row.fileText, `${dbPath} (study of run ${run.id})`);
+  return { study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, name: row.name };
+}
+
+/** The stored designs an export selection names, each with the run and study it is described by. */
+export function selectCandidates(dbPath: string, selection: ExportSelection): Selected[] {
+  if (!existsSync(dbPath)) throw new ExportError(`${dbPath}: no such database (run a study first: loopsmith run STUDY)`);
+  const hasIds = selection.ids !== undefined;
+  if (selection.front === true && hasIds) throw new ExportError('give either --front or --ids, not both');
+  if (selection.front !== true && !hasIds) throw new ExportError('nothing selected: give --front or --ids ID,...');
+
+  if (selection.front === true) {
+    let front;
+    try {
+      front = runFront(dbPath, selection.runId);
+    } catch (error) {
+      if (error instanceof FrontError) throw new ExportError(error.message);
+      throw error;
+    }
+    if (front.designs.length === 0) throw new ExportError(`${dbPath}: run ${front.runId} has no feasible design on its front: nothing to export`);
+    const store = Store.open(dbPath);
+    try {
+      const run = store.getRun(front.runId)!;
+      const s = runStudy(store, dbPath, run);
+      return front.designs.map((evaluation) => ({ run, study: s.study, studyFileHash: s.fileHash, settingsHash: s.settingsHash, studyName: s.name, evaluation }));
+    } finally {
+      store.close();
+    }
+  }
+
+  const ids = [...new Set(selection.ids!)];
+  if (ids.length === 0) throw new ExportError('--ids: the list is empty: nothing to export');
+  for (const id of ids) if (!Number.isSafeInteger(id) || id < 1) throw new ExportError(`--ids: "${id}" is not an evaluation id (positive integers)`);
+  const found = queryEvaluations(dbPath, { where: `id IN (${ids.join(', ')})`, columns: ['id', 'eval_key'] }).rows;
+  const keyById = new Map(found.map((row) => [row['id'] as number, row['eval_key'] as string]));
+  const unknown = ids.filter((id) => !keyById.has(id));
+  if (unknown.length > 0) {
+    throw new ExportError(`${dbPath}: no evaluation with id ${unknown.join(', ')} (see: loopsmith query ${dbPath})`);
+  }
+  const store = Store.open(dbPath);
+  try {
+    const byKey = store.findEvaluations([...keyById.values()]);
+    const fixedRun = selection.runId !== undefined ? store.getRun(selection.runId) : undefined;
+    if (selection.runId !== undefined && !fixedRun) throw new ExportError(`${dbPath}: no run ${selection.runId} (see: loopsmith runs ${dbPath})`);
+    const studies = new Map<number, ReturnType<typeof runStudy>>();
+    return ids.map((id) => {
+      const evaluation = byKey.get(keyById.get(id)!)!;
+      if (evaluation.error !== null) throw new ExportError(`evaluation ${id} failed when it was evaluated (${evaluation.error}): nothing to export`);
+      const run = fixedRun ?? store.getRun(evaluation.firstRunId);
+      if (!run) throw new ExportError(`${dbPath}: evaluation ${id} names run ${evaluation.firstRunId}, which is not stored`);
+      let s = studies.get(run.id);
+      if (!s) {
+        s = runStudy(store, dbPath, run);
+        studies.set(run.id, s);
+      }
+      if (s.settingsHash !== evaluation.settingsHash) {
+        throw new ExportError(`evaluation ${id} was computed with other study settings than run ${run.id}'s study; export it without --run or with the run that evaluated it (run ${evaluation.firstRunId})`);
+      }
+      return { run, study: s.study, studyFileHash: s.fileHash, settingsHash: s.settingsHash, studyName: s.name, evaluation };
+    });
+  } finally {
+    store.close();
+  }
+}
+
+/** Candidate sheets of a selection. */
+export function candidateSheets(dbPath: string, selection: ExportSelection): CandidateSheet[] {
+  const version = loopsmithVersion();
+  return selectCandidates(dbPath, selection).map((s) => {
+    try {
+      return candidateSheet(s.study, s.evaluation, {
+        database: dbPath,
+        evaluationId: s.evaluation.id,
+        runId: s.run.id,
+        runKind: s.run.kind,
+        seed: s.run.seed,
+        studyName: s.studyName,
+        studyFileHash: s.studyFileHash,
+        settingsHash: s.settingsHash,
+        loopsmithVersion: version,
+      });
+    } catch (error) {
+      if (error instanceof ExportError) throw new ExportError(`candidate ${s.evaluation.id}: ${error.message}`);
+      throw error;
+    }
+  });
+}
+
+/** Selects, builds and writes; returns the sheets and the files written. */
+export function exportCandidates(dbPath: string, options: ExportOptions): ExportResult {
+  if (!EXPORT_FORMATS.includes(options.format)) throw new ExportError(`--format ${String(options.format)}: expected one of ${EXPORT_FORMATS.join(', ')}`);
+  const sheets = candidateSheets(dbPath, options);
+  const texts: { name: string; text: string }[] = [];
+  if (options.format === 'csv') {
+    texts.push({ name: 'candidates.csv', text: candidatesCsv(sheets) });
+  } else {
+    for (const sheet of sheets) {
+      if (options.format === 'json') {
+        const text = sheetToJson(sheet);
+        const errors = candidateSchemaErrors(JSON.parse(text));
+        // A sheet that breaks its own schema is a bug in loopsmith, not a user error.
+        if (errors.length > 0) throw new Error(`candidate ${sheet.id}: the sheet does not match candidate.schema.json: ${JSON.stringify(errors.slice(0, 3))}`);
+        texts.push({ name: `candidate-${sheet.id}.json`, text });
+      } else {
+        texts.push({ name: `candidate-${sheet.id}.xml`, text: toMjcf(sheet) });
+      }
+    }
+  }
+  try {
+    mkdirSync(options.outDir, { recursive: true });
+  } catch (error) {
+    throw new ExportError(`${options.outDir}: cannot create the output folder (${(error as NodeJS.ErrnoException).code ?? String(error)})`);
+  }
+  const files = texts.map(({ name, text }) => {
+    const path = join(options.outDir, name);
+    writeFileSync(path, text);
+    return path;
+  });
+  return { sheets, files };
+}

@@ -47,3 +47,8 @@ export { queryEvaluations, QueryError } from './store/query.js';
 export { rescoreRun, type RescoreOptions, type RescoreResult } from './run/rescore.js';
 export * as exporting from './export/index.js';
 export { exportCandidates, candidateSheet, toMjcf } from './export/index.js';
+
+// Pictures
+export { renderWorkspaceMap, workspaceMapSpec } from './report/map.js';
+export { writeReport } from './report/report.js';
+export { svgToPng, renderVegaLiteSvg } from './report/render.js';

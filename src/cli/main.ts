@@ -213,8 +213,9 @@ export function buildCli(argv: readonly string[]): Argv {
     .help()
     .version()
     .fail((message, error) => {
-      if (error) throw error;
-      throw new UsageError(message);
+      // Errors thrown by option checks (coerce) come as YError: they are command-line mistakes.
+      if (error && error.name !== 'YError') throw error;
+      throw new UsageError(message ?? error?.message ?? 'bad command line');
     });
 }
 

@@ -1,6 +1,69 @@
 /** Commands that draw: map (workspace of one design) and report (HTML study report). */
+import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { dirname, extname } from 'node:path';
 import type { Argv } from 'yargs';
+import { renderWorkspaceMap } from '../report/map.js';
+import { svgToPng } from '../report/render.js';
+import { writeReport } from '../report/report.js';
+import { loadStudyFile } from '../study/parse.js';
+import { chooseDesign } from '../api/design.js';
+
+const out = (text: string): void => {
+  process.stdout.write(text.endsWith('\n') ? text : text + '\n');
+};
+
+function asStrings(value: unknown): string[] {
+  if (value === undefined) return [];
+  return (Array.isArray(value) ? value : [value]).map(String);
+}
+
+class ReportUsageError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = 'StoreError';
+  }
+}
 
 export function registerReportCommands(cli: Argv): Argv {
-  return cli;
+  return cli
+    .command(
+      'map <study>',
+      'draw the workspace of one design (baseline with overrides) to SVG or PNG',
+      (y) =>
+        y
+          .positional('study', { type: 'string', demandOption: true })
+          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
+          .option('out', { type: 'string', demandOption: true, describe: 'output file, .svg or .png' })
+          .option('cells', { type: 'number', describe: 'grid cells across the reachable box (default: the study\'s evaluation.grid_cells)' })
+          .check((args) => {
+            const ext = extname(args.out).toLowerCase();
+            if (ext !== '.svg' && ext !== '.png') throw new Error(`--out ${args.out}: the file name must end in .svg or .png`);
+            if (args.cells !== undefined && (!Number.isInteger(args.cells) || args.cells < 4 || args.cells > 1000)) throw new Error('--cells must be an integer from 4 to 1000');
+            return true;
+          }),
+      async (args) => {
+        const loaded = loadStudyFile(args.study);
+        const overrides = asStrings(args.set);
+        chooseDesign(loaded.study, overrides).warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
+        const svg = await renderWorkspaceMap(loaded.study, overrides, args.cells !== undefined ? { cells: args.cells } : {});
+        mkdirSync(dirname(args.out), { recursive: true });
+        if (extname(args.out).toLowerCase() === '.png') writeFileSync(args.out, svgToPng(svg));
+        else writeFileSync(args.out, svg);
+        out(`wrote ${args.out}`);
+      },
+    )
+    .command(
+      'report <db>',
+      'write a self-contained HTML report of a run (opens offline from disk)',
+      (y) =>
+        y
+          .positional('db', { type: 'string', demandOption: true })
+          .option('run', { type: 'number', describe: 'run id (default: the latest optimization or sweep)' })
+          .option('out', { type: 'string', demandOption: true, describe: 'output folder (index.html is written there)' }),
+      async (args) => {
+        if (!existsSync(args.db)) throw new ReportUsageError(`${args.db}: no such database (run a study first: loopsmith run STUDY)`);
+        const written = await writeReport(args.db, args.run, args.out);
+        out(`wrote ${written.htmlPath}\nopen it in a browser (works offline, from disk)`);
+      },
+    );
 }

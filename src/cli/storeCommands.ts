@@ -1,4 +1,5 @@
 /** Commands that run studies and read the store: run, sweep, runs, front, query. */
+import { existsSync } from 'node:fs';
 import { basename, extname, join } from 'node:path';
 import cliProgress from 'cli-progress';
 import type { Argv } from 'yargs';
@@ -235,7 +236,7 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('run', { type: 'number' })
           .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const }),
       (args) => {
-        openExisting(args.db).close();
+        requireDatabase(args.db);
         const front = runFront(args.db, args.run);
         const variableNames = front.designs[0] ? Object.keys(front.designs[0].variables) : [];
         const objectiveNames = front.objectives.map((o) => o.metric);
@@ -274,7 +275,7 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('run', { type: 'number', describe: 'only designs that were members of this run' })
           .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const }),
       (args) => {
-        openExisting(args.db).close();
+        requireDatabase(args.db);
         const result = queryEvaluations(args.db, {
           ...(args.where !== undefined ? { where: args.where } : {}),
           ...(args.orderBy !== undefined ? { orderBy: args.orderBy } : {}),
@@ -294,17 +295,16 @@ function parseFrom(text: string): { dbPath: string; runId?: number } {
   return match ? { dbPath: match[1]!, runId: Number(match[2]) } : { dbPath: text };
 }
 
-function openExisting(path: string): Store {
-  const { existsSync } = require_fs();
+/** Refuse a database path that does not exist (opening would create it). */
+function requireDatabase(path: string): void {
   if (!existsSync(path)) {
     const error = new Error(`${path}: no such database (run a study first: loopsmith run STUDY)`);
     error.name = 'StoreError';
     throw error;
   }
-  return Store.open(path);
 }
 
-import * as fs from 'node:fs';
-function require_fs(): typeof fs {
-  return fs;
+function openExisting(path: string): Store {
+  requireDatabase(path);
+  return Store.open(path);
 }

@@ -11,7 +11,7 @@ import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { canonicalJson, Store } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
-import { evaluationKey, studyProblem, type StudyProblem } from './problem.js';
+import { evaluationKey, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
 import { evaluateWithCache } from './batch.js';
 
 export interface RunOptions extends PoolOptions {
@@ -126,7 +126,8 @@ function warmStartDesigns(from: { dbPath: string; runId?: number }, sp: StudyPro
   }
 }
 
-export async function runOptimization(loaded: LoadedStudy, options: RunOptions): Promise<RunSummary> {
+export async function runOptimization(studyIn: LoadedStudy, options: RunOptions): Promise<RunSummary> {
+  const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
   const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const population = options.population ?? loaded.study.optimizer.population;
@@ -155,10 +156,10 @@ export async function runOptimization(loaded: LoadedStudy, options: RunOptions):
       frame = state.hypervolumeFrame;
       runId = unfinished.id;
       resumedFrom = unfinished.generationsDone;
-      store.markRun(runId, 'running');
+      store.markRun(runId, 'running', null);
     } else {
       runId = unfinished?.id ?? store.createRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers });
-      if (unfinished) store.markRun(runId, 'running');
+      if (unfinished) store.markRun(runId, 'running', null);
       optimizer = new Nsga2(sp.problem, nsgaSettings);
     }
 
@@ -221,7 +222,7 @@ export async function runOptimization(loaded: LoadedStudy, options: RunOptions):
         break;
       }
     }
-    store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : undefined);
+    store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
     return {
       runId,
       status,

@@ -9,6 +9,7 @@ import { METRICS, metricIndex } from '../mechanics/metrics.js';
 import type { Evaluation, ProblemSpec, VariableSpec } from '../optimizer/types.js';
 import type { ColumnSet, NewEvaluation, StoredEvaluation } from '../store/store.js';
 import type { Study } from '../study/types.js';
+import type { LoadedStudy } from '../study/parse.js';
 import type { DesignOutcome } from '../pool/pool.js';
 
 export interface StudyProblem {
@@ -38,6 +39,16 @@ export function studyProblem(study: Study): StudyProblem {
     },
     objectiveMetricIndex: study.objectives.map((o) => metricIndex(o.metric)),
   };
+}
+
+/**
+ * A study whose evaluations come from a custom evaluator module (tests, other models) must not share
+ * cache entries with the built-in engine: its settings hash is salted with the module's address.
+ */
+export function withEvaluatorNamespace(loaded: LoadedStudy, evaluatorModule: string | undefined): LoadedStudy {
+  if (!evaluatorModule) return loaded;
+  const settingsHash = createHash('sha256').update(loaded.settingsHash).update('\u0000').update(evaluatorModule).digest('hex');
+  return { ...loaded, settingsHash };
 }
 
 /** Cache key: the evaluation-settings hash and the exact bits of the design vector. */

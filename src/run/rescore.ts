@@ -15,7 +15,7 @@ import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { Store, type NewEvaluation, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText, workspaceSettingsHash, type LoadedStudy } from '../study/parse.js';
 import { nonDominated, runFront } from './front.js';
-import { evaluationFromOutcome, evaluationFromStored, evaluationKey, newEvaluationRecord, studyProblem, type StudyProblem } from './problem.js';
+import { evaluationFromOutcome, evaluationFromStored, evaluationKey, newEvaluationRecord, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
 
 export class RescoreError extends Error {
   override readonly name = 'RescoreError';
@@ -47,7 +47,8 @@ function designIdentity(values: Readonly<Record<string, number | string>>): stri
   return JSON.stringify(Object.keys(values).sort().map((k) => [k, values[k]]));
 }
 
-export async function rescoreRun(loaded: LoadedStudy, options: RescoreOptions): Promise<RescoreResult> {
+export async function rescoreRun(studyIn: LoadedStudy, options: RescoreOptions): Promise<RescoreResult> {
+  const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
   const store = Store.open(options.dbPath);
   let pool: EvaluationPool | undefined;
   try {

@@ -9,7 +9,7 @@ import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { Store } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
 import { evaluateWithCache } from './batch.js';
-import { studyProblem } from './problem.js';
+import { studyProblem, withEvaluatorNamespace } from './problem.js';
 
 export interface SweepOptions extends PoolOptions {
   readonly dbPath: string;
@@ -49,7 +49,8 @@ export function gridDesigns(layout: ReturnType<typeof designLayout>, samples: nu
   return out;
 }
 
-export async function runSweep(loaded: LoadedStudy, options: SweepOptions): Promise<{ runId: number; evaluations: number; feasible: number; status: 'finished' | 'stopped' }> {
+export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Promise<{ runId: number; evaluations: number; feasible: number; status: 'finished' | 'stopped' }> {
+  const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
   const sp = studyProblem(loaded.study);
   if (sp.variables.length === 0) throw new Error('this study has no design variables to sweep');
   const seed = options.seed ?? loaded.study.optimizer.seed;

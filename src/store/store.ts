@@ -586,7 +586,8 @@ export class Store {
    * the last generation write to elapsed_seconds and set finished_at.
    * The message is replaced only when given.
    */
-  markRun(runId: number, status: RunStatus, message?: string): void {
+  /** Set a run's status; `message` replaces the note (null clears it, undefined keeps it). */
+  markRun(runId: number, status: RunStatus, message?: string | null): void {
     if (!RUN_STATUSES.includes(status)) throw new StoreError(`run status ${String(status)} is not one of ${RUN_STATUSES.join(', ')}`);
     this.db.transaction(() => {
       const run = this.selectRunStatement.get(runId);

@@ -1,0 +1,281 @@
+/**
+ * Small dense matrix helpers for the architectures (n ≤ 3), row-major in Float64Array buffers.
+ * Entry (i, j) of an n×n matrix M sits at M[i * n + j]. Nothing here allocates: every routine writes
+ * into buffers the caller owns, so they can run once per pose in the hot loop.
+ */
+
+/** Largest matrix order these helpers handle. */
+export const MAX_ORDER = 3;
+/** Length of the work buffer every routine below may use (Float64Array of at least this many). */
+export const WORK_LENGTH = 4 * MAX_ORDER * MAX_ORDER;
+
+/** Determinant of an n×n matrix (n = 1, 2, 3). */
+export function determinant(n: number, m: Float64Array): number {
+  if (n === 1) return m[0]!;
+  if (n === 2) return m[0]! * m[3]! - m[1]! * m[2]!;
+  return (
+    m[0]! * (m[4]! * m[8]! - m[5]! * m[7]!) -
+    m[1]! * (m[3]! * m[8]! - m[5]! * m[6]!) +
+    m[2]! * (m[3]! * m[7]! - m[4]! * m[6]!)
+  );
+}
+
+/**
+ * Inverse of an n×n matrix by its adjugate, written into out (out must not alias m). Returns the
+ * determinant; when it is 0 the content of out is undefined.
+ */
+export function invert(n: number, m: Float64Array, out: Float64Array): number {
+  const det = determinant(n, m);
+  if (det === 0) return 0;
+  const r = 1 / det;
+  if (n === 1) {
+    out[0] = r;
+  } else if (n === 2) {
+    out[0] = m[3]! * r; out[1] = -m[1]! * r;
+    out[2] = -m[2]! * r; out[3] = m[0]! * r;
+  } else {
+    out[0] = (m[4]! * m[8]! - m[5]! * m[7]!) * r;
+    out[1] = (m[2]! * m[7]! - m[1]! * m[8]!) * r;
+    out[2] = (m[1]! * m[5]! - m[2]! * m[4]!) * r;
+    out[3] = (m[5]! * m[6]! - m[3]! * m[8]!) * r;
+    out[4] = (m[0]! * m[8]! - m[2]! * m[6]!) * r;
+    out[5] = (m[2]! * m[3]! - m[0]! * m[5]!) * r;
+    out[6] = (m[3]! * m[7]! - m[4]! * m[6]!) * r;
+    out[7] = (m[1]! * m[6]! - m[0]! * m[7]!) * r;
+    out[8] = (m[0]! * m[4]! - m[1]! * m[3]!) * r;
+  }
+  return det;
+}
+
+/** out = a · b (n×n each; out must not alias a or b). */
+export function multiply(n: number, a: Float64Array, b: Float64Array, out: Float64Array): void {
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      let sum = 0;
+      for (let k = 0; k < n; k++) sum += a[i * n + k]! * b[k * n + j]!;
+      out[i * n + j] = sum;
+    }
+  }
+}
+
+/** out = aᵀ · b (n×n each; out must not alias a or b). */
+export function multiplyTransposeLeft(n: number, a: Float64Array, b: Float64Array, out: Float64Array): void {
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      let sum = 0;
+      for (let k = 0; k < n; k++) sum += a[k * n + i]! * b[k * n + j]!;
+      out[i * n + j] = sum;
+    }
+  }
+}
+
+/** Euclidean norm of row i of an n×n matrix. */
+export function rowNorm(n: number, m: Float64Array, row: number): number {
+  let sum = 0;
+  for (let k = 0; k < n; k++) {
+    const v = m[row * n + k]!;
+    sum += v * v;
+  }
+  return Math.sqrt(sum);
+}
+
+/**
+ * Singular values of an n×n matrix, descending, into out[0..n). One-sided Jacobi (Hestenes): plane
+ * rotations make the columns of a copy mutually orthogonal; the singular values are then the column
+ * norms. Accurate to a few ulps relative to σ_max, also for the smallest one. Uses work[0..n²).
+ */
+export function singularValues(n: number, m: Float64Array, work: Float64Array, out: Float64Array): void {
+  const size = n * n;
+  for (let k = 0; k < size; k++) work[k] = m[k]!;
+  for (let sweep = 0; sweep < 40; sweep++) {
+    let rotated = false;
+    for (let p = 0; p < n - 1; p++) {
+      for (let q = p + 1; q < n; q++) {
+        let alpha = 0;
+        let beta = 0;
+        let gamma = 0;
+        for (let i = 0; i < n; i++) {
+          const wp = work[i * n + p]!;
+          const wq = work[i * n + q]!;
+          alpha += wp * wp;
+          beta += wq * wq;
+          gamma += wp * wq;
+        }
+        if (gamma === 0 || Math.abs(gamma) <= 1e-17 * Math.sqrt(alpha * beta)) continue;
+        rotated = true;
+        const zeta = (beta - alpha) / (2 * gamma);
+        const t = (zeta >= 0 ? 1 : -1) / (Math.abs(zeta) + Math.sqrt(1 + zeta * zeta));
+        const c = 1 / Math.sqrt(1 + t * t);
+        const s = c * t;
+        for (let i = 0; i < n; i++) {
+          const wp = work[i * n + p]!;
+          const wq = work[i * n + q]!;
+          work[i * n + p] = c * wp - s * wq;
+          work[i * n + q] = s * wp + c * wq;
+        }
+      }
+    }
+    if (!rotated) break;
+  }
+  for (let j = 0; j < n; j++) {
+    let sum = 0;
+    for (let i = 0; i < n; i++) sum += work[i * n + j]! ** 2;
+    out[j] = Math.sqrt(sum);
+  }
+  // Insertion sort, descending (n ≤ 3).
+  for (let i = 1; i < n; i++) {
+    const v = out[i]!;
+    let k = i - 1;
+    while (k >= 0 && out[k]! < v) {
+      out[k + 1] = out[k]!;
+      k--;
+    }
+    out[k + 1] = v;
+  }
+}
+
+/**
+ * Inverse condition number σ_min/σ_max (2-norm) of an n×n matrix; 0 for a singular or zero matrix.
+ * Uses work[0..n² + n).
+ */
+export function inverseCondition(n: number, m: Float64Array, work: Float64Array): number {
+  const sv = work.subarray(n * n, n * n + n);
+  singularValues(n, m, work, sv);
+  const largest = sv[0]!;
+  const smallest = sv[n - 1]!;
+  if (!(largest > 0) || !Number.isFinite(largest)) return 0;
+  return smallest / largest;
+}
+
+/**
+ * Eigenvalues of a symmetric n×n matrix, ascending, into out[0..n) (cyclic Jacobi). Only the upper
+ * triangle is read. Uses work[0..n²).
+ */
+export function symmetricEigenvalues(n: number, s: Float64Array, work: Float64Array, out: Float64Array): void {
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) work[i * n + j] = j >= i ? s[i * n + j]! : s[j * n + i]!;
+  }
+  for (let sweep = 0; sweep < 50; sweep++) {
+    let off = 0;
+    let diagonal = 0;
+    for (let i = 0; i < n; i++) {
+      diagonal += work[i * n + i]! ** 2;
+      for (let j = i + 1; j < n; j++) off += work[i * n + j]! ** 2;
+    }
+    if (off <= 1e-32 * diagonal || off === 0) break;
+    for (let p = 0; p < n - 1; p++) {
+      for (let q = p + 1; q < n; q++) {
+        const apq = work[p * n + q]!;
+        if (apq === 0) continue;
+        const app = work[p * n + p]!;
+        const aqq = work[q * n + q]!;
+        const theta = (aqq - app) / (2 * apq);
+        const t = (theta >= 0 ? 1 : -1) / (Math.abs(theta) + Math.sqrt(1 + theta * theta));
+        const c = 1 / Math.sqrt(1 + t * t);
+        const sn = t * c;
+        // A ← Gᵀ A G with G the rotation in the (p, q) plane.
+        for (let k = 0; k < n; k++) {
+          const akp = work[k * n + p]!;
+          const akq = work[k * n + q]!;
+          work[k * n + p] = c * akp - sn * akq;
+          work[k * n + q] = sn * akp + c * akq;
+        }
+        for (let k = 0; k < n; k++) {
+          const apk = work[p * n + k]!;
+          const aqk = work[q * n + k]!;
+          work[p * n + k] = c * apk - sn * aqk;
+          work[q * n + k] = sn * apk + c * aqk;
+        }
+      }
+    }
+  }
+  for (let i = 0; i < n; i++) out[i] = work[i * n + i]!;
+  for (let i = 1; i < n; i++) {
+    const v = out[i]!;
+    let k = i - 1;
+    while (k >= 0 && out[k]! > v) {
+      out[k + 1] = out[k]!;
+      k--;
+    }
+    out[k + 1] = v;
+  }
+}
+
+/**
+ * Eigenvalues λ of the symmetric-definite pencil K v = λ M v (M positive definite), ascending, into
+ * out[0..n). Cholesky M = L Lᵀ, then the eigenvalues of C = L⁻¹ K L⁻ᵀ. Returns false (out filled
+ * with NaN) when M is not positive definite. Uses work[0..3n²).
+ */
+export function generalizedEigenvalues(n: number, k: Float64Array, m: Float64Array, work: Float64Array, out: Float64Array): boolean {
+  const size = n * n;
+  const lower = work.subarray(0, size);
+  const c = work.subarray(size, 2 * size);
+  const rest = work.subarray(2 * size, 3 * size);
+  lower.fill(0);
+  for (let j = 0; j < n; j++) {
+    let diag = m[j * n + j]!;
+    for (let p = 0; p < j; p++) diag -= lower[j * n + p]! ** 2;
+    if (!(diag > 0)) {
+      for (let i = 0; i < n; i++) out[i] = Number.NaN;
+      return false;
+    }
+    const ljj = Math.sqrt(diag);
+    lower[j * n + j] = ljj;
+    for (let i = j + 1; i < n; i++) {
+      let v = m[i * n + j]!;
+      for (let p = 0; p < j; p++) v -= lower[i * n + p]! * lower[j * n + p]!;
+      lower[i * n + j] = v / ljj;
+    }
+  }
+  // Y = L⁻¹ K (forward substitution per column), stored in c.
+  for (let col = 0; col < n; col++) {
+    for (let i = 0; i < n; i++) {
+      let v = k[i * n + col]!;
+      for (let p = 0; p < i; p++) v -= lower[i * n + p]! * c[p * n + col]!;
+      c[i * n + col] = v / lower[i * n + i]!;
+    }
+  }
+  // C = Y L⁻ᵀ: solve L Cᵀ = Yᵀ row by row (C symmetric), written into rest.
+  for (let row = 0; row < n; row++) {
+    for (let i = 0; i < n; i++) {
+      let v = c[row * n + i]!;
+      for (let p = 0; p < i; p++) v -= lower[i * n + p]! * rest[row * n + p]!;
+      rest[row * n + i] = v / lower[i * n + i]!;
+    }
+  }
+  symmetricEigenvalues(n, rest, c, out);
+  return true;
+}
+
+/** Solves the n×n system M z = r in place of r by Gaussian elimination with partial pivoting. Returns false when singular. Uses work[0..n²). */
+export function solveInPlace(n: number, m: Float64Array, r: Float64Array, work: Float64Array): boolean {
+  for (let k = 0; k < n * n; k++) work[k] = m[k]!;
+  for (let col = 0; col < n; col++) {
+    let pivot = col;
+    for (let i = col + 1; i < n; i++) if (Math.abs(work[i * n + col]!) > Math.abs(work[pivot * n + col]!)) pivot = i;
+    const pv = work[pivot * n + col]!;
+    if (pv === 0 || !Number.isFinite(pv)) return false;
+    if (pivot !== col) {
+      for (let j = 0; j < n; j++) {
+        const t = work[col * n + j]!;
+        work[col * n + j] = work[pivot * n + j]!;
+        work[pivot * n + j] = t;
+      }
+      const t = r[col]!;
+      r[col] = r[pivot]!;
+      r[pivot] = t;
+    }
+    for (let i = col + 1; i < n; i++) {
+      const f = work[i * n + col]! / pv;
+      if (f === 0) continue;
+      for (let j = col; j < n; j++) work[i * n + j] = work[i * n + j]! - f * work[col * n + j]!;
+      r[i] = r[i]! - f * r[col]!;
+    }
+  }
+  for (let i = n - 1; i >= 0; i--) {
+    let v = r[i]!;
+    for (let j = i + 1; j < n; j++) v -= work[i * n + j]! * r[j]!;
+    r[i] = v / work[i * n + i]!;
+  }
+  return true;
+}

@@ -60,7 +60,13 @@ export function parseCsv(text: string): string[][] {
  */
 export function catalogueRecords(text: string, path: string): Record<string, unknown>[] {
   if (/\.csv$/i.test(path)) {
-    const rows = parseCsv(text);
+    let rows: string[][];
+    try {
+      rows = parseCsv(text);
+    } catch (error) {
+      if (error instanceof CatalogueError) throw new CatalogueError(`${path}: ${error.message}`);
+      throw error;
+    }
     if (rows.length < 2) throw new CatalogueError(`${path}: a CSV catalogue needs a header row and at least one option`);
     const header = rows[0]!.map((h) => h.trim());
     for (const h of header) {
@@ -84,7 +90,8 @@ export function catalogueRecords(text: string, path: string): Record<string, unk
   return data.options.map((o, i) => {
     if (typeof o !== 'object' || o === null || Array.isArray(o)) throw new CatalogueError(`${path}: options[${i}] is not a mapping`);
     for (const key of Object.keys(o)) {
-      if (!(CATALOGUE_FIELDS as readonly string[]).includes(key)) throw new CatalogueError(`${path}: options[${i}]: unknown field "${key}"`);
+      const label = typeof (o as Record<string, unknown>)['name'] === 'string' ? `option "${String((o as Record<string, unknown>)['name'])}"` : `options[${i}]`;
+      if (!(CATALOGUE_FIELDS as readonly string[]).includes(key)) throw new CatalogueError(`${path}: ${label}: unknown field "${key}" (fields: ${CATALOGUE_FIELDS.join(', ')})`);
     }
     return o as Record<string, unknown>;
   });

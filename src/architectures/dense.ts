@@ -82,9 +82,15 @@ export function rowNorm(n: number, m: Float64Array, row: number): number {
 /**
  * Singular values of an n×n matrix, descending, into out[0..n). One-sided Jacobi (Hestenes): plane
  * rotations make the columns of a copy mutually orthogonal; the singular values are then the column
- * norms. Accurate to a few ulps relative to σ_max, also for the smallest one. Uses work[0..n²).
+ * norms. Accurate to a few ulps relative to σ_max, also for the smallest one. Uses work[0..n² + n).
  */
 export function singularValues(n: number, m: Float64Array, work: Float64Array, out: Float64Array): void {
+  singularValuesInWork(n, m, work);
+  for (let j = 0; j < n; j++) out[j] = work[n * n + j]!;
+}
+
+/** As singularValues, leaving them in work[n²..n² + n) (descending). */
+function singularValuesInWork(n: number, m: Float64Array, work: Float64Array): void {
   const size = n * n;
   for (let k = 0; k < size; k++) work[k] = m[k]!;
   for (let sweep = 0; sweep < 40; sweep++) {
@@ -120,17 +126,17 @@ export function singularValues(n: number, m: Float64Array, work: Float64Array, o
   for (let j = 0; j < n; j++) {
     let sum = 0;
     for (let i = 0; i < n; i++) sum += work[i * n + j]! ** 2;
-    out[j] = Math.sqrt(sum);
+    work[size + j] = Math.sqrt(sum);
   }
   // Insertion sort, descending (n ≤ 3).
   for (let i = 1; i < n; i++) {
-    const v = out[i]!;
+    const v = work[size + i]!;
     let k = i - 1;
-    while (k >= 0 && out[k]! < v) {
-      out[k + 1] = out[k]!;
+    while (k >= 0 && work[size + k]! < v) {
+      work[size + k + 1] = work[size + k]!;
       k--;
     }
-    out[k + 1] = v;
+    work[size + k + 1] = v;
   }
 }
 
@@ -139,21 +145,20 @@ export function singularValues(n: number, m: Float64Array, work: Float64Array, o
  * Uses work[0..n² + n).
  */
 export function inverseCondition(n: number, m: Float64Array, work: Float64Array): number {
-  const sv = work.subarray(n * n, n * n + n);
-  singularValues(n, m, work, sv);
-  const largest = sv[0]!;
-  const smallest = sv[n - 1]!;
+  singularValuesInWork(n, m, work);
+  const largest = work[n * n]!;
+  const smallest = work[n * n + n - 1]!;
   if (!(largest > 0) || !Number.isFinite(largest)) return 0;
   return smallest / largest;
 }
 
 /**
  * Eigenvalues of a symmetric n×n matrix, ascending, into out[0..n) (cyclic Jacobi). Only the upper
- * triangle is read. Uses work[0..n²).
+ * triangle is read (of the matrix starting at s[sOffset]). Uses work[0..n²).
  */
-export function symmetricEigenvalues(n: number, s: Float64Array, work: Float64Array, out: Float64Array): void {
+export function symmetricEigenvalues(n: number, s: Float64Array, work: Float64Array, out: Float64Array, sOffset = 0): void {
   for (let i = 0; i < n; i++) {
-    for (let j = 0; j < n; j++) work[i * n + j] = j >= i ? s[i * n + j]! : s[j * n + i]!;
+    for (let j = 0; j < n; j++) work[i * n + j] = j >= i ? s[sOffset + i * n + j]! : s[sOffset + j * n + i]!;
   }
   for (let sweep = 0; sweep < 50; sweep++) {
     let off = 0;
@@ -208,42 +213,43 @@ export function symmetricEigenvalues(n: number, s: Float64Array, work: Float64Ar
  */
 export function generalizedEigenvalues(n: number, k: Float64Array, m: Float64Array, work: Float64Array, out: Float64Array): boolean {
   const size = n * n;
-  const lower = work.subarray(0, size);
-  const c = work.subarray(size, 2 * size);
-  const rest = work.subarray(2 * size, 3 * size);
-  lower.fill(0);
+  // Layout of work: L at [0, n²), Y = L⁻¹K at [n², 2n²), C at [2n², 3n²); Jacobi reuses [0, n²).
+  const L = 0;
+  const Y = size;
+  const C = 2 * size;
+  for (let i = 0; i < size; i++) work[L + i] = 0;
   for (let j = 0; j < n; j++) {
     let diag = m[j * n + j]!;
-    for (let p = 0; p < j; p++) diag -= lower[j * n + p]! ** 2;
+    for (let p = 0; p < j; p++) diag -= work[L + j * n + p]! ** 2;
     if (!(diag > 0)) {
       for (let i = 0; i < n; i++) out[i] = Number.NaN;
       return false;
     }
     const ljj = Math.sqrt(diag);
-    lower[j * n + j] = ljj;
+    work[L + j * n + j] = ljj;
     for (let i = j + 1; i < n; i++) {
       let v = m[i * n + j]!;
-      for (let p = 0; p < j; p++) v -= lower[i * n + p]! * lower[j * n + p]!;
-      lower[i * n + j] = v / ljj;
+      for (let p = 0; p < j; p++) v -= work[L + i * n + p]! * work[L + j * n + p]!;
+      work[L + i * n + j] = v / ljj;
     }
   }
-  // Y = L⁻¹ K (forward substitution per column), stored in c.
+  // Y = L⁻¹ K (forward substitution per column).
   for (let col = 0; col < n; col++) {
     for (let i = 0; i < n; i++) {
       let v = k[i * n + col]!;
-      for (let p = 0; p < i; p++) v -= lower[i * n + p]! * c[p * n + col]!;
-      c[i * n + col] = v / lower[i * n + i]!;
+      for (let p = 0; p < i; p++) v -= work[L + i * n + p]! * work[Y + p * n + col]!;
+      work[Y + i * n + col] = v / work[L + i * n + i]!;
     }
   }
-  // C = Y L⁻ᵀ: solve L Cᵀ = Yᵀ row by row (C symmetric), written into rest.
+  // C = Y L⁻ᵀ: row r of C solves L z = row r of Y (C is symmetric).
   for (let row = 0; row < n; row++) {
     for (let i = 0; i < n; i++) {
-      let v = c[row * n + i]!;
-      for (let p = 0; p < i; p++) v -= lower[i * n + p]! * rest[row * n + p]!;
-      rest[row * n + i] = v / lower[i * n + i]!;
+      let v = work[Y + row * n + i]!;
+      for (let p = 0; p < i; p++) v -= work[L + i * n + p]! * work[C + row * n + p]!;
+      work[C + row * n + i] = v / work[L + i * n + i]!;
     }
   }
-  symmetricEigenvalues(n, rest, c, out);
+  symmetricEigenvalues(n, work, work, out, C);
   return true;
 }
 

@@ -71,3 +71,38 @@ line(`scaling 1 → 2 workers: ${(efficiency * 100).toFixed(0)} % parallel effic
     rmSync(dir, { recursive: true, force: true });
   }
 }
+
+// 4. Duty cycle: inverse dynamics along a 200-sample cycle per design (run + figures + shortest cycle time), one thread.
+{
+  const { CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis } = await import('../dist/mechanics/dutyCycle.js');
+  const cycleStudy = loadStudyFile(new URL('../studies/parcel-sorter-cycle.yaml', import.meta.url).pathname).study;
+  const duty = cycleStudy.dutyCycle;
+  const evaluator = new Evaluator(cycleStudy);
+  const analysis = new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(duty.path), 200), cycleStudy.friction ?? null);
+  const drive = cycleStudy.drives[0];
+  const limits = {
+    peakTorque: [drive.efficiency * drive.gearRatio * drive.peakTorque, drive.efficiency * drive.gearRatio * drive.peakTorque],
+    ratedTorque: [drive.efficiency * drive.gearRatio * drive.ratedTorque, drive.efficiency * drive.gearRatio * drive.ratedTorque],
+    speed: [drive.maxSpeed / drive.gearRatio, drive.maxSpeed / drive.gearRatio],
+  };
+  const summary = new CycleSummary();
+  const scale = analysis.timeScaleFor(1 / duty.requiredRate);
+  const models = [];
+  let seed = 777;
+  const rand = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+  // Designs around the baseline that assemble along the whole cycle.
+  while (models.length < 100) {
+    const model = evaluator.model(Float64Array.of(0.15 + 0.1 * rand(), 0.27 + 0.06 * rand(), 0.42 + 0.06 * rand()));
+    if (analysis.run(model)) models.push(model);
+  }
+  const count = quick ? 20000 : 200000;
+  for (let k = 0; k < 2000; k++) { analysis.run(models[k % models.length]); analysis.summarise(scale, limits, summary); } // warm-up
+  const t0 = performance.now();
+  let check = 0;
+  for (let k = 0; k < count; k++) {
+    analysis.run(models[k % models.length]);
+    check += analysis.summarise(scale, limits, summary).minCycleTime;
+  }
+  const seconds = (performance.now() - t0) / 1000;
+  line(`duty cycle, single thread: ${(count / seconds).toFixed(0)} cycle evaluations/s (${((seconds / count) * 1e6).toFixed(1)} µs each; ${analysis.samples.count} samples, inverse dynamics + peak/RMS/speed/power + shortest cycle time; mean min cycle time ${(check / count).toFixed(3)} s)`);
+}

@@ -10,6 +10,7 @@ import { MarginGrid } from './grid.js';
 import { METRICS, metricIndex } from './metrics.js';
 import { buildFiveBarModel, designVariables, movingMass, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import type { DriveSpec, Study, TaskRegion } from '../study/types.js';
+import { CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, type CycleDriveLimits } from './dutyCycle.js';
 
 export interface ConstraintDefinition {
   /** Column-safe name, e.g. "task_coverage" or "drive_torque_1". */
@@ -21,7 +22,7 @@ export interface ConstraintDefinition {
   /** Where the bound comes from, for messages. */
   readonly origin: 'study' | 'drive';
   /** Drive limits: the bound follows from the design's drive on this actuator (0 or 1). */
-  readonly driveLimit?: { readonly kind: 'torque' | 'speed'; readonly actuator: 0 | 1 };
+  readonly driveLimit?: { readonly kind: 'torque' | 'speed' | 'cyclePeakTorque' | 'cycleRmsTorque'; readonly actuator: 0 | 1 };
 }
 
 /** Bounds of a constraint for a design with the given drives. */
@@ -33,9 +34,16 @@ export function constraintBounds(
   if (!def.driveLimit) return { ...(def.min !== undefined ? { min: def.min } : {}), ...(def.max !== undefined ? { max: def.max } : {}) };
   if (!drives) return {};
   const drive = drives[def.driveLimit.actuator];
-  return def.driveLimit.kind === 'torque'
-    ? { max: (drive.efficiency * drive.gearRatio * drive.ratedTorque) / study.torqueSafetyFactor }
-    : { max: drive.maxSpeed / drive.gearRatio };
+  switch (def.driveLimit.kind) {
+    case 'torque':
+      return { max: (drive.efficiency * drive.gearRatio * drive.ratedTorque) / study.torqueSafetyFactor };
+    case 'cyclePeakTorque':
+      return { max: drive.efficiency * drive.gearRatio * drive.peakTorque };
+    case 'cycleRmsTorque':
+      return { max: drive.efficiency * drive.gearRatio * drive.ratedTorque };
+    default:
+      return { max: drive.maxSpeed / drive.gearRatio };
+  }
 }
 
 export interface DesignEvaluation {
@@ -82,6 +90,20 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     }
     if (study.task.acceleration > 0) {
       out.push({ name: 'drive_acceleration', metric: 'accel_capability', metricIndex: metricIndex('accel_capability'), min: study.task.acceleration, origin: 'drive' });
+    }
+    if (study.dutyCycle) {
+      // Duty-cycle drive limits (docs/duty-cycle.md): peak ≤ η N τ_peak, RMS ≤ η N τ_rated, speed ≤ ω_max/N.
+      for (const i of [0, 1] as const) {
+        const n = i + 1;
+        out.push(
+          { name: `cycle_torque_${n}`, metric: `cycle_peak_torque_${n}`, metricIndex: metricIndex(`cycle_peak_torque_${n}`), origin: 'drive', driveLimit: { kind: 'cyclePeakTorque', actuator: i } },
+          { name: `cycle_rms_${n}`, metric: `cycle_rms_torque_${n}`, metricIndex: metricIndex(`cycle_rms_torque_${n}`), origin: 'drive', driveLimit: { kind: 'cycleRmsTorque', actuator: i } },
+          { name: `cycle_speed_${n}`, metric: `cycle_peak_speed_${n}`, metricIndex: metricIndex(`cycle_peak_speed_${n}`), origin: 'drive', driveLimit: { kind: 'speed', actuator: i } },
+        );
+      }
+      if (study.dutyCycle.requiredRate) {
+        out.push({ name: 'cycle_rate', metric: 'min_cycle_time', metricIndex: metricIndex('min_cycle_time'), max: 1 / study.dutyCycle.requiredRate, origin: 'drive' });
+      }
     }
   }
   return out;
@@ -161,6 +183,19 @@ const M = {
   resolution: metricIndex('resolution'),
   footprint: metricIndex('footprint'),
   movingMass: metricIndex('moving_mass'),
+  cyclePeakTorque: metricIndex('cycle_peak_torque'),
+  cyclePeakTorque1: metricIndex('cycle_peak_torque_1'),
+  cyclePeakTorque2: metricIndex('cycle_peak_torque_2'),
+  cycleRmsTorque: metricIndex('cycle_rms_torque'),
+  cycleRmsTorque1: metricIndex('cycle_rms_torque_1'),
+  cycleRmsTorque2: metricIndex('cycle_rms_torque_2'),
+  cyclePeakSpeed: metricIndex('cycle_peak_speed'),
+  cyclePeakSpeed1: metricIndex('cycle_peak_speed_1'),
+  cyclePeakSpeed2: metricIndex('cycle_peak_speed_2'),
+  cyclePeakPower: metricIndex('cycle_peak_power'),
+  cyclePeakPower1: metricIndex('cycle_peak_power_1'),
+  cyclePeakPower2: metricIndex('cycle_peak_power_2'),
+  minCycleTime: metricIndex('min_cycle_time'),
 } as const;
 
 /** Running aggregate of the per-pose metrics over the evaluation region. */
@@ -220,6 +255,9 @@ export class Evaluator {
   /** Joint torque limits for acceleration (η N τ_peak), N·m, and joint step per encoder count, rad, of the design in hand. */
   private peakJointTorque: readonly [number, number] | null = null;
   private encoderStep: readonly [number, number] | null = null;
+  /** Duty-cycle analysis (buffers for the study's cycle), or null without a duty cycle. */
+  private readonly cycle: DutyCycleAnalysis | null;
+  private readonly cycleSummary = new CycleSummary();
 
   constructor(study: Study) {
     this.study = study;
@@ -227,6 +265,8 @@ export class Evaluator {
     this.constraints = constraintDefinitions(study);
     this.grid = new MarginGrid(study.evaluation.gridCells + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
+    const duty = study.dutyCycle;
+    this.cycle = duty ? new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(duty.path), duty.samples), study.friction ?? null) : null;
   }
 
   /** Model of a design vector. */
@@ -261,6 +301,7 @@ export class Evaluator {
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, resolved, metrics);
+    this.cycleMetrics(model, resolved, metrics);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -284,6 +325,7 @@ export class Evaluator {
     metrics[M.coverage] = workspace[2]!;
     metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, resolved, metrics);
+    this.cycleMetrics(model, resolved, metrics);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -438,6 +480,42 @@ export class Evaluator {
       const step = Math.sqrt((frob + Math.sqrt(Math.max(frob * frob - 4 * det * det, 0))) / 2);
       if (step > agg.maxStep) agg.maxStep = step;
     }
+  }
+
+  /**
+   * Duty-cycle metrics (docs/duty-cycle.md): figures at the study's cycle time (or 1/required rate,
+   * else the steps' own times) and, with drives, the shortest cycle time. A cycle that leaves the
+   * assembled, non-singular poses gives +∞ for every figure. Left NaN without a duty cycle.
+   */
+  private cycleMetrics(model: FiveBarModel, resolved: ResolvedDesign, metrics: Float64Array): void {
+    const cycle = this.cycle;
+    const duty = this.study.dutyCycle;
+    if (!cycle || !duty) return;
+    cycle.run(model);
+    const drives = resolved.drives;
+    const limits: CycleDriveLimits | null = drives
+      ? {
+          peakTorque: [drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].peakTorque],
+          ratedTorque: [drives[0].efficiency * drives[0].gearRatio * drives[0].ratedTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].ratedTorque],
+          speed: [drives[0].maxSpeed / drives[0].gearRatio, drives[1].maxSpeed / drives[1].gearRatio],
+        }
+      : null;
+    const cycleTime = duty.cycleTime ?? (duty.requiredRate ? 1 / duty.requiredRate : null);
+    const scale = cycleTime === null ? 1 : cycle.timeScaleFor(cycleTime);
+    const r = cycle.summarise(scale, limits, this.cycleSummary);
+    metrics[M.cyclePeakTorque1] = r.peakTorque1;
+    metrics[M.cyclePeakTorque2] = r.peakTorque2;
+    metrics[M.cyclePeakTorque] = Math.max(r.peakTorque1, r.peakTorque2);
+    metrics[M.cycleRmsTorque1] = r.rmsTorque1;
+    metrics[M.cycleRmsTorque2] = r.rmsTorque2;
+    metrics[M.cycleRmsTorque] = Math.max(r.rmsTorque1, r.rmsTorque2);
+    metrics[M.cyclePeakSpeed1] = r.peakSpeed1;
+    metrics[M.cyclePeakSpeed2] = r.peakSpeed2;
+    metrics[M.cyclePeakSpeed] = Math.max(r.peakSpeed1, r.peakSpeed2);
+    metrics[M.cyclePeakPower1] = r.peakPower1;
+    metrics[M.cyclePeakPower2] = r.peakPower2;
+    metrics[M.cyclePeakPower] = Math.max(r.peakPower1, r.peakPower2);
+    metrics[M.minCycleTime] = r.minCycleTime;
   }
 
   private finishMetrics(model: FiveBarModel, resolved: ResolvedDesign, metrics: Float64Array): void {

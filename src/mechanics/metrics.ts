@@ -33,6 +33,20 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'resolution', kind: 'length', better: 'min', description: 'largest end-point step caused by one encoder count' },
   { name: 'footprint', kind: 'length', better: 'min', description: 'size proxy: pivot distance plus the longer leg reach' },
   { name: 'moving_mass', kind: 'mass', better: 'min', description: 'mass of cranks, rods and hubs (payload not included)' },
+  // Duty cycle (NaN when the study gives no duty_cycle); see docs/duty-cycle.md.
+  { name: 'cycle_peak_torque', kind: 'torque', better: 'min', description: 'largest actuator torque |τ_i| along the duty cycle (inertia, velocity terms, gravity, friction)' },
+  { name: 'cycle_peak_torque_1', kind: 'torque', better: 'min', description: 'largest joint-1 torque along the duty cycle' },
+  { name: 'cycle_peak_torque_2', kind: 'torque', better: 'min', description: 'largest joint-2 torque along the duty cycle' },
+  { name: 'cycle_rms_torque', kind: 'torque', better: 'min', description: 'larger of the two actuators\' RMS torques over the duty cycle (root of the time-mean of τ²)' },
+  { name: 'cycle_rms_torque_1', kind: 'torque', better: 'min', description: 'RMS joint-1 torque over the duty cycle' },
+  { name: 'cycle_rms_torque_2', kind: 'torque', better: 'min', description: 'RMS joint-2 torque over the duty cycle' },
+  { name: 'cycle_peak_speed', kind: 'angularSpeed', better: 'min', description: 'largest actuator joint speed along the duty cycle' },
+  { name: 'cycle_peak_speed_1', kind: 'angularSpeed', better: 'min', description: 'largest joint-1 speed along the duty cycle' },
+  { name: 'cycle_peak_speed_2', kind: 'angularSpeed', better: 'min', description: 'largest joint-2 speed along the duty cycle' },
+  { name: 'cycle_peak_power', kind: 'power', better: 'min', description: 'largest joint power |τ_i θ̇_i| of either actuator along the duty cycle' },
+  { name: 'cycle_peak_power_1', kind: 'power', better: 'min', description: 'largest joint-1 power along the duty cycle' },
+  { name: 'cycle_peak_power_2', kind: 'power', better: 'min', description: 'largest joint-2 power along the duty cycle' },
+  { name: 'min_cycle_time', kind: 'time', better: 'min', description: 'shortest duty-cycle time the drives allow (peak and RMS torque, speed), moves scaled, dwells kept' },
 ];
 
 export type MetricName = (typeof METRICS)[number]['name'];

@@ -98,6 +98,35 @@ function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
   return { ideal, nadir };
 }
 
+/**
+ * At the end of a run, every generation's hypervolume is recomputed in one frame: objectives
+ * normalised by the ideal and nadir of the feasible rank-0 members over the whole run (reference
+ * point 1.1 per objective), so the recorded convergence is comparable from the first generation to
+ * the last. The values shown while the run goes are provisional (frame of the first generation with
+ * a spread in every objective).
+ */
+function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
+  const last = store.lastGeneration(runId);
+  if (last === undefined) return;
+  const fronts: number[][][] = [];
+  for (let g = 0; g <= last; g++) {
+    fronts.push(
+      store
+        .generationMembers(runId, g)
+        .filter((m) => m.rank === 0 && m.feasible && m.error === null)
+        .map((m) => sp.study.objectives.map((o) => {
+          const v = m.metrics[o.metric] ?? Number.NaN;
+          const finite = v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v;
+          return o.sense === 'max' ? -finite : finite;
+        })),
+    );
+  }
+  const frame = frameFrom(fronts.flat());
+  const values = new Map<number, number | null>();
+  fronts.forEach((front, g) => values.set(g, frame ? frameHypervolume(front, frame) : null));
+  store.setHypervolumes(runId, values);
+}
+
 export class WarmStartError extends Error {
   override readonly name = 'WarmStartError';
 }
@@ -222,6 +251,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         break;
       }
     }
+    if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
     store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
     return {
       runId,

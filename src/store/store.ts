@@ -726,6 +726,14 @@ export class Store {
     return this.selectStatsStatement.all(runId).map(toStatsRow);
   }
 
+  /** Replace the recorded hypervolume of generations of a run (one transaction). */
+  setHypervolumes(runId: number, values: ReadonlyMap<number, number | null>): void {
+    const update = this.db.prepare('UPDATE generation_stats SET hypervolume = ? WHERE run_id = ? AND generation = ?');
+    this.db.transaction(() => {
+      for (const [generation, value] of values) update.run(value === null || Number.isNaN(value) ? null : value, runId, generation);
+    })();
+  }
+
   // ---------------------------------------------------------------- internals
 
   private nowIso(): string {

@@ -10,12 +10,14 @@ import { Ajv, type ErrorObject } from 'ajv';
 import { parseAllDocuments, parseDocument, stringify } from 'yaml';
 import type { AssemblyMode, JointRange, WorkingMode } from '../mechanics/fivebar.js';
 import { metricInfo } from '../mechanics/metrics.js';
+import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../mechanics/dutyCycle.js';
 import { parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
   FIVE_BAR_PARAMETERS,
   type ConstraintSpec,
   type DriveSpec,
+  type DutyCycleSpec,
   type FiveBarParameter,
   type LinkSpec,
   type ObjectiveSpec,
@@ -217,6 +219,9 @@ export function evaluationSettingsHash(study: Study): string {
     task: study.task,
     evaluation: study.evaluation,
     constraints: study.constraints,
+    // Added only when present, so studies without them keep their earlier hashes.
+    dutyCycle: study.dutyCycle ?? undefined,
+    friction: study.friction ?? undefined,
   };
   return sha256(canonicalJson(relevant));
 }
@@ -424,6 +429,10 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
     minTransmissionAngle,
   };
 
+  const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle']) : null;
+  const friction = isObject(data['friction']) ? buildFriction(data['friction']) : null;
+  if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
+
   const objectives: ObjectiveSpec[] = (data['objectives'] as JsonObject[]).map((o, i) => {
     const metric = o['metric'] as string;
     const info = metricInfo(metric);
@@ -445,6 +454,12 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
     if (c['max'] !== undefined) spec.max = q(c['max'], info.kind, `${where}.max`);
     if (spec.min !== undefined && spec.max !== undefined && spec.max < spec.min) throw new StudyError(`${where}: max is below min`);
     return spec;
+  });
+
+  const cycleMetric = (metric: string): boolean => metric.startsWith('cycle_') || metric === 'min_cycle_time';
+  [...objectives.map((o, i) => ({ metric: o.metric, where: `objectives[${i}].metric` })), ...constraints.map((c, i) => ({ metric: c.metric, where: `constraints[${i}].metric` }))].forEach(({ metric, where }) => {
+    if (cycleMetric(metric) && !dutyCycle) throw new StudyError(`${where}: "${metric}" needs a duty_cycle section`);
+    if (metric === 'min_cycle_time' && !drivesIn) throw new StudyError(`${where}: "min_cycle_time" needs drives (their limits set the shortest cycle time)`);
   });
 
   const optIn = isObject(data['optimizer']) ? data['optimizer'] : {};
@@ -473,6 +488,8 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
     torqueSafetyFactor,
     task,
     evaluation,
+    dutyCycle,
+    friction,
     objectives,
     constraints,
     optimizer,
@@ -623,4 +640,94 @@ function buildDrive(raw: JsonObject, where: string): DriveSpec {
     jointStiffness: positive(q(raw['joint_stiffness'], 'rotationalStiffness', `${where}.joint_stiffness`, Infinity), `${where}.joint_stiffness`),
     encoderCounts,
   };
+}
+
+/** Duty cycle: waypoints by name or inline points, steps with motion laws and times, closed path. */
+function buildDutyCycle(raw: JsonObject): DutyCycleSpec {
+  const waypoints = new Map<string, [number, number]>();
+  const waypointsIn = isObject(raw['waypoints']) ? raw['waypoints'] : {};
+  for (const [name, value] of Object.entries(waypointsIn)) {
+    const point = value as Json[];
+    waypoints.set(name, [q(point[0], 'length', `duty_cycle.waypoints.${name}[0]`), q(point[1], 'length', `duty_cycle.waypoints.${name}[1]`)]);
+  }
+  const point = (value: Json | undefined, where: string): [number, number] => {
+    if (typeof value === 'string') {
+      const hit = waypoints.get(value);
+      if (!hit) throw new StudyError(`${where}: "${value}" is not a waypoint (known: ${[...waypoints.keys()].join(', ') || 'none'})`);
+      return hit;
+    }
+    const pair = value as Json[];
+    return [q(pair[0], 'length', `${where}[0]`), q(pair[1], 'length', `${where}[1]`)];
+  };
+  let start: [number, number];
+  if (raw['start'] !== undefined) start = point(raw['start'], 'duty_cycle.start');
+  else {
+    const first = waypoints.values().next();
+    if (first.done) throw new StudyError('duty_cycle.start: give a start point (or at least one waypoint)');
+    start = first.value;
+  }
+  const steps: CycleStep[] = (raw['steps'] as JsonObject[]).map((step, i) => {
+    const where = `duty_cycle.steps[${i}]`;
+    const label = typeof step['label'] === 'string' ? { label: step['label'] } : {};
+    if (step['dwell'] !== undefined) {
+      return { kind: 'dwell', time: positive(q(step['dwell'], 'time', `${where}.dwell`), `${where}.dwell`), ...label };
+    }
+    const law = step['law'] as MotionLaw;
+    const time = positive(q(step['time'], 'time', `${where}.time`), `${where}.time`);
+    const accel = typeof step['accel_fraction'] === 'number' ? { accelFraction: step['accel_fraction'] } : {};
+    if (step['accel_fraction'] !== undefined && law !== 'trapezoidal') throw new StudyError(`${where}.accel_fraction: only a trapezoidal law has one`);
+    if (step['move_to'] !== undefined) return { kind: 'move', to: point(step['move_to'], `${where}.move_to`), law, time, ...accel, ...label };
+    return { kind: 'arc', centre: point(step['arc_about'], `${where}.arc_about`), angle: q(step['angle'], 'angle', `${where}.angle`), law, time, ...accel, ...label };
+  });
+  if (!steps.some((s) => s.kind !== 'dwell')) throw new StudyError('duty_cycle.steps: a cycle needs at least one move');
+  const end = pathEnd({ start, steps });
+  if (Math.hypot(end[0] - start[0], end[1] - start[1]) > 1e-9) {
+    throw new StudyError(
+      `duty_cycle.steps: the cycle ends at (${fmtMm(end[0])}, ${fmtMm(end[1])}) mm, not where it starts (${fmtMm(start[0])}, ${fmtMm(start[1])}) mm; add the move back`,
+    );
+  }
+  const dwellTime = steps.reduce((sum, s) => sum + (s.kind === 'dwell' ? s.time : 0), 0);
+  let cycleTime: number | null = null;
+  if (raw['cycle_time'] !== undefined) {
+    cycleTime = positive(q(raw['cycle_time'], 'time', 'duty_cycle.cycle_time'), 'duty_cycle.cycle_time');
+    if (!(cycleTime > dwellTime)) throw new StudyError(`duty_cycle.cycle_time: must be longer than the dwells (${dwellTime} s in all)`);
+  }
+  let requiredRate: number | null = null;
+  if (raw['required_rate'] !== undefined) {
+    requiredRate = positive(q(raw['required_rate'], 'frequency', 'duty_cycle.required_rate'), 'duty_cycle.required_rate');
+    if (!(1 / requiredRate > dwellTime)) throw new StudyError(`duty_cycle.required_rate: 1/rate must be longer than the dwells (${dwellTime} s in all)`);
+  }
+  return { path: { start, steps }, cycleTime, requiredRate, samples: (raw['samples'] as number | undefined) ?? 200 };
+}
+
+/** Joint friction: `both`, or `actuator_1` and `actuator_2` (either falls back to `both`; missing = none). */
+function buildFriction(raw: JsonObject): [JointFriction, JointFriction] {
+  const one = (name: 'actuator_1' | 'actuator_2'): JointFriction => {
+    const entry = raw[name] ?? raw['both'];
+    const where = `friction.${raw[name] !== undefined ? name : 'both'}`;
+    if (!isObject(entry)) return { viscous: 0, coulomb: 0 };
+    return {
+      viscous: positive(viscousCoefficient(entry['viscous'], `${where}.viscous`), `${where}.viscous`, true),
+      coulomb: positive(q(entry['coulomb'], 'torque', `${where}.coulomb`, 0), `${where}.coulomb`, true),
+    };
+  };
+  return [one('actuator_1'), one('actuator_2')];
+}
+
+/**
+ * A viscous coefficient, N·m·s/rad. units.ts has no such kind, so "<number> <unit>" is read as
+ * "<number> (<unit>)/s", a rotational stiffness, which has exactly the dimensions of N·m·s/rad ÷ s.
+ */
+function viscousCoefficient(value: Json | undefined, where: string): number {
+  if (value === undefined || value === null) return 0;
+  if (typeof value === 'number') return q(value, 'rotationalStiffness', where);
+  const match = /^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S.*)?$/.exec(String(value));
+  if (!match) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example "0.02 N*m*s/rad" or 0.02)`);
+  if (match[2] === undefined) return Number(match[1]);
+  try {
+    return parseQuantity(`${match[1]} (${match[2]})/s`, 'rotationalStiffness', where);
+  } catch (error) {
+    if (error instanceof UnitError) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example "0.02 N*m*s/rad" or 0.02)`);
+    throw error;
+  }
 }

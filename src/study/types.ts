@@ -2,6 +2,7 @@
  * A study after parsing and validation: typed, every quantity in SI units.
  */
 import type { AssemblyMode, JointRange, WorkingMode } from '../mechanics/fivebar.js';
+import type { CyclePath, JointFriction } from '../mechanics/dutyCycle.js';
 
 export type Architecture = 'five-bar';
 
@@ -84,6 +85,18 @@ export interface OptimizerSettings {
   readonly seed: number;
 }
 
+/** A duty cycle the design must run (see docs/duty-cycle.md). */
+export interface DutyCycleSpec {
+  /** The closed end-point path: start point and steps (moves, arcs, dwells) in reference timing, SI. */
+  readonly path: CyclePath;
+  /** Cycle time to evaluate at, s: the moves are scaled to reach it (dwells unchanged); null = the steps' own times. */
+  readonly cycleTime: number | null;
+  /** Required cycle rate, cycles/s; adds the constraint min_cycle_time ≤ 1/rate. Null = none. */
+  readonly requiredRate: number | null;
+  /** Sample budget along the cycle. */
+  readonly samples: number;
+}
+
 export interface Study {
   readonly name: string;
   readonly description: string;
@@ -118,6 +131,10 @@ export interface Study {
     readonly acceleration: number;
   };
   readonly evaluation: EvaluationSettings;
+  /** Duty cycle, when the study gives one (absent or null = none). */
+  readonly dutyCycle?: DutyCycleSpec | null;
+  /** Friction of the actuated joints (viscous, Coulomb), used along the duty cycle; absent or null = none. */
+  readonly friction?: readonly [JointFriction, JointFriction] | null;
   readonly objectives: readonly ObjectiveSpec[];
   readonly constraints: readonly ConstraintSpec[];
   /** Baseline design: a value for every design variable. */

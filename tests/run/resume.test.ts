@@ -168,7 +168,11 @@ describe('loopsmith run, interrupted and resumed', () => {
     expect(memberCountsByGeneration(dbPath, run.id)).toEqual(new Array<number>(committed).fill(POPULATION));
     expect(membersBelow(dbPath, run.id, committed)).toEqual(membersBelow(referenceDb, 1, committed));
     const stoppedDump = dumpDatabase(dbPath);
-    expect(stoppedDump['generation_stats']).toEqual(reference['generation_stats']!.slice(0, committed));
+    // The hypervolume of an unfinished run is provisional (each generation's is recomputed in one
+    // frame when the run finishes), so it is left out here; the full dumps are compared after resuming.
+    const withoutHypervolume = (rows: readonly Record<string, unknown>[]): Record<string, unknown>[] =>
+      rows.map(({ hypervolume: _hypervolume, ...rest }) => rest);
+    expect(withoutHypervolume(stoppedDump['generation_stats']!)).toEqual(withoutHypervolume(reference['generation_stats']!.slice(0, committed)));
 
     // Not quiet this time, to see the command say that it resumed.
     const resumed = await runCli(runArgs(SMALL_STUDY, dbPath, { ...RUN_SETTINGS, quiet: false }));

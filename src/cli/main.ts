@@ -17,6 +17,7 @@ import { formatMetric, formatValue, table, toJson } from './format.js';
 import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
+import { registerSimulateCommands } from './simulateCommands.js';
 
 /** An error whose message is for the user as it stands. */
 export class UserError extends Error {
@@ -27,7 +28,7 @@ export class UserError extends Error {
 }
 
 /** Errors whose message is meant for the user (bad input, missing files, refused queries). */
-const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError']);
+const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError', 'SimulationError']);
 
 export function isUserError(error: unknown): error is Error {
   return (
@@ -207,6 +208,7 @@ export function buildCli(argv: readonly string[]): Argv {
   cli = registerStoreCommands(cli);
   cli = registerReportCommands(cli);
   cli = registerExportCommands(cli);
+  cli = registerSimulateCommands(cli);
   return cli
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()

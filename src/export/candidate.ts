@@ -12,6 +12,7 @@ import {
   FiveBarPose,
   PoseStatus,
   poseDynamics,
+  reachableBox,
   solvePose,
   type FiveBarModel,
   type JointRange,
@@ -229,14 +230,9 @@ export function homeEndPoint(design: CandidateDesign): { point: PlanePoint; sour
   }
   const cells = study.evaluation.gridCells;
   const grid = new MarginGrid(cells + 4);
-  const r1 = model.crank[0] + model.rod[0];
-  const r2 = model.crank[1] + model.rod[1];
-  const xmin = Math.max(model.pivotX[0] - r1, model.pivotX[1] - r2);
-  const xmax = Math.min(model.pivotX[0] + r1, model.pivotX[1] + r2);
-  const ymin = Math.max(model.pivotY[0] - r1, model.pivotY[1] - r2);
-  const ymax = Math.min(model.pivotY[0] + r1, model.pivotY[1] + r2);
-  if (!(xmax > xmin && ymax > ymin)) throw new ExportError('the two legs have no common reach: no pose to export');
-  grid.layout(xmin, xmax, ymin, ymax, cells);
+  const box = reachableBox(model);
+  if (!box) throw new ExportError('the two legs have no common reach: no pose to export');
+  grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
   const { nx, ny, x0, y0, h, values, labels } = grid;
   for (let j = 0; j < ny; j++) {
     for (let i = 0; i < nx; i++) {

@@ -5,7 +5,7 @@
  * An Evaluator is made once per study and per worker; it owns every buffer, so evaluating a design
  * allocates only its small result object. Pure: no I/O.
  */
-import { FiveBarPose, PoseStatus, footprint, poseDynamics, solvePose, type FiveBarModel } from './fivebar.js';
+import { FiveBarPose, PoseStatus, footprint, poseDynamics, reachableBox, solvePose, type FiveBarModel } from './fivebar.js';
 import { MarginGrid } from './grid.js';
 import { METRICS, metricIndex } from './metrics.js';
 import { buildFiveBarModel, designVariables, movingMass, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
@@ -349,16 +349,10 @@ export class Evaluator {
   private analyseWorkspace(model: FiveBarModel, metrics: Float64Array): void {
     const grid = this.grid;
     const pose = this.pose;
-    // Bounding box of the reachable set: intersection of the legs' outer discs' boxes.
-    const r1 = model.crank[0] + model.rod[0];
-    const r2 = model.crank[1] + model.rod[1];
-    const xmin = Math.max(model.pivotX[0] - r1, model.pivotX[1] - r2);
-    const xmax = Math.min(model.pivotX[0] + r1, model.pivotX[1] + r2);
-    const ymin = Math.max(model.pivotY[0] - r1, model.pivotY[1] - r2);
-    const ymax = Math.min(model.pivotY[0] + r1, model.pivotY[1] + r2);
+    const box = reachableBox(model);
     const agg = this.aggregate;
     agg.reset();
-    if (!(xmax > xmin && ymax > ymin)) {
+    if (!box) {
       metrics[M.reachable] = 0;
       metrics[M.workspace] = 0;
       metrics[M.inscribed] = 0;
@@ -366,7 +360,7 @@ export class Evaluator {
       if (this.task) this.aggregateTask(model, -1);
       return;
     }
-    grid.layout(xmin, xmax, ymin, ymax, this.study.evaluation.gridCells);
+    grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, this.study.evaluation.gridCells);
     const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
     // One sampling pass: reach margin (m) for the reachable area, usable margin for the workspace.
     for (let j = 0; j < ny; j++) {

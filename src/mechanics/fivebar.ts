@@ -371,6 +371,20 @@ export function forwardKinematics(model: FiveBarModel, theta1: number, theta2: n
   return true;
 }
 
+/**
+ * Bounding box of the reachable set, m: the intersection of the boxes of the legs' outer discs
+ * (radius p_i + d_i about A_i); null when those boxes do not overlap.
+ */
+export function reachableBox(model: FiveBarModel): { xmin: number; xmax: number; ymin: number; ymax: number } | null {
+  const r1 = model.crank[0] + model.rod[0];
+  const r2 = model.crank[1] + model.rod[1];
+  const xmin = Math.max(model.pivotX[0] - r1, model.pivotX[1] - r2);
+  const xmax = Math.min(model.pivotX[0] + r1, model.pivotX[1] + r2);
+  const ymin = Math.max(model.pivotY[0] - r1, model.pivotY[1] - r2);
+  const ymax = Math.min(model.pivotY[0] + r1, model.pivotY[1] + r2);
+  return xmax > xmin && ymax > ymin ? { xmin, xmax, ymin, ymax } : null;
+}
+
 /** Overall size proxy: distance between the pivots plus the longer leg's full reach, m. */
 export function footprint(model: FiveBarModel): number {
   const span = Math.hypot(model.pivotX[1] - model.pivotX[0], model.pivotY[1] - model.pivotY[0]);

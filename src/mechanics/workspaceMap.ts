@@ -5,7 +5,7 @@
  * usableMargin, MarginGrid, the same bounding box and region choice), so what a map shows is what the
  * metrics measured. Plain computation: no drawing here (see src/report).
  */
-import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from './fivebar.js';
+import { FiveBarPose, PoseStatus, reachableBox, solvePose, type FiveBarModel } from './fivebar.js';
 import { usableMargin } from './evaluate.js';
 import { MarginGrid } from './grid.js';
 import type { Study } from '../study/types.js';
@@ -56,15 +56,7 @@ export interface HomePose {
 }
 
 /** Bounding box of the reachable set, m (the evaluator's box): null when the legs' discs do not overlap. */
-export function reachableBox(model: FiveBarModel): { xmin: number; xmax: number; ymin: number; ymax: number } | null {
-  const r1 = model.crank[0] + model.rod[0];
-  const r2 = model.crank[1] + model.rod[1];
-  const xmin = Math.max(model.pivotX[0] - r1, model.pivotX[1] - r2);
-  const xmax = Math.min(model.pivotX[0] + r1, model.pivotX[1] + r2);
-  const ymin = Math.max(model.pivotY[0] - r1, model.pivotY[1] - r2);
-  const ymax = Math.min(model.pivotY[0] + r1, model.pivotY[1] + r2);
-  return xmax > xmin && ymax > ymin ? { xmin, xmax, ymin, ymax } : null;
-}
+export { reachableBox };
 
 /**
  * Sample every field of the map on the evaluator's grid (`cells` across the longer side of the

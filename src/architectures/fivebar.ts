@@ -9,6 +9,7 @@ import {
   footprint as fiveBarFootprint,
   forwardKinematics as fiveBarForwardKinematics,
   poseDynamics as fiveBarPoseDynamics,
+  reachableBox as fiveBarReachableBox,
   solvePose as fiveBarSolvePose,
   type FiveBarModel,
 } from '../mechanics/fivebar.js';
@@ -174,16 +175,7 @@ export const fiveBar: PlanarArchitecture<FiveBarArchitectureModel> = {
     const buffer = out.length >= 2 ? out : new Float64Array(2);
     return fiveBarForwardKinematics(model.engine, q[0]!, q[1]!, buffer);
   },
-  reachableBox(model): PlaneBox | null {
-    const m = model.engine;
-    const r1 = m.crank[0] + m.rod[0];
-    const r2 = m.crank[1] + m.rod[1];
-    const xmin = Math.max(m.pivotX[0] - r1, m.pivotX[1] - r2);
-    const xmax = Math.min(m.pivotX[0] + r1, m.pivotX[1] + r2);
-    const ymin = Math.max(m.pivotY[0] - r1, m.pivotY[1] - r2);
-    const ymax = Math.min(m.pivotY[0] + r1, m.pivotY[1] + r2);
-    return xmax > xmin && ymax > ymin ? { xmin, xmax, ymin, ymax } : null;
-  },
+  reachableBox: (model): PlaneBox | null => fiveBarReachableBox(model.engine),
   footprint: (model) => fiveBarFootprint(model.engine),
   movingMass: (model) => model.movingMass,
 };

@@ -1,6 +1,118 @@
 /** The `simulate` command: forward simulation of one design along the study's duty cycle. */
 import type { Argv } from 'yargs';
+import { loadStudyFile } from '../study/parse.js';
+import { parseQuantity, type QuantityKind } from '../study/units.js';
+import { CONTROLLER_KINDS, SimulationError, type ControllerKind, type SimulationResult, type SimulationSummary } from '../simulate/simulate.js';
+import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup } from '../simulate/study.js';
+import { writeSimulationOutputs } from '../simulate/plots.js';
+import { formatValue, table, toJson } from './format.js';
+
+const out = (text: string): void => {
+  process.stdout.write(text.endsWith('\n') ? text : text + '\n');
+};
+
+function asStrings(value: unknown): string[] {
+  if (value === undefined) return [];
+  return (Array.isArray(value) ? value : [value]).map(String);
+}
+
+/** A quantity from the command line: a plain number is taken in SI units. */
+function optionQuantity(text: string | undefined, kind: QuantityKind, option: string): number | undefined {
+  if (text === undefined) return undefined;
+  const trimmed = text.trim();
+  const value = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(trimmed) ? Number(trimmed) : parseQuantity(trimmed, kind, option);
+  return value;
+}
+
+/** The JSON written by --json and into summary.json. */
+export function simulationJson(setup: StudySimulationSetup, summary: SimulationSummary): Record<string, unknown> {
+  return {
+    study: setup.study.name,
+    design: setup.design,
+    cycleTime: setup.cycleTime,
+    drives: setup.driveLabels,
+    ...summary,
+  };
+}
+
+function summaryText(setup: StudySimulationSetup, result: SimulationResult): string {
+  const s = result.summary;
+  const design = Object.entries(setup.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, 'length') : v}`).join(', ');
+  const lines = [
+    `${setup.study.name} — design: ${design || '(no design variables)'}`,
+    `controller: ${s.controller}${s.controller === 'none' ? '' : ` (natural frequency ${s.naturalFrequency} Hz, damping ratio ${s.dampingRatio})`}; simulated ${formatValue(s.duration, 'time')} (cycle ${formatValue(setup.cycleTime, 'time')})${s.extraEndMass > 0 ? `; plant carries ${formatValue(s.extraEndMass, 'mass')} the controller does not know` : ''}`,
+    '',
+  ];
+  const limit = (v: number | null, kind: QuantityKind): string => (v === null ? '—' : formatValue(v, kind));
+  const ok = (v: boolean | null): string => (v === null ? '—' : v ? 'yes' : 'NO');
+  const rows = s.joints.map((j, i) => [
+    `joint ${i + 1}`,
+    `${(j.maxTrackingError * 1000).toPrecision(3)}`,
+    formatValue(j.peakTorque, 'torque'), limit(j.peakTorqueLimit, 'torque'), ok(j.withinPeakTorque),
+    formatValue(j.rmsTorque, 'torque'), limit(j.ratedTorqueLimit, 'torque'), ok(j.withinRatedTorque),
+    formatValue(j.peakSpeed, 'angularSpeed'), limit(j.speedLimit, 'angularSpeed'), ok(j.withinSpeed),
+  ]);
+  lines.push(table(['joint', 'max |e| (mrad)', 'peak τ', 'limit', 'ok', 'RMS τ', 'rated', 'ok', 'peak speed', 'limit', 'ok'], rows));
+  lines.push(
+    '',
+    `max end-point tracking error: ${formatValue(s.maxEndPointError, 'length')}`,
+    `max loop-closure error |Φ|: ${s.maxClosureError.toExponential(2)} m`,
+    `energy balance |E − E₀ − ∫(τ − f)·θ̇ dt|: ${s.energyResidual.toExponential(2)} J (${s.relativeEnergyResidual.toExponential(2)} of the largest kinetic energy)`,
+    `integrator: ${s.integrator.acceptedSteps} steps (${s.integrator.rejectedSteps} rejected), ${s.integrator.evaluations} evaluations over ${s.integrator.segments} smooth stretches`,
+  );
+  return lines.join('\n');
+}
 
 export function registerSimulateCommands(cli: Argv): Argv {
-  return cli;
+  return cli.command(
+    'simulate <study>',
+    'forward-simulate one design (baseline with overrides) along the duty cycle under a tracking controller',
+    (y) =>
+      y
+        .positional('study', { type: 'string', demandOption: true })
+        .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
+        .option('controller', { type: 'string', choices: [...CONTROLLER_KINDS], default: 'computed-torque', describe: 'tracking controller on the actuated joints' })
+        .option('duration', { type: 'string', describe: 'simulated time (default: one cycle), e.g. 2.4s' })
+        .option('frequency', { type: 'string', describe: 'closed-loop natural frequency of the tracking error (default 30 Hz)' })
+        .option('damping', { type: 'number', describe: 'damping ratio of the tracking error (default 1)' })
+        .option('extra-payload', { type: 'string', describe: 'extra end mass the plant carries but the controller does not know (e.g. 0.2kg)' })
+        .option('friction', { type: 'boolean', default: true, describe: 'include the study\'s joint friction (--no-friction to leave it out)' })
+        .option('interval', { type: 'string', describe: 'spacing of the recorded samples (default 1 ms)' })
+        .option('out', { type: 'string', describe: 'folder for the charts (SVG and PNG), timeseries.csv and summary.json' })
+        .option('json', { type: 'boolean', default: false, describe: 'print the summary as JSON' }),
+    async (args) => {
+      const loaded = loadStudyFile(args.study);
+      const duration = optionQuantity(args.duration, 'time', '--duration');
+      const frequency = optionQuantity(args.frequency, 'frequency', '--frequency');
+      const extraEndMass = optionQuantity(args['extra-payload'], 'mass', '--extra-payload');
+      const interval = optionQuantity(args.interval, 'time', '--interval');
+      if (duration !== undefined && !(duration > 0 && duration <= 3600)) throw new SimulationError('--duration must be positive and at most an hour');
+      if (frequency !== undefined && !(frequency > 0)) throw new SimulationError('--frequency must be positive');
+      if (args.damping !== undefined && !(args.damping > 0)) throw new SimulationError('--damping must be positive');
+      if (extraEndMass !== undefined && !(extraEndMass >= 0)) throw new SimulationError('--extra-payload must be zero or positive');
+      if (interval !== undefined && !(interval > 0)) throw new SimulationError('--interval must be positive');
+      const setup = prepareStudySimulation(loaded.study, asStrings(args.set));
+      setup.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
+      const effectiveDuration = duration ?? setup.cycleTime;
+      const effectiveInterval = interval ?? 1e-3;
+      if (effectiveDuration / effectiveInterval > 2_000_000) throw new SimulationError('too many samples: lengthen --interval or shorten --duration');
+      const result = simulateStudyDesign(setup, {
+        controller: args.controller as ControllerKind,
+        duration: effectiveDuration,
+        outputInterval: effectiveInterval,
+        friction: args.friction,
+        ...(frequency !== undefined ? { naturalFrequency: frequency } : {}),
+        ...(args.damping !== undefined ? { dampingRatio: args.damping } : {}),
+        ...(extraEndMass !== undefined ? { extraEndMass } : {}),
+      });
+      const json = toJson(simulationJson(setup, result.summary));
+      const written = args.out ? await writeSimulationOutputs(args.out, result, setup.limits, setup.study.name, json) : [];
+      if (args.json) {
+        out(json);
+        return;
+      }
+      out(summaryText(setup, result));
+      if (written.length > 0) out(`\nwrote ${written.length} files to ${args.out}: ${written.map((p) => p.slice(args.out!.length).replace(/^[\\/]/, '')).join(', ')}`);
+    },
+  );
 }

@@ -106,3 +106,27 @@ line(`scaling 1 → 2 workers: ${(efficiency * 100).toFixed(0)} % parallel effic
   const seconds = (performance.now() - t0) / 1000;
   line(`duty cycle, single thread: ${(count / seconds).toFixed(0)} cycle evaluations/s (${((seconds / count) * 1e6).toFixed(1)} µs each; ${analysis.samples.count} samples, inverse dynamics + peak/RMS/speed/power + shortest cycle time; mean min cycle time ${(check / count).toFixed(3)} s)`);
 }
+
+// 5. Architectures: design evaluations per second of each demo study's baseline neighbourhood, one thread.
+{
+  const { designFromValues } = await import('../dist/mechanics/designSpace.js');
+  const files = ['parcel-sorter.yaml', 'rail-sorter-2prr.yaml', 'platform-3rrr.yaml', 'platform-3prr.yaml', 'compare-fivebar-2prr.yaml'];
+  for (const file of files) {
+    const s = loadStudyFile(new URL(`../studies/${file}`, import.meta.url).pathname).study;
+    const evaluator = new Evaluator(s);
+    const baseline = designFromValues(evaluator.variables, s.baseline);
+    let seed = 4242;
+    const rand = () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+    // Designs within ±5 % of the baseline's real variables (categorical ones kept).
+    const designs = Array.from({ length: 32 }, () =>
+      Float64Array.from(baseline, (v, k) => (evaluator.variables[k].kind === 'real' ? v * (0.95 + 0.1 * rand()) : v)),
+    );
+    for (let k = 0; k < 8; k++) evaluator.evaluate(designs[k % designs.length]); // warm-up
+    const count = quick ? 32 : 200;
+    const t0 = performance.now();
+    for (let k = 0; k < count; k++) evaluator.evaluate(designs[k % designs.length]);
+    const seconds = (performance.now() - t0) / 1000;
+    const arch = s.members ? s.members.map((m) => m.architecture).join('+') : s.architecture;
+    line(`architecture ${arch} (${file}), single thread: ${(count / seconds).toFixed(1)} samples/s (${((seconds / count) * 1e3).toFixed(2)} ms per design; grid ${s.evaluation.gridCells} cells, ${s.evaluation.taskSamples} task samples${s.orientation ? `, orientation scan every ${((s.orientation.step * 180) / Math.PI).toFixed(1)}°` : ''})`);
+  }
+}

@@ -2,13 +2,14 @@
  * Programmatic API for single designs: baseline plus overrides, full evaluation report, one-pose probe,
  * study summary. The CLI commands `check`, `evaluate` and `probe` are thin wrappers over these.
  */
-import { DesignError, designFromValues, designToValues, designVariables, type DesignVariable } from '../mechanics/designSpace.js';
+import { DesignError, designFromValues, designToValues, designVariables, variableKind, type DesignVariable } from '../mechanics/designSpace.js';
 import { Evaluator, type DesignEvaluation } from '../mechanics/evaluate.js';
 import { METRICS } from '../mechanics/metrics.js';
-import { probePose, type PoseReport } from '../mechanics/probe.js';
-import { WORKING_MODES } from '../mechanics/fivebar.js';
+import { probeArchitecturePose, probePose, type ArchitecturePoseReport, type PoseReport } from '../mechanics/probe.js';
+import { ARCHITECTURES } from '../architectures/index.js';
 import { parseQuantity, UnitError } from '../study/units.js';
-import { FIVE_BAR_PARAMETERS, type FiveBarParameter, type Study } from '../study/types.js';
+import type { Study } from '../study/types.js';
+import { WORKING_MODES } from '../mechanics/fivebar.js';
 
 export interface DesignChoice {
   /** The study, with fixed parameters replaced where an override named one. */
@@ -29,39 +30,55 @@ export interface DesignChoice {
 export function chooseDesign(study: Study, overrides: readonly string[] = []): DesignChoice {
   const values: Record<string, number | string> = { ...study.baseline };
   const warnings: string[] = [];
+  const variablesBefore = designVariables(study);
+  const variableNames = new Set(variablesBefore.map((v) => v.name));
   let geometry = study.geometry;
+  const architecture = ARCHITECTURES[study.architecture];
   for (const raw of overrides) {
     const eq = raw.indexOf('=');
     if (eq <= 0) throw new DesignError(`--set ${raw}: expected NAME=VALUE, for example --set crank_1=320mm`);
     const name = raw.slice(0, eq).trim();
     const text = raw.slice(eq + 1).trim();
-    if (name === 'drive' || name === 'drive_1' || name === 'drive_2') {
+    if (name === 'working_mode' && !study.members) {
+      const modes: readonly string[] = study.architecture === 'five-bar' ? WORKING_MODES : architecture.workingModes;
+      if (!modes.includes(text)) throw new DesignError(`--set working_mode: expected one of ${modes.join(', ')}`);
+      if (study.workingModes.length > 1) values[name] = text;
+      else study = { ...study, workingModes: [text] };
+      continue;
+    }
+    const categorical = variablesBefore.find((v) => v.name === name && v.kind === 'categorical');
+    if (categorical) {
       values[name] = text;
       continue;
     }
-    if (name === 'working_mode') {
-      if (!(WORKING_MODES as readonly string[]).includes(text)) throw new DesignError(`--set working_mode: expected one of ${WORKING_MODES.join(', ')}`);
-      if (study.workingModes.length > 1) values[name] = text;
-      else study = { ...study, workingModes: [text as (typeof WORKING_MODES)[number]] };
+    if (name === 'drive' || /^drive_[123]$/.test(name)) {
+      values[name] = text;
       continue;
     }
-    if (!(FIVE_BAR_PARAMETERS as readonly string[]).includes(name)) {
-      throw new DesignError(`--set ${name}: unknown name (expected one of ${FIVE_BAR_PARAMETERS.join(', ')}, working_mode, drive, drive_1, drive_2)`);
-    }
+    const variable = variablesBefore.find((v) => v.name === name);
+    const kind = variableKind(study, name);
     let value: number;
     try {
-      value = parseQuantity(text, 'length', `--set ${name}`);
+      value = parseQuantity(text, kind, `--set ${name}`);
     } catch (error) {
       if (error instanceof UnitError) throw new DesignError(error.message);
       throw error;
     }
-    const spec = geometry[name as FiveBarParameter];
-    if (spec.kind === 'variable') {
+    const unit = kind === 'angle' ? 'rad' : 'm';
+    if (variable && variable.kind === 'real') {
       values[name] = value;
-      if (value < spec.min || value > spec.max) warnings.push(`${name} = ${value} m lies outside its bounds [${spec.min}, ${spec.max}] m`);
-    } else if (spec.kind === 'fixed') {
+      if (value < variable.min || value > variable.max) warnings.push(`${name} = ${value} ${unit} lies outside its bounds [${variable.min}, ${variable.max}] ${unit}`);
+      continue;
+    }
+    const parameters = architecture.parameters.map((p) => p.name);
+    if (study.members || !parameters.includes(name)) {
+      const known = study.members ? [...variableNames] : [...parameters, 'working_mode', 'drive', 'drive_1', 'drive_2', ...(architecture.dof === 3 ? ['drive_3'] : [])];
+      throw new DesignError(`--set ${name}: unknown name (expected one of ${known.join(', ')})`);
+    }
+    const spec = geometry[name]!;
+    if (spec.kind === 'fixed') {
       geometry = { ...geometry, [name]: { kind: 'fixed', value } };
-    } else {
+    } else if (spec.kind === 'tied') {
       throw new DesignError(`--set ${name}: this parameter is tied to ${spec.to}; set ${spec.to} instead`);
     }
   }
@@ -133,13 +150,30 @@ export function evaluateDesign(study: Study, overrides: readonly string[] = []):
   return { report: evaluationReport(evaluator, choice, result), warnings: choice.warnings };
 }
 
-/** Everything about one pose of one design. */
+/** Everything about one pose of one five-bar design (the five-bar engine's own report). */
 export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const resolved = evaluator.resolve(choice.design);
   const model = evaluator.model(choice.design);
   return { report: { design: choice.values, ...probePose(choice.study, model, x, y, resolved.drives) }, warnings: choice.warnings };
+}
+
+/**
+ * Everything about one pose of one design of any architecture (arrays of n per actuator), through
+ * the architecture interface; φ (rad) is the platform orientation for 3-DOF (default φ_0).
+ */
+export function probeArchitectureDesign(
+  study: Study,
+  x: number,
+  y: number,
+  phi?: number,
+  overrides: readonly string[] = [],
+): { report: ArchitecturePoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
+  const choice = chooseDesign(study, overrides);
+  const evaluator = new Evaluator(choice.study);
+  const d = evaluator.architectureDesign(choice.design);
+  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives) }, warnings: choice.warnings };
 }
 
 export { DesignError };

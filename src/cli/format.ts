@@ -1,6 +1,7 @@
 /** Plain-text tables and value formatting for the terminal. */
-import { metricInfo } from '../mechanics/metrics.js';
+import { metricInfo, metricKind } from '../mechanics/metrics.js';
 import { formatQuantity, type QuantityKind } from '../study/units.js';
+import type { ActuatorKind } from '../architectures/types.js';
 
 /** Align columns; numbers right-aligned. */
 export function table(header: readonly string[], rows: readonly (readonly string[])[]): string {
@@ -24,10 +25,16 @@ function trim(value: number): string {
   return Number(value.toPrecision(4)).toString();
 }
 
-export function formatMetric(name: string, value: number | null | undefined): string {
+/**
+ * A metric value with its unit. `actuators` gives the architecture's actuator kinds: the per-actuator
+ * effort and speed metrics are N and m/s for sliders (absent: the five-bar's N·m and rad/s).
+ */
+export function formatMetric(name: string, value: number | null | undefined, actuators?: readonly ActuatorKind[]): string {
   const info = metricInfo(name);
-  return formatValue(value, info ? info.kind : 'dimensionless');
+  return formatValue(value, info ? metricKind(name, actuators) : 'dimensionless');
 }
+
+export { studyActuators, variableKind } from '../mechanics/designSpace.js';
 
 /** JSON with Infinity written as the strings "Infinity"/"-Infinity" (JSON has no infinities). */
 export function toJson(value: unknown): string {

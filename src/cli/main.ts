@@ -5,14 +5,15 @@
 import { existsSync, writeFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import yargs, { type Argv } from 'yargs';
-import { DesignError, evaluateDesign, probeDesign } from '../api/design.js';
-import { designVariables } from '../mechanics/designSpace.js';
+import { DesignError, evaluateDesign, probeArchitectureDesign, probeDesign } from '../api/design.js';
+import { designVariables, studyActuators, variableKind } from '../mechanics/designSpace.js';
+import { ARCHITECTURES } from '../architectures/index.js';
 import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.js';
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
 import { loadStudyFile, StudyError } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
 import { parseQuantity, UnitError } from '../study/units.js';
-import { FIVE_BAR_PARAMETERS, type Study } from '../study/types.js';
+import type { Study } from '../study/types.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';
 import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
@@ -52,23 +53,55 @@ function schemaPath(): string {
 }
 
 function studySummary(study: Study): string {
+  if (study.members) {
+    const lines = [`comparison study ${study.name} (${study.members.map((m) => m.architecture).join(' vs ')})${study.description ? ' — ' + study.description : ''}`];
+    const vars = designVariables(study);
+    lines.push(`design variables: ${vars.length} (${vars.map((v) => v.name).join(', ')}); "architecture" chooses the member, the other members' variables are carried but unused`);
+    for (const member of study.members) lines.push('', `— member ${member.architecture} —`, memberSummary({ ...member, baseline: {} }));
+    return lines.join('\n');
+  }
+  return `study ${study.name} (${study.architecture})${study.description ? ' — ' + study.description : ''}\n${memberSummary(study)}`;
+}
+
+function memberSummary(study: Study): string {
   const lines: string[] = [];
-  lines.push(`study ${study.name} (${study.architecture})${study.description ? ' — ' + study.description : ''}`);
   const vars = designVariables(study);
-  const geomRows = FIVE_BAR_PARAMETERS.map((name) => {
-    const spec = study.geometry[name];
-    if (spec.kind === 'fixed') return [name, 'fixed', formatValue(spec.value, 'length'), ''];
+  const architecture = ARCHITECTURES[study.architecture];
+  const actuators = architecture.actuators;
+  const geomRows = architecture.parameters.map(({ name, kind: parameterKind }) => {
+    const spec = study.geometry[name]!;
+    const kind = parameterKind === 'angle' ? 'angle' : 'length';
+    if (spec.kind === 'fixed') return [name, 'fixed', formatValue(spec.value, kind), ''];
     if (spec.kind === 'tied') return [name, 'tied', `= ${spec.to}`, ''];
-    return [name, 'variable', `${formatValue(spec.min, 'length')} … ${formatValue(spec.max, 'length')}`, study.baseline[name] !== undefined ? formatValue(study.baseline[name] as number, 'length') : '(none)'];
+    return [name, 'variable', `${formatValue(spec.min, kind)} … ${formatValue(spec.max, kind)}`, study.baseline[name] !== undefined ? formatValue(study.baseline[name] as number, kind) : '(none)'];
   });
   lines.push('', table(['parameter', 'kind', 'value or bounds', 'baseline'], geomRows));
   lines.push('', `working mode: ${study.workingModes.length > 1 ? 'chosen by the optimizer from ' + study.workingModes.join(', ') : study.workingModes[0]}; assembly mode: ${study.assemblyMode}`);
+  if (study.architecture !== 'five-bar') {
+    const unit = actuators[0] === 'prismatic' ? 'slider strokes (m along the rail), efforts in N, speeds in m/s' : 'crank angles (rad), efforts in N·m, speeds in rad/s';
+    lines.push(`actuators: ${actuators.length} × ${actuators[0]} — ${unit}`);
+    const limits = study.jointLimits.map((r, i) => `${i + 1}: ${r ? `${formatValue(r.min, actuators[i] === 'prismatic' ? 'length' : 'angle')} … ${formatValue(r.max, actuators[i] === 'prismatic' ? 'length' : 'angle')}` : 'unlimited'}`);
+    lines.push(`joint ranges: ${limits.join('; ')}`);
+    const o = study.orientation;
+    if (o) {
+      const length = typeof o.characteristicLength === 'number' ? formatValue(o.characteristicLength, 'length') : o.characteristicLength === 'auto' ? 'auto (per design, best mean 1/κ over the task points)' : 'platform circumradius';
+      lines.push(`orientation: φ0 ${formatValue(o.phi0, 'angle')}, required ± ${formatValue(o.range, 'angle')}, characteristic length ${length}, scan step ${formatValue(o.step, 'angle')}`);
+    }
+    if (study.evaluation.window) {
+      const w = study.evaluation.window;
+      lines.push(`grid window: x ${formatValue(w.xmin, 'length')} … ${formatValue(w.xmax, 'length')}, y ${formatValue(w.ymin, 'length')} … ${formatValue(w.ymax, 'length')}`);
+    }
+  }
   lines.push(`design variables: ${vars.length} (${vars.map((v) => v.name).join(', ') || 'none'})`);
   const g = study.gravity;
   lines.push(`gravity in the plane: (${g[0]}, ${g[1]}) m/s²; payload ${formatValue(study.payloadMass, 'mass')}; links: cranks ${study.links.cranks[0].label}; rods ${study.links.rods[0].label}`);
   if (study.drives) {
     study.drives.forEach((d, i) =>
-      lines.push(`drive ${i + 1}: ${d.label}: ratio ${d.gearRatio}, η ${d.efficiency}, rated ${formatValue(d.ratedTorque, 'torque')}, peak ${formatValue(d.peakTorque, 'torque')}, max ${formatValue(d.maxSpeed, 'angularSpeed')} (motor side)`),
+      lines.push(
+        d.linear
+          ? `drive ${i + 1}: ${d.label}: linear, rated ${formatValue(d.linear.ratedEffort, 'force')}, peak ${formatValue(d.linear.peakEffort, 'force')}, max ${formatValue(d.linear.maxSpeed, 'speed')} (at the slider)`
+          : `drive ${i + 1}: ${d.label}: ratio ${d.gearRatio}, η ${d.efficiency}, rated ${formatValue(d.ratedTorque, 'torque')}, peak ${formatValue(d.peakTorque, 'torque')}, max ${formatValue(d.maxSpeed, 'angularSpeed')} (motor side)${d.lead !== undefined ? `, lead ${formatValue(d.lead, 'length')} per turn` : ''}`,
+      ),
     );
   } else if (study.driveChoice.kind !== 'fixed') {
     lines.push(`drives: chosen by the optimizer (${study.driveChoice.kind === 'shared' ? 'one option for both actuators' : 'one option per actuator'}) from ${study.driveChoice.options.map((o) => o.label).join(', ')}`);
@@ -95,7 +128,7 @@ function studySummary(study: Study): string {
     const drives = study.drives;
     const bound = (c: (typeof cons)[number], side: 'min' | 'max'): string => {
       if (c.driveLimit && !drives) return side === 'max' ? 'per drive' : '—';
-      return formatMetric(c.metric, constraintBounds(c, study, drives)[side]);
+      return formatMetric(c.metric, constraintBounds(c, study, drives)[side], actuators);
     };
     lines.push('', table(['constraint', 'metric', 'min', 'max', 'from'], cons.map((c) => [c.name, c.metric, bound(c, 'min'), bound(c, 'max'), c.origin])));
   }
@@ -103,10 +136,11 @@ function studySummary(study: Study): string {
   return lines.join('\n');
 }
 
-function parsePoint(text: string): [number, number] {
+function parsePoint(text: string): [number, number, number | undefined] {
   const parts = text.split(',');
-  if (parts.length !== 2) throw new UserError(`--at ${text}: expected X,Y, for example --at 0,-450mm or --at "0 mm,-450 mm"`);
-  return [parseQuantity(parts[0]!.trim(), 'length', '--at X'), parseQuantity(parts[1]!.trim(), 'length', '--at Y')];
+  if (parts.length !== 2 && parts.length !== 3) throw new UserError(`--at ${text}: expected X,Y (or X,Y,PHI for a 3-DOF platform), for example --at 0,-450mm or --at "0 mm,-450 mm,10 deg"`);
+  const phi = parts.length === 3 ? parseQuantity(parts[2]!.trim(), 'angle', '--at PHI') : undefined;
+  return [parseQuantity(parts[0]!.trim(), 'length', '--at X'), parseQuantity(parts[1]!.trim(), 'length', '--at Y'), phi];
 }
 
 function asStrings(value: unknown): string[] {
@@ -157,11 +191,14 @@ export function buildCli(argv: readonly string[]): Argv {
           out(toJson(report));
           return;
         }
-        const design = Object.entries(report.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, 'length') : v}`).join(', ');
+        const study = loaded.study;
+        const design = Object.entries(report.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, variableKind(study, k)) : v}`).join(', ');
+        const actuators = studyActuators(study, report.design);
         const lines = [`${report.study} — design: ${design || '(no design variables)'}`, ''];
-        lines.push(table(['metric', 'value', 'meaning'], METRICS.map((m) => [m.name, formatMetric(m.name, report.metrics[m.name]), m.description])));
+        lines.push(table(['metric', 'value', 'meaning'], METRICS.map((m) => [m.name, formatMetric(m.name, report.metrics[m.name], actuators), m.description])));
         if (report.constraints.length > 0) {
-          lines.push('', table(['constraint', 'value', 'min', 'max', 'margin', 'ok'], report.constraints.map((c) => [c.name, formatMetric(c.metric, c.value), formatMetric(c.metric, c.min), formatMetric(c.metric, c.max), c.margin.toFixed(3), c.satisfied ? 'yes' : 'NO'])));
+          const shown = report.constraints.filter((c) => !Number.isNaN(c.margin));
+          lines.push('', table(['constraint', 'value', 'min', 'max', 'margin', 'ok'], shown.map((c) => [c.name, formatMetric(c.metric, c.value, actuators), formatMetric(c.metric, c.min, actuators), formatMetric(c.metric, c.max, actuators), c.margin.toFixed(3), c.satisfied ? 'yes' : 'NO'])));
         }
         lines.push('', report.feasible ? 'feasible: every constraint holds' : `NOT feasible: total normalised violation ${report.violation.toPrecision(3)}`);
         out(lines.join('\n'));
@@ -173,12 +210,19 @@ export function buildCli(argv: readonly string[]): Argv {
       (y) =>
         y
           .positional('study', { type: 'string', demandOption: true })
-          .option('at', { type: 'string', demandOption: true, describe: 'end point X,Y (units allowed, e.g. 0,-450mm)' })
+          .option('at', { type: 'string', demandOption: true, describe: 'end point X,Y, or X,Y,PHI for a 3-DOF platform (units allowed, e.g. 0,-450mm or 0,0.1,10deg)' })
           .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE' })
           .option('json', { type: 'boolean', default: false }),
       (args) => {
         const loaded = loadStudyFile(args.study);
-        const [x, y] = parsePoint(args.at);
+        const [x, y, phi] = parsePoint(args.at);
+        if (loaded.study.members || loaded.study.architecture !== 'five-bar') {
+          const { report: r, warnings: w } = probeArchitectureDesign(loaded.study, x, y, phi, asStrings(args.set));
+          w.forEach(warn);
+          out(args.json ? toJson(r) : formatArchitectureProbe(r));
+          return;
+        }
+        if (phi !== undefined) throw new UserError(`--at ${args.at}: the ${loaded.study.architecture} is 2-DOF; give X,Y`);
         const { report, warnings } = probeDesign(loaded.study, x, y, asStrings(args.set));
         warnings.forEach(warn);
         if (args.json) {
@@ -219,6 +263,37 @@ export function buildCli(argv: readonly string[]): Argv {
       if (error && error.name !== 'YError') throw error;
       throw new UsageError(message ?? error?.message ?? 'bad command line');
     });
+}
+
+/** Plain-text probe of any architecture: arrays per actuator with their units. */
+function formatArchitectureProbe(report: ReturnType<typeof probeArchitectureDesign>['report']): string {
+  const rows: string[][] = [['architecture', report.architecture], ['status', report.status]];
+  const num = (v: number): string => v.toPrecision(4);
+  const mat = (m: number[][]): string => `[${m.map((r) => r.map(num).join(' ')).join('; ')}]`;
+  const units = report.actuatorUnits ?? [];
+  const withUnits = (values: number[], key: 'position' | 'speed' | 'effort'): string =>
+    values.map((v, i) => (units[i]?.[key] === 'rad' ? formatValue(v, 'angle') : `${num(v)} ${units[i]?.[key] ?? ''}`)).join(', ');
+  if (report.jointPositions) rows.push(['joint positions q', withUnits(report.jointPositions, 'position')]);
+  if (report.proximalJoints) rows.push(['proximal joints (mm)', report.proximalJoints.map((c) => `(${(c[0] * 1000).toFixed(1)}, ${(c[1] * 1000).toFixed(1)})`).join(', ')]);
+  if (report.distalJoints) rows.push(['distal joints (mm)', report.distalJoints.map((c) => `(${(c[0] * 1000).toFixed(1)}, ${(c[1] * 1000).toFixed(1)})`).join(', ')]);
+  if (report.jacobian) rows.push(['J', mat(report.jacobian)]);
+  if (report.homogenisedJacobian && report.point.phi !== undefined) rows.push([`J_h (L = ${formatValue(report.characteristicLength ?? 1, 'length')})`, mat(report.homogenisedJacobian)]);
+  if (report.inverseCondition !== undefined) rows.push(['1/κ(J_h)', report.inverseCondition.toFixed(4)]);
+  if (report.mechanismSine !== undefined) rows.push(['mechanism sine', report.mechanismSine.toFixed(4)]);
+  if (report.legSines) rows.push(['leg sines s_i', report.legSines.map((v) => v.toFixed(4)).join(', ')]);
+  if (report.usableMargin !== undefined) rows.push(['usable margin', report.usableMargin.toFixed(4)]);
+  if (report.orientationRanges) rows.push(['usable orientation ranges', report.orientationRanges.map(([a, b]) => `${formatValue(a, 'angle')} … ${formatValue(b, 'angle')}`).join('; ') || 'none']);
+  if (report.gravityEfforts) rows.push(['gravity efforts τ_g', withUnits(report.gravityEfforts, 'effort')]);
+  if (report.inertia) rows.push(['D', mat(report.inertia)]);
+  if (report.cartesianMass) rows.push(['M_x', mat(report.cartesianMass)]);
+  if (report.cartesianStiffness) rows.push(['K_x', mat(report.cartesianStiffness)]);
+  if (report.minStiffness !== undefined) rows.push(['min translational stiffness', formatValue(report.minStiffness, 'linearStiffness')]);
+  if (report.rotationalStiffness) rows.push(['rotational stiffness', formatValue(report.rotationalStiffness, 'rotationalStiffness')]);
+  if (report.naturalFrequencies) rows.push(['natural frequencies', report.naturalFrequencies.map((f) => formatValue(f, 'frequency')).join(', ')]);
+  if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
+  if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? withUnits(report.requiredJointSpeeds, 'speed') : '— (no task speed)']);
+  const at = `(${formatValue(report.point.x, 'length')}, ${formatValue(report.point.y, 'length')}${report.point.phi !== undefined ? `, ${formatValue(report.point.phi, 'angle')}` : ''})`;
+  return `probe at ${at}\n\n${table(['quantity', 'value'], rows)}`;
 }
 
 class UsageError extends Error {

@@ -12,7 +12,7 @@ import { queryEvaluations } from '../store/query.js';
 import { Store } from '../store/store.js';
 import { formatTable, toCsv } from '../store/format.js';
 import { loadStudyFile } from '../study/parse.js';
-import { formatMetric, formatValue, table, toJson } from './format.js';
+import { formatMetric, formatValue, studyActuators, table, toJson, variableKind } from './format.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -256,8 +256,8 @@ export function registerStoreCommands(cli: Argv): Argv {
             columns,
             front.designs.map((d) => [
               String(d.id),
-              ...variableNames.map((v) => (typeof d.variables[v] === 'number' ? formatValue(d.variables[v] as number, 'length') : String(d.variables[v]))),
-              ...objectiveNames.map((m) => formatMetric(m, d.metrics[m])),
+              ...variableNames.map((v) => (typeof d.variables[v] === 'number' ? formatValue(d.variables[v] as number, variableKind(front.study, v)) : String(d.variables[v]))),
+              ...objectiveNames.map((m) => formatMetric(m, d.metrics[m], studyActuators(front.study, d.variables))),
             ]),
           ),
         );

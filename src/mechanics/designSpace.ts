@@ -1,67 +1,131 @@
 /**
  * Design space of a study: which parameters the optimizer varies, how a design vector maps to a
  * full geometry (ties resolved), and how a geometry plus the study's masses and drives become an
- * immutable FiveBarModel.
+ * immutable model: `buildFiveBarModel` for the five-bar's own engine (the pipeline's five-bar path),
+ * `buildArchitectureModel` for any architecture through src/architectures.
  */
-import type { FiveBarModel, WorkingMode } from './fivebar.js';
-import { FIVE_BAR_PARAMETERS, type DriveSpec, type FiveBarParameter, type Study } from '../study/types.js';
-
-export type DesignVariable =
-  | { readonly name: FiveBarParameter; readonly kind: 'real'; readonly min: number; readonly max: number }
-  | { readonly name: 'working_mode'; readonly kind: 'categorical'; readonly choices: readonly WorkingMode[] }
-  | { readonly name: 'drive' | 'drive_1' | 'drive_2'; readonly kind: 'categorical'; readonly choices: readonly string[]; readonly options: readonly DriveSpec[] };
+import type { FiveBarModel } from './fivebar.js';
+import { ARCHITECTURES } from '../architectures/index.js';
+import type { ActuatorKind, ArchitectureModelBase, ArchitectureName, DriveAtJoint, LinkSection, ModelInput, PlanarArchitecture } from '../architectures/types.js';
+import { driveAtJoint } from '../study/drives.js';
+import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
 /**
- * The study's design variables, in design-vector order: geometry variables, the working mode when it
- * is a choice, then the drive choice (`drive`, or `drive_1` and `drive_2`) when the optimizer picks
- * catalogue options.
+ * One design variable. `member` marks the variables of a comparison study's member (its index in
+ * `study.members`); their names carry the member's prefix (`fivebar_crank_1`, `prr2_rod_1`, …).
+ */
+export type DesignVariable =
+  | { readonly name: string; readonly kind: 'real'; readonly min: number; readonly max: number; readonly member?: number }
+  | { readonly name: string; readonly kind: 'categorical'; readonly role: 'working_mode'; readonly choices: readonly string[]; readonly member?: number }
+  | {
+      readonly name: string;
+      readonly kind: 'categorical';
+      readonly role: 'drive';
+      /** Actuators (0-based) that take this choice. */
+      readonly actuators: readonly number[];
+      readonly choices: readonly string[];
+      readonly options: readonly DriveSpec[];
+      readonly member?: number;
+    }
+  | { readonly name: 'architecture'; readonly kind: 'categorical'; readonly role: 'architecture'; readonly choices: readonly ArchitectureName[] };
+
+/**
+ * The study's design variables, in design-vector order: geometry variables (the architecture's
+ * parameter order), the working mode when it is a choice, then the drive choice (`drive`, or
+ * `drive_1` … `drive_n`) when the optimizer picks catalogue options. A comparison study lists
+ * `architecture` first, then every member's variables with the member's prefix.
  */
 export function designVariables(study: Study): DesignVariable[] {
+  if (study.members) {
+    const out: DesignVariable[] = [{ name: 'architecture', kind: 'categorical', role: 'architecture', choices: study.members.map((m) => m.architecture) }];
+    study.members.forEach((member, index) => {
+      const prefix = `${ARCHITECTURE_PREFIX[member.architecture]}_`;
+      for (const v of designVariables(member)) {
+        if (v.kind === 'real') out.push({ ...v, name: prefix + v.name, member: index });
+        else if (v.role !== 'architecture') out.push({ ...v, name: prefix + v.name, member: index });
+      }
+    });
+    return out;
+  }
+  const architecture = ARCHITECTURES[study.architecture];
   const out: DesignVariable[] = [];
-  for (const name of FIVE_BAR_PARAMETERS) {
-    const spec = study.geometry[name];
+  for (const { name } of architecture.parameters) {
+    const spec = study.geometry[name]!;
     if (spec.kind === 'variable') out.push({ name, kind: 'real', min: spec.min, max: spec.max });
   }
-  if (study.workingModes.length > 1) out.push({ name: 'working_mode', kind: 'categorical', choices: study.workingModes });
+  if (study.workingModes.length > 1) out.push({ name: 'working_mode', kind: 'categorical', role: 'working_mode', choices: study.workingModes });
   const choice = study.driveChoice;
   if (choice.kind !== 'fixed') {
     const labels = choice.options.map((o) => o.label);
-    const names = choice.kind === 'shared' ? (['drive'] as const) : (['drive_1', 'drive_2'] as const);
-    for (const name of names) out.push({ name, kind: 'categorical', choices: labels, options: choice.options });
+    const n = architecture.dof;
+    if (choice.kind === 'shared') {
+      out.push({ name: 'drive', kind: 'categorical', role: 'drive', actuators: Array.from({ length: n }, (_, i) => i), choices: labels, options: choice.options });
+    } else {
+      for (let i = 0; i < n; i++) out.push({ name: `drive_${i + 1}`, kind: 'categorical', role: 'drive', actuators: [i], choices: labels, options: choice.options });
+    }
   }
   return out;
 }
 
 export interface ResolvedDesign {
-  readonly geometry: Readonly<Record<FiveBarParameter, number>>;
-  readonly workingMode: WorkingMode;
-  /** Drives of this design (per actuator), or null when the study gives none. */
-  readonly drives: readonly [DriveSpec, DriveSpec] | null;
+  /** Every parameter of the architecture (SI: m, rad), ties resolved. */
+  readonly geometry: Readonly<Record<string, number>>;
+  readonly workingMode: string;
+  /** Drives of this design (one per actuator), or null when the study gives none. */
+  readonly drives: readonly DriveSpec[] | null;
 }
 
-/** Full geometry and working mode of a design vector. */
+/** A comparison study's design resolved to its member: the member study, its variables and its design vector. */
+export interface MemberDesign {
+  readonly index: number;
+  readonly study: Study;
+  readonly variables: readonly DesignVariable[];
+  readonly design: Float64Array;
+}
+
+/** The member a comparison design vector selects, with the member's own design vector (inactive members' values are ignored). */
+export function memberDesign(study: Study, variables: readonly DesignVariable[], design: ArrayLike<number>): MemberDesign {
+  const members = study.members;
+  if (!members) throw new Error('memberDesign: not a comparison study');
+  const k = variables.findIndex((v) => v.kind === 'categorical' && v.role === 'architecture');
+  const index = Math.round(design[k]!);
+  const memberStudy = members[index];
+  if (!memberStudy) throw new DesignError(`architecture index ${index} is not one of ${members.length} members`);
+  const memberVariables = designVariables(memberStudy);
+  const values: number[] = [];
+  variables.forEach((v, j) => {
+    if (v.kind === 'real' || v.role !== 'architecture') {
+      if (v.member === index) values.push(design[j]!);
+    }
+  });
+  return { index, study: memberStudy, variables: memberVariables, design: Float64Array.from(values) };
+}
+
+/** Full geometry and working mode of a design vector (a comparison study: of the member it selects). */
 export function resolveDesign(study: Study, variables: readonly DesignVariable[], design: ArrayLike<number>): ResolvedDesign {
-  const geometry = {} as Record<FiveBarParameter, number>;
+  if (study.members) {
+    const m = memberDesign(study, variables, design);
+    return resolveDesign(m.study, m.variables, m.design);
+  }
+  const architecture = ARCHITECTURES[study.architecture];
+  const geometry: Record<string, number> = {};
   let workingMode = study.workingModes[0]!;
-  let drives = study.drives;
-  let drive1: DriveSpec | undefined;
-  let drive2: DriveSpec | undefined;
+  let drives: DriveSpec[] | null = study.drives ? [...study.drives] : null;
+  const chosen: (DriveSpec | undefined)[] = [];
   variables.forEach((v, k) => {
     const index = Math.round(design[k]!);
     if (v.kind === 'real') geometry[v.name] = design[k]!;
-    else if (v.name === 'working_mode') workingMode = v.choices[index]!;
-    else if (v.name === 'drive') drive1 = drive2 = v.options[index]!;
-    else if (v.name === 'drive_1') drive1 = v.options[index]!;
-    else drive2 = v.options[index]!;
+    else if (v.role === 'working_mode') workingMode = v.choices[index]!;
+    else if (v.role === 'drive') for (const a of v.actuators) chosen[a] = v.options[index]!;
   });
-  if (drive1 && drive2) drives = [drive1, drive2];
-  for (const name of FIVE_BAR_PARAMETERS) {
-    const spec = study.geometry[name];
+  if (chosen.length === architecture.dof && chosen.every((d) => d !== undefined)) drives = chosen as DriveSpec[];
+  for (const { name } of architecture.parameters) {
+    const spec = study.geometry[name]!;
     if (spec.kind === 'fixed') geometry[name] = spec.value;
   }
-  for (const name of FIVE_BAR_PARAMETERS) {
-    const spec = study.geometry[name];
-    if (spec.kind === 'tied') geometry[name] = geometry[spec.to];
+  for (const { name } of architecture.parameters) {
+    const spec = study.geometry[name]!;
+    if (spec.kind === 'tied') geometry[name] = geometry[spec.to]!;
   }
   return { geometry, workingMode, drives };
 }
@@ -100,7 +164,7 @@ export function designFromValues(
     } else {
       if (typeof value !== 'number' || !Number.isFinite(value)) throw new DesignError(`${v.name}: not a number`);
       if (!allowOutside && (value < v.min - 1e-12 || value > v.max + 1e-12)) {
-        throw new DesignError(`${v.name} = ${value} m is outside its bounds [${v.min}, ${v.max}] m`);
+        throw new DesignError(`${v.name} = ${value} is outside its bounds [${v.min}, ${v.max}] (SI: m or rad)`);
       }
       design[k] = value;
     }
@@ -117,14 +181,14 @@ export function designToValues(variables: readonly DesignVariable[], design: Arr
   return out;
 }
 
-/** Mass of links and hubs that move (payload excluded), kg. */
-export function movingMass(study: Study, geometry: Readonly<Record<FiveBarParameter, number>>): number {
+/** Mass of links and hubs that move (payload excluded), kg (five-bar; other architectures: `architecture.movingMass(model)`). */
+export function movingMass(study: Study, geometry: Readonly<Record<string, number>>): number {
   const l = study.links;
   return (
-    l.cranks[0].massPerLength * geometry.crank_1 +
-    l.cranks[1].massPerLength * geometry.crank_2 +
-    l.rods[0].massPerLength * geometry.rod_1 +
-    l.rods[1].massPerLength * geometry.rod_2 +
+    l.cranks[0]!.massPerLength * geometry.crank_1! +
+    l.cranks[1]!.massPerLength * geometry.crank_2! +
+    l.rods[0]!.massPerLength * geometry.rod_1! +
+    l.rods[1]!.massPerLength * geometry.rod_2! +
     2 * study.elbowHubMass +
     study.endHubMass
   );
@@ -132,10 +196,12 @@ export function movingMass(study: Study, geometry: Readonly<Record<FiveBarParame
 
 /** Build the immutable model of one design. */
 export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveBarModel {
+  if (study.architecture !== 'five-bar' || study.members) throw new Error(`buildFiveBarModel: the study's architecture is ${study.members ? 'a comparison' : study.architecture}; use buildArchitectureModel`);
   const g = resolved.geometry;
-  const crank = [g.crank_1, g.crank_2] as const;
-  const rod = [g.rod_1, g.rod_2] as const;
-  const { cranks, rods } = study.links;
+  const crank = [g.crank_1!, g.crank_2!] as const;
+  const rod = [g.rod_1!, g.rod_2!] as const;
+  const cranks = [study.links.cranks[0]!, study.links.cranks[1]!] as const;
+  const rods = [study.links.rods[0]!, study.links.rods[1]!] as const;
   const hub = study.elbowHubMass;
 
   // Uniform bar about one end: I = m L²/3, first moment m L/2; elbow hub is a point mass at the crank end.
@@ -148,20 +214,20 @@ export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveB
   const rodMass = [rods[0].massPerLength * rod[0], rods[1].massPerLength * rod[1]] as const;
 
   const drives = resolved.drives;
-  const reflected = (i: 0 | 1): number => (drives ? drives[i].gearRatio ** 2 * drives[i].rotorInertia + drives[i].gearInertia : 0);
-  const jointStiffness = (i: 0 | 1): number => (drives ? drives[i].jointStiffness : Infinity);
+  const reflected = (i: 0 | 1): number => (drives ? drives[i]!.gearRatio ** 2 * drives[i]!.rotorInertia + drives[i]!.gearInertia : 0);
+  const jointStiffness = (i: 0 | 1): number => (drives ? drives[i]!.jointStiffness : Infinity);
   const bending = (i: 0 | 1): number =>
     crank[i] ** 2 / jointStiffness(i) + crank[i] ** 3 / (3 * cranks[i].youngsModulus * cranks[i].secondMoment);
   const [s1, s2] = resolved.workingMode === '++' ? [1, 1] : resolved.workingMode === '+-' ? [1, -1] : resolved.workingMode === '-+' ? [-1, 1] : [-1, -1];
 
   return {
-    pivotX: [-g.base_span / 2, g.base_span / 2],
-    pivotY: [0, g.base_rise],
+    pivotX: [-g.base_span! / 2, g.base_span! / 2],
+    pivotY: [0, g.base_rise!],
     crank,
     rod,
     sigma: [s1, s2],
     assembly: study.assemblyMode === '+' ? 1 : -1,
-    jointLimits: study.jointLimits,
+    jointLimits: [study.jointLimits[0] ?? null, study.jointLimits[1] ?? null],
     crankInertiaAboutPivot,
     crankFirstMoment,
     rodMass,
@@ -175,3 +241,75 @@ export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveB
     complianceRodAxial: [rod[0] / (rods[0].youngsModulus * rods[0].area), rod[1] / (rods[1].youngsModulus * rods[1].area)],
   };
 }
+
+/** A link section of the study as the architecture models take it. */
+function section(link: LinkSpec): LinkSection {
+  return { massPerLength: link.massPerLength, area: link.area, secondMoment: link.secondMoment, youngsModulus: link.youngsModulus };
+}
+
+/** The design's drives referred to their joints (N·m, rad/s … for cranks; N, m/s … for sliders), or null. */
+export function drivesAtJoint(study: Study, drives: readonly DriveSpec[] | null): DriveAtJoint[] | null {
+  if (!drives) return null;
+  const actuators = ARCHITECTURES[study.architecture].actuators;
+  return actuators.map((kind, i) => driveAtJoint(drives[i]!, kind));
+}
+
+/**
+ * The architecture-independent model input of a design (see src/architectures/types.ts). The
+ * characteristic length is the study's when it gives one; `characteristicLength` overrides it (the
+ * per-design 'auto' choice); otherwise the model's default (platform circumradius).
+ */
+export function modelInput(study: Study, resolved: ResolvedDesign, characteristicLength?: number): ModelInput {
+  const o = study.orientation;
+  const length = characteristicLength ?? (o && typeof o.characteristicLength === 'number' ? o.characteristicLength : undefined);
+  return {
+    parameters: resolved.geometry,
+    workingMode: resolved.workingMode,
+    assembly: study.assemblyMode === '+' ? 1 : -1,
+    jointLimits: study.jointLimits,
+    cranks: study.links.cranks.map(section),
+    rods: study.links.rods.map(section),
+    elbowHubMass: study.elbowHubMass,
+    sliderMass: study.sliderMass ?? 0,
+    endHubMass: study.endHubMass,
+    ...(study.platform ? { platform: { mass: study.platform.mass, inertiaAboutCentre: study.platform.inertia } } : {}),
+    payloadMass: study.payloadMass,
+    gravity: study.gravity,
+    drives: drivesAtJoint(study, resolved.drives),
+    ...(length !== undefined ? { characteristicLength: length } : {}),
+  };
+}
+
+/** The architecture of a (single-architecture) study and its immutable model of a design. */
+export function buildArchitectureModel(
+  study: Study,
+  resolved: ResolvedDesign,
+  characteristicLength?: number,
+): { architecture: PlanarArchitecture<ArchitectureModelBase>; model: ArchitectureModelBase } {
+  if (study.members) throw new Error('buildArchitectureModel: resolve a comparison design to its member first (memberDesign)');
+  const architecture = ARCHITECTURES[study.architecture];
+  return { architecture, model: architecture.buildModel(modelInput(study, resolved, characteristicLength)) };
+}
+
+/**
+ * Actuator kinds of a study's design: its architecture's, or for a comparison study those of the
+ * member named by the design's `architecture` value (undefined when it is not known).
+ */
+export function studyActuators(study: Study, values?: Readonly<Record<string, unknown>>): readonly ActuatorKind[] | undefined {
+  if (!study.members) return ARCHITECTURES[study.architecture].actuators;
+  const chosen = values?.['architecture'];
+  return typeof chosen === 'string' && chosen in ARCHITECTURES ? ARCHITECTURES[chosen as keyof typeof ARCHITECTURES].actuators : undefined;
+}
+
+/** Quantity kind of a design variable's value: angle for angle parameters, else length (categorical values are text). */
+export function variableKind(study: Study, name: string): 'angle' | 'length' {
+  const architectures = study.members ? study.members.map((m) => m.architecture) : [study.architecture];
+  for (const a of architectures) {
+    const prefix = study.members ? `${ARCHITECTURE_PREFIX[a]}_` : '';
+    if (!name.startsWith(prefix)) continue;
+    const info = ARCHITECTURES[a].parameters.find((p) => p.name === name.slice(prefix.length));
+    if (info) return info.kind === 'angle' ? 'angle' : 'length';
+  }
+  return 'length';
+}
+

@@ -8,8 +8,12 @@
 import { FiveBarPose, PoseStatus, footprint, poseDynamics, reachableBox, solvePose, type FiveBarModel } from './fivebar.js';
 import { MarginGrid } from './grid.js';
 import { METRICS, metricIndex } from './metrics.js';
-import { buildFiveBarModel, designVariables, movingMass, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
+import { buildFiveBarModel, designVariables, drivesAtJoint, memberDesign, movingMass, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import type { DriveSpec, Study, TaskRegion } from '../study/types.js';
+import { ARCHITECTURES } from '../architectures/index.js';
+import { wrapFiveBarModel } from '../architectures/fivebar.js';
+import type { ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
+import { ArchitectureEvaluator } from './evaluateArchitecture.js';
 import { CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, type CycleDriveLimits } from './dutyCycle.js';
 
 export interface ConstraintDefinition {
@@ -21,19 +25,28 @@ export interface ConstraintDefinition {
   readonly max?: number;
   /** Where the bound comes from, for messages. */
   readonly origin: 'study' | 'drive';
-  /** Drive limits: the bound follows from the design's drive on this actuator (0 or 1). */
-  readonly driveLimit?: { readonly kind: 'torque' | 'speed' | 'cyclePeakTorque' | 'cycleRmsTorque'; readonly actuator: 0 | 1 };
+  /** Drive limits: the bound follows from the design's drive on this actuator (0-based; 0 to 2). */
+  readonly driveLimit?: { readonly kind: 'torque' | 'speed' | 'cyclePeakTorque' | 'cycleRmsTorque'; readonly actuator: number };
 }
 
-/** Bounds of a constraint for a design with the given drives. */
+/**
+ * Bounds of a constraint for a design with the given drives (one per actuator). Drive limits are at
+ * the joint: N·m and rad/s for cranks, N and m/s for sliders (see src/study/drives.ts). For a
+ * comparison study the drive bounds depend on the member: pass the member study.
+ */
 export function constraintBounds(
   def: ConstraintDefinition,
-  study: Pick<Study, 'torqueSafetyFactor'>,
-  drives: readonly [DriveSpec, DriveSpec] | null,
+  study: Pick<Study, 'torqueSafetyFactor'> & Partial<Pick<Study, 'architecture' | 'members'>>,
+  drives: readonly DriveSpec[] | null,
 ): { min?: number; max?: number } {
   if (!def.driveLimit) return { ...(def.min !== undefined ? { min: def.min } : {}), ...(def.max !== undefined ? { max: def.max } : {}) };
-  if (!drives) return {};
+  if (!drives || study.members) return {};
   const drive = drives[def.driveLimit.actuator];
+  if (!drive) return {};
+  if (study.architecture !== undefined && study.architecture !== 'five-bar') {
+    const atJoint = drivesAtJoint(study as Study, drives)![def.driveLimit.actuator]!;
+    return def.driveLimit.kind === 'torque' ? { max: atJoint.ratedEffort / study.torqueSafetyFactor } : { max: atJoint.maxSpeed };
+  }
   switch (def.driveLimit.kind) {
     case 'torque':
       return { max: (drive.efficiency * drive.gearRatio * drive.ratedTorque) / study.torqueSafetyFactor };
@@ -61,6 +74,7 @@ export interface DesignEvaluation {
 
 /** Constraint list of a study: its own constraints plus the drive limits of mechanics §6. */
 export function constraintDefinitions(study: Study): ConstraintDefinition[] {
+  if (study.members) return comparisonConstraints(study.members.map(constraintDefinitions)).union;
   const out: ConstraintDefinition[] = [];
   const seen = new Map<string, number>();
   for (const c of study.constraints) {
@@ -73,6 +87,21 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     if (c.min !== undefined) def.min = c.min;
     if (c.max !== undefined) def.max = c.max;
     out.push(def);
+  }
+  if (study.architecture !== 'five-bar' && (study.drives || study.driveChoice.kind !== 'fixed')) {
+    // Drive limits over the n actuators, at the joint (N·m or N; rad/s or m/s).
+    const n = ARCHITECTURES[study.architecture].dof;
+    for (let i = 0; i < n; i++) {
+      const k = i + 1;
+      out.push({ name: `drive_torque_${k}`, metric: `peak_gravity_torque_${k}`, metricIndex: metricIndex(`peak_gravity_torque_${k}`), origin: 'drive', driveLimit: { kind: 'torque', actuator: i } });
+      if (study.task.speed > 0) {
+        out.push({ name: `drive_speed_${k}`, metric: `peak_joint_speed_${k}`, metricIndex: metricIndex(`peak_joint_speed_${k}`), origin: 'drive', driveLimit: { kind: 'speed', actuator: i } });
+      }
+    }
+    if (study.task.acceleration > 0) {
+      out.push({ name: 'drive_acceleration', metric: 'accel_capability', metricIndex: metricIndex('accel_capability'), min: study.task.acceleration, origin: 'drive' });
+    }
+    return out;
   }
   if (study.drives || study.driveChoice.kind !== 'fixed') {
     for (const i of [0, 1] as const) {
@@ -107,6 +136,27 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     }
   }
   return out;
+}
+
+/**
+ * Constraint columns of a comparison study: the union of the members' constraints by name, in order
+ * of first appearance, and per member the column of each of its constraints.
+ */
+export function comparisonConstraints(perMember: readonly (readonly ConstraintDefinition[])[]): { union: ConstraintDefinition[]; columns: number[][] } {
+  const union: ConstraintDefinition[] = [];
+  const byName = new Map<string, number>();
+  const columns = perMember.map((list) =>
+    list.map((c) => {
+      let k = byName.get(c.name);
+      if (k === undefined) {
+        k = union.length;
+        byName.set(c.name, k);
+        union.push(c);
+      }
+      return k;
+    }),
+  );
+  return { union, columns };
 }
 
 /** Violations beyond this many times the bound count as this much (keeps infinite metrics comparable). */
@@ -244,7 +294,8 @@ export function usableMargin(pose: FiveBarPose, status: PoseStatus, study: Pick<
   return m;
 }
 
-export class Evaluator {
+/** The five-bar's own evaluation path (src/mechanics/fivebar.ts engine); `Evaluator` picks it for five-bar studies. */
+export class FiveBarEvaluator {
   readonly study: Study;
   readonly variables: readonly DesignVariable[];
   readonly constraints: readonly ConstraintDefinition[];
@@ -279,7 +330,8 @@ export class Evaluator {
     return resolveDesign(this.study, this.variables, design);
   }
 
-  private useDrives(drives: readonly [DriveSpec, DriveSpec] | null): void {
+  private useDrives(pair: readonly DriveSpec[] | null): void {
+    const drives = pair ? ([pair[0]!, pair[1]!] as const) : null;
     this.peakJointTorque = drives
       ? [drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].peakTorque]
       : null;
@@ -486,7 +538,7 @@ export class Evaluator {
     const duty = this.study.dutyCycle;
     if (!cycle || !duty) return;
     cycle.run(model);
-    const drives = resolved.drives;
+    const drives = resolved.drives ? ([resolved.drives[0]!, resolved.drives[1]!] as const) : null;
     const limits: CycleDriveLimits | null = drives
       ? {
           peakTorque: [drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].peakTorque],
@@ -535,5 +587,129 @@ export class Evaluator {
     metrics[M.resolution] = this.encoderStep ? worst(agg.maxStep, Infinity) : Number.NaN;
     metrics[M.footprint] = footprint(model);
     metrics[M.movingMass] = movingMass(this.study, resolved.geometry);
+  }
+}
+
+/** What every evaluation path offers (five-bar engine, architecture interface, comparison). */
+interface EvaluationPath {
+  readonly variables: readonly DesignVariable[];
+  readonly constraints: readonly ConstraintDefinition[];
+  evaluate(design: ArrayLike<number>): DesignEvaluation;
+  evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation;
+}
+
+/** The architecture, model and resolved design behind one design vector (any architecture). */
+export interface ArchitectureDesign {
+  /** The study the model was built from: the study itself, or for a comparison study the selected member. */
+  readonly study: Study;
+  readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
+  readonly model: ArchitectureModelBase;
+  readonly resolved: ResolvedDesign;
+}
+
+/**
+ * A comparison study: one evaluator per member; the design variable `architecture` picks the member,
+ * whose own variables are taken from the design vector (the other members' values are carried but
+ * ignored). Constraint margins of constraints the member does not have are NaN; the violation is
+ * the member's.
+ */
+class ComparisonEvaluator implements EvaluationPath {
+  readonly variables: readonly DesignVariable[];
+  readonly constraints: readonly ConstraintDefinition[];
+  private readonly study: Study;
+  readonly members: readonly Evaluator[];
+  private readonly columns: readonly (readonly number[])[];
+
+  constructor(study: Study) {
+    this.study = study;
+    this.variables = designVariables(study);
+    this.members = study.members!.map((m) => new Evaluator(m));
+    const { union, columns } = comparisonConstraints(this.members.map((m) => m.constraints));
+    this.constraints = union;
+    this.columns = columns;
+  }
+
+  private spread(index: number, inner: DesignEvaluation): DesignEvaluation {
+    const n = this.constraints.length;
+    const margins = new Float64Array(n).fill(Number.NaN);
+    const constraintMin = new Float64Array(n).fill(Number.NaN);
+    const constraintMax = new Float64Array(n).fill(Number.NaN);
+    this.columns[index]!.forEach((column, k) => {
+      margins[column] = inner.margins[k]!;
+      constraintMin[column] = inner.constraintMin[k]!;
+      constraintMax[column] = inner.constraintMax[k]!;
+    });
+    return { metrics: inner.metrics, margins, constraintMin, constraintMax, violation: inner.violation, feasible: inner.feasible };
+  }
+
+  evaluate(design: ArrayLike<number>): DesignEvaluation {
+    const m = memberDesign(this.study, this.variables, design);
+    return this.spread(m.index, this.members[m.index]!.evaluate(m.design));
+  }
+
+  evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation {
+    const m = memberDesign(this.study, this.variables, design);
+    return this.spread(m.index, this.members[m.index]!.evaluateWithWorkspace(m.design, workspace));
+  }
+}
+
+/**
+ * Evaluator of a study, made once per study and per worker. Five-bar studies take the five-bar
+ * engine's own path (numbers unchanged); the 2-PRR, 3-RRR and 3-PRR go through the architecture
+ * interface (evaluateArchitecture.ts); a comparison study delegates to its members.
+ */
+export class Evaluator {
+  readonly study: Study;
+  readonly variables: readonly DesignVariable[];
+  readonly constraints: readonly ConstraintDefinition[];
+  private readonly path: FiveBarEvaluator | ArchitectureEvaluator | ComparisonEvaluator;
+
+  constructor(study: Study) {
+    this.study = study;
+    this.path = study.members ? new ComparisonEvaluator(study) : study.architecture === 'five-bar' ? new FiveBarEvaluator(study) : new ArchitectureEvaluator(study);
+    this.variables = this.path.variables;
+    this.constraints = this.path.constraints;
+  }
+
+  evaluate(design: ArrayLike<number>): DesignEvaluation {
+    return this.path.evaluate(design);
+  }
+
+  evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation {
+    return this.path.evaluateWithWorkspace(design, workspace);
+  }
+
+  /** Geometry, working mode and drives of a design vector (a comparison study: of the selected member). */
+  resolve(design: ArrayLike<number>): ResolvedDesign {
+    return resolveDesign(this.study, this.variables, design);
+  }
+
+  /** The five-bar engine's model of a design vector (five-bar studies only; see `architectureDesign` for any architecture). */
+  model(design: ArrayLike<number>): FiveBarModel {
+    if (!(this.path instanceof FiveBarEvaluator)) {
+      throw new Error(`Evaluator.model gives the five-bar engine's model; the study's architecture is ${this.study.members ? 'a comparison' : this.study.architecture} (use architectureDesign)`);
+    }
+    return this.path.model(design);
+  }
+
+  /**
+   * Architecture, immutable model and resolved design of a design vector, for any study: the model
+   * the evaluation uses (for a five-bar, the engine's model wrapped by the adapter; for a 3-DOF with
+   * characteristic_length auto, the per-design L). Poses: `architecture.createPose()`, then
+   * `architecture.solvePose(model, pose, x, y, phi)` and `poseDynamics(model, pose)`.
+   */
+  architectureDesign(design: ArrayLike<number>): ArchitectureDesign {
+    const path = this.path;
+    if (path instanceof ComparisonEvaluator) {
+      const m = memberDesign(this.study, this.variables, design);
+      return path.members[m.index]!.architectureDesign(m.design);
+    }
+    const resolved = this.resolve(design);
+    if (path instanceof FiveBarEvaluator) {
+      const engine = buildFiveBarModel(this.study, resolved);
+      const model = wrapFiveBarModel(engine, movingMass(this.study, resolved.geometry), drivesAtJoint(this.study, resolved.drives));
+      return { study: this.study, architecture: ARCHITECTURES['five-bar'], model, resolved };
+    }
+    return { study: this.study, architecture: path.architecture, model: path.buildModel(resolved), resolved };
   }
 }

@@ -47,11 +47,43 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'cycle_peak_power_1', kind: 'power', better: 'min', description: 'largest joint-1 power along the duty cycle' },
   { name: 'cycle_peak_power_2', kind: 'power', better: 'min', description: 'largest joint-2 power along the duty cycle' },
   { name: 'min_cycle_time', kind: 'time', better: 'min', description: 'shortest duty-cycle time the drives allow (peak and RMS torque, speed), moves scaled, dwells kept' },
+  // Third actuator and orientation (3-DOF platforms; NaN for 2-DOF architectures); see docs/architectures.md.
+  { name: 'peak_gravity_torque_3', kind: 'torque', better: 'min', description: 'largest static holding effort at joint 3 (3-DOF)' },
+  { name: 'peak_joint_speed_3', kind: 'angularSpeed', better: 'min', description: 'largest joint-3 speed for the required end-point speed (3-DOF)' },
+  { name: 'orientation_margin', kind: 'angle', better: 'max', description: 'worst margin of the orientation requirement φ_0 ± Δφ over the task points (≥ 0: met everywhere; −π where nothing is reachable)' },
+  { name: 'orientation_range', kind: 'angle', better: 'max', description: 'smallest width, over the task points, of the usable orientation range that holds φ_0 (2π = full turn)' },
 ];
 
 export type MetricName = (typeof METRICS)[number]['name'];
 export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
 const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
+
+/** Metrics of one actuator's effort: N·m for a crank, N for a slider (the names stay). */
+const EFFORT_METRICS: ReadonlySet<string> = new Set(['peak_gravity_torque', 'peak_gravity_torque_1', 'peak_gravity_torque_2', 'peak_gravity_torque_3']);
+/** Metrics of one actuator's speed: rad/s for a crank, m/s for a slider. */
+const SPEED_METRICS: ReadonlySet<string> = new Set(['peak_joint_speed', 'peak_joint_speed_1', 'peak_joint_speed_2', 'peak_joint_speed_3']);
+
+/**
+ * Quantity kind of a metric for an architecture's actuators: the per-actuator effort and speed
+ * metrics are forces (N) and speeds (m/s) when the actuators are sliders; every other metric keeps
+ * the kind in METRICS. `actuators` absent = the five-bar (revolute).
+ */
+export function metricKind(name: string, actuators?: readonly ('revolute' | 'prismatic')[]): QuantityKind {
+  const info = BY_NAME.get(name)?.info;
+  if (!info) throw new Error(`unknown metric "${name}"`);
+  if (actuators && actuators.length > 0 && actuators.every((a) => a === 'prismatic')) {
+    if (EFFORT_METRICS.has(name)) return 'force';
+    if (SPEED_METRICS.has(name)) return 'speed';
+  }
+  return info.kind;
+}
+
+/** Why a metric is not available for an architecture with `dof` actuators, or null when it is. */
+export function metricUnavailable(name: string, dof: number): string | null {
+  if (dof < 3 && (name.endsWith('_3') || name.startsWith('orientation_'))) return 'exists for 3-DOF architectures only';
+  return null;
+}
+
 
 export function metricIndex(name: string): number {
   const hit = BY_NAME.get(name);

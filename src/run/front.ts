@@ -6,7 +6,7 @@
  */
 import { Store, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
-import type { ObjectiveSpec } from '../study/types.js';
+import type { ObjectiveSpec, Study } from '../study/types.js';
 
 export class FrontError extends Error {
   override readonly name = 'FrontError';
@@ -17,6 +17,8 @@ export interface FrontResult {
   readonly kind: string;
   readonly objectives: readonly ObjectiveSpec[];
   readonly designs: readonly StoredEvaluation[];
+  /** The run's study (architecture, units of variables and metrics). */
+  readonly study: Study;
 }
 
 function dominates(a: readonly number[], b: readonly number[]): boolean {
@@ -57,7 +59,7 @@ export function runFront(dbPath: string, runId?: number): FrontResult {
     const studyRow = store.getStudy(run.studyId)!;
     const { study } = parseStudyText(studyRow.fileText, `${dbPath} (study of run ${run.id})`);
     const last = store.lastGeneration(run.id);
-    if (last === undefined) return { runId: run.id, kind: run.kind, objectives: study.objectives, designs: [] };
+    if (last === undefined) return { runId: run.id, kind: run.kind, objectives: study.objectives, designs: [], study };
     const generations = Array.from({ length: last + 1 }, (_, g) => g);
     const byId = new Map<number, StoredEvaluation>();
     for (const g of generations) for (const m of store.generationMembers(run.id, g)) if (m.feasible && m.error === null) byId.set(m.id, m);
@@ -67,7 +69,7 @@ export function runFront(dbPath: string, runId?: number): FrontResult {
         return o.sense === 'max' ? -v : v;
       });
     const designs = nonDominated([...byId.values()], minimised).sort((a, b) => a.id - b.id);
-    return { runId: run.id, kind: run.kind, objectives: study.objectives, designs };
+    return { runId: run.id, kind: run.kind, objectives: study.objectives, designs, study };
   } finally {
     store.close();
   }

@@ -8,18 +8,21 @@ import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import { parseAllDocuments, parseDocument, stringify } from 'yaml';
-import type { AssemblyMode, JointRange, WorkingMode } from '../mechanics/fivebar.js';
-import { metricInfo } from '../mechanics/metrics.js';
+import type { AssemblyMode, JointRange } from '../mechanics/fivebar.js';
+import { metricInfo, metricKind, metricUnavailable } from '../mechanics/metrics.js';
+import { ARCHITECTURES } from '../architectures/index.js';
+import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../mechanics/dutyCycle.js';
 import { parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
-  FIVE_BAR_PARAMETERS,
+  ARCHITECTURE_PREFIX,
   type ConstraintSpec,
   type DriveSpec,
   type DutyCycleSpec,
-  type FiveBarParameter,
+  type EvaluationSettings,
   type LinkSpec,
+  type OrientationSpec,
   type ObjectiveSpec,
   type ParameterSpec,
   type Study,
@@ -222,6 +225,10 @@ export function evaluationSettingsHash(study: Study): string {
     // Added only when present, so studies without them keep their earlier hashes.
     dutyCycle: study.dutyCycle ?? undefined,
     friction: study.friction ?? undefined,
+    sliderMass: study.sliderMass,
+    platform: study.platform ?? undefined,
+    orientation: study.orientation ?? undefined,
+    members: study.members ? study.members.map(evaluationSettingsHash) : undefined,
   };
   return sha256(canonicalJson(relevant));
 }
@@ -242,6 +249,9 @@ export function workspaceSettingsHash(study: Study): string {
       jointLimits: study.jointLimits,
       region: study.task.region,
       evaluation: study.evaluation,
+      // Absent for 2-DOF studies, so their hashes stay as they were.
+      orientation: study.orientation ?? undefined,
+      members: study.members ? study.members.map(workspaceSettingsHash) : undefined,
     }),
   );
 }
@@ -274,70 +284,179 @@ function positive(value: number, where: string, allowZero = false): number {
   return value;
 }
 
+/** Length parameters that may be zero or negative (positions rather than sizes). */
+const SIGNED_LENGTHS: ReadonlySet<string> = new Set(['base_rise', 'rail_height']);
+/** Length parameters that may be zero. */
+const ZERO_LENGTHS: ReadonlySet<string> = new Set(['base_rise', 'base_span', 'rail_height']);
+/** Member-study keys of a comparison study (each replaces the top-level key for that architecture). */
+const MEMBER_KEYS = ['geometry', 'working_mode', 'assembly_mode', 'joint_limits', 'mass', 'drives', 'orientation', 'friction'] as const;
+
 function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>): Study {
+  const arch = data['architecture'];
+  if (Array.isArray(arch)) return buildComparisonStudy(data, arch as string[], attachments);
+  if (data['members'] !== undefined) throw new StudyError('members: only a comparison study (architecture: [a, b, …]) has members');
+  if (data['geometry'] === undefined) throw new StudyError('geometry: missing field (the architecture\'s parameters)');
+  return buildSingleStudy(data, attachments);
+}
+
+/** A comparison study: one member study per architecture (see Study.members). */
+function buildComparisonStudy(data: JsonObject, names: readonly string[], attachments: ReadonlyMap<string, string>): Study {
+  const membersIn = isObject(data['members']) ? data['members'] : null;
+  if (!membersIn) throw new StudyError('members: a comparison study gives one block per architecture (members: {five-bar: {geometry: …}, 2-prr: {…}})');
+  if (data['geometry'] !== undefined) throw new StudyError('geometry: a comparison study gives geometry per architecture, under members.<architecture>.geometry');
+  if (data['duty_cycle'] !== undefined) throw new StudyError('duty_cycle: not available in a comparison study (duty cycles are five-bar only)');
+  for (const key of Object.keys(membersIn)) {
+    if (!names.includes(key)) throw new StudyError(`members.${key}: "${key}" is not one of the study's architectures ${JSON.stringify(names)}`);
+  }
+  const baselineIn = isObject(data['baseline']) ? data['baseline'] : {};
+  const members: Study[] = [];
+  for (const name of names) {
+    const block = membersIn[name];
+    if (!isObject(block)) throw new StudyError(`members.${name}: missing block for architecture "${name}"`);
+    const memberData: JsonObject = { ...data, architecture: name };
+    delete memberData['members'];
+    for (const key of MEMBER_KEYS) if (block[key] !== undefined) memberData[key] = block[key]!;
+    const prefix = `${ARCHITECTURE_PREFIX[name as ArchitectureName]}_`;
+    const memberBaseline: JsonObject = {};
+    for (const [key, value] of Object.entries(baselineIn)) if (key.startsWith(prefix)) memberBaseline[key.slice(prefix.length)] = value;
+    memberData['baseline'] = memberBaseline;
+    try {
+      members.push(buildSingleStudy(memberData, attachments));
+    } catch (error) {
+      if (error instanceof StudyError || error instanceof UnitError) throw new StudyError(`members.${name}: ${error.message}`);
+      throw error;
+    }
+  }
+  const first = members[0]!;
+  const baseline: Record<string, number | string> = {};
+  for (const [key, value] of Object.entries(baselineIn)) {
+    if (key === 'architecture') {
+      if (typeof value !== 'string' || !names.includes(value)) throw new StudyError(`baseline.architecture: must be one of ${JSON.stringify(names)}`);
+      baseline[key] = value;
+      continue;
+    }
+    const member = members.find((m) => key.startsWith(`${ARCHITECTURE_PREFIX[m.architecture]}_`));
+    if (!member) throw new StudyError(`baseline.${key}: unknown design variable (comparison variables are architecture, or <prefix>_<name> with prefix ${members.map((m) => ARCHITECTURE_PREFIX[m.architecture]).join(', ')})`);
+    const inner = key.slice(ARCHITECTURE_PREFIX[member.architecture].length + 1);
+    const v = member.baseline[inner];
+    if (v !== undefined) baseline[key] = v;
+  }
+  return { ...first, members, baseline };
+}
+
+function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, string>): Study {
+  const architectureName = data['architecture'] as ArchitectureName;
+  const architecture = ARCHITECTURES[architectureName];
+  const isFiveBar = architectureName === 'five-bar';
+  const n = architecture.dof;
+  const actuatorKind: ActuatorKind = architecture.actuators[0]!;
+  const parameterNames = architecture.parameters.map((p) => p.name);
   const geometryIn = data['geometry'] as JsonObject;
-  const geometry = {} as Record<FiveBarParameter, ParameterSpec>;
-  for (const name of FIVE_BAR_PARAMETERS) {
+  for (const key of Object.keys(geometryIn)) {
+    if (!parameterNames.includes(key)) {
+      throw new StudyError(`geometry.${key}: not a parameter of the ${architectureName} (its parameters: ${parameterNames.join(', ')})`);
+    }
+  }
+  const geometry: Record<string, ParameterSpec> = {};
+  for (const info of architecture.parameters) {
+    const name = info.name;
     const where = `geometry.${name}`;
     const raw = geometryIn[name];
-    const allowZero = name === 'base_rise' || name === 'base_span';
-    const signed = name === 'base_rise';
+    const kind: QuantityKind = info.kind === 'angle' ? 'angle' : 'length';
+    const allowZero = ZERO_LENGTHS.has(name);
+    const signed = info.kind === 'angle' || SIGNED_LENGTHS.has(name);
     if (raw === undefined) {
+      if (!isFiveBar && info.kind === 'length' && !ZERO_LENGTHS.has(name)) throw new StudyError(`${where}: missing (the ${architectureName} needs ${parameterNames.join(', ')})`);
       geometry[name] = { kind: 'fixed', value: 0 };
     } else if (isObject(raw) && 'same_as' in raw) {
-      const to = raw['same_as'] as FiveBarParameter;
+      const to = raw['same_as'] as string;
       if (to === name) throw new StudyError(`${where}.same_as: a parameter cannot be tied to itself`);
+      if (!parameterNames.includes(to)) throw new StudyError(`${where}.same_as: "${to}" is not a parameter of the ${architectureName} (its parameters: ${parameterNames.join(', ')})`);
       geometry[name] = { kind: 'tied', to };
     } else if (isObject(raw)) {
-      const min = q(raw['min'], 'length', `${where}.min`);
-      const max = q(raw['max'], 'length', `${where}.max`);
+      const min = q(raw['min'], kind, `${where}.min`);
+      const max = q(raw['max'], kind, `${where}.max`);
       if (!signed) positive(min, `${where}.min`, allowZero);
-      if (!(max > min)) throw new StudyError(`${where}: max (${max} m) must be greater than min (${min} m)`);
+      const unit = kind === 'angle' ? 'rad' : 'm';
+      if (!(max > min)) throw new StudyError(`${where}: max (${max} ${unit}) must be greater than min (${min} ${unit})`);
       geometry[name] = { kind: 'variable', min, max };
     } else {
-      const value = q(raw, 'length', where);
+      const value = q(raw, kind, where);
       if (!signed) positive(value, where, allowZero);
       geometry[name] = { kind: 'fixed', value };
     }
   }
-  for (const name of FIVE_BAR_PARAMETERS) {
-    const spec = geometry[name];
-    if (spec.kind === 'tied' && geometry[spec.to].kind === 'tied') {
-      throw new StudyError(`geometry.${name}.same_as: "${spec.to}" is itself tied; tie to the parameter it follows instead`);
+  for (const name of parameterNames) {
+    const spec = geometry[name]!;
+    if (spec.kind === 'tied') {
+      if (geometry[spec.to]!.kind === 'tied') throw new StudyError(`geometry.${name}.same_as: "${spec.to}" is itself tied; tie to the parameter it follows instead`);
+      const fromKind = architecture.parameters.find((p) => p.name === name)!.kind;
+      const toKind = architecture.parameters.find((p) => p.name === spec.to)!.kind;
+      if (fromKind !== toKind) throw new StudyError(`geometry.${name}.same_as: "${spec.to}" is an ${toKind}, "${name}" a ${fromKind}`);
     }
   }
 
   const wm = data['working_mode'];
-  const workingModes: WorkingMode[] = wm === undefined ? ['+-'] : Array.isArray(wm) ? (wm as WorkingMode[]) : [wm as WorkingMode];
+  const defaultMode = isFiveBar ? '+-' : n === 2 ? '-+' : '+'.repeat(n);
+  const workingModes: string[] = wm === undefined ? [defaultMode] : Array.isArray(wm) ? (wm as string[]) : [wm as string];
+  for (const mode of workingModes) {
+    if (!architecture.workingModes.includes(mode)) {
+      throw new StudyError(`working_mode: "${mode}" is not a working mode of the ${architectureName} (one sign per leg: ${architecture.workingModes.join(', ')})`);
+    }
+  }
   const assemblyMode = (data['assembly_mode'] ?? '+') as AssemblyMode;
 
   const limitsIn = isObject(data['joint_limits']) ? data['joint_limits'] : {};
-  const range = (raw: Json | undefined, where: string): JointRange | null => {
+  const range = (raw: Json | undefined, where: string, kind: ActuatorKind): JointRange | null => {
     if (!isObject(raw)) return null;
-    const min = q(raw['min'], 'angle', `${where}.min`);
-    const max = q(raw['max'], 'angle', `${where}.max`);
+    const quantity: QuantityKind = kind === 'revolute' ? 'angle' : 'length';
+    const min = q(raw['min'], quantity, `${where}.min`);
+    const max = q(raw['max'], quantity, `${where}.max`);
     if (!(max > min)) throw new StudyError(`${where}: max must be greater than min`);
-    if (max - min >= 2 * Math.PI) return null;
+    if (kind === 'revolute' && max - min >= 2 * Math.PI) return null;
     return { min, max };
   };
-  const bothLimits = range(limitsIn['both'], 'joint_limits.both');
-  const jointLimits: [JointRange | null, JointRange | null] = [
-    range(limitsIn['actuator_1'], 'joint_limits.actuator_1') ?? bothLimits,
-    range(limitsIn['actuator_2'], 'joint_limits.actuator_2') ?? bothLimits,
-  ];
+  for (const key of Object.keys(limitsIn)) {
+    if (key === 'actuator_3' && n < 3) throw new StudyError(`joint_limits.actuator_3: the ${architectureName} has ${n} actuators`);
+  }
+  const bothLimits = range(limitsIn['both'], 'joint_limits.both', actuatorKind);
+  const jointLimits: (JointRange | null)[] = [];
+  for (let i = 0; i < n; i++) {
+    jointLimits.push(range(limitsIn[`actuator_${i + 1}`], `joint_limits.actuator_${i + 1}`, architecture.actuators[i]!) ?? bothLimits);
+  }
 
   const massIn = isObject(data['mass']) ? data['mass'] : {};
+  for (const key of Object.keys(massIn)) {
+    const leg = /_(\d)$/.exec(key);
+    if (leg && Number(leg[1]) > n) throw new StudyError(`mass.${key}: the ${architectureName} has ${n} legs`);
+    if ((key.startsWith('crank') || key === 'elbow_hubs') && actuatorKind === 'prismatic') throw new StudyError(`mass.${key}: the ${architectureName} has sliders, not cranks (use sliders and rods)`);
+    if (key === 'sliders' && actuatorKind === 'revolute') throw new StudyError(`mass.sliders: the ${architectureName} has no sliders`);
+    if (key === 'platform' && n !== 3) throw new StudyError('mass.platform: only 3-DOF architectures carry a platform (use end_hub)');
+    if (key === 'end_hub' && n === 3) throw new StudyError('mass.end_hub: a 3-DOF architecture carries a platform; give mass.platform {mass, inertia}');
+  }
   const link = (specific: string, shared: string): LinkSpec => {
     const raw = massIn[specific] ?? massIn[shared];
     return buildLink(raw, `mass.${massIn[specific] !== undefined ? specific : shared}`);
   };
-  const links = {
-    cranks: [link('crank_1', 'cranks'), link('crank_2', 'cranks')] as const,
-    rods: [link('rod_1', 'rods'), link('rod_2', 'rods')] as const,
-  };
+  const cranks: LinkSpec[] = [];
+  const rods: LinkSpec[] = [];
+  for (let i = 0; i < n; i++) {
+    cranks.push(architecture.actuators[i] === 'revolute' ? link(`crank_${i + 1}`, 'cranks') : buildLink(undefined, `mass.crank_${i + 1}`));
+    rods.push(link(`rod_${i + 1}`, 'rods'));
+  }
+  const links = { cranks, rods };
   const elbowHubMass = positive(q(massIn['elbow_hubs'], 'mass', 'mass.elbow_hubs', 0), 'mass.elbow_hubs', true);
   const endHubMass = positive(q(massIn['end_hub'], 'mass', 'mass.end_hub', 0), 'mass.end_hub', true);
   const payloadMass = positive(q(massIn['payload'], 'mass', 'mass.payload', 0), 'mass.payload', true);
+  const sliderMass = actuatorKind === 'prismatic' ? positive(q(massIn['sliders'], 'mass', 'mass.sliders', 0), 'mass.sliders', true) : undefined;
+  let platform: { mass: number; inertia: number } | undefined;
+  if (n === 3) {
+    const p = isObject(massIn['platform']) ? massIn['platform'] : {};
+    platform = {
+      mass: positive(q(p['mass'], 'mass', 'mass.platform.mass', 0), 'mass.platform.mass', true),
+      inertia: positive(q(p['inertia'], 'inertia', 'mass.platform.inertia', 0), 'mass.platform.inertia', true),
+    };
+  }
 
   const gravityIn = data['gravity'] ?? 'vertical';
   let gravity: [number, number];
@@ -349,18 +468,19 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
   }
 
   const drivesIn = isObject(data['drives']) ? data['drives'] : undefined;
-  let drives: [DriveSpec, DriveSpec] | null = null;
+  let drives: DriveSpec[] | null = null;
   let torqueSafetyFactor = 1.5;
   let driveCatalogue: Study['driveCatalogue'] = null;
   let driveChoice: Study['driveChoice'] = { kind: 'fixed' };
   if (drivesIn) {
+    if (drivesIn['actuator_3'] !== undefined && n < 3) throw new StudyError(`drives.actuator_3: the ${architectureName} has ${n} actuators`);
     if (typeof drivesIn['catalogue'] === 'string') {
       const path = drivesIn['catalogue'];
       const content = attachments.get(path);
       if (content === undefined) throw new StudyError(`drives.catalogue: "${path}" is not attached (load the study with loadStudyFile so the file is read)`);
       const options = catalogueRecords(content, path).map((record, i) => {
         if (typeof record['name'] !== 'string' || record['name'] === '') throw new StudyError(`drives.catalogue ${path}: option ${i + 1} has no name`);
-        return buildDrive(record as JsonObject, `drives.catalogue ${path}: option "${record['name']}"`);
+        return buildDrive(record as JsonObject, `drives.catalogue ${path}: option "${record['name']}"`, actuatorKind);
       });
       const names = new Set<string>();
       for (const o of options) {
@@ -373,7 +493,7 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
     if (choose) {
       if (!driveCatalogue) throw new StudyError('drives.choose: needs drives.catalogue (the options to choose from)');
       const choices = drivesIn['choices'] as string[] | undefined;
-      const options = choices ? choices.map((n) => findOption(driveCatalogue!.options, n, 'drives.choices')) : driveCatalogue.options;
+      const options = choices ? choices.map((name) => findOption(driveCatalogue!.options, name, 'drives.choices')) : driveCatalogue.options;
       if (options.length < 2) throw new StudyError('drives.choose: needs at least two options to choose from');
       driveChoice = { kind: choose, options };
     } else {
@@ -384,12 +504,37 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
           if (!driveCatalogue) throw new StudyError(`${where}: "${raw}" names a catalogue option, but drives.catalogue is not given`);
           return findOption(driveCatalogue.options, raw, where);
         }
-        if (!isObject(raw)) throw new StudyError(`drives: give "both" or "actuator_1" and "actuator_2" (missing a drive for ${name}), or "choose" with a catalogue`);
-        return buildDrive(raw, where);
+        if (!isObject(raw)) {
+          const list = Array.from({ length: n }, (_, i) => `"actuator_${i + 1}"`).join(', ');
+          throw new StudyError(`drives: give "both" or ${isFiveBar ? '"actuator_1" and "actuator_2"' : list} (missing a drive for ${name}), or "choose" with a catalogue`);
+        }
+        return buildDrive(raw, where, actuatorKind);
       };
-      drives = [pick('actuator_1'), pick('actuator_2')];
+      drives = [];
+      for (let i = 0; i < n; i++) drives.push(pick(`actuator_${i + 1}`));
     }
     if (typeof drivesIn['torque_safety_factor'] === 'number') torqueSafetyFactor = drivesIn['torque_safety_factor'];
+  }
+
+  let orientation: OrientationSpec | undefined;
+  const orientationIn = data['orientation'];
+  if (n === 3) {
+    const o = isObject(orientationIn) ? orientationIn : {};
+    const lengthIn = o['characteristic_length'];
+    const characteristicLength: OrientationSpec['characteristicLength'] =
+      lengthIn === undefined ? 'platform' : lengthIn === 'auto' ? 'auto' : positive(q(lengthIn, 'length', 'orientation.characteristic_length'), 'orientation.characteristic_length');
+    const step = positive(q(o['step'], 'angle', 'orientation.step', (2 * Math.PI) / 180), 'orientation.step');
+    if (step > Math.PI / 4) throw new StudyError('orientation.step: at most 45 deg (ranges narrower than the step may be missed)');
+    const rangeValue = positive(q(o['range'], 'angle', 'orientation.range', 0), 'orientation.range', true);
+    if (rangeValue >= Math.PI) throw new StudyError('orientation.range: Δφ must be below 180 deg');
+    orientation = {
+      phi0: q(o['phi0'], 'angle', 'orientation.phi0', 0),
+      range: rangeValue,
+      characteristicLength,
+      step,
+    };
+  } else if (orientationIn !== undefined) {
+    throw new StudyError(`orientation: only 3-DOF architectures (3-rrr, 3-prr) have an orientation; the ${architectureName} is 2-DOF`);
   }
 
   const taskIn = isObject(data['task']) ? data['task'] : {};
@@ -422,13 +567,41 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
   if (minTransmissionAngle < 0 || minTransmissionAngle >= Math.PI / 2) {
     throw new StudyError('evaluation.min_transmission_angle: must be between 0 and 90 deg');
   }
-  const evaluation = {
+  let window: EvaluationSettings['window'];
+  if (isObject(evalIn['window'])) {
+    const w = evalIn['window'];
+    const xs = w['x'] as Json[];
+    const ys = w['y'] as Json[];
+    window = {
+      xmin: q(xs[0], 'length', 'evaluation.window.x[0]'),
+      xmax: q(xs[1], 'length', 'evaluation.window.x[1]'),
+      ymin: q(ys[0], 'length', 'evaluation.window.y[0]'),
+      ymax: q(ys[1], 'length', 'evaluation.window.y[1]'),
+    };
+    if (!(window.xmax > window.xmin && window.ymax > window.ymin)) throw new StudyError('evaluation.window: each range must be [min, max] with max > min');
+  }
+  const evaluation: EvaluationSettings = {
     gridCells: (evalIn['grid_cells'] as number | undefined) ?? DEFAULT_EVALUATION.gridCells,
     taskSamples: (evalIn['task_samples'] as number | undefined) ?? DEFAULT_EVALUATION.taskSamples,
     minInverseCondition: (evalIn['min_inverse_condition'] as number | undefined) ?? DEFAULT_EVALUATION.minInverseCondition,
     minTransmissionAngle,
+    ...(window ? { window } : {}),
   };
+  if (actuatorKind === 'prismatic' && !window && jointLimits.some((r) => r === null)) {
+    throw new StudyError(
+      `joint_limits: the ${architectureName} has rails without an end: give a stroke for every slider (joint_limits.actuator_i {min, max} in m along the rail) or a grid window (evaluation.window {x: [min, max], y: [min, max]})`,
+    );
+  }
+  if (orientation?.characteristicLength === 'auto' && !region) {
+    throw new StudyError('orientation.characteristic_length: "auto" chooses L over the task points; give task.region');
+  }
 
+  if (!isFiveBar && data['duty_cycle'] !== undefined) {
+    throw new StudyError(`duty_cycle: duty cycles are evaluated for the five-bar only, not yet for the ${architectureName}; remove the duty_cycle section`);
+  }
+  if (!isFiveBar && data['friction'] !== undefined) {
+    throw new StudyError(`friction: joint friction is used along a duty cycle, which is five-bar only; remove the friction section for the ${architectureName}`);
+  }
   const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle']) : null;
   const friction = isObject(data['friction']) ? buildFriction(data['friction']) : null;
   if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
@@ -446,12 +619,13 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
   }
   const constraints: ConstraintSpec[] = ((data['constraints'] as JsonObject[] | undefined) ?? []).map((c, i) => {
     const metric = c['metric'] as string;
-    const info = metricInfo(metric)!;
+    if (!metricInfo(metric)) throw new StudyError(`constraints[${i}].metric: unknown metric "${metric}"`);
     const where = `constraints[${i}]`;
     if (c['min'] === undefined && c['max'] === undefined) throw new StudyError(`${where}: give min, max or both for "${metric}"`);
     const spec: { metric: string; min?: number; max?: number } = { metric };
-    if (c['min'] !== undefined) spec.min = q(c['min'], info.kind, `${where}.min`);
-    if (c['max'] !== undefined) spec.max = q(c['max'], info.kind, `${where}.max`);
+    const kind = metricKind(metric, architecture.actuators);
+    if (c['min'] !== undefined) spec.min = q(c['min'], kind, `${where}.min`);
+    if (c['max'] !== undefined) spec.max = q(c['max'], kind, `${where}.max`);
     if (spec.min !== undefined && spec.max !== undefined && spec.max < spec.min) throw new StudyError(`${where}: max is below min`);
     return spec;
   });
@@ -459,6 +633,8 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
   const cycleMetric = (metric: string): boolean => metric.startsWith('cycle_') || metric === 'min_cycle_time';
   [...objectives.map((o, i) => ({ metric: o.metric, where: `objectives[${i}].metric` })), ...constraints.map((c, i) => ({ metric: c.metric, where: `constraints[${i}].metric` }))].forEach(({ metric, where }) => {
     if (cycleMetric(metric) && !dutyCycle) throw new StudyError(`${where}: "${metric}" needs a duty_cycle section`);
+    const unavailable = metricUnavailable(metric, n);
+    if (unavailable) throw new StudyError(`${where}: "${metric}" ${unavailable} (the ${architectureName} has ${n} actuators)`);
     if (metric === 'min_cycle_time' && !drivesIn) throw new StudyError(`${where}: "min_cycle_time" needs drives (their limits set the shortest cycle time)`);
   });
 
@@ -472,7 +648,7 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
   const partial = {
     name: data['study'] as string,
     description: (data['description'] as string | undefined) ?? '',
-    architecture: 'five-bar' as const,
+    architecture: architectureName,
     geometry,
     workingModes,
     assemblyMode,
@@ -493,6 +669,9 @@ function buildStudy(data: JsonObject, attachments: ReadonlyMap<string, string>):
     objectives,
     constraints,
     optimizer,
+    ...(sliderMass !== undefined ? { sliderMass } : {}),
+    ...(platform ? { platform } : {}),
+    ...(orientation ? { orientation } : {}),
   };
   const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
   return { ...partial, baseline };
@@ -503,15 +682,16 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
   for (const [name, value] of Object.entries(raw)) {
     const where = `baseline.${name}`;
     if (name === 'working_mode') {
-      if (typeof value !== 'string' || !study.workingModes.includes(value as WorkingMode)) {
+      if (typeof value !== 'string' || !study.workingModes.includes(value)) {
         throw new StudyError(`${where}: must be one of the study's working modes ${JSON.stringify(study.workingModes)}`);
       }
       out[name] = value;
       continue;
     }
-    if (name === 'drive' || name === 'drive_1' || name === 'drive_2') {
+    if (name === 'drive' || /^drive_[123]$/.test(name)) {
       const choice = study.driveChoice;
-      const expected = choice.kind === 'shared' ? ['drive'] : choice.kind === 'per-actuator' ? ['drive_1', 'drive_2'] : [];
+      const count = ARCHITECTURES[study.architecture].dof;
+      const expected = choice.kind === 'shared' ? ['drive'] : choice.kind === 'per-actuator' ? Array.from({ length: count }, (_, i) => `drive_${i + 1}`) : [];
       if (!expected.includes(name) || choice.kind === 'fixed') {
         throw new StudyError(`${where}: "${name}" is not a design variable in this study (drives.choose is ${choice.kind === 'fixed' ? 'not set' : choice.kind})`);
       }
@@ -521,14 +701,16 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
       out[name] = value;
       continue;
     }
-    if (!(FIVE_BAR_PARAMETERS as readonly string[]).includes(name)) {
-      throw new StudyError(`${where}: unknown design variable (expected one of ${FIVE_BAR_PARAMETERS.join(', ')}, working_mode)`);
+    const parameters = ARCHITECTURES[study.architecture].parameters;
+    const info = parameters.find((p) => p.name === name);
+    if (!info) {
+      throw new StudyError(`${where}: unknown design variable (expected one of ${parameters.map((p) => p.name).join(', ')}, working_mode)`);
     }
-    const spec = study.geometry[name as FiveBarParameter];
+    const spec = study.geometry[name]!;
     if (spec.kind !== 'variable') {
       throw new StudyError(`${where}: "${name}" is not a design variable in this study (it is ${spec.kind}); remove it from the baseline`);
     }
-    out[name] = q(value, 'length', where);
+    out[name] = q(value, info.kind === 'angle' ? 'angle' : 'length', where);
   }
   return out;
 }
@@ -616,7 +798,32 @@ function fmtMm(metres: number): string {
   return String(Math.round(metres * 1e4) / 10);
 }
 
-function buildDrive(raw: JsonObject, where: string): DriveSpec {
+function buildDrive(raw: JsonObject, where: string, joint: ActuatorKind = 'revolute'): DriveSpec {
+  if (raw['kind'] === 'linear') {
+    if (joint !== 'prismatic') throw new StudyError(`${where}.kind: a linear drive needs sliders; this architecture has cranks`);
+    const rated = positive(q(raw['rated_force'], 'force', `${where}.rated_force`), `${where}.rated_force`);
+    const peak = positive(q(raw['peak_force'], 'force', `${where}.peak_force`), `${where}.peak_force`);
+    if (peak < rated) throw new StudyError(`${where}: peak_force is below rated_force`);
+    const linear: DriveAtJoint = {
+      reflectedInertia: positive(q(raw['moving_mass'], 'mass', `${where}.moving_mass`, 0), `${where}.moving_mass`, true),
+      jointStiffness: positive(q(raw['stiffness'], 'linearStiffness', `${where}.stiffness`, Infinity), `${where}.stiffness`),
+      peakEffort: peak,
+      ratedEffort: rated,
+      maxSpeed: positive(q(raw['max_speed'], 'speed', `${where}.max_speed`), `${where}.max_speed`),
+      encoderStep: positive(q(raw['encoder_step'], 'length', `${where}.encoder_step`, 0), `${where}.encoder_step`, true),
+    };
+    return {
+      label: (raw['name'] as string | undefined) ?? 'drive',
+      mass: positive(q(raw['mass'], 'mass', `${where}.mass`, 0), `${where}.mass`, true),
+      gearRatio: 1, efficiency: 1, rotorInertia: 0, gearInertia: 0,
+      ratedTorque: 0, peakTorque: 0, maxSpeed: 0, jointStiffness: linear.jointStiffness, encoderCounts: 0,
+      linear,
+    };
+  }
+  if (joint === 'prismatic' && raw['lead'] === undefined) {
+    throw new StudyError(`${where}: a slider's drive needs lead (slider travel per turn of the gearbox output, e.g. "10 mm"), or kind: linear with forces in N`);
+  }
+  if (joint === 'revolute' && raw['lead'] !== undefined) throw new StudyError(`${where}.lead: only drives of sliders have a lead`);
   const gearRatio = raw['gear_ratio'];
   if (typeof gearRatio !== 'number' || !(gearRatio > 0)) throw new StudyError(`${where}.gear_ratio: must be a positive number`);
   const efficiency = raw['efficiency'] ?? 1;
@@ -637,8 +844,12 @@ function buildDrive(raw: JsonObject, where: string): DriveSpec {
     ratedTorque,
     peakTorque,
     maxSpeed: positive(q(raw['max_speed'], 'angularSpeed', `${where}.max_speed`), `${where}.max_speed`),
-    jointStiffness: positive(q(raw['joint_stiffness'], 'rotationalStiffness', `${where}.joint_stiffness`, Infinity), `${where}.joint_stiffness`),
+    jointStiffness: positive(
+      q(raw['joint_stiffness'], joint === 'prismatic' ? 'linearStiffness' : 'rotationalStiffness', `${where}.joint_stiffness`, Infinity),
+      `${where}.joint_stiffness`,
+    ),
     encoderCounts,
+    ...(joint === 'prismatic' ? { lead: positive(q(raw['lead'], 'length', `${where}.lead`), `${where}.lead`) } : {}),
   };
 }
 

@@ -1,10 +1,20 @@
 /**
  * A study after parsing and validation: typed, every quantity in SI units.
  */
-import type { AssemblyMode, JointRange, WorkingMode } from '../mechanics/fivebar.js';
+import type { AssemblyMode, JointRange } from '../mechanics/fivebar.js';
 import type { CyclePath, JointFriction } from '../mechanics/dutyCycle.js';
+import type { ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 
-export type Architecture = 'five-bar';
+/** The study's mechanism architecture (see docs/architectures.md). */
+export type Architecture = ArchitectureName;
+
+/** Variable-name prefix of each architecture in a comparison study (store columns need [a-z0-9_]). */
+export const ARCHITECTURE_PREFIX: Readonly<Record<ArchitectureName, string>> = {
+  'five-bar': 'fivebar',
+  '2-prr': 'prr2',
+  '3-rrr': 'rrr3',
+  '3-prr': 'prr3',
+};
 
 /** Geometry parameters of the five-bar, in the order design vectors list them. */
 export const FIVE_BAR_PARAMETERS = ['base_span', 'base_rise', 'crank_1', 'rod_1', 'crank_2', 'rod_2'] as const;
@@ -13,7 +23,7 @@ export type FiveBarParameter = (typeof FIVE_BAR_PARAMETERS)[number];
 export type ParameterSpec =
   | { readonly kind: 'fixed'; readonly value: number }
   | { readonly kind: 'variable'; readonly min: number; readonly max: number }
-  | { readonly kind: 'tied'; readonly to: FiveBarParameter };
+  | { readonly kind: 'tied'; readonly to: string };
 
 export interface LinkSpec {
   /** Mass per unit length, kg/m. */
@@ -51,6 +61,13 @@ export interface DriveSpec {
   readonly jointStiffness: number;
   /** Encoder counts per motor revolution. */
   readonly encoderCounts: number;
+  /**
+   * Prismatic joints only: screw lead or belt travel per turn of the gearbox output, m/rev. With it,
+   * the motor-side figures above are referred to the slider (see `driveAtJoint`). Absent for rotary joints.
+   */
+  readonly lead?: number;
+  /** Prismatic joints only: a linear drive given directly in joint units (N, m/s, kg, N/m, m); the motor-side fields are then unused. */
+  readonly linear?: DriveAtJoint;
 }
 
 export type TaskRegion =
@@ -66,6 +83,20 @@ export interface EvaluationSettings {
   readonly minInverseCondition: number;
   /** Minimum transmission angle μ_min, rad. */
   readonly minTransmissionAngle: number;
+  /** Grid window, m: clips the reachable box (required for rails without strokes). Absent = none. */
+  readonly window?: { readonly xmin: number; readonly xmax: number; readonly ymin: number; readonly ymax: number };
+}
+
+/** 3-DOF platforms: the study orientation and the orientation requirement at every task point. */
+export interface OrientationSpec {
+  /** Study orientation φ_0, rad: the constant-orientation workspace is taken at it. */
+  readonly phi0: number;
+  /** Required range Δφ ≥ 0, rad: every φ in [φ_0 − Δφ, φ_0 + Δφ] must be usable at each task point. */
+  readonly range: number;
+  /** Characteristic length L of the homogenised Jacobian, m; 'auto' = per design, the L that maximises the mean 1/κ over the task points at φ_0; 'platform' (default) = the platform circumradius. */
+  readonly characteristicLength: number | 'auto' | 'platform';
+  /** Scan step of the orientation ranges, rad. */
+  readonly step: number;
 }
 
 export interface ObjectiveSpec {
@@ -100,22 +131,38 @@ export interface DutyCycleSpec {
 export interface Study {
   readonly name: string;
   readonly description: string;
+  /** The architecture (for a comparison study: the first of `members`). */
   readonly architecture: Architecture;
-  readonly geometry: Readonly<Record<FiveBarParameter, ParameterSpec>>;
-  /** Working modes allowed: one = fixed; several = the optimizer chooses. */
-  readonly workingModes: readonly WorkingMode[];
+  /** Geometry by the architecture's parameter names (SI: m, rad). */
+  readonly geometry: Readonly<Record<string, ParameterSpec>>;
+  /** Working modes allowed (the architecture's mode names): one = fixed; several = the optimizer chooses. */
+  readonly workingModes: readonly string[];
   readonly assemblyMode: AssemblyMode;
-  readonly jointLimits: readonly [JointRange | null, JointRange | null];
-  readonly links: { readonly cranks: readonly [LinkSpec, LinkSpec]; readonly rods: readonly [LinkSpec, LinkSpec] };
+  /** Actuated-joint ranges per actuator: rad for cranks, m (slider position on its rail) for sliders; null = unlimited. */
+  readonly jointLimits: readonly (JointRange | null)[];
+  /** Link sections per leg (cranks: revolute legs only; prismatic legs keep an unused massless entry). */
+  readonly links: { readonly cranks: readonly LinkSpec[]; readonly rods: readonly LinkSpec[] };
   /** Lumped masses, kg. */
   readonly elbowHubMass: number;
   readonly endHubMass: number;
   readonly payloadMass: number;
+  /** Slider carriage mass per prismatic leg, kg (absent = 0 / five-bar). */
+  readonly sliderMass?: number;
+  /** 3-DOF: platform mass (kg) and inertia about its centre P (kg·m²); absent for 2-DOF. */
+  readonly platform?: { readonly mass: number; readonly inertia: number } | null;
+  /** 3-DOF: orientation settings; absent for 2-DOF. */
+  readonly orientation?: OrientationSpec | null;
+  /**
+   * Comparison study (`architecture: [a, b, …]`): one complete member study per architecture, sharing
+   * task, evaluation, objectives and constraints. The design variable `architecture` picks the member;
+   * the members' own variables are prefixed (see designSpace.ts). Absent for a single architecture.
+   */
+  readonly members?: readonly Study[] | null;
   /** Gravity in the plane of motion, m/s² (x, y). */
   readonly gravity: readonly [number, number];
-  /** Fixed drives of every design, or null when there are none or the optimizer chooses them. */
-  readonly drives: readonly [DriveSpec, DriveSpec] | null;
-  /** How drives are chosen: fixed (see `drives`), or catalogue options shared by both actuators or per actuator. */
+  /** Fixed drives of every design (one per actuator), or null when there are none or the optimizer chooses them. */
+  readonly drives: readonly DriveSpec[] | null;
+  /** How drives are chosen: fixed (see `drives`), or catalogue options shared by all actuators or per actuator. */
   readonly driveChoice:
     | { readonly kind: 'fixed' }
     | { readonly kind: 'shared' | 'per-actuator'; readonly options: readonly DriveSpec[] };

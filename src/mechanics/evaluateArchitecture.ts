@@ -1,0 +1,449 @@
+/**
+ * Evaluation of one design of any architecture through the interface of src/architectures
+ * (`PlanarArchitecture`): the same pipeline as the five-bar's (src/mechanics/evaluate.ts) — grid
+ * workspace, connected usable region, task coverage, per-pose metrics aggregated over the
+ * evaluation region, constraints — written on the generic `ArchitecturePose` with n = 2 or 3
+ * actuators. The five-bar keeps its own path in evaluate.ts (its numbers are the regression check).
+ *
+ * Differences from the five-bar path, all documented in docs/architectures.md:
+ * - joint margins of sliders (m) are divided by the longest rod so that min() over the usability
+ *   terms compares dimensionless numbers; the zero level (the usable boundary) is unchanged;
+ * - 3-DOF: the workspace is the constant-orientation workspace at φ_0; at every task point the usable
+ *   orientation ranges are scanned, `orientation_margin` is the worst margin of φ_0 ± Δφ and a task
+ *   point counts as covered only when the requirement holds there;
+ * - `accel_capability` and `peak_joint_speed` use J_h (an angular part counts as L·φ̈, L·φ̇);
+ *   `resolution` is the largest step of P for one encoder count on each joint (orientation excluded).
+ */
+import { characteristicLengthForPoses } from '../architectures/conditioning.js';
+import type { LeggedModel } from '../architectures/legged.js';
+import { orientationRanges, orientationRequirementMargin } from '../architectures/orientation.js';
+import { PoseStatus, type ArchitectureModelBase, type ArchitecturePose, type DriveAtJoint, type PlanarArchitecture, type PlaneBox } from '../architectures/types.js';
+import { ARCHITECTURES } from '../architectures/index.js';
+import { MarginGrid } from './grid.js';
+import { METRICS, metricIndex } from './metrics.js';
+import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
+import { constraintDefinitions, constraintBounds, constraintMargin, taskSamples, type ConstraintDefinition, type DesignEvaluation } from './evaluate.js';
+import type { Study } from '../study/types.js';
+
+const M = {
+  reachable: metricIndex('reachable_area'),
+  workspace: metricIndex('workspace_area'),
+  coverage: metricIndex('task_coverage'),
+  inscribed: metricIndex('inscribed_radius'),
+  gci: metricIndex('gci'),
+  minInvCond: metricIndex('min_inv_condition'),
+  minTransmission: metricIndex('min_transmission_angle'),
+  minStiffness: metricIndex('min_stiffness'),
+  peakTorque: metricIndex('peak_gravity_torque'),
+  peakTorqueOf: [metricIndex('peak_gravity_torque_1'), metricIndex('peak_gravity_torque_2'), metricIndex('peak_gravity_torque_3')],
+  bandwidth: metricIndex('bandwidth'),
+  accel: metricIndex('accel_capability'),
+  peakSpeed: metricIndex('peak_joint_speed'),
+  peakSpeedOf: [metricIndex('peak_joint_speed_1'), metricIndex('peak_joint_speed_2'), metricIndex('peak_joint_speed_3')],
+  resolution: metricIndex('resolution'),
+  footprint: metricIndex('footprint'),
+  movingMass: metricIndex('moving_mass'),
+  orientationMargin: metricIndex('orientation_margin'),
+  orientationRange: metricIndex('orientation_range'),
+} as const;
+
+/** Most orientation ranges kept per point (more are dropped by orientationRanges). */
+const MAX_RANGES = 16;
+
+/** Running aggregate of the per-pose metrics, per-joint entries for up to three actuators. */
+class ArchitectureAggregate {
+  weight = 0;
+  invCondSum = 0;
+  minInvCond = Infinity;
+  minTransmissionSine = Infinity;
+  minStiffness = Infinity;
+  minFrequency = Infinity;
+  minAccel = Infinity;
+  maxStep = 0;
+  readonly peakEffort = new Float64Array(3);
+  readonly peakSpeed = new Float64Array(3);
+  minOrientationMargin = Infinity;
+  minOrientationRange = Infinity;
+  reset(): void {
+    this.weight = 0; this.invCondSum = 0; this.minInvCond = Infinity; this.minTransmissionSine = Infinity;
+    this.minStiffness = Infinity; this.minFrequency = Infinity; this.minAccel = Infinity; this.maxStep = 0;
+    this.peakEffort.fill(0); this.peakSpeed.fill(0);
+    this.minOrientationMargin = Infinity; this.minOrientationRange = Infinity;
+  }
+}
+
+/**
+ * Usability margin of a solved pose of any architecture (dimensionless; ≥ 0 when usable): the
+ * smallest of 1/κ(J_h) − c_min, |s_i| − sin μ_min for each leg, σ_a · mechanismSine − sin μ_min and
+ * the joint-range margin divided by `jointScale` (1 for cranks, rad; the longest rod for sliders, m);
+ * −1 when a leg cannot reach. For the five-bar the terms are those of `usableMargin` in evaluate.ts.
+ */
+export function architectureUsableMargin(
+  pose: ArchitecturePose,
+  status: PoseStatus,
+  study: Pick<Study, 'evaluation' | 'assemblyMode'>,
+  jointScale: number,
+): number {
+  if (status === PoseStatus.Unreachable) return -1;
+  const e = study.evaluation;
+  const sinMin = Math.sin(e.minTransmissionAngle);
+  const assembly = study.assemblyMode === '+' ? 1 : -1;
+  let m = pose.inverseCondition - e.minInverseCondition;
+  for (let i = 0; i < pose.dof; i++) {
+    const t = Math.abs(pose.legSine[i]!) - sinMin;
+    if (t < m) m = t;
+  }
+  const tm = assembly * pose.mechanismSine - sinMin;
+  if (tm < m) m = tm;
+  const jm = pose.jointMargin / jointScale;
+  if (jm < m) m = jm;
+  if (m === 0 && (pose.inverseCondition === 0 || assembly * pose.mechanismSine <= 0)) m = -1e-12;
+  return m;
+}
+
+function isLegged(model: ArchitectureModelBase): model is LeggedModel {
+  return 'complianceTransverse' in model;
+}
+
+/** Width of the orientation range (rad) that holds φ_0, 0 when none does; 2π for a full turn. */
+export function rangeWidthAt(ranges: Float64Array, count: number, phi0: number): number {
+  for (let k = 0; k < count; k++) {
+    const lo = ranges[2 * k]!;
+    const hi = ranges[2 * k + 1]!;
+    if (hi - lo >= 2 * Math.PI - 1e-12) return 2 * Math.PI;
+    const shifted = phi0 + 2 * Math.PI * Math.ceil((lo - phi0) / (2 * Math.PI));
+    if (shifted <= hi) return hi - lo;
+  }
+  return 0;
+}
+
+/** Evaluator of one single-architecture study through the architecture interface. */
+export class ArchitectureEvaluator {
+  readonly study: Study;
+  readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
+  readonly variables: readonly DesignVariable[];
+  readonly constraints: readonly ConstraintDefinition[];
+  private readonly pose: ArchitecturePose;
+  private readonly grid: MarginGrid;
+  private readonly task: { x: Float64Array; y: Float64Array; weight: Float64Array } | null;
+  private readonly aggregate = new ArchitectureAggregate();
+  private readonly ranges = new Float64Array(2 * MAX_RANGES);
+  /** Study orientation φ_0, rad (0 for 2-DOF). */
+  private readonly phi0: number;
+  /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
+  private jointScale = 1;
+  private drives: readonly DriveAtJoint[] | null = null;
+
+  constructor(study: Study) {
+    if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
+    this.study = study;
+    this.architecture = ARCHITECTURES[study.architecture];
+    this.variables = designVariables(study);
+    this.constraints = constraintDefinitions(study);
+    this.pose = this.architecture.createPose();
+    this.grid = new MarginGrid(study.evaluation.gridCells + 4);
+    this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
+    this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
+  }
+
+  resolve(design: ArrayLike<number>): ResolvedDesign {
+    return resolveDesign(this.study, this.variables, design);
+  }
+
+  /**
+   * The immutable model of a resolved design. With `characteristic_length: auto` the model is built
+   * twice: once to solve the task points at φ_0, then with the L that maximises their mean 1/κ(J_h),
+   * searched between 10⁻³ and 10 footprints (the model's default L when no task point is assembled).
+   */
+  buildModel(resolved: ResolvedDesign): ArchitectureModelBase {
+    const architecture = this.architecture;
+    const model = architecture.buildModel(modelInput(this.study, resolved));
+    if (this.study.orientation?.characteristicLength !== 'auto' || !this.task) return model;
+    const task = this.task;
+    const points = new Float64Array(3 * task.x.length);
+    for (let k = 0; k < task.x.length; k++) {
+      points[3 * k] = task.x[k]!;
+      points[3 * k + 1] = task.y[k]!;
+      points[3 * k + 2] = this.phi0;
+    }
+    const scale = architecture.footprint(model);
+    const best = characteristicLengthForPoses(architecture, model, this.pose, points, 1e-3 * scale, 10 * scale);
+    return best ? architecture.buildModel(modelInput(this.study, resolved, best.length)) : model;
+  }
+
+  /** Model of a design vector. */
+  model(design: ArrayLike<number>): ArchitectureModelBase {
+    return this.buildModel(this.resolve(design));
+  }
+
+  private prepare(resolved: ResolvedDesign, model: ArchitectureModelBase): void {
+    this.drives = drivesAtJoint(this.study, resolved.drives);
+    let scale = 1;
+    if (isLegged(model) && model.actuators.includes('prismatic')) scale = Math.max(...model.rod);
+    this.jointScale = scale;
+  }
+
+  private usable(status: PoseStatus): number {
+    return architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+  }
+
+  evaluate(design: ArrayLike<number>): DesignEvaluation {
+    const resolved = this.resolve(design);
+    const model = this.buildModel(resolved);
+    this.prepare(resolved, model);
+    const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
+    this.analyseWorkspace(model, metrics);
+    this.finishMetrics(model, metrics);
+    return this.withConstraints(metrics, resolved);
+  }
+
+  /** As Evaluator.evaluateWithWorkspace: workspace metrics from an earlier evaluation, the rest recomputed. */
+  evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation {
+    if (!this.task) throw new Error('evaluateWithWorkspace needs a study with a task region');
+    const resolved = this.resolve(design);
+    const model = this.buildModel(resolved);
+    this.prepare(resolved, model);
+    const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
+    this.aggregate.reset();
+    this.aggregateTask(model, -1);
+    metrics[M.reachable] = workspace[0]!;
+    metrics[M.workspace] = workspace[1]!;
+    metrics[M.coverage] = workspace[2]!;
+    metrics[M.inscribed] = workspace[3]!;
+    this.finishMetrics(model, metrics);
+    return this.withConstraints(metrics, resolved);
+  }
+
+  private withConstraints(metrics: Float64Array, resolved: ResolvedDesign): DesignEvaluation {
+    const n = this.constraints.length;
+    const margins = new Float64Array(n);
+    const constraintMin = new Float64Array(n).fill(Number.NaN);
+    const constraintMax = new Float64Array(n).fill(Number.NaN);
+    let violation = 0;
+    this.constraints.forEach((c, k) => {
+      const bounds = constraintBounds(c, this.study, resolved.drives);
+      if (bounds.min !== undefined) constraintMin[k] = bounds.min;
+      if (bounds.max !== undefined) constraintMax[k] = bounds.max;
+      const margin = constraintMargin(bounds, metrics[c.metricIndex]!);
+      margins[k] = margin;
+      if (margin < 0) violation -= margin;
+    });
+    return { metrics, margins, constraintMin, constraintMax, violation, feasible: violation === 0 };
+  }
+
+  /** Reachable box at φ_0 clipped to the study's window; null when empty or unbounded. */
+  private box(model: ArchitectureModelBase): PlaneBox | null {
+    const raw = this.architecture.reachableBox(model, this.phi0);
+    if (!raw) return null;
+    const w = this.study.evaluation.window;
+    const box = w
+      ? { xmin: Math.max(raw.xmin, w.xmin), xmax: Math.min(raw.xmax, w.xmax), ymin: Math.max(raw.ymin, w.ymin), ymax: Math.min(raw.ymax, w.ymax) }
+      : raw;
+    if (!(box.xmax > box.xmin && box.ymax > box.ymin)) return null;
+    if (![box.xmin, box.xmax, box.ymin, box.ymax].every(Number.isFinite)) {
+      throw new Error(`${this.study.architecture}: the reachable box is unbounded; give strokes (joint_limits) or evaluation.window`);
+    }
+    return box;
+  }
+
+  private analyseWorkspace(model: ArchitectureModelBase, metrics: Float64Array): void {
+    const grid = this.grid;
+    const pose = this.pose;
+    const architecture = this.architecture;
+    const box = this.box(model);
+    const agg = this.aggregate;
+    agg.reset();
+    if (!box) {
+      metrics[M.reachable] = 0;
+      metrics[M.workspace] = 0;
+      metrics[M.inscribed] = 0;
+      metrics[M.coverage] = this.task ? 0 : Number.NaN;
+      if (this.task) this.aggregateTask(model, -1);
+      return;
+    }
+    grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, this.study.evaluation.gridCells);
+    const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
+    const phi = this.phi0;
+    // A grid window bounds the evaluation region: nodes outside it count as unreachable, with the
+    // signed distance to the window edge (m; divided by the footprint for the dimensionless margin).
+    const w = this.study.evaluation.window;
+    const scale = architecture.footprint(model);
+    for (let j = 0; j < ny; j++) {
+      const y = y0 + j * h;
+      for (let i = 0; i < nx; i++) {
+        const x = x0 + i * h;
+        const status = architecture.solvePose(model, pose, x, y, phi);
+        let r = pose.reachMargin;
+        let u = this.usable(status);
+        if (w) {
+          const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
+          if (inside < r) r = inside;
+          if (inside / scale < u) u = inside / scale;
+        }
+        reach[j * nx + i] = r;
+        values[j * nx + i] = u;
+      }
+    }
+    metrics[M.reachable] = grid.positiveArea(reach);
+    grid.labelRegions();
+    let region = -1;
+    const taskRegion = this.study.task.region;
+    if (taskRegion) {
+      const status = architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi);
+      if (this.usable(status) >= 0) region = grid.regionAt(taskRegion.centreX, taskRegion.centreY);
+    } else {
+      region = grid.largestRegion();
+    }
+    metrics[M.workspace] = grid.regionArea(region);
+    metrics[M.inscribed] = grid.inscribedRadius(region);
+    if (this.task) {
+      metrics[M.coverage] = this.aggregateTask(model, region);
+    } else {
+      this.aggregateRegionNodes(model, region);
+    }
+  }
+
+  /**
+   * Per-pose metrics over the task samples at φ_0; returns the covered fraction of the task area.
+   * 3-DOF: at every sample also the usable orientation ranges, the requirement margin of φ_0 ± Δφ
+   * and the width of the range holding φ_0; a sample counts as covered only when the requirement holds.
+   */
+  private aggregateTask(model: ArchitectureModelBase, region: number): number {
+    const task = this.task!;
+    const pose = this.pose;
+    const architecture = this.architecture;
+    const orientation = architecture.dof === 3 ? this.study.orientation : null;
+    const accept = (p: ArchitecturePose, status: PoseStatus): boolean => architectureUsableMargin(p, status, this.study, this.jointScale) >= 0;
+    let covered = 0;
+    let coveredPoints = 0;
+    for (let k = 0; k < task.x.length; k++) {
+      const x = task.x[k]!;
+      const y = task.y[k]!;
+      const status = architecture.solvePose(model, pose, x, y, this.phi0);
+      let ok = region >= 0 && this.usable(status) >= 0 && this.grid.regionAt(x, y) === region;
+      this.accumulate(model, status, task.weight[k]!);
+      if (orientation) {
+        const count = orientationRanges(architecture, model, pose, x, y, this.ranges, { step: orientation.step, tolerance: 1e-7, accept });
+        const margin = Math.max(orientationRequirementMargin(this.ranges, count, orientation.phi0, orientation.range), -Math.PI);
+        const width = rangeWidthAt(this.ranges, count, orientation.phi0);
+        const agg = this.aggregate;
+        if (margin < agg.minOrientationMargin) agg.minOrientationMargin = margin;
+        if (width < agg.minOrientationRange) agg.minOrientationRange = width;
+        if (margin < 0) ok = false;
+      }
+      if (ok) {
+        covered += task.weight[k]!;
+        coveredPoints++;
+      }
+    }
+    return coveredPoints === task.x.length ? 1 : Math.min(covered, 1);
+  }
+
+  private aggregateRegionNodes(model: ArchitectureModelBase, region: number): void {
+    if (region < 0) return;
+    const grid = this.grid;
+    const { nx, ny, x0, y0, h, labels } = grid;
+    for (let j = 0; j < ny; j++) {
+      for (let i = 0; i < nx; i++) {
+        if (labels[j * nx + i] !== region) continue;
+        const status = this.architecture.solvePose(model, this.pose, x0 + i * h, y0 + j * h, this.phi0);
+        this.accumulate(model, status, 1);
+      }
+    }
+  }
+
+  private accumulate(model: ArchitectureModelBase, status: PoseStatus, weight: number): void {
+    const agg = this.aggregate;
+    const pose = this.pose;
+    const n = pose.dof;
+    agg.weight += weight;
+    if (status !== PoseStatus.Assembled || pose.inverseCondition === 0) {
+      agg.minInvCond = 0;
+      agg.minTransmissionSine = 0;
+      agg.minStiffness = 0;
+      agg.minFrequency = 0;
+      agg.minAccel = 0;
+      agg.peakEffort.fill(Infinity);
+      agg.peakSpeed.fill(Infinity);
+      agg.maxStep = Infinity;
+      return;
+    }
+    this.architecture.poseDynamics(model, pose);
+    agg.invCondSum += weight * pose.inverseCondition;
+    if (pose.inverseCondition < agg.minInvCond) agg.minInvCond = pose.inverseCondition;
+    let ts = Math.abs(pose.mechanismSine);
+    for (let i = 0; i < n; i++) {
+      const s = Math.abs(pose.legSine[i]!);
+      if (s < ts) ts = s;
+    }
+    if (ts < agg.minTransmissionSine) agg.minTransmissionSine = ts;
+    if (pose.minStiffness < agg.minStiffness) agg.minStiffness = pose.minStiffness;
+    if (pose.frequencies[0]! < agg.minFrequency) agg.minFrequency = pose.frequencies[0]!;
+    const v = this.study.task.speed;
+    const drives = this.drives;
+    for (let i = 0; i < n; i++) {
+      const effort = Math.abs(pose.tauG[i]!);
+      if (effort > agg.peakEffort[i]!) agg.peakEffort[i] = effort;
+      const speed = v * pose.inverseJacobianRowNorm[i]!;
+      if (speed > agg.peakSpeed[i]!) agg.peakSpeed[i] = speed;
+      if (drives) {
+        const a = (drives[i]!.peakEffort - effort) / pose.inertiaRowNorm[i]!;
+        if (a < agg.minAccel) agg.minAccel = a;
+      }
+    }
+    if (drives && drives.every((d) => d.encoderStep > 0)) {
+      // Largest step of P for one count on each joint: σ_max of the translational rows of J diag(δq).
+      let g11 = 0;
+      let g12 = 0;
+      let g22 = 0;
+      for (let i = 0; i < n; i++) {
+        const a = pose.J[i]! * drives[i]!.encoderStep;
+        const b = pose.J[n + i]! * drives[i]!.encoderStep;
+        g11 += a * a;
+        g12 += a * b;
+        g22 += b * b;
+      }
+      const half = 0.5 * (g11 + g22);
+      const step = Math.sqrt(half + Math.sqrt(Math.max(half * half - (g11 * g22 - g12 * g12), 0)));
+      if (step > agg.maxStep) agg.maxStep = step;
+    }
+  }
+
+  private finishMetrics(model: ArchitectureModelBase, metrics: Float64Array): void {
+    const agg = this.aggregate;
+    const n = this.architecture.dof;
+    const empty = agg.weight === 0;
+    const worst = (v: number, fallback: number): number => (empty ? fallback : v);
+    metrics[M.gci] = empty ? 0 : agg.invCondSum / agg.weight;
+    metrics[M.minInvCond] = worst(agg.minInvCond, 0);
+    metrics[M.minTransmission] = worst(Math.asin(Math.min(agg.minTransmissionSine, 1)), 0);
+    let stiffnessKnown = true;
+    if (isLegged(model)) {
+      for (let i = 0; i < n; i++) {
+        if (!(model.complianceTransverse[i]! + model.complianceProximalAxial[i]! + model.complianceRodAxial[i]! > 0)) stiffnessKnown = false;
+      }
+    }
+    metrics[M.minStiffness] = stiffnessKnown ? worst(agg.minStiffness, 0) : Number.NaN;
+    metrics[M.bandwidth] = stiffnessKnown ? worst(agg.minFrequency, 0) : Number.NaN;
+    let peakEffort = 0;
+    let peakSpeed = 0;
+    for (let i = 0; i < n; i++) {
+      metrics[M.peakTorqueOf[i]!] = worst(agg.peakEffort[i]!, Infinity);
+      peakEffort = Math.max(peakEffort, metrics[M.peakTorqueOf[i]!]!);
+      if (this.study.task.speed > 0) {
+        metrics[M.peakSpeedOf[i]!] = worst(agg.peakSpeed[i]!, Infinity);
+        peakSpeed = Math.max(peakSpeed, metrics[M.peakSpeedOf[i]!]!);
+      }
+    }
+    metrics[M.peakTorque] = peakEffort;
+    if (this.study.task.speed > 0) metrics[M.peakSpeed] = peakSpeed;
+    metrics[M.accel] = this.drives ? worst(agg.minAccel, 0) : Number.NaN;
+    metrics[M.resolution] = this.drives && this.drives.every((d) => d.encoderStep > 0) ? worst(agg.maxStep, Infinity) : Number.NaN;
+    metrics[M.footprint] = this.architecture.footprint(model);
+    metrics[M.movingMass] = this.architecture.movingMass(model);
+    if (n === 3 && this.task) {
+      metrics[M.orientationMargin] = worst(agg.minOrientationMargin, -Math.PI);
+      metrics[M.orientationRange] = worst(agg.minOrientationRange, 0);
+    }
+  }
+}

@@ -52,3 +52,6 @@ export { exportCandidates, candidateSheet, toMjcf } from './export/index.js';
 export { renderWorkspaceMap, workspaceMapSpec } from './report/map.js';
 export { writeReport } from './report/report.js';
 export { svgToPng, renderVegaLiteSvg } from './report/render.js';
+
+// Forward simulation along a duty cycle
+export * as simulation from './simulate/index.js';

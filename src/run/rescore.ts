@@ -14,7 +14,7 @@ import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { Store, type NewEvaluation, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText, workspaceSettingsHash, type LoadedStudy } from '../study/parse.js';
-import { nonDominated, runFront } from './front.js';
+import { nonDominated } from './front.js';
 import { evaluationFromOutcome, evaluationFromStored, evaluationKey, newEvaluationRecord, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
 
 export class RescoreError extends Error {
@@ -148,21 +148,23 @@ export async function rescoreRun(studyIn: LoadedStudy, options: RescoreOptions):
       optimizerState: null,
     });
     store.markRun(runId, 'finished', `rescore of run ${oldRun.id} (${mode})`);
-    store.close();
 
-    const oldFront = runFront(options.dbPath, oldRun.id).designs;
-    const newFront = runFront(options.dbPath, runId).designs;
+    // Fronts from what is in memory (re-reading every member of both runs costs more than the rescore):
+    // the old front by the old study's objectives over the old run's designs, the new one from the ranks above.
+    const oldMinimised = (e: StoredEvaluation): number[] =>
+      oldLoaded.study.objectives.map((o) => {
+        const v = e.metrics[o.metric] ?? Number.NaN;
+        return o.sense === 'max' ? -v : v;
+      });
+    const oldFront = nonDominated(stored.filter((e) => e.feasible && e.error === null), oldMinimised);
+    const newFrontKeys = [...new Set([...frontSet].sort((a, b) => a - b).map((k) => keys[k]!))];
+    const oldFrontKeys = oldFront.map((e) => evaluationKey(loaded.settingsHash, designFromValues(sp.variables, e.variables, true)));
+    const found = store.findEvaluations([...newFrontKeys, ...oldFrontKeys]);
+    store.close();
+    const newFront = newFrontKeys.map((k) => found.get(k)).filter((e): e is StoredEvaluation => e !== undefined).sort((a, b) => a.id - b.id);
+    const oldFrontNow = oldFrontKeys.map((k) => found.get(k)).filter((e): e is StoredEvaluation => e !== undefined);
     const oldIds = new Set(oldFront.map((e) => designIdentity(e.variables)));
     const newIds = new Set(newFront.map((e) => designIdentity(e.variables)));
-    const reopened = Store.open(options.dbPath);
-    let oldFrontNow: StoredEvaluation[];
-    try {
-      const oldFrontKeys = oldFront.map((e) => evaluationKey(loaded.settingsHash, designFromValues(sp.variables, e.variables, true)));
-      const found = reopened.findEvaluations(oldFrontKeys);
-      oldFrontNow = oldFrontKeys.map((k) => found.get(k)).filter((e): e is StoredEvaluation => e !== undefined);
-    } finally {
-      reopened.close();
-    }
     const constraints = sp.constraints.map((c) => ({
       name: c.name,
       violatedByOldFront: oldFrontNow.filter((e) => (e.constraints[c.name] ?? 0) < 0).length,

@@ -55,3 +55,9 @@ export { svgToPng, renderVegaLiteSvg } from './report/render.js';
 
 // Forward simulation along a duty cycle
 export * as simulation from './simulate/index.js';
+
+// Other architectures
+export { ARCHITECTURES } from './architectures/index.js';
+export type { PlanarArchitecture, ArchitectureName } from './architectures/types.js';
+export { candidateExport } from './export/candidateArchitecture.js';
+export { renderArchitectureMap } from './report/architectureMap.js';

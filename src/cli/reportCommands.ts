@@ -2,8 +2,9 @@
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, extname } from 'node:path';
 import type { Argv } from 'yargs';
+import { designMapSpec, usesFiveBarMap } from '../report/designMap.js';
 import { renderWorkspaceMap } from '../report/map.js';
-import { svgToPng } from '../report/render.js';
+import { renderVegaLiteSvg, svgToPng } from '../report/render.js';
 import { writeReport } from '../report/report.js';
 import { loadStudyFile } from '../study/parse.js';
 import { chooseDesign } from '../api/design.js';
@@ -34,7 +35,7 @@ export function registerReportCommands(cli: Argv): Argv {
           .positional('study', { type: 'string', demandOption: true })
           .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
           .option('out', { type: 'string', demandOption: true, describe: 'output file, .svg or .png' })
-          .option('cells', { type: 'number', describe: 'grid cells across the reachable box (default: the study\'s evaluation.grid_cells)' })
+          .option('cells', { type: 'number', describe: 'grid cells across the reachable box (default: the study\'s evaluation.grid_cells, at least 120)' })
           .check((args) => {
             const ext = extname(args.out).toLowerCase();
             if (ext !== '.svg' && ext !== '.png') throw new Error(`--out ${args.out}: the file name must end in .svg or .png`);
@@ -44,8 +45,14 @@ export function registerReportCommands(cli: Argv): Argv {
       async (args) => {
         const loaded = loadStudyFile(args.study);
         const overrides = asStrings(args.set);
-        chooseDesign(loaded.study, overrides).warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
-        const svg = await renderWorkspaceMap(loaded.study, overrides, args.cells !== undefined ? { cells: args.cells } : {});
+        const choice = chooseDesign(loaded.study, overrides);
+        choice.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
+        const cells = args.cells !== undefined ? { cells: args.cells } : {};
+        // Five-bar studies keep the five-bar map; every other architecture (and a comparison study's
+        // chosen member) is drawn through the architecture interface.
+        const svg = usesFiveBarMap(loaded.study)
+          ? await renderWorkspaceMap(loaded.study, overrides, cells)
+          : await renderVegaLiteSvg(designMapSpec(choice.study, choice.design, cells).spec);
         mkdirSync(dirname(args.out), { recursive: true });
         if (extname(args.out).toLowerCase() === '.png') writeFileSync(args.out, svgToPng(svg));
         else writeFileSync(args.out, svg);

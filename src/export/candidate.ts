@@ -169,6 +169,8 @@ export interface CandidateSheet {
   readonly feasible: boolean;
   readonly violation: number;
   readonly provenance: ProvenanceSheet;
+  /** Only in a comparison study: its architectures and the member this design chose ('five-bar'). */
+  readonly comparison?: { readonly architectures: readonly string[]; readonly chosen: string };
 }
 
 /** One stored design and the study it belongs to, ready to be described. */
@@ -465,7 +467,7 @@ export function loopsmithVersion(): string {
 }
 
 /** JSON text of a sheet: infinite numbers written as the strings "Infinity" / "-Infinity". */
-export function sheetToJson(sheet: CandidateSheet): string {
+export function sheetToJson(sheet: CandidateSheet | object): string {
   return JSON.stringify(
     sheet,
     (_key, value: unknown) => (typeof value === 'number' && !Number.isFinite(value) && !Number.isNaN(value) ? (value > 0 ? 'Infinity' : '-Infinity') : value),

@@ -3,12 +3,12 @@
  * (`geometry.crank_1`, `homePose.theta_1`, `bodies.rod_2.inertiaAboutCom`, ...), one row per candidate.
  * Numbers are written in full precision (SI), infinities as `Infinity`, missing values as empty cells.
  */
-import type { CandidateSheet } from './candidate.js';
+import type { AnyCandidateSheet } from './candidateArchitecture.js';
 
 export type FlatValue = number | string | boolean | null;
 
 /** Dotted-path leaves of a JSON-like value, in key order; arrays by index. */
-export function flattenSheet(sheet: CandidateSheet): Map<string, FlatValue> {
+export function flattenSheet(sheet: AnyCandidateSheet): Map<string, FlatValue> {
   const out = new Map<string, FlatValue>();
   const walk = (value: unknown, path: string): void => {
     if (value === null || value === undefined) {
@@ -39,7 +39,7 @@ function cell(value: FlatValue | undefined): string {
 }
 
 /** CSV text: a header of dotted names (the union over the sheets, in first-seen order), then one row per sheet. */
-export function candidatesCsv(sheets: readonly CandidateSheet[]): string {
+export function candidatesCsv(sheets: readonly AnyCandidateSheet[]): string {
   const rows = sheets.map(flattenSheet);
   const columns: string[] = [];
   const seen = new Set<string>();

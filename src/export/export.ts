@@ -10,9 +10,9 @@ import { queryEvaluations } from '../store/query.js';
 import { Store, type RunRow, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
 import type { Study } from '../study/types.js';
-import { candidateSheet, ExportError, loopsmithVersion, sheetToJson, type CandidateSheet } from './candidate.js';
+import { ExportError, loopsmithVersion, sheetToJson } from './candidate.js';
+import { candidateExport, type AnyCandidateSheet, type CandidateExport } from './candidateArchitecture.js';
 import { candidatesCsv } from './csv.js';
-import { toMjcf } from './mjcf.js';
 import candidateSchema from './candidate.schema.json' with { type: 'json' };
 
 export type ExportFormat = 'json' | 'csv' | 'mjcf';
@@ -34,7 +34,7 @@ export interface ExportOptions extends ExportSelection {
 }
 
 export interface ExportResult {
-  readonly sheets: readonly CandidateSheet[];
+  readonly sheets: readonly AnyCandidateSheet[];
   /** Files written, in candidate order. */
   readonly files: readonly string[];
 }
@@ -124,12 +124,12 @@ export function selectCandidates(dbPath: string, selection: ExportSelection): Se
   }
 }
 
-/** Candidate sheets of a selection. */
-export function candidateSheets(dbPath: string, selection: ExportSelection): CandidateSheet[] {
+/** Sheets and MJCF writers of a selection (any architecture; a comparison design by its chosen member). */
+export function candidateExports(dbPath: string, selection: ExportSelection): CandidateExport[] {
   const version = loopsmithVersion();
   return selectCandidates(dbPath, selection).map((s) => {
     try {
-      return candidateSheet(s.study, s.evaluation, {
+      return candidateExport(s.study, s.evaluation, {
         database: dbPath,
         evaluationId: s.evaluation.id,
         runId: s.run.id,
@@ -147,15 +147,21 @@ export function candidateSheets(dbPath: string, selection: ExportSelection): Can
   });
 }
 
+/** Candidate sheets of a selection (five-bar sheets for five-bar designs, architecture sheets otherwise). */
+export function candidateSheets(dbPath: string, selection: ExportSelection): AnyCandidateSheet[] {
+  return candidateExports(dbPath, selection).map((e) => e.sheet);
+}
+
 /** Selects, builds and writes; returns the sheets and the files written. */
 export function exportCandidates(dbPath: string, options: ExportOptions): ExportResult {
   if (!EXPORT_FORMATS.includes(options.format)) throw new ExportError(`--format ${String(options.format)}: expected one of ${EXPORT_FORMATS.join(', ')}`);
-  const sheets = candidateSheets(dbPath, options);
+  const exports = candidateExports(dbPath, options);
+  const sheets = exports.map((e) => e.sheet);
   const texts: { name: string; text: string }[] = [];
   if (options.format === 'csv') {
     texts.push({ name: 'candidates.csv', text: candidatesCsv(sheets) });
   } else {
-    for (const sheet of sheets) {
+    for (const { sheet, mjcf } of exports) {
       if (options.format === 'json') {
         const text = sheetToJson(sheet);
         const errors = candidateSchemaErrors(JSON.parse(text));
@@ -163,7 +169,7 @@ export function exportCandidates(dbPath: string, options: ExportOptions): Export
         if (errors.length > 0) throw new Error(`candidate ${sheet.id}: the sheet does not match candidate.schema.json: ${JSON.stringify(errors.slice(0, 3))}`);
         texts.push({ name: `candidate-${sheet.id}.json`, text });
       } else {
-        texts.push({ name: `candidate-${sheet.id}.xml`, text: toMjcf(sheet) });
+        texts.push({ name: `candidate-${sheet.id}.xml`, text: mjcf() });
       }
     }
   }

@@ -188,8 +188,8 @@ export function architectureJointPositions(model: ArchitectureModelBase, pose: A
   return out;
 }
 
-/** Crank body (bar + elbow hub) from the engine's inertia I and first moment F about the pivot. */
-function crankMassProperties(model: LeggedModel, i: number): { mass: number; centreOfMass: number; inertiaAboutCom: number } {
+/** Crank body (bar + elbow hub) from the engine's inertia I and first moment F about the pivot: kg, m from the pivot, kg·m². */
+export function crankMassProperties(model: LeggedModel, i: number): { mass: number; centreOfMass: number; inertiaAboutCom: number } {
   const p = model.crank[i]!;
   const firstMoment = model.proximalFirstMoment[i]!;
   const inertia = model.proximalInertia[i]!;

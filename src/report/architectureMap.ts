@@ -397,7 +397,7 @@ function taskOutline(region: MapTaskRegion): Polyline {
 }
 
 /** Usable node farthest (in node steps) from every non-usable node of the region margin: brute force, map-sized grids only. */
-function deepestUsableNode(fields: ArchitectureMapFields): [number, number] | null {
+export function deepestUsableNode(fields: ArchitectureMapFields): [number, number] | null {
   const { nx, ny, x0, y0, h, regionMargin } = fields;
   const outside: number[] = [];
   for (let k = 0; k < nx * ny; k++) if (!(regionMargin[k]! >= 0)) outside.push(k);

@@ -299,7 +299,9 @@ export function workspaceMapSpec(study: Study, overrides: readonly string[] = []
       {
         name: 'curves',
         data: { values: lines },
-        mark: { type: 'line', strokeCap: 'round', strokeJoin: 'round', clip: true },
+        // The width is a mark expression, not a strokeWidth encoding: compiled with REPORT_THEME, the
+        // theme's line.strokeWidth replaced the encoding and every curve came out 2 px (measured).
+        mark: { type: 'line', strokeCap: 'round', strokeJoin: 'round', clip: true, strokeWidth: { expr: 'datum.widthPx' } },
         encoding: {
           x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
           y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
@@ -307,7 +309,6 @@ export function workspaceMapSpec(study: Study, overrides: readonly string[] = []
           order: { field: 'order', type: 'quantitative' },
           color: { field: 'feature', type: 'nominal', scale: { domain: FEATURE_STYLE.map((f) => f.feature), range: FEATURE_STYLE.map((f) => f.colour) }, legend: { title: 'curves', orient: 'right', symbolType: 'stroke', symbolStrokeWidth: 3, symbolSize: 300, fillColor: '#cfcfcf', padding: 5, labelLimit: 320 } },
           strokeDash: { field: 'feature', type: 'nominal', scale: { domain: FEATURE_STYLE.map((f) => f.feature), range: FEATURE_STYLE.map((f) => f.dash) }, legend: { title: 'curves' } },
-          strokeWidth: { field: 'widthPx', type: 'quantitative', scale: null, legend: null },
         },
       },
       {

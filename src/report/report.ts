@@ -9,13 +9,14 @@ import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import type { TopLevelSpec } from 'vega-lite';
 import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.js';
-import { designVariables } from '../mechanics/designSpace.js';
-import { METRICS, metricInfo } from '../mechanics/metrics.js';
+import { designFromValues, designVariables, studyActuators, variableKind } from '../mechanics/designSpace.js';
+import { METRICS, metricInfo, metricKind } from '../mechanics/metrics.js';
 import { runFront } from '../run/front.js';
 import { Store, StoreError, type RunRow, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
-import type { ObjectiveSpec, Study } from '../study/types.js';
+import { ARCHITECTURE_PREFIX, type ObjectiveSpec, type Study } from '../study/types.js';
 import { displayUnit, formatQuantity } from '../study/units.js';
+import { designMapSpec, usesFiveBarMap } from './designMap.js';
 import { workspaceMapSpec } from './map.js';
 import { OKABE_ITO, renderVegaLiteSvg } from './render.js';
 
@@ -109,17 +110,34 @@ export function prettyUnits(text: string): string {
   return text.replace(/\^2/g, '²').replace(/\^3/g, '³').replace(/\*/g, '·');
 }
 
-function formatMetricValue(metric: string, value: number | null | undefined): string {
+/**
+ * A metric value with its unit. `actuators`: the design's actuator kinds (sliders turn the
+ * per-actuator effort and speed metrics into N and m/s); absent = cranks.
+ */
+function formatMetricValue(metric: string, value: number | null | undefined, actuators?: readonly ('revolute' | 'prismatic')[]): string {
   if (value === null || value === undefined || Number.isNaN(value)) return '—';
   if (!Number.isFinite(value)) return value > 0 ? '∞' : '−∞';
   const info = metricInfo(metric);
+  const kind = info ? metricKind(metric, actuators) : 'dimensionless';
   // Encoder-scale lengths read best in µm.
-  if (info?.kind === 'length' && value !== 0 && Math.abs(value) < 1e-3) return `${Number((value * 1e6).toPrecision(4))} µm`;
-  return prettyUnits(formatQuantity(value, info ? info.kind : 'dimensionless', 4));
+  if (kind === 'length' && value !== 0 && Math.abs(value) < 1e-3) return `${Number((value * 1e6).toPrecision(4))} µm`;
+  return prettyUnits(formatQuantity(value, kind, 4));
 }
 
-function formatVariable(value: number | string): string {
-  return typeof value === 'number' ? formatQuantity(value, 'length', 4) : value;
+/**
+ * False for a comparison study's variable of a member the design did not choose (its stored value is
+ * carried by the optimizer but does not describe the design); true otherwise.
+ */
+function isActiveVariable(study: Study, name: string, values: Readonly<Record<string, number | string>>): boolean {
+  if (!study.members || name === 'architecture') return true;
+  const chosen = values['architecture'];
+  if (typeof chosen !== 'string' || !(chosen in ARCHITECTURE_PREFIX)) return true;
+  return name.startsWith(`${ARCHITECTURE_PREFIX[chosen as keyof typeof ARCHITECTURE_PREFIX]}_`);
+}
+
+/** A design variable's value: lengths in mm, angles in degrees, choices by name. */
+function formatVariable(study: Study, name: string, value: number | string): string {
+  return typeof value === 'number' ? formatQuantity(value, variableKind(study, name), 4) : value;
 }
 
 /**
@@ -258,7 +276,7 @@ function studySection(data: ReportData): string {
   const s = data.study;
   const run = data.run;
   const vars = designVariables(s).map((v) =>
-    v.kind === 'real' ? [v.name, `${formatQuantity(v.min, 'length', 4)} … ${formatQuantity(v.max, 'length', 4)}`] : [v.name, v.choices.join(', ')],
+    v.kind === 'real' ? [v.name, `${formatQuantity(v.min, variableKind(s, v.name), 4)} … ${formatQuantity(v.max, variableKind(s, v.name), 4)}`] : [v.name, v.choices.join(', ')],
   );
   const cons = constraintDefinitions(s).map((c) => {
     const bounds = constraintBounds(c, s, s.drives ?? null);
@@ -276,7 +294,11 @@ function studySection(data: ReportData): string {
     ['database', data.dbPath],
     ['run', `${run.id} (${run.kind}), status ${run.status}, seed ${run.seed}, ${run.generationsDone} generations, ${run.workers} workers, started ${run.startedAt}, ${run.elapsedSeconds.toFixed(0)} s`],
     ['designs', `${data.members.length} evaluated members, ${data.members.filter((m) => m.feasible).length} feasible, ${data.front.length} on the feasible front`],
-    ['working mode / assembly', `${s.workingModes.join(', ')} / ${s.assemblyMode}`],
+    ['architecture', s.members ? `comparison of ${s.members.map((m) => m.architecture).join(', ')} (a design variable)` : s.architecture],
+    [
+      'working mode / assembly',
+      s.members ? s.members.map((m) => `${m.architecture}: ${m.workingModes.join(', ')} / ${m.assemblyMode}`).join('; ') : `${s.workingModes.join(', ')} / ${s.assemblyMode}`,
+    ],
     ['task region', task],
     ['evaluation', `${s.evaluation.gridCells} grid cells, ${s.evaluation.taskSamples} task samples, usable when 1/κ ≥ ${s.evaluation.minInverseCondition} and transmission angles ≥ ${formatQuantity(s.evaluation.minTransmissionAngle, 'angle')}`],
   ];
@@ -309,11 +331,13 @@ function frontTable(data: ReportData): string {
     const cells = [cell(rank.get(d.id)!, String(rank.get(d.id))), cell(d.id, String(d.id))];
     for (const v of variables) {
       const value = d.variables[v];
-      cells.push(value === undefined ? cell('', '—') : cell(typeof value === 'number' ? value : value, formatVariable(value)));
+      const shown = value !== undefined && isActiveVariable(data.study, v, d.variables);
+      cells.push(!shown ? cell('', '—') : cell(typeof value === 'number' ? value : value, formatVariable(data.study, v, value)));
     }
+    const actuators = studyActuators(data.study, d.variables);
     for (const m of metrics) {
       const value = d.metrics[m];
-      cells.push(cell(value === null || value === undefined ? '' : Number.isFinite(value) ? value : value > 0 ? 1e308 : -1e308, formatMetricValue(m, value)));
+      cells.push(cell(value === null || value === undefined ? '' : Number.isFinite(value) ? value : value > 0 ? 1e308 : -1e308, formatMetricValue(m, value, actuators)));
     }
     return `<tr>${cells.join('')}</tr>`;
   });
@@ -325,12 +349,16 @@ function frontTable(data: ReportData): string {
 
 function metricCard(data: ReportData, d: StoredEvaluation, rankNumber: number): string {
   const objectives = new Set(data.study.objectives.map((o) => o.metric));
-  const rows = METRICS.map((m) => `<tr class="${objectives.has(m.name) ? 'objective' : ''}"><th scope="row" title="${escapeHtml(m.description)}">${escapeHtml(m.name)}</th><td>${escapeHtml(formatMetricValue(m.name, d.metrics[m.name]))}</td></tr>`);
+  const actuators = studyActuators(data.study, d.variables);
+  const rows = METRICS.map((m) => `<tr class="${objectives.has(m.name) ? 'objective' : ''}"><th scope="row" title="${escapeHtml(m.description)}">${escapeHtml(m.name)}</th><td>${escapeHtml(formatMetricValue(m.name, d.metrics[m.name], actuators))}</td></tr>`);
   const cons = constraintDefinitions(data.study).map((c) => {
     const margin = d.constraints[c.name];
     return `<tr><th scope="row">${escapeHtml(c.name)}</th><td>${margin === null || margin === undefined ? '—' : `${margin >= 0 ? 'holds' : 'VIOLATED'}, margin ${margin.toFixed(3)}`}</td></tr>`;
   });
-  const design = Object.entries(d.variables).map(([k, v]) => `${k} ${formatVariable(v)}`).join(', ');
+  const design = Object.entries(d.variables)
+    .filter(([k]) => isActiveVariable(data.study, k, d.variables))
+    .map(([k, v]) => `${k} ${formatVariable(data.study, k, v)}`)
+    .join(', ');
   return `<div class="card"><h3>#${rankNumber}: design ${d.id}</h3><p class="design">${escapeHtml(design)}</p>
 <table class="metrics"><tbody>${rows.join('')}</tbody></table>
 ${cons.length > 0 ? `<h4>Constraint margins</h4><table class="metrics"><tbody>${cons.join('')}</tbody></table>` : ''}</div>`;
@@ -410,9 +438,21 @@ export async function buildReportHtml(data: ReportData): Promise<string> {
     : '<p class="lead">The run has no evaluated designs.</p>';
   const leaders: string[] = [];
   for (const [index, d] of data.ranked.slice(0, LEADING_DESIGNS).entries()) {
-    const overrides = Object.entries(d.variables).map(([k, v]) => `${k}=${v}`);
-    const map = workspaceMapSpec(data.study, overrides, { maxWidthPx: 420, maxHeightPx: 440, maxColourCells: 100, title: `Workspace of design ${d.id} (#${index + 1})` });
-    const mapFigure = await figure(`map-${index + 1}`, map.spec, 'Colour: 1/κ(J) where both legs reach (1 = isotropic, 0 = singular). White outline: the usable workspace the metrics measure. Axes in mm, equal scales; y points up.');
+    const mapOptions = { maxWidthPx: 420, maxHeightPx: 440, maxColourCells: 100, title: `Workspace of design ${d.id} (#${index + 1})` };
+    let mapFigure: string;
+    if (usesFiveBarMap(data.study)) {
+      const overrides = Object.entries(d.variables).map(([k, v]) => `${k}=${v}`);
+      const map = workspaceMapSpec(data.study, overrides, mapOptions);
+      mapFigure = await figure(`map-${index + 1}`, map.spec, 'Colour: 1/κ(J) where both legs reach (1 = isotropic, 0 = singular). White outline: the usable workspace the metrics measure. Axes in mm, equal scales; y points up.');
+    } else {
+      const design = designFromValues(designVariables(data.study), d.variables, true);
+      const map = designMapSpec(data.study, design, mapOptions);
+      mapFigure = await figure(
+        `map-${index + 1}`,
+        map.spec,
+        `${escapeHtml(map.architecture)} design. Colour: 1/κ where every leg reaches (1/κ(J_h) at the study's characteristic length for 3-DOF, at φ₀; 1 = isotropic, 0 = singular), faded outside the strokes. White outline: the usable workspace. Axes in mm, equal scales; y points up.`,
+      );
+    }
     leaders.push(`<div class="leader">${metricCard(data, d, index + 1)}${mapFigure}</div>`);
   }
   const caution = `<aside class="caution" role="note"><strong>Safety.</strong> ${escapeHtml(SAFETY_CAUTION)}</aside>`;

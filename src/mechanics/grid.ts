@@ -241,11 +241,30 @@ export class MarginGrid {
         }
       }
     }
-    // Candidate centres: nodes whose grid distance is within 1.5 cells of the best.
+    // Candidate centres: nodes whose grid distance is within 1.5 cells of the best; when there are
+    // more than MAX_CANDIDATES (a long ridge of equal distances), an even subsample of them.
     const threshold = Math.max(Math.sqrt(maxSq) - 1.5, 0) ** 2;
+    let qualifying = 0;
+    let deepest = -1;
+    for (let k = 0; k < n; k++) {
+      if (masked[k]! >= 0 && dist[k]! >= threshold) {
+        qualifying++;
+        if (deepest < 0 || dist[k]! > dist[deepest]!) deepest = k;
+      }
+    }
+    const stride = Math.max(1, qualifying / (MAX_CANDIDATES - 1));
+    // The deepest node first: it sets a good bound early, so the other scans stop sooner.
     let nc = 0;
+    if (deepest >= 0) this.candidates[nc++] = deepest;
+    let seen = 0;
+    let next = 0;
     for (let k = 0; k < n && nc < MAX_CANDIDATES; k++) {
-      if (masked[k]! >= 0 && dist[k]! >= threshold) this.candidates[nc++] = k;
+      if (k === deepest || !(masked[k]! >= 0 && dist[k]! >= threshold)) continue;
+      if (seen >= next) {
+        this.candidates[nc++] = k;
+        next += stride;
+      }
+      seen++;
     }
     let best = 0;
     for (let c = 0; c < nc; c++) {
@@ -257,7 +276,11 @@ export class MarginGrid {
         const dx = bx[b]! - cx;
         const dy = by[b]! - cy;
         const d = dx * dx + dy * dy;
-        if (d < minSq) minSq = d;
+        if (d < minSq) {
+          minSq = d;
+          // This centre can no longer beat the best one found: stop scanning it.
+          if (minSq <= best) break;
+        }
       }
       if (minSq > best) best = minSq;
     }
@@ -294,4 +317,4 @@ export class MarginGrid {
   }
 }
 
-const MAX_CANDIDATES = 256;
+const MAX_CANDIDATES = 64;

@@ -69,7 +69,7 @@ export class EvaluationPool {
    */
   async evaluate(designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<DesignOutcome[]> {
     if (designs.length === 0) return [];
-    const size = this.options.batchSize ?? Math.max(1, Math.min(256, Math.ceil(designs.length / (this.workers * 4))));
+    const size = this.options.batchSize ?? Math.max(1, Math.min(256, Math.ceil(designs.length / (this.workers * 16))));
     const chunks: number[][] = [];
     for (let start = 0; start < designs.length; start += size) {
       chunks.push(Array.from({ length: Math.min(size, designs.length - start) }, (_, k) => start + k));

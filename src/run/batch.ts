@@ -15,15 +15,28 @@ export interface BatchResult {
   readonly failed: number;
 }
 
+/**
+ * @param pending evaluations made but not yet written to the store (served like cached ones)
+ * @param whileEvaluating work for the main thread while the workers evaluate (e.g. writing the
+ *   previous generation); called once, after the batch has been handed to the pool
+ */
 export async function evaluateWithCache(
   store: Store,
   pool: EvaluationPool,
   sp: StudyProblem,
   loaded: LoadedStudy,
   designs: readonly Float64Array[],
+  pending?: ReadonlyMap<string, NewEvaluation>,
+  whileEvaluating?: () => void,
 ): Promise<BatchResult> {
   const keys = designs.map((d) => evaluationKey(loaded.settingsHash, d));
   const cached = store.findEvaluations(keys);
+  if (pending) {
+    for (const key of keys) {
+      const record = pending.get(key);
+      if (record && !cached.has(key)) cached.set(key, { ...record, id: 0, firstRunId: 0 });
+    }
+  }
   const evaluations: Evaluation[] = new Array<Evaluation>(designs.length);
   const firstIndexOfKey = new Map<string, number>();
   const unique: number[] = [];
@@ -40,7 +53,14 @@ export async function evaluateWithCache(
       unique.push(k);
     }
   });
-  const outcomes = await pool.evaluate(unique.map((k) => designs[k]!));
+  const evaluating = pool.evaluate(unique.map((k) => designs[k]!));
+  try {
+    whileEvaluating?.();
+  } catch (error) {
+    await evaluating.catch(() => undefined);
+    throw error;
+  }
+  const outcomes = await evaluating;
   const newRecords: NewEvaluation[] = [];
   let failed = 0;
   unique.forEach((k, u) => {

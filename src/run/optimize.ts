@@ -9,7 +9,7 @@ import { hypervolume } from '../optimizer/hypervolume.js';
 import { Nsga2, type Nsga2State } from '../optimizer/nsga2.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
-import { canonicalJson, Store } from '../store/store.js';
+import { canonicalJson, Store, type GenerationWrite, type NewEvaluation } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
 import { evaluationKey, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
 import { evaluateWithCache } from './batch.js';
@@ -196,6 +196,17 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     let totalNew = 0;
     const started = performance.now();
     let status: 'finished' | 'stopped' = 'finished';
+    // The store write of generation g runs on the main thread while the workers evaluate generation
+    // g + 1; its records are served from memory until then, so the database ends up exactly as if
+    // every generation had been written before the next was asked for.
+    let pendingWrite: GenerationWrite | null = null;
+    let pendingRecords = new Map<string, NewEvaluation>();
+    const flush = (): void => {
+      if (!pendingWrite) return;
+      store.writeGeneration(pendingWrite);
+      pendingWrite = null;
+      pendingRecords = new Map();
+    };
     while (optimizer.generation + 1 < generations) {
       const generation = optimizer.generation + 1;
       const genStart = performance.now();
@@ -204,7 +215,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         // Warm start: the earlier run's final population first, then space-filling designs up to the population size.
         designs = [...warm.designs, ...designs].slice(0, population);
       }
-      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs);
+      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, pendingRecords, flush);
       optimizer.tell(designs, evaluations);
 
       const members = optimizer.population();
@@ -215,7 +226,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       const elapsed = (performance.now() - genStart) / 1000;
       const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
       const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame };
-      store.writeGeneration({
+      pendingWrite = {
         runId,
         generation,
         newEvaluations: newRecords,
@@ -230,7 +241,8 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
           evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
         },
         optimizerState: JSON.stringify(state),
-      });
+      };
+      for (const record of newRecords) pendingRecords.set(record.key, record);
       totalEvaluations += designs.length;
       totalNew += newRecords.length;
       options.onGeneration?.({
@@ -251,6 +263,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         break;
       }
     }
+    flush();
     if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
     store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
     return {

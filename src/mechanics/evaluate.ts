@@ -162,6 +162,29 @@ export function comparisonConstraints(perMember: readonly (readonly ConstraintDe
 /** Violations beyond this many times the bound count as this much (keeps infinite metrics comparable). */
 const MAX_NORMALISED_VIOLATION = 1e6;
 
+/** A design's metrics with every constraint's bounds (for its drives), signed margin and the total violation. */
+export function applyConstraints(
+  constraints: readonly ConstraintDefinition[],
+  study: Parameters<typeof constraintBounds>[1],
+  drives: readonly DriveSpec[] | null,
+  metrics: Float64Array,
+): DesignEvaluation {
+  const n = constraints.length;
+  const margins = new Float64Array(n);
+  const constraintMin = new Float64Array(n).fill(Number.NaN);
+  const constraintMax = new Float64Array(n).fill(Number.NaN);
+  let violation = 0;
+  constraints.forEach((c, k) => {
+    const bounds = constraintBounds(c, study, drives);
+    if (bounds.min !== undefined) constraintMin[k] = bounds.min;
+    if (bounds.max !== undefined) constraintMax[k] = bounds.max;
+    const margin = constraintMargin(bounds, metrics[c.metricIndex]!);
+    margins[k] = margin;
+    if (margin < 0) violation -= margin;
+  });
+  return { metrics, margins, constraintMin, constraintMax, violation, feasible: violation === 0 };
+}
+
 export function constraintMargin(bounds: { min?: number; max?: number }, value: number): number {
   if (Number.isNaN(value)) return -MAX_NORMALISED_VIOLATION;
   let margin = Infinity;
@@ -382,20 +405,7 @@ export class FiveBarEvaluator {
   }
 
   private withConstraints(metrics: Float64Array, resolved: ResolvedDesign): DesignEvaluation {
-    const n = this.constraints.length;
-    const margins = new Float64Array(n);
-    const constraintMin = new Float64Array(n).fill(Number.NaN);
-    const constraintMax = new Float64Array(n).fill(Number.NaN);
-    let violation = 0;
-    this.constraints.forEach((c, k) => {
-      const bounds = constraintBounds(c, this.study, resolved.drives);
-      if (bounds.min !== undefined) constraintMin[k] = bounds.min;
-      if (bounds.max !== undefined) constraintMax[k] = bounds.max;
-      const margin = constraintMargin(bounds, metrics[c.metricIndex]!);
-      margins[k] = margin;
-      if (margin < 0) violation -= margin;
-    });
-    return { metrics, margins, constraintMin, constraintMax, violation, feasible: violation === 0 };
+    return applyConstraints(this.constraints, this.study, resolved.drives, metrics);
   }
 
   private analyseWorkspace(model: FiveBarModel, metrics: Float64Array): void {

@@ -22,7 +22,7 @@ import { ARCHITECTURES } from '../architectures/index.js';
 import { MarginGrid } from './grid.js';
 import { METRICS, metricIndex } from './metrics.js';
 import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
-import { constraintDefinitions, constraintBounds, constraintMargin, taskSamples, type ConstraintDefinition, type DesignEvaluation } from './evaluate.js';
+import { applyConstraints, constraintDefinitions, taskSamples, type ConstraintDefinition, type DesignEvaluation } from './evaluate.js';
 import type { Study } from '../study/types.js';
 
 const M = {
@@ -215,20 +215,7 @@ export class ArchitectureEvaluator {
   }
 
   private withConstraints(metrics: Float64Array, resolved: ResolvedDesign): DesignEvaluation {
-    const n = this.constraints.length;
-    const margins = new Float64Array(n);
-    const constraintMin = new Float64Array(n).fill(Number.NaN);
-    const constraintMax = new Float64Array(n).fill(Number.NaN);
-    let violation = 0;
-    this.constraints.forEach((c, k) => {
-      const bounds = constraintBounds(c, this.study, resolved.drives);
-      if (bounds.min !== undefined) constraintMin[k] = bounds.min;
-      if (bounds.max !== undefined) constraintMax[k] = bounds.max;
-      const margin = constraintMargin(bounds, metrics[c.metricIndex]!);
-      margins[k] = margin;
-      if (margin < 0) violation -= margin;
-    });
-    return { metrics, margins, constraintMin, constraintMax, violation, feasible: violation === 0 };
+    return applyConstraints(this.constraints, this.study, resolved.drives, metrics);
   }
 
   /** Reachable box at φ_0 clipped to the study's window; null when empty or unbounded. */

@@ -435,14 +435,10 @@ export class FiveBarEvaluator {
     }
     metrics[M.reachable] = grid.positiveArea(reach);
     grid.labelRegions();
-    let region = -1;
     const taskRegion = this.study.task.region;
-    if (taskRegion) {
-      const status = solvePose(model, pose, taskRegion.centreX, taskRegion.centreY);
-      if (this.usableMargin(status) >= 0) region = grid.regionAt(taskRegion.centreX, taskRegion.centreY);
-    } else {
-      region = grid.largestRegion();
-    }
+    const region = taskRegion
+      ? grid.workspaceRegion({ x: taskRegion.centreX, y: taskRegion.centreY }, this.usableMargin(solvePose(model, pose, taskRegion.centreX, taskRegion.centreY)) >= 0)
+      : grid.workspaceRegion(null, false);
     metrics[M.workspace] = grid.regionArea(region);
     metrics[M.inscribed] = grid.inscribedRadius(region);
     if (this.task) {

@@ -273,14 +273,10 @@ export class ArchitectureEvaluator {
     }
     metrics[M.reachable] = grid.positiveArea(reach);
     grid.labelRegions();
-    let region = -1;
     const taskRegion = this.study.task.region;
-    if (taskRegion) {
-      const status = architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi);
-      if (this.usable(status) >= 0) region = grid.regionAt(taskRegion.centreX, taskRegion.centreY);
-    } else {
-      region = grid.largestRegion();
-    }
+    const region = taskRegion
+      ? grid.workspaceRegion({ x: taskRegion.centreX, y: taskRegion.centreY }, this.usable(architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi)) >= 0)
+      : grid.workspaceRegion(null, false);
     metrics[M.workspace] = grid.regionArea(region);
     metrics[M.inscribed] = grid.inscribedRadius(region);
     if (this.task) {

@@ -136,6 +136,15 @@ export class MarginGrid {
     return count;
   }
 
+  /**
+   * The usable workspace's region: with a task region, the region at its centre when that centre
+   * is itself usable (else none, −1); without one, the largest region.
+   */
+  workspaceRegion(centre: { readonly x: number; readonly y: number } | null, centreUsable: boolean): number {
+    if (!centre) return this.largestRegion();
+    return centreUsable ? this.regionAt(centre.x, centre.y) : -1;
+  }
+
   /** Label of the largest region, or −1 when there is none. */
   largestRegion(): number {
     let best = -1;

@@ -93,14 +93,10 @@ export function sampleWorkspaceFields(study: Study, model: FiveBarModel, cells =
     }
   }
   grid.labelRegions();
-  let region = -1;
   const task = study.task.region;
-  if (task) {
-    const st = solvePose(model, pose, task.centreX, task.centreY);
-    if (usableMargin(pose, st, study) >= 0) region = grid.regionAt(task.centreX, task.centreY);
-  } else {
-    region = grid.largestRegion();
-  }
+  const region = task
+    ? grid.workspaceRegion({ x: task.centreX, y: task.centreY }, usableMargin(pose, solvePose(model, pose, task.centreX, task.centreY), study) >= 0)
+    : grid.workspaceRegion(null, false);
   const usable = Float64Array.from(values.subarray(0, n));
   const labels = Int32Array.from(grid.labels.subarray(0, n));
   const regionMargin = new Float64Array(n);

@@ -18,6 +18,7 @@
  *   continued outside by leg i's own reach margin (negative), over cells whose corners the other legs
  *   reach: the curve lies within a grid cell of s_i = 0.
  */
+import { curveAndJointLayers, mapAxes } from './mapLayers.js';
 import type { TopLevelSpec } from 'vega-lite';
 import type { LeggedModel } from '../architectures/legged.js';
 import {
@@ -318,14 +319,13 @@ export function sampleArchitectureMapFields(
     }
   }
   grid.labelRegions();
-  let region = -1;
   const task = options.taskRegion ?? null;
-  if (task) {
-    const st = architecture.solvePose(model, pose, task.centreX, task.centreY, phi0);
-    if (architectureUsableMargin(pose, st, model.assembly, options.usable) >= 0) region = grid.regionAt(task.centreX, task.centreY);
-  } else {
-    region = grid.largestRegion();
-  }
+  const region = task
+    ? grid.workspaceRegion(
+        { x: task.centreX, y: task.centreY },
+        architectureUsableMargin(pose, architecture.solvePose(model, pose, task.centreX, task.centreY, phi0), model.assembly, options.usable) >= 0,
+      )
+    : grid.workspaceRegion(null, false);
   const usable = Float64Array.from(values.subarray(0, nodes));
   const regionMargin = new Float64Array(nodes);
   for (let k = 0; k < nodes; k++) {
@@ -594,10 +594,7 @@ export function architectureMapSpec(
 
   const jointStyles = JOINT_STYLE.filter((j) => joints.some((row) => row.joint === j.joint));
   const featureStyles = FEATURE_STYLE.filter((f) => lines.some((row) => row.feature === f.feature));
-  const xScale = { domain: xDomainMm, nice: false, zero: false } as const;
-  const yScale = { domain: yDomainMm, nice: false, zero: false } as const;
-  const xAxis = { title: 'x (mm)', tickCount: Math.max(3, Math.round(widthPx / 80)) };
-  const yAxis = { title: 'y (mm)', tickCount: Math.max(3, Math.round(heightPx / 80)) };
+  const { xScale, yScale, xAxis, yAxis } = mapAxes({ xDomainMm, yDomainMm, widthPx, heightPx });
   const conditioning = n === 3 ? '1/κ(Jₕ), conditioning' : '1/κ(J), conditioning';
 
   const spec: TopLevelSpec = {
@@ -624,32 +621,7 @@ export function architectureMapSpec(
           },
         },
       },
-      {
-        name: 'curves',
-        data: { values: lines },
-        // Per-feature width as an expression: a strokeWidth encoding is replaced by the theme's line width
-        // when compiled with REPORT_THEME (vega-lite 6, measured: every path came out 2 px wide).
-        mark: { type: 'line', strokeCap: 'round', strokeJoin: 'round', clip: true, strokeWidth: { expr: 'datum.widthPx' } },
-        encoding: {
-          x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
-          y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
-          detail: { field: 'part', type: 'nominal' },
-          order: { field: 'order', type: 'quantitative' },
-          color: { field: 'feature', type: 'nominal', scale: { domain: featureStyles.map((f) => f.feature), range: featureStyles.map((f) => f.colour) }, legend: { title: 'curves', orient: 'right', symbolType: 'stroke', symbolStrokeWidth: 3, symbolSize: 300, fillColor: '#cfcfcf', padding: 5, labelLimit: 320 } },
-          strokeDash: { field: 'feature', type: 'nominal', scale: { domain: featureStyles.map((f) => f.feature), range: featureStyles.map((f) => f.dash) }, legend: { title: 'curves' } },
-        },
-      },
-      {
-        name: 'joints',
-        data: { values: joints },
-        mark: { type: 'point', filled: true, size: 80, stroke: '#1a1a1a', strokeWidth: 1.5, clip: true },
-        encoding: {
-          x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
-          y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
-          shape: { field: 'joint', type: 'nominal', scale: { domain: jointStyles.map((j) => j.joint), range: jointStyles.map((j) => j.shape) }, legend: { title: 'joints', orient: 'right', labelLimit: 320 } },
-          fill: { field: 'joint', type: 'nominal', scale: { domain: jointStyles.map((j) => j.joint), range: jointStyles.map((j) => j.fill) }, legend: { title: 'joints' } },
-        },
-      },
+      ...curveAndJointLayers({ xDomainMm, yDomainMm, widthPx, heightPx }, lines, joints, featureStyles, jointStyles),
     ],
     resolve: { scale: { color: 'independent', shape: 'independent', fill: 'independent', strokeDash: 'independent' }, legend: { color: 'independent' } },
   };

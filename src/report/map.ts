@@ -3,6 +3,7 @@
  * (type 1) and mechanism (type 2) singularity curves, the usable workspace's outline, the task region,
  * the largest inscribed circle and the mechanism at its home pose, on axes in mm with equal scales.
  */
+import { curveAndJointLayers, mapAxes } from './mapLayers.js';
 import type { TopLevelSpec } from 'vega-lite';
 import { chooseDesign } from '../api/design.js';
 import { Evaluator } from '../mechanics/evaluate.js';
@@ -265,10 +266,7 @@ export function workspaceMapSpec(study: Study, overrides: readonly string[] = []
   const modes = `working mode ${model.sigma.map((v) => (v > 0 ? '+' : '-')).join('')}, assembly mode ${s.assemblyMode}`;
 
   const jointStyles = JOINT_STYLE.filter((j) => joints.some((row) => row.joint === j.joint));
-  const xScale = { domain: xDomainMm, nice: false, zero: false } as const;
-  const yScale = { domain: yDomainMm, nice: false, zero: false } as const;
-  const xAxis = { title: 'x (mm)', tickCount: Math.max(3, Math.round(widthPx / 80)) };
-  const yAxis = { title: 'y (mm)', tickCount: Math.max(3, Math.round(heightPx / 80)) };
+  const { xScale, yScale, xAxis, yAxis } = mapAxes({ xDomainMm, yDomainMm, widthPx, heightPx });
 
   const spec: TopLevelSpec = {
     $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
@@ -296,32 +294,7 @@ export function workspaceMapSpec(study: Study, overrides: readonly string[] = []
           },
         },
       },
-      {
-        name: 'curves',
-        data: { values: lines },
-        // The width is a mark expression, not a strokeWidth encoding: compiled with REPORT_THEME, the
-        // theme's line.strokeWidth replaced the encoding and every curve came out 2 px (measured).
-        mark: { type: 'line', strokeCap: 'round', strokeJoin: 'round', clip: true, strokeWidth: { expr: 'datum.widthPx' } },
-        encoding: {
-          x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
-          y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
-          detail: { field: 'part', type: 'nominal' },
-          order: { field: 'order', type: 'quantitative' },
-          color: { field: 'feature', type: 'nominal', scale: { domain: FEATURE_STYLE.map((f) => f.feature), range: FEATURE_STYLE.map((f) => f.colour) }, legend: { title: 'curves', orient: 'right', symbolType: 'stroke', symbolStrokeWidth: 3, symbolSize: 300, fillColor: '#cfcfcf', padding: 5, labelLimit: 320 } },
-          strokeDash: { field: 'feature', type: 'nominal', scale: { domain: FEATURE_STYLE.map((f) => f.feature), range: FEATURE_STYLE.map((f) => f.dash) }, legend: { title: 'curves' } },
-        },
-      },
-      {
-        name: 'joints',
-        data: { values: joints },
-        mark: { type: 'point', filled: true, size: 80, stroke: '#1a1a1a', strokeWidth: 1.5, clip: true },
-        encoding: {
-          x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
-          y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
-          shape: { field: 'joint', type: 'nominal', scale: { domain: jointStyles.map((j) => j.joint), range: jointStyles.map((j) => j.shape) }, legend: { title: 'joints', orient: 'right', labelLimit: 320 } },
-          fill: { field: 'joint', type: 'nominal', scale: { domain: jointStyles.map((j) => j.joint), range: jointStyles.map((j) => j.fill) }, legend: { title: 'joints' } },
-        },
-      },
+      ...curveAndJointLayers({ xDomainMm, yDomainMm, widthPx, heightPx }, lines, joints, FEATURE_STYLE, jointStyles),
     ],
     resolve: { scale: { color: 'independent', shape: 'independent', fill: 'independent', strokeDash: 'independent' }, legend: { color: 'independent' } },
   };

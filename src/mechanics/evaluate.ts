@@ -11,7 +11,7 @@ import { METRICS, metricIndex } from './metrics.js';
 import { buildFiveBarModel, designVariables, drivesAtJoint, memberDesign, movingMass, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import type { DriveSpec, Study, TaskRegion } from '../study/types.js';
 import { ARCHITECTURES } from '../architectures/index.js';
-import { wrapFiveBarModel } from '../architectures/fivebar.js';
+import { fiveBar, wrapFiveBarModel } from '../architectures/fivebar.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
 import { ArchitectureEvaluator } from './evaluateArchitecture.js';
 import { CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, type CycleDriveLimits } from './dutyCycle.js';
@@ -340,7 +340,7 @@ export class FiveBarEvaluator {
     this.grid = new MarginGrid(study.evaluation.gridCells + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
     const duty = study.dutyCycle;
-    this.cycle = duty ? new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(duty.path), duty.samples), study.friction ?? null) : null;
+    this.cycle = duty ? new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(duty.path), duty.samples), study.friction ?? null, fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>) : null;
   }
 
   /** Model of a design vector. */
@@ -543,7 +543,7 @@ export class FiveBarEvaluator {
     const cycle = this.cycle;
     const duty = this.study.dutyCycle;
     if (!cycle || !duty) return;
-    cycle.run(model);
+    cycle.run(wrapFiveBarModel(model, 0));
     const drives = resolved.drives ? ([resolved.drives[0]!, resolved.drives[1]!] as const) : null;
     const limits: CycleDriveLimits | null = drives
       ? {

@@ -21,7 +21,7 @@
  * Q = (τ_1 − f_1, 0, τ_2 − f_2, 0) holds the drive and friction torques. Everything is allocation-free.
  */
 import type { FiveBarModel } from '../mechanics/fivebar.js';
-import { FiveBarMotion, endPointAcceleration, poseFromJointAngles } from '../mechanics/dutyCycle.js';
+import { FiveBarMotion, endPointAcceleration, poseFromJointAngles } from '../mechanics/dutyCycleFiveBar.js';
 import { FiveBarPose, PoseStatus } from '../mechanics/fivebar.js';
 
 /** Constant coefficients of the free (cut-open) chain, built once per model. */

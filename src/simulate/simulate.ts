@@ -15,7 +15,8 @@
  * extra end mass the controller does not know about. A ninth state integrates the net power into the
  * chain, ∫(τ − f)·θ̇ dt, so the energy balance E(t) − E(0) = W(t) can be checked in every run.
  */
-import { CycleTrajectory, FiveBarMotion, JointSpaceDynamics, jointRatesFromPath, jointSpaceDynamics, type EndPointState, type JointFriction } from '../mechanics/dutyCycle.js';
+import { CycleTrajectory, type EndPointState, type JointFriction } from '../mechanics/dutyCycle.js';
+import { FiveBarMotion, JointSpaceDynamics, jointRatesFromPath, jointSpaceDynamics } from '../mechanics/dutyCycleFiveBar.js';
 import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../mechanics/fivebar.js';
 import {
   DEFAULT_STABILISATION_RATE,

@@ -5,6 +5,8 @@
  * limits and its joint friction.
  */
 import { chooseDesign } from '../api/design.js';
+import { fiveBar, wrapFiveBarModel } from '../architectures/fivebar.js';
+import type { ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
 import { CycleSamples, CycleTrajectory, DutyCycleAnalysis, type CyclePath, type JointFriction } from '../mechanics/dutyCycle.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import type { FiveBarModel } from '../mechanics/fivebar.js';
@@ -62,8 +64,8 @@ export function prepareStudySimulation(study: Study, overrides: readonly string[
     if (!(scale > 0)) throw new SimulationError(`the cycle time ${target} s is not longer than the dwells (${reference.dwellTime} s)`);
   }
   const trajectory = scale === 1 ? reference : new CycleTrajectory(scaleCyclePath(duty.path, scale));
-  const check = new DutyCycleAnalysis(new CycleSamples(trajectory, duty.samples));
-  if (!check.run(model)) {
+  const check = new DutyCycleAnalysis(new CycleSamples(trajectory, duty.samples), null, fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>);
+  if (!check.run(wrapFiveBarModel(model, 0))) {
     throw new SimulationError('this design cannot follow the duty cycle: some point of the cycle is unreachable, outside the joint limits, in the other assembly mode or singular');
   }
   const drives = resolved.drives;

@@ -11,25 +11,39 @@ import {
   CycleSamples,
   CycleSummary,
   CycleTrajectory,
-  DutyCycleAnalysis,
-  FiveBarMotion,
-  JointSpaceDynamics,
+  DutyCycleAnalysis as GenericDutyCycleAnalysis,
   MOTION_LAWS,
-  endPointAcceleration,
-  inverseDynamics,
-  jointRatesFromPath,
-  jointSpaceDynamics,
   motionLaw,
-  poseFromJointAngles,
   type CycleDriveLimits,
   type CyclePath,
   type CycleStep,
   type EndPointState,
   type JointFriction,
 } from '../../src/mechanics/dutyCycle.js';
+import {
+  FiveBarMotion,
+  JointSpaceDynamics,
+  endPointAcceleration,
+  inverseDynamics,
+  jointRatesFromPath,
+  jointSpaceDynamics,
+  poseFromJointAngles,
+} from '../../src/mechanics/dutyCycleFiveBar.js';
+import { fiveBar, wrapFiveBarModel } from '../../src/architectures/fivebar.js';
+import type { ArchitectureModelBase, PlanarArchitecture } from '../../src/architectures/types.js';
 import { Evaluator, constraintDefinitions } from '../../src/mechanics/evaluate.js';
 import { metricIndex } from '../../src/mechanics/metrics.js';
 import { loadStudyFile, parseStudyText, StudyError } from '../../src/study/parse.js';
+
+/** The generic analysis on a five-bar engine model, through the architecture interface. */
+class DutyCycleAnalysis extends GenericDutyCycleAnalysis {
+  constructor(samples: CycleSamples, friction: readonly JointFriction[] | null = null) {
+    super(samples, friction, fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>);
+  }
+  runFiveBar(model: FiveBarModel): boolean {
+    return this.run(wrapFiveBarModel(model, 0));
+  }
+}
 
 /** Asymmetric five-bar with every inertia field non-zero (invented numbers). */
 const MODEL: FiveBarModel = {
@@ -344,7 +358,7 @@ describe('RMS torque', () => {
     const friction: [JointFriction, JointFriction] = [{ viscous, coulomb: 0 }, { viscous: 0, coulomb: 0 }];
     const path: CyclePath = { start: [0.35, 0], steps: [{ kind: 'arc', centre: [0, 0], angle: 2 * Math.PI, law: 'constant-speed', time: period }] };
     const analysis = new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(path), 200), friction);
-    expect(analysis.run(model)).toBe(true);
+    expect(analysis.runFiveBar(model)).toBe(true);
     const summary = analysis.summarise(1, null, new CycleSummary());
     // τ_1(t) = b ω + m g (L/2) cos θ_1(t) with θ_1 uniform over a revolution: mean of cos² is 1/2 and of
     // cos is 0 (derived). The trapezoid rule over a whole period integrates these exactly.
@@ -364,7 +378,7 @@ describe('RMS torque', () => {
     const friction: [JointFriction, JointFriction] = [{ viscous: 0.03, coulomb: 0.2 }, { viscous: 0.01, coulomb: 0.1 }];
     const trajectory = new CycleTrajectory(PATH);
     const analysis = new DutyCycleAnalysis(new CycleSamples(trajectory, 4000), friction);
-    expect(analysis.run(MODEL)).toBe(true);
+    expect(analysis.runFiveBar(MODEL)).toBe(true);
     const summary = analysis.summarise(1, null, new CycleSummary());
     // Independent: composite Simpson over each step with 2000 intervals, τ solved at each time.
     const s = newState();
@@ -415,11 +429,11 @@ describe('time scaling and the shortest cycle time', () => {
 
   it('τ(s) = τ_const + τ_visc/s + τ_dyn/s² equals solving the slowed cycle again (derived)', () => {
     const base = new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(PATH), 200), friction);
-    base.run(MODEL);
+    base.runFiveBar(MODEL);
     for (const scale of [0.6, 1.7, 3]) {
       const summary = base.summarise(scale, null, new CycleSummary());
       const direct = new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(scaledPath(scale)), 200), friction);
-      direct.run(MODEL);
+      direct.runFiveBar(MODEL);
       const reference = direct.summarise(1, null, new CycleSummary());
       expect(summary.cycleTime).toBeCloseTo(reference.cycleTime, 14);
       for (let k = 0; k < base.samples.count; k++) {
@@ -434,7 +448,7 @@ describe('time scaling and the shortest cycle time', () => {
 
   it('min cycle time: every slower pace meets the limits, a slightly faster one does not (brute force over paces)', () => {
     const analysis = new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(PATH), 200), friction);
-    analysis.run(MODEL);
+    analysis.runFiveBar(MODEL);
     const atReference = analysis.summarise(1, null, new CycleSummary());
     // Limits that bind at different paces: peak, RMS and speed each tested in turn (invented numbers).
     const cases: [string, CycleDriveLimits][] = [

@@ -24,15 +24,8 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
-import {
-  CycleSamples,
-  CycleTrajectory,
-  FiveBarMotion,
-  inverseDynamics,
-  jointRatesFromPath,
-  type CyclePath,
-  type EndPointState,
-} from '../../src/mechanics/dutyCycle.js';
+import { CycleSamples, CycleTrajectory, type CyclePath, type EndPointState } from '../../src/mechanics/dutyCycle.js';
+import { FiveBarMotion, inverseDynamics, jointRatesFromPath } from '../../src/mechanics/dutyCycleFiveBar.js';
 import { loadMujoco, type MujocoModule } from '../helpers/mujoco.js';
 
 /** The few mjModel/mjData members this test needs beyond tests/helpers/mujoco.ts. */

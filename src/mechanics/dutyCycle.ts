@@ -22,6 +22,7 @@
  *
  * Hot path: `DutyCycleAnalysis.run` and `summarise` allocate nothing per sample.
  */
+import { metricIndex } from './metrics.js';
 import { PoseStatus, type ArchitectureModelBase, type ArchitecturePose, type DriveAtJoint, type PlanarArchitecture } from '../architectures/types.js';
 
 // ------------------------------------------------------------------------------------------------
@@ -937,4 +938,60 @@ function firstPositiveRoot(c: number, b: number, d: number): number {
   if (r1 > 0 && r1 < best) best = r1;
   if (r2 > 0 && r2 < best) best = r2;
   return best;
+}
+
+// ------------------------------------------------------------------------------------------------
+// Cycle metrics of one design
+// ------------------------------------------------------------------------------------------------
+
+const CYCLE_METRIC = {
+  peakTorque: metricIndex('cycle_peak_torque'),
+  rmsTorque: metricIndex('cycle_rms_torque'),
+  peakSpeed: metricIndex('cycle_peak_speed'),
+  peakPower: metricIndex('cycle_peak_power'),
+  minCycleTime: metricIndex('min_cycle_time'),
+  peakTorqueOf: [1, 2, 3].map((i) => metricIndex(`cycle_peak_torque_${i}`)),
+  rmsTorqueOf: [1, 2, 3].map((i) => metricIndex(`cycle_rms_torque_${i}`)),
+  peakSpeedOf: [1, 2, 3].map((i) => metricIndex(`cycle_peak_speed_${i}`)),
+  peakPowerOf: [1, 2, 3].map((i) => metricIndex(`cycle_peak_power_${i}`)),
+} as const;
+
+/** The pace a study evaluates its cycle at: cycle_time, else 1/required_rate, else the steps' own times (null). */
+export function evaluatedCycleTime(duty: { readonly cycleTime: number | null; readonly requiredRate: number | null }): number | null {
+  return duty.cycleTime ?? (duty.requiredRate ? 1 / duty.requiredRate : null);
+}
+
+/**
+ * Duty-cycle metrics of one design (docs/duty-cycle.md), written into `metrics` (METRICS order): the
+ * figures at the study's pace and, with limits, the shortest cycle time. The unsuffixed metric is
+ * the largest over the actuators. A cycle that leaves the assembled, non-singular poses gives +∞
+ * for every figure.
+ */
+export function writeCycleMetrics(
+  analysis: DutyCycleAnalysis,
+  model: ArchitectureModelBase,
+  duty: { readonly cycleTime: number | null; readonly requiredRate: number | null },
+  limits: CycleDriveLimits | null,
+  summary: CycleSummary,
+  metrics: Float64Array,
+): void {
+  analysis.run(model);
+  const cycleTime = evaluatedCycleTime(duty);
+  const r = analysis.summarise(cycleTime === null ? 1 : analysis.timeScaleFor(cycleTime), limits, summary);
+  let peakTorque = 0, rmsTorque = 0, peakSpeed = 0, peakPower = 0;
+  for (let i = 0; i < analysis.dof; i++) {
+    metrics[CYCLE_METRIC.peakTorqueOf[i]!] = r.peakTorque[i]!;
+    metrics[CYCLE_METRIC.rmsTorqueOf[i]!] = r.rmsTorque[i]!;
+    metrics[CYCLE_METRIC.peakSpeedOf[i]!] = r.peakSpeed[i]!;
+    metrics[CYCLE_METRIC.peakPowerOf[i]!] = r.peakPower[i]!;
+    peakTorque = Math.max(peakTorque, r.peakTorque[i]!);
+    rmsTorque = Math.max(rmsTorque, r.rmsTorque[i]!);
+    peakSpeed = Math.max(peakSpeed, r.peakSpeed[i]!);
+    peakPower = Math.max(peakPower, r.peakPower[i]!);
+  }
+  metrics[CYCLE_METRIC.peakTorque] = peakTorque;
+  metrics[CYCLE_METRIC.rmsTorque] = rmsTorque;
+  metrics[CYCLE_METRIC.peakSpeed] = peakSpeed;
+  metrics[CYCLE_METRIC.peakPower] = peakPower;
+  metrics[CYCLE_METRIC.minCycleTime] = r.minCycleTime;
 }

@@ -45,7 +45,16 @@ export function constraintBounds(
   if (!drive) return {};
   if (study.architecture !== undefined && study.architecture !== 'five-bar') {
     const atJoint = drivesAtJoint(study as Study, drives)![def.driveLimit.actuator]!;
-    return def.driveLimit.kind === 'torque' ? { max: atJoint.ratedEffort / study.torqueSafetyFactor } : { max: atJoint.maxSpeed };
+    switch (def.driveLimit.kind) {
+      case 'torque':
+        return { max: atJoint.ratedEffort / study.torqueSafetyFactor };
+      case 'cyclePeakTorque':
+        return { max: atJoint.peakEffort };
+      case 'cycleRmsTorque':
+        return { max: atJoint.ratedEffort };
+      default:
+        return { max: atJoint.maxSpeed };
+    }
   }
   switch (def.driveLimit.kind) {
     case 'torque':
@@ -101,6 +110,7 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     if (study.task.acceleration > 0) {
       out.push({ name: 'drive_acceleration', metric: 'accel_capability', metricIndex: metricIndex('accel_capability'), min: study.task.acceleration, origin: 'drive' });
     }
+    out.push(...cycleConstraintDefinitions(study, n));
     return out;
   }
   if (study.drives || study.driveChoice.kind !== 'fixed') {
@@ -120,20 +130,28 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     if (study.task.acceleration > 0) {
       out.push({ name: 'drive_acceleration', metric: 'accel_capability', metricIndex: metricIndex('accel_capability'), min: study.task.acceleration, origin: 'drive' });
     }
-    if (study.dutyCycle) {
-      // Duty-cycle drive limits (docs/duty-cycle.md): peak ≤ η N τ_peak, RMS ≤ η N τ_rated, speed ≤ ω_max/N.
-      for (const i of [0, 1] as const) {
-        const n = i + 1;
-        out.push(
-          { name: `cycle_torque_${n}`, metric: `cycle_peak_torque_${n}`, metricIndex: metricIndex(`cycle_peak_torque_${n}`), origin: 'drive', driveLimit: { kind: 'cyclePeakTorque', actuator: i } },
-          { name: `cycle_rms_${n}`, metric: `cycle_rms_torque_${n}`, metricIndex: metricIndex(`cycle_rms_torque_${n}`), origin: 'drive', driveLimit: { kind: 'cycleRmsTorque', actuator: i } },
-          { name: `cycle_speed_${n}`, metric: `cycle_peak_speed_${n}`, metricIndex: metricIndex(`cycle_peak_speed_${n}`), origin: 'drive', driveLimit: { kind: 'speed', actuator: i } },
-        );
-      }
-      if (study.dutyCycle.requiredRate) {
-        out.push({ name: 'cycle_rate', metric: 'min_cycle_time', metricIndex: metricIndex('min_cycle_time'), max: 1 / study.dutyCycle.requiredRate, origin: 'drive' });
-      }
-    }
+    out.push(...cycleConstraintDefinitions(study, 2));
+  }
+  return out;
+}
+
+/**
+ * Duty-cycle drive limits of `n` actuators (docs/duty-cycle.md): peak ≤ η N τ_peak, RMS ≤ η N τ_rated,
+ * speed ≤ ω_max/N at the joint (N·m, rad/s; N, m/s for sliders), and min_cycle_time ≤ 1/rate.
+ */
+function cycleConstraintDefinitions(study: Study, n: number): ConstraintDefinition[] {
+  const out: ConstraintDefinition[] = [];
+  if (!study.dutyCycle) return out;
+  for (let i = 0; i < n; i++) {
+    const k = i + 1;
+    out.push(
+      { name: `cycle_torque_${k}`, metric: `cycle_peak_torque_${k}`, metricIndex: metricIndex(`cycle_peak_torque_${k}`), origin: 'drive', driveLimit: { kind: 'cyclePeakTorque', actuator: i } },
+      { name: `cycle_rms_${k}`, metric: `cycle_rms_torque_${k}`, metricIndex: metricIndex(`cycle_rms_torque_${k}`), origin: 'drive', driveLimit: { kind: 'cycleRmsTorque', actuator: i } },
+      { name: `cycle_speed_${k}`, metric: `cycle_peak_speed_${k}`, metricIndex: metricIndex(`cycle_peak_speed_${k}`), origin: 'drive', driveLimit: { kind: 'speed', actuator: i } },
+    );
+  }
+  if (study.dutyCycle.requiredRate) {
+    out.push({ name: 'cycle_rate', metric: 'min_cycle_time', metricIndex: metricIndex('min_cycle_time'), max: 1 / study.dutyCycle.requiredRate, origin: 'drive' });
   }
   return out;
 }

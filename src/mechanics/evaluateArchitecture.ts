@@ -24,6 +24,7 @@ import { METRICS, metricIndex } from './metrics.js';
 import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import { applyConstraints, constraintDefinitions, taskSamples, type ConstraintDefinition, type DesignEvaluation } from './evaluate.js';
 import type { Study } from '../study/types.js';
+import { CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, writeCycleMetrics } from './dutyCycle.js';
 
 const M = {
   reachable: metricIndex('reachable_area'),
@@ -133,6 +134,9 @@ export class ArchitectureEvaluator {
   /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
   private jointScale = 1;
   private drives: readonly DriveAtJoint[] | null = null;
+  /** Duty-cycle analysis (buffers for the study's cycle), or null without a duty cycle. */
+  private readonly cycle: DutyCycleAnalysis | null;
+  private readonly cycleSummary = new CycleSummary();
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -144,6 +148,8 @@ export class ArchitectureEvaluator {
     this.grid = new MarginGrid(study.evaluation.gridCells + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
+    const duty = study.dutyCycle;
+    this.cycle = duty ? new DutyCycleAnalysis(new CycleSamples(new CycleTrajectory(duty.path), duty.samples), study.friction ?? null, this.architecture) : null;
   }
 
   resolve(design: ArrayLike<number>): ResolvedDesign {
@@ -194,7 +200,7 @@ export class ArchitectureEvaluator {
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics);
-    return this.withConstraints(metrics, resolved);
+    return this.withConstraints(metrics, resolved, model);
   }
 
   /** As Evaluator.evaluateWithWorkspace: workspace metrics from an earlier evaluation, the rest recomputed. */
@@ -211,10 +217,11 @@ export class ArchitectureEvaluator {
     metrics[M.coverage] = workspace[2]!;
     metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, metrics);
-    return this.withConstraints(metrics, resolved);
+    return this.withConstraints(metrics, resolved, model);
   }
 
-  private withConstraints(metrics: Float64Array, resolved: ResolvedDesign): DesignEvaluation {
+  private withConstraints(metrics: Float64Array, resolved: ResolvedDesign, model: ArchitectureModelBase): DesignEvaluation {
+    if (this.cycle && this.study.dutyCycle) writeCycleMetrics(this.cycle, model, this.study.dutyCycle, cycleDriveLimits(this.drives), this.cycleSummary, metrics);
     return applyConstraints(this.constraints, this.study, resolved.drives, metrics);
   }
 

@@ -52,6 +52,11 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'peak_joint_speed_3', kind: 'angularSpeed', better: 'min', description: 'largest joint-3 speed for the required end-point speed (3-DOF)' },
   { name: 'orientation_margin', kind: 'angle', better: 'max', description: 'worst margin of the orientation requirement φ_0 ± Δφ over the task points (≥ 0: met everywhere; −π where nothing is reachable)' },
   { name: 'orientation_range', kind: 'angle', better: 'max', description: 'smallest width, over the task points, of the usable orientation range that holds φ_0 (2π = full turn)' },
+  // Duty cycle, third actuator (3-DOF platforms; NaN for 2-DOF architectures and without a duty cycle).
+  { name: 'cycle_peak_torque_3', kind: 'torque', better: 'min', description: 'largest joint-3 effort along the duty cycle (3-DOF)' },
+  { name: 'cycle_rms_torque_3', kind: 'torque', better: 'min', description: 'RMS joint-3 effort over the duty cycle (3-DOF)' },
+  { name: 'cycle_peak_speed_3', kind: 'angularSpeed', better: 'min', description: 'largest joint-3 speed along the duty cycle (3-DOF)' },
+  { name: 'cycle_peak_power_3', kind: 'power', better: 'min', description: 'largest joint-3 power along the duty cycle (3-DOF)' },
 ];
 
 export type MetricName = (typeof METRICS)[number]['name'];
@@ -59,9 +64,16 @@ export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
 const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
 
 /** Metrics of one actuator's effort: N·m for a crank, N for a slider (the names stay). */
-const EFFORT_METRICS: ReadonlySet<string> = new Set(['peak_gravity_torque', 'peak_gravity_torque_1', 'peak_gravity_torque_2', 'peak_gravity_torque_3']);
+const EFFORT_METRICS: ReadonlySet<string> = new Set([
+  'peak_gravity_torque', 'peak_gravity_torque_1', 'peak_gravity_torque_2', 'peak_gravity_torque_3',
+  'cycle_peak_torque', 'cycle_peak_torque_1', 'cycle_peak_torque_2', 'cycle_peak_torque_3',
+  'cycle_rms_torque', 'cycle_rms_torque_1', 'cycle_rms_torque_2', 'cycle_rms_torque_3',
+]);
 /** Metrics of one actuator's speed: rad/s for a crank, m/s for a slider. */
-const SPEED_METRICS: ReadonlySet<string> = new Set(['peak_joint_speed', 'peak_joint_speed_1', 'peak_joint_speed_2', 'peak_joint_speed_3']);
+const SPEED_METRICS: ReadonlySet<string> = new Set([
+  'peak_joint_speed', 'peak_joint_speed_1', 'peak_joint_speed_2', 'peak_joint_speed_3',
+  'cycle_peak_speed', 'cycle_peak_speed_1', 'cycle_peak_speed_2', 'cycle_peak_speed_3',
+]);
 
 /**
  * Quantity kind of a metric for an architecture's actuators: the per-actuator effort and speed

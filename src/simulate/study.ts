@@ -84,7 +84,7 @@ export function prepareStudySimulation(study: Study, overrides: readonly string[
     trajectory,
     cycleTime: trajectory.cycleTime,
     limits,
-    friction: study.friction ?? null,
+    friction: (study.friction as readonly [JointFriction, JointFriction] | null | undefined) ?? null,
     driveLabels: drives ? [drives[0].label, drives[1].label] : null,
   };
 }

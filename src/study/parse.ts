@@ -12,7 +12,7 @@ import type { AssemblyMode, JointRange } from '../mechanics/fivebar.js';
 import { metricInfo, metricKind, metricUnavailable } from '../mechanics/metrics.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
-import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../mechanics/dutyCycle.js';
+import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction, type MotionLaw } from '../mechanics/dutyCycle.js';
 import { parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
@@ -596,14 +596,8 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     throw new StudyError('orientation.characteristic_length: "auto" chooses L over the task points; give task.region');
   }
 
-  if (!isFiveBar && data['duty_cycle'] !== undefined) {
-    throw new StudyError(`duty_cycle: duty cycles are evaluated for the five-bar only, not yet for the ${architectureName}; remove the duty_cycle section`);
-  }
-  if (!isFiveBar && data['friction'] !== undefined) {
-    throw new StudyError(`friction: joint friction is used along a duty cycle, which is five-bar only; remove the friction section for the ${architectureName}`);
-  }
-  const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle']) : null;
-  const friction = isObject(data['friction']) ? buildFriction(data['friction']) : null;
+  const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle'], { architecture: architectureName, dof: n, phi0: orientation?.phi0 ?? 0 }) : null;
+  const friction = isObject(data['friction']) ? buildFriction(data['friction'], n, actuatorKind) : null;
   if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
 
   const objectives: ObjectiveSpec[] = (data['objectives'] as JsonObject[]).map((o, i) => {
@@ -853,30 +847,42 @@ function buildDrive(raw: JsonObject, where: string, joint: ActuatorKind = 'revol
   };
 }
 
-/** Duty cycle: waypoints by name or inline points, steps with motion laws and times, closed path. */
-function buildDutyCycle(raw: JsonObject): DutyCycleSpec {
-  const waypoints = new Map<string, [number, number]>();
+/** Duty cycle: waypoints by name or inline points (3-DOF: with an optional orientation), steps with motion laws and times, closed path. */
+function buildDutyCycle(raw: JsonObject, context: { readonly architecture: string; readonly dof: number; readonly phi0: number }): DutyCycleSpec {
+  type CyclePose = { readonly xy: [number, number]; readonly phi: number | undefined };
+  const pose = (value: Json | undefined, where: string): CyclePose => {
+    const items = value as Json[];
+    if (items.length > 2 && context.dof < 3) {
+      throw new StudyError(`${where}: the ${context.architecture} has no platform orientation; give [x, y] without an angle`);
+    }
+    return {
+      xy: [q(items[0], 'length', `${where}[0]`), q(items[1], 'length', `${where}[1]`)],
+      phi: items.length > 2 ? q(items[2], 'angle', `${where}[2]`) : undefined,
+    };
+  };
+  const waypoints = new Map<string, CyclePose>();
   const waypointsIn = isObject(raw['waypoints']) ? raw['waypoints'] : {};
-  for (const [name, value] of Object.entries(waypointsIn)) {
-    const point = value as Json[];
-    waypoints.set(name, [q(point[0], 'length', `duty_cycle.waypoints.${name}[0]`), q(point[1], 'length', `duty_cycle.waypoints.${name}[1]`)]);
-  }
-  const point = (value: Json | undefined, where: string): [number, number] => {
+  for (const [name, value] of Object.entries(waypointsIn)) waypoints.set(name, pose(value, `duty_cycle.waypoints.${name}`));
+  const point = (value: Json | undefined, where: string): CyclePose => {
     if (typeof value === 'string') {
       const hit = waypoints.get(value);
       if (!hit) throw new StudyError(`${where}: "${value}" is not a waypoint (known: ${[...waypoints.keys()].join(', ') || 'none'})`);
       return hit;
     }
-    const pair = value as Json[];
-    return [q(pair[0], 'length', `${where}[0]`), q(pair[1], 'length', `${where}[1]`)];
+    return pose(value, where);
   };
-  let start: [number, number];
+  let start: CyclePose;
   if (raw['start'] !== undefined) start = point(raw['start'], 'duty_cycle.start');
   else {
     const first = waypoints.values().next();
     if (first.done) throw new StudyError('duty_cycle.start: give a start point (or at least one waypoint)');
     start = first.value;
   }
+  const stepPhi = (step: JsonObject, where: string, fromPoint: number | undefined): { phi?: number } => {
+    if (step['phi'] !== undefined && context.dof < 3) throw new StudyError(`${where}.phi: the ${context.architecture} has no platform orientation`);
+    const phi = step['phi'] !== undefined ? q(step['phi'], 'angle', `${where}.phi`) : fromPoint;
+    return phi === undefined ? {} : { phi };
+  };
   const steps: CycleStep[] = (raw['steps'] as JsonObject[]).map((step, i) => {
     const where = `duty_cycle.steps[${i}]`;
     const label = typeof step['label'] === 'string' ? { label: step['label'] } : {};
@@ -887,15 +893,25 @@ function buildDutyCycle(raw: JsonObject): DutyCycleSpec {
     const time = positive(q(step['time'], 'time', `${where}.time`), `${where}.time`);
     const accel = typeof step['accel_fraction'] === 'number' ? { accelFraction: step['accel_fraction'] } : {};
     if (step['accel_fraction'] !== undefined && law !== 'trapezoidal') throw new StudyError(`${where}.accel_fraction: only a trapezoidal law has one`);
-    if (step['move_to'] !== undefined) return { kind: 'move', to: point(step['move_to'], `${where}.move_to`), law, time, ...accel, ...label };
-    return { kind: 'arc', centre: point(step['arc_about'], `${where}.arc_about`), angle: q(step['angle'], 'angle', `${where}.angle`), law, time, ...accel, ...label };
+    if (step['move_to'] !== undefined) {
+      const to = point(step['move_to'], `${where}.move_to`);
+      return { kind: 'move', to: to.xy, ...stepPhi(step, where, to.phi), law, time, ...accel, ...label };
+    }
+    const centre = point(step['arc_about'], `${where}.arc_about`);
+    return { kind: 'arc', centre: centre.xy, angle: q(step['angle'], 'angle', `${where}.angle`), ...stepPhi(step, where, undefined), law, time, ...accel, ...label };
   });
   if (!steps.some((s) => s.kind !== 'dwell')) throw new StudyError('duty_cycle.steps: a cycle needs at least one move');
-  const end = pathEnd({ start, steps });
-  if (Math.hypot(end[0] - start[0], end[1] - start[1]) > 1e-9) {
+  const startPhi = context.dof === 3 ? (start.phi ?? context.phi0) : undefined;
+  const path: CyclePath = { start: start.xy, ...(startPhi !== undefined ? { startPhi } : {}), steps };
+  const end = pathEnd(path);
+  if (Math.hypot(end[0] - start.xy[0], end[1] - start.xy[1]) > 1e-9) {
     throw new StudyError(
-      `duty_cycle.steps: the cycle ends at (${fmtMm(end[0])}, ${fmtMm(end[1])}) mm, not where it starts (${fmtMm(start[0])}, ${fmtMm(start[1])}) mm; add the move back`,
+      `duty_cycle.steps: the cycle ends at (${fmtMm(end[0])}, ${fmtMm(end[1])}) mm, not where it starts (${fmtMm(start.xy[0])}, ${fmtMm(start.xy[1])}) mm; add the move back`,
     );
+  }
+  if (startPhi !== undefined && Math.abs(pathEndPhi(path) - startPhi) > 1e-9) {
+    const deg = (v: number): string => String(Math.round((v * 180) / Math.PI * 1e6) / 1e6);
+    throw new StudyError(`duty_cycle.steps: the cycle ends at orientation ${deg(pathEndPhi(path))} deg, not the ${deg(startPhi)} deg it starts at; turn the platform back in the last moves`);
   }
   const dwellTime = steps.reduce((sum, s) => sum + (s.kind === 'dwell' ? s.time : 0), 0);
   let cycleTime: number | null = null;
@@ -908,37 +924,47 @@ function buildDutyCycle(raw: JsonObject): DutyCycleSpec {
     requiredRate = positive(q(raw['required_rate'], 'frequency', 'duty_cycle.required_rate'), 'duty_cycle.required_rate');
     if (!(1 / requiredRate > dwellTime)) throw new StudyError(`duty_cycle.required_rate: 1/rate must be longer than the dwells (${dwellTime} s in all)`);
   }
-  return { path: { start, steps }, cycleTime, requiredRate, samples: (raw['samples'] as number | undefined) ?? 200 };
+  return { path, cycleTime, requiredRate, samples: (raw['samples'] as number | undefined) ?? 200 };
 }
 
-/** Joint friction: `both`, or `actuator_1` and `actuator_2` (either falls back to `both`; missing = none). */
-function buildFriction(raw: JsonObject): [JointFriction, JointFriction] {
-  const one = (name: 'actuator_1' | 'actuator_2'): JointFriction => {
+/**
+ * Joint friction of n actuators: `both`, or `actuator_i` (each falls back to `both`; missing = none).
+ * Revolute joints: N·m·s/rad and N·m; prismatic joints: N·s/m and N.
+ */
+function buildFriction(raw: JsonObject, n: number, joint: ActuatorKind): JointFriction[] {
+  for (const key of Object.keys(raw)) {
+    const index = /^actuator_(\d)$/.exec(key);
+    if (index && Number(index[1]) > n) throw new StudyError(`friction.${key}: the architecture has ${n} actuators`);
+  }
+  const one = (name: string): JointFriction => {
     const entry = raw[name] ?? raw['both'];
     const where = `friction.${raw[name] !== undefined ? name : 'both'}`;
     if (!isObject(entry)) return { viscous: 0, coulomb: 0 };
     return {
-      viscous: positive(viscousCoefficient(entry['viscous'], `${where}.viscous`), `${where}.viscous`, true),
-      coulomb: positive(q(entry['coulomb'], 'torque', `${where}.coulomb`, 0), `${where}.coulomb`, true),
+      viscous: positive(viscousCoefficient(entry['viscous'], `${where}.viscous`, joint), `${where}.viscous`, true),
+      coulomb: positive(q(entry['coulomb'], joint === 'prismatic' ? 'force' : 'torque', `${where}.coulomb`, 0), `${where}.coulomb`, true),
     };
   };
-  return [one('actuator_1'), one('actuator_2')];
+  return Array.from({ length: n }, (_, i) => one(`actuator_${i + 1}`));
 }
 
 /**
- * A viscous coefficient, N·m·s/rad. units.ts has no such kind, so "<number> <unit>" is read as
- * "<number> (<unit>)/s", a rotational stiffness, which has exactly the dimensions of N·m·s/rad ÷ s.
+ * A viscous coefficient: N·m·s/rad for a revolute joint, N·s/m for a prismatic one. units.ts has no
+ * such kind, so "<number> <unit>" is read as "<number> (<unit>)/s", a rotational (linear) stiffness,
+ * which has exactly the dimensions of N·m·s/rad ÷ s (N·s/m ÷ s).
  */
-function viscousCoefficient(value: Json | undefined, where: string): number {
+function viscousCoefficient(value: Json | undefined, where: string, joint: ActuatorKind = 'revolute'): number {
+  const kind = joint === 'prismatic' ? 'linearStiffness' : 'rotationalStiffness';
+  const example = joint === 'prismatic' ? '"20 N*s/m" or 20' : '"0.02 N*m*s/rad" or 0.02';
   if (value === undefined || value === null) return 0;
-  if (typeof value === 'number') return q(value, 'rotationalStiffness', where);
+  if (typeof value === 'number') return q(value, kind, where);
   const match = /^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S.*)?$/.exec(String(value));
-  if (!match) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example "0.02 N*m*s/rad" or 0.02)`);
+  if (!match) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example ${example})`);
   if (match[2] === undefined) return Number(match[1]);
   try {
-    return parseQuantity(`${match[1]} (${match[2]})/s`, 'rotationalStiffness', where);
+    return parseQuantity(`${match[1]} (${match[2]})/s`, kind, where);
   } catch (error) {
-    if (error instanceof UnitError) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example "0.02 N*m*s/rad" or 0.02)`);
+    if (error instanceof UnitError) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example ${example})`);
     throw error;
   }
 }

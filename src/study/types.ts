@@ -180,8 +180,8 @@ export interface Study {
   readonly evaluation: EvaluationSettings;
   /** Duty cycle, when the study gives one (absent or null = none). */
   readonly dutyCycle?: DutyCycleSpec | null;
-  /** Friction of the actuated joints (viscous, Coulomb), used along the duty cycle; absent or null = none. */
-  readonly friction?: readonly [JointFriction, JointFriction] | null;
+  /** Joint friction per actuator (joint side), used along the duty cycle. */
+  readonly friction?: readonly JointFriction[] | null;
   readonly objectives: readonly ObjectiveSpec[];
   readonly constraints: readonly ConstraintSpec[];
   /** Baseline design: a value for every design variable. */

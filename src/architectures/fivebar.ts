@@ -178,4 +178,19 @@ export const fiveBar: PlanarArchitecture<FiveBarArchitectureModel> = {
   reachableBox: (model): PlaneBox | null => fiveBarReachableBox(model.engine),
   footprint: (model) => fiveBarFootprint(model.engine),
   movingMass: (model) => model.movingMass,
+  cutOpenChain: (model) => {
+    const e = model.engine;
+    return {
+      legs: [0, 1].map((i) => ({
+        actuator: 'revolute' as const,
+        baseX: e.pivotX[i]!, baseY: e.pivotY[i]!, railX: 1, railY: 0,
+        crank: e.crank[i]!, rod: e.rod[i]!, pinX: 0, pinY: 0,
+        proximalInertia: e.crankInertiaAboutPivot[i]!, proximalFirstMoment: e.crankFirstMoment[i]!, reflectedInertia: e.reflectedInertia[i]!,
+        rodMass: e.rodMass[i]!, rodComDistance: e.rodComDistance[i]!, rodInertia: e.rodInertiaAboutCom[i]!,
+      })),
+      platformMass: e.endMass,
+      platformInertia: 0,
+      gravity: e.gravity,
+    };
+  },
 };

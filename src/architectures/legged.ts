@@ -33,6 +33,7 @@ import {
   RIGID_MASSLESS,
   type ActuatorKind,
   type ArchitectureModelBase,
+  type CutOpenChain,
   type ArchitectureName,
   type DriveAtJoint,
   type JointRange,
@@ -667,3 +668,29 @@ export function leggedFootprint(model: LeggedModel): number {
 
 /** Shared determinant re-export for tests of the singularity condition. */
 export { determinant };
+
+/** The cut-open chain of a legged model (PlanarArchitecture.cutOpenChain): its legs and the body at P, payload included. */
+export function leggedCutOpenChain(model: LeggedModel): CutOpenChain {
+  return {
+    legs: model.actuators.map((actuator, i) => ({
+      actuator,
+      baseX: model.baseX[i]!,
+      baseY: model.baseY[i]!,
+      railX: model.railX[i]!,
+      railY: model.railY[i]!,
+      crank: model.crank[i]!,
+      rod: model.rod[i]!,
+      pinX: model.platformX[i]!,
+      pinY: model.platformY[i]!,
+      proximalInertia: model.proximalInertia[i]!,
+      proximalFirstMoment: model.proximalFirstMoment[i]!,
+      reflectedInertia: model.reflectedInertia[i]!,
+      rodMass: model.rodMass[i]!,
+      rodComDistance: model.rodComDistance[i]!,
+      rodInertia: model.rodInertiaAboutCom[i]!,
+    })),
+    platformMass: model.platformMass + model.payloadMass,
+    platformInertia: model.dof === 3 ? model.platformInertia : 0,
+    gravity: model.gravity,
+  };
+}

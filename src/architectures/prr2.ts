@@ -12,6 +12,7 @@
  */
 import {
   buildLeggedModel,
+  leggedCutOpenChain,
   leggedFootprint,
   leggedPoseDynamics,
   leggedReachableBox,
@@ -54,6 +55,7 @@ export const prr2: PlanarArchitecture<LeggedModel> = {
   reachableBox: (model) => leggedReachableBox(model, 0),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  cutOpenChain: leggedCutOpenChain,
 };
 
 /**

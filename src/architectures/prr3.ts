@@ -12,6 +12,7 @@
  */
 import {
   buildLeggedModel,
+  leggedCutOpenChain,
   leggedFootprint,
   leggedForwardKinematics,
   leggedPoseDynamics,
@@ -60,4 +61,5 @@ export const prr3: PlanarArchitecture<LeggedModel> = {
   reachableBox: leggedReachableBox,
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  cutOpenChain: leggedCutOpenChain,
 };

@@ -13,6 +13,7 @@
  */
 import {
   buildLeggedModel,
+  leggedCutOpenChain,
   leggedFootprint,
   leggedForwardKinematics,
   leggedPoseDynamics,
@@ -66,4 +67,5 @@ export const rrr3: PlanarArchitecture<LeggedModel> = {
   reachableBox: leggedReachableBox,
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  cutOpenChain: leggedCutOpenChain,
 };

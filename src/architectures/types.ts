@@ -242,6 +242,44 @@ export class ArchitecturePose {
 }
 
 /**
+ * One leg of the cut-open chain that `simulate` integrates (docs/simulate.md): the serial chain
+ * base → actuated joint → rod → distal pin, cut at the distal pin. SI units.
+ */
+export interface CutOpenLeg {
+  /** Revolute: crank turning about the pivot (q = θ); prismatic: slider along a rail (q = position along it). */
+  readonly actuator: ActuatorKind;
+  /** Pivot A (revolute) or rail origin O (prismatic), m; rail unit vector (prismatic; unused for revolute). */
+  readonly baseX: number;
+  readonly baseY: number;
+  readonly railX: number;
+  readonly railY: number;
+  /** Crank length p (revolute; 0 for prismatic) and rod length d, m. */
+  readonly crank: number;
+  readonly rod: number;
+  /** Distal pin in the platform frame, m (0 for 2-DOF). */
+  readonly pinX: number;
+  readonly pinY: number;
+  /** Actuated body: revolute inertia about the pivot (kg·m²) and first moment (kg·m); prismatic translating mass (kg) for both. */
+  readonly proximalInertia: number;
+  readonly proximalFirstMoment: number;
+  /** Drive inertia reflected to the joint, kg·m² or kg. */
+  readonly reflectedInertia: number;
+  /** Rod mass (kg), centre-of-mass distance from the proximal joint (m), inertia about its centre of mass (kg·m²). */
+  readonly rodMass: number;
+  readonly rodComDistance: number;
+  readonly rodInertia: number;
+}
+
+/** The bodies of a design as the cut-open chain of `simulate`: legs, plus the body carried at P. */
+export interface CutOpenChain {
+  readonly legs: readonly CutOpenLeg[];
+  /** Body at P (platform or end hub, payload included): mass (kg), centre of mass at P, inertia about P (kg·m²; 0 for 2-DOF). */
+  readonly platformMass: number;
+  readonly platformInertia: number;
+  readonly gravity: readonly [number, number];
+}
+
+/**
  * A planar parallel architecture. `TModel` is its immutable model; every per-pose quantity goes
  * into an `ArchitecturePose` made by `createPose`.
  */
@@ -273,6 +311,11 @@ export interface PlanarArchitecture<TModel extends ArchitectureModelBase = Archi
   footprint(model: TModel): number;
   /** Mass of the moving links, sliders, hubs and platform (payload excluded), kg. */
   movingMass(model: TModel): number;
+  /**
+   * The design's bodies as the cut-open chain of forward simulation (src/simulate), or null/absent
+   * when the architecture's legs are not revolute-crank or prismatic-slider legs with a rod.
+   */
+  cutOpenChain?(model: TModel): CutOpenChain | null;
 }
 
 /** Signs per leg of a working-mode name such as "+-+". */

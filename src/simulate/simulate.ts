@@ -51,11 +51,11 @@ export const DEFAULT_FRICTION_SMOOTHING = 0.01;
 /** Default spacing of the recorded samples, s. */
 export const DEFAULT_OUTPUT_INTERVAL = 1e-3;
 
-/** Joint-side drive limits: η N τ_peak, η N τ_rated (N·m) and ω_max/N (rad/s) per actuator. */
+/** Joint-side drive limits per actuator: η N τ_peak, η N τ_rated (N·m or N) and ω_max/N (rad/s or m/s). */
 export interface SimulationDriveLimits {
-  readonly peakTorque: readonly [number, number];
-  readonly ratedTorque: readonly [number, number];
-  readonly speed: readonly [number, number];
+  readonly peakTorque: readonly number[];
+  readonly ratedTorque: readonly number[];
+  readonly speed: readonly number[];
 }
 
 export interface SimulationOptions {
@@ -68,7 +68,7 @@ export interface SimulationOptions {
   readonly naturalFrequency?: number;
   readonly dampingRatio?: number;
   /** Joint friction of the plant (computed torque compensates it with the same model); null = none. */
-  readonly friction?: readonly [JointFriction, JointFriction] | null;
+  readonly friction?: readonly JointFriction[] | null;
   /** Coulomb smoothing velocity ε, rad/s. */
   readonly frictionSmoothing?: number;
   /** Extra end mass carried by the plant but not known to the controller, kg. */
@@ -108,6 +108,22 @@ export interface SimulationSeries {
   readonly closure: Float64Array;
   /** Kinetic and potential energy, J, and net work ∫(τ − f)·θ̇ dt, J. */
   readonly kinetic: Float64Array; readonly potential: Float64Array; readonly work: Float64Array;
+  /**
+   * Per actuated joint (any number of joints; for joints 1 and 2 the same arrays as the named fields
+   * above): position q (rad or m), speed, desired position and speed, error, drive effort and friction
+   * (N·m or N). `actuators` gives each joint's kind.
+   */
+  readonly actuators: readonly ('revolute' | 'prismatic')[];
+  readonly positions: readonly Float64Array[];
+  readonly speeds: readonly Float64Array[];
+  readonly desiredPositions: readonly Float64Array[];
+  readonly desiredSpeeds: readonly Float64Array[];
+  readonly errors: readonly Float64Array[];
+  readonly torques: readonly Float64Array[];
+  readonly frictions: readonly Float64Array[];
+  /** Platform orientation φ and its desired value, rad (3-DOF; absent for 2-DOF). */
+  readonly phi?: Float64Array;
+  readonly desiredPhi?: Float64Array;
 }
 
 export interface JointSimulationSummary {
@@ -143,7 +159,8 @@ export interface SimulationSummary {
   readonly energyResidual: number;
   readonly energyScale: number;
   readonly relativeEnergyResidual: number;
-  readonly joints: readonly [JointSimulationSummary, JointSimulationSummary];
+  /** One entry per actuated joint. */
+  readonly joints: readonly JointSimulationSummary[];
   readonly integrator: { readonly segments: number; readonly acceptedSteps: number; readonly rejectedSteps: number; readonly evaluations: number };
 }
 
@@ -164,7 +181,7 @@ export function wrapAngle(angle: number): number {
 }
 
 /** A stretch of time with smooth desired motion: one step of the cycle (or a phase of a trapezoidal step). */
-interface Segment {
+export interface Segment {
   readonly start: number;
   readonly end: number;
   /** Step index in the cycle, or −1 without a trajectory. */
@@ -176,9 +193,9 @@ interface Segment {
 }
 
 /** Fraction nudge that keeps evaluations at a segment's ends on the segment's side of a law switch. */
-const FRACTION_NUDGE = 1e-12;
+export const FRACTION_NUDGE = 1e-12;
 
-function buildSegments(trajectory: CycleTrajectory | null, duration: number): Segment[] {
+export function buildSegments(trajectory: CycleTrajectory | null, duration: number): Segment[] {
   const segments: Segment[] = [];
   if (!trajectory) {
     segments.push({ start: 0, end: duration, step: -1, stepStart: 0, fractionLow: 0, fractionHigh: 1 });
@@ -296,23 +313,29 @@ class Controller {
 
 /** Smoothed joint friction f_v θ̇ + f_c tanh(θ̇/ε). */
 class FrictionModel {
-  constructor(private readonly friction: readonly [JointFriction, JointFriction] | null, private readonly smoothing: number) {}
+  constructor(private readonly friction: readonly JointFriction[] | null, private readonly smoothing: number) {}
   torque(joint: 0 | 1, speed: number): number {
     const f = this.friction;
     if (f === null) return 0;
-    const j = f[joint];
+    const j = f[joint]!;
     return j.viscous * speed + j.coulomb * Math.tanh(speed / this.smoothing);
   }
 }
 
-function allocateSeries(count: number): SimulationSeries {
+/** Series buffers for `joints` actuated joints; the named joint-1/2 fields alias the per-joint arrays. */
+export function allocateSeries(count: number, actuators: readonly ('revolute' | 'prismatic')[] = ['revolute', 'revolute'], platformTurns = false): SimulationSeries {
   const a = (): Float64Array => new Float64Array(count);
+  const per = (): Float64Array[] => actuators.map(() => a());
+  const positions = per(), speeds = per(), desiredPositions = per(), desiredSpeeds = per(), errors = per(), torques = per(), frictions = per();
+  const second = (list: Float64Array[]): Float64Array => list[1] ?? a();
   return {
     count,
-    time: a(), theta1: a(), theta2: a(), speed1: a(), speed2: a(),
-    desiredTheta1: a(), desiredTheta2: a(), desiredSpeed1: a(), desiredSpeed2: a(),
-    error1: a(), error2: a(), x: a(), y: a(), desiredX: a(), desiredY: a(), endPointError: a(),
-    torque1: a(), torque2: a(), friction1: a(), friction2: a(), closure: a(), kinetic: a(), potential: a(), work: a(),
+    time: a(), theta1: positions[0]!, theta2: second(positions), speed1: speeds[0]!, speed2: second(speeds),
+    desiredTheta1: desiredPositions[0]!, desiredTheta2: second(desiredPositions), desiredSpeed1: desiredSpeeds[0]!, desiredSpeed2: second(desiredSpeeds),
+    error1: errors[0]!, error2: second(errors), x: a(), y: a(), desiredX: a(), desiredY: a(), endPointError: a(),
+    torque1: torques[0]!, torque2: second(torques), friction1: frictions[0]!, friction2: second(frictions), closure: a(), kinetic: a(), potential: a(), work: a(),
+    actuators, positions, speeds, desiredPositions, desiredSpeeds, errors, torques, frictions,
+    ...(platformTurns ? { phi: a(), desiredPhi: a() } : {}),
   };
 }
 
@@ -510,7 +533,7 @@ export function simulate(model: FiveBarModel, options: SimulationOptions): Simul
   return { summary, series, finalState: Float64Array.from(y.slice(0, 8)) };
 }
 
-interface SummaryInputs {
+export interface SummaryInputs {
   readonly controller: ControllerKind;
   readonly duration: number;
   readonly naturalFrequency: number;
@@ -544,18 +567,18 @@ function maxAbs(values: Float64Array): number {
   return m;
 }
 
-function summarise(series: SimulationSeries, inputs: SummaryInputs): SimulationSummary {
-  const joint = (axis: 0 | 1): JointSimulationSummary => {
-    const torque = axis === 0 ? series.torque1 : series.torque2;
-    const speed = axis === 0 ? series.speed1 : series.speed2;
-    const error = axis === 0 ? series.error1 : series.error2;
+export function summarise(series: SimulationSeries, inputs: SummaryInputs): SimulationSummary {
+  const joint = (axis: number): JointSimulationSummary => {
+    const torque = series.torques[axis]!;
+    const speed = series.speeds[axis]!;
+    const error = series.errors[axis]!;
     const peakTorque = maxAbs(torque);
     const rmsTorque = rms(series.time, torque);
     const peakSpeed = maxAbs(speed);
     const limits = inputs.limits;
-    const peakLimit = limits ? limits.peakTorque[axis] : null;
-    const ratedLimit = limits ? limits.ratedTorque[axis] : null;
-    const speedLimit = limits ? limits.speed[axis] : null;
+    const peakLimit = limits ? limits.peakTorque[axis]! : null;
+    const ratedLimit = limits ? limits.ratedTorque[axis]! : null;
+    const speedLimit = limits ? limits.speed[axis]! : null;
     let outside = 0;
     if (peakLimit !== null && speedLimit !== null) {
       for (let k = 0; k < series.count; k++) if (Math.abs(torque[k]!) > peakLimit || Math.abs(speed[k]!) > speedLimit) outside++;
@@ -582,7 +605,7 @@ function summarise(series: SimulationSeries, inputs: SummaryInputs): SimulationS
     energyResidual: inputs.energyResidual,
     energyScale: inputs.energyScale,
     relativeEnergyResidual: inputs.energyScale > 0 ? inputs.energyResidual / inputs.energyScale : 0,
-    joints: [joint(0), joint(1)],
+    joints: series.positions.map((_, axis) => joint(axis)),
     integrator: inputs.integrator,
   };
 }

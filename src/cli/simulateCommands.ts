@@ -45,19 +45,25 @@ function summaryText(setup: StudySimulationSetup, result: SimulationResult): str
   ];
   const limit = (v: number | null, kind: QuantityKind): string => (v === null ? '—' : formatValue(v, kind));
   const ok = (v: boolean | null): string => (v === null ? '—' : v ? 'yes' : 'NO');
-  const rows = s.joints.map((j, i) => [
-    `joint ${i + 1}`,
-    `${(j.maxTrackingError * 1000).toPrecision(3)}`,
-    formatValue(j.peakTorque, 'torque'), limit(j.peakTorqueLimit, 'torque'), ok(j.withinPeakTorque),
-    formatValue(j.rmsTorque, 'torque'), limit(j.ratedTorqueLimit, 'torque'), ok(j.withinRatedTorque),
-    formatValue(j.peakSpeed, 'angularSpeed'), limit(j.speedLimit, 'angularSpeed'), ok(j.withinSpeed),
-  ]);
+  // Units per joint: N·m, rad/s and mrad for cranks; N, m/s and mm for sliders.
+  const rows = s.joints.map((j, i) => {
+    const slider = setup.actuators[i] === 'prismatic';
+    const effort: QuantityKind = slider ? 'force' : 'torque';
+    const speed: QuantityKind = slider ? 'speed' : 'angularSpeed';
+    return [
+      `joint ${i + 1}`,
+      `${(j.maxTrackingError * 1000).toPrecision(3)}${slider ? ' mm' : ''}`,
+      formatValue(j.peakTorque, effort), limit(j.peakTorqueLimit, effort), ok(j.withinPeakTorque),
+      formatValue(j.rmsTorque, effort), limit(j.ratedTorqueLimit, effort), ok(j.withinRatedTorque),
+      formatValue(j.peakSpeed, speed), limit(j.speedLimit, speed), ok(j.withinSpeed),
+    ];
+  });
   lines.push(table(['joint', 'max |e| (mrad)', 'peak τ', 'limit', 'ok', 'RMS τ', 'rated', 'ok', 'peak speed', 'limit', 'ok'], rows));
   lines.push(
     '',
     `max end-point tracking error: ${formatValue(s.maxEndPointError, 'length')}`,
     `max loop-closure error |Φ|: ${s.maxClosureError.toExponential(2)} m`,
-    `energy balance |E − E₀ − ∫(τ − f)·θ̇ dt|: ${s.energyResidual.toExponential(2)} J (${s.relativeEnergyResidual.toExponential(2)} of the largest kinetic energy)`,
+    `energy balance |E − E₀ − ∫(τ − f)·q̇ dt|: ${s.energyResidual.toExponential(2)} J (${s.relativeEnergyResidual.toExponential(2)} of the largest kinetic energy)`,
     `integrator: ${s.integrator.acceptedSteps} steps (${s.integrator.rejectedSteps} rejected), ${s.integrator.evaluations} evaluations over ${s.integrator.segments} smooth stretches`,
   );
   return lines.join('\n');

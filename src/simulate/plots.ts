@@ -1,8 +1,9 @@
 /**
- * Charts and files of a forward simulation: drive torque and joint speed per joint against time
- * (with the drive limits), tracking error, loop-closure error, and the torque–speed points over the
- * drive's envelope (the peak-torque × speed rectangle and the rated torque). Vega-Lite specs rendered
- * with our theme (report/render.ts); joint 1 and joint 2 take the first two Okabe–Ito colours.
+ * Charts and files of a forward simulation: drive effort and joint speed per joint against time
+ * (with the drive limits), tracking error, loop-closure error, and the effort–speed points over the
+ * drive's envelope (the peak-effort × speed rectangle and the rated effort). Vega-Lite specs rendered
+ * with our theme (report/render.ts); joints 1, 2, 3 take the first Okabe–Ito colours. Units follow
+ * the joints: N·m and rad/s for cranks, N and m/s for sliders.
  */
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -11,8 +12,8 @@ import { OKABE_ITO, renderVegaLiteSvg, svgToPng } from '../report/render.js';
 import type { SimulationDriveLimits, SimulationResult, SimulationSeries } from './simulate.js';
 
 const SCHEMA = 'https://vega.github.io/schema/vega-lite/v6.json';
-const JOINTS = ['joint 1', 'joint 2'] as const;
-const JOINT_SCALE = { domain: [...JOINTS], range: [OKABE_ITO.blue, OKABE_ITO.vermillion] };
+const JOINTS = ['joint 1', 'joint 2', 'joint 3'] as const;
+const JOINT_COLOURS = [OKABE_ITO.blue, OKABE_ITO.vermillion, OKABE_ITO.bluishGreen];
 const WIDTH = 640;
 const HEIGHT = 260;
 
@@ -28,24 +29,31 @@ function sampleIndices(count: number, maxPoints: number): number[] {
   return out;
 }
 
-function timeRows(series: SimulationSeries, a: Float64Array, b: Float64Array, scale: number, indices: readonly number[]): TimeRow[] {
+function jointScale(count: number): { domain: string[]; range: string[] } {
+  return { domain: JOINTS.slice(0, count), range: JOINT_COLOURS.slice(0, count) };
+}
+
+function timeRows(series: SimulationSeries, perJoint: readonly Float64Array[], scale: number, indices: readonly number[]): TimeRow[] {
   const rows: TimeRow[] = [];
-  for (const k of indices) {
-    rows.push({ t: series.time[k]!, value: a[k]! * scale, joint: JOINTS[0] });
-    rows.push({ t: series.time[k]!, value: b[k]! * scale, joint: JOINTS[1] });
-  }
+  for (const k of indices) perJoint.forEach((values, i) => rows.push({ t: series.time[k]!, value: values[k]! * scale, joint: JOINTS[i]! }));
   return rows;
 }
 
-function symmetricLimitRows(limits: readonly [number, number], kind: string): LimitRow[] {
-  return [
-    { value: limits[0], joint: JOINTS[0], kind }, { value: -limits[0], joint: JOINTS[0], kind },
-    { value: limits[1], joint: JOINTS[1], kind }, { value: -limits[1], joint: JOINTS[1], kind },
-  ];
+function symmetricLimitRows(limits: readonly number[], count: number, kind: string): LimitRow[] {
+  const rows: LimitRow[] = [];
+  for (let i = 0; i < count; i++) rows.push({ value: limits[i]!, joint: JOINTS[i]!, kind }, { value: -limits[i]!, joint: JOINTS[i]!, kind });
+  return rows;
 }
 
-function timeChart(title: string, subtitle: string, yTitle: string, rows: TimeRow[], limits: LimitRow[], logScale = false): TopLevelSpec {
-  const colour = { field: 'joint', type: 'nominal' as const, scale: JOINT_SCALE, title: null };
+/** Axis units of the joints' efforts and speeds (cranks, sliders or both). */
+function jointUnits(actuators: readonly string[]): { effort: string; speed: string; error: string; errorScale: number } {
+  if (actuators.every((a) => a === 'revolute')) return { effort: 'torque (N·m)', speed: 'speed (rad/s)', error: 'error (mrad)', errorScale: 1000 };
+  if (actuators.every((a) => a === 'prismatic')) return { effort: 'force (N)', speed: 'speed (m/s)', error: 'error (mm)', errorScale: 1000 };
+  return { effort: 'effort (N·m or N)', speed: 'speed (rad/s or m/s)', error: 'error (mrad or mm)', errorScale: 1000 };
+}
+
+function timeChart(title: string, subtitle: string, yTitle: string, rows: TimeRow[], limits: LimitRow[], count: number, logScale = false): TopLevelSpec {
+  const colour = { field: 'joint', type: 'nominal' as const, scale: jointScale(count), title: null };
   return {
     $schema: SCHEMA,
     title: { text: title, subtitle },
@@ -79,22 +87,24 @@ function timeChart(title: string, subtitle: string, yTitle: string, rows: TimeRo
 /** Vega-Lite specs of the simulation charts, by file stem. */
 export function simulationChartSpecs(result: SimulationResult, limits: SimulationDriveLimits | null, title: string): Record<string, TopLevelSpec> {
   const s = result.series;
+  const count = s.positions.length;
+  const units = jointUnits(s.actuators);
   const indices = sampleIndices(s.count, 2000);
   const sub = `${title} — controller: ${result.summary.controller}`;
-  const torqueLimits = limits ? [...symmetricLimitRows(limits.peakTorque, 'peak'), ...symmetricLimitRows(limits.ratedTorque, 'rated')] : [];
-  const speedLimits = limits ? symmetricLimitRows(limits.speed, 'speed') : [];
+  const torqueLimits = limits ? [...symmetricLimitRows(limits.peakTorque, count, 'peak'), ...symmetricLimitRows(limits.ratedTorque, count, 'rated')] : [];
+  const speedLimits = limits ? symmetricLimitRows(limits.speed, count, 'speed') : [];
   const specs: Record<string, TopLevelSpec> = {
-    torque: timeChart('Drive torque (joint side)', `${sub}; dashed: peak η N τ_peak, dotted: rated η N τ_rated`, 'torque (N·m)', timeRows(s, s.torque1, s.torque2, 1, indices), torqueLimits),
-    speed: timeChart('Joint speed', `${sub}; dashed: ω_max / N`, 'speed (rad/s)', timeRows(s, s.speed1, s.speed2, 1, indices), speedLimits),
+    torque: timeChart('Drive effort (joint side)', `${sub}; dashed: peak limit, dotted: rated limit`, units.effort, timeRows(s, s.torques, 1, indices), torqueLimits, count),
+    speed: timeChart('Joint speed', `${sub}; dashed: speed limit`, units.speed, timeRows(s, s.speeds, 1, indices), speedLimits, count),
   };
   if (!Number.isNaN(result.summary.maxEndPointError)) {
-    specs['tracking-error'] = timeChart('Tracking error θ_d − θ', sub, 'error (mrad)', timeRows(s, s.error1, s.error2, 1000, indices), []);
+    specs['tracking-error'] = timeChart('Tracking error q_d − q', sub, units.error, timeRows(s, s.errors, units.errorScale, indices), [], count);
   }
   // Loop-closure error on a log scale (floored so exact zeros can be drawn).
   const closureRows = indices.map((k) => ({ t: s.time[k]!, value: Math.max(s.closure[k]!, 1e-18) }));
   specs['closure'] = {
     $schema: SCHEMA,
-    title: { text: 'Loop-closure error |Φ| = |T₁ − T₂|', subtitle: sub },
+    title: { text: 'Loop-closure error |Φ| (largest gap at a cut)', subtitle: sub },
     width: WIDTH,
     height: HEIGHT,
     data: { values: closureRows },
@@ -106,18 +116,15 @@ export function simulationChartSpecs(result: SimulationResult, limits: Simulatio
   };
   // Torque–speed points over the envelope.
   const points: { speed: number; torque: number; joint: string }[] = [];
-  for (const k of indices) {
-    points.push({ speed: s.speed1[k]!, torque: s.torque1[k]!, joint: JOINTS[0] });
-    points.push({ speed: s.speed2[k]!, torque: s.torque2[k]!, joint: JOINTS[1] });
-  }
-  const colour = { field: 'joint', type: 'nominal' as const, scale: JOINT_SCALE, title: null };
+  for (const k of indices) for (let i = 0; i < count; i++) points.push({ speed: s.speeds[i]![k]!, torque: s.torques[i]![k]!, joint: JOINTS[i]! });
+  const colour = { field: 'joint', type: 'nominal' as const, scale: jointScale(count), title: null };
   const envelope = limits
-    ? JOINTS.map((joint, i) => ({ joint, speedLow: -limits.speed[i]!, speedHigh: limits.speed[i]!, torqueLow: -limits.peakTorque[i]!, torqueHigh: limits.peakTorque[i]! }))
+    ? JOINTS.slice(0, count).map((joint, i) => ({ joint, speedLow: -limits.speed[i]!, speedHigh: limits.speed[i]!, torqueLow: -limits.peakTorque[i]!, torqueHigh: limits.peakTorque[i]! }))
     : [];
-  const rated = limits ? symmetricLimitRows(limits.ratedTorque, 'rated') : [];
+  const rated = limits ? symmetricLimitRows(limits.ratedTorque, count, 'rated') : [];
   specs['torque-speed'] = {
     $schema: SCHEMA,
-    title: { text: 'Torque–speed points against the drive envelope', subtitle: limits ? `${sub}; box: ±ω_max/N × ±η N τ_peak, dotted: ±η N τ_rated` : `${sub}; no drives given` },
+    title: { text: 'Effort–speed points against the drive envelope', subtitle: limits ? `${sub}; box: ±speed limit × ±peak effort, dotted: ±rated effort` : `${sub}; no drives given` },
     width: 520,
     height: 420,
     layer: [
@@ -131,8 +138,8 @@ export function simulationChartSpecs(result: SimulationResult, limits: Simulatio
         data: { values: points },
         mark: { type: 'point', filled: true, size: 10, opacity: 0.6 },
         encoding: {
-          x: { field: 'speed', type: 'quantitative', title: 'joint speed (rad/s)' },
-          y: { field: 'torque', type: 'quantitative', title: 'drive torque (N·m)' },
+          x: { field: 'speed', type: 'quantitative', title: `joint ${units.speed}` },
+          y: { field: 'torque', type: 'quantitative', title: `drive ${units.effort}` },
           color: colour,
         },
       },
@@ -141,27 +148,45 @@ export function simulationChartSpecs(result: SimulationResult, limits: Simulatio
   return specs;
 }
 
-const CSV_COLUMNS: readonly (readonly [string, keyof SimulationSeries])[] = [
-  ['t_s', 'time'],
-  ['theta1_rad', 'theta1'], ['theta2_rad', 'theta2'],
-  ['theta1_desired_rad', 'desiredTheta1'], ['theta2_desired_rad', 'desiredTheta2'],
-  ['error1_rad', 'error1'], ['error2_rad', 'error2'],
-  ['speed1_rad_s', 'speed1'], ['speed2_rad_s', 'speed2'],
-  ['speed1_desired_rad_s', 'desiredSpeed1'], ['speed2_desired_rad_s', 'desiredSpeed2'],
-  ['torque1_Nm', 'torque1'], ['torque2_Nm', 'torque2'],
-  ['friction1_Nm', 'friction1'], ['friction2_Nm', 'friction2'],
-  ['x_m', 'x'], ['y_m', 'y'], ['x_desired_m', 'desiredX'], ['y_desired_m', 'desiredY'],
-  ['end_point_error_m', 'endPointError'],
-  ['closure_error_m', 'closure'],
-  ['kinetic_energy_J', 'kinetic'], ['potential_energy_J', 'potential'], ['net_work_J', 'work'],
-];
+/**
+ * CSV columns: SI units in the names. Per joint i: crank θi (rad, rad/s, N·m) or slider si (m, m/s, N);
+ * a two-crank design gives exactly the five-bar's columns.
+ */
+function csvColumns(series: SimulationSeries): { name: string; values: Float64Array }[] {
+  const columns: { name: string; values: Float64Array }[] = [{ name: 't_s', values: series.time }];
+  const joints = series.actuators.map((kind, i) => {
+    const revolute = kind === 'revolute';
+    return { i: i + 1, position: revolute ? 'theta' : 's', unit: revolute ? 'rad' : 'm', speed: revolute ? 'rad_s' : 'm_s', effort: revolute ? 'Nm' : 'N' };
+  });
+  const add = (make: (j: (typeof joints)[number]) => string, list: readonly Float64Array[]): void => joints.forEach((j, k) => columns.push({ name: make(j), values: list[k]! }));
+  add((j) => `${j.position}${j.i}_${j.unit}`, series.positions);
+  add((j) => `${j.position}${j.i}_desired_${j.unit}`, series.desiredPositions);
+  add((j) => `error${j.i}_${j.unit}`, series.errors);
+  add((j) => `speed${j.i}_${j.speed}`, series.speeds);
+  add((j) => `speed${j.i}_desired_${j.speed}`, series.desiredSpeeds);
+  add((j) => `${j.effort === 'N' ? 'force' : 'torque'}${j.i}_${j.effort}`, series.torques);
+  add((j) => `friction${j.i}_${j.effort}`, series.frictions);
+  columns.push({ name: 'x_m', values: series.x }, { name: 'y_m', values: series.y });
+  if (series.phi) columns.push({ name: 'phi_rad', values: series.phi });
+  columns.push({ name: 'x_desired_m', values: series.desiredX }, { name: 'y_desired_m', values: series.desiredY });
+  if (series.desiredPhi) columns.push({ name: 'phi_desired_rad', values: series.desiredPhi });
+  columns.push(
+    { name: 'end_point_error_m', values: series.endPointError },
+    { name: 'closure_error_m', values: series.closure },
+    { name: 'kinetic_energy_J', values: series.kinetic },
+    { name: 'potential_energy_J', values: series.potential },
+    { name: 'net_work_J', values: series.work },
+  );
+  return columns;
+}
 
 /** The time series as CSV (SI units in the column names; empty cells for NaN). */
 export function simulationCsv(series: SimulationSeries): string {
-  const lines = [CSV_COLUMNS.map(([name]) => name).join(',')];
+  const columns = csvColumns(series);
+  const lines = [columns.map((c) => c.name).join(',')];
   for (let k = 0; k < series.count; k++) {
-    lines.push(CSV_COLUMNS.map(([, key]) => {
-      const v = (series[key] as Float64Array)[k]!;
+    lines.push(columns.map((c) => {
+      const v = c.values[k]!;
       return Number.isNaN(v) ? '' : String(v);
     }).join(','));
   }

@@ -5,13 +5,14 @@
  * limits and its joint friction.
  */
 import { chooseDesign } from '../api/design.js';
-import { fiveBar, wrapFiveBarModel } from '../architectures/fivebar.js';
-import type { ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
-import { CycleSamples, CycleTrajectory, DutyCycleAnalysis, type CyclePath, type JointFriction } from '../mechanics/dutyCycle.js';
+import type { ActuatorKind, ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
+import { drivesAtJoint } from '../mechanics/designSpace.js';
+import { CycleSamples, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, evaluatedCycleTime, type CyclePath, type JointFriction } from '../mechanics/dutyCycle.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import type { FiveBarModel } from '../mechanics/fivebar.js';
 import type { Study } from '../study/types.js';
 import { SimulationError, simulate, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './simulate.js';
+import { simulateArchitecture } from './simulateArchitecture.js';
 
 /** Everything a simulation of one study design needs. */
 export interface StudySimulationSetup {
@@ -19,14 +20,19 @@ export interface StudySimulationSetup {
   /** Named values of the design variables (SI; working mode and drives by name). */
   readonly design: Readonly<Record<string, number | string>>;
   readonly warnings: readonly string[];
-  readonly model: FiveBarModel;
+  /** The architecture, its model of the design (every architecture) and each joint's kind. */
+  readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
+  readonly architectureModel: ArchitectureModelBase;
+  readonly actuators: readonly ActuatorKind[];
+  /** The five-bar engine's model (five-bar studies, simulated by simulate.ts); null for other architectures. */
+  readonly model: FiveBarModel | null;
   /** The duty cycle at the evaluated pace. */
   readonly trajectory: CycleTrajectory;
   readonly cycleTime: number;
   readonly limits: SimulationDriveLimits | null;
-  readonly friction: readonly [JointFriction, JointFriction] | null;
+  readonly friction: readonly JointFriction[] | null;
   /** Drive names per actuator (null without drives). */
-  readonly driveLabels: readonly [string, string] | null;
+  readonly driveLabels: readonly string[] | null;
 }
 
 export interface StudySimulationOptions {
@@ -52,46 +58,50 @@ export function scaleCyclePath(path: CyclePath, scale: number): CyclePath {
 export function prepareStudySimulation(study: Study, overrides: readonly string[] = []): StudySimulationSetup {
   const duty = study.dutyCycle;
   if (!duty) throw new SimulationError(`study ${study.name} has no duty_cycle section: there is no motion to simulate (see docs/duty-cycle.md)`);
+  if (study.members) throw new SimulationError('simulate: a comparison study has no single design; simulate one member study');
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
-  const model = evaluator.model(choice.design);
-  const resolved = evaluator.resolve(choice.design);
+  const { architecture, model: architectureModel, resolved } = evaluator.architectureDesign(choice.design);
   const reference = new CycleTrajectory(duty.path);
-  const target = duty.cycleTime ?? (duty.requiredRate ? 1 / duty.requiredRate : null);
+  const target = evaluatedCycleTime(duty);
   let scale = 1;
   if (target !== null && reference.moveTime > 0) {
     scale = (target - reference.dwellTime) / reference.moveTime;
     if (!(scale > 0)) throw new SimulationError(`the cycle time ${target} s is not longer than the dwells (${reference.dwellTime} s)`);
   }
   const trajectory = scale === 1 ? reference : new CycleTrajectory(scaleCyclePath(duty.path, scale));
-  const check = new DutyCycleAnalysis(new CycleSamples(trajectory, duty.samples), null, fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>);
-  if (!check.run(wrapFiveBarModel(model, 0))) {
+  const check = new DutyCycleAnalysis(new CycleSamples(trajectory, duty.samples), null, architecture);
+  if (!check.run(architectureModel)) {
     throw new SimulationError('this design cannot follow the duty cycle: some point of the cycle is unreachable, outside the joint limits, in the other assembly mode or singular');
   }
   const drives = resolved.drives;
-  const limits: SimulationDriveLimits | null = drives
+  const isFiveBar = architecture.name === 'five-bar';
+  const limits: SimulationDriveLimits | null = isFiveBar && drives
     ? {
-        peakTorque: [drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].peakTorque],
-        ratedTorque: [drives[0].efficiency * drives[0].gearRatio * drives[0].ratedTorque, drives[1].efficiency * drives[1].gearRatio * drives[1].ratedTorque],
-        speed: [drives[0].maxSpeed / drives[0].gearRatio, drives[1].maxSpeed / drives[1].gearRatio],
+        peakTorque: drives.map((d) => d.efficiency * d.gearRatio * d.peakTorque),
+        ratedTorque: drives.map((d) => d.efficiency * d.gearRatio * d.ratedTorque),
+        speed: drives.map((d) => d.maxSpeed / d.gearRatio),
       }
-    : null;
+    : cycleDriveLimits(drivesAtJoint(choice.study, drives));
   return {
     study: choice.study,
     design: choice.values,
     warnings: choice.warnings,
-    model,
+    architecture,
+    architectureModel,
+    actuators: architecture.actuators,
+    model: isFiveBar ? evaluator.model(choice.design) : null,
     trajectory,
     cycleTime: trajectory.cycleTime,
     limits,
-    friction: (study.friction as readonly [JointFriction, JointFriction] | null | undefined) ?? null,
-    driveLabels: drives ? [drives[0].label, drives[1].label] : null,
+    friction: study.friction ?? null,
+    driveLabels: drives ? drives.map((d) => d.label) : null,
   };
 }
 
 /** Simulates a prepared study design along its duty cycle. */
 export function simulateStudyDesign(setup: StudySimulationSetup, options: StudySimulationOptions): SimulationResult {
-  return simulate(setup.model, {
+  const common = {
     controller: options.controller,
     trajectory: setup.trajectory,
     duration: options.duration ?? setup.cycleTime,
@@ -101,5 +111,7 @@ export function simulateStudyDesign(setup: StudySimulationSetup, options: StudyS
     ...(options.outputInterval !== undefined ? { outputInterval: options.outputInterval } : {}),
     friction: options.friction === false ? null : setup.friction,
     limits: setup.limits,
-  });
+  };
+  // The five-bar keeps its own free chain (freeChain.ts); every other architecture runs the cut-open chain of legChain.ts.
+  return setup.model ? simulate(setup.model, common) : simulateArchitecture(setup.architecture, setup.architectureModel, common);
 }

@@ -304,7 +304,6 @@ function buildComparisonStudy(data: JsonObject, names: readonly string[], attach
   const membersIn = isObject(data['members']) ? data['members'] : null;
   if (!membersIn) throw new StudyError('members: a comparison study gives one block per architecture (members: {five-bar: {geometry: …}, 2-prr: {…}})');
   if (data['geometry'] !== undefined) throw new StudyError('geometry: a comparison study gives geometry per architecture, under members.<architecture>.geometry');
-  if (data['duty_cycle'] !== undefined) throw new StudyError('duty_cycle: not available in a comparison study (duty cycles are five-bar only)');
   for (const key of Object.keys(membersIn)) {
     if (!names.includes(key)) throw new StudyError(`members.${key}: "${key}" is not one of the study's architectures ${JSON.stringify(names)}`);
   }

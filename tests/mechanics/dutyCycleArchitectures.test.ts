@@ -286,4 +286,33 @@ describe('cycle studies of the 2-PRR and 3-RRR', () => {
       /ends at orientation 3 deg, not the 0 deg/,
     );
   });
+
+  it('a comparison study runs one duty cycle on every member (five-bar and 2-PRR)', () => {
+    const text = loadStudyFile(studyPath('compare-fivebar-2prr')).text.replace('\ntask:', `
+duty_cycle:
+  waypoints: { pick: [-150 mm, -500 mm], above_pick: [-150 mm, -400 mm], above_place: [150 mm, -400 mm], place: [150 mm, -500 mm] }
+  steps:
+    - { move_to: above_pick, law: poly5, time: 150 ms }
+    - { move_to: above_place, law: cycloidal, time: 300 ms }
+    - { move_to: place, law: poly5, time: 150 ms }
+    - { dwell: 100 ms }
+    - { move_to: above_place, law: poly5, time: 150 ms }
+    - { move_to: above_pick, law: cycloidal, time: 300 ms }
+    - { move_to: pick, law: poly5, time: 150 ms }
+  cycle_time: 2 s
+
+task:`);
+    const study = parseStudyText(text, 'compare-cycle').study;
+    expect(study.members!.every((m) => m.dutyCycle)).toBe(true);
+    const evaluator = new Evaluator(study);
+    const seen: number[] = [];
+    for (const member of study.members!) {
+      const design = Float64Array.from(evaluator.variables.map((v) => (v.name === 'architecture' ? study.members!.indexOf(member) : (study.baseline[v.name] as number | undefined) ?? 0.3)));
+      const metrics = evaluator.evaluate(design).metrics;
+      expect(Number.isFinite(metrics[metricIndex('cycle_rms_torque')]!), member.architecture).toBe(true);
+      seen.push(metrics[metricIndex('cycle_rms_torque')]!);
+    }
+    // Two different members were evaluated (N·m for the five-bar's cranks, N for the sliders).
+    expect(seen[0]).not.toBe(seen[1]);
+  });
 });

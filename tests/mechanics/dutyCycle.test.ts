@@ -29,7 +29,8 @@ import {
   jointSpaceDynamics,
   poseFromJointAngles,
 } from '../../src/mechanics/dutyCycleFiveBar.js';
-import { fiveBar, wrapFiveBarModel } from '../../src/architectures/fivebar.js';
+import { fiveBar } from '../../src/architectures/fivebar.js';
+import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from '../../src/architectures/types.js';
 import { Evaluator, constraintDefinitions } from '../../src/mechanics/evaluate.js';
 import { metricIndex } from '../../src/mechanics/metrics.js';
@@ -41,7 +42,7 @@ class DutyCycleAnalysis extends GenericDutyCycleAnalysis {
     super(samples, friction, fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>);
   }
   runFiveBar(model: FiveBarModel): boolean {
-    return this.run(wrapFiveBarModel(model, 0));
+    return this.run(legModelOf(model));
   }
 }
 

@@ -5,7 +5,8 @@
  * MuJoCo check of the efforts is in reference-mujoco-cycle.test.ts.
  */
 import { describe, expect, it } from 'vitest';
-import { fiveBar, wrapFiveBarModel } from '../../src/architectures/fivebar.js';
+import { fiveBar } from '../../src/architectures/fivebar.js';
+import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
@@ -74,7 +75,7 @@ function legCase(label: string, architecture: unknown, input: ModelInput, box: {
 }
 
 const CASES: readonly Case[] = [
-  { label: 'five-bar', architecture: generic(fiveBar), model: wrapFiveBarModel(FIVE_BAR, 0), path: FIVE_BAR_PATH },
+  { label: 'five-bar', architecture: generic(fiveBar), model: legModelOf(FIVE_BAR), path: FIVE_BAR_PATH },
   legCase('2-PRR', prr2, PRR2_INPUT, { x: 0, y: 0.05, half: 0.3, phiHalf: 0 }),
   legCase('3-RRR', rrr3, RRR3_INPUT, { x: 0, y: 0, half: 0.25, phiHalf: 0.6 }),
   legCase('3-PRR', prr3, PRR3_INPUT, { x: 0, y: 0, half: 0.25, phiHalf: 0.6 }),
@@ -110,7 +111,7 @@ describe('the generic path on the five-bar', () => {
     const d = new CycleDynamics(generic(fiveBar));
     const pose = new FiveBarPose();
     const motion = new FiveBarMotion();
-    const model = wrapFiveBarModel(FIVE_BAR, 0);
+    const model = legModelOf(FIVE_BAR);
     let worstRate = 0;
     let worstTorque = 0;
     for (let k = 0; k < samples.count; k++) {

@@ -27,7 +27,8 @@ import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../../src
 import { CycleSamples, CycleTrajectory, type CyclePath, type EndPointState } from '../../src/mechanics/dutyCycle.js';
 import { FiveBarMotion, inverseDynamics, jointRatesFromPath } from '../../src/mechanics/dutyCycleFiveBar.js';
 import { CycleDynamics } from '../../src/mechanics/dutyCycle.js';
-import { fiveBar, wrapFiveBarModel } from '../../src/architectures/fivebar.js';
+import { fiveBar } from '../../src/architectures/fivebar.js';
+import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from '../../src/architectures/types.js';
 import { loadMujoco, type MujocoModule } from '../helpers/mujoco.js';
 
@@ -307,7 +308,7 @@ describe('duty-cycle inverse dynamics against MuJoCo mj_inverse (free system red
     // dutyCycle.ts (rod rates W and their derivative) instead of the five-bar closed forms.
     const samples = new CycleSamples(new CycleTrajectory(PATH), 60);
     const dynamics = new CycleDynamics(fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>);
-    const wrapped = wrapFiveBarModel(MODEL, 0);
+    const wrapped = legModelOf(MODEL);
     let worst = 0;
     for (let k = 0; k < samples.count; k++) {
       expect(dynamics.solveAt(wrapped, samples.x[k]!, samples.y[k]!)).toBe(PoseStatus.Assembled);

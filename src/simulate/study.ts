@@ -11,7 +11,7 @@ import { CycleSamples, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, eva
 import { Evaluator } from '../mechanics/evaluate.js';
 import type { FiveBarModel } from '../mechanics/fivebar.js';
 import type { Study } from '../study/types.js';
-import { SimulationError, simulate, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './simulate.js';
+import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './simulate.js';
 import { simulateArchitecture } from './simulateArchitecture.js';
 
 /** Everything a simulation of one study design needs. */
@@ -24,7 +24,7 @@ export interface StudySimulationSetup {
   readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
   readonly architectureModel: ArchitectureModelBase;
   readonly actuators: readonly ActuatorKind[];
-  /** The five-bar engine's model (five-bar studies, simulated by simulate.ts); null for other architectures. */
+  /** Five-bar studies: the former five-bar engine model (for simulate.ts and the closed-form checks); null for other architectures. */
   readonly model: FiveBarModel | null;
   /** The duty cycle at the evaluated pace. */
   readonly trajectory: CycleTrajectory;
@@ -112,6 +112,6 @@ export function simulateStudyDesign(setup: StudySimulationSetup, options: StudyS
     friction: options.friction === false ? null : setup.friction,
     limits: setup.limits,
   };
-  // The five-bar keeps its own free chain (freeChain.ts); every other architecture runs the cut-open chain of legChain.ts.
-  return setup.model ? simulate(setup.model, common) : simulateArchitecture(setup.architecture, setup.architectureModel, common);
+  // One path for every architecture: the cut-open chain of legChain.ts on the architecture interface.
+  return simulateArchitecture(setup.architecture, setup.architectureModel, common);
 }

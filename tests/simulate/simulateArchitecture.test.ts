@@ -4,11 +4,15 @@
  * chain, and tracking of the 2-PRR and 3-RRR demo duty cycles. Figures are printed for the notes.
  */
 import { describe, expect, it } from 'vitest';
+import { fiveBar } from '../../src/architectures/fivebar.js';
 import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ArchitectureModelBase, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
-import { CycleDynamics } from '../../src/mechanics/dutyCycle.js';
+import { CycleDynamics, CycleTrajectory, type CyclePath } from '../../src/mechanics/dutyCycle.js';
+import type { FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { simulate } from '../../src/simulate/simulate.js';
+import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import { LegChain } from '../../src/simulate/legChain.js';
 import { cutChainState, simulateArchitecture } from '../../src/simulate/simulateArchitecture.js';
 import { prepareStudySimulation, simulateStudyDesign } from '../../src/simulate/study.js';
@@ -159,5 +163,48 @@ describe('simulate on the 2-PRR and 3-RRR demo duty cycles', () => {
     expect(loadError).toBeGreaterThan(1e-6);
     expect(loadError).toBeLessThan(pdError);
     expect(Math.max(pd.summary.maxClosureError, loaded.summary.maxClosureError)).toBeLessThan(1e-9);
+  });
+});
+
+describe('the cut-open chain of the legs against the five-bar\'s own free chain', () => {
+  it('gives the same efforts, errors and energies on an asymmetric five-bar (computed torque and PD)', () => {
+    // Two formulations of the same closed chain (derived): the five-bar cut at P into two arms with P on
+    // arm 1 (freeChain.ts) and every rod cut at P with P a free body (legChain.ts) must move alike.
+    const model: FiveBarModel = {
+      pivotX: [-0.12, 0.1], pivotY: [0.0, 0.05], crank: [0.2, 0.16], rod: [0.28, 0.32], sigma: [1, -1], assembly: 1,
+      jointLimits: [null, null], crankInertiaAboutPivot: [0.0108, 0.0065], crankFirstMoment: [0.069, 0.044], rodMass: [0.4, 0.5],
+      rodComDistance: [0.098, 0.112], rodInertiaAboutCom: [0.0031, 0.0052], endMass: 0.6, reflectedInertia: [0.004, 0.0025],
+      gravity: [0.7, -9.81], complianceBending: [2e-6, 3e-6], complianceCrankAxial: [1e-8, 1e-8], complianceRodAxial: [2e-8, 2e-8],
+    };
+    const path: CyclePath = {
+      start: [-0.1, 0.25],
+      steps: [
+        { kind: 'move', to: [0.1, 0.3], law: 'cycloidal', time: 0.22 },
+        { kind: 'move', to: [0.05, 0.36], law: 'poly5', time: 0.12 },
+        { kind: 'dwell', time: 0.05 },
+        { kind: 'arc', centre: [0.0, 0.3], angle: 0.9, law: 'poly7', time: 0.18 },
+        { kind: 'move', to: [-0.1, 0.25], law: 'trapezoidal', time: 0.2, accelFraction: 0.25 },
+      ],
+    };
+    const friction = [{ viscous: 0.02, coulomb: 0.1 }, { viscous: 0.01, coulomb: 0.05 }];
+    let worst = 0;
+    for (const controller of ['computed-torque', 'pd'] as const) {
+      const options = { controller, trajectory: new CycleTrajectory(path), duration: 0.77, friction, extraEndMass: 0.2 };
+      const mine = simulateArchitecture(generic(fiveBar), legModelOf(model), options);
+      const theirs = simulate(model, options);
+      expect(mine.series.count).toBe(theirs.series.count);
+      for (let k = 0; k < mine.series.count; k += 7) {
+        for (let i = 0; i < 2; i++) {
+          const scale = Math.abs(theirs.series.torques[i]![k]!) + 0.1;
+          const gap = Math.abs(mine.series.torques[i]![k]! - theirs.series.torques[i]![k]!) / scale;
+          worst = Math.max(worst, gap);
+          expect(gap, `${controller} τ${i + 1} at ${mine.series.time[k]}`).toBeLessThan(1e-6);
+          expect(Math.abs(mine.series.positions[i]![k]! - theirs.series.positions[i]![k]!)).toBeLessThan(1e-8);
+        }
+        expect(Math.abs(mine.series.kinetic[k]! - theirs.series.kinetic[k]!)).toBeLessThan(1e-8 * (theirs.series.kinetic[k]! + 1e-3));
+      }
+      expect(mine.summary.joints[0]!.maxTrackingError).toBeCloseTo(theirs.summary.joints[0]!.maxTrackingError, 8);
+    }
+    console.info(`five-bar: cut chain of the legs vs the five-bar free chain, worst relative effort gap ${worst.toExponential(2)}`);
   });
 });

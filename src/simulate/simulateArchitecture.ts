@@ -33,6 +33,7 @@ import {
   type Segment,
   type SimulationOptions,
   type SimulationResult,
+  type SimulationSeries,
 } from './simulate.js';
 import { DEFAULT_STABILISATION_RATE } from './freeChain.js';
 
@@ -96,15 +97,8 @@ function plantChain(architecture: PlanarArchitecture<ArchitectureModelBase>, mod
   return new LegChain(extraMass > 0 ? { ...chain, platformMass: chain.platformMass + extraMass } : chain);
 }
 
-/**
- * Integrates the closed chain of any architecture under the chosen controller. `model` is the
- * controller's model; the plant is the same model with `extraEndMass` added at P. Throws
- * SimulationError when the desired motion leaves the assembled poses, the controller's model
- * cannot be evaluated, or the integrator gives up.
- */
-export function simulateArchitecture(
-  architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, options: ArchitectureSimulationOptions,
-): SimulationResult {
+/** Duration, controller settings and Baumgarte rate of the options, checked (SimulationError on a bad value). */
+function checkedSettings(options: ArchitectureSimulationOptions): { duration: number; naturalFrequency: number; dampingRatio: number; extraEndMass: number; alpha: number } {
   const trajectory = options.trajectory;
   const duration = options.duration ?? (trajectory ? trajectory.cycleTime : Number.NaN);
   if (!(duration > 0) || !Number.isFinite(duration)) throw new SimulationError('the simulated duration must be a positive number of seconds');
@@ -115,7 +109,40 @@ export function simulateArchitecture(
   if (!(extraEndMass >= 0)) throw new SimulationError('the extra end mass must be zero or positive');
   const outputInterval = options.outputInterval ?? DEFAULT_OUTPUT_INTERVAL;
   if (!(outputInterval > 0)) throw new SimulationError('the output interval must be positive');
-  const alpha = options.stabilisationRate ?? DEFAULT_STABILISATION_RATE;
+  return { duration, naturalFrequency, dampingRatio, extraEndMass, alpha: options.stabilisationRate ?? DEFAULT_STABILISATION_RATE };
+}
+
+/** The initial cut-chain state: the given one, else the cycle's start pose with the path velocity there. */
+function initialState(
+  architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, options: ArchitectureSimulationOptions, size: number,
+): Float64Array {
+  const state0 = new Float64Array(2 * size);
+  const trajectory = options.trajectory;
+  if (options.initialState) {
+    if (options.initialState.length !== 2 * size) throw new SimulationError(`the initial state needs ${2 * size} values (cut-chain coordinates and their rates)`);
+    state0.set(Array.from(options.initialState));
+    return state0;
+  }
+  if (!trajectory) throw new SimulationError('give a trajectory or an initial state');
+  const s: EndPointState = { x: 0, y: 0, vx: 0, vy: 0, ax: 0, ay: 0, phi: 0, vphi: 0, aphi: 0 };
+  trajectory.stepStateAtFraction(0, 0, s);
+  if (!cutChainState(architecture, model, [s.x, s.y, s.phi ?? 0], [s.vx, s.vy, s.vphi ?? 0], state0)) {
+    throw new SimulationError('the cycle\'s start point cannot be assembled in the design\'s working and assembly modes');
+  }
+  return state0;
+}
+
+/**
+ * Integrates the closed chain of any architecture under the chosen controller. `model` is the
+ * controller's model; the plant is the same model with `extraEndMass` added at P. Throws
+ * SimulationError when the desired motion leaves the assembled poses, the controller's model
+ * cannot be evaluated, or the integrator gives up.
+ */
+export function simulateArchitecture(
+  architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, options: ArchitectureSimulationOptions,
+): SimulationResult {
+  const { duration, naturalFrequency, dampingRatio, extraEndMass, alpha } = checkedSettings(options);
+  const trajectory = options.trajectory;
   const n = architecture.dof;
   const chain = plantChain(architecture, model, extraEndMass);
   const N = chain.size;
@@ -125,20 +152,7 @@ export function simulateArchitecture(
   const smoothing = options.frictionSmoothing ?? DEFAULT_FRICTION_SMOOTHING;
   const frictionOf = (i: number, speed: number): number => (friction ? friction[i]!.viscous * speed + friction[i]!.coulomb * Math.tanh(speed / smoothing) : 0);
 
-  const state0 = new Float64Array(2 * N);
-  if (options.initialState) {
-    if (options.initialState.length !== 2 * N) throw new SimulationError(`the initial state needs ${2 * N} values (cut-chain coordinates and their rates)`);
-    state0.set(Array.from(options.initialState));
-  } else if (!trajectory) {
-    throw new SimulationError('give a trajectory or an initial state');
-  } else {
-    const s: EndPointState = { x: 0, y: 0, vx: 0, vy: 0, ax: 0, ay: 0, phi: 0, vphi: 0, aphi: 0 };
-    trajectory.stepStateAtFraction(0, 0, s);
-    if (!cutChainState(architecture, model, [s.x, s.y, s.phi ?? 0], [s.vx, s.vy, s.vphi ?? 0], state0)) {
-      throw new SimulationError('the cycle\'s start point cannot be assembled in the design\'s working and assembly modes');
-    }
-  }
-
+  const state0 = initialState(architecture, model, options, N);
   const desired = trajectory ? new DesiredJointMotion(architecture, model, trajectory) : null;
   const measured = new CycleDynamics(architecture);
   const omega = 2 * Math.PI * naturalFrequency;
@@ -223,7 +237,7 @@ export function simulateArchitecture(
     derivative[2 * N] = power;
     return derivative;
   };
-  return integrate(architecture, chain, { ...options, duration }, state0, rhs, effortsAt, torque, frictionNow, desired, (segment) => (currentSegment = segment), () => failure);
+  return integrate(architecture, chain, { ...options, duration, naturalFrequency, dampingRatio }, state0, rhs, effortsAt, torque, frictionNow, desired, (segment) => (currentSegment = segment), () => failure);
 }
 
 /** The integration loop and recording shared by every controller (one ODEX run per smooth segment). */
@@ -242,7 +256,6 @@ function integrate(
 ): SimulationResult {
   const n = architecture.dof;
   const N = chain.size;
-  const P = chain.platformIndex;
   const duration = options.duration;
   const trajectory = options.trajectory;
   const outputInterval = options.outputInterval ?? DEFAULT_OUTPUT_INTERVAL;
@@ -253,40 +266,7 @@ function integrate(
   let nextSample = 0;
   let tracking = false;
 
-  const record = (k: number, t: number, y: ArrayLike<number>): void => {
-    const s = series;
-    s.time[k] = t;
-    effortsAt(t, y);
-    for (let i = 0; i < n; i++) {
-      s.positions[i]![k] = y[2 * i]!;
-      s.speeds[i]![k] = y[N + 2 * i]!;
-      s.torques[i]![k] = torque[i]!;
-      s.frictions[i]![k] = frictionNow[i]!;
-    }
-    s.x[k] = y[P]!; s.y[k] = y[P + 1]!;
-    if (s.phi) s.phi[k] = y[P + 2]!;
-    if (desired && tracking && failed() === null) {
-      const want = desired.dynamics;
-      for (let i = 0; i < n; i++) {
-        const raw = want.pose.q[i]! - y[2 * i]!;
-        const e = architecture.actuators[i] === 'revolute' ? wrapAngle(raw) : raw;
-        s.desiredPositions[i]![k] = y[2 * i]! + e;
-        s.desiredSpeeds[i]![k] = want.qd[i]!;
-        s.errors[i]![k] = e;
-      }
-      s.desiredX[k] = desired.state.x; s.desiredY[k] = desired.state.y;
-      if (s.desiredPhi) s.desiredPhi[k] = desired.state.phi ?? 0;
-      s.endPointError[k] = Math.hypot(desired.state.x - y[P]!, desired.state.y - y[P + 1]!);
-    } else {
-      for (let i = 0; i < n; i++) s.desiredPositions[i]![k] = s.desiredSpeeds[i]![k] = s.errors[i]![k] = Number.NaN;
-      s.desiredX[k] = s.desiredY[k] = s.endPointError[k] = Number.NaN;
-      if (s.desiredPhi) s.desiredPhi[k] = Number.NaN;
-    }
-    s.closure[k] = chain.closureError(y);
-    s.kinetic[k] = chain.kineticEnergy(y);
-    s.potential[k] = chain.potentialEnergy(y);
-    s.work[k] = y[2 * N]!;
-  };
+  const record = (k: number, t: number, y: ArrayLike<number>): void => recordSample(series, k, t, y, { architecture, chain, effortsAt, torque, frictionNow, desired: tracking ? desired : null, failed });
 
   const initialEnergy = chain.kineticEnergy(state0) + chain.potentialEnergy(state0);
   let energyResidual = 0;
@@ -355,6 +335,58 @@ function integrate(
     tracking: trajectory !== null,
   });
   return { summary, series, finalState: Float64Array.from(y.slice(0, 2 * N)) };
+}
+
+/** What `recordSample` reads besides the state. */
+interface RecordContext {
+  readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
+  readonly chain: LegChain;
+  readonly effortsAt: (t: number, y: ArrayLike<number>) => boolean;
+  readonly torque: Float64Array;
+  readonly frictionNow: Float64Array;
+  /** The desired motion while tracking, else null. */
+  readonly desired: DesiredJointMotion | null;
+  readonly failed: () => string | null;
+}
+
+/** Writes sample k (time t, state y) of every series. */
+function recordSample(series: SimulationSeries, k: number, t: number, y: ArrayLike<number>, c: RecordContext): void {
+  const { architecture, chain, effortsAt, torque, frictionNow, desired, failed } = c;
+  const n = architecture.dof;
+  const N = chain.size;
+  const P = chain.platformIndex;
+  const s = series;
+  s.time[k] = t;
+  effortsAt(t, y);
+  for (let i = 0; i < n; i++) {
+    s.positions[i]![k] = y[2 * i]!;
+    s.speeds[i]![k] = y[N + 2 * i]!;
+    s.torques[i]![k] = torque[i]!;
+    s.frictions[i]![k] = frictionNow[i]!;
+  }
+  s.x[k] = y[P]!; s.y[k] = y[P + 1]!;
+  if (s.phi) s.phi[k] = y[P + 2]!;
+  if (desired && failed() === null) {
+    const want = desired.dynamics;
+    for (let i = 0; i < n; i++) {
+      const raw = want.pose.q[i]! - y[2 * i]!;
+      const e = architecture.actuators[i] === 'revolute' ? wrapAngle(raw) : raw;
+      s.desiredPositions[i]![k] = y[2 * i]! + e;
+      s.desiredSpeeds[i]![k] = want.qd[i]!;
+      s.errors[i]![k] = e;
+    }
+    s.desiredX[k] = desired.state.x; s.desiredY[k] = desired.state.y;
+    if (s.desiredPhi) s.desiredPhi[k] = desired.state.phi ?? 0;
+    s.endPointError[k] = Math.hypot(desired.state.x - y[P]!, desired.state.y - y[P + 1]!);
+  } else {
+    for (let i = 0; i < n; i++) s.desiredPositions[i]![k] = s.desiredSpeeds[i]![k] = s.errors[i]![k] = Number.NaN;
+    s.desiredX[k] = s.desiredY[k] = s.endPointError[k] = Number.NaN;
+    if (s.desiredPhi) s.desiredPhi[k] = Number.NaN;
+  }
+  s.closure[k] = chain.closureError(y);
+  s.kinetic[k] = chain.kineticEnergy(y);
+  s.potential[k] = chain.potentialEnergy(y);
+  s.work[k] = y[2 * N]!;
 }
 
 /** Friction entries for the plant (re-exported type for callers). */

@@ -10,8 +10,8 @@
 import { spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { join, relative } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 
 const REPO = fileURLToPath(new URL('../../', import.meta.url));
@@ -87,6 +87,25 @@ describe('loopsmith installed from its packed tarball', { timeout: COMMAND_TIMEO
     expect(version).toBe(REPO_VERSION);
     expect(version).not.toBe('1.0.0');
     expect(repository.loopsmith('--version').stdout.trim()).toBe(version);
+  });
+
+  it('every file a compiled module locates from its own place (new URL(..., import.meta.url), packageFile) is in the package', () => {
+    const root = join(project, 'node_modules', 'loopsmith');
+    const located: string[] = [];
+    const visit = (dir: string): void => {
+      for (const entry of readdirSync(dir, { withFileTypes: true })) {
+        const path = join(dir, entry.name);
+        if (entry.isDirectory()) visit(path);
+        else if (entry.name.endsWith('.js')) {
+          const text = readFileSync(path, 'utf8');
+          for (const m of text.matchAll(/new URL\((['"])([^'"]+)\1, import\.meta\.url\)/g)) located.push(fileURLToPath(new URL(m[2]!, pathToFileURL(path))));
+          for (const m of text.matchAll(/packageFile\((['"])([^'"]+)\1\)/g)) located.push(join(root, m[2]!));
+        }
+      }
+    };
+    visit(join(root, 'dist'));
+    expect(located.length).toBeGreaterThan(3);
+    expect(located.filter((file) => !existsSync(file)).map((file) => relative(root, file))).toEqual([]);
   });
 
   it('new writes a template pointing at the installed study schema; check and evaluate accept it', () => {

@@ -3,13 +3,12 @@
  * states its arguments as rules; a wrong argument ends in one ApiArgumentError naming the function,
  * the argument (and option field), what was expected and what was given.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import type { LoadedStudy } from '../study/parse.js';
 import type { Study } from '../study/types.js';
 
-/** A programmatic call with an argument of the wrong kind or shape. */
-export class ApiArgumentError extends Error {
-  override readonly name = 'ApiArgumentError';
-}
+/** A programmatic call with an argument of the wrong kind or shape (a user error, like a bad study file). */
+export class ApiArgumentError extends LoopsmithUserError {}
 
 /** Where below the argument a value failed, what it should have been, and an optional hint. */
 export interface ArgumentProblem {

@@ -27,6 +27,7 @@ import {
   writeReport,
 } from '../../src/index.js';
 import { readFileSync } from 'node:fs';
+import { LoopsmithUserError } from '../../src/core/errors.js';
 
 const loaded = loadStudyFile(demoStudyPath('parcel-sorter'));
 const scratch = mkdtempSync(join(tmpdir(), 'loopsmith-api-arguments-'));
@@ -38,6 +39,7 @@ function argumentError(call: () => unknown): string {
     call();
   } catch (error) {
     expect(error).toBeInstanceOf(ApiArgumentError);
+    expect(error).toBeInstanceOf(LoopsmithUserError);
     expect((error as Error).name).toBe('ApiArgumentError');
     return (error as Error).message;
   }

@@ -7,7 +7,7 @@
  * uniform bars plus the elbow hub as a point mass at the crank end, rods are uniform bars, the end
  * hub and the payload are one point mass at the end point P. SI units throughout (m, kg, rad, N·m).
  */
-import { readFileSync } from 'node:fs';
+import { LoopsmithUserError } from '../core/errors.js';
 import {
   FiveBarPose,
   PoseStatus,
@@ -31,7 +31,7 @@ import { METRICS } from '../mechanics/metrics.js';
 import { FIVE_BAR_PARAMETERS, type DriveSpec, type FiveBarParameter, type Study } from '../study/types.js';
 
 /** A problem with an export request that the user can fix (unknown ids, empty selection, ...). */
-export class ExportError extends Error {
+export class ExportError extends LoopsmithUserError {
   override readonly name = 'ExportError';
 }
 
@@ -455,16 +455,8 @@ export function candidateSheet(study: Study, record: CandidateRecord, provenance
   };
 }
 
-let cachedVersion: string | undefined;
-/** The loopsmith version from package.json (two folders up from src/export and dist/export). */
-export function loopsmithVersion(): string {
-  if (cachedVersion === undefined) {
-    const text = readFileSync(new URL('../../package.json', import.meta.url), 'utf8');
-    const parsed = JSON.parse(text) as { version?: unknown };
-    cachedVersion = typeof parsed.version === 'string' ? parsed.version : 'unknown';
-  }
-  return cachedVersion;
-}
+/** The loopsmith version, from the package's own package.json. */
+export { loopsmithVersion } from '../public/packageFiles.js';
 
 /** JSON text of a sheet: infinite numbers written as the strings "Infinity" / "-Infinity". */
 export function sheetToJson(sheet: CandidateSheet | object): string {

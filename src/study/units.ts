@@ -45,10 +45,11 @@
 
 export type { QuantityKind } from '../core/quantities.js';
 export { QUANTITY_KINDS } from '../core/quantities.js';
+import { LoopsmithUserError } from '../core/errors.js';
 import { QUANTITY_KINDS, type QuantityKind } from '../core/quantities.js';
 
 /** Thrown for any quantity that cannot be read; the message names the field. */
-export class UnitError extends Error {
+export class UnitError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'UnitError';

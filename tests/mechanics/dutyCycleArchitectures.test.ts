@@ -9,6 +9,7 @@ import { fiveBar } from '../../src/architectures/fivebar.js';
 import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
+import { rpr3 } from '../../src/architectures/rpr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ArchitectureModelBase, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import { CycleDynamics, CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, type CyclePath, type EndPointState } from '../../src/mechanics/dutyCycle.js';
@@ -17,7 +18,7 @@ import { Evaluator, constraintDefinitions } from '../../src/mechanics/evaluate.j
 import { FiveBarPose, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
 import { metricIndex, metricKind } from '../../src/mechanics/metrics.js';
 import { loadStudyFile, parseStudyText, StudyError } from '../../src/study/parse.js';
-import { findPoses, PRR2_INPUT, PRR3_INPUT, RRR3_INPUT } from '../architectures/models.js';
+import { findPoses, PRR2_INPUT, PRR3_INPUT, RPR3_INPUT, RRR3_INPUT } from '../architectures/models.js';
 
 const generic = (a: unknown): PlanarArchitecture<ArchitectureModelBase> => a as PlanarArchitecture<ArchitectureModelBase>;
 
@@ -79,6 +80,8 @@ const CASES: readonly Case[] = [
   legCase('2-PRR', prr2, PRR2_INPUT, { x: 0, y: 0.05, half: 0.3, phiHalf: 0 }),
   legCase('3-RRR', rrr3, RRR3_INPUT, { x: 0, y: 0, half: 0.25, phiHalf: 0.6 }),
   legCase('3-PRR', prr3, PRR3_INPUT, { x: 0, y: 0, half: 0.25, phiHalf: 0.6 }),
+  // The telescoping-strut leg: nothing in dutyCycle.ts knows it; the interface is enough.
+  legCase('3-RPR', rpr3, RPR3_INPUT, { x: 0, y: 0, half: 0.2, phiHalf: 0.6 }),
 ];
 
 function newState(): EndPointState {

@@ -3,7 +3,8 @@
  * All quantities are SI (m, kg, s, rad, N, N·m) unless a name says otherwise.
  */
 // Study files
-export { loadStudyFile, parseStudyText, StudyError, evaluationSettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
+export { loadStudyFile, parseStudyText, StudyError, evaluationSettingsHash, studySettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
+export { programVersion } from './version.js';
 export type * from './study/types.js';
 export { parseQuantity, formatQuantity, UnitError, type QuantityKind } from './study/units.js';
 export { STUDY_TEMPLATE } from './study/template.js';

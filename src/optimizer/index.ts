@@ -7,3 +7,4 @@ export * from './nsga2.js';
 export { ParetoArchive } from './archive.js';
 export * from './hypervolume.js';
 export * from './testProblems.js';
+export * from './islands.js';

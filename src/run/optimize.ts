@@ -105,7 +105,7 @@ function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
  * the last. The values shown while the run goes are provisional (frame of the first generation with
  * a spread in every objective).
  */
-function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
+export function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
   const last = store.lastGeneration(runId);
   if (last === undefined) return;
   const fronts: number[][][] = [];

@@ -19,6 +19,7 @@ import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
+import { registerScaleCommands } from './scaleCommands.js';
 
 /** An error whose message is for the user as it stands. */
 export class UserError extends Error {
@@ -29,7 +30,7 @@ export class UserError extends Error {
 }
 
 /** Errors whose message is meant for the user (bad input, missing files, refused queries). */
-const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError', 'SimulationError']);
+const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError', 'SimulationError', 'ScaleError']);
 
 export function isUserError(error: unknown): error is Error {
   return (
@@ -253,6 +254,7 @@ export function buildCli(argv: readonly string[]): Argv {
   cli = registerReportCommands(cli);
   cli = registerExportCommands(cli);
   cli = registerSimulateCommands(cli);
+  cli = registerScaleCommands(cli);
   return cli
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()

@@ -281,7 +281,7 @@ function mergeIslands(plan: Plan, sp: StudyProblem, store: Store, studyId: numbe
     }
   }
   recordFinalHypervolumes(store, runId, sp);
-  store.markRun(runId, 'finished', `${i.islands} islands, ${i.epochs} epochs, merged from ${plan.shards} shards per epoch`);
+  store.markRun(runId, 'finished', `${i.islands} islands, ${i.epochs} epochs`);
   return { runId, designs, newEvaluations: added };
 }
 

@@ -7,7 +7,11 @@
 import { copyFileSync, existsSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { planStudy, readPlan, ScaleError } from '../../src/scale/plan.js';
+import { rescoreRun } from '../../src/run/rescore.js';
+import { mergePlan } from '../../src/scale/merge.js';
+import { makePlan, planStudy, readPlan, ScaleError } from '../../src/scale/plan.js';
+import { runShards } from '../../src/scale/shard.js';
+import { loadStudyFile } from '../../src/study/parse.js';
 import { assertBuilt, dumpDatabase, makeTemporaryDirectory, readDatabase, removeTemporaryDirectories, runCli, SMALL_STUDY } from '../fixtures/harness.js';
 
 beforeAll(assertBuilt);
@@ -26,7 +30,7 @@ describe('plan, shard and merge on one machine', () => {
     const made = await runCli(['plan', SMALL_STUDY, '--sweep', '30', '--shards', '3', '--out', plan, '--db', merged]);
     expect(made.code, made.stderr).toBe(0);
     expect(made.stdout).toContain(`bash ${join(plan, 'submit.sh')}`);
-    for (const index of ['0', '2']) expect((await runCli(['shard', plan, '--index', index, '--scratch', dir])).code).toBe(0);
+    for (const index of [0, 2]) await runShards(plan, { index, scratch: dir });
 
     // Leftovers of a killed task: never read, removed once the merge goes ahead.
     const shards = join(plan, 'shards');
@@ -40,7 +44,7 @@ describe('plan, shard and merge on one machine', () => {
 
     const again = await runCli(['shard', plan, '--index', '0']);
     expect(again.stdout).toContain('shard 0: already complete');
-    expect((await runCli(['shard', plan, '--index', '1', '--scratch', dir])).code).toBe(0);
+    await runShards(plan, { index: 1, scratch: dir });
     const done = await runCli(['merge', plan]);
     expect(done.code, done.stderr).toBe(0);
     // shard 1 itself replaced its own .part and .running; the stale -wal and -shm stay until the merge.
@@ -55,22 +59,21 @@ describe('plan, shard and merge on one machine', () => {
     const dir = makeTemporaryDirectory('scale-refuse');
     const a = join(dir, 'a');
     const b = join(dir, 'b');
-    expect((await runCli(['plan', SMALL_STUDY, '--sweep', '4', '--shards', '2', '--out', a, '--db', join(dir, 'a.db')])).code).toBe(0);
-    expect((await runCli(['plan', SMALL_STUDY, '--sweep', '4', '--shards', '2', '--out', b, '--db', join(dir, 'b.db'), '--seed', '99'])).code).toBe(0);
-    expect((await runCli(['shard', a, '--all'])).code).toBe(0);
-    expect((await runCli(['shard', b, '--index', '0'])).code).toBe(0);
+    const loaded = loadStudyFile(SMALL_STUDY);
+    makePlan(loaded, { outDir: a, shards: 2, db: join(dir, 'a.db'), sweep: { samples: 4, method: 'lhs' } });
+    makePlan(loaded, { outDir: b, shards: 2, db: join(dir, 'b.db'), seed: 99, sweep: { samples: 4, method: 'lhs' } });
+    await runShards(a, { all: true });
+    await runShards(b, { index: 0 });
     copyFileSync(join(a, 'shards', 'shard-0001.db'), join(b, 'shards', 'shard-0001.db'));
-    const foreign = await runCli(['merge', b]);
-    expect(foreign.code).toBe(1);
-    expect(foreign.stderr).toMatch(/shard-0001\.db: was made with plan = ".*", the plan needs/);
+    await expect(mergePlan(b)).rejects.toThrow(/shard-0001\.db: was made with plan = ".*", the plan needs/);
 
-    const other = await runCli(['plan', SMALL_STUDY, '--sweep', '8', '--shards', '2', '--out', a]);
-    expect(other.code).toBe(1);
-    expect(other.stderr).toContain('already holds another plan');
+    expect(() => makePlan(loaded, { outDir: a, shards: 2, db: join(dir, 'a.db'), sweep: { samples: 8, method: 'lhs' } })).toThrow(/already holds another plan/);
     const wrongIndex = await runCli(['shard', a, '--index', '5']);
     expect([wrongIndex.code, wrongIndex.stderr]).toEqual([1, 'loopsmith: --index 5: the plan has shards 0 to 1\n']);
-    const noIndex = await runCli(['shard', a]);
-    expect(noIndex.stderr).toContain('SLURM_ARRAY_TASK_ID');
+    const saved = process.env['SLURM_ARRAY_TASK_ID'];
+    delete process.env['SLURM_ARRAY_TASK_ID'];
+    await expect(runShards(a)).rejects.toThrow(/SLURM_ARRAY_TASK_ID/);
+    if (saved !== undefined) process.env['SLURM_ARRAY_TASK_ID'] = saved;
 
     const planFile = join(a, 'plan.json');
     const edited = JSON.parse(readFileSync(planFile, 'utf8')) as Record<string, unknown>;
@@ -91,10 +94,8 @@ describe('plan, shard and merge on one machine', () => {
       const db = join(dir, `islands-${shards}.db`);
       const made = await runCli(['plan', SMALL_STUDY, '--islands', '3', '--epochs', '2', '--population', '6', '--generations', '4', '--migrants', '2', '--shards', shards, '--out', plan, '--db', db]);
       expect(made.code, made.stderr).toBe(0);
-      const run = await runCli(['shard', plan, '--all']);
-      expect(run.code, run.stderr).toBe(0);
-      const merge = await runCli(['merge', plan]);
-      expect(merge.code, merge.stderr).toBe(0);
+      await runShards(plan, { all: true, workers: 1 });
+      await mergePlan(plan);
       dumps.push(dumpDatabase(db));
     }
     expect(dumps[1]).toEqual(dumps[0]);
@@ -106,4 +107,26 @@ describe('plan, shard and merge on one machine', () => {
     const front = await runCli(['front', join(dir, 'islands-1.db'), '--format', 'json']);
     expect(front.code, front.stderr).toBe(0);
   }, 300_000);
+
+  it('a rescore merged from shards ranks the designs as loopsmith rescore does', async () => {
+    const dir = makeTemporaryDirectory('scale-rescore');
+    const source = join(dir, 'source.db');
+    const single = join(dir, 'single.db');
+    await runShards((await makeSweepPlan(dir, source)).dir, { all: true, workers: 1 });
+    await mergePlan(join(dir, 'sweep-plan'));
+    copyFileSync(source, single);
+    const loaded = loadStudyFile(SMALL_STUDY);
+    const { dir: plan } = makePlan(loaded, { outDir: join(dir, 'rescore-plan'), shards: 2, db: source, rescore: { database: source } });
+    await runShards(plan, { all: true, workers: 1 });
+    const merged = await mergePlan(plan);
+    await rescoreRun(loaded, { dbPath: single, runId: 1, workers: 1 });
+    const ranks = (db: string): unknown[] => readDatabase(db, (d) => d.prepare('SELECT e.eval_key, g.rank, g.position FROM generation_members g JOIN evaluations e ON e.id = g.evaluation_id WHERE g.run_id = 2 ORDER BY g.position').all());
+    expect(merged.runId).toBe(2);
+    expect(ranks(source)).toEqual(ranks(single));
+    expect(readDatabase(source, (d) => d.prepare('SELECT parent_run_id FROM runs WHERE id = 2').get())).toEqual({ parent_run_id: 1 });
+  }, 180_000);
 });
+
+function makeSweepPlan(dir: string, db: string): ReturnType<typeof makePlan> {
+  return makePlan(loadStudyFile(SMALL_STUDY), { outDir: join(dir, 'sweep-plan'), shards: 2, db, sweep: { samples: 12, method: 'lhs' } });
+}

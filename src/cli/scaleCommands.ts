@@ -113,6 +113,10 @@ export function registerScaleCommands(cli: Argv): Argv {
           .example('loopsmith merge /shared/atlas --db results/atlas.db', 'merge by hand'),
       async (args) => {
         const result = await mergePlan(args.dir, { ...(args.db !== undefined ? { db: args.db } : {}), ...(args.scratch !== undefined ? { scratch: args.scratch } : {}) });
+        if (result.alreadyMerged) {
+          out(`already merged into ${result.db} (run ${result.runId}); nothing written`);
+          return;
+        }
         if (result.removedLeftovers.length > 0) out(`removed ${result.removedLeftovers.length} leftover file(s) of interrupted tasks`);
         out(`merged into ${result.db}: run ${result.runId}, ${result.designs} designs, ${result.newEvaluations} new evaluations`);
       },

@@ -9,7 +9,7 @@
  * `*.running`) are never read, and are removed once the merge goes ahead. Shard files are copied to
  * local scratch before they are opened: SQLite must not open files on a shared file system.
  */
-import { copyFileSync, existsSync, mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { copyFileSync, existsSync, mkdtempSync, readdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { epochEndGeneration, resolveIslandSettings } from '../optimizer/islands.js';
@@ -36,6 +36,39 @@ export interface MergeResult {
   readonly designs: number;
   readonly newEvaluations: number;
   readonly removedLeftovers: readonly string[];
+  /** True when this plan had already been merged into this store (nothing written again). */
+  readonly alreadyMerged: boolean;
+}
+
+/** DIR/merged.json: the stores this plan was merged into, so that a repeated (or requeued) merge job writes nothing twice. */
+interface MergeRecord {
+  readonly db: string;
+  readonly runId: number;
+  readonly designs: number;
+}
+
+function mergeRecords(dir: string): MergeRecord[] {
+  const file = join(dir, 'merged.json');
+  return existsSync(file) ? (JSON.parse(readFileSync(file, 'utf8')) as MergeRecord[]) : [];
+}
+
+function previousMerge(dir: string, db: string): MergeRecord | undefined {
+  const record = mergeRecords(dir).find((r) => r.db === db);
+  if (!record || !existsSync(db)) return undefined;
+  const store = Store.open(db);
+  try {
+    return store.getRun(record.runId)?.status === 'finished' ? record : undefined;
+  } finally {
+    store.close();
+  }
+}
+
+function recordMerge(dir: string, db: string, runId: number, designs: number): void {
+  const records = mergeRecords(dir).filter((r) => r.db !== db);
+  records.push({ db, runId, designs });
+  const file = join(dir, 'merged.json');
+  writeFileSync(`${file}.part`, JSON.stringify(records, null, 1) + '\n');
+  renameSync(`${file}.part`, file);
 }
 
 const LEFTOVER = /(\.part|-wal|-shm|\.running)$/;
@@ -113,10 +146,12 @@ export async function mergePlan(dirIn: string, options: MergeOptions = {}): Prom
   const dir = resolve(dirIn);
   const plan = readPlan(dir);
   const loaded = planStudy(plan);
+  const db = resolve(options.db ?? plan.db);
+  const done = previousMerge(dir, db);
+  if (done) return { db, runId: done.runId, designs: done.designs, newEvaluations: 0, removedLeftovers: [], alreadyMerged: true };
   const missing = missingShards(dir, plan);
   if (missing.length > 0) throw new ScaleError(gapMessage(dir, plan, missing));
   const removedLeftovers = removeLeftovers(join(dir, 'shards'));
-  const db = resolve(options.db ?? plan.db);
   const scratchRoot = options.scratch ?? process.env['TMPDIR'] ?? tmpdir();
   const scratch = mkdtempSync(join(scratchRoot, `loopsmith-merge-${plan.id.slice(0, 8)}-`));
   // A new store is written on scratch and moved in whole; an existing one is extended in place.
@@ -124,7 +159,7 @@ export async function mergePlan(dirIn: string, options: MergeOptions = {}): Prom
   const target = fresh ? join(scratch, 'merged.db') : db;
   try {
     const store = Store.open(target);
-    let result: Omit<MergeResult, 'db' | 'removedLeftovers'>;
+    let result: Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'>;
     try {
       const sp = studyProblem(loaded.study);
       const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
@@ -137,7 +172,8 @@ export async function mergePlan(dirIn: string, options: MergeOptions = {}): Prom
       store.close();
     }
     if (fresh) moveInto(target, db);
-    return { db, removedLeftovers, ...result };
+    recordMerge(dir, db, result.runId, result.designs);
+    return { db, removedLeftovers, alreadyMerged: false, ...result };
   } finally {
     rmSync(scratch, { recursive: true, force: true });
   }
@@ -167,7 +203,7 @@ function writeChunk(store: Store, sp: StudyProblem, runId: number, generation: n
   return fresh.length;
 }
 
-function mergeSweep(plan: Plan, sp: StudyProblem, store: Store, studyId: number, shards: OpenShard[]): Omit<MergeResult, 'db' | 'removedLeftovers'> {
+function mergeSweep(plan: Plan, sp: StudyProblem, store: Store, studyId: number, shards: OpenShard[]): Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'> {
   const sweep = plan.sweep!;
   const runId = store.createRun({ studyId, kind: 'sweep', seed: plan.seed, settings: { method: sweep.method, samples: sweep.samples, designs: sweep.designs }, workers: plan.slurm.cpusPerTask });
   let chunk: NewEvaluation[] = [];
@@ -195,7 +231,7 @@ function mergeSweep(plan: Plan, sp: StudyProblem, store: Store, studyId: number,
 }
 
 /** As `loopsmith rescore` (full evaluation): one generation, rank 0 = feasible front, 1 = other feasible, 2 = the rest. */
-function mergeRescore(plan: Plan, sp: StudyProblem, store: Store, studyId: number, shards: OpenShard[], db: string): Omit<MergeResult, 'db' | 'removedLeftovers'> {
+function mergeRescore(plan: Plan, sp: StudyProblem, store: Store, studyId: number, shards: OpenShard[], db: string): Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'> {
   const records: NewEvaluation[] = [];
   try {
     for (const shard of shards) for (const r of memberRecords(shard, shard.runs[0]!.run.id)) records.push(r);
@@ -220,7 +256,7 @@ function mergeRescore(plan: Plan, sp: StudyProblem, store: Store, studyId: numbe
  * population order; rank and crowding as on the island), and the designs the islands evaluated in
  * that generation, island by island in the order they were told.
  */
-function mergeIslands(plan: Plan, sp: StudyProblem, store: Store, studyId: number, openEpoch: (epoch: number) => OpenShard[]): Omit<MergeResult, 'db' | 'removedLeftovers'> {
+function mergeIslands(plan: Plan, sp: StudyProblem, store: Store, studyId: number, openEpoch: (epoch: number) => OpenShard[]): Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'> {
   const settings = resolveIslandSettings(islandSettings(plan));
   const i = plan.islands!;
   const runId = store.createRun({

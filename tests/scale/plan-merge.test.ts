@@ -52,6 +52,9 @@ describe('plan, shard and merge on one machine', () => {
     expect(readdirSync(shards).sort()).toEqual(['shard-0000.db', 'shard-0001.db', 'shard-0002.db']);
     expect(dumpDatabase(merged)).toEqual(dumpDatabase(reference));
     expect(workersOf(merged)).toEqual(workersOf(reference));
+    // A repeated (or requeued) merge job writes nothing twice.
+    expect((await mergePlan(plan, { scratch: dir })).alreadyMerged).toBe(true);
+    expect(dumpDatabase(merged)).toEqual(dumpDatabase(reference));
     expect(readdirSync(dir).filter((n) => n.startsWith('loopsmith-'))).toEqual([]); // scratch cleaned up
   }, 180_000);
 

@@ -4,6 +4,7 @@
  * immutable model: `buildFiveBarModel` for the five-bar's own engine (the pipeline's five-bar path),
  * `buildArchitectureModel` for any architecture through src/architectures.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import type { FiveBarModel } from './fivebar.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureModelBase, ArchitectureName, DriveAtJoint, LinkSection, ModelInput, PlanarArchitecture } from '../architectures/types.js';
@@ -131,7 +132,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
-export class DesignError extends Error {
+export class DesignError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'DesignError';

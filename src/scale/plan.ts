@@ -15,6 +15,7 @@ import { createHash } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
 import { isAbsolute, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { LoopsmithUserError } from '../core/errors.js';
 import { designFromValues } from '../mechanics/designSpace.js';
 import { designLayout } from '../optimizer/operators.js';
 import { resolveIslandSettings } from '../optimizer/islands.js';
@@ -25,9 +26,8 @@ import { parseStudyText, type LoadedStudy } from '../study/parse.js';
 import { programVersion } from '../version.js';
 import { batchScripts } from './slurm.js';
 
-export class ScaleError extends Error {
-  override readonly name = 'ScaleError';
-}
+/** A user error of plan, shard or merge (bad options, an incomplete or foreign plan). */
+export class ScaleError extends LoopsmithUserError {}
 
 export type PlanKind = 'sweep' | 'rescore' | 'islands';
 

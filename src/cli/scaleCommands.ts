@@ -42,12 +42,10 @@ export function registerScaleCommands(cli: Argv): Argv {
           .option('cpus-per-task', { type: 'number', default: 1, coerce: wholeNumber('cpus-per-task', 1), describe: 'CPUs per array task = evaluation workers per shard' })
           .option('time', { type: 'string', describe: 'time limit per task, e.g. 02:00:00' })
           .option('scratch', { type: 'string', describe: 'node-local scratch folder for shards (default: $TMPDIR on the node)' })
-          .check((a) => {
-            const count = [a.sweep !== undefined, a.rescore !== undefined, a.islands !== undefined].filter(Boolean).length;
-            if (count !== 1) throw new Error('give exactly one of --sweep N, --rescore DB, --islands K (with --epochs E)');
-            if ((a.islands === undefined) !== (a.epochs === undefined)) throw new Error('--islands and --epochs go together');
-            return true;
-          })
+          .conflicts('sweep', ['rescore', 'islands'])
+          .conflicts('rescore', 'islands')
+          .implies('islands', 'epochs')
+          .implies('epochs', 'islands')
           .example('loopsmith plan study.yaml --sweep 1000000 --shards 200 --out /shared/atlas --cpus-per-task 8 --partition compute', 'a design atlas as 200 array tasks')
           .example('loopsmith plan study.yaml --islands 8 --epochs 5 --shards 8 --out /shared/islands', 'island NSGA-II, one array of 8 tasks per epoch')
           .example('bash /shared/atlas/submit.sh', 'then submit the arrays and the merge job'),

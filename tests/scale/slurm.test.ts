@@ -3,7 +3,7 @@
  * with scripts/slurm-local.sh. Without a reachable cluster these tests are skipped with the reason
  * printed; with LOOPSMITH_REQUIRE_SLURM=1 (set by .ci/run) a missing cluster fails instead.
  *
- * The cluster has one node with 2 CPUs; every array task asks for 1 CPU.
+ * The cluster has one node with 2 CPUs; every array task asks for 1 CPU, so two run at a time.
  */
 import { spawnSync } from 'node:child_process';
 import { existsSync, readFileSync, readdirSync } from 'node:fs';
@@ -93,12 +93,12 @@ describe.runIf(available)('plan, job arrays and merge on Slurm', () => {
   it('plan → array → merge gives the store of loopsmith sweep on one machine', async () => {
     const dir = join(work, 'sweep-plan');
     const db = join(work, 'sweep-merged.db');
-    const made = await runCli(['plan', SMALL_STUDY, '--sweep', '32', '--shards', '4', '--out', dir, '--db', db, '--scratch', work]);
+    const made = await runCli(['plan', SMALL_STUDY, '--sweep', '32', '--shards', '2', '--out', dir, '--db', db, '--scratch', work]);
     expect(made.code, made.stderr).toBe(0);
     const jobs = submit(dir);
     const states = await waitForJob(jobs.merge, `merge job ${jobs.merge}`);
     expect(states, logsOf(dir)).toEqual(['COMPLETED']);
-    expect(jobStates(jobs.arrays[0]!)).toEqual(['COMPLETED', 'COMPLETED', 'COMPLETED', 'COMPLETED']);
+    expect(jobStates(jobs.arrays[0]!)).toEqual(['COMPLETED', 'COMPLETED']);
     expect(dumpDatabase(db)).toEqual(dumpDatabase(reference));
   }, 300_000);
 
@@ -147,7 +147,7 @@ describe.runIf(available)('plan, job arrays and merge on Slurm', () => {
   }, 480_000);
 
   it('islands through Slurm (one array per epoch) and with --all give identical stores', async () => {
-    const islandArgs = ['--islands', '3', '--epochs', '2', '--population', '6', '--generations', '4', '--migrants', '2', '--shards', '3'];
+    const islandArgs = ['--islands', '3', '--epochs', '2', '--population', '6', '--generations', '4', '--migrants', '2', '--shards', '2'];
     const slurmDir = join(work, 'islands-slurm');
     const slurmDb = join(work, 'islands-slurm.db');
     const made = await runCli(['plan', SMALL_STUDY, ...islandArgs, '--out', slurmDir, '--db', slurmDb, '--scratch', work]);

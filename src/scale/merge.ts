@@ -118,7 +118,7 @@ interface OpenShard {
 function openShard(dir: string, plan: Plan, epoch: number | null, index: number, scratch: string): OpenShard {
   const file = join(shardFolder(dir, plan, epoch), `${shardName(index)}.db`);
   const copy = join(scratch, `${epoch ?? 'x'}-${shardName(index)}.db`);
-  copyFileSync(file, copy);
+  if (!existsSync(copy)) copyFileSync(file, copy);
   const store = Store.open(copy);
   const runs = store.listRuns().map((run) => ({ run, settings: JSON.parse(run.settingsJson) as Record<string, unknown> }));
   const expected = shardProvenance(plan, index, epoch);
@@ -165,9 +165,14 @@ export async function mergePlan(dirIn: string, options: MergeOptions = {}): Prom
       const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
       store.ensureColumns(sp.columns);
       const shards = (epoch: number | null): OpenShard[] => Array.from({ length: plan.shards }, (_, i) => openShard(dir, plan, epoch, i, scratch));
+      const one = (i: number): OpenShard => openShard(dir, plan, null, i, scratch);
+      // Every shard is checked before anything is written; then they are read one at a time.
+      for (const epoch of plan.kind === 'islands' ? Array.from({ length: plan.islands!.epochs }, (_, e) => e) : [null]) {
+        for (let i = 0; i < plan.shards; i++) openShard(dir, plan, epoch, i, scratch).store.close();
+      }
       if (plan.kind === 'islands') result = mergeIslands(plan, sp, store, studyId, shards);
-      else if (plan.kind === 'sweep') result = mergeSweep(plan, sp, store, studyId, shards(null));
-      else result = mergeRescore(plan, sp, store, studyId, shards(null), db);
+      else if (plan.kind === 'sweep') result = mergeSweep(plan, sp, store, studyId, one);
+      else result = mergeRescore(plan, sp, store, studyId, one, db);
     } finally {
       store.close();
     }
@@ -203,15 +208,16 @@ function writeChunk(store: Store, sp: StudyProblem, runId: number, generation: n
   return fresh.length;
 }
 
-function mergeSweep(plan: Plan, sp: StudyProblem, store: Store, studyId: number, shards: OpenShard[]): Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'> {
+function mergeSweep(plan: Plan, sp: StudyProblem, store: Store, studyId: number, open: (index: number) => OpenShard): Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'> {
   const sweep = plan.sweep!;
   const runId = store.createRun({ studyId, kind: 'sweep', seed: plan.seed, settings: { method: sweep.method, samples: sweep.samples, designs: sweep.designs }, workers: plan.slurm.cpusPerTask });
   let chunk: NewEvaluation[] = [];
   let generation = 0;
   let designs = 0;
   let added = 0;
-  try {
-    for (const shard of shards) {
+  for (let index = 0; index < plan.shards; index++) {
+    const shard = open(index);
+    try {
       for (const record of memberRecords(shard, shard.runs[0]!.run.id)) {
         chunk.push(record);
         designs++;
@@ -220,23 +226,26 @@ function mergeSweep(plan: Plan, sp: StudyProblem, store: Store, studyId: number,
           chunk = [];
         }
       }
+    } finally {
+      shard.store.close();
     }
-    if (chunk.length > 0) added += writeChunk(store, sp, runId, generation++, chunk);
-  } finally {
-    for (const shard of shards) shard.store.close();
   }
+  if (chunk.length > 0) added += writeChunk(store, sp, runId, generation++, chunk);
   if (designs !== sweep.designs) throw new ScaleError(`the shards hold ${designs} designs, the plan ${sweep.designs}`);
   store.markRun(runId, 'finished');
   return { runId, designs, newEvaluations: added };
 }
 
 /** As `loopsmith rescore` (full evaluation): one generation, rank 0 = feasible front, 1 = other feasible, 2 = the rest. */
-function mergeRescore(plan: Plan, sp: StudyProblem, store: Store, studyId: number, shards: OpenShard[], db: string): Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'> {
+function mergeRescore(plan: Plan, sp: StudyProblem, store: Store, studyId: number, open: (index: number) => OpenShard, db: string): Omit<MergeResult, 'db' | 'removedLeftovers' | 'alreadyMerged'> {
   const records: NewEvaluation[] = [];
-  try {
-    for (const shard of shards) for (const r of memberRecords(shard, shard.runs[0]!.run.id)) records.push(r);
-  } finally {
-    for (const shard of shards) shard.store.close();
+  for (let index = 0; index < plan.shards; index++) {
+    const shard = open(index);
+    try {
+      for (const r of memberRecords(shard, shard.runs[0]!.run.id)) records.push(r);
+    } finally {
+      shard.store.close();
+    }
   }
   const r = plan.rescore!;
   if (records.length !== r.designs) throw new ScaleError(`the shards hold ${records.length} designs, the plan ${r.designs}`);

@@ -4,7 +4,7 @@
  */
 // Study files
 export { loadStudyFile, parseStudyText, StudyError, evaluationSettingsHash, studySettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
-export { programVersion } from './version.js';
+export { programVersion } from './core/version.js';
 export type * from './study/types.js';
 export { parseQuantity, formatQuantity, UnitError, type QuantityKind } from './study/units.js';
 export { STUDY_TEMPLATE } from './study/template.js';
@@ -57,8 +57,13 @@ export { svgToPng, renderVegaLiteSvg } from './report/render.js';
 // Forward simulation along a duty cycle
 export * as simulation from './simulate/index.js';
 
-// Other architectures
-export { ARCHITECTURES } from './architectures/index.js';
-export type { PlanarArchitecture, ArchitectureName } from './architectures/types.js';
+// Architectures (the one registry and the leg layer)
+export { ARCHITECTURES, ARCHITECTURE_NAMES } from './architectures/index.js';
+export type { PlanarArchitecture, ArchitectureName, ArchitecturePose, LeggedModel, LegKind } from './architectures/index.js';
+export { sampleWorkspace, type WorkspaceSample } from './mechanics/workspace.js';
+export { usabilityMargin } from './mechanics/usability.js';
+export { probeArchitecturePose, type ArchitecturePoseReport } from './mechanics/probe.js';
+export { probeArchitectureDesign } from './api/design.js';
+export { LoopsmithUserError } from './core/errors.js';
 export { candidateExport } from './export/candidateArchitecture.js';
 export { renderArchitectureMap } from './report/architectureMap.js';

@@ -6,6 +6,7 @@ import { fiveBar } from './fivebar.js';
 import { prr2 } from './prr2.js';
 import { prr3 } from './prr3.js';
 import { rrr3 } from './rrr3.js';
+import { rpr3 } from './rpr3.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from './types.js';
 
 const REGISTRY = {
@@ -13,6 +14,7 @@ const REGISTRY = {
   '2-prr': prr2,
   '3-rrr': rrr3,
   '3-prr': prr3,
+  '3-rpr': rpr3,
 };
 
 /** Names of the architectures: the registry's keys. */

@@ -23,7 +23,7 @@ import { studyProblem, withEvaluatorNamespace } from '../run/problem.js';
 import { gridDesigns } from '../run/sweep.js';
 import { canonicalJson, Store } from '../store/store.js';
 import { parseStudyText, type LoadedStudy } from '../study/parse.js';
-import { programVersion } from '../version.js';
+import { programVersion } from '../core/version.js';
 import { batchScripts } from './slurm.js';
 
 /** A user error of plan, shard or merge (bad options, an incomplete or foreign plan). */

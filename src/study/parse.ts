@@ -15,7 +15,7 @@ import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
 import { parseQuantity, UnitError, type QuantityKind } from './units.js';
-import { programVersion } from '../version.js';
+import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
   ARCHITECTURE_PREFIX,

@@ -9,7 +9,7 @@ import { exportCandidates } from '../../src/export/export.js';
 import { rescoreRun } from '../../src/run/rescore.js';
 import { runSweep } from '../../src/run/sweep.js';
 import { evaluationSettingsHash, loadStudyFile, studySettingsHash } from '../../src/study/parse.js';
-import { programVersion } from '../../src/version.js';
+import { programVersion } from '../../src/core/version.js';
 import { assertBuilt, makeTemporaryDirectory, readDatabase, removeTemporaryDirectories, SMALL_STUDY } from '../fixtures/harness.js';
 
 beforeAll(assertBuilt);

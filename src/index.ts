@@ -34,12 +34,18 @@ export { chooseDesign, evaluateDesign, probeDesign, type EvaluationReport, type 
 export * as optimizer from './optimizer/index.js';
 export { Nsga2, optimize, type Nsga2Settings, type Member, type Nsga2State } from './optimizer/nsga2.js';
 export { hypervolume } from './optimizer/hypervolume.js';
+export { optimizeIslands, runIslandEpoch, migrate, type IslandSettings, type IslandResult } from './optimizer/islands.js';
 export type { ProblemSpec, VariableSpec, ObjectiveSpec as OptimizerObjective, Evaluation, BatchEvaluate } from './optimizer/types.js';
 
 // Batch runs, pool and store
 export { EvaluationPool, defaultWorkerCount, type PoolOptions } from './pool/pool.js';
 export { runOptimization, type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
 export { runSweep, type SweepOptions } from './run/sweep.js';
+
+// Studies larger than one machine: plan, shards (Slurm job arrays), merge
+export { makePlan, readPlan, ScaleError, type Plan, type PlanOptions } from './scale/plan.js';
+export { runShards, type ShardOptions, type ShardReport } from './scale/shard.js';
+export { mergePlan, missingShards, type MergeOptions, type MergeResult } from './scale/merge.js';
 export { runFront, type FrontResult } from './run/front.js';
 export { Store, StoreError } from './store/store.js';
 export { queryEvaluations, QueryError } from './store/query.js';

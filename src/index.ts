@@ -40,6 +40,7 @@ export { EvaluationPool, defaultWorkerCount, type PoolOptions } from './pool/poo
 export { runOptimization, type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
 export { runSweep, type SweepOptions } from './run/sweep.js';
 export { runFront, type FrontResult } from './run/front.js';
+export { analyseFront, analysePoints, type StoredFrontAnalysis, type FrontAnalysis } from './run/frontTools.js';
 export { Store, StoreError } from './store/store.js';
 export { queryEvaluations, QueryError } from './store/query.js';
 

@@ -9,6 +9,10 @@ import { join } from 'node:path';
 import { runFront } from '../../src/run/front.js';
 import { runOptimization } from '../../src/run/optimize.js';
 import { loadStudyFile } from '../../src/study/parse.js';
+import { evaluateDesign } from '../../src/api/design.js';
+import { snapToStep } from '../../src/run/roundDesigns.js';
+import { Store } from '../../src/store/store.js';
+import { existsSync } from 'node:fs';
 import { assertBuilt, makeTemporaryDirectory, readDatabase, removeTemporaryDirectories, runCli, REPO_ROOT } from '../fixtures/harness.js';
 
 const FIVE = join(REPO_ROOT, 'tests', 'fixtures', 'five-objective-sorter.yaml');
@@ -56,5 +60,44 @@ describe('front --representatives, --knees, --redundancy', () => {
     expect(table.stdout).toContain('chosen as');
     expect(table.stdout).toMatch(/knees|knee/);
     expect(table.stdout).toContain('principal components');
+  });
+});
+
+describe('export --round: buildable numbers', () => {
+  it('snaps to the nearest multiple inside the bounds (derived)', () => {
+    expect(snapToStep(0.28694, 0.0005, 0.15, 0.45)).toBe(0.287);
+    expect(snapToStep(0.1502, 0.0005, 0.1502, 0.45)).toBe(0.1505); // 0.150 is below the bound
+    expect(snapToStep(0.3, 0.0005, 0.15, 0.45)).toBe(0.3);
+  });
+
+  it('rounds the front, re-evaluates, stores the rounded designs and exports them', async () => {
+    const outDir = join(dir, 'rounded');
+    const front = runFront(dbPath);
+    const result = await runCli(['export', dbPath, '--front', '--round', '0.5mm', '--format', 'json', '--out', outDir, '--workers', '1']);
+    expect(result.code, result.stderr).toBe(0);
+    expect(result.stdout).toMatch(/rounded lengths to 0\.5 mm: \d+ designs of run 1/);
+    const store = Store.open(dbPath);
+    try {
+      const run = store.listRuns().at(-1)!;
+      expect(run.kind).toBe('evaluate');
+      expect(run.parentRunId).toBe(1);
+      const members = store.generationMembers(run.id, 0);
+      expect(members.length).toBeGreaterThan(0);
+      const { study } = loadStudyFile(FIVE);
+      for (const m of members) {
+        for (const name of ['base_span', 'crank_1', 'rod_1']) {
+          const value = m.variables[name] as number;
+          expect(Math.abs(value / 0.0005 - Math.round(value / 0.0005))).toBeLessThan(1e-6);
+        }
+        // Re-evaluated: the stored metrics are those of a fresh evaluation of the rounded design.
+        const fresh = evaluateDesign(study, ['base_span', 'crank_1', 'rod_1'].map((n) => `${n}=${m.variables[n]}m`)).report;
+        for (const o of study.objectives) expect(m.metrics[o.metric]).toBeCloseTo(fresh.metrics[o.metric]!, 9);
+        expect(existsSync(join(outDir, `candidate-${m.id}.json`))).toBe(true);
+      }
+      // Every front design has its rounded counterpart line in the report.
+      for (const d of front.designs) expect(result.stdout).toContain(`design ${d.id} → `);
+    } finally {
+      store.close();
+    }
   });
 });

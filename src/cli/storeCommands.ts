@@ -9,6 +9,7 @@ import { analyseFront, type StoredFrontAnalysis } from '../run/frontTools.js';
 import { runOptimization, type GenerationProgress } from '../run/optimize.js';
 import { runSweep } from '../run/sweep.js';
 import { rescoreRun } from '../run/rescore.js';
+import { parseVariation, sensitivity } from '../run/sensitivity.js';
 import { queryEvaluations } from '../store/query.js';
 import { Store } from '../store/store.js';
 import { formatTable, toCsv } from '../store/format.js';
@@ -202,6 +203,51 @@ export function registerStoreCommands(cli: Argv): Argv {
           lines.push('', table(['constraint', 'old-front designs now violating', 'new-front designs within 1 %'], binding.map((c) => [c.name, String(c.violatedByOldFront), String(c.activeOnNewFront)])));
         }
         lines.push('', `see the new front: loopsmith front ${args.db} --run ${result.runId}`);
+        out(lines.join('\n'));
+      },
+    )
+    .command(
+      'sensitivity <db>',
+      'do the front\'s representatives stay non-dominated when a study assumption changes by ± a percentage?',
+      (y) =>
+        y
+          .positional('db', { type: 'string', demandOption: true })
+          .option('vary', { type: 'string', array: true, demandOption: true, describe: 'NAME=±PERCENT; NAME is payload, joint_stiffness, rated_torque, peak_torque, min_inverse_condition or a path in the study file (drives.both.joint_stiffness, constraints.1.min)' })
+          .option('run', { type: 'number', describe: 'run whose front is tested (default: the latest)' })
+          .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'representatives to follow (default 4)' })
+          .option('workers', { type: 'number', coerce: positiveInt('workers') })
+          .option('json', { type: 'boolean', default: false })
+          .example('$0 sensitivity results/parcel-sorter.db --vary payload=20% --vary joint_stiffness=30%', 'payload ±20 %, drive stiffness ±30 %')
+          .example('$0 sensitivity results/parcel-sorter.db --vary constraints.1.min=10%', 'a constraint threshold ±10 %'),
+      async (args) => {
+        openExisting(args.db).close();
+        const variations = args.vary.map((v) => parseVariation(String(v)));
+        const result = await sensitivity({
+          dbPath: args.db,
+          variations,
+          ...(args.run !== undefined ? { runId: args.run } : {}),
+          ...(args.representatives !== undefined ? { representatives: args.representatives } : {}),
+          ...(args.workers !== undefined ? { workers: args.workers } : {}),
+          onCase: (done, total) => { if (!args.json) process.stderr.write(`rescored ${done} of ${total} changes\n`); },
+        });
+        if (args.json) {
+          out(toJson(result));
+          return;
+        }
+        const ids = result.representatives.map((r) => r.id);
+        const lines = [
+          `run ${result.runId}: ${result.frontSize} front designs rescored under each change; representatives ${result.representatives.map((r) => `${r.id} (${r.reasons.join(', ')})`).join('; ')}`,
+          '',
+          table(
+            ['assumption', 'change', 'value', 'front', ...ids.map((id) => `design ${id}`), 'rescore run'],
+            result.cases.map((c) => [c.path, `${c.change > 0 ? '+' : ''}${(100 * c.change).toFixed(0)} %`, `${c.from} → ${c.to}`, String(c.frontSize), ...ids.map((id) => c.representatives.find((x) => x.id === id)!.status), String(c.rescoreRunId)]),
+          ),
+          '',
+          result.robust.length > 0
+            ? `non-dominated under every change: ${result.robust.map((id) => `design ${id}`).join(', ')}`
+            : 'no representative stays non-dominated under every change',
+          'Early-design estimates from simplified models, not a safety analysis.',
+        ];
         out(lines.join('\n'));
       },
     )

@@ -11,6 +11,8 @@ import { runOptimization } from '../../src/run/optimize.js';
 import { loadStudyFile } from '../../src/study/parse.js';
 import { evaluateDesign } from '../../src/api/design.js';
 import { snapToStep } from '../../src/run/roundDesigns.js';
+import { nonDominated } from '../../src/run/front.js';
+import { parseVariation, scaleAssumption, sensitivity } from '../../src/run/sensitivity.js';
 import { Store } from '../../src/store/store.js';
 import { existsSync } from 'node:fs';
 import { assertBuilt, makeTemporaryDirectory, readDatabase, removeTemporaryDirectories, runCli, REPO_ROOT } from '../fixtures/harness.js';
@@ -99,5 +101,47 @@ describe('export --round: buildable numbers', () => {
     } finally {
       store.close();
     }
+  });
+});
+
+describe('sensitivity: representatives under changed assumptions', () => {
+  it('changes one number of the study and keeps its unit', () => {
+    const text = 'study: x\nmass:\n  payload: 0.5 kg\n';
+    expect(scaleAssumption(text, 'mass.payload', 1.2)).toMatchObject({ from: '0.5 kg', to: '0.6 kg' });
+    expect(parseVariation('payload=20%')).toEqual({ name: 'payload', path: 'mass.payload', fraction: 0.2 });
+    expect(() => parseVariation('payload=twenty')).toThrow(/NAME=±PERCENT/);
+    expect(() => scaleAssumption(text, 'mass.cranks', 1.1)).toThrow(/no number or quantity/);
+  });
+
+  it('rescores the front under payload ±30 % and reports which representatives stay non-dominated', async () => {
+    const before = runFront(dbPath, 1);
+    const result = await sensitivity({ dbPath, runId: 1, variations: [parseVariation('payload=30%')], workers: 1 });
+    expect(result.cases.map((c) => c.change)).toEqual([-0.3, 0.3]);
+    expect(result.cases.map((c) => c.to)).toEqual(['0.35 kg', '0.65 kg']);
+    const { study } = loadStudyFile(FIVE);
+    const minimised = (metrics: Record<string, number | null>) => study.objectives.map((o) => (o.sense === 'max' ? -1 : 1) * (metrics[o.metric] ?? Number.NaN));
+    const store = Store.open(dbPath);
+    try {
+      for (const c of result.cases) {
+        const members = store.generationMembers(c.rescoreRunId, 0);
+        // Only the front designs are rescored.
+        expect(members.length).toBeLessThanOrEqual(before.designs.length);
+        const feasible = members.filter((m) => m.feasible && m.error === null);
+        const front = new Set(nonDominated(feasible, (m) => minimised(m.metrics)).map((m) => JSON.stringify(m.variables)));
+        for (const r of c.representatives) {
+          const original = before.designs.find((d) => d.id === r.id)!;
+          const now = members.find((m) => JSON.stringify(m.variables) === JSON.stringify(original.variables))!;
+          const expected = front.has(JSON.stringify(now.variables)) ? 'non-dominated' : now.feasible ? 'dominated' : 'infeasible';
+          expect(r.status).toBe(expected);
+          // Derived: a heavier payload needs more holding torque, a lighter one less.
+          const torque = now.metrics['peak_gravity_torque']!;
+          if (c.change > 0) expect(torque).toBeGreaterThan(original.metrics['peak_gravity_torque']!);
+          else expect(torque).toBeLessThan(original.metrics['peak_gravity_torque']!);
+        }
+      }
+    } finally {
+      store.close();
+    }
+    expect(result.robust.every((id) => result.representatives.some((r) => r.id === id))).toBe(true);
   });
 });

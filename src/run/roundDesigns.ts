@@ -9,6 +9,7 @@
  * within them (the bound itself when no multiple does). Angles and choices are left as they are.
  */
 import { designFromValues, variableKind } from '../mechanics/designSpace.js';
+import { LoopsmithUserError } from '../core/errors.js';
 import { isFeasible } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { Store, type StoredEvaluation } from '../store/store.js';
@@ -16,7 +17,7 @@ import { parseStudyText } from '../study/parse.js';
 import { evaluateWithCache } from './batch.js';
 import { studyProblem } from './problem.js';
 
-export class RoundingError extends Error {
+export class RoundingError extends LoopsmithUserError {
   override readonly name = 'RoundingError';
 }
 

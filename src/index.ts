@@ -64,6 +64,10 @@ export { EvaluationPool, defaultWorkerCount, type PoolOptions } from './pool/poo
 export { type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
 export type { SweepOptions } from './run/sweep.js';
 export type { FrontResult } from './run/front.js';
+// Choosing from the front: representatives, knees, redundant objectives; rounding; sensitivity
+export { analyseFront, analysePoints, type StoredFrontAnalysis, type FrontAnalysis } from './run/frontTools.js';
+export { roundAndEvaluate, snapToStep, RoundingError, type RoundingResult, type RoundedDesign } from './run/roundDesigns.js';
+export { sensitivity, parseVariation, type SensitivityResult, type SensitivityOptions, type Variation } from './run/sensitivity.js';
 
 // Studies larger than one machine: plan, shards (Slurm job arrays), merge; options are checked inside (ScaleError)
 export { makePlan, readPlan, ScaleError, type Plan, type PlanOptions } from './scale/plan.js';

@@ -13,7 +13,7 @@ import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.j
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
 import { loadStudyFile } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
-import { loopsmithVersion } from '../public/packageFiles.js';
+import { loopsmithVersion } from '../core/version.js';
 import { parseQuantity } from '../study/units.js';
 import type { Study } from '../study/types.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';

@@ -1,8 +1,7 @@
 /**
- * Files that ship with loopsmith (its package.json, demo studies, schemas), found from this module's
- * own location — never from the working directory, so an installed package reads its own files.
- * This file sits one folder below the package root both as source (src/public) and compiled
- * (dist/public).
+ * Files that ship with loopsmith (its package.json, demo studies, schemas), found from the package
+ * root that src/core/version.ts locates from its own place — never from the working directory, so an
+ * installed package reads its own files.
  */
 import { readdirSync } from 'node:fs';
 import { extname, join } from 'node:path';

@@ -9,7 +9,7 @@ import { runOptimization, type GenerationProgress } from '../run/optimize.js';
 import { runSweep } from '../run/sweep.js';
 import { rescoreRun } from '../run/rescore.js';
 import { queryEvaluations } from '../store/query.js';
-import { Store } from '../store/store.js';
+import { Store, StoreError } from '../store/store.js';
 import { formatTable, toCsv } from '../store/format.js';
 import { loadStudyFile } from '../study/parse.js';
 import { formatMetric, formatValue, studyActuators, table, toJson, variableKind } from './format.js';
@@ -298,9 +298,7 @@ function parseFrom(text: string): { dbPath: string; runId?: number } {
 /** Refuse a database path that does not exist (opening would create it). */
 function requireDatabase(path: string): void {
   if (!existsSync(path)) {
-    const error = new Error(`${path}: no such database (run a study first: loopsmith run STUDY)`);
-    error.name = 'StoreError';
-    throw error;
+    throw new StoreError(`${path}: no such database (run a study first: loopsmith run STUDY)`);
   }
 }
 

@@ -54,7 +54,7 @@ export const DEFAULT_EVALUATION = {
   minTransmissionAngle: (30 * Math.PI) / 180,
 } as const;
 
-export const DEFAULT_OPTIMIZER = { population: 100, generations: 100, seed: 1 } as const;
+export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;
 
 type Json = null | boolean | number | string | Json[] | { [key: string]: Json };
 type JsonObject = { [key: string]: Json };
@@ -651,6 +651,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
 
   const optIn = isObject(data['optimizer']) ? data['optimizer'] : {};
   const optimizer = {
+    algorithm: (optIn['algorithm'] as 'nsga2' | 'nsga3' | undefined) ?? DEFAULT_OPTIMIZER.algorithm,
     population: (optIn['population'] as number | undefined) ?? DEFAULT_OPTIMIZER.population,
     generations: (optIn['generations'] as number | undefined) ?? DEFAULT_OPTIMIZER.generations,
     seed: (optIn['seed'] as number | undefined) ?? DEFAULT_OPTIMIZER.seed,

@@ -1,0 +1,26 @@
+/** The installed package's root folder and its version (src/core/ is two levels below the package root, as dist/core/). */
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const PACKAGE_ROOT = fileURLToPath(new URL('../../', import.meta.url));
+
+/** Absolute path of a file or folder inside the installed loopsmith package, e.g. `packageFile('studies')`. */
+export function packageFile(relativePath: string): string {
+  return join(PACKAGE_ROOT, relativePath);
+}
+
+let cachedVersion: string | undefined;
+
+/** The version of this loopsmith, from its own package.json. */
+export function loopsmithVersion(): string {
+  if (cachedVersion === undefined) {
+    const parsed = JSON.parse(readFileSync(packageFile('package.json'), 'utf8')) as { name?: unknown; version?: unknown };
+    if (parsed.name !== 'loopsmith' || typeof parsed.version !== 'string') {
+      throw new Error(`${packageFile('package.json')} is not loopsmith's package.json (name ${String(parsed.name)})`);
+    }
+    cachedVersion = parsed.version;
+  }
+  return cachedVersion;
+}
+

@@ -195,7 +195,7 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
   let joint = Infinity;
   let reachable = true;
   const A = pose.A;
-  pose.B.fill(0);
+  // B is diagonal: its off-diagonal entries are zero from the pose's construction and never written.
   for (let i = 0; i < n; i++) {
     // r_i = R(φ) b_i; B_i = P + r_i.
     const bx = model.platformX[i]!;
@@ -236,6 +236,10 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
  */
 export function finishKinematics(model: ArchitectureModelBase, pose: ArchitecturePose): void {
   const n = model.dof;
+  if (n === 2) {
+    finishKinematics2(pose);
+    return;
+  }
   const L = model.characteristicLength;
   const { A, B, J, Jinv, Jh, Jhinv, work } = pose;
   // J⁻¹ = B⁻¹A and J_h⁻¹ = B⁻¹ A diag(1, 1, 1/L).
@@ -246,10 +250,6 @@ export function finishKinematics(model: ArchitectureModelBase, pose: Architectur
       Jinv[i * n + k] = v;
       Jhinv[i * n + k] = k === 2 ? v / L : v;
     }
-  }
-  if (n === 2) {
-    finishKinematics2(pose);
-    return;
   }
   // J = A⁻¹B (NaN when det A = 0).
   const Ainv = work; // first n² entries
@@ -281,25 +281,32 @@ export function finishKinematics(model: ArchitectureModelBase, pose: Architectur
   pose.mechanismSine = rowProduct > 0 ? detHomogenised / rowProduct : 0;
 }
 
-/** Two legs: det A = cross(u_1, u_2), J = A⁻¹B and 1/κ in closed form (J entries ±∞/NaN when det A = 0). */
+/** Two legs: J⁻¹ = B⁻¹A, det A = cross(u_1, u_2), J = A⁻¹B and 1/κ in closed form (J entries ±∞/NaN when det A = 0). */
 function finishKinematics2(pose: ArchitecturePose): void {
-  const { A, B, J, Jh } = pose;
+  const { A, B, J, Jh, Jinv, Jhinv } = pose;
   const u1x = A[0]!;
   const u1y = A[1]!;
   const u2x = A[2]!;
   const u2y = A[3]!;
   const b1 = B[0]!;
   const b2 = B[3]!;
+  const g11 = u1x / b1;
+  const g12 = u1y / b1;
+  const g21 = u2x / b2;
+  const g22 = u2y / b2;
+  Jinv[0] = g11; Jinv[1] = g12; Jinv[2] = g21; Jinv[3] = g22;
+  Jhinv[0] = g11; Jhinv[1] = g12; Jhinv[2] = g21; Jhinv[3] = g22;
   const detA = u1x * u2y - u1y * u2x;
   pose.detA = detA;
   pose.mechanismSine = detA;
   // 1/κ(J) = 1/κ(J⁻¹) = 1/κ of the matrix with rows b_2 u_1, b_1 u_2 (finite at every singularity).
   pose.inverseCondition = inverseCondition2(b2 * u1x, b2 * u1y, b1 * u2x, b1 * u2y);
-  J[0] = (u2y * b1) / detA;
-  J[1] = (-u1y * b2) / detA;
-  J[2] = (-u2x * b1) / detA;
-  J[3] = (u1x * b2) / detA;
-  Jh.set(J);
+  const j11 = (u2y * b1) / detA;
+  const j12 = (-u1y * b2) / detA;
+  const j21 = (-u2x * b1) / detA;
+  const j22 = (u1x * b2) / detA;
+  J[0] = j11; J[1] = j12; J[2] = j21; J[3] = j22;
+  Jh[0] = j11; Jh[1] = j12; Jh[2] = j21; Jh[3] = j22;
 }
 
 /** Reduced dynamics, statics and stiffness at the pose last solved (body by body; each leg kind adds its bodies). */

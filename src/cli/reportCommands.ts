@@ -1,4 +1,5 @@
 /** Commands that draw: map (workspace of one design) and report (HTML study report). */
+import { LoopsmithUserError } from '../core/errors.js';
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, extname } from 'node:path';
 import type { Argv } from 'yargs';
@@ -18,7 +19,7 @@ function asStrings(value: unknown): string[] {
   return (Array.isArray(value) ? value : [value]).map(String);
 }
 
-class ReportUsageError extends Error {
+class ReportUsageError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'StoreError';

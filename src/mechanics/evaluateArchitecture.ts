@@ -112,6 +112,8 @@ export class ArchitectureEvaluator {
   /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
   private jointScale = 1;
   private drives: readonly DriveAtJoint[] | null = null;
+  /** Every drive of the design in hand has an encoder step (for `resolution`). */
+  private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
   private readonly cycle: CycleMetrics | null;
 
@@ -160,6 +162,7 @@ export class ArchitectureEvaluator {
 
   private prepare(resolved: ResolvedDesign, model: ArchitectureModelBase): void {
     this.drives = drivesAtJoint(this.study, resolved.drives);
+    this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
   }
 
@@ -311,7 +314,7 @@ export class ArchitectureEvaluator {
         if (a < agg.minAccel) agg.minAccel = a;
       }
     }
-    if (drives && drives.every((d) => d.encoderStep > 0)) {
+    if (drives && this.encodersKnown) {
       // Largest step of P for one count on each joint: σ_max of the translational rows of J diag(δq).
       if (n === 2) {
         const d1 = drives[0]!.encoderStep;

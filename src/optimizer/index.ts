@@ -7,3 +7,5 @@ export * from './nsga2.js';
 export { ParetoArchive } from './archive.js';
 export * from './hypervolume.js';
 export * from './testProblems.js';
+export * from './convergence.js';
+export * from './termination.js';

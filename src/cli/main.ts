@@ -29,7 +29,7 @@ export class UserError extends Error {
 }
 
 /** Errors whose message is meant for the user (bad input, missing files, refused queries). */
-const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError', 'SimulationError']);
+const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ContinueError', 'ExportError', 'ReportError', 'SimulationError']);
 
 export function isUserError(error: unknown): error is Error {
   return (

@@ -348,6 +348,13 @@ export class Nsga2 {
     this.pending = undefined;
   }
 
+  /** Back to NSGA-II's make-new-pop after a refinement (used to continue a converged run). */
+  resumeSearch(): void {
+    if (this.phase === 'search') return;
+    this.phase = 'search';
+    this.pending = undefined;
+  }
+
   /** Rank-0 feasible members of the current population. */
   front(): readonly Member[] {
     return this.members.filter((member) => member.rank === 0 && member.evaluation.failed === undefined && member.evaluation.violation === 0);

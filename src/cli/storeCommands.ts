@@ -98,9 +98,9 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('run', { type: 'number', describe: 'with --more: the run to continue (default: the newest one)', coerce: positiveInt('run') })
           .option('quiet', { type: 'boolean', default: false })
           .check((a) => {
-            if (a.more !== undefined && a.generations !== undefined) throw new Error('--more and --generations do not go together: --more N adds N generations to a finished run');
-            if (a.more !== undefined && a.from !== undefined) throw new Error('--more continues a finished run; --from starts a new one: give one of them');
-            if (a.run !== undefined && a.more === undefined) throw new Error('--run only goes with --more (the run to continue)');
+            if (a.more !== undefined && a.generations !== undefined) throw usageError('--more and --generations do not go together: --more N adds N generations to a finished run');
+            if (a.more !== undefined && a.from !== undefined) throw usageError('--more continues a finished run; --from starts a new one: give one of them');
+            if (a.run !== undefined && a.more === undefined) throw usageError('--run only goes with --more (the run to continue)');
             return true;
           })
           .example('$0 run studies/parcel-sorter.yaml', 'optimize until the front stops improving (or 10,000 evaluations)')
@@ -310,6 +310,13 @@ export function registerStoreCommands(cli: Argv): Argv {
         else out(`${formatTable(result.columns, result.rows)}\n(${result.rows.length} rows)`);
       },
     );
+}
+
+/** A command-line mistake found by a check: the CLI reports it like yargs' own (exit 2). */
+function usageError(message: string): Error {
+  const error = new Error(message);
+  error.name = 'YError';
+  return error;
 }
 
 /** --more N (a positive whole number of generations) or --more converge. */

@@ -100,7 +100,9 @@ export const CONVERGENCE_SEARCH = {
   refinementGenerations: 10,
   /** Distribution index of the refinement moves. */
   refinementEta: 100,
-} as const;
+  /** T_c of the ε-constraint handling (Takahama & Sakai 2006) in generations; 0: Deb's constrained domination. */
+  epsilonGenerations: 0,
+};
 
 /** Fixed objective bounds for the hypervolume record of one run (minimisation form). */
 interface HypervolumeFrame {
@@ -215,7 +217,13 @@ function searchPlan(loaded: LoadedStudy, population: number, seed: number, fixed
   const fixed = fixedGenerations ?? (t.kind === 'generations' ? t.generations : undefined);
   if (fixed !== undefined) return { nsga: { populationSize: population, seed }, termination: { generations: fixed - 1 }, search: null };
   const conv = t.kind === 'convergence' ? t : { window: 20, tolerance: 0.001, maxEvaluations: 10000 };
-  const nsga: Nsga2Settings = { populationSize: population, seed, initialOversampling: CONVERGENCE_SEARCH.initialOversampling, refinementEta: CONVERGENCE_SEARCH.refinementEta };
+  const nsga: Nsga2Settings = {
+    populationSize: population,
+    seed,
+    initialOversampling: CONVERGENCE_SEARCH.initialOversampling,
+    refinementEta: CONVERGENCE_SEARCH.refinementEta,
+    ...(CONVERGENCE_SEARCH.epsilonGenerations > 0 ? { epsilonConstraint: { generations: CONVERGENCE_SEARCH.epsilonGenerations } } : {}),
+  };
   return {
     nsga,
     termination: { maxEvaluations: conv.maxEvaluations, convergence: { window: conv.window, tolerance: conv.tolerance }, refinementGenerations: CONVERGENCE_SEARCH.refinementGenerations },

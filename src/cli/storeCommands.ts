@@ -123,7 +123,13 @@ export function registerStoreCommands(cli: Argv): Argv {
             ...(args.run !== undefined ? { runId: args.run } : {}),
             shouldStop: interrupt.stop,
             onGeneration: (p: GenerationProgress) =>
-              progress.update(p.generation + 1, p.generations, { rate: p.evaluationsPerSecond, hv: p.hypervolume === null ? '—' : p.hypervolume.toFixed(4), feasible: p.feasibleCount, elapsed: p.elapsedSeconds }),
+              progress.update(p.generation + 1, p.generations, {
+                rate: p.evaluationsPerSecond,
+                // The population's hypervolume is provisional (its frame is fixed at the end); the archive's gain over the window is what decides convergence.
+                hv: `${p.hypervolume === null ? '—' : `${p.hypervolume.toFixed(4)} (provisional)`}, front gain ${p.hvImprovement === null ? '—' : formatImprovement(p.hvImprovement)} per window${p.phase === 'refine' ? ', refining' : ''}`,
+                feasible: p.feasibleCount,
+                elapsed: p.elapsedSeconds,
+              }),
           });
           progress.stop();
           if (!args.quiet) {

@@ -363,14 +363,17 @@ export function trajectoryText(trajectory: readonly { generation: number; hyperv
 
 /** How the run ended, its hypervolume trajectory and last-window improvement, and how to continue it. */
 export function runStandingLines(
-  s: Pick<RunSummary, 'status' | 'endReason' | 'hvImprovement' | 'window' | 'tolerance' | 'stillImproving' | 'totalEvaluations' | 'archiveSize' | 'termination'> & { trajectory: readonly { generation: number; hypervolume: number | null }[] },
+  s: Pick<RunSummary, 'status' | 'endReason' | 'hvImprovement' | 'window' | 'tolerance' | 'stillImproving' | 'totalEvaluations' | 'archiveSize' | 'termination' | 'convergedAt' | 'generationsDone'> & { trajectory: readonly { generation: number; hypervolume: number | null }[] },
   continueWith: (more: string) => string,
 ): string[] {
   const gain = s.hvImprovement === null ? `not known yet (fewer than ${s.window} generations)` : `${formatImprovement(s.hvImprovement)} over the last ${s.window} generations (tolerance ${formatImprovement(s.tolerance)})`;
   const budget = s.termination.generations !== undefined ? `its generation count (${s.termination.generations + 1} in all)` : `its evaluation cap (${s.termination.maxEvaluations ?? '?'})`;
   const lines: string[] = [];
   if (s.status === 'stopped') lines.push('ended: stopped by the user; run the same command again to resume');
-  else if (s.endReason === 'converged') lines.push(`ended: converged — the best front found stopped improving (${s.totalEvaluations} evaluations)`);
+  else if (s.endReason === 'converged') {
+    const refined = s.convergedAt !== null && s.convergedAt < s.generationsDone - 1 ? `, then ${s.generationsDone - 1 - s.convergedAt} generations of final local refinement` : '';
+    lines.push(`ended: converged — the best front found improved by less than ${formatImprovement(s.tolerance)} over ${s.window} generations at generation ${s.convergedAt ?? '?'}${refined} (${s.totalEvaluations} evaluations)`);
+  }
   else lines.push(`ended: budget — reached ${budget} after ${s.totalEvaluations} evaluations`);
   lines.push(`front hypervolume by generation (population front, normalised, reference 1.1): ${trajectoryText(s.trajectory)}`);
   lines.push(`best front found: ${s.archiveSize} designs; its hypervolume improved by ${gain}`);

@@ -112,6 +112,11 @@ export class TerminationTracker {
     return go(false);
   }
 
+  /** Generation at which the search converged (null while it has not). */
+  get convergedGeneration(): number | null {
+    return this.convergedAt;
+  }
+
   toJSON(): TerminationState {
     return { convergence: this.monitor.toJSON(), convergedAt: this.convergedAt, refinementFrom: this.refinementFrom };
   }

@@ -86,6 +86,8 @@ export interface RunSummary {
   readonly stillImproving: boolean;
   /** Designs in the archive at the end. */
   readonly archiveSize: number;
+  /** Generation at which the search converged (a final refinement may have followed); null if it did not. */
+  readonly convergedAt: number | null;
 }
 
 /**
@@ -261,6 +263,8 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const population = options.population ?? loaded.study.optimizer.population;
+  // Checked before the database is opened, so that a bad --from creates nothing.
+  const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
   const store = Store.open(options.dbPath);
   const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
   let continued: RunRow | undefined;
@@ -274,7 +278,6 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   const continuedFixed = continued !== undefined && !('search' in (JSON.parse(continued.settingsJson) as object));
   const plan = searchPlan(loaded, population, seed, continuedFixed ? continued!.generationsDone : options.generations);
   const nsgaSettings = plan.nsga;
-  const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
   const settings = {
     algorithm: 'nsga2', population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20,
     ...(plan.search ? { search: plan.search } : {}),
@@ -437,6 +440,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       tolerance,
       stillImproving: finalReason === 'budget' && (lastImprovement === null || lastImprovement >= tolerance),
       archiveSize,
+      convergedAt: tracker.convergedGeneration,
     };
   } finally {
     await pool.close();

@@ -137,7 +137,7 @@ export function registerStoreCommands(cli: Argv): Argv {
             const trajectory = hypervolumeTrajectory(dbPath, summary.runId);
             out(
               [
-                `${summary.status === 'finished' ? 'finished' : 'stopped'} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (continued at generation ${summary.resumedFromGeneration})` : ''}: ` +
+                `${summary.status === 'finished' ? 'finished' : 'stopped'} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (${args.more !== undefined ? 'continued' : 'resumed'} at generation ${summary.resumedFromGeneration})` : ''}: ` +
                   `${summary.generationsDone} generations, ${summary.newEvaluations} new evaluations in ${fmtTime(summary.elapsedSeconds)}; ` +
                   `${front.designs.length} designs on the feasible front`,
                 ...runStandingLines({ ...summary, trajectory }, continueCommand(args.study, dbPath, args.db !== undefined, summary.runId, args.seed, args.population)),

@@ -265,6 +265,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   const population = options.population ?? loaded.study.optimizer.population;
   // Checked before the database is opened, so that a bad --from creates nothing.
   const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
+  if (options.more !== undefined && !existsSync(options.dbPath)) throw new ContinueError(`--more: ${options.dbPath}: no such database; run the study first (loopsmith run STUDY), then continue it`);
   const store = Store.open(options.dbPath);
   const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
   let continued: RunRow | undefined;

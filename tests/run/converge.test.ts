@@ -4,7 +4,7 @@
  * the run ended. Spawns the real command line (dist/; run `npm run build` first).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { parseStudyText } from '../../src/study/parse.js';
 import {
@@ -49,7 +49,8 @@ describe('run --more', () => {
     const dir = makeTemporaryDirectory('more-refused');
     const none = await runCli(['run', SMALL_STUDY, '--db', join(dir, 'empty.db'), '--more', '2', '--workers', '1', '--quiet']);
     expect(none.code).toBe(1);
-    expect(none.stderr).toMatch(/--more: no earlier run of this study/);
+    expect(none.stderr).toMatch(/--more: .*empty\.db: no such database/);
+    expect(existsSync(join(dir, 'empty.db'))).toBe(false);
     const both = await runCli(['run', SMALL_STUDY, '--more', '2', '--generations', '4']);
     expect(both.code).toBe(2);
     expect(both.stderr).toMatch(/--more and --generations do not go together/);

@@ -8,6 +8,7 @@ import { existsSync } from 'node:fs';
 import { designFromValues } from '../mechanics/designSpace.js';
 import { hypervolume } from '../optimizer/hypervolume.js';
 import { Nsga2, type Nsga2Settings, type Nsga2State } from '../optimizer/nsga2.js';
+import { createOptimizer, type AskTellOptimizer } from '../optimizer/algorithm.js';
 import { TerminationTracker, type EndReason, type Termination, type TerminationState } from '../optimizer/termination.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
@@ -164,7 +165,7 @@ function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
  * the last. The values shown while the run goes are provisional (frame of the first generation with
  * a spread in every objective).
  */
-function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
+export function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
   const last = store.lastGeneration(runId);
   if (last === undefined) return;
   const fronts: number[][][] = [];
@@ -215,7 +216,7 @@ function warmStartDesigns(from: { dbPath: string; runId?: number }, sp: StudyPro
 }
 
 /** Search settings and termination for a study (or a --generations override). */
-function searchPlan(loaded: LoadedStudy, population: number, seed: number, fixedGenerations: number | undefined): { nsga: Nsga2Settings; termination: Termination; search: Record<string, unknown> | null } {
+function searchPlan(loaded: LoadedStudy, population: number, seed: number, fixedGenerations: number | undefined, algorithm: string): { nsga: Nsga2Settings; termination: Termination; search: Record<string, unknown> | null } {
   const t = loaded.study.optimizer.termination;
   const fixed = fixedGenerations ?? (t.kind === 'generations' ? t.generations : undefined);
   if (fixed !== undefined) return { nsga: { populationSize: population, seed }, termination: { generations: fixed - 1 }, search: null };
@@ -229,8 +230,9 @@ function searchPlan(loaded: LoadedStudy, population: number, seed: number, fixed
   };
   return {
     nsga,
-    termination: { maxEvaluations: conv.maxEvaluations, convergence: { window: conv.window, tolerance: conv.tolerance }, refinementGenerations: CONVERGENCE_SEARCH.refinementGenerations },
-    search: { ...CONVERGENCE_SEARCH },
+    // The final local refinement is a phase of Nsga2; NSGA-III runs stop on convergence without it.
+    termination: { maxEvaluations: conv.maxEvaluations, convergence: { window: conv.window, tolerance: conv.tolerance }, refinementGenerations: algorithm === 'nsga2' ? CONVERGENCE_SEARCH.refinementGenerations : 0 },
+    search: algorithm === 'nsga2' ? { ...CONVERGENCE_SEARCH } : { ...CONVERGENCE_SEARCH, refinementGenerations: 0 },
   };
 }
 
@@ -263,6 +265,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const population = options.population ?? loaded.study.optimizer.population;
+  const algorithm = loaded.study.optimizer.algorithm;
   // Checked before the database is opened, so that a bad --from creates nothing.
   const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
   if (options.more !== undefined && !existsSync(options.dbPath)) throw new ContinueError(`--more: ${options.dbPath}: no such database; run the study first (loopsmith run STUDY), then continue it`);
@@ -277,10 +280,10 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   }
   // A continued run keeps its own kind of search (a fixed-count run stays the paper's NSGA-II).
   const continuedFixed = continued !== undefined && !('search' in (JSON.parse(continued.settingsJson) as object));
-  const plan = searchPlan(loaded, population, seed, continuedFixed ? continued!.generationsDone : options.generations);
+  const plan = searchPlan(loaded, population, seed, continuedFixed ? continued!.generationsDone : options.generations, algorithm);
   const nsgaSettings = plan.nsga;
   const settings = {
-    algorithm: 'nsga2', population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20,
+    ...(algorithm === 'nsga3' ? { algorithm, population, seed, crossoverProbability: 1, crossoverEta: 30, mutationEta: 20 } : { algorithm, population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20 }),
     ...(plan.search ? { search: plan.search } : {}),
     ...(warm ? { warmStart: { database: options.warmStart!.dbPath, run: warm.runId } } : {}),
   };
@@ -294,7 +297,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   try {
     store.ensureColumns(sp.columns);
     let runId: number;
-    let optimizer: Nsga2;
+    let optimizer: AskTellOptimizer;
     let frame: HypervolumeFrame | null = null;
     let resumedFrom: number | null = null;
     let termination = plan.termination;
@@ -303,7 +306,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     const previous = continued ?? store.findUnfinishedRun(studyId, 'optimize', seed, settingsJson);
     if (previous && previous.optimizerState) {
       const state = JSON.parse(previous.optimizerState) as RunState;
-      optimizer = Nsga2.restore(sp.problem, nsgaSettings, state.nsga2);
+      optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings, state.nsga2);
       frame = state.hypervolumeFrame;
       runId = previous.id;
       resumedFrom = previous.generationsDone;
@@ -313,7 +316,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       if (options.more !== undefined) {
         termination = continuedTermination(recorded ?? plan.termination, optimizer.generation, evaluationsSoFar, options.more, plan.termination);
         if (trackerState) trackerState = { ...trackerState, convergedAt: null, refinementFrom: null };
-        if (options.more === 'converge') optimizer.resumeSearch();
+        if (options.more === 'converge' && optimizer instanceof Nsga2) optimizer.resumeSearch();
       } else if (recorded) {
         termination = recorded;
       }
@@ -321,7 +324,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     } else {
       runId = previous?.id ?? store.createRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers });
       if (previous) store.markRun(runId, 'running', null);
-      optimizer = new Nsga2(sp.problem, nsgaSettings);
+      optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings);
     }
     store.setRunEnd(runId, null, termination);
     const tracker = new TerminationTracker(termination, trackerState);
@@ -359,8 +362,8 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, pendingRecords, flush);
       optimizer.tell(designs, evaluations);
       evaluationsSoFar += designs.length;
-      const decision = tracker.afterGeneration(optimizer.generation, evaluationsSoFar, population, optimizer.archivePoints());
-      if (decision.startRefinement) optimizer.startRefinement();
+      const decision = tracker.afterGeneration(optimizer.generation, evaluationsSoFar, population, optimizer.archive().map((m) => minimised(sp, m.evaluation)));
+      if (decision.startRefinement && optimizer instanceof Nsga2) optimizer.startRefinement();
       lastImprovement = decision.status.improvement;
       archiveSize = decision.status.archiveSize;
 
@@ -399,7 +402,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         generations: Math.max(generations, generation + 1),
         archiveSize,
         hvImprovement: lastImprovement,
-        phase: optimizer.currentPhase,
+        phase: optimizer instanceof Nsga2 ? optimizer.currentPhase : 'search',
         evaluations: designs.length,
         newEvaluations: newRecords.length,
         failed,

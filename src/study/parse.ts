@@ -15,6 +15,7 @@ import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
 import { parseQuantity, UnitError, type QuantityKind } from './units.js';
+import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
   ARCHITECTURE_PREFIX,
@@ -55,7 +56,7 @@ export const DEFAULT_EVALUATION = {
   minTransmissionAngle: (30 * Math.PI) / 180,
 } as const;
 
-export const DEFAULT_OPTIMIZER = { population: 100, generations: 100, seed: 1 } as const;
+export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;
 /** Convergence termination used when a study gives no generation count. */
 export const DEFAULT_CONVERGENCE = { window: 20, tolerance: 0.001, maxEvaluations: 10000 } as const;
 
@@ -223,8 +224,19 @@ export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
   };
 }
 
-/** Hash of the parts of a study that change evaluation results (canonical JSON of the typed study). */
-export function evaluationSettingsHash(study: Study): string {
+/**
+ * Hash of everything that changes an evaluation's result: the study settings (`studySettingsHash`)
+ * and the program version, so that results of another loopsmith version are never taken from the
+ * cache nor merged silently. Stores written before the version entered the hash hold the bare
+ * `studySettingsHash` in `settings_hash`: they open, query, export and rescore as before, and their
+ * evaluations are simply not reused by this version (a rescore evaluates them again).
+ */
+export function evaluationSettingsHash(study: Study, version: string = programVersion()): string {
+  return sha256(`${studySettingsHash(study)}\u0000loopsmith ${version}`);
+}
+
+/** Hash of the parts of a study that change evaluation results (canonical JSON of the typed study), without the program version. */
+export function studySettingsHash(study: Study): string {
   const relevant = {
     architecture: study.architecture,
     geometry: study.geometry,
@@ -246,7 +258,7 @@ export function evaluationSettingsHash(study: Study): string {
     sliderMass: study.sliderMass,
     platform: study.platform ?? undefined,
     orientation: study.orientation ?? undefined,
-    members: study.members ? study.members.map(evaluationSettingsHash) : undefined,
+    members: study.members ? study.members.map(studySettingsHash) : undefined,
   };
   return sha256(canonicalJson(relevant));
 }
@@ -691,6 +703,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
  * `convergence:` block: window, tolerance, max_evaluations.
  */
 function parseOptimizer(optIn: JsonObject): OptimizerSettings {
+  const algorithm = (optIn['algorithm'] as 'nsga2' | 'nsga3' | undefined) ?? DEFAULT_OPTIMIZER.algorithm;
   const population = (optIn['population'] as number | undefined) ?? DEFAULT_OPTIMIZER.population;
   const fixed = optIn['generations'] as number | undefined;
   const seed = (optIn['seed'] as number | undefined) ?? DEFAULT_OPTIMIZER.seed;
@@ -698,7 +711,7 @@ function parseOptimizer(optIn: JsonObject): OptimizerSettings {
   if (fixed !== undefined && convergenceIn !== undefined) {
     throw new StudyError('optimizer: give either generations (a fixed count) or convergence (stop when the front stops improving), not both');
   }
-  if (fixed !== undefined) return { population, generations: fixed, seed, termination: { kind: 'generations', generations: fixed } };
+  if (fixed !== undefined) return { algorithm, population, generations: fixed, seed, termination: { kind: 'generations', generations: fixed } };
   const c = convergenceIn ?? {};
   const termination = {
     kind: 'convergence' as const,
@@ -709,7 +722,7 @@ function parseOptimizer(optIn: JsonObject): OptimizerSettings {
   if (termination.maxEvaluations < 2 * population) {
     throw new StudyError(`optimizer.convergence.max_evaluations: ${termination.maxEvaluations} leaves no room for a second generation of ${population} designs; give at least ${2 * population}`);
   }
-  return { population, generations: DEFAULT_OPTIMIZER.generations, seed, termination };
+  return { algorithm, population, generations: DEFAULT_OPTIMIZER.generations, seed, termination };
 }
 
 function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<string, number | string> {

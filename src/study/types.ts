@@ -109,6 +109,8 @@ export interface ConstraintSpec {
 }
 
 export interface OptimizerSettings {
+  /** Search algorithm: NSGA-II (default) or NSGA-III (reference directions; for four or more objectives). */
+  readonly algorithm: 'nsga2' | 'nsga3';
   readonly population: number;
   /** Generations in all, the initial population included: the fixed count when `termination.kind` is 'generations' (default 100 otherwise, unused by `run`). */
   readonly generations: number;

@@ -6,11 +6,14 @@ import { join } from 'node:path';
 import { Evaluator, loadStudyFile, runOptimization } from '../dist/index.js';
 
 const quick = process.argv.includes('--quick');
+/** --front-only: only section 6 (front quality of the default termination), e.g. after changing the search. */
+const frontOnly = process.argv.includes('--front-only');
 const study = loadStudyFile(new URL('../studies/parcel-sorter.yaml', import.meta.url).pathname);
 const line = (s) => process.stdout.write(s + '\n');
 
 line(`loopsmith bench — node ${process.version}, ${availableParallelism()} cores (${cpus()[0]?.model ?? 'unknown cpu'})${quick ? ', quick mode' : ''}`);
 
+if (!frontOnly) {
 // 1. Single-thread design evaluations per second (the hot path), demo study, baseline-like designs.
 {
   const evaluator = new Evaluator(study.study);
@@ -138,5 +141,35 @@ line(`scaling 1 → 2 workers: ${(efficiency * 100).toFixed(0)} % parallel effic
     const seconds = (performance.now() - t0) / 1000;
     const arch = s.members ? s.members.map((m) => m.architecture).join('+') : s.architecture;
     line(`architecture ${arch} (${file}), single thread: ${(count / seconds).toFixed(1)} samples/s (${((seconds / count) * 1e3).toFixed(2)} ms per design; grid ${s.evaluation.gridCells} cells, ${s.evaluation.taskSamples} task samples${s.orientation ? `, orientation scan every ${((s.orientation.step * 180) / Math.PI).toFixed(1)}°` : ''})`);
+  }
+}
+}
+
+// 6. Front quality of the default termination (convergence, at most 10,000 evaluations) on the demo
+// study: share of the hypervolume of a reference front from a run ten times longer (see frontShare.mjs).
+{
+  const { hypervolumeShare, referenceFront, runFrontPoints } = await import('./frontShare.mjs');
+  const { parseStudyText } = await import('../dist/index.js');
+  // The demo study gives a fixed generation count; without it, the study's default termination applies.
+  const text = study.text.replace(/^\s*generations:.*$/m, '');
+  if (text === study.text) throw new Error('bench: could not remove the generation count of the demo study');
+  const defaultStudy = parseStudyText(text, 'demo study, default termination');
+  const cacheDir = new URL('../results/', import.meta.url).pathname;
+  const reference = await referenceFront(study, { cacheDir, workers: 2, log: line });
+  line(`reference front: ${reference.points.length} designs from one run of ${reference.evaluations} evaluations (population ${reference.population} × ${reference.generations} generations, seed ${reference.seed}, fixed count)${reference.cached ? `, cached in ${reference.file} (made ${reference.madeAt}; delete it to recompute)` : `, computed in ${reference.seconds.toFixed(0)} s and cached in ${reference.file}`}`);
+  const seeds = quick ? [1] : [1, 2, 3];
+  for (const seed of seeds) {
+    const dir = mkdtempSync(join(tmpdir(), 'loopsmith-bench-front-'));
+    try {
+      const dbPath = join(dir, 'front.db');
+      const t0 = performance.now();
+      const summary = await runOptimization(defaultStudy, { dbPath, workers: 2, seed });
+      const seconds = (performance.now() - t0) / 1000;
+      const front = runFrontPoints(dbPath, summary.runId);
+      const share = hypervolumeShare(front, reference.points);
+      line(`demo study, default termination, seed ${seed}: ${(share * 100).toFixed(2)} % of the reference front's hypervolume with ${summary.totalEvaluations} evaluations (${summary.endReason}, generation ${summary.generationsDone - 1}, ${front.length} front designs, ${seconds.toFixed(0)} s)  [target ≥ 99 % in ≤ 10,000]`);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   }
 }

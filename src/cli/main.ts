@@ -130,7 +130,9 @@ function memberSummary(study: Study): string {
     };
     lines.push('', table(['constraint', 'metric', 'min', 'max', 'from'], cons.map((c) => [c.name, c.metric, bound(c, 'min'), bound(c, 'max'), c.origin])));
   }
-  lines.push('', `optimizer: population ${study.optimizer.population}, generations ${study.optimizer.generations}, seed ${study.optimizer.seed}`);
+  const t = study.optimizer.termination;
+  const stop = t.kind === 'generations' ? `${t.generations} generations (fixed)` : `until the front improves by less than ${t.tolerance * 100} % over ${t.window} generations, at most ${t.maxEvaluations} evaluations`;
+  lines.push('', `optimizer: population ${study.optimizer.population}, seed ${study.optimizer.seed}; runs ${stop}`);
   return lines.join('\n');
 }
 

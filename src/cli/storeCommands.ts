@@ -6,7 +6,7 @@ import type { Argv } from 'yargs';
 import { METRICS } from '../mechanics/metrics.js';
 import { runFront } from '../run/front.js';
 import { analyseFront, type StoredFrontAnalysis } from '../run/frontTools.js';
-import { runOptimization, type GenerationProgress } from '../run/optimize.js';
+import { runOptimization, type GenerationProgress, type RunSummary } from '../run/optimize.js';
 import { runSweep } from '../run/sweep.js';
 import { rescoreRun } from '../run/rescore.js';
 import { parseVariation, sensitivity } from '../run/sensitivity.js';
@@ -96,7 +96,18 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('generations', { type: 'number', describe: 'generations in all, the initial population included', coerce: positiveInt('generations') })
           .option('population', { type: 'number', describe: 'population size', coerce: positiveInt('population') })
           .option('from', { type: 'string', describe: 'warm start from the final population of DB[:RUN]' })
-          .option('quiet', { type: 'boolean', default: false }),
+          .option('more', { type: 'string', describe: 'continue the finished run of this study and seed: N more generations, or "converge" (until the front stops improving again)', coerce: moreOption })
+          .option('run', { type: 'number', describe: 'with --more: the run to continue (default: the newest one)', coerce: positiveInt('run') })
+          .option('quiet', { type: 'boolean', default: false })
+          .check((a) => {
+            if (a.more !== undefined && a.generations !== undefined) throw usageError('--more and --generations do not go together: --more N adds N generations to a finished run');
+            if (a.more !== undefined && a.from !== undefined) throw usageError('--more continues a finished run; --from starts a new one: give one of them');
+            if (a.run !== undefined && a.more === undefined) throw usageError('--run only goes with --more (the run to continue)');
+            return true;
+          })
+          .example('$0 run studies/parcel-sorter.yaml', 'optimize until the front stops improving (or 10,000 evaluations)')
+          .example('$0 run studies/parcel-sorter.yaml --more 20', 'continue the finished run for 20 more generations')
+          .example('$0 run studies/parcel-sorter.yaml --more converge', 'continue it until the front stops improving again'),
       async (args) => {
         const loaded = loadStudyFile(args.study);
         const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
@@ -110,17 +121,31 @@ export function registerStoreCommands(cli: Argv): Argv {
             ...(args.generations !== undefined ? { generations: args.generations } : {}),
             ...(args.population !== undefined ? { population: args.population } : {}),
             ...(args.from !== undefined ? { warmStart: parseFrom(args.from) } : {}),
+            ...(args.more !== undefined ? { more: args.more } : {}),
+            ...(args.run !== undefined ? { runId: args.run } : {}),
             shouldStop: interrupt.stop,
             onGeneration: (p: GenerationProgress) =>
-              progress.update(p.generation + 1, p.generations, { rate: p.evaluationsPerSecond, hv: p.hypervolume === null ? '—' : p.hypervolume.toFixed(4), feasible: p.feasibleCount, elapsed: p.elapsedSeconds }),
+              progress.update(p.generation + 1, p.generations, {
+                rate: p.evaluationsPerSecond,
+                // The population's hypervolume is provisional (its frame is fixed at the end); the archive's gain over the window is what decides convergence.
+                hv: `${p.hypervolume === null ? '—' : `${p.hypervolume.toFixed(4)} (provisional)`}, front gain ${p.hvImprovement === null ? '—' : formatImprovement(p.hvImprovement)} per window${p.phase === 'refine' ? ', refining' : ''}`,
+                feasible: p.feasibleCount,
+                elapsed: p.elapsedSeconds,
+              }),
           });
           progress.stop();
           if (!args.quiet) {
             const front = runFront(dbPath, summary.runId);
+            const trajectory = hypervolumeTrajectory(dbPath, summary.runId);
             out(
-              `${summary.status === 'finished' ? 'finished' : 'stopped'} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (resumed at generation ${summary.resumedFromGeneration})` : ''}: ` +
-                `${summary.generationsDone} generations, ${summary.newEvaluations} new evaluations in ${fmtTime(summary.elapsedSeconds)}; ` +
-                `${front.designs.length} designs on the feasible front\ndatabase: ${dbPath}\nnext: loopsmith front ${dbPath}`,
+              [
+                `${summary.status === 'finished' ? 'finished' : 'stopped'} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (${args.more !== undefined ? 'continued' : 'resumed'} at generation ${summary.resumedFromGeneration})` : ''}: ` +
+                  `${summary.generationsDone} generations, ${summary.newEvaluations} new evaluations in ${fmtTime(summary.elapsedSeconds)}; ` +
+                  `${front.designs.length} designs on the feasible front`,
+                ...runStandingLines({ ...summary, trajectory }, continueCommand(args.study, dbPath, args.db !== undefined, summary.runId, args.seed, args.population)),
+                `database: ${dbPath}`,
+                `next: loopsmith front ${dbPath}`,
+              ].join('\n'),
             );
           }
           if (summary.status === 'stopped') process.exitCode = 130;
@@ -265,8 +290,12 @@ export function registerStoreCommands(cli: Argv): Argv {
           }
           out(
             table(
-              ['run', 'study', 'kind', 'status', 'seed', 'generations', 'workers', 'started', 'elapsed'],
-              runs.map((r) => [String(r.id), store.getStudy(r.studyId)?.name ?? '?', r.kind, r.status, String(r.seed), String(r.generationsDone), String(r.workers), r.startedAt, fmtTime(r.elapsedSeconds)]),
+              ['run', 'study', 'kind', 'status', 'ended', 'seed', 'generations', 'last-window HV gain', 'workers', 'started', 'elapsed'],
+              runs.map((r) => {
+                const last = r.kind === 'optimize' ? store.generationStats(r.id).at(-1) : undefined;
+                const gain = last?.hvImprovement === null || last?.hvImprovement === undefined ? '—' : formatImprovement(last.hvImprovement);
+                return [String(r.id), store.getStudy(r.studyId)?.name ?? '?', r.kind, r.status, r.endReason ?? '—', String(r.seed), String(r.generationsDone), gain, String(r.workers), r.startedAt, fmtTime(r.elapsedSeconds)];
+              }),
             ),
           );
         } finally {
@@ -347,6 +376,78 @@ export function registerStoreCommands(cli: Argv): Argv {
         else out(`${formatTable(result.columns, result.rows)}\n(${result.rows.length} rows)`);
       },
     );
+}
+
+/** A command-line mistake found by a check: the CLI reports it like yargs' own (exit 2). */
+function usageError(message: string): Error {
+  const error = new Error(message);
+  error.name = 'YError';
+  return error;
+}
+
+/** --more N (a positive whole number of generations) or --more converge. */
+function moreOption(value: unknown): number | 'converge' | undefined {
+  if (value === undefined) return undefined;
+  const text = String(value).trim();
+  if (text === 'converge' || text === 'convergence') return 'converge';
+  const n = Number(text);
+  if (!Number.isInteger(n) || n < 1) throw new Error(`--more ${text}: give a number of generations (e.g. --more 20) or "converge"`);
+  return n;
+}
+
+/** A relative improvement as a percentage with sensible digits. */
+export function formatImprovement(value: number): string {
+  if (!Number.isFinite(value)) return 'new front';
+  const percent = value * 100;
+  return `${percent < 0.01 ? percent.toExponential(1) : percent < 10 ? percent.toFixed(2) : percent.toFixed(1)} %`;
+}
+
+/** Recorded population-front hypervolume per generation (one frame for the whole run). */
+function hypervolumeTrajectory(dbPath: string, runId: number): { generation: number; hypervolume: number | null }[] {
+  const store = Store.open(dbPath);
+  try {
+    return store.generationStats(runId).map((s) => ({ generation: s.generation, hypervolume: s.hypervolume }));
+  } finally {
+    store.close();
+  }
+}
+
+/** About eight evenly spaced points of a hypervolume trajectory, as text. */
+export function trajectoryText(trajectory: readonly { generation: number; hypervolume: number | null }[]): string {
+  const known = trajectory.filter((t) => t.hypervolume !== null);
+  if (known.length === 0) return '— (no feasible front yet)';
+  const step = Math.max(1, Math.ceil((known.length - 1) / 7));
+  const picked = known.filter((_, i) => i % step === 0 || i === known.length - 1);
+  return picked.map((t) => `g${t.generation} ${t.hypervolume!.toFixed(4)}`).join(' → ');
+}
+
+/** How the run ended, its hypervolume trajectory and last-window improvement, and how to continue it. */
+export function runStandingLines(
+  s: Pick<RunSummary, 'status' | 'endReason' | 'hvImprovement' | 'window' | 'tolerance' | 'stillImproving' | 'totalEvaluations' | 'archiveSize' | 'termination' | 'convergedAt' | 'generationsDone'> & { trajectory: readonly { generation: number; hypervolume: number | null }[] },
+  continueWith: (more: string) => string,
+): string[] {
+  const gain = s.hvImprovement === null ? `not known yet (fewer than ${s.window} generations)` : `${formatImprovement(s.hvImprovement)} over the last ${s.window} generations (tolerance ${formatImprovement(s.tolerance)})`;
+  const budget = s.termination.generations !== undefined ? `its generation count (${s.termination.generations + 1} in all)` : `its evaluation cap (${s.termination.maxEvaluations ?? '?'})`;
+  const lines: string[] = [];
+  if (s.status === 'stopped') lines.push('ended: stopped by the user; run the same command again to resume');
+  else if (s.endReason === 'converged') {
+    const refined = s.convergedAt !== null && s.convergedAt < s.generationsDone - 1 ? `, then ${s.generationsDone - 1 - s.convergedAt} generations of final local refinement` : '';
+    lines.push(`ended: converged — the best front found improved by less than ${formatImprovement(s.tolerance)} over ${s.window} generations at generation ${s.convergedAt ?? '?'}${refined} (${s.totalEvaluations} evaluations)`);
+  }
+  else lines.push(`ended: budget — reached ${budget} after ${s.totalEvaluations} evaluations`);
+  lines.push(`front hypervolume by generation (population front, normalised, reference 1.1): ${trajectoryText(s.trajectory)}`);
+  lines.push(`best front found: ${s.archiveSize} designs; its hypervolume improved by ${gain}`);
+  if (s.status === 'finished' && s.stillImproving) {
+    lines.push(`NOTE: the front was still improving when the run stopped; it is probably not the final answer. Continue with:`);
+    lines.push(`  ${continueWith('converge')}`);
+  }
+  return lines;
+}
+
+/** The exact command that continues this run. */
+function continueCommand(study: string, dbPath: string, dbGiven: boolean, runId: number, seed: number | undefined, population: number | undefined): (more: string) => string {
+  const quote = (t: string): string => (/^[\w./:@%+=,-]+$/.test(t) ? t : `'${t.replace(/'/g, `'\\''`)}'`);
+  return (more) => ['loopsmith run', quote(study), ...(dbGiven ? ['--db', quote(dbPath)] : []), ...(seed !== undefined ? ['--seed', String(seed)] : []), ...(population !== undefined ? ['--population', String(population)] : []), '--more', more, '--run', String(runId)].join(' ');
 }
 
 /** DB or DB:RUN. */

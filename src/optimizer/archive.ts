@@ -226,6 +226,12 @@ export class ParetoArchive {
     return this.view;
   }
 
+  /** Objectives of the members in minimisation form (`max` objectives negated), in member order; fresh arrays. */
+  points(): Float64Array[] {
+    const m = this.objectiveCount;
+    return this.entries.map((_, i) => this.minimized.slice(i * m, (i + 1) * m));
+  }
+
   /** Plain JSON; fromJSON(JSON.parse(JSON.stringify(archive.toJSON()))) gives the same archive. */
   toJSON(): SerializedArchive {
     return {

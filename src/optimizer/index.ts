@@ -10,4 +10,6 @@ export * from './referenceDirections.js';
 export { ParetoArchive } from './archive.js';
 export * from './hypervolume.js';
 export * from './testProblems.js';
+export * from './convergence.js';
+export * from './termination.js';
 export * from './islands.js';

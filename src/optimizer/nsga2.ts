@@ -39,6 +39,7 @@ import {
   crowdedTournament,
   designLayout,
   DesignSet,
+  KIND_CATEGORICAL,
   latinHypercube,
   mutate,
   mutateVariable,
@@ -49,7 +50,9 @@ import {
 import { deserializeEvaluation, ParetoArchive, serializeEvaluation, type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
 import { SeededRandom, type RandomState } from './random.js';
 import { crowdingDistance, NonDominatedSorter } from './sorting.js';
-import { sanitizeEvaluation, validateProblem, type BatchEvaluate, type Evaluation, type ProblemSpec, type Termination } from './types.js';
+import { sanitizeEvaluation, validateProblem, type BatchEvaluate, type Evaluation, type ProblemSpec } from './types.js';
+import { TerminationTracker, type EndReason, type Termination } from './termination.js';
+import type { ConvergenceStatus } from './convergence.js';
 
 export interface Nsga2Settings {
   /** N, the number of parents kept and of offspring made per generation. */
@@ -64,6 +67,36 @@ export interface Nsga2Settings {
   mutationProbability?: number;
   /** Any safe integer. */
   seed: number;
+  /**
+   * Feasibility-seeking start: the initial Latin hypercube has round(k · N) designs, and the
+   * survival rule (constrained domination) keeps the best N of them (default k = 1, the paper's start).
+   */
+  initialOversampling?: number;
+  /**
+   * ε-constraint handling (Takahama & Sakai 2006, see `EpsilonConstraintSettings`); absent: Deb's
+   * constrained domination exactly as in the paper.
+   */
+  epsilonConstraint?: EpsilonConstraintSettings;
+  /** Distribution index of the polynomial moves of the final local refinement (default 100). */
+  refinementEta?: number;
+}
+
+/**
+ * The ε level of Takahama & Sakai 2006 ("Constrained optimization by the ε constrained differential
+ * evolution with gradient-based mutation and feasible elites", IEEE CEC 2006): designs whose
+ * violation is at most ε(t) count as feasible in the sort, so that near-feasible designs with good
+ * objectives keep informing the search while the feasible region is still thinly sampled.
+ * ε(0) is the violation of the design at the `quantile` of the initial population sorted by
+ * violation; ε(t) = ε(0) · (1 - t / T_c)^cp for t < T_c and 0 from generation T_c on, after which
+ * the sort is Deb's constrained domination again. The archive always uses the true violation.
+ */
+export interface EpsilonConstraintSettings {
+  /** T_c: generation from which ε = 0. */
+  generations: number;
+  /** cp (default 5, as in the paper). */
+  exponent?: number;
+  /** θ as a fraction of the initial population (default 0.2, as in the paper). */
+  quantile?: number;
 }
 
 export interface Member {
@@ -91,6 +124,10 @@ export interface Nsga2State {
    * from its population.
    */
   archive?: SerializedArchive;
+  /** ε(0) of the ε-constraint handling, once the initial population is told (absent without it). */
+  epsilonZero?: number;
+  /** 'refine' after startRefinement() (absent: 'search'). */
+  phase?: 'search' | 'refine';
 }
 
 /** Settings with every default filled in. */
@@ -101,6 +138,9 @@ export interface ResolvedNsga2Settings {
   mutationEta: number;
   mutationProbability: number;
   seed: number;
+  initialOversampling: number;
+  epsilonConstraint: Required<EpsilonConstraintSettings> | null;
+  refinementEta: number;
 }
 
 /** Maximum re-mutations of an offspring that duplicates an existing design. */
@@ -114,7 +154,20 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
     mutationEta: settings.mutationEta ?? 20,
     mutationProbability: settings.mutationProbability ?? 1 / problem.variables.length,
     seed: settings.seed,
+    initialOversampling: settings.initialOversampling ?? 1,
+    epsilonConstraint: settings.epsilonConstraint
+      ? { generations: settings.epsilonConstraint.generations, exponent: settings.epsilonConstraint.exponent ?? 5, quantile: settings.epsilonConstraint.quantile ?? 0.2 }
+      : null,
+    refinementEta: settings.refinementEta ?? 100,
   };
+  if (!(resolved.initialOversampling >= 1 && Number.isFinite(resolved.initialOversampling))) {
+    throw new RangeError(`initialOversampling must be a finite number >= 1, got ${resolved.initialOversampling}`);
+  }
+  const epsilon = resolved.epsilonConstraint;
+  if (epsilon && !(Number.isInteger(epsilon.generations) && epsilon.generations >= 1 && epsilon.exponent >= 0 && epsilon.quantile >= 0 && epsilon.quantile <= 1)) {
+    throw new RangeError('epsilonConstraint: generations must be an integer >= 1, exponent >= 0, quantile in [0, 1]');
+  }
+  if (!(resolved.refinementEta >= 0 && Number.isFinite(resolved.refinementEta))) throw new RangeError(`refinementEta must be a finite number >= 0, got ${resolved.refinementEta}`);
   if (!Number.isInteger(resolved.populationSize) || resolved.populationSize < 2) {
     throw new RangeError(`populationSize must be an integer >= 2, got ${resolved.populationSize}`);
   }
@@ -158,6 +211,11 @@ export class Nsga2 {
   private paretoArchive: ParetoArchive;
   /** Designs of the next step and the random state after making them (cache of ask()). */
   private pending: { designs: Float64Array[]; randomAfter: SeededRandom } | undefined;
+  /** ε(0) of the ε-constraint handling (0 without it or before the initial population). */
+  private epsilonZero = 0;
+  /** ε used by the sort of the generation being formed. */
+  private epsilon = 0;
+  private phase: 'search' | 'refine' = 'search';
 
   constructor(problem: ProblemSpec, settings: Nsga2Settings) {
     validateProblem(problem);
@@ -179,6 +237,9 @@ export class Nsga2 {
     }
     optimizer.random = SeededRandom.fromState(state.random);
     optimizer.generationNumber = state.generation;
+    optimizer.epsilonZero = state.epsilonZero ?? 0;
+    optimizer.phase = state.phase ?? 'search';
+    optimizer.epsilon = optimizer.epsilonLevel(state.generation);
     const individuals = state.population.map((entry, j) => {
       if (entry.design.length !== optimizer.layout.count) {
         throw new RangeError(`state: design ${j} has ${entry.design.length} variables, expected ${optimizer.layout.count}`);
@@ -246,6 +307,8 @@ export class Nsga2 {
     });
     const randomAfter = this.pendingRandomAfter();
     for (const individual of offspring) this.paretoArchive.offer(individual.design, individual.evaluation);
+    if (this.generationNumber === -1) this.epsilonZero = this.initialEpsilon(offspring);
+    this.epsilon = this.epsilonLevel(this.generationNumber + 1);
 
     // R_t = P_t ∪ Q_t
     const combined = this.individuals.concat(offspring);
@@ -261,6 +324,35 @@ export class Nsga2 {
   /** Current population P_t with rank and crowding distance (computed within P_t). */
   population(): readonly Member[] {
     return this.members;
+  }
+
+  /** 'search' (NSGA-II generations) or 'refine' (final local refinement, see startRefinement()). */
+  get currentPhase(): 'search' | 'refine' {
+    return this.phase;
+  }
+
+  /** ε used in the sort of the current population (0: Deb's constrained domination). */
+  get epsilonLevelNow(): number {
+    return this.epsilon;
+  }
+
+  /**
+   * From the next ask() on, offspring are local moves around archive members instead of NSGA-II's
+   * make-new-pop: the final local refinement of the front (see makeRefinementPopulation). Survival
+   * stays the paper's. Part of the snapshot.
+   */
+  startRefinement(): void {
+    if (this.generationNumber < 0) throw new Error('startRefinement(): tell the initial population first');
+    if (this.phase === 'refine') return;
+    this.phase = 'refine';
+    this.pending = undefined;
+  }
+
+  /** Back to NSGA-II's make-new-pop after a refinement (used to continue a converged run). */
+  resumeSearch(): void {
+    if (this.phase === 'search') return;
+    this.phase = 'search';
+    this.pending = undefined;
   }
 
   /** Rank-0 feasible members of the current population. */
@@ -288,7 +380,31 @@ export class Nsga2 {
         evaluation: serializeEvaluation(individual.evaluation),
       })),
       archive: this.paretoArchive.toJSON(),
+      ...(this.settings.epsilonConstraint ? { epsilonZero: this.epsilonZero } : {}),
+      ...(this.phase === 'refine' ? { phase: this.phase } : {}),
     };
+  }
+
+  /** Objectives of the archive members in minimisation form (for convergence tests). */
+  archivePoints(): Float64Array[] {
+    return this.paretoArchive.points();
+  }
+
+  /** ε(0): the violation at the θ quantile of the initial population (failed designs excluded). */
+  private initialEpsilon(initial: readonly Individual[]): number {
+    const settings = this.settings.epsilonConstraint;
+    if (!settings) return 0;
+    const violations = initial.map((i) => i.evaluation.violation).filter((v) => Number.isFinite(v)).sort((a, b) => a - b);
+    if (violations.length === 0) return 0;
+    const index = Math.min(violations.length - 1, Math.floor(settings.quantile * initial.length));
+    return violations[index]!;
+  }
+
+  /** ε(t) = ε(0) (1 - t / T_c)^cp for t < T_c, else 0. */
+  private epsilonLevel(generation: number): number {
+    const settings = this.settings.epsilonConstraint;
+    if (!settings || this.epsilonZero <= 0 || generation >= settings.generations || generation < 0) return 0;
+    return this.epsilonZero * Math.pow(1 - generation / settings.generations, settings.exponent);
   }
 
   // ---------------------------------------------------------------- survival
@@ -344,7 +460,8 @@ export class Nsga2 {
     for (let p = 0; p < count; p++) {
       const individual = individuals[p]!;
       this.objectiveScratch.set(individual.minimized, p * objectiveCount);
-      this.violationScratch[p] = individual.evaluation.violation;
+      const violation = individual.evaluation.violation;
+      this.violationScratch[p] = violation <= this.epsilon ? 0 : violation;
     }
     return this.sorter.sort({ count, objectiveCount, objectives: this.objectiveScratch, violations: this.violationScratch });
   }
@@ -378,12 +495,14 @@ export class Nsga2 {
   /** Designs of the next step, drawn from a copy of the committed random state. */
   private makeDesigns(): { designs: Float64Array[]; randomAfter: SeededRandom } {
     const random = this.random.clone();
-    const designs = this.generationNumber < 0 ? this.makeInitialPopulation(random) : this.makeNewPopulation(random);
+    const designs =
+      this.generationNumber < 0 ? this.makeInitialPopulation(random) : this.phase === 'refine' ? this.makeRefinementPopulation(random) : this.makeNewPopulation(random);
     return { designs, randomAfter: random };
   }
 
   private makeInitialPopulation(random: SeededRandom): Float64Array[] {
-    const designs = latinHypercube(this.settings.populationSize, this.layout, random);
+    const count = Math.round(this.settings.initialOversampling * this.settings.populationSize);
+    const designs = latinHypercube(count, this.layout, random);
     const seen = new DesignSet();
     for (const design of designs) {
       for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(design); attempt++) {
@@ -441,6 +560,62 @@ export class Nsga2 {
     }
     return offspring;
   }
+
+  /**
+   * Final local refinement: N neighbours of archive members. A parent is the winner of a binary
+   * tournament between two random archive members on their crowding distance within the archive
+   * (objective space; the sparser region wins, boundary members first), so the moves fill the gaps
+   * of the front; its child changes each real or integer variable with probability min(1, 2 / n)
+   * (at least one) by polynomial mutation with the large distribution index `refinementEta` (steps
+   * of about 1 / (eta + 1) of the range). Categorical variables are kept. This is a Pareto local
+   * search (Paquete, Chiarandini & Stützle 2004, "Pareto local optimum sets in the biobjective
+   * traveling salesman problem: an experimental study") around the archive with a continuous
+   * neighbourhood, used as the final stage of a hybrid search as proposed by Deb & Goel 2001 ("A
+   * hybrid multi-objective evolutionary approach to engineering shape design", EMO 2001).
+   */
+  private makeRefinementPopulation(random: SeededRandom): Float64Array[] {
+    const members = this.paretoArchive.members();
+    if (members.length === 0) return this.makeNewPopulation(random);
+    const layout = this.layout;
+    const points = this.paretoArchive.points();
+    const flat = new Float64Array(points.length * this.objectiveCount);
+    points.forEach((p, i) => flat.set(p, i * this.objectiveCount));
+    const indices = Int32Array.from(points, (_, i) => i);
+    const crowding = new Float64Array(points.length);
+    crowdingDistance(flat, this.objectiveCount, indices, crowding);
+    const seen = new DesignSet();
+    for (const member of this.members) seen.add(member.design);
+    for (const member of members) seen.add(member.design);
+    const movable: number[] = [];
+    for (let i = 0; i < layout.count; i++) if (layout.kinds[i] !== KIND_CATEGORICAL) movable.push(i);
+    const probability = Math.min(1, 2 / Math.max(1, movable.length));
+    const eta = this.settings.refinementEta;
+    const offspring: Float64Array[] = [];
+    while (offspring.length < this.settings.populationSize) {
+      const a = random.int(members.length);
+      const b = random.int(members.length);
+      const parent = crowding[a]! > crowding[b]! ? a : crowding[b]! > crowding[a]! ? b : random.next() <= 0.5 ? a : b;
+      const child = members[parent]!.design.slice();
+      for (let attempt = 0; attempt <= MAX_DUPLICATE_ATTEMPTS && (attempt === 0 || seen.has(child)); attempt++) {
+        if (movable.length === 0) {
+          mutate(child, layout, 1 / layout.count, eta, random);
+        } else {
+          let changed = 0;
+          for (const i of movable) {
+            if (random.next() <= probability) {
+              mutateVariable(child, i, layout, eta, random);
+              changed++;
+            }
+          }
+          if (changed === 0) mutateVariable(child, movable[random.int(movable.length)]!, layout, eta, random);
+        }
+        repair(child, layout);
+      }
+      seen.add(child);
+      offspring.push(child);
+    }
+    return offspring;
+  }
 }
 
 /** Larger crowding distance first; +Infinity ties with +Infinity. */
@@ -452,6 +627,8 @@ function compareCrowdingDescending(a: number, b: number): number {
 export interface GenerationReport {
   generation: number;
   population: readonly Member[];
+  /** Convergence figures of the archive after this generation (see convergence.ts). */
+  convergence: ConvergenceStatus;
   /** Plain-JSON state after this generation, for persisting and resuming. */
   snapshot: () => Nsga2State;
 }
@@ -470,12 +647,23 @@ export interface OptimizeResult {
   front: readonly Member[];
   /** Best front found over the whole run (see Nsga2.archive()); the run's real result. */
   archive: readonly ArchiveMember[];
+  /** Last generation told. */
+  generation: number;
+  /** Designs told (evaluations) in this call. */
+  evaluations: number;
+  /** Why the run ended. */
+  endReason: EndReason;
+  /** Convergence figures after the last generation. */
+  convergence: ConvergenceStatus;
 }
 
 /**
- * Runs NSGA-II to termination with a batch evaluator: the initial population
- * (generation 0) and then `termination.generations` offspring generations,
- * i.e. populationSize * (generations + 1) evaluations from a fresh start.
+ * Runs NSGA-II to termination with a batch evaluator: the initial population (generation 0), then
+ * offspring generations until the termination says stop (see termination.ts): after
+ * `termination.generations` offspring generations (populationSize * (generations + 1) evaluations
+ * from a fresh start), before a generation that would go beyond `maxEvaluations`, or when the
+ * archive's hypervolume stagnates (`convergence`), with an optional final local refinement.
+ * A resumed run is judged on the evaluations of this call only.
  */
 export async function optimize(
   problem: ProblemSpec,
@@ -483,23 +671,43 @@ export async function optimize(
   settings: OptimizeSettings,
 ): Promise<OptimizeResult> {
   const optimizer = settings.resume === undefined ? new Nsga2(problem, settings) : Nsga2.restore(problem, settings, settings.resume);
-  const generations = settings.termination.generations;
-  if (!Number.isInteger(generations) || generations < 0) throw new RangeError(`termination.generations must be an integer >= 0, got ${generations}`);
+  const tracker = new TerminationTracker(settings.termination);
+  let evaluations = 0;
 
-  const step = async (designs: Float64Array[]): Promise<void> => {
-    const evaluations = await evaluate(designs);
-    if (evaluations.length !== designs.length) {
-      throw new RangeError(`evaluate returned ${evaluations.length} evaluations for ${designs.length} designs`);
+  const step = async (designs: Float64Array[]): Promise<{ stop: boolean; reason: EndReason | null; status: ConvergenceStatus }> => {
+    const results = await evaluate(designs);
+    if (results.length !== designs.length) {
+      throw new RangeError(`evaluate returned ${results.length} evaluations for ${designs.length} designs`);
     }
-    optimizer.tell(designs, evaluations);
+    optimizer.tell(designs, results);
+    evaluations += designs.length;
+    const decision = tracker.afterGeneration(optimizer.generation, evaluations, optimizer.settings.populationSize, optimizer.archivePoints());
+    if (decision.startRefinement) optimizer.startRefinement();
     await settings.onGeneration?.({
       generation: optimizer.generation,
       population: optimizer.population(),
+      convergence: decision.status,
       snapshot: () => optimizer.snapshot(),
     });
+    return decision;
   };
 
-  if (optimizer.generation < 0) await step(optimizer.initialDesigns());
-  while (optimizer.generation < generations) await step(optimizer.ask());
-  return { population: optimizer.population(), front: optimizer.front(), archive: optimizer.archive() };
+  let decision = optimizer.generation < 0 ? await step(optimizer.initialDesigns()) : null;
+  if (decision === null && settings.termination.generations !== undefined && optimizer.generation >= settings.termination.generations) {
+    return finish(optimizer, 0, 'budget', tracker.afterGeneration(optimizer.generation, 0, optimizer.settings.populationSize, optimizer.archivePoints()).status);
+  }
+  while (decision === null || !decision.stop) decision = await step(optimizer.ask());
+  return finish(optimizer, evaluations, decision.reason ?? 'budget', decision.status);
+}
+
+function finish(optimizer: Nsga2, evaluations: number, endReason: EndReason, convergence: ConvergenceStatus): OptimizeResult {
+  return {
+    population: optimizer.population(),
+    front: optimizer.front(),
+    archive: optimizer.archive(),
+    generation: optimizer.generation,
+    evaluations,
+    endReason,
+    convergence,
+  };
 }

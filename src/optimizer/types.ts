@@ -46,11 +46,6 @@ export type BatchEvaluate = (
   designs: readonly Float64Array[],
 ) => Promise<readonly Evaluation[]> | readonly Evaluation[];
 
-/** Termination as data; room for more fields later. */
-export interface Termination {
-  /** Number of offspring generations after the initial population. */
-  generations: number;
-}
 
 /**
  * Normalises an evaluator's answer so that the optimizer can rely on it:

@@ -81,6 +81,11 @@ const RUN_RULES: OptionRules<RunOptions> = {
   warmStart: is.optional(is.options<NonNullable<RunOptions['warmStart']>>({ dbPath: DB_PATH, runId: RUN_ID })),
   onGeneration: is.optional(is.function),
   shouldStop: is.optional(is.function),
+  more: is.optional({
+    expected: 'a whole number of generations ≥ 1 or "converge"',
+    problem: (value) => (value === 'converge' || (Number.isInteger(value) && (value as number) >= 1) ? undefined : { path: '', expected: 'a whole number of generations ≥ 1 or "converge"', value }),
+  }),
+  runId: is.optional(RUN_ID),
 };
 
 export async function runOptimization(study: LoadedStudy, options: RunOptions): Promise<RunSummary> {

@@ -62,6 +62,23 @@ export interface ReportData {
   readonly analysis: StoredFrontAnalysis;
   /** The leading designs: the representatives, in their order (extremes, knees, spread). */
   readonly leading: readonly StoredEvaluation[];
+  /** How an optimization run ended and where it stands (end reason, last window's gain, how to continue). */
+  readonly standing?: string;
+}
+
+/** One sentence on how an optimization run ended, from runs.end_reason and the last generation's hv_improvement. */
+export function runStanding(run: RunRow, last: { hvImprovement?: number | null } | undefined, studyName: string): string | undefined {
+  if (run.kind !== 'optimize') return undefined;
+  const termination = run.terminationJson ? (JSON.parse(run.terminationJson) as { convergence?: { window: number; tolerance: number } }) : {};
+  const window = termination.convergence?.window ?? 20;
+  const tolerance = termination.convergence?.tolerance ?? 0.001;
+  const gain = last?.hvImprovement;
+  const gainText = gain === null || gain === undefined ? `not known (fewer than ${window} generations)` : Number.isFinite(gain) ? `${(gain * 100).toPrecision(2)} % over the last ${window} generations` : 'a first front over the last window';
+  const how = run.status === 'finished'
+    ? run.endReason === 'converged' ? 'converged: the best front found stopped improving' : run.endReason === 'budget' ? 'ended on its budget (generation count or evaluation cap)' : 'finished'
+    : `${run.status}`;
+  const still = run.status === 'finished' && run.endReason === 'budget' && (gain === null || gain === undefined || gain >= tolerance);
+  return `${how}; the best front's hypervolume grew by ${gainText}.` + (still ? ` It was still improving: continue it with loopsmith run STUDY --more converge --run ${run.id} (STUDY: the study file of ${studyName}).` : '');
 }
 
 /** Read everything a report shows from the store. */
@@ -74,6 +91,7 @@ export function readReportData(dbPath: string, runId?: number): ReportData {
     const studyRow = store.getStudy(run.studyId)!;
     const { study } = parseStudyText(studyRow.fileText, `${dbPath} (study of run ${run.id})`);
     const stats = store.generationStats(run.id);
+    const standing = runStanding(run, stats.at(-1), study.name);
     const feasiblePerGeneration = stats.map((st) => ({ generation: st.generation, feasible: st.feasibleCount, evaluations: st.evaluations }));
     const hypervolume = stats
       .filter((s) => s.hypervolume !== null && Number.isFinite(s.hypervolume))
@@ -101,7 +119,7 @@ export function readReportData(dbPath: string, runId?: number): ReportData {
     const analysis = analyseFront(front, LEADING_DESIGNS);
     const byFrontId = new Map(front.designs.map((d) => [d.id, d]));
     const leading = analysis.representatives.map((r) => byFrontId.get(r.id)!);
-    return { dbPath, run, study, studyText: studyRow.fileText, hypervolume, feasiblePerGeneration, members, failedCount, front: front.designs, ranked, analysis, leading };
+    return { dbPath, run, study, studyText: studyRow.fileText, hypervolume, feasiblePerGeneration, members, failedCount, front: front.designs, ranked, analysis, leading, ...(standing ? { standing } : {}) };
   } finally {
     store.close();
   }
@@ -369,6 +387,7 @@ function studySection(data: ReportData): string {
     ['study', `${s.name}${s.description ? ' — ' + s.description : ''}`],
     ['database', data.dbPath],
     ['run', `${run.id} (${run.kind}), status ${run.status}, seed ${run.seed}, ${run.generationsDone} generations, ${run.workers} workers, started ${run.startedAt}, ${run.elapsedSeconds.toFixed(0)} s`],
+    ...(data.standing ? ([['ended', data.standing]] as [string, string][]) : []),
     ['designs', `${data.members.length} evaluated members, ${data.members.filter((m) => m.feasible).length} feasible, ${data.front.length} on the feasible front`],
     ['architecture', s.members ? `comparison of ${s.members.map((m) => m.architecture).join(', ')} (a design variable)` : s.architecture],
     [
@@ -684,7 +703,7 @@ export async function buildReportHtml(data: ReportData): Promise<string> {
 <header><h1>${escapeHtml(title)}</h1><p class="lead">${escapeHtml(data.study.description || '')}</p></header>
 ${caution}
 ${studySection(data)}
-<section id="convergence"><h2>Convergence</h2>${convergence}</section>
+<section id="convergence"><h2>Convergence</h2>${data.standing ? `<p class="lead" data-standing>${escapeHtml(data.standing)}</p>` : ''}${convergence}</section>
 <section id="objectives"><h2>Objectives and the Pareto front</h2>${scatter}</section>
 <section id="front"><h2>Feasible Pareto front (${data.front.length} designs)</h2>
 ${frontSummary(data)}

@@ -1,5 +1,5 @@
 /**
- * Pareto front of a stored run: the feasible, non-dominated designs among every design that was a
+ * Pareto front of a stored run: the feasible, non-dominated designs among the optimizer's archive and every design that was a
  * member of any generation of the run (all populations of an optimization, every chunk of a sweep),
  * by the objectives of the run's study. Taking every generation, not only the last population, keeps
  * good designs that the population's fixed size pushed out.
@@ -7,6 +7,7 @@
 import { LoopsmithUserError } from '../core/errors.js';
 import { Store, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
+import { evaluationKey } from './problem.js';
 import type { ObjectiveSpec, Study } from '../study/types.js';
 
 export class FrontError extends LoopsmithUserError {
@@ -52,6 +53,22 @@ export function nonDominated<T>(items: readonly T[], objectives: (item: T) => nu
   return kept.sort((a, b) => a - b).map((i) => items[i]!);
 }
 
+/**
+ * The optimizer's archive of an optimization run (every feasible design it was told that no other
+ * told design dominates, see docs/optimizer.md), looked up in the store by evaluation key. It holds
+ * offspring that the population's fixed size never let in, and the designs of the final local
+ * refinement.
+ */
+function archiveEvaluations(store: Store, optimizerState: string | null, settingsHash: string): StoredEvaluation[] {
+  if (optimizerState === null) return [];
+  const state = JSON.parse(optimizerState) as { nsga2?: { archive?: { members?: { design: number[] }[] } } };
+  const members = state.nsga2?.archive?.members ?? [];
+  if (members.length === 0) return [];
+  const keys = members.map((m) => evaluationKey(settingsHash, Float64Array.from(m.design)));
+  const found = store.findEvaluations(keys);
+  return keys.map((k) => found.get(k)).filter((e): e is StoredEvaluation => e !== undefined && e.feasible && e.error === null);
+}
+
 export function runFront(dbPath: string, runId?: number): FrontResult {
   const store = Store.open(dbPath);
   try {
@@ -63,7 +80,14 @@ export function runFront(dbPath: string, runId?: number): FrontResult {
     if (last === undefined) return { runId: run.id, kind: run.kind, objectives: study.objectives, designs: [], study };
     const generations = Array.from({ length: last + 1 }, (_, g) => g);
     const byId = new Map<number, StoredEvaluation>();
-    for (const g of generations) for (const m of store.generationMembers(run.id, g)) if (m.feasible && m.error === null) byId.set(m.id, m);
+    let settingsHash: string | undefined;
+    for (const g of generations) {
+      for (const m of store.generationMembers(run.id, g)) {
+        settingsHash ??= m.settingsHash;
+        if (m.feasible && m.error === null) byId.set(m.id, m);
+      }
+    }
+    if (settingsHash !== undefined) for (const m of archiveEvaluations(store, run.optimizerState, settingsHash)) byId.set(m.id, m);
     const minimised = (e: StoredEvaluation): number[] =>
       study.objectives.map((o) => {
         const v = e.metrics[o.metric] ?? Number.NaN;

@@ -7,11 +7,12 @@ import { LoopsmithUserError } from '../core/errors.js';
 import { existsSync } from 'node:fs';
 import { designFromValues } from '../mechanics/designSpace.js';
 import { hypervolume } from '../optimizer/hypervolume.js';
-import type { Nsga2State } from '../optimizer/nsga2.js';
+import { Nsga2, type Nsga2Settings, type Nsga2State } from '../optimizer/nsga2.js';
 import { createOptimizer, type AskTellOptimizer } from '../optimizer/algorithm.js';
+import { TerminationTracker, type EndReason, type Termination, type TerminationState } from '../optimizer/termination.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
-import { canonicalJson, Store, type GenerationWrite, type NewEvaluation } from '../store/store.js';
+import { canonicalJson, Store, type GenerationWrite, type NewEvaluation, type RunRow } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
 import { evaluationKey, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
 import { evaluateWithCache } from './batch.js';
@@ -20,8 +21,20 @@ export interface RunOptions extends PoolOptions {
   readonly dbPath: string;
   readonly seed?: number;
   readonly population?: number;
-  /** Generations in all, the initial population included (evaluations ≈ population × generations). */
+  /**
+   * Generations in all, the initial population included (evaluations ≈ population × generations):
+   * a fixed count instead of the study's termination.
+   */
   readonly generations?: number;
+  /**
+   * Continue a finished (or stopped) run of this study, seed and settings (the newest, or `runId`)
+   * for this many more generations, or until it converges again ('converge': at least one more
+   * convergence window, at most the study's max_evaluations more evaluations). The result is the
+   * same as one longer run with the same seed.
+   */
+  readonly more?: number | 'converge';
+  /** With `more`: the run to continue (default: the newest matching one). */
+  readonly runId?: number;
   /** Warm start: the first generation takes the final population of this earlier run (its database and run id; default the latest optimize run there). */
   readonly warmStart?: { readonly dbPath: string; readonly runId?: number };
   /** Called after each committed generation. */
@@ -33,7 +46,14 @@ export interface RunOptions extends PoolOptions {
 export interface GenerationProgress {
   readonly runId: number;
   readonly generation: number;
+  /** Generations in all when the run goes to its cap (an upper bound when it may stop on convergence). */
   readonly generations: number;
+  /** Designs in the optimizer's archive (the best front found so far). */
+  readonly archiveSize: number;
+  /** Relative archive hypervolume improvement over the last window; null before a full window. */
+  readonly hvImprovement: number | null;
+  /** 'search' or 'refine' (final local refinement). */
+  readonly phase: 'search' | 'refine';
   readonly evaluations: number;
   readonly newEvaluations: number;
   readonly failed: number;
@@ -49,10 +69,44 @@ export interface RunSummary {
   readonly status: 'finished' | 'stopped';
   readonly resumedFromGeneration: number | null;
   readonly generationsDone: number;
+  /** Designs evaluated in this call (cached ones included). */
   readonly evaluations: number;
   readonly newEvaluations: number;
   readonly elapsedSeconds: number;
+  /** Designs told to the optimizer over the whole run (all sessions). */
+  readonly totalEvaluations: number;
+  /** Why a finished run ended; null when stopped by the user. */
+  readonly endReason: EndReason | null;
+  /** The termination the run used (generations counted from 0 = initial population). */
+  readonly termination: Termination;
+  /** Relative archive hypervolume improvement over the last `window` generations (null: fewer generations than a window). */
+  readonly hvImprovement: number | null;
+  readonly window: number;
+  readonly tolerance: number;
+  /** Ended on its budget while the improvement over the last window was still at least the tolerance. */
+  readonly stillImproving: boolean;
+  /** Designs in the archive at the end. */
+  readonly archiveSize: number;
+  /** Generation at which the search converged (a final refinement may have followed); null if it did not. */
+  readonly convergedAt: number | null;
 }
+
+/**
+ * Search settings of runs that stop on convergence (the default), chosen so that the demo study's
+ * narrow feasible region (about 1.5 % of a uniform sample) is found early and the front is
+ * filled in before the budget ends; see docs/optimizer.md. Runs with a fixed generation count use
+ * the paper's NSGA-II unchanged.
+ */
+export const CONVERGENCE_SEARCH = {
+  /** Latin hypercube of k · N designs at the start, the best N kept (feasibility-seeking start). */
+  initialOversampling: 4,
+  /** Generations of final local refinement of the front. */
+  refinementGenerations: 10,
+  /** Distribution index of the refinement moves. */
+  refinementEta: 100,
+  /** T_c of the ε-constraint handling (Takahama & Sakai 2006) in generations; 0: Deb's constrained domination. */
+  epsilonGenerations: 0,
+};
 
 /** Fixed objective bounds for the hypervolume record of one run (minimisation form). */
 interface HypervolumeFrame {
@@ -63,6 +117,10 @@ interface HypervolumeFrame {
 interface RunState {
   nsga2: Nsga2State;
   hypervolumeFrame: HypervolumeFrame | null;
+  /** Convergence record and phase of the termination (absent in states written before it existed). */
+  termination?: TerminationState;
+  /** Designs told to the optimizer so far over all sessions (absent in older states). */
+  evaluations?: number;
 }
 
 /** Objectives in minimisation form. */
@@ -157,48 +215,131 @@ function warmStartDesigns(from: { dbPath: string; runId?: number }, sp: StudyPro
   }
 }
 
+/** Search settings and termination for a study (or a --generations override). */
+function searchPlan(loaded: LoadedStudy, population: number, seed: number, fixedGenerations: number | undefined, algorithm: string): { nsga: Nsga2Settings; termination: Termination; search: Record<string, unknown> | null } {
+  const t = loaded.study.optimizer.termination;
+  const fixed = fixedGenerations ?? (t.kind === 'generations' ? t.generations : undefined);
+  if (fixed !== undefined) return { nsga: { populationSize: population, seed }, termination: { generations: fixed - 1 }, search: null };
+  const conv = t.kind === 'convergence' ? t : { window: 20, tolerance: 0.001, maxEvaluations: 10000 };
+  const nsga: Nsga2Settings = {
+    populationSize: population,
+    seed,
+    initialOversampling: CONVERGENCE_SEARCH.initialOversampling,
+    refinementEta: CONVERGENCE_SEARCH.refinementEta,
+    ...(CONVERGENCE_SEARCH.epsilonGenerations > 0 ? { epsilonConstraint: { generations: CONVERGENCE_SEARCH.epsilonGenerations } } : {}),
+  };
+  return {
+    nsga,
+    // The final local refinement is a phase of Nsga2; NSGA-III runs stop on convergence without it.
+    termination: { maxEvaluations: conv.maxEvaluations, convergence: { window: conv.window, tolerance: conv.tolerance }, refinementGenerations: algorithm === 'nsga2' ? CONVERGENCE_SEARCH.refinementGenerations : 0 },
+    search: algorithm === 'nsga2' ? { ...CONVERGENCE_SEARCH } : { ...CONVERGENCE_SEARCH, refinementGenerations: 0 },
+  };
+}
+
+export class ContinueError extends LoopsmithUserError {
+  override readonly name = 'ContinueError';
+}
+
+/** Upper bound of the generations a termination allows (for progress display). */
+function generationBound(termination: Termination, population: number, initial: number): number {
+  if (termination.generations !== undefined) return termination.generations + 1;
+  const cap = termination.maxEvaluations ?? initial;
+  return Math.max(1, 1 + Math.floor((cap - initial) / population));
+}
+
+/** Termination of a continued run: N more generations, or until convergence within one more budget. */
+function continuedTermination(previous: Termination, lastGeneration: number, evaluations: number, more: number | 'converge', studyPlan: Termination): Termination {
+  if (more !== 'converge') return { generations: lastGeneration + more };
+  const convergence = previous.convergence ?? studyPlan.convergence ?? { window: 20, tolerance: 0.001 };
+  const budget = studyPlan.maxEvaluations ?? 10000;
+  return {
+    maxEvaluations: evaluations + budget,
+    convergence,
+    refinementGenerations: previous.refinementGenerations ?? studyPlan.refinementGenerations ?? 0,
+    notBefore: lastGeneration + convergence.window + 1,
+  };
+}
+
 export async function runOptimization(studyIn: LoadedStudy, options: RunOptions): Promise<RunSummary> {
   const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
   const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const population = options.population ?? loaded.study.optimizer.population;
-  const generations = options.generations ?? loaded.study.optimizer.generations;
-  const nsgaSettings = { populationSize: population, seed };
   const algorithm = loaded.study.optimizer.algorithm;
+  // Checked before the database is opened, so that a bad --from creates nothing.
   const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
+  if (options.more !== undefined && !existsSync(options.dbPath)) throw new ContinueError(`--more: ${options.dbPath}: no such database; run the study first (loopsmith run STUDY), then continue it`);
+  const store = Store.open(options.dbPath);
+  const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
+  let continued: RunRow | undefined;
+  try {
+    continued = options.more !== undefined ? findRunToContinue(store, studyId, seed, population, options.runId) : undefined;
+  } catch (error) {
+    store.close();
+    throw error;
+  }
+  // A continued run keeps its own kind of search (a fixed-count run stays the paper's NSGA-II).
+  const continuedFixed = continued !== undefined && !('search' in (JSON.parse(continued.settingsJson) as object));
+  const plan = searchPlan(loaded, population, seed, continuedFixed ? continued!.generationsDone : options.generations, algorithm);
+  const nsgaSettings = plan.nsga;
   const settings = {
     ...(algorithm === 'nsga3' ? { algorithm, population, seed, crossoverProbability: 1, crossoverEta: 30, mutationEta: 20 } : { algorithm, population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20 }),
+    ...(plan.search ? { search: plan.search } : {}),
     ...(warm ? { warmStart: { database: options.warmStart!.dbPath, run: warm.runId } } : {}),
   };
   const settingsJson = canonicalJson(settings);
+  if (continued && continued.settingsJson !== settingsJson) {
+    store.close();
+    throw new ContinueError(`--more: run ${continued.id} was made with other search settings than this loopsmith uses for the study; start a new run instead`);
+  }
 
-  const store = Store.open(options.dbPath);
   const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
   try {
-    const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
     store.ensureColumns(sp.columns);
     let runId: number;
     let optimizer: AskTellOptimizer;
     let frame: HypervolumeFrame | null = null;
     let resumedFrom: number | null = null;
-    const unfinished = store.findUnfinishedRun(studyId, 'optimize', seed, settingsJson);
-    if (unfinished && unfinished.optimizerState) {
-      const state = JSON.parse(unfinished.optimizerState) as RunState;
+    let termination = plan.termination;
+    let trackerState: TerminationState | undefined;
+    let evaluationsSoFar = 0;
+    const previous = continued ?? store.findUnfinishedRun(studyId, 'optimize', seed, settingsJson);
+    if (previous && previous.optimizerState) {
+      const state = JSON.parse(previous.optimizerState) as RunState;
       optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings, state.nsga2);
       frame = state.hypervolumeFrame;
-      runId = unfinished.id;
-      resumedFrom = unfinished.generationsDone;
+      runId = previous.id;
+      resumedFrom = previous.generationsDone;
+      evaluationsSoFar = state.evaluations ?? previous.generationsDone * population;
+      trackerState = state.termination;
+      const recorded = previous.terminationJson ? (JSON.parse(previous.terminationJson) as Termination) : null;
+      if (options.more !== undefined) {
+        termination = continuedTermination(recorded ?? plan.termination, optimizer.generation, evaluationsSoFar, options.more, plan.termination);
+        if (trackerState) trackerState = { ...trackerState, convergedAt: null, refinementFrom: null };
+        if (options.more === 'converge' && optimizer instanceof Nsga2) optimizer.resumeSearch();
+      } else if (recorded) {
+        termination = recorded;
+      }
       store.markRun(runId, 'running', null);
     } else {
-      runId = unfinished?.id ?? store.createRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers });
-      if (unfinished) store.markRun(runId, 'running', null);
+      runId = previous?.id ?? store.createRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers });
+      if (previous) store.markRun(runId, 'running', null);
       optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings);
     }
+    store.setRunEnd(runId, null, termination);
+    const tracker = new TerminationTracker(termination, trackerState);
+    const initialCount = Math.round((nsgaSettings.initialOversampling ?? 1) * population);
+    const generations = generationBound(termination, population, initialCount);
 
     let totalEvaluations = 0;
     let totalNew = 0;
     const started = performance.now();
     let status: 'finished' | 'stopped' = 'finished';
+    let endReason: EndReason | null = null;
+    let lastImprovement: number | null = null;
+    let archiveSize = optimizer.archive().length;
+    let done = optimizer.generation >= 0 && termination.generations !== undefined && optimizer.generation >= termination.generations;
+    if (done) endReason = 'budget';
     // The store write of generation g runs on the main thread while the workers evaluate generation
     // g + 1; its records are served from memory until then, so the database ends up exactly as if
     // every generation had been written before the next was asked for.
@@ -210,16 +351,21 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       pendingWrite = null;
       pendingRecords = new Map();
     };
-    while (optimizer.generation + 1 < generations) {
+    while (!done) {
       const generation = optimizer.generation + 1;
       const genStart = performance.now();
       let designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
       if (generation === 0 && warm) {
-        // Warm start: the earlier run's final population first, then space-filling designs up to the population size.
-        designs = [...warm.designs, ...designs].slice(0, population);
+        // Warm start: the earlier run's final population first, then space-filling designs up to the initial size.
+        designs = [...warm.designs, ...designs].slice(0, designs.length);
       }
       const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, pendingRecords, flush);
       optimizer.tell(designs, evaluations);
+      evaluationsSoFar += designs.length;
+      const decision = tracker.afterGeneration(optimizer.generation, evaluationsSoFar, population, optimizer.archive().map((m) => minimised(sp, m.evaluation)));
+      if (decision.startRefinement && optimizer instanceof Nsga2) optimizer.startRefinement();
+      lastImprovement = decision.status.improvement;
+      archiveSize = decision.status.archiveSize;
 
       const members = optimizer.population();
       const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
@@ -228,7 +374,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       const hv = frame ? frameHypervolume(feasibleFront, frame) : null;
       const elapsed = (performance.now() - genStart) / 1000;
       const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
-      const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame };
+      const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame, termination: tracker.toJSON(), evaluations: evaluationsSoFar };
       pendingWrite = {
         runId,
         generation,
@@ -242,6 +388,8 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
           hypervolume: hv,
           elapsedSeconds: elapsed,
           evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
+          archiveSize,
+          hvImprovement: lastImprovement,
         },
         optimizerState: JSON.stringify(state),
       };
@@ -251,7 +399,10 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       options.onGeneration?.({
         runId,
         generation,
-        generations,
+        generations: Math.max(generations, generation + 1),
+        archiveSize,
+        hvImprovement: lastImprovement,
+        phase: optimizer instanceof Nsga2 ? optimizer.currentPhase : 'search',
         evaluations: designs.length,
         newEvaluations: newRecords.length,
         failed,
@@ -261,14 +412,22 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         elapsedSeconds: (performance.now() - started) / 1000,
         resumed: resumedFrom !== null,
       });
-      if (options.shouldStop?.() && optimizer.generation + 1 < generations) {
+      if (decision.stop) {
+        endReason = decision.reason;
+        break;
+      }
+      if (options.shouldStop?.()) {
         status = 'stopped';
         break;
       }
     }
     flush();
     if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
+    store.setRunEnd(runId, status === 'finished' ? endReason ?? 'budget' : null, termination);
     store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
+    const window = tracker.convergence.window;
+    const tolerance = tracker.convergence.tolerance;
+    const finalReason = status === 'finished' ? endReason ?? 'budget' : null;
     return {
       runId,
       status,
@@ -277,9 +436,37 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       evaluations: totalEvaluations,
       newEvaluations: totalNew,
       elapsedSeconds: (performance.now() - started) / 1000,
+      totalEvaluations: evaluationsSoFar,
+      endReason: finalReason,
+      termination,
+      hvImprovement: lastImprovement,
+      window,
+      tolerance,
+      stillImproving: finalReason === 'budget' && (lastImprovement === null || lastImprovement >= tolerance),
+      archiveSize,
+      convergedAt: tracker.convergedGeneration,
     };
   } finally {
     await pool.close();
     store.close();
   }
+}
+
+/** The run `--more` continues: the given one, or the newest finished/stopped run of this study, seed and population. */
+function findRunToContinue(store: Store, studyId: number, seed: number, population: number, runId: number | undefined): RunRow {
+  const populationOf = (run: RunRow): unknown => (JSON.parse(run.settingsJson) as { population?: unknown }).population;
+  if (runId !== undefined) {
+    const run = store.getRun(runId);
+    if (!run || run.kind !== 'optimize') throw new ContinueError(`--run ${runId}: no such optimization run in this database (see: loopsmith runs DB)`);
+    if (run.studyId !== studyId) throw new ContinueError(`--run ${runId}: that run belongs to another study file; give the study it was run with`);
+    if (run.seed !== seed || populationOf(run) !== population) throw new ContinueError(`--run ${runId}: that run used seed ${run.seed} and population ${String(populationOf(run))}; continue it with the same (--seed, --population)`);
+    if (!run.optimizerState) throw new ContinueError(`--run ${runId}: the run has no stored generation to continue from`);
+    if (run.status === 'running') throw new ContinueError(`--run ${runId}: the run is still running (or was killed): run the same command without --more to resume it first`);
+    return run;
+  }
+  const candidates = store.listRuns().filter((r) => r.kind === 'optimize' && r.studyId === studyId && r.seed === seed && populationOf(r) === population && r.optimizerState !== null);
+  const run = candidates.at(-1);
+  if (!run) throw new ContinueError(`--more: no earlier run of this study with seed ${seed} and these settings in the database to continue; run it first (loopsmith run STUDY)`);
+  if (run.status === 'running') throw new ContinueError(`--more: run ${run.id} is still running (or was killed): run the same command without --more to resume it first`);
+  return run;
 }

@@ -15,7 +15,7 @@ import { readFileSync } from 'node:fs';
 import type Database from 'better-sqlite3';
 
 /** Schema version this code reads and writes; equals the `PRAGMA user_version` set by schema.sql. */
-export const SCHEMA_VERSION = 1;
+export const SCHEMA_VERSION = 2;
 
 /** Raised when a database cannot be used at this schema version. */
 export class SchemaVersionError extends LoopsmithUserError {
@@ -31,11 +31,29 @@ export interface Migration {
 }
 
 /**
- * Steps from older schema versions, in order. Version 1 is the first released
- * schema, so there is none yet. A future version N adds `{ from: N - 1, ... }`
- * here and sets `PRAGMA user_version = N` in schema.sql.
+ * Convergence record of optimization runs: why a run ended (`runs.end_reason`), the termination it
+ * used (`runs.termination_json`), and per generation the archive size and the relative archive
+ * hypervolume improvement over the convergence window (`generation_stats.archive_size`,
+ * `generation_stats.hv_improvement`). Additive: older runs keep NULL in the new columns.
  */
-export const MIGRATIONS: readonly Migration[] = [];
+export const MIGRATION_RUN_END_REASON_AND_CONVERGENCE: Migration = {
+  from: 1,
+  description: 'runs.end_reason and runs.termination_json; generation_stats.archive_size and generation_stats.hv_improvement',
+  apply(db) {
+    db.exec(`
+      ALTER TABLE runs ADD COLUMN end_reason TEXT NULL CHECK (end_reason IN ('converged', 'budget'));
+      ALTER TABLE runs ADD COLUMN termination_json TEXT NULL;
+      ALTER TABLE generation_stats ADD COLUMN archive_size INTEGER NULL;
+      ALTER TABLE generation_stats ADD COLUMN hv_improvement REAL NULL;
+    `);
+  },
+};
+
+/**
+ * Steps from older schema versions, in order. A new version N adds `{ from: N - 1, ... }` here and
+ * sets `PRAGMA user_version = N` in schema.sql.
+ */
+export const MIGRATIONS: readonly Migration[] = [MIGRATION_RUN_END_REASON_AND_CONVERGENCE];
 
 /** Full text of schema.sql, read next to this module (src/store in tests, dist/store when built). */
 export function readSchemaSql(): string {

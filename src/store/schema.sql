@@ -1,4 +1,4 @@
--- loopsmith result store: full schema of version 1.
+-- loopsmith result store: full schema of version 2.
 --
 -- This file creates a fresh database in one transaction (see migrations.ts).
 -- Databases written by older code are brought up to date by the numbered
@@ -43,7 +43,9 @@ CREATE TABLE runs (
   active_since     TEXT NULL,           -- ISO 8601 UTC start of the current session's unaccounted time; NULL when not running
   generations_done INTEGER NOT NULL DEFAULT 0,
   optimizer_state  TEXT NULL,           -- opaque JSON snapshot written with each generation, for resume
-  message          TEXT NULL
+  message          TEXT NULL,
+  end_reason       TEXT NULL CHECK (end_reason IN ('converged', 'budget')), -- why a finished run ended; NULL otherwise
+  termination_json TEXT NULL            -- canonical JSON of the termination the run used (see docs/optimizer.md)
 );
 CREATE INDEX runs_resume_lookup ON runs (study_id, kind, seed, status);
 CREATE INDEX runs_by_parent ON runs (parent_run_id);
@@ -98,6 +100,8 @@ CREATE TABLE generation_stats (
   hypervolume            REAL NULL,
   elapsed_seconds        REAL NOT NULL,    -- [s]
   evaluations_per_second REAL NOT NULL,    -- [1/s]
+  archive_size           INTEGER NULL,     -- designs in the optimizer's archive (best front found so far)
+  hv_improvement         REAL NULL,        -- relative archive hypervolume gain over the convergence window
   PRIMARY KEY (run_id, generation)
 ) WITHOUT ROWID;
 
@@ -108,4 +112,4 @@ CREATE VIEW results AS
 SELECT id, eval_key, settings_hash, first_run_id, violation, feasible, error, eval_seconds
 FROM evaluations;
 
-PRAGMA user_version = 1;
+PRAGMA user_version = 2;

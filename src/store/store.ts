@@ -88,6 +88,10 @@ export interface GenerationStats {
   elapsedSeconds: number;
   /** [1/s] */
   evaluationsPerSecond: number;
+  /** Designs in the optimizer's archive after this generation (absent/null: not recorded). */
+  archiveSize?: number | null;
+  /** Relative archive hypervolume improvement over the convergence window (absent/null: not yet known). */
+  hvImprovement?: number | null;
 }
 
 export interface GenerationWrite {
@@ -124,7 +128,13 @@ export interface RunRow {
   generationsDone: number;
   optimizerState: string | null;
   message: string | null;
+  /** Why a finished optimization run ended ('converged' or 'budget'); null otherwise. */
+  endReason: RunEndReason | null;
+  /** Canonical JSON of the termination the run used; null when not recorded. */
+  terminationJson: string | null;
 }
+
+export type RunEndReason = 'converged' | 'budget';
 
 export interface StudyRow {
   id: number;
@@ -207,6 +217,8 @@ interface RunDbRow {
   generations_done: number;
   optimizer_state: string | null;
   message: string | null;
+  end_reason: RunEndReason | null;
+  termination_json: string | null;
 }
 
 interface StatsDbRow {
@@ -219,6 +231,8 @@ interface StatsDbRow {
   hypervolume: number | null;
   elapsed_seconds: number;
   evaluations_per_second: number;
+  archive_size: number | null;
+  hv_improvement: number | null;
 }
 
 interface StudyDbRow {
@@ -259,6 +273,8 @@ function toRunRow(row: RunDbRow): RunRow {
     generationsDone: row.generations_done,
     optimizerState: row.optimizer_state,
     message: row.message,
+    endReason: row.end_reason ?? null,
+    terminationJson: row.termination_json ?? null,
   };
 }
 
@@ -273,6 +289,8 @@ function toStatsRow(row: StatsDbRow): GenerationStatsRow {
     hypervolume: row.hypervolume,
     elapsedSeconds: row.elapsed_seconds,
     evaluationsPerSecond: row.evaluations_per_second,
+    archiveSize: row.archive_size ?? null,
+    hvImprovement: row.hv_improvement ?? null,
   };
 }
 
@@ -377,7 +395,7 @@ export class Store {
     );
     this.insertStatsStatement = db.prepare(
       `INSERT INTO generation_stats (run_id, generation, evaluations, new_evaluations, failed, feasible_count,
-         hypervolume, elapsed_seconds, evaluations_per_second) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+         hypervolume, elapsed_seconds, evaluations_per_second, archive_size, hv_improvement) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
     );
     this.selectStatsStatement = db.prepare('SELECT * FROM generation_stats WHERE run_id = ? ORDER BY generation');
     this.lastGenerationStatement = db.prepare(
@@ -606,6 +624,18 @@ export class Store {
     }).immediate();
   }
 
+  /**
+   * Records how an optimization run ended (null while it is running or was stopped) and the
+   * termination it used (canonical JSON; null leaves the recorded one).
+   */
+  setRunEnd(runId: number, endReason: RunEndReason | null, termination?: unknown): void {
+    if (endReason !== null && endReason !== 'converged' && endReason !== 'budget') throw new StoreError(`run end reason ${String(endReason)} is not one of converged, budget`);
+    const result = this.db
+      .prepare('UPDATE runs SET end_reason = ?, termination_json = COALESCE(?, termination_json) WHERE id = ?')
+      .run(endReason, termination === undefined ? null : canonicalJson(termination), runId);
+    if (result.changes !== 1) throw new StoreError(`run ${runId} does not exist`);
+  }
+
   // ---------------------------------------------------------------- evaluations
 
   /** Cache lookup: the stored evaluations among `keys` (missing keys are absent from the map). */
@@ -690,6 +720,8 @@ export class Store {
         nullableReal(s.hypervolume),
         s.elapsedSeconds,
         s.evaluationsPerSecond,
+        s.archiveSize ?? null,
+        s.hvImprovement === undefined || s.hvImprovement === null || Number.isNaN(s.hvImprovement) ? null : s.hvImprovement,
       );
 
       const now = this.clock();

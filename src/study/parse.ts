@@ -26,6 +26,7 @@ import {
   type LinkSpec,
   type OrientationSpec,
   type ObjectiveSpec,
+  type OptimizerSettings,
   type ParameterSpec,
   type Study,
   type TaskRegion,
@@ -56,6 +57,8 @@ export const DEFAULT_EVALUATION = {
 } as const;
 
 export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;
+/** Convergence termination used when a study gives no generation count. */
+export const DEFAULT_CONVERGENCE = { window: 20, tolerance: 0.001, maxEvaluations: 10000 } as const;
 
 type Json = null | boolean | number | string | Json[] | { [key: string]: Json };
 type JsonObject = { [key: string]: Json };
@@ -654,13 +657,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     if (metric === 'min_cycle_time' && !drivesIn) throw new StudyError(`${where}: "min_cycle_time" needs drives (their limits set the shortest cycle time)`);
   });
 
-  const optIn = isObject(data['optimizer']) ? data['optimizer'] : {};
-  const optimizer = {
-    algorithm: (optIn['algorithm'] as 'nsga2' | 'nsga3' | undefined) ?? DEFAULT_OPTIMIZER.algorithm,
-    population: (optIn['population'] as number | undefined) ?? DEFAULT_OPTIMIZER.population,
-    generations: (optIn['generations'] as number | undefined) ?? DEFAULT_OPTIMIZER.generations,
-    seed: (optIn['seed'] as number | undefined) ?? DEFAULT_OPTIMIZER.seed,
-  };
+  const optimizer = parseOptimizer(isObject(data['optimizer']) ? data['optimizer'] : {});
 
   const partial = {
     name: data['study'] as string,
@@ -692,6 +689,33 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
   };
   const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
   return { ...partial, baseline };
+}
+
+/**
+ * `optimizer:` — a fixed `generations` count, or (the default) the convergence test of the
+ * `convergence:` block: window, tolerance, max_evaluations.
+ */
+function parseOptimizer(optIn: JsonObject): OptimizerSettings {
+  const algorithm = (optIn['algorithm'] as 'nsga2' | 'nsga3' | undefined) ?? DEFAULT_OPTIMIZER.algorithm;
+  const population = (optIn['population'] as number | undefined) ?? DEFAULT_OPTIMIZER.population;
+  const fixed = optIn['generations'] as number | undefined;
+  const seed = (optIn['seed'] as number | undefined) ?? DEFAULT_OPTIMIZER.seed;
+  const convergenceIn = isObject(optIn['convergence']) ? optIn['convergence'] : undefined;
+  if (fixed !== undefined && convergenceIn !== undefined) {
+    throw new StudyError('optimizer: give either generations (a fixed count) or convergence (stop when the front stops improving), not both');
+  }
+  if (fixed !== undefined) return { algorithm, population, generations: fixed, seed, termination: { kind: 'generations', generations: fixed } };
+  const c = convergenceIn ?? {};
+  const termination = {
+    kind: 'convergence' as const,
+    window: (c['window'] as number | undefined) ?? DEFAULT_CONVERGENCE.window,
+    tolerance: (c['tolerance'] as number | undefined) ?? DEFAULT_CONVERGENCE.tolerance,
+    maxEvaluations: (c['max_evaluations'] as number | undefined) ?? DEFAULT_CONVERGENCE.maxEvaluations,
+  };
+  if (termination.maxEvaluations < 2 * population) {
+    throw new StudyError(`optimizer.convergence.max_evaluations: ${termination.maxEvaluations} leaves no room for a second generation of ${population} designs; give at least ${2 * population}`);
+  }
+  return { algorithm, population, generations: DEFAULT_OPTIMIZER.generations, seed, termination };
 }
 
 function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<string, number | string> {

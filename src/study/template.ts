@@ -78,6 +78,8 @@ baseline:                             # the design that 'loopsmith evaluate' rep
 optimizer:
   algorithm: nsga2                    # nsga3 for four or more objectives (reference directions)
   population: 100
-  generations: 100
   seed: 1
+  # Stops when the best front found improves by less than 0.1 % over 20 generations, or at 10,000
+  # evaluations; give 'generations: N' instead for a fixed count.
+  convergence: { window: 20, tolerance: 0.001, max_evaluations: 10000 }
 `;

@@ -112,9 +112,31 @@ export interface OptimizerSettings {
   /** Search algorithm: NSGA-II (default) or NSGA-III (reference directions; for four or more objectives). */
   readonly algorithm: 'nsga2' | 'nsga3';
   readonly population: number;
+  /** Generations in all, the initial population included: the fixed count when `termination.kind` is 'generations' (default 100 otherwise, unused by `run`). */
   readonly generations: number;
   readonly seed: number;
+  /** How `run` decides to stop: a fixed generation count, or convergence of the front (the default). */
+  readonly termination: StudyTermination;
 }
+
+/** `optimizer.generations` given: exactly that many generations (as before convergence existed). */
+export interface FixedGenerationsTermination {
+  readonly kind: 'generations';
+  readonly generations: number;
+}
+
+/** No generation count given: stop when the front stops improving (see docs/optimizer.md). */
+export interface ConvergenceTermination {
+  readonly kind: 'convergence';
+  /** W: generations over which the improvement is measured (default 20). */
+  readonly window: number;
+  /** Relative archive hypervolume improvement over W generations below which the front counts as found (default 0.001). */
+  readonly tolerance: number;
+  /** Cap on evaluations (default 10,000). */
+  readonly maxEvaluations: number;
+}
+
+export type StudyTermination = FixedGenerationsTermination | ConvergenceTermination;
 
 /** A duty cycle the design must run (see docs/duty-cycle.md). */
 export interface DutyCycleSpec {

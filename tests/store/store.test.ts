@@ -1,6 +1,6 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
-import { existsSync, mkdtempSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import {
@@ -21,10 +21,20 @@ const temporaryDirectories: string[] = [];
 const openStores: Store[] = [];
 const openConnections: Database.Database[] = [];
 
+/** schema.sql of version 1, as released (the migration test starts from it). */
+const SCHEMA_V1 = readFileSync(new URL('../fixtures/schema-v1.sql', import.meta.url), 'utf8');
+
 function tempDbPath(): string {
   const directory = mkdtempSync(join(tmpdir(), 'loopsmith-store-'));
   temporaryDirectories.push(directory);
   return join(directory, 'nested', 'folder', 'study.db');
+}
+
+/** A path in an existing folder, for raw connections that create the file themselves. */
+function flatDbPath(): string {
+  const directory = mkdtempSync(join(tmpdir(), 'loopsmith-store-'));
+  temporaryDirectories.push(directory);
+  return join(directory, 'study.db');
 }
 
 function openStore(path: string, clock?: () => Date): Store {
@@ -105,7 +115,7 @@ describe('schema creation and version', () => {
     expect(existsSync(path)).toBe(true);
     const db = rawConnection(path, { readonly: true });
     expect(db.pragma('user_version', { simple: true })).toBe(SCHEMA_VERSION);
-    expect(SCHEMA_VERSION).toBe(1);
+    expect(SCHEMA_VERSION).toBe(2);
     const names = (db.prepare("SELECT name, type FROM sqlite_schema WHERE name NOT LIKE 'sqlite_%' ORDER BY name").all() as {
       name: string;
       type: string;
@@ -179,10 +189,10 @@ describe('schema creation and version', () => {
   });
 
   it('applies numbered migrations in order, each in a transaction, and refuses a gap', () => {
-    expect(MIGRATIONS).toEqual([]); // version 1 is the first schema
-    const path = tempDbPath();
-    openStore(path).close();
+    expect(MIGRATIONS.map((m) => m.from)).toEqual([1]); // version 1 was the first schema
+    const path = flatDbPath();
     const db = rawConnection(path);
+    migrate(db, { targetVersion: 1, schemaSql: SCHEMA_V1 }); // a store written by the first schema
     db.pragma('foreign_keys = ON');
 
     // A failing step rolls back and leaves the version alone.
@@ -208,7 +218,37 @@ describe('schema creation and version', () => {
     expect((db.prepare("SELECT COUNT(*) AS n FROM pragma_table_info('runs') WHERE name = 'note'").get() as { n: number }).n).toBe(1);
 
     expect(() => migrate(db, { targetVersion: 3, migrations: working })).toThrow(/no migration from it/);
-    expect(() => migrate(db)).toThrow(SchemaVersionError); // version 2 is newer than this code
+    expect(() => migrate(db, { targetVersion: 1 })).toThrow(SchemaVersionError); // version 2 is newer than that
+  });
+
+  it('migrates a version 1 store to exactly the columns schema.sql creates, keeping its rows (runs.end_reason, generation_stats.hv_improvement, ...)', () => {
+    const oldPath = flatDbPath();
+    const old = rawConnection(oldPath);
+    migrate(old, { targetVersion: 1, schemaSql: SCHEMA_V1 });
+    old.exec(`INSERT INTO studies (name, architecture, file_text, file_hash, settings_hash, created_at) VALUES ('s', 'five-bar', 'x', 'h', 'sh', '2026-01-01T00:00:00Z');
+      INSERT INTO runs (study_id, kind, seed, settings_json, status, workers, started_at) VALUES (1, 'optimize', 1, '{}', 'finished', 1, '2026-01-01T00:00:00Z');
+      INSERT INTO generation_stats VALUES (1, 0, 10, 10, 0, 3, 0.5, 1.0, 10.0);`);
+    old.close();
+    const upgraded = openStore(oldPath);
+    expect(upgraded.getRun(1)).toMatchObject({ status: 'finished', endReason: null, terminationJson: null });
+    expect(upgraded.generationStats(1)[0]).toMatchObject({ hypervolume: 0.5, archiveSize: null, hvImprovement: null });
+    upgraded.setRunEnd(1, 'converged', { maxEvaluations: 100 });
+    expect(upgraded.getRun(1)).toMatchObject({ endReason: 'converged', terminationJson: '{"maxEvaluations":100}' });
+    expect(() => upgraded.setRunEnd(1, 'bored' as 'budget')).toThrow(/not one of/);
+    upgraded.close();
+    const freshPath = tempDbPath();
+    openStore(freshPath).close();
+    const columns = (path: string, table: string): unknown[] => {
+      const db = rawConnection(path, { readonly: true });
+      try {
+        return db.prepare(`SELECT name, type, "notnull", dflt_value, pk FROM pragma_table_info('${table}') ORDER BY cid`).all();
+      } finally {
+        db.close();
+      }
+    };
+    for (const table of ['studies', 'runs', 'column_sets', 'evaluations', 'generation_members', 'generation_stats']) {
+      expect(columns(oldPath, table)).toEqual(columns(freshPath, table));
+    }
   });
 });
 

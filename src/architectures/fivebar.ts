@@ -13,6 +13,7 @@ import {
   solvePose as fiveBarSolvePose,
   type FiveBarModel,
 } from '../mechanics/fivebar.js';
+import { leggedBodyTree, leggedTreeJoints, type LegChain } from './legged.js';
 import {
   allWorkingModes,
   ArchitecturePose,
@@ -108,6 +109,34 @@ export function wrapFiveBarModel(engine: FiveBarModel, movingMass: number, drive
   return { architecture: 'five-bar', dof: 2, actuators: ['revolute', 'revolute'], assembly: engine.assembly, characteristicLength: 1, drives, engine, movingMass };
 }
 
+/** The engine model as a leg chain (two crank legs, the end mass on rod 1), for the body tree. */
+function fiveBarLegChain(model: FiveBarModel): LegChain {
+  return {
+    dof: 2,
+    actuators: ['revolute', 'revolute'],
+    baseX: model.pivotX,
+    baseY: model.pivotY,
+    railX: [1, 1],
+    railY: [0, 0],
+    crank: model.crank,
+    rod: model.rod,
+    platformX: [0, 0],
+    platformY: [0, 0],
+    jointLimits: model.jointLimits,
+    proximalInertia: model.crankInertiaAboutPivot,
+    proximalFirstMoment: model.crankFirstMoment,
+    rodMass: model.rodMass,
+    rodComDistance: model.rodComDistance,
+    rodInertiaAboutCom: model.rodInertiaAboutCom,
+    // The engine keeps end hub and payload as one point mass at P.
+    platformMass: model.endMass,
+    platformInertia: 0,
+    payloadMass: 0,
+    reflectedInertia: model.reflectedInertia,
+    gravity: model.gravity,
+  };
+}
+
 function copyKinematics(model: FiveBarModel, e: FiveBarPose, pose: ArchitecturePose): void {
   pose.x = e.x;
   pose.y = e.y;
@@ -178,4 +207,12 @@ export const fiveBar: PlanarArchitecture<FiveBarArchitectureModel> = {
   reachableBox: (model): PlaneBox | null => fiveBarReachableBox(model.engine),
   footprint: (model) => fiveBarFootprint(model.engine),
   movingMass: (model) => model.movingMass,
+  bodyTree: (model) => {
+    const tree = leggedBodyTree(fiveBarLegChain(model.engine));
+    return {
+      ...tree,
+      bodies: tree.bodies.map((b) => (b.name === 'end_mass' ? { ...b, parts: `point mass at the end point: end hub plus payload, ${model.engine.endMass} kg (carried on the tip of rod 1)` } : b)),
+    };
+  },
+  bodyTreeJoints: (model, pose) => leggedTreeJoints(fiveBarLegChain(model.engine), pose),
 };

@@ -34,7 +34,9 @@ import {
   type ActuatorKind,
   type ArchitectureModelBase,
   type ArchitectureName,
+  type BodyTree,
   type DriveAtJoint,
+  type TreeBody,
   type JointRange,
   type LinkSection,
   type ModelInput,
@@ -663,6 +665,146 @@ export function leggedFootprint(model: LeggedModel): number {
   let diameter = 0;
   for (let a = 0; a < xs.length; a++) for (let b = a + 1; b < xs.length; b++) diameter = Math.max(diameter, Math.hypot(xs[a]! - xs[b]!, ys[a]! - ys[b]!));
   return diameter + reach + radius;
+}
+
+/** The fields of a leg-based model that describe its bodies (the five-bar adapter builds one too). */
+export type LegChain = Pick<
+  LeggedModel,
+  | 'dof' | 'actuators' | 'baseX' | 'baseY' | 'railX' | 'railY' | 'crank' | 'rod' | 'platformX' | 'platformY' | 'jointLimits'
+  | 'proximalInertia' | 'proximalFirstMoment' | 'rodMass' | 'rodComDistance' | 'rodInertiaAboutCom'
+  | 'platformMass' | 'platformInertia' | 'payloadMass' | 'reflectedInertia' | 'gravity'
+>;
+
+/**
+ * Crank body (bar plus elbow hub) from its inertia I and first moment F about the pivot, the only
+ * two numbers of it that enter the motion of a body on a fixed hinge. With the lumping of
+ * buildLeggedModel (uniform bar m_b: F = m_b p/2, I = m_b p²/3; hub h at p: F = h p, I = h p²) the
+ * mass is m = 4F/p − 3I/p² (derived), the centre of mass F/m, and I_com = I − F²/m.
+ */
+export function crankMassProperties(model: LegChain, i: number): { mass: number; centreOfMass: number; inertiaAboutCom: number } {
+  const p = model.crank[i]!;
+  const firstMoment = model.proximalFirstMoment[i]!;
+  const inertia = model.proximalInertia[i]!;
+  if (!(firstMoment > 0) || !(p > 0)) return { mass: 0, centreOfMass: 0, inertiaAboutCom: Math.max(inertia, 0) };
+  // Never below F²/I, which would make I_com < 0.
+  const mass = Math.max((4 * firstMoment) / p - (3 * inertia) / (p * p), (firstMoment * firstMoment) / inertia);
+  const centreOfMass = firstMoment / mass;
+  const inertiaAboutCom = Math.max(inertia - firstMoment * centreOfMass, 0);
+  return { mass, centreOfMass, inertiaAboutCom };
+}
+
+/**
+ * Body tree of a leg-based model: per leg from its base, a crank (hinge theta_i) or a slider carriage
+ * (slide slide_i along the rail), then the rod (hinge elbow_i relative to the crank, or beta_i absolute
+ * on a carriage) with a site tip_i at its distal pin. 2-DOF: the end mass (end hub + payload) fixed on
+ * the tip of rod 1, closed by tip_1 = tip_2. 3-DOF: the platform on the tip of rod 1 (hinge
+ * platform_joint = φ − β_1), its frame at pin B_1 with x at φ, so P sits at −b_1 (site centre) and pin k
+ * at b_k − b_1 (site pin_k); the payload at P; closures tip_k = pin_k (k = 2, 3).
+ */
+export function leggedBodyTree(model: LegChain): BodyTree {
+  const n = model.dof;
+  const bodies: TreeBody[] = [];
+  for (let i = 0; i < n; i++) {
+    const leg = i + 1;
+    const range = model.jointLimits[i] ?? null;
+    const armature = model.reflectedInertia[i]!;
+    const d = model.rod[i]!;
+    const revolute = model.actuators[i] === 'revolute';
+    if (revolute) {
+      const crank = crankMassProperties(model, i);
+      bodies.push({
+        name: `crank_${leg}`, parent: null, origin: [model.baseX[i]!, model.baseY[i]!],
+        joint: { name: `theta_${leg}`, kind: 'revolute', axis: [0, 0], actuator: i, range, armature },
+        shape: 'bar', length: model.crank[i]!, mass: crank.mass, centreOfMass: [crank.centreOfMass, 0], inertiaAboutCom: crank.inertiaAboutCom,
+        sites: [], parts: 'uniform bar plus elbow hub at the crank end',
+      });
+    } else {
+      bodies.push({
+        name: `slider_${leg}`, parent: null, origin: [model.baseX[i]!, model.baseY[i]!],
+        joint: { name: `slide_${leg}`, kind: 'prismatic', axis: [model.railX[i]!, model.railY[i]!], actuator: i, range, armature },
+        shape: 'carriage', length: 0, mass: model.proximalInertia[i]!, centreOfMass: [0, 0], inertiaAboutCom: 0,
+        sites: [], parts: `slider carriage ${model.proximalInertia[i]!} kg, translating along rail ${leg} (it does not turn)`,
+      });
+    }
+    bodies.push({
+      name: `rod_${leg}`, parent: revolute ? `crank_${leg}` : `slider_${leg}`, origin: [revolute ? model.crank[i]! : 0, 0],
+      joint: { name: revolute ? `elbow_${leg}` : `beta_${leg}`, kind: 'revolute', axis: [0, 0], actuator: null, range: null, armature: 0 },
+      shape: 'bar', length: d, mass: model.rodMass[i]!, centreOfMass: [model.rodComDistance[i]!, 0], inertiaAboutCom: model.rodInertiaAboutCom[i]!,
+      sites: [{ name: `tip_${leg}`, at: [d, 0] }], parts: 'uniform bar',
+    });
+    if (i === 0) bodies.push(...endBodies(model));
+  }
+  const closures = n === 2
+    ? [{ name: 'loop_closure', site1: 'tip_1', site2: 'tip_2' }]
+    : Array.from({ length: n - 1 }, (_, k) => ({ name: `loop_closure_${k + 2}`, site1: `tip_${k + 2}`, site2: `pin_${k + 2}` }));
+  return { bodies, closures, gravity: model.gravity };
+}
+
+/** The bodies carried by the tip of rod 1: the end mass (2-DOF) or the platform and payload (3-DOF). */
+function endBodies(model: LegChain): TreeBody[] {
+  const tip: [number, number] = [model.rod[0]!, 0];
+  if (model.dof === 2) {
+    const mass = model.platformMass + model.payloadMass;
+    return [{
+      name: 'end_mass', parent: 'rod_1', origin: tip, joint: null, shape: 'point', length: 0, mass, centreOfMass: [0, 0], inertiaAboutCom: 0,
+      sites: [{ name: 'end_point', at: [0, 0] }],
+      parts: `point mass at the end point: end hub ${model.platformMass} kg plus payload ${model.payloadMass} kg (carried on the tip of rod 1)`,
+    }];
+  }
+  const b1x = model.platformX[0]!;
+  const b1y = model.platformY[0]!;
+  const centre: [number, number] = [-b1x, -b1y];
+  const pins = model.platformX.map((x, k) => ({ name: `pin_${k + 1}`, at: [x - b1x, model.platformY[k]! - b1y] as [number, number] }));
+  return [
+    {
+      name: 'platform', parent: 'rod_1', origin: tip,
+      joint: { name: 'platform_joint', kind: 'revolute', axis: [0, 0], actuator: null, range: null, armature: 0 },
+      shape: 'plate', length: 0, mass: model.platformMass, centreOfMass: centre, inertiaAboutCom: model.platformInertia,
+      sites: [{ name: 'centre', at: centre }, ...pins], parts: 'rigid platform, centre of mass at its centre P, inertia about P',
+    },
+    {
+      name: 'payload', parent: 'platform', origin: centre, joint: null, shape: 'point', length: 0, mass: model.payloadMass, centreOfMass: [0, 0],
+      inertiaAboutCom: 0, sites: [], parts: `payload, point mass ${model.payloadMass} kg at P`,
+    },
+  ];
+}
+
+const TWO_PI = 2 * Math.PI;
+
+/** Angle in (−π, π]. */
+export function wrapAngle(angle: number): number {
+  let a = angle % TWO_PI;
+  if (a <= -Math.PI) a += TWO_PI;
+  else if (a > Math.PI) a -= TWO_PI;
+  return a;
+}
+
+/** Actuated angle written inside its range [min, min + 2π) when there is one, else in (−π, π]. */
+export function angleInRange(angle: number, range: JointRange | null): number {
+  if (range === null) return wrapAngle(angle);
+  let t = (angle - range.min) % TWO_PI;
+  if (t < 0) t += TWO_PI;
+  return range.min + t;
+}
+
+/** Joint coordinates of leggedBodyTree's joints (tree order) at a solved pose. */
+export function leggedTreeJoints(model: LegChain, pose: ArchitecturePose): Float64Array {
+  const n = model.dof;
+  const out = new Float64Array(2 * n + (n === 3 ? 1 : 0));
+  let k = 0;
+  for (let i = 0; i < n; i++) {
+    const beta = Math.atan2(pose.rodDirection[2 * i + 1]!, pose.rodDirection[2 * i]!);
+    if (model.actuators[i] === 'revolute') {
+      const theta = angleInRange(pose.q[i]!, model.jointLimits[i] ?? null);
+      out[k++] = theta;
+      out[k++] = wrapAngle(beta - theta);
+    } else {
+      out[k++] = pose.q[i]!;
+      out[k++] = wrapAngle(beta);
+    }
+    if (i === 0 && n === 3) out[k++] = wrapAngle(pose.phi - beta);
+  }
+  return out;
 }
 
 /** Shared determinant re-export for tests of the singularity condition. */

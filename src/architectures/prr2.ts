@@ -18,6 +18,8 @@ import {
   solveLeggedPose,
   twoLegForwardKinematics,
   type LeggedModel,
+  leggedBodyTree,
+  leggedTreeJoints,
 } from './legged.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
 
@@ -54,6 +56,8 @@ export const prr2: PlanarArchitecture<LeggedModel> = {
   reachableBox: (model) => leggedReachableBox(model, 0),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  bodyTree: leggedBodyTree,
+  bodyTreeJoints: leggedTreeJoints,
 };
 
 /**

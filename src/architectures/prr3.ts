@@ -19,6 +19,8 @@ import {
   solveLeggedPose,
   type LegGeometry,
   type LeggedModel,
+  leggedBodyTree,
+  leggedTreeJoints,
 } from './legged.js';
 import { legAngle } from './rrr3.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
@@ -60,4 +62,6 @@ export const prr3: PlanarArchitecture<LeggedModel> = {
   reachableBox: leggedReachableBox,
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  bodyTree: leggedBodyTree,
+  bodyTreeJoints: leggedTreeJoints,
 };

@@ -20,6 +20,8 @@ import {
   solveLeggedPose,
   type LegGeometry,
   type LeggedModel,
+  leggedBodyTree,
+  leggedTreeJoints,
 } from './legged.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
 
@@ -66,4 +68,6 @@ export const rrr3: PlanarArchitecture<LeggedModel> = {
   reachableBox: leggedReachableBox,
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  bodyTree: leggedBodyTree,
+  bodyTreeJoints: leggedTreeJoints,
 };

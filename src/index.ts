@@ -46,7 +46,7 @@ export { queryEvaluations, QueryError } from './store/query.js';
 // Drive changes and candidates for detailed simulation
 export { rescoreRun, type RescoreOptions, type RescoreResult } from './run/rescore.js';
 export * as exporting from './export/index.js';
-export { exportCandidates, candidateSheet, toMjcf } from './export/index.js';
+export { exportCandidates, candidateSheet, architectureMjcf } from './export/index.js';
 
 // Pictures
 export { renderWorkspaceMap, workspaceMapSpec } from './report/map.js';
@@ -59,5 +59,5 @@ export * as simulation from './simulate/index.js';
 // Other architectures
 export { ARCHITECTURES } from './architectures/index.js';
 export type { PlanarArchitecture, ArchitectureName } from './architectures/types.js';
-export { candidateExport } from './export/candidateArchitecture.js';
+export { candidateExport } from './export/candidate.js';
 export { renderArchitectureMap } from './report/architectureMap.js';

@@ -16,12 +16,7 @@ import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
-import {
-  architectureJointPositions,
-  architectureMjcf,
-  architectureMjcfClosures,
-  architectureMjcfJoints,
-} from '../../src/export/mjcfArchitecture.js';
+import { architectureMjcf, treeMjcfJoints } from '../../src/export/mjcf.js';
 import { findPoses, PRR2_INPUT, PRR3_INPUT, RRR3_INPUT, type ArchitectureCase } from '../architectures/models.js';
 import { SimulatedModel } from './mujocoSim.js';
 
@@ -90,8 +85,8 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
     const openXml = xml().replace(/<option ([^>]*)\/>/, '<option $1><flag equality="disable"/></option>');
     expect(openXml).toContain('equality="disable"');
     const open = await SimulatedModel.load(openXml, `${c.label}-open.xml`);
-    const closures = architectureMjcfClosures(model);
-    const joints = architectureMjcfJoints(model);
+    const closures = c.architecture.bodyTree(model).closures;
+    const joints = treeMjcfJoints(c.architecture.bodyTree(model));
     try {
       // 2-DOF: 2 legs × 2 joints, one pin; 3-DOF: 3 × 2 + platform hinge, two pins (derived from the chain layout).
       expect(sim.sizes).toEqual({ nq: 2 * n + (n === 3 ? 1 : 0), nv: 2 * n + (n === 3 ? 1 : 0), nu: n, nkey: 1, neq: n - 1 });
@@ -101,7 +96,7 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
       for (const [k, p] of poses.entries()) {
         expect(c.architecture.solvePose(model, pose, p.x, p.y, p.phi)).toBe(PoseStatus.Assembled);
         c.architecture.poseDynamics(model, pose);
-        const qpos = architectureJointPositions(model, pose);
+        const qpos = c.architecture.bodyTreeJoints(model, pose);
         sim.placeAtRest(qpos, pose.tauG);
         // Every rod tip on the engine's distal joint (x, y) ↦ (x, 0, y): axes and angle senses agree (derived).
         for (let i = 0; i < n; i++) {
@@ -139,7 +134,7 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
       sim.resetToKeyframe('home');
       expect(c.architecture.solvePose(model, pose, home.x, home.y, home.phi)).toBe(PoseStatus.Assembled);
       c.architecture.poseDynamics(model, pose);
-      expect(Array.from(sim.jointPositions())).toEqual(Array.from(architectureJointPositions(model, pose)));
+      expect(Array.from(sim.jointPositions())).toEqual(Array.from(c.architecture.bodyTreeJoints(model, pose)));
       expect(Array.from(sim.controls())).toEqual(Array.from(pose.tauG));
       const start = sim.jointPositions();
       const steps = Math.round(1 / sim.timestep);
@@ -165,7 +160,7 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
       // Total mass = moving mass + payload (the crank body mass is recovered from I and F about the pivot).
       const total = Array.from(sim.bodyMasses()).reduce((a, b) => a + b, 0);
       expect(Math.abs(total - (model.movingMass + model.payloadMass))).toBeLessThan(1e-12);
-      const joints = architectureMjcfJoints(model);
+      const joints = treeMjcfJoints(c.architecture.bodyTree(model));
       const armature = sim.armature();
       joints.forEach((joint, q) => {
         const leg = Number(/_(\d)$/.exec(joint.name)?.[1] ?? '0') - 1;

@@ -137,9 +137,17 @@ function fiveBarLegChain(model: FiveBarModel): LegChain {
   };
 }
 
+/** Reach margin of leg i at P, m (the engine's annulus rule: min(ρ − |p − d|, p + d − ρ)). */
+function legReach(model: FiveBarModel, i: 0 | 1, x: number, y: number): number {
+  const rho = Math.hypot(x - model.pivotX[i], y - model.pivotY[i]);
+  return Math.min(rho - Math.abs(model.crank[i] - model.rod[i]), model.crank[i] + model.rod[i] - rho);
+}
+
 function copyKinematics(model: FiveBarModel, e: FiveBarPose, pose: ArchitecturePose): void {
   pose.x = e.x;
   pose.y = e.y;
+  pose.legReachMargin[0] = legReach(model, 0, e.x, e.y);
+  pose.legReachMargin[1] = legReach(model, 1, e.x, e.y);
   pose.phi = 0;
   pose.reachMargin = e.reachMargin;
   pose.jointMargin = e.jointMargin;

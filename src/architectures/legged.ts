@@ -236,6 +236,7 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
       const wy = distalY - model.baseY[i]!;
       const rho = Math.sqrt(wx * wx + wy * wy);
       const margin = Math.min(rho - Math.abs(p - d), p + d - rho);
+      pose.legReachMargin[i] = margin;
       if (margin < reach) reach = margin;
       if (margin < 0 || rho === 0) {
         reachable = false;
@@ -261,6 +262,7 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
       const wy = distalY - model.baseY[i]!;
       const offset = dirX * wy - dirY * wx; // cross(e_r, w): distance of B_i from the rail line
       const margin = d - Math.abs(offset);
+      pose.legReachMargin[i] = margin;
       if (margin < reach) reach = margin;
       if (margin < 0) {
         reachable = false;

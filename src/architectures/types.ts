@@ -149,6 +149,8 @@ export class ArchitecturePose {
   phi = 0;
   /** Smallest reach margin over the legs, m (negative outside a leg's reach). */
   reachMargin = 0;
+  /** Each leg's own reach margin, m (negative outside that leg's reach; filled for every leg by solvePose). */
+  readonly legReachMargin: Float64Array;
   /** Smallest joint-range margin, in joint units (rad or m; +∞ when unlimited). */
   jointMargin = Infinity;
   /** Actuated joint positions q_i: rad (revolute) or m (prismatic slider position along its rail). */
@@ -218,6 +220,7 @@ export class ArchitecturePose {
     this.dof = dof;
     const n = dof;
     this.q = new Float64Array(n);
+    this.legReachMargin = new Float64Array(n);
     this.actuatorDirection = new Float64Array(2 * n);
     this.proximalJoint = new Float64Array(2 * n);
     this.distalJoint = new Float64Array(2 * n);

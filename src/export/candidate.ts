@@ -265,8 +265,20 @@ function driveSheet(drive: DriveSpec, kind: ActuatorKind, atJoint: DriveAtJoint)
   };
 }
 
+/** What a body is made of in the study's words: its link section's label (crank_i, rod_i) and the hub and payload masses. */
+function partsText(name: string, parts: string, study: Study): string {
+  const link = /^(crank|rod)_(\d+)$/.exec(name);
+  if (link) {
+    const section = (link[1] === 'crank' ? study.links.cranks : study.links.rods)[Number(link[2]) - 1];
+    const label = section ? ` (${section.label})` : '';
+    return link[1] === 'crank' ? `uniform bar${label} plus elbow hub ${study.elbowHubMass} kg at the crank end` : `uniform bar${label}`;
+  }
+  if (name === 'end_mass') return `point mass at the end point: end hub ${study.endHubMass} kg plus payload ${study.payloadMass} kg (carried on the tip of rod 1)`;
+  return parts;
+}
+
 /** Body sheets walked from the body tree at joint coordinates `joints`. */
-function bodySheets(tree: BodyTree, joints: ArrayLike<number>): Record<string, BodySheet> {
+function bodySheets(tree: BodyTree, joints: ArrayLike<number>, study: Study): Record<string, BodySheet> {
   const frames = bodyFrames(tree, joints);
   const out: Record<string, BodySheet> = {};
   for (const body of tree.bodies) {
@@ -280,7 +292,7 @@ function bodySheets(tree: BodyTree, joints: ArrayLike<number>): Record<string, B
       centreOfMass: body.shape === 'bar' ? body.centreOfMass[0] : 0,
       inertiaAboutCom: body.inertiaAboutCom,
       centreOfMassAtHome: { x: cx, y: cy },
-      parts: body.parts,
+      parts: partsText(body.name, body.parts, study),
     };
   }
   return out;
@@ -438,7 +450,7 @@ export function designSheet(
     jointLimits: Object.fromEntries(Object.entries(jointLimits).sort(([a], [b]) => a.localeCompare(b))),
     gravity: { x: tree.gravity[0], y: tree.gravity[1] },
     homePose: homePoseSheet(tree, joints, pose, home),
-    bodies: bodySheets(tree, joints),
+    bodies: bodySheets(tree, joints, member),
     movingMass: architecture.movingMass(model),
     payloadMass: member.payloadMass,
     drives,

@@ -11,6 +11,7 @@
  * ratedJointTorque/peakJointTorque), so that scripts written against it keep working
  * (docs/export.md); they are the same numbers under their old names.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { readFileSync } from 'node:fs';
 import {
   actuatorUnits,
@@ -24,7 +25,7 @@ import {
   type JointRange,
   type PlanarArchitecture,
 } from '../architectures/types.js';
-import { wrapAngle } from '../architectures/legged.js';
+import { wrapAngle } from '../core/pose.js';
 import { designFromValues, type ResolvedDesign } from '../mechanics/designSpace.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import { METRICS } from '../mechanics/metrics.js';
@@ -35,7 +36,7 @@ import { bodyFrames, loopClosureGap, pointInFrame } from './bodyTree.js';
 import { architectureMjcf } from './mjcf.js';
 
 /** A problem with an export request that the user can fix (unknown ids, empty selection, ...). */
-export class ExportError extends Error {
+export class ExportError extends LoopsmithUserError {
   override readonly name = 'ExportError';
 }
 
@@ -289,7 +290,7 @@ function bodySheets(tree: BodyTree, joints: ArrayLike<number>, study: Study): Re
       attachedTo: body.joint ? body.joint.name : (body.parent ?? 'ground'),
       length: body.length,
       mass: body.mass,
-      centreOfMass: body.shape === 'bar' ? body.centreOfMass[0] : 0,
+      centreOfMass: body.shape === 'bar' ? Math.abs(body.centreOfMass[0]) : 0,
       inertiaAboutCom: body.inertiaAboutCom,
       centreOfMassAtHome: { x: cx, y: cy },
       parts: partsText(body.name, body.parts, study),

@@ -148,7 +148,7 @@ function geomsOf(body: TreeBody, ctx: WriteContext): string[] {
   const actuated = body.joint !== null && body.joint.actuator !== null;
   switch (body.shape) {
     case 'bar':
-      return [`<geom name="${body.name}" type="capsule" fromto="0 0 0 ${num(body.length)} 0 0" size="${num(actuated ? r : 0.7 * r)}" rgba="${actuated ? '0.3 0.45 0.7 1' : '0.55 0.6 0.65 1'}"/>`];
+      return [`<geom name="${body.name}" type="capsule" fromto="0 0 0 ${num(body.reversed ? -body.length : body.length)} 0 0" size="${num(actuated ? r : 0.7 * r)}" rgba="${actuated ? '0.3 0.45 0.7 1' : '0.55 0.6 0.65 1'}"/>`];
     case 'carriage': {
       const [ax, ay] = body.joint?.axis ?? [1, 0];
       return [`<geom name="${body.name}" type="box" size="${num(2.2 * r)} ${num(1.5 * r)} ${num(1.2 * r)}" euler="0 ${num(-Math.atan2(ay, ax))} 0" rgba="0.3 0.45 0.7 1"/>`];

@@ -123,7 +123,7 @@ export interface ArchitectureMapHome {
   readonly source: 'given' | 'task-centre' | 'usable-centre';
   readonly status: PoseStatus;
   /** Per leg: base point (pivot A_i or rail origin O_i), proximal joint (C_i or S_i), distal joint (P or B_i); null when not reachable. */
-  readonly legs: readonly { readonly base: readonly [number, number]; readonly proximal: readonly [number, number]; readonly distal: readonly [number, number]; readonly actuatedBase: boolean }[] | null;
+  readonly legs: readonly { readonly base: readonly [number, number]; readonly proximal: readonly [number, number]; readonly distal: readonly [number, number]; readonly baseKind: 'slider' | 'actuated pivot' | 'passive pivot' }[] | null;
 }
 
 export interface ArchitectureMapSpec {
@@ -255,7 +255,7 @@ export function sampleArchitectureMapFields(
       reachMargin[k] = pose.reachMargin;
       values[k] = architectureUsableMargin(pose, st, model.assembly, options.usable);
       for (let leg = 0; leg < n; leg++) {
-        const margin = pose.legReachMargin[leg]!;
+        const margin = pose.legReach[leg]!;
         legReachMargin[leg * nodes + k] = margin;
         legSine[leg * nodes + k] = margin >= 0 ? pose.legSine[leg]! : Number.NaN;
       }
@@ -301,7 +301,7 @@ function onSingularLegEdge(
 ): [number, number] | null {
   const margin = (ax: number, ay: number): number => {
     architecture.solvePose(model, pose, ax, ay, phi);
-    return pose.legReachMargin[leg]!;
+    return pose.legReach[leg]!;
   };
   const d = 1e-6 * h;
   let px = x;
@@ -461,7 +461,8 @@ export function architectureMapHome(
       const root = roots[i];
       const pivot = root && root.joint?.kind === 'revolute';
       const base: [number, number] = pivot ? [root.origin[0], root.origin[1]] : proximal;
-      return { base, proximal, distal: [pose.distalJoint[2 * i]!, pose.distalJoint[2 * i + 1]!] as [number, number], actuatedBase: pivot ? root.joint!.actuator !== null : true };
+      const baseKind: 'slider' | 'actuated pivot' | 'passive pivot' = !pivot ? 'slider' : root.joint!.actuator !== null ? 'actuated pivot' : 'passive pivot';
+      return { base, proximal, distal: [pose.distalJoint[2 * i]!, pose.distalJoint[2 * i + 1]!] as [number, number], baseKind };
     });
   }
   return { x: point[0], y: point[1], phi, source, status, legs };
@@ -598,16 +599,16 @@ export function architectureMapSpec(
   const joints: JointRow[] = [];
   if (home) {
     if (home.legs) {
-      for (const [i, leg] of home.legs.entries()) {
-        const prismatic = model.actuators[i] === 'prismatic';
-        const path = prismatic ? { x: [leg.proximal[0], leg.distal[0]], y: [leg.proximal[1], leg.distal[1]] }
-          : { x: [leg.base[0], leg.proximal[0], leg.distal[0]], y: [leg.base[1], leg.proximal[1], leg.distal[1]] };
+      for (const leg of home.legs) {
+        // The leg from its ground joint (body tree): a slider on its rail, or a pivot (actuated or passive) with an elbow when the proximal joint lies off the pivot.
+        const onRail = leg.baseKind === 'slider';
+        const elbow = !onRail && Math.hypot(leg.proximal[0] - leg.base[0], leg.proximal[1] - leg.base[1]) > 1e-9;
+        const path = elbow ? { x: [leg.base[0], leg.proximal[0], leg.distal[0]], y: [leg.base[1], leg.proximal[1], leg.distal[1]] }
+          : { x: [leg.base[0], leg.distal[0]], y: [leg.base[1], leg.distal[1]] };
         addLine(ARCHITECTURE_MAP_FEATURES.mechanism, path);
-        if (prismatic) joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'slider Sᵢ (actuated)' });
-        else {
-          joints.push({ x: leg.base[0] * MM, y: leg.base[1] * MM, joint: leg.actuatedBase ? 'actuated pivot Aᵢ' : 'base pivot (passive)' });
-          joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'elbow Cᵢ' });
-        }
+        const baseJoint = onRail ? 'slider Sᵢ (actuated)' : leg.baseKind === 'actuated pivot' ? 'actuated pivot Aᵢ' : 'base pivot (passive)';
+        joints.push({ x: leg.base[0] * MM, y: leg.base[1] * MM, joint: baseJoint });
+        if (elbow) joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'elbow Cᵢ' });
       }
       if (n === 3) {
         const pins = home.legs.map((l) => l.distal);

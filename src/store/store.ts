@@ -6,6 +6,7 @@
  * See docs/store.md for the schema and the rules on numbers (doubles round-trip
  * exactly, ±Infinity round-trips, NaN is stored as NULL, -0 reads back as 0).
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import Database from 'better-sqlite3';
 import { createHash } from 'node:crypto';
 import { mkdirSync } from 'node:fs';
@@ -141,7 +142,7 @@ export interface StoreOptions {
 }
 
 /** Raised for calls the store refuses (bad names, unknown columns, out-of-order generations...). */
-export class StoreError extends Error {
+export class StoreError extends LoopsmithUserError {
   override readonly name = 'StoreError';
 }
 

@@ -12,7 +12,7 @@ import { FiveBarPose, PoseStatus, solvePose } from '../../src/mechanics/fivebar.
 import { usableMargin } from '../../src/mechanics/evaluate.js';
 import { loadStudyFile, parseStudyText } from '../../src/study/parse.js';
 import { sheetToJson } from '../../src/export/candidate.js';
-import { angleInRange as actuatedAngle, wrapAngle } from '../../src/architectures/legged.js';
+import { angleInRange as actuatedAngle, wrapAngle } from '../../src/core/pose.js';
 import { candidatesCsv } from '../../src/export/csv.js';
 import candidateSchema from '../../src/export/candidate.schema.json' with { type: 'json' };
 import { checkExportedModel, describeMeasurement } from './mjcfChecks.js';

@@ -17,7 +17,8 @@ import { prr3 } from '../../src/architectures/prr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import { architectureMjcf, treeMjcfJoints } from '../../src/export/mjcf.js';
-import { findPoses, PRR2_INPUT, PRR3_INPUT, RRR3_INPUT, type ArchitectureCase } from '../architectures/models.js';
+import { findPoses, PRR2_INPUT, PRR3_INPUT, RPR3_INPUT, RRR3_INPUT, type ArchitectureCase } from '../architectures/models.js';
+import { rpr3 } from '../../src/architectures/rpr3.js';
 import { SimulatedModel } from './mujocoSim.js';
 
 /**
@@ -49,7 +50,11 @@ const RRR3_LIMITED: ModelInput = { ...RRR3_INPUT, gravity: VERTICAL, jointLimits
 // Assembly sign −1: the sign of det A over the search box in mode "+++" (found by findPoses).
 const PRR3_LIMITED: ModelInput = { ...PRR3_INPUT, assembly: -1, gravity: VERTICAL, jointLimits: [{ min: -0.5, max: 0.5 }, { min: -0.5, max: 0.5 }, null] };
 
+// 3-RPR (telescoping struts between two pivots): exported by the same writer from its body tree, no change in src/export.
+const RPR3_VERTICAL: ModelInput = { ...RPR3_INPUT, gravity: VERTICAL };
+
 const CASES: readonly ExportCase[] = [
+  { label: '3-RPR', architecture: rpr3, input: RPR3_VERTICAL, caseOf: { label: '3-RPR', architecture: rpr3, input: RPR3_VERTICAL, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.6 } } },
   { label: '2-PRR', architecture: prr2, input: PRR2_LIMITED, caseOf: { label: '2-PRR', architecture: prr2, input: PRR2_LIMITED, box: { x: 0, y: 0.05, half: 0.3, phiHalf: 0 } } },
   { label: '3-RRR', architecture: rrr3, input: RRR3_LIMITED, caseOf: { label: '3-RRR', architecture: rrr3, input: RRR3_LIMITED, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.5 } } },
   { label: '3-PRR', architecture: prr3, input: PRR3_LIMITED, caseOf: { label: '3-PRR', architecture: prr3, input: PRR3_LIMITED, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.5 } } },

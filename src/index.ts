@@ -2,8 +2,31 @@
  * loopsmith programmatic API. The `loopsmith` command is a thin layer over these exports.
  * All quantities are SI (m, kg, s, rad, N, N·m) unless a name says otherwise.
  */
+// Main entry points, with their arguments checked (a wrong one throws ApiArgumentError)
+export {
+  loadStudyFile,
+  parseStudyText,
+  designVariables,
+  chooseDesign,
+  evaluateDesign,
+  probeDesign,
+  Evaluator,
+  runOptimization,
+  runSweep,
+  rescoreRun,
+  runFront,
+  queryEvaluations,
+  exportCandidates,
+  writeReport,
+  workspaceMapSpec,
+  renderWorkspaceMap,
+  type StudyInput,
+} from './public/api.js';
+export { ApiArgumentError, type DesignOverrides } from './public/arguments.js';
+export { loopsmithVersion, demoStudyNames, demoStudyPath, packageFile } from './public/packageFiles.js';
+
 // Study files
-export { loadStudyFile, parseStudyText, StudyError, evaluationSettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
+export { StudyError, evaluationSettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
 export type * from './study/types.js';
 export { parseQuantity, formatQuantity, UnitError, type QuantityKind } from './study/units.js';
 export { STUDY_TEMPLATE } from './study/template.js';
@@ -22,12 +45,12 @@ export {
   type AssemblyMode,
   type JointRange,
 } from './mechanics/fivebar.js';
-export { Evaluator, constraintDefinitions, taskSamples, type DesignEvaluation, type ConstraintDefinition } from './mechanics/evaluate.js';
+export { constraintDefinitions, taskSamples, type DesignEvaluation, type ConstraintDefinition } from './mechanics/evaluate.js';
 export { METRICS, metricInfo, type MetricInfo } from './mechanics/metrics.js';
-export { designVariables, designFromValues, designToValues, resolveDesign, buildFiveBarModel, DesignError, type DesignVariable } from './mechanics/designSpace.js';
+export { designFromValues, designToValues, resolveDesign, buildFiveBarModel, DesignError, type DesignVariable } from './mechanics/designSpace.js';
 export { MarginGrid } from './mechanics/grid.js';
 export { probePose, type PoseReport } from './mechanics/probe.js';
-export { chooseDesign, evaluateDesign, probeDesign, type EvaluationReport, type ConstraintReport } from './api/design.js';
+export type { EvaluationReport, ConstraintReport, DesignChoice } from './api/design.js';
 
 // Optimizer (generic; usable on its own)
 export * as optimizer from './optimizer/index.js';
@@ -37,27 +60,33 @@ export type { ProblemSpec, VariableSpec, ObjectiveSpec as OptimizerObjective, Ev
 
 // Batch runs, pool and store
 export { EvaluationPool, defaultWorkerCount, type PoolOptions } from './pool/pool.js';
-export { runOptimization, type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
-export { runSweep, type SweepOptions } from './run/sweep.js';
-export { runFront, type FrontResult } from './run/front.js';
+export { type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
+export type { SweepOptions } from './run/sweep.js';
+export type { FrontResult } from './run/front.js';
 export { Store, StoreError } from './store/store.js';
-export { queryEvaluations, QueryError } from './store/query.js';
+export { QueryError, type QueryOptions, type QueryResult } from './store/query.js';
 
 // Drive changes and candidates for detailed simulation
-export { rescoreRun, type RescoreOptions, type RescoreResult } from './run/rescore.js';
+export { type RescoreOptions, type RescoreResult } from './run/rescore.js';
 export * as exporting from './export/index.js';
-export { exportCandidates, candidateSheet, architectureMjcf } from './export/index.js';
+export { candidateSheet, architectureMjcf } from './export/index.js';
+export type { ExportOptions, ExportResult, ExportFormat } from './export/export.js';
 
 // Pictures
-export { renderWorkspaceMap, workspaceMapSpec } from './report/map.js';
-export { writeReport } from './report/report.js';
+export type { WorkspaceMapOptions } from './report/map.js';
 export { svgToPng, renderVegaLiteSvg } from './report/render.js';
 
 // Forward simulation along a duty cycle
 export * as simulation from './simulate/index.js';
 
-// Other architectures
-export { ARCHITECTURES } from './architectures/index.js';
-export type { PlanarArchitecture, ArchitectureName } from './architectures/types.js';
+// Architectures (the one registry and the leg layer)
+export { ARCHITECTURES, ARCHITECTURE_NAMES } from './architectures/index.js';
+export type { PlanarArchitecture, ArchitectureName, ArchitecturePose, LeggedModel, LegKind } from './architectures/index.js';
+export type { BodyTree, TreeBody, TreeJoint, TreeSite, TreeClosure } from './architectures/types.js';
+export { sampleWorkspace, type WorkspaceSample } from './mechanics/workspace.js';
+export { usabilityMargin } from './mechanics/usability.js';
+export { probeArchitecturePose, type ArchitecturePoseReport } from './mechanics/probe.js';
+export { probeArchitectureDesign } from './api/design.js';
+export { LoopsmithUserError } from './core/errors.js';
 export { candidateExport } from './export/candidate.js';
 export { renderArchitectureMap } from './report/architectureMap.js';

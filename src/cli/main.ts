@@ -13,6 +13,7 @@ import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.j
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
 import { loadStudyFile } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
+import { loopsmithVersion } from '../public/packageFiles.js';
 import { parseQuantity } from '../study/units.js';
 import type { Study } from '../study/types.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';
@@ -253,7 +254,7 @@ export function buildCli(argv: readonly string[]): Argv {
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()
     .help()
-    .version()
+    .version(loopsmithVersion()) // loopsmith's own package.json, not the one in the working directory
     .fail((message, error) => {
       // Errors thrown by option checks (coerce) come as YError: they are command-line mistakes.
       if (error && error.name !== 'YError') throw error;

@@ -12,7 +12,6 @@
  * (docs/export.md); they are the same numbers under their old names.
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import { readFileSync } from 'node:fs';
 import {
   actuatorUnits,
   PoseStatus,
@@ -489,16 +488,8 @@ export function candidateSheet(study: Study, record: CandidateRecord, provenance
   return candidateExport(study, record, provenance).sheet;
 }
 
-let cachedVersion: string | undefined;
-/** The loopsmith version from package.json (two folders up from src/export and dist/export). */
-export function loopsmithVersion(): string {
-  if (cachedVersion === undefined) {
-    const text = readFileSync(new URL('../../package.json', import.meta.url), 'utf8');
-    const parsed = JSON.parse(text) as { version?: unknown };
-    cachedVersion = typeof parsed.version === 'string' ? parsed.version : 'unknown';
-  }
-  return cachedVersion;
-}
+/** The loopsmith version, from the package's own package.json. */
+export { loopsmithVersion } from '../public/packageFiles.js';
 
 /** JSON text of a sheet: infinite numbers written as the strings "Infinity" / "-Infinity". */
 export function sheetToJson(sheet: object): string {

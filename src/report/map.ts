@@ -22,8 +22,11 @@ export interface WorkspaceMapOptions {
   readonly title?: string;
 }
 
+/** A workspace map: Vega-Lite spec, layout, sampled fields, home pose, the design's metrics and feasibility. */
+export type WorkspaceMapSpec = ReturnType<typeof designMapSpec>;
+
 /** The map's Vega-Lite spec, layout, sampled fields, home pose, metrics and feasibility of the study's baseline with `--set` overrides. */
-export function workspaceMapSpec(study: Study, overrides: readonly string[] = [], options: WorkspaceMapOptions = {}): ReturnType<typeof designMapSpec> {
+export function workspaceMapSpec(study: Study, overrides: readonly string[] = [], options: WorkspaceMapOptions = {}): WorkspaceMapSpec {
   const choice = chooseDesign(study, overrides);
   return designMapSpec(choice.study, choice.design, options);
 }

@@ -1,5 +1,5 @@
 /**
- * MJCF export of 2-PRR, 3-RRR and 3-PRR designs (src/export/mjcfArchitecture.ts) against the engine
+ * MJCF export of 2-PRR, 3-RRR, 3-PRR and 3-RPR designs (src/export/mjcf.ts, one writer walking the body tree) against the engine
  * in MuJoCo (npm mujoco-js@0.0.7, a general-purpose multibody engine), in a vertical plane so that
  * gravity loads the drives:
  * - every joint of the exported chain (actuated and passive) placed from the engine pose closes the

@@ -26,7 +26,7 @@ export { ApiArgumentError, type DesignOverrides } from './public/arguments.js';
 export { loopsmithVersion, demoStudyNames, demoStudyPath, packageFile } from './public/packageFiles.js';
 
 // Study files
-export { StudyError, evaluationSettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
+export { StudyError, evaluationSettingsHash, studySettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
 export type * from './study/types.js';
 export { parseQuantity, formatQuantity, UnitError, type QuantityKind } from './study/units.js';
 export { STUDY_TEMPLATE } from './study/template.js';
@@ -56,6 +56,7 @@ export type { EvaluationReport, ConstraintReport, DesignChoice } from './api/des
 export * as optimizer from './optimizer/index.js';
 export { Nsga2, optimize, type Nsga2Settings, type Member, type Nsga2State } from './optimizer/nsga2.js';
 export { hypervolume } from './optimizer/hypervolume.js';
+export { optimizeIslands, runIslandEpoch, migrate, type IslandSettings, type IslandResult } from './optimizer/islands.js';
 export type { ProblemSpec, VariableSpec, ObjectiveSpec as OptimizerObjective, Evaluation, BatchEvaluate } from './optimizer/types.js';
 
 // Batch runs, pool and store
@@ -63,6 +64,15 @@ export { EvaluationPool, defaultWorkerCount, type PoolOptions } from './pool/poo
 export { type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
 export type { SweepOptions } from './run/sweep.js';
 export type { FrontResult } from './run/front.js';
+// Choosing from the front: representatives, knees, redundant objectives; rounding; sensitivity
+export { analyseFront, analysePoints, type StoredFrontAnalysis, type FrontAnalysis } from './run/frontTools.js';
+export { roundAndEvaluate, snapToStep, RoundingError, type RoundingResult, type RoundedDesign } from './run/roundDesigns.js';
+export { sensitivity, parseVariation, type SensitivityResult, type SensitivityOptions, type Variation } from './run/sensitivity.js';
+
+// Studies larger than one machine: plan, shards (Slurm job arrays), merge; options are checked inside (ScaleError)
+export { makePlan, readPlan, ScaleError, type Plan, type PlanOptions } from './scale/plan.js';
+export { runShards, type ShardOptions, type ShardReport } from './scale/shard.js';
+export { mergePlan, missingShards, type MergeOptions, type MergeResult } from './scale/merge.js';
 export { Store, StoreError } from './store/store.js';
 export { QueryError, type QueryOptions, type QueryResult } from './store/query.js';
 

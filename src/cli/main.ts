@@ -13,7 +13,7 @@ import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.j
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
 import { loadStudyFile } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
-import { loopsmithVersion } from '../public/packageFiles.js';
+import { loopsmithVersion } from '../core/version.js';
 import { parseQuantity } from '../study/units.js';
 import type { Study } from '../study/types.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';
@@ -21,6 +21,7 @@ import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
+import { registerScaleCommands } from './scaleCommands.js';
 
 /** An error whose message is for the user as it stands. */
 export class UserError extends LoopsmithUserError {
@@ -250,6 +251,7 @@ export function buildCli(argv: readonly string[]): Argv {
   cli = registerReportCommands(cli);
   cli = registerExportCommands(cli);
   cli = registerSimulateCommands(cli);
+  cli = registerScaleCommands(cli);
   return cli
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()

@@ -489,7 +489,7 @@ export function candidateSheet(study: Study, record: CandidateRecord, provenance
 }
 
 /** The loopsmith version, from the package's own package.json. */
-export { loopsmithVersion } from '../public/packageFiles.js';
+export { loopsmithVersion } from '../core/version.js';
 
 /** JSON text of a sheet: infinite numbers written as the strings "Infinity" / "-Infinity". */
 export function sheetToJson(sheet: object): string {

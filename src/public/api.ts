@@ -104,7 +104,7 @@ export async function runSweep(study: LoadedStudy, options: SweepOptions): Retur
   return engineRunSweep(study, options);
 }
 
-const RESCORE_RULES: OptionRules<RescoreOptions> = { ...POOL_RULES, dbPath: DB_PATH, runId: RUN_ID, onProgress: is.optional(is.function) };
+const RESCORE_RULES: OptionRules<RescoreOptions> = { ...POOL_RULES, dbPath: DB_PATH, runId: RUN_ID, onProgress: is.optional(is.function), designs: is.optional(is.oneOf(['all', 'front'])) };
 
 export async function rescoreRun(study: LoadedStudy, options: RescoreOptions): Promise<RescoreResult> {
   checkArguments('rescoreRun', { study: [study, is.loadedStudy], options: [options, is.options(RESCORE_RULES)] });

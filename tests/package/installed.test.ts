@@ -4,11 +4,14 @@
  * the `loopsmith` command and the README's programmatic example must behave as they do in this
  * folder: same version, same evaluation metrics, same front, same exported sheets.
  *
- * Slow by nature: the install compiles better-sqlite3 natively when no prebuilt binary can be
- * downloaded (a minute or two of CPU). One install serves every test here.
+ * The install is run with --ignore-scripts and better-sqlite3's native binary is copied from this
+ * folder's node_modules (built by `npm ci` for the same Node ABI): the only install script in the
+ * dependency tree is that native compile, which costs minutes of CPU and tests nothing of ours.
+ * LOOPSMITH_PACKAGE_FULL_INSTALL=1 installs exactly as a user does, compile included. One install
+ * serves every test here.
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, relative } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -72,7 +75,18 @@ beforeAll(() => {
   mkdirSync(repoWork);
   writeFileSync(join(project, 'package.json'), JSON.stringify({ name: 'user-project', version: '1.0.0', private: true, type: 'module' }, null, 2));
   const started = Date.now();
-  exec('npm', ['install', join(work, packed[0]!.filename), '--no-audit', '--no-fund', '--prefer-offline'], project);
+  const tarball = join(work, packed[0]!.filename);
+  if (process.env.LOOPSMITH_PACKAGE_FULL_INSTALL === '1') {
+    // The user's install as it is, native compile of better-sqlite3 included (minutes of CPU).
+    exec('npm', ['install', tarball, '--no-audit', '--no-fund', '--prefer-offline'], project);
+  } else {
+    // Same package and dependency tree, but the one install script of the tree (better-sqlite3's native
+    // build) is replaced by the binary `npm ci` already built for this Node ABI in the repository.
+    exec('npm', ['install', tarball, '--no-audit', '--no-fund', '--prefer-offline', '--ignore-scripts'], project);
+    const release = join('node_modules', 'better-sqlite3', 'build', 'Release');
+    mkdirSync(join(project, release), { recursive: true });
+    copyFileSync(join(REPO, release, 'better_sqlite3.node'), join(project, release, 'better_sqlite3.node'));
+  }
   console.log(`npm install of the packed tarball: ${((Date.now() - started) / 1000).toFixed(0)} s`);
 }, INSTALL_TIMEOUT_MS);
 

@@ -79,7 +79,7 @@ export { QueryError, type QueryOptions, type QueryResult } from './store/query.j
 // Drive changes and candidates for detailed simulation
 export { type RescoreOptions, type RescoreResult } from './run/rescore.js';
 export * as exporting from './export/index.js';
-export { candidateSheet, toMjcf } from './export/index.js';
+export { candidateSheet, architectureMjcf } from './export/index.js';
 export type { ExportOptions, ExportResult, ExportFormat } from './export/export.js';
 
 // Pictures
@@ -92,10 +92,11 @@ export * as simulation from './simulate/index.js';
 // Architectures (the one registry and the leg layer)
 export { ARCHITECTURES, ARCHITECTURE_NAMES } from './architectures/index.js';
 export type { PlanarArchitecture, ArchitectureName, ArchitecturePose, LeggedModel, LegKind } from './architectures/index.js';
+export type { BodyTree, TreeBody, TreeJoint, TreeSite, TreeClosure } from './architectures/types.js';
 export { sampleWorkspace, type WorkspaceSample } from './mechanics/workspace.js';
 export { usabilityMargin } from './mechanics/usability.js';
 export { probeArchitecturePose, type ArchitecturePoseReport } from './mechanics/probe.js';
 export { probeArchitectureDesign } from './api/design.js';
 export { LoopsmithUserError } from './core/errors.js';
-export { candidateExport } from './export/candidateArchitecture.js';
+export { candidateExport } from './export/candidate.js';
 export { renderArchitectureMap } from './report/architectureMap.js';

@@ -10,7 +10,9 @@ import {
   leggedCutOpenChain,
   leggedFootprint,
   leggedPoseDynamics,
+  leggedBodyTree,
   leggedReachableBox,
+  leggedTreeJoints,
   solveLeggedPose,
   twoLegForwardKinematics,
   type LeggedModel,
@@ -60,4 +62,6 @@ export const fiveBar: PlanarArchitecture<LeggedModel> = {
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,
+  bodyTree: leggedBodyTree,
+  bodyTreeJoints: leggedTreeJoints,
 };

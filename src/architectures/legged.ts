@@ -16,7 +16,7 @@
  * (E the +90° rotation) gives A rows [u_iᵀ, cross(R(φ) b_i, u_i)] and B = diag(p_i s_i) with
  * s_i = cross(e(θ_i), u_i) (revolute) or diag(s_i) with s_i = u_i·e_r,i (prismatic).
  */
-import { strokeMargin } from '../core/pose.js';
+import { strokeMargin, wrapAngle } from '../core/pose.js';
 import {
   determinant,
   generalizedEigenvalues,
@@ -40,7 +40,9 @@ import {
   type ArchitectureModelBase,
   type CutOpenChain,
   type ArchitectureName,
+  type BodyTree,
   type DriveAtJoint,
+  type TreeBody,
   type JointRange,
   type ModelInput,
   type PlaneBox,
@@ -586,4 +588,63 @@ export function leggedCutOpenChain(model: LeggedModel): CutOpenChain | null {
     platformInertia: model.dof === 3 ? model.platformInertia : 0,
     gravity: model.gravity,
   };
+}
+
+/**
+ * The model as a tree of rigid bodies (BodyTree): each leg's chain from its leg kind (`treeBodies`),
+ * and on the tip of leg 1 the end mass (2-DOF: end hub + payload, a point mass at P; closure
+ * tip_1 = tip_2) or the platform (3-DOF: hinge platform_joint = φ − β_1, its frame at pin B_1 with x at
+ * φ, so P sits at −b_1 (site centre) and pin k at b_k − b_1 (site pin_k); the payload at P; closures
+ * tip_k = pin_k for k = 2, 3).
+ */
+export function leggedBodyTree(model: LeggedModel): BodyTree {
+  const bodies: TreeBody[] = [];
+  for (let i = 0; i < model.dof; i++) {
+    const chain = model.legs[i]!.treeBodies(model, i);
+    bodies.push(...chain.bodies);
+    if (i === 0) bodies.push(...endBodies(model, chain.bodies.at(-1)!.name, chain.tip));
+  }
+  const closures = model.dof === 2
+    ? [{ name: 'loop_closure', site1: 'tip_1', site2: 'tip_2' }]
+    : Array.from({ length: model.dof - 1 }, (_, k) => ({ name: `loop_closure_${k + 2}`, site1: `tip_${k + 2}`, site2: `pin_${k + 2}` }));
+  return { bodies, closures, gravity: model.gravity };
+}
+
+/** The bodies carried at the tip of leg 1's last body: the end mass (2-DOF) or the platform and payload (3-DOF). */
+function endBodies(model: LeggedModel, parent: string, tip: readonly [number, number]): TreeBody[] {
+  if (model.dof === 2) {
+    const mass = model.platformMass + model.payloadMass;
+    return [{
+      name: 'end_mass', parent, origin: tip, joint: null, shape: 'point', length: 0, mass, centreOfMass: [0, 0], inertiaAboutCom: 0,
+      sites: [{ name: 'end_point', at: [0, 0] }],
+      parts: `point mass at the end point: end hub ${model.platformMass} kg plus payload ${model.payloadMass} kg (carried on the tip of leg 1)`,
+    }];
+  }
+  const b1x = model.platformX[0]!;
+  const b1y = model.platformY[0]!;
+  const centre: [number, number] = [-b1x, -b1y];
+  const pins = model.platformX.map((x, k) => ({ name: `pin_${k + 1}`, at: [x - b1x, model.platformY[k]! - b1y] as [number, number] }));
+  return [
+    {
+      name: 'platform', parent, origin: tip,
+      joint: { name: 'platform_joint', kind: 'revolute', axis: [0, 0], actuator: null, range: null, armature: 0 },
+      shape: 'plate', length: 0, mass: model.platformMass, centreOfMass: centre, inertiaAboutCom: model.platformInertia,
+      sites: [{ name: 'centre', at: centre }, ...pins], parts: 'rigid platform, centre of mass at its centre P, inertia about P',
+    },
+    {
+      name: 'payload', parent: 'platform', origin: centre, joint: null, shape: 'point', length: 0, mass: model.payloadMass, centreOfMass: [0, 0],
+      inertiaAboutCom: 0, sites: [], parts: `payload, point mass ${model.payloadMass} kg at P`,
+    },
+  ];
+}
+
+/** Joint coordinates of leggedBodyTree's joints (tree order) at a solved pose. */
+export function leggedTreeJoints(model: LeggedModel, pose: ArchitecturePose): Float64Array {
+  const out = new Float64Array(64);
+  let k = 0;
+  for (let i = 0; i < model.dof; i++) {
+    k = model.legs[i]!.treeJoints(model, i, pose, out, k);
+    if (i === 0 && model.dof === 3) out[k++] = wrapAngle(pose.phi - Math.atan2(pose.rodDirection[1]!, pose.rodDirection[0]!));
+  }
+  return out.slice(0, k);
 }

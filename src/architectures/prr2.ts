@@ -19,6 +19,8 @@ import {
   solveLeggedPose,
   twoLegForwardKinematics,
   type LeggedModel,
+  leggedBodyTree,
+  leggedTreeJoints,
 } from './legged.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
 
@@ -57,6 +59,8 @@ export const prr2: PlanarArchitecture<LeggedModel> = {
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,
+  bodyTree: leggedBodyTree,
+  bodyTreeJoints: leggedTreeJoints,
 };
 
 /**

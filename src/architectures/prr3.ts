@@ -20,6 +20,8 @@ import {
   solveLeggedPose,
   type LegGeometry,
   type LeggedModel,
+  leggedBodyTree,
+  leggedTreeJoints,
 } from './legged.js';
 import { legAngle } from './rrr3.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
@@ -63,4 +65,6 @@ export const prr3: PlanarArchitecture<LeggedModel> = {
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,
+  bodyTree: leggedBodyTree,
+  bodyTreeJoints: leggedTreeJoints,
 };

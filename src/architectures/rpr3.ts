@@ -16,7 +16,9 @@ import {
   leggedFootprint,
   leggedForwardKinematics,
   leggedPoseDynamics,
+  leggedBodyTree,
   leggedReachableBox,
+  leggedTreeJoints,
   solveLeggedPose,
   type LegGeometry,
   type LeggedModel,
@@ -58,4 +60,6 @@ export const rpr3: PlanarArchitecture<LeggedModel> = {
   reachableBox: leggedReachableBox,
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  bodyTree: leggedBodyTree,
+  bodyTreeJoints: leggedTreeJoints,
 };

@@ -288,6 +288,75 @@ export interface CutOpenChain {
 }
 
 /**
+ * The design cut open into a tree of rigid bodies (every loop cut at one pin), plus the pins that
+ * close the loops again: what a multibody program needs (the MJCF export walks it) and what the
+ * candidate sheet lists. Frames: each body has a planar frame (x, y in the plane of motion); at zero
+ * joint coordinate it sits at `origin` in its parent's frame with the parent's orientation. A
+ * revolute joint turns the body about its origin (counter-clockwise positive, axis = plane normal);
+ * a prismatic joint moves it along `axis` (a unit vector in the parent frame).
+ */
+export interface TreeJoint {
+  readonly name: string;
+  readonly kind: ActuatorKind;
+  /** Prismatic: unit direction of travel in the parent frame. Revolute: (0, 0), the axis is the plane normal. */
+  readonly axis: readonly [number, number];
+  /** Index of the actuator this joint is (0-based), or null for a passive joint. */
+  readonly actuator: number | null;
+  /** Joint range (rad or m), null = free. */
+  readonly range: JointRange | null;
+  /** Drive inertia reflected to this joint (kg·m² or kg); 0 for passive joints. */
+  readonly armature: number;
+}
+
+/** A point of a body that something attaches to (loop-closure pins, the end point), in the body frame, m. */
+export interface TreeSite {
+  readonly name: string;
+  readonly at: readonly [number, number];
+}
+
+/**
+ * One rigid body of the tree. `shape` says how it is drawn and how its out-of-plane inertia is
+ * completed: `bar` (a link from the origin to (length, 0)), `carriage` (a translating block that never
+ * turns), `point` (a point mass), `plate` (a rigid plate through its sites).
+ */
+export interface TreeBody {
+  readonly name: string;
+  /** Parent body, or null for the ground. Parents come before their children in `BodyTree.bodies`. */
+  readonly parent: string | null;
+  readonly origin: readonly [number, number];
+  /** The joint to the parent, or null when the body is fixed to it. */
+  readonly joint: TreeJoint | null;
+  readonly shape: 'bar' | 'carriage' | 'point' | 'plate';
+  /** Bar length, m (0 for other shapes). */
+  readonly length: number;
+  /** A bar that runs from its origin back along −x (a tube whose frame sits at its far pin); default false. */
+  readonly reversed?: boolean;
+  readonly mass: number;
+  /** Centre of mass in the body frame, m. */
+  readonly centreOfMass: readonly [number, number];
+  /** Inertia about the centre of mass about the plane normal, kg·m² (a carriage: 0, it does not turn). */
+  readonly inertiaAboutCom: number;
+  readonly sites: readonly TreeSite[];
+  /** What the body is made of, in words. */
+  readonly parts: string;
+}
+
+/** A pin that closes a loop: the two sites coincide in every assembled pose. */
+export interface TreeClosure {
+  readonly name: string;
+  readonly site1: string;
+  readonly site2: string;
+}
+
+export interface BodyTree {
+  /** Depth-first order (a body, then its subtree): the joint order is the order of `bodies` with a joint. */
+  readonly bodies: readonly TreeBody[];
+  readonly closures: readonly TreeClosure[];
+  /** Gravity in the plane of motion, m/s². */
+  readonly gravity: readonly [number, number];
+}
+
+/**
  * A planar parallel architecture. `TModel` is its immutable model; every per-pose quantity goes
  * into an `ArchitecturePose` made by `createPose`.
  */
@@ -326,6 +395,13 @@ export interface PlanarArchitecture<TModel extends ArchitectureModelBase = Archi
    * when the architecture's legs are not revolute-crank or prismatic-slider legs with a rod.
    */
   cutOpenChain?(model: TModel): CutOpenChain | null;
+  /** The design as a tree of rigid bodies plus loop-closing pins (see BodyTree). */
+  bodyTree(model: TModel): BodyTree;
+  /**
+   * Joint coordinates of `bodyTree(model)`'s joints in tree order (rad or m) at the pose last solved
+   * by `solvePose` (assembled): actuated angles written inside their ranges, passive angles in (−π, π].
+   */
+  bodyTreeJoints(model: TModel, pose: ArchitecturePose): Float64Array;
 }
 
 /** Signs per leg of a working-mode name such as "+-+". */

@@ -3,8 +3,7 @@ import { LoopsmithUserError } from '../core/errors.js';
 import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, extname } from 'node:path';
 import type { Argv } from 'yargs';
-import { designMapSpec, usesFiveBarMap } from '../report/designMap.js';
-import { renderWorkspaceMap } from '../report/map.js';
+import { designMapSpec } from '../report/designMap.js';
 import { renderVegaLiteSvg, svgToPng } from '../report/render.js';
 import { writeReport } from '../report/report.js';
 import { loadStudyFile } from '../study/parse.js';
@@ -49,11 +48,8 @@ export function registerReportCommands(cli: Argv): Argv {
         const choice = chooseDesign(loaded.study, overrides);
         choice.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
         const cells = args.cells !== undefined ? { cells: args.cells } : {};
-        // Five-bar studies keep the five-bar map; every other architecture (and a comparison study's
-        // chosen member) is drawn through the architecture interface.
-        const svg = usesFiveBarMap(loaded.study)
-          ? await renderWorkspaceMap(loaded.study, overrides, cells)
-          : await renderVegaLiteSvg(designMapSpec(choice.study, choice.design, cells).spec);
+        // One map for every architecture (a comparison study: the member the design chooses).
+        const svg = await renderVegaLiteSvg(designMapSpec(choice.study, choice.design, cells).spec);
         mkdirSync(dirname(args.out), { recursive: true });
         if (extname(args.out).toLowerCase() === '.png') writeFileSync(args.out, svgToPng(svg));
         else writeFileSync(args.out, svg);

@@ -44,3 +44,20 @@ export function strokeMargin(q: number, range: JointRange | null): number {
   if (range === null) return Infinity;
   return Math.min(q - range.min, range.max - q);
 }
+
+
+/** Angle in (−π, π]. */
+export function wrapAngle(angle: number): number {
+  let a = angle % TWO_PI;
+  if (a <= -Math.PI) a += TWO_PI;
+  else if (a > Math.PI) a -= TWO_PI;
+  return a;
+}
+
+/** Actuated angle written inside its range [min, min + 2π) when there is one, else in (−π, π]. */
+export function angleInRange(angle: number, range: JointRange | null): number {
+  if (range === null) return wrapAngle(angle);
+  let t = (angle - range.min) % TWO_PI;
+  if (t < 0) t += TWO_PI;
+  return range.min + t;
+}

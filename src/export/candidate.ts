@@ -1,34 +1,38 @@
 /**
- * Candidate sheet: everything needed to take one stored design onward (CAD, simulation, drive
- * sizing) in one plain object — geometry, modes, a home pose with every joint angle, each body's
- * mass properties, the drives, every stored metric and where the numbers came from.
+ * The candidate sheet of a stored design of any architecture, built through the architecture
+ * interface alone (`Evaluator.architectureDesign`: the model the evaluation uses; a comparison design
+ * is described with its member's study). Geometry, modes, a home pose with every joint of the body
+ * tree, each body's mass properties (walked from `architecture.bodyTree`), the drives, every stored
+ * metric and where the numbers came from. SI units; per actuator, efforts are N·m (revolute) or N
+ * (prismatic), positions rad or m.
  *
- * The body model is the engine's (src/mechanics/designSpace.ts, buildFiveBarModel): cranks are
- * uniform bars plus the elbow hub as a point mass at the crank end, rods are uniform bars, the end
- * hub and the payload are one point mass at the end point P. SI units throughout (m, kg, rad, N·m).
+ * Five-bar sheets also carry the field names of the earlier five-bar layout (pivot_i, theta_i,
+ * elbow_i, beta_i, endJoint, elbowPoint_i, gravityTorque_i, detA, jointLimits.theta_i and the drives'
+ * ratedJointTorque/peakJointTorque), so that scripts written against it keep working
+ * (docs/export.md); they are the same numbers under their old names.
  */
 import { LoopsmithUserError } from '../core/errors.js';
 import {
-  FiveBarPose,
+  actuatorUnits,
   PoseStatus,
-  poseDynamics,
-  reachableBox,
-  solvePose,
-  type FiveBarModel,
+  type ActuatorKind,
+  type ActuatorUnits,
+  type ArchitectureModelBase,
+  type ArchitecturePose,
+  type BodyTree,
+  type DriveAtJoint,
   type JointRange,
-} from '../mechanics/fivebar.js';
-import {
-  buildFiveBarModel,
-  designFromValues,
-  designVariables,
-  movingMass,
-  resolveDesign,
-  type ResolvedDesign,
-} from '../mechanics/designSpace.js';
-import { usableMargin } from '../mechanics/evaluate.js';
-import { MarginGrid } from '../mechanics/grid.js';
+  type PlanarArchitecture,
+} from '../architectures/types.js';
+import { wrapAngle } from '../core/pose.js';
+import { designFromValues, type ResolvedDesign } from '../mechanics/designSpace.js';
+import { Evaluator } from '../mechanics/evaluate.js';
 import { METRICS } from '../mechanics/metrics.js';
-import { FIVE_BAR_PARAMETERS, type DriveSpec, type FiveBarParameter, type Study } from '../study/types.js';
+import { deepestUsableNode, sampleArchitectureMapFields } from '../report/architectureMap.js';
+import { studyGridBox, studyPhi0 } from '../report/designMap.js';
+import type { DriveSpec, Study } from '../study/types.js';
+import { bodyFrames, loopClosureGap, pointInFrame } from './bodyTree.js';
+import { architectureMjcf } from './mjcf.js';
 
 /** A problem with an export request that the user can fix (unknown ids, empty selection, ...). */
 export class ExportError extends LoopsmithUserError {
@@ -49,74 +53,87 @@ export interface PlanePoint {
   readonly y: number;
 }
 
-/** Mass properties of one rigid body of the chain, planar. */
+/** One actuator of the design: its joint in the body tree, kind and units. */
+export interface ActuatorSheet {
+  readonly joint: string;
+  readonly kind: ActuatorKind;
+  readonly units: ActuatorUnits;
+}
+
+/** Mass properties of one rigid body, planar. */
 export interface BodySheet {
-  /** Joint that carries the body ("theta_1", "elbow_1", ...) or the body it is fixed to. */
+  /** The body's joint, or the body it is fixed to. */
   readonly attachedTo: string;
-  /** Length of the link from its joint to its far pin, m (0 for the end mass). */
+  /** Bar length from its joint to its far pin, m (0 for carriages, plates and point masses). */
   readonly length: number;
-  /** Mass, kg. */
   readonly mass: number;
-  /** Centre of mass along the link from the body's own joint, m (in the link frame: x along the link). */
+  /** Centre of mass along the bar from its joint, m (0 for the other shapes). */
   readonly centreOfMass: number;
-  /** Moment of inertia about the centre of mass, about the normal of the plane, kg·m². */
+  /** About the centre of mass, about the plane normal, kg·m². */
   readonly inertiaAboutCom: number;
-  /** Centre of mass in the plane at the home pose, m. */
   readonly centreOfMassAtHome: PlanePoint;
-  /** What the body is made of, in words. */
   readonly parts: string;
 }
 
+/** A drive referred to its joint, with the study data it came from. Units per `units`. */
 export interface DriveSheet {
   readonly label: string;
-  readonly gearRatio: number;
-  readonly efficiency: number;
-  /** Motor rotor inertia, motor side, kg·m². */
-  readonly rotorInertia: number;
-  /** Gearbox inertia at the joint, kg·m². */
-  readonly gearInertia: number;
-  /** N² J_rotor + J_gear: drive inertia seen at the joint, kg·m². */
+  readonly kind: ActuatorKind;
+  /** gearbox (revolute), screw (prismatic through a screw or belt of lead `lead`), linear (figures at the slider). */
+  readonly transmission: 'gearbox' | 'screw' | 'linear';
+  readonly units: ActuatorUnits;
+  readonly gearRatio: number | null;
+  readonly efficiency: number | null;
+  readonly rotorInertia: number | null;
+  readonly gearInertia: number | null;
+  readonly ratedTorque: number | null;
+  readonly peakTorque: number | null;
+  readonly maxSpeed: number | null;
+  readonly encoderCounts: number | null;
+  readonly lead: number | null;
   readonly reflectedInertia: number;
-  /** Motor rated and peak torque, motor side, N·m. */
-  readonly ratedTorque: number;
-  readonly peakTorque: number;
-  /** η N τ_rated and η N τ_peak: torques available at the joint, N·m. */
-  readonly ratedJointTorque: number;
-  readonly peakJointTorque: number;
-  /** Motor maximum speed, motor side, rad/s; ω_max / N at the joint. */
-  readonly maxSpeed: number;
+  readonly ratedEffort: number;
+  readonly peakEffort: number;
   readonly maxJointSpeed: number;
-  /** Torsional stiffness at the joint, N·m/rad (Infinity: rigid). */
   readonly jointStiffness: number;
-  /** Encoder counts per motor revolution. */
-  readonly encoderCounts: number;
+  readonly encoderStep: number;
+  /** Five-bar sheets: the earlier names of ratedEffort and peakEffort, N·m. */
+  readonly ratedJointTorque?: number;
+  readonly peakJointTorque?: number;
 }
 
 export interface HomePoseSheet {
-  /** Where the end point was placed: the task region's centre, or the centre of the usable workspace. */
   readonly source: 'task-region-centre' | 'usable-workspace-centre';
   readonly endPoint: PlanePoint;
-  /** Actuated crank angles θ_i from the +x axis, counter-clockwise, rad, inside the study's joint limits. */
-  readonly theta_1: number;
-  readonly theta_2: number;
-  /** Passive elbow joints: rod angle relative to the crank, β_i − θ_i, rad in (−π, π]. */
-  readonly elbow_1: number;
-  readonly elbow_2: number;
-  /** Passive end-point joint: rod 2 relative to rod 1, β_2 − β_1, rad in (−π, π]. */
-  readonly endJoint: number;
-  /** Absolute rod angles β_i, rad. */
-  readonly beta_1: number;
-  readonly beta_2: number;
-  readonly elbowPoint_1: PlanePoint;
-  readonly elbowPoint_2: PlanePoint;
-  /** Distance between the two rod tips computed from the joint angles, m (the loop is closed when ≈ 0). */
+  /** Platform orientation φ, rad (null for 2-DOF). */
+  readonly phi: number | null;
+  /** Every joint of the body tree (MJCF names, qpos order): rad for hinges, m for slides. */
+  readonly joints: Readonly<Record<string, number>>;
+  /** Actuated joint positions by actuator (rad or m). */
+  readonly actuated: Readonly<Record<string, number>>;
+  /** Absolute rod angles β_i, rad in (−π, π]. */
+  readonly rodAngles: Readonly<Record<string, number>>;
+  readonly proximalJoints: Readonly<Record<string, PlanePoint>>;
+  readonly distalJoints: Readonly<Record<string, PlanePoint>>;
+  /** Largest gap of the loop closures recomputed forward along the tree from `joints`, m. */
   readonly loopClosureError: number;
-  /** Static holding torques at the actuated joints, N·m (engine τ_g). */
-  readonly gravityTorque_1: number;
-  readonly gravityTorque_2: number;
-  /** 1/κ(J) and det A at the home pose. */
+  /** Static holding efforts τ_g by actuator (N·m or N). */
+  readonly holdingEfforts: Readonly<Record<string, number>>;
   readonly inverseCondition: number;
-  readonly detA: number;
+  readonly mechanismSine: number;
+  // Five-bar sheets only: the earlier names (see the file comment).
+  readonly theta_1?: number;
+  readonly theta_2?: number;
+  readonly elbow_1?: number;
+  readonly elbow_2?: number;
+  readonly endJoint?: number;
+  readonly beta_1?: number;
+  readonly beta_2?: number;
+  readonly elbowPoint_1?: PlanePoint;
+  readonly elbowPoint_2?: PlanePoint;
+  readonly gravityTorque_1?: number;
+  readonly gravityTorque_2?: number;
+  readonly detA?: number;
 }
 
 export interface ProvenanceSheet {
@@ -137,274 +154,36 @@ export interface CandidateSheet {
   readonly format: typeof CANDIDATE_FORMAT;
   readonly safetyNote: string;
   readonly id: number;
-  readonly architecture: 'five-bar';
-  /** Every geometry parameter, m. */
-  readonly geometry: Readonly<Record<FiveBarParameter, number>>;
-  readonly pivot_1: PlanePoint;
-  readonly pivot_2: PlanePoint;
-  /** The design variables as stored (m; working mode by name). */
+  readonly architecture: string;
+  readonly comparison: { readonly architectures: readonly string[]; readonly chosen: string } | null;
+  readonly dof: 2 | 3;
+  readonly actuators: Readonly<Record<string, ActuatorSheet>>;
+  readonly geometry: Readonly<Record<string, number>>;
+  readonly geometryUnits: Readonly<Record<string, 'm' | 'rad'>>;
+  /** Per ground body (leg): its base point and, for a slide on the ground, the rail direction. */
+  readonly bases: Readonly<Record<string, { readonly point: PlanePoint; readonly railDirection: PlanePoint | null }>>;
+  /** 3-DOF: the platform pins B_i in the platform frame (origin P, x axis at φ), m; null for 2-DOF. */
+  readonly platformPins: Readonly<Record<string, PlanePoint>> | null;
   readonly designVariables: Readonly<Record<string, number | string>>;
   readonly workingMode: string;
   readonly assemblyMode: string;
-  /** Actuated joint ranges, rad, or null when unlimited. */
-  readonly jointLimits: { readonly theta_1: JointRange | null; readonly theta_2: JointRange | null };
-  /** Gravity in the plane of motion, m/s². */
+  readonly orientation: { readonly phi0: number; readonly range: number; readonly step: number; readonly characteristicLength: number; readonly characteristicLengthSetting: string } | null;
+  /** Actuated joint ranges by actuator (rad or m), null = unlimited (five-bar: also by theta_i). */
+  readonly jointLimits: Readonly<Record<string, JointRange | null>>;
   readonly gravity: PlanePoint;
   readonly homePose: HomePoseSheet;
-  readonly bodies: {
-    readonly crank_1: BodySheet;
-    readonly rod_1: BodySheet;
-    readonly crank_2: BodySheet;
-    readonly rod_2: BodySheet;
-    readonly endMass: BodySheet;
-  };
-  /** Mass of cranks, rods and hubs, payload excluded, kg. */
+  readonly bodies: Readonly<Record<string, BodySheet>>;
   readonly movingMass: number;
   readonly payloadMass: number;
-  readonly drives: { readonly actuator_1: DriveSheet; readonly actuator_2: DriveSheet } | null;
-  /** Every metric as stored (SI); null where the study does not give what the metric needs. */
+  readonly drives: Readonly<Record<string, DriveSheet>> | null;
   readonly metrics: Readonly<Record<string, number | null>>;
-  /** Signed normalised constraint margins as stored (≥ 0 holds). */
   readonly constraints: Readonly<Record<string, number | null>>;
   readonly feasible: boolean;
   readonly violation: number;
   readonly provenance: ProvenanceSheet;
-  /** Only in a comparison study: its architectures and the member this design chose ('five-bar'). */
-  readonly comparison?: { readonly architectures: readonly string[]; readonly chosen: string };
-}
-
-/** One stored design and the study it belongs to, ready to be described. */
-export interface CandidateDesign {
-  readonly study: Study;
-  readonly resolved: ResolvedDesign;
-  readonly model: FiveBarModel;
-}
-
-/** The geometry, modes, drives and immutable model of a design given by its stored variable values. */
-export function candidateDesign(study: Study, values: Readonly<Record<string, number | string>>): CandidateDesign {
-  const variables = designVariables(study);
-  const design = designFromValues(variables, values, true);
-  const resolved = resolveDesign(study, variables, design);
-  return { study, resolved, model: buildFiveBarModel(study, resolved) };
-}
-
-const TWO_PI = 2 * Math.PI;
-
-/** Angle wrapped to (−π, π], rad. */
-export function wrapAngle(angle: number): number {
-  let a = angle % TWO_PI;
-  if (a <= -Math.PI) a += TWO_PI;
-  else if (a > Math.PI) a -= TWO_PI;
-  return a;
-}
-
-/** Actuated angle written inside its joint range [min, min + 2π) when there is one, else in (−π, π]. */
-export function actuatedAngle(angle: number, range: JointRange | null): number {
-  if (range === null) return wrapAngle(angle);
-  let t = (angle - range.min) % TWO_PI;
-  if (t < 0) t += TWO_PI;
-  return range.min + t;
-}
-
-/**
- * Joint coordinates of an assembled pose in the order of the exported chain:
- * θ_1, β_1 − θ_1, θ_2, β_2 − θ_2 (rad). Actuated angles lie inside the joint limits.
- */
-export function chainJointAngles(model: FiveBarModel, pose: FiveBarPose): [number, number, number, number] {
-  const theta1 = actuatedAngle(pose.theta1, model.jointLimits[0]);
-  const theta2 = actuatedAngle(pose.theta2, model.jointLimits[1]);
-  const beta1 = Math.atan2(pose.u1y, pose.u1x);
-  const beta2 = Math.atan2(pose.u2y, pose.u2x);
-  return [theta1, wrapAngle(beta1 - theta1), theta2, wrapAngle(beta2 - theta2)];
-}
-
-/**
- * End point of the home pose: the task region's centre when the study gives one and the design can
- * be assembled there; otherwise the node of the study's grid deepest inside the largest usable region
- * (the region the engine takes when there is no task region).
- */
-export function homeEndPoint(design: CandidateDesign): { point: PlanePoint; source: HomePoseSheet['source'] } {
-  const { study, model } = design;
-  const pose = new FiveBarPose();
-  const region = study.task.region;
-  if (region && solvePose(model, pose, region.centreX, region.centreY) === PoseStatus.Assembled) {
-    return { point: { x: region.centreX, y: region.centreY }, source: 'task-region-centre' };
-  }
-  const cells = study.evaluation.gridCells;
-  const grid = new MarginGrid(cells + 4);
-  const box = reachableBox(model);
-  if (!box) throw new ExportError('the two legs have no common reach: no pose to export');
-  grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
-  const { nx, ny, x0, y0, h, values, labels } = grid;
-  for (let j = 0; j < ny; j++) {
-    for (let i = 0; i < nx; i++) {
-      const status = solvePose(model, pose, x0 + i * h, y0 + j * h);
-      values[j * nx + i] = usableMargin(pose, status, study);
-    }
-  }
-  grid.labelRegions();
-  const largest = grid.largestRegion();
-  if (largest < 0) throw new ExportError('the design has no usable workspace: no pose to export');
-  // Depth of every region node: 4-connected steps to the nearest node outside the region (breadth-first
-  // from all outside nodes). The home pose is the deepest node — the middle of the region, away from
-  // its singular and limit boundaries — with ties broken by the distance to the region's centroid.
-  const total = nx * ny;
-  const depth = new Int32Array(total).fill(-1);
-  const queue = new Int32Array(total);
-  let head = 0;
-  let tail = 0;
-  let sumX = 0;
-  let sumY = 0;
-  let count = 0;
-  for (let k = 0; k < total; k++) {
-    if (labels[k] !== largest) {
-      depth[k] = 0;
-      queue[tail++] = k;
-    } else {
-      sumX += x0 + (k % nx) * h;
-      sumY += y0 + Math.floor(k / nx) * h;
-      count++;
-    }
-  }
-  while (head < tail) {
-    const k = queue[head++]!;
-    const i = k % nx;
-    const j = (k - i) / nx;
-    const next = depth[k]! + 1;
-    if (i > 0 && depth[k - 1] === -1) { depth[k - 1] = next; queue[tail++] = k - 1; }
-    if (i + 1 < nx && depth[k + 1] === -1) { depth[k + 1] = next; queue[tail++] = k + 1; }
-    if (j > 0 && depth[k - nx] === -1) { depth[k - nx] = next; queue[tail++] = k - nx; }
-    if (j + 1 < ny && depth[k + nx] === -1) { depth[k + nx] = next; queue[tail++] = k + nx; }
-  }
-  const cx = sumX / count;
-  const cy = sumY / count;
-  let best = { x: cx, y: cy };
-  let bestDepth = 0;
-  let bestDistance = Infinity;
-  for (let k = 0; k < total; k++) {
-    if (labels[k] !== largest) continue;
-    const x = x0 + (k % nx) * h;
-    const y = y0 + Math.floor(k / nx) * h;
-    const distance = (x - cx) ** 2 + (y - cy) ** 2;
-    if (depth[k]! > bestDepth || (depth[k] === bestDepth && distance < bestDistance)) {
-      bestDepth = depth[k]!;
-      bestDistance = distance;
-      best = { x, y };
-    }
-  }
-  return { point: best, source: 'usable-workspace-centre' };
-}
-
-/** Home pose at end point (x, y): every joint angle, elbows, closure check and holding torques. */
-export function homePose(design: CandidateDesign, point: PlanePoint, source: HomePoseSheet['source']): HomePoseSheet {
-  const { model } = design;
-  const pose = new FiveBarPose();
-  const status = solvePose(model, pose, point.x, point.y);
-  if (status !== PoseStatus.Assembled) {
-    throw new ExportError(`the design cannot be assembled in its working and assembly mode at (${point.x}, ${point.y}) m`);
-  }
-  poseDynamics(model, pose);
-  const [theta1, elbow1, theta2, elbow2] = chainJointAngles(model, pose);
-  const beta1 = theta1 + elbow1;
-  const beta2 = theta2 + elbow2;
-  // Rod tips from the joint angles alone (forward along each serial arm): the loop is closed when they meet.
-  const tip1x = model.pivotX[0] + model.crank[0] * Math.cos(theta1) + model.rod[0] * Math.cos(beta1);
-  const tip1y = model.pivotY[0] + model.crank[0] * Math.sin(theta1) + model.rod[0] * Math.sin(beta1);
-  const tip2x = model.pivotX[1] + model.crank[1] * Math.cos(theta2) + model.rod[1] * Math.cos(beta2);
-  const tip2y = model.pivotY[1] + model.crank[1] * Math.sin(theta2) + model.rod[1] * Math.sin(beta2);
-  return {
-    source,
-    endPoint: { x: point.x, y: point.y },
-    theta_1: theta1,
-    theta_2: theta2,
-    elbow_1: elbow1,
-    elbow_2: elbow2,
-    endJoint: wrapAngle(beta2 - beta1),
-    beta_1: wrapAngle(beta1),
-    beta_2: wrapAngle(beta2),
-    elbowPoint_1: { x: pose.c1x, y: pose.c1y },
-    elbowPoint_2: { x: pose.c2x, y: pose.c2y },
-    loopClosureError: Math.hypot(tip1x - tip2x, tip1y - tip2y),
-    // "+ 0" turns a −0 (no gravity in the plane) into 0.
-    gravityTorque_1: pose.tauG1 + 0,
-    gravityTorque_2: pose.tauG2 + 0,
-    inverseCondition: pose.inverseCondition,
-    detA: pose.detA,
-  };
-}
-
-/** Mass properties of the five bodies, the engine's body model (see the file comment). */
-function bodySheets(design: CandidateDesign, home: HomePoseSheet): CandidateSheet['bodies'] {
-  const { study, model } = design;
-  const hub = study.elbowHubMass;
-  const crank = (i: 0 | 1): BodySheet => {
-    const length = model.crank[i];
-    const barMass = study.links.cranks[i].massPerLength * length;
-    const mass = barMass + hub;
-    // Bar (COM at L/2, m L²/12) plus hub point mass at L, combined by the parallel-axis theorem (derived).
-    const com = mass > 0 ? (barMass * length / 2 + hub * length) / mass : length / 2;
-    const inertia = (barMass * length * length) / 12 + barMass * (length / 2 - com) ** 2 + hub * (length - com) ** 2;
-    const theta = i === 0 ? home.theta_1 : home.theta_2;
-    return {
-      attachedTo: `theta_${i + 1}`,
-      length,
-      mass,
-      centreOfMass: com,
-      inertiaAboutCom: inertia,
-      centreOfMassAtHome: { x: model.pivotX[i] + com * Math.cos(theta), y: model.pivotY[i] + com * Math.sin(theta) },
-      parts: `uniform bar ${barMass} kg (${study.links.cranks[i].label}) plus elbow hub ${hub} kg at the crank end`,
-    };
-  };
-  const rod = (i: 0 | 1): BodySheet => {
-    const length = model.rod[i];
-    const mass = model.rodMass[i];
-    const com = model.rodComDistance[i];
-    const beta = i === 0 ? home.beta_1 : home.beta_2;
-    const elbow = i === 0 ? home.elbowPoint_1 : home.elbowPoint_2;
-    return {
-      attachedTo: `elbow_${i + 1}`,
-      length,
-      mass,
-      centreOfMass: com,
-      inertiaAboutCom: model.rodInertiaAboutCom[i],
-      centreOfMassAtHome: { x: elbow.x + com * Math.cos(beta), y: elbow.y + com * Math.sin(beta) },
-      parts: `uniform bar (${study.links.rods[i].label})`,
-    };
-  };
-  return {
-    crank_1: crank(0),
-    rod_1: rod(0),
-    crank_2: crank(1),
-    rod_2: rod(1),
-    endMass: {
-      attachedTo: 'rod_1',
-      length: 0,
-      mass: model.endMass,
-      centreOfMass: 0,
-      inertiaAboutCom: 0,
-      centreOfMassAtHome: home.endPoint,
-      parts: `point mass at the end point: end hub ${study.endHubMass} kg plus payload ${study.payloadMass} kg (carried on the tip of rod 1)`,
-    },
-  };
-}
-
-function driveSheet(drive: DriveSpec): DriveSheet {
-  return {
-    label: drive.label,
-    gearRatio: drive.gearRatio,
-    efficiency: drive.efficiency,
-    rotorInertia: drive.rotorInertia,
-    gearInertia: drive.gearInertia,
-    reflectedInertia: drive.gearRatio ** 2 * drive.rotorInertia + drive.gearInertia,
-    ratedTorque: drive.ratedTorque,
-    peakTorque: drive.peakTorque,
-    ratedJointTorque: drive.efficiency * drive.gearRatio * drive.ratedTorque,
-    peakJointTorque: drive.efficiency * drive.gearRatio * drive.peakTorque,
-    maxSpeed: drive.maxSpeed,
-    maxJointSpeed: drive.maxSpeed / drive.gearRatio,
-    jointStiffness: drive.jointStiffness,
-    encoderCounts: drive.encoderCounts,
-  };
+  /** Five-bar sheets only: the pivots A_1, A_2 (= bases.leg_i.point). */
+  readonly pivot_1?: PlanePoint;
+  readonly pivot_2?: PlanePoint;
 }
 
 /** The stored row a sheet describes (a subset of the store's StoredEvaluation). */
@@ -417,49 +196,303 @@ export interface CandidateRecord {
   readonly violation: number;
 }
 
-/** Builds the candidate sheet of one stored design. */
-export function candidateSheet(study: Study, record: CandidateRecord, provenance: ProvenanceSheet): CandidateSheet {
-  const design = candidateDesign(study, record.variables);
-  const { point, source } = homeEndPoint(design);
-  const home = homePose(design, point, source);
-  const { model, resolved } = design;
-  // Drives come from the resolved design (they may differ per design), never from the study directly.
-  const drives = resolved.drives;
+/** A stored design ready to be written: its sheet and its MJCF model. */
+export interface CandidateExport {
+  readonly sheet: CandidateSheet;
+  mjcf(): string;
+}
+
+/** What a sheet is built from: the member study, architecture, model and resolved design. */
+export interface BuiltDesign {
+  readonly study: Study;
+  readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
+  readonly model: ArchitectureModelBase;
+  readonly resolved: ResolvedDesign;
+}
+
+/**
+ * Home point of a design: the task region's centre at φ_0 when assembled there, else the node deepest
+ * inside the largest usable region of the study's grid (usable thresholds of the study).
+ */
+export function architectureHomePoint(
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  study: Study,
+): { point: PlanePoint; phi: number; source: HomePoseSheet['source'] } {
+  const phi = studyPhi0(study, model.dof);
+  const pose = architecture.createPose();
+  const region = study.task.region;
+  if (region && architecture.solvePose(model, pose, region.centreX, region.centreY, phi) === PoseStatus.Assembled) {
+    return { point: { x: region.centreX, y: region.centreY }, phi, source: 'task-region-centre' };
+  }
+  const window = studyGridBox(architecture, model, study, phi);
+  const fields = sampleArchitectureMapFields(architecture, model, {
+    usable: { minInverseCondition: study.evaluation.minInverseCondition, minTransmissionAngle: study.evaluation.minTransmissionAngle },
+    taskRegion: null,
+    phi0: phi,
+    cells: study.evaluation.gridCells,
+    ...(window ? { window } : {}),
+  });
+  const node = fields ? deepestUsableNode(fields) : null;
+  if (!node || architecture.solvePose(model, pose, node[0], node[1], phi) !== PoseStatus.Assembled) {
+    throw new ExportError('the design has no usable workspace: no pose to export');
+  }
+  return { point: { x: node[0], y: node[1] }, phi, source: 'usable-workspace-centre' };
+}
+
+function driveSheet(drive: DriveSpec, kind: ActuatorKind, atJoint: DriveAtJoint): DriveSheet {
+  const linear = drive.linear !== undefined;
+  return {
+    label: drive.label,
+    kind,
+    transmission: linear ? 'linear' : kind === 'revolute' ? 'gearbox' : 'screw',
+    units: actuatorUnits(kind),
+    gearRatio: linear ? null : drive.gearRatio,
+    efficiency: linear ? null : drive.efficiency,
+    rotorInertia: linear ? null : drive.rotorInertia,
+    gearInertia: linear ? null : drive.gearInertia,
+    ratedTorque: linear ? null : drive.ratedTorque,
+    peakTorque: linear ? null : drive.peakTorque,
+    maxSpeed: linear ? null : drive.maxSpeed,
+    encoderCounts: linear ? null : drive.encoderCounts,
+    lead: drive.lead ?? null,
+    reflectedInertia: atJoint.reflectedInertia,
+    ratedEffort: atJoint.ratedEffort,
+    peakEffort: atJoint.peakEffort,
+    maxJointSpeed: atJoint.maxSpeed,
+    jointStiffness: atJoint.jointStiffness,
+    encoderStep: atJoint.encoderStep,
+  };
+}
+
+/** What a body is made of in the study's words: its link section's label (crank_i, rod_i) and the hub and payload masses. */
+function partsText(name: string, parts: string, study: Study): string {
+  const link = /^(crank|rod)_(\d+)$/.exec(name);
+  if (link) {
+    const section = (link[1] === 'crank' ? study.links.cranks : study.links.rods)[Number(link[2]) - 1];
+    const label = section ? ` (${section.label})` : '';
+    return link[1] === 'crank' ? `uniform bar${label} plus elbow hub ${study.elbowHubMass} kg at the crank end` : `uniform bar${label}`;
+  }
+  if (name === 'end_mass') return `point mass at the end point: end hub ${study.endHubMass} kg plus payload ${study.payloadMass} kg (carried on the tip of rod 1)`;
+  return parts;
+}
+
+/** Body sheets walked from the body tree at joint coordinates `joints`. */
+function bodySheets(tree: BodyTree, joints: ArrayLike<number>, study: Study): Record<string, BodySheet> {
+  const frames = bodyFrames(tree, joints);
+  const out: Record<string, BodySheet> = {};
+  for (const body of tree.bodies) {
+    const [cx, cy] = pointInFrame(frames.get(body.name)!, body.centreOfMass);
+    // The sheet's earlier name of the five-bar's and 2-DOF end body.
+    const key = body.name === 'end_mass' ? 'endMass' : body.name;
+    out[key] = {
+      attachedTo: body.joint ? body.joint.name : (body.parent ?? 'ground'),
+      length: body.length,
+      mass: body.mass,
+      centreOfMass: body.shape === 'bar' ? Math.abs(body.centreOfMass[0]) : 0,
+      inertiaAboutCom: body.inertiaAboutCom,
+      centreOfMassAtHome: { x: cx, y: cy },
+      parts: partsText(body.name, body.parts, study),
+    };
+  }
+  return out;
+}
+
+/** Home-pose joints by actuator and leg, from the tree's joint coordinates and the solved pose. */
+function homePoseSheet(
+  tree: BodyTree,
+  joints: Float64Array,
+  pose: ArchitecturePose,
+  home: { point: PlanePoint; phi: number; source: HomePoseSheet['source'] },
+): HomePoseSheet {
+  const n = pose.dof;
+  const named: Record<string, number> = {};
+  const actuated: Record<string, number> = {};
+  let k = 0;
+  for (const body of tree.bodies) {
+    if (!body.joint) continue;
+    named[body.joint.name] = joints[k]!;
+    if (body.joint.actuator !== null) actuated[`actuator_${body.joint.actuator + 1}`] = joints[k]!;
+    k++;
+  }
+  const perLeg = (f: (i: number) => [string, unknown]) => Object.fromEntries(Array.from({ length: n }, (_, i) => f(i)));
+  return {
+    source: home.source,
+    endPoint: home.point,
+    phi: n === 3 ? home.phi : null,
+    joints: named,
+    actuated: Object.fromEntries(Object.entries(actuated).sort(([a], [b]) => a.localeCompare(b))),
+    rodAngles: perLeg((i) => [`beta_${i + 1}`, wrapAngle(Math.atan2(pose.rodDirection[2 * i + 1]!, pose.rodDirection[2 * i]!))]) as Record<string, number>,
+    proximalJoints: perLeg((i) => [`leg_${i + 1}`, { x: pose.proximalJoint[2 * i]!, y: pose.proximalJoint[2 * i + 1]! }]) as Record<string, PlanePoint>,
+    distalJoints: perLeg((i) => [`leg_${i + 1}`, { x: pose.distalJoint[2 * i]!, y: pose.distalJoint[2 * i + 1]! }]) as Record<string, PlanePoint>,
+    loopClosureError: loopClosureGap(tree, joints),
+    holdingEfforts: perLeg((i) => [`actuator_${i + 1}`, pose.tauG[i]! + 0]) as Record<string, number>,
+    inverseCondition: pose.inverseCondition,
+    mechanismSine: pose.mechanismSine,
+  };
+}
+
+/** The five-bar's names of the earlier layout, added to a five-bar sheet (the same numbers). */
+function withFiveBarNames(sheet: CandidateSheet, detA: number): CandidateSheet {
+  const h = sheet.homePose;
+  const j = h.joints;
+  const theta1 = j['theta_1']!;
+  const theta2 = j['theta_2']!;
+  const beta1 = theta1 + j['elbow_1']!;
+  const beta2 = theta2 + j['elbow_2']!;
+  const drives = sheet.drives
+    ? Object.fromEntries(Object.entries(sheet.drives).map(([k, d]) => [k, { ...d, ratedJointTorque: d.ratedEffort, peakJointTorque: d.peakEffort }]))
+    : null;
+  return {
+    ...sheet,
+    pivot_1: sheet.bases['leg_1']!.point,
+    pivot_2: sheet.bases['leg_2']!.point,
+    jointLimits: { theta_1: sheet.jointLimits['actuator_1'] ?? null, theta_2: sheet.jointLimits['actuator_2'] ?? null, ...sheet.jointLimits },
+    homePose: {
+      ...h,
+      theta_1: theta1,
+      theta_2: theta2,
+      elbow_1: j['elbow_1']!,
+      elbow_2: j['elbow_2']!,
+      endJoint: wrapAngle(beta2 - beta1),
+      beta_1: wrapAngle(beta1),
+      beta_2: wrapAngle(beta2),
+      elbowPoint_1: h.proximalJoints['leg_1']!,
+      elbowPoint_2: h.proximalJoints['leg_2']!,
+      gravityTorque_1: h.holdingEfforts['actuator_1']!,
+      gravityTorque_2: h.holdingEfforts['actuator_2']!,
+      detA,
+    },
+    drives,
+  };
+}
+
+/** The ground bodies' base points (and rail directions of ground slides), by leg. */
+function basesOf(tree: BodyTree): CandidateSheet['bases'] {
+  const roots = tree.bodies.filter((b) => b.parent === null);
+  return Object.fromEntries(roots.map((b, k) => [
+    `leg_${k + 1}`,
+    { point: { x: b.origin[0], y: b.origin[1] }, railDirection: b.joint?.kind === 'prismatic' ? { x: b.joint.axis[0], y: b.joint.axis[1] } : null },
+  ]));
+}
+
+/** 3-DOF: platform pins in the platform frame (origin P, x at φ), from the plate body's sites relative to its centre. */
+function platformPinsOf(tree: BodyTree): CandidateSheet['platformPins'] {
+  const plate = tree.bodies.find((b) => b.shape === 'plate');
+  const centre = plate?.sites.find((s) => s.name === 'centre');
+  if (!plate || !centre) return null;
+  return Object.fromEntries(plate.sites.filter((s) => s !== centre).map((s) => [s.name, { x: s.at[0] - centre.at[0], y: s.at[1] - centre.at[1] }]));
+}
+
+/** The sheet of one design (any architecture) and its home pose. */
+export function designSheet(
+  study: Study,
+  record: CandidateRecord,
+  provenance: ProvenanceSheet,
+  built: BuiltDesign,
+): { sheet: CandidateSheet; home: { x: number; y: number; phi: number } } {
+  const { architecture, model, resolved } = built;
+  const member = built.study;
+  const n = model.dof;
+  const home = architectureHomePoint(architecture, model, member);
+  const pose = architecture.createPose();
+  const status = architecture.solvePose(model, pose, home.point.x, home.point.y, home.phi);
+  if (status !== PoseStatus.Assembled) throw new ExportError(`the design cannot be assembled at (${home.point.x}, ${home.point.y}) m${n === 3 ? `, φ ${home.phi} rad` : ''}`);
+  architecture.poseDynamics(model, pose);
+  const tree = architecture.bodyTree(model);
+  const joints = architecture.bodyTreeJoints(model, pose);
+
+  const actuators: Record<string, ActuatorSheet> = {};
+  for (const body of tree.bodies) {
+    const j = body.joint;
+    if (j && j.actuator !== null) actuators[`actuator_${j.actuator + 1}`] = { joint: j.name, kind: j.kind, units: actuatorUnits(j.kind) };
+  }
+  const jointLimits: Record<string, JointRange | null> = {};
+  for (const body of tree.bodies) if (body.joint?.actuator != null) jointLimits[`actuator_${body.joint.actuator + 1}`] = body.joint.range;
+  const geometry: Record<string, number> = {};
+  const geometryUnits: Record<string, 'm' | 'rad'> = {};
+  for (const p of architecture.parameters) {
+    geometry[p.name] = resolved.geometry[p.name]!;
+    geometryUnits[p.name] = p.kind === 'angle' ? 'rad' : 'm';
+  }
   const metrics: Record<string, number | null> = {};
   for (const m of METRICS) metrics[m.name] = record.metrics[m.name] ?? null;
-  const geometry = {} as Record<FiveBarParameter, number>;
-  for (const name of FIVE_BAR_PARAMETERS) geometry[name] = resolved.geometry[name];
-  return {
+  let drives: Record<string, DriveSheet> | null = null;
+  if (resolved.drives && model.drives) {
+    drives = {};
+    for (let i = 0; i < n; i++) drives[`actuator_${i + 1}`] = driveSheet(resolved.drives[i]!, model.actuators[i]!, model.drives[i]!);
+  }
+  const o = member.orientation;
+  const sheet: CandidateSheet = {
     format: CANDIDATE_FORMAT,
     safetyNote: SAFETY_NOTE,
     id: record.id,
-    architecture: 'five-bar',
+    architecture: architecture.name,
+    comparison: study.members ? { architectures: study.members.map((s) => s.architecture), chosen: architecture.name } : null,
+    dof: n,
+    actuators: Object.fromEntries(Object.entries(actuators).sort(([a], [b]) => a.localeCompare(b))),
     geometry,
-    pivot_1: { x: model.pivotX[0], y: model.pivotY[0] },
-    pivot_2: { x: model.pivotX[1], y: model.pivotY[1] },
+    geometryUnits,
+    bases: basesOf(tree),
+    platformPins: n === 3 ? platformPinsOf(tree) : null,
     designVariables: { ...record.variables },
     workingMode: resolved.workingMode,
-    assemblyMode: study.assemblyMode,
-    jointLimits: { theta_1: model.jointLimits[0], theta_2: model.jointLimits[1] },
-    gravity: { x: model.gravity[0], y: model.gravity[1] },
-    homePose: home,
-    bodies: bodySheets(design, home),
-    movingMass: movingMass(study, resolved.geometry),
-    payloadMass: study.payloadMass,
-    drives: drives ? { actuator_1: driveSheet(drives[0]), actuator_2: driveSheet(drives[1]) } : null,
+    assemblyMode: member.assemblyMode,
+    orientation: n === 3
+      ? {
+          phi0: o?.phi0 ?? 0,
+          range: o?.range ?? 0,
+          step: o?.step ?? 0,
+          characteristicLength: model.characteristicLength,
+          characteristicLengthSetting: o === null || o === undefined ? 'platform' : String(o.characteristicLength),
+        }
+      : null,
+    jointLimits: Object.fromEntries(Object.entries(jointLimits).sort(([a], [b]) => a.localeCompare(b))),
+    gravity: { x: tree.gravity[0], y: tree.gravity[1] },
+    homePose: homePoseSheet(tree, joints, pose, home),
+    bodies: bodySheets(tree, joints, member),
+    movingMass: architecture.movingMass(model),
+    payloadMass: member.payloadMass,
+    drives,
     metrics,
     constraints: { ...record.constraints },
     feasible: record.feasible,
     violation: record.violation,
     provenance,
   };
+  return { sheet: architecture.name === 'five-bar' ? withFiveBarNames(sheet, pose.detA) : sheet, home: { x: home.point.x, y: home.point.y, phi: home.phi } };
+}
+
+/** Sheet and MJCF writer of one stored design of any study (a comparison design by its chosen member). */
+export function candidateExport(study: Study, record: CandidateRecord, provenance: ProvenanceSheet): CandidateExport {
+  const evaluator = new Evaluator(study);
+  const built = evaluator.architectureDesign(designFromValues(evaluator.variables, record.variables, true));
+  const { sheet, home } = designSheet(study, record, provenance, built);
+  return {
+    sheet,
+    mjcf: () =>
+      architectureMjcf(built.architecture, built.model, home, {
+        modelName: `loopsmith candidate ${sheet.id}`,
+        description: [
+          `Candidate ${sheet.id} of run ${provenance.runId} (${provenance.runKind}), study "${provenance.studyName}" (study file sha256 ${provenance.studyFileHash}), database ${provenance.database}, loopsmith ${provenance.loopsmithVersion}.`,
+          `Working mode ${sheet.workingMode}, assembly mode ${sheet.assemblyMode}.`,
+          ...(sheet.comparison ? [`Comparison study: member ${sheet.comparison.chosen} of ${sheet.comparison.architectures.join(', ')}.`] : []),
+        ],
+        safetyNote: SAFETY_NOTE,
+      }),
+  };
+}
+
+/** The candidate sheet of one stored design of any study. */
+export function candidateSheet(study: Study, record: CandidateRecord, provenance: ProvenanceSheet): CandidateSheet {
+  return candidateExport(study, record, provenance).sheet;
 }
 
 /** The loopsmith version, from the package's own package.json. */
 export { loopsmithVersion } from '../core/version.js';
 
 /** JSON text of a sheet: infinite numbers written as the strings "Infinity" / "-Infinity". */
-export function sheetToJson(sheet: CandidateSheet | object): string {
+export function sheetToJson(sheet: object): string {
   return JSON.stringify(
     sheet,
     (_key, value: unknown) => (typeof value === 'number' && !Number.isFinite(value) && !Number.isNaN(value) ? (value > 0 ? 'Infinity' : '-Infinity') : value),

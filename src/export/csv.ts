@@ -3,7 +3,10 @@
  * (`geometry.crank_1`, `homePose.theta_1`, `bodies.rod_2.inertiaAboutCom`, ...), one row per candidate.
  * Numbers are written in full precision (SI), infinities as `Infinity`, missing values as empty cells.
  */
-import type { AnyCandidateSheet } from './candidateArchitecture.js';
+import type { CandidateSheet } from './candidate.js';
+
+/** Earlier name of the one sheet type. */
+type AnyCandidateSheet = CandidateSheet;
 
 export type FlatValue = number | string | boolean | null;
 

@@ -11,7 +11,7 @@ import { Store, type RunRow, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText, studySettingsHash } from '../study/parse.js';
 import type { Study } from '../study/types.js';
 import { ExportError, loopsmithVersion, sheetToJson } from './candidate.js';
-import { candidateExport, type AnyCandidateSheet, type CandidateExport } from './candidateArchitecture.js';
+import { candidateExport, type CandidateExport, type CandidateSheet as AnyCandidateSheet } from './candidate.js';
 import { candidatesCsv } from './csv.js';
 import candidateSchema from './candidate.schema.json' with { type: 'json' };
 

@@ -1,38 +1,39 @@
 /** Export of stored candidates: candidate sheets (JSON), one CSV table, MJCF models. */
 export {
+  candidateExport,
   candidateSheet,
-  candidateDesign,
-  homeEndPoint,
-  homePose,
-  chainJointAngles,
-  actuatedAngle,
-  wrapAngle,
+  designSheet,
+  architectureHomePoint,
   sheetToJson,
   loopsmithVersion,
   ExportError,
   CANDIDATE_FORMAT,
+  SAFETY_NOTE,
   type CandidateSheet,
-  type CandidateDesign,
+  type CandidateSheet as AnyCandidateSheet,
+  type CandidateExport,
   type CandidateRecord,
+  type BuiltDesign,
+  type ActuatorSheet,
   type BodySheet,
   type DriveSheet,
   type HomePoseSheet,
   type ProvenanceSheet,
   type PlanePoint,
 } from './candidate.js';
-export {
-  candidateExport,
-  architectureHomePoint,
-  type AnyCandidateSheet,
-  type ArchitectureCandidateSheet,
-  type ArchitectureBodySheet,
-  type ArchitectureDriveSheet,
-  type ArchitectureHomePoseSheet,
-  type ActuatorSheet,
-  type CandidateExport,
-} from './candidateArchitecture.js';
 export { candidatesCsv, flattenSheet, type FlatValue } from './csv.js';
-export { toMjcf, MJCF_JOINTS, MJCF_TIMESTEP, LOOP_CLOSURE_SOLREF, LOOP_CLOSURE_SOLIMP } from './mjcf.js';
+export {
+  architectureMjcf,
+  treeMjcfJoints,
+  MJCF_TIMESTEP,
+  LOOP_CLOSURE_SOLREF,
+  LOOP_CLOSURE_SOLIMP,
+  MASSLESS_BODY_FILL,
+  type ArchitectureHomePose,
+  type ArchitectureMjcfOptions,
+  type MjcfJointInfo,
+} from './mjcf.js';
+export { bodyFrames, sitePositions, loopClosureGap, type PlaneFrame } from './bodyTree.js';
 export {
   exportCandidates,
   candidateSheets,

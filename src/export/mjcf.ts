@@ -1,27 +1,78 @@
 /**
- * MJCF (MuJoCo XML) model of a candidate sheet, ready to simulate.
+ * MJCF (MuJoCo XML) model of one design of any architecture, written by walking the model's body
+ * tree (`architecture.bodyTree(model)`, src/architectures/types.ts): one `<body>` per tree body with
+ * its joint (hinge or slide, axis, range, drive inertia as `armature`), mass, centre of mass and
+ * inertia; the loops are closed by `<connect>` equality constraints between the tree's closure sites.
+ * Nothing here knows an architecture by name.
  *
- * The five-bar becomes two serial arms from the pivots in the MuJoCo x–z plane (engine (x, y) ↦
- * MuJoCo (x, z); gravity (g_x, g_y) ↦ (g_x, 0, g_y)), closed at the end point by an equality
- * constraint between the two rod-tip sites. Hinge axes are 0 −1 0, so a positive joint angle turns
- * +x toward +z, the engine's counter-clockwise sense. Joint coordinates are relative:
- * qpos = (θ_1, β_1 − θ_1, θ_2, β_2 − θ_2). Each body carries an explicit <inertial> from the sheet;
- * geoms are for looks only (no contacts, no mass). See docs/export.md for the parameter choices.
+ * - Plane of motion: engine (x, y) ↦ MuJoCo (x, 0, y); gravity (g_x, g_y) ↦ (g_x, 0, g_y). Hinge
+ *   axes are 0 −1 0, so a positive angle turns +x toward +z (the engine's counter-clockwise sense);
+ *   a slide's axis is its tree axis (a_x, 0, a_y).
+ * - qpos order = the tree's joint order (MuJoCo numbers joints depth-first, as the tree lists them).
+ * - Inertia: `<inertial>` from the tree (`inertiafromgeom="false"`); the planar inertia is about the
+ *   plane normal (body y). A bar's out-of-plane components are the planar value and 1e-3 of it along
+ *   the bar, a plate's all three the planar value (at least 1e-12), a carriage's m r² (it never turns),
+ *   a point mass 0: these only keep MuJoCo's inertia positive definite and do not enter planar motion.
+ *   MuJoCo refuses moving bodies without mass: an actuated body without mass gets MASSLESS_BODY_FILL
+ *   (1e-6) of the design's total mass at its joint; a point body without mass is left out.
+ * - Drives: a `<motor>` per actuated joint (gear 1: control = joint torque N·m or force N),
+ *   `ctrlrange` ±peak effort of the model's drive.
+ * - Loop closure: stiff soft-constraint settings (LOOP_CLOSURE_SOLREF/SOLIMP, 0.5 ms step; docs/export.md).
+ * - Keyframe `home`: the home pose (`bodyTreeJoints`) and the engine's holding efforts τ_g as controls.
+ * Geoms are for looks only (no contacts, no mass).
  */
-import type { BodySheet, CandidateSheet } from './candidate.js';
+import {
+  PoseStatus,
+  type ArchitectureModelBase,
+  type BodyTree,
+  type JointRange,
+  type PlanarArchitecture,
+  type TreeBody,
+} from '../architectures/types.js';
+import { treeMass } from './bodyTree.js';
 
 /** Simulation time step, s. */
 export const MJCF_TIMESTEP = 0.0005;
 /**
- * Loop-closure constraint softness: time constant 2 ms (four time steps) with critical damping,
- * and impedance 0.9999 at every violation. MuJoCo's equality constraints are soft; these values
- * make the closure stiff enough that a held pose stays closed to well below a micrometre.
+ * Loop-closure constraint softness: time constant 2 ms (four time steps) with critical damping, and
+ * impedance 0.9999 at every violation. MuJoCo's equality constraints are soft; these values make the
+ * closure stiff enough that a held pose stays closed to well below a micrometre.
  */
 export const LOOP_CLOSURE_SOLREF = '0.002 1';
 export const LOOP_CLOSURE_SOLIMP = '0.9999 0.9999 0.001 0.5 2';
+/** Share of the design's total mass given to an actuated body the model has without mass. */
+export const MASSLESS_BODY_FILL = 1e-6;
 
-/** Joint names in qpos order. */
-export const MJCF_JOINTS = ['theta_1', 'elbow_1', 'theta_2', 'elbow_2'] as const;
+/** A home pose of the design: P (m) and φ (rad; ignored by 2-DOF architectures). */
+export interface ArchitectureHomePose {
+  readonly x: number;
+  readonly y: number;
+  readonly phi?: number;
+}
+
+export interface ArchitectureMjcfOptions {
+  /** `<mujoco model="...">` name (default "loopsmith <architecture> design"). */
+  readonly modelName?: string;
+  /** Extra lines for the header comment (provenance: run, study, design id…). */
+  readonly description?: readonly string[];
+  /** Safety caution repeated in the header comment. */
+  readonly safetyNote?: string;
+  /** Radius of the drawn links, m (default 2 % of the longest bar, at least 4 mm). Looks only. */
+  readonly linkRadius?: number;
+}
+
+/** One MuJoCo joint of the exported chain, in qpos order. */
+export interface MjcfJointInfo {
+  readonly name: string;
+  readonly type: 'hinge' | 'slide';
+  /** 'actuated' joints carry a motor; 'passive' joints are free pins. */
+  readonly role: 'actuated' | 'passive';
+}
+
+const DEFAULT_SAFETY_NOTE =
+  'Early-design estimate from simplified models (rigid bodies, frictionless pins, static and standstill analyses); ' +
+  'not a safety analysis. Follow the machinery safety standards that apply, do your own risk assessment and have ' +
+  'the design reviewed by a licensed engineer before anything is built or run.';
 
 /** Number in the shortest text that reads back to the same double. */
 function num(value: number): string {
@@ -29,100 +80,208 @@ function num(value: number): string {
   return Object.is(value, -0) ? '0' : String(value);
 }
 
-function escapeAttribute(text: string): string {
+/** Text safe inside an XML comment (no "--", no markup). */
+function commentText(text: string): string {
+  return text.replaceAll('&', '&amp;').replaceAll('<', '&lt;').replaceAll('>', '&gt;').replaceAll('--', '- -');
+}
+
+function attributeText(text: string): string {
   return text.replaceAll('&', '&amp;').replaceAll('"', '&quot;').replaceAll('<', '&lt;').replaceAll('>', '&gt;');
 }
 
-/** Text safe inside an XML comment (no "--"). */
-function commentText(text: string): string {
-  return escapeAttribute(text).replaceAll('--', '- -');
+function statusText(status: PoseStatus): string {
+  switch (status) {
+    case PoseStatus.Unreachable: return 'a leg cannot reach it';
+    case PoseStatus.OutsideJointLimits: return 'an actuated joint is outside its range';
+    case PoseStatus.WrongAssembly: return 'det A has the other assembly sign (or is zero)';
+    default: return 'assembled';
+  }
 }
 
-/**
- * <inertial> of a link body: centre of mass on the link axis (body x); inertia about the plane
- * normal (body y) and the in-plane transverse axis (body z) equal to the planar value. The axial
- * component does not enter motion about the hinges; it is set to 1e-3 of the transverse value
- * because MuJoCo refuses a singular inertia on a moving body.
- */
-function linkInertial(body: BodySheet): string {
-  const transverse = body.inertiaAboutCom;
-  const axial = transverse * 1e-3;
-  return `<inertial pos="${num(body.centreOfMass)} 0 0" mass="${num(body.mass)}" diaginertia="${num(axial)} ${num(transverse)} ${num(transverse)}"/>`;
-}
-
-function jointRange(range: { min: number; max: number } | null): string {
+function rangeAttribute(range: JointRange | null): string {
   return range === null ? '' : ` range="${num(range.min)} ${num(range.max)}"`;
 }
 
-/** The MJCF text of one candidate. */
-export function toMjcf(sheet: CandidateSheet, options: { readonly linkRadius?: number } = {}): string {
-  const b = sheet.bodies;
-  const radius = options.linkRadius ?? Math.max(0.004, 0.02 * Math.max(b.crank_1.length, b.crank_2.length, b.rod_1.length, b.rod_2.length));
-  const home = sheet.homePose;
-  const armature = (i: 1 | 2): number => (sheet.drives ? sheet.drives[i === 1 ? 'actuator_1' : 'actuator_2'].reflectedInertia : 0);
-  const endMass = b.endMass.mass > 0
-    ? `
-        <body name="end_mass" pos="${num(b.rod_1.length)} 0 0">
-          <inertial pos="0 0 0" mass="${num(b.endMass.mass)}" diaginertia="0 0 0"/>
-          <geom name="end_mass" type="sphere" size="${num(1.8 * radius)}" rgba="0.85 0.35 0.2 1"/>
-          <site name="end_point" size="${num(0.5 * radius)}"/>
-        </body>`
-    : '';
-  const arm = (i: 1 | 2): string => {
-    const crank = i === 1 ? b.crank_1 : b.crank_2;
-    const rod = i === 1 ? b.rod_1 : b.rod_2;
-    const pivot = i === 1 ? sheet.pivot_1 : sheet.pivot_2;
-    const limits = i === 1 ? sheet.jointLimits.theta_1 : sheet.jointLimits.theta_2;
-    return `
-    <body name="crank_${i}" pos="${num(pivot.x)} 0 ${num(pivot.y)}">
-      <joint name="theta_${i}" type="hinge" axis="0 -1 0" armature="${num(armature(i))}"${jointRange(limits)}/>
-      ${linkInertial(crank)}
-      <geom name="crank_${i}" type="capsule" fromto="0 0 0 ${num(crank.length)} 0 0" size="${num(radius)}" rgba="0.3 0.45 0.7 1"/>
-      <body name="rod_${i}" pos="${num(crank.length)} 0 0">
-        <joint name="elbow_${i}" type="hinge" axis="0 -1 0"/>
-        ${linkInertial(rod)}
-        <geom name="rod_${i}" type="capsule" fromto="0 0 0 ${num(rod.length)} 0 0" size="${num(0.7 * radius)}" rgba="0.55 0.6 0.65 1"/>
-        <site name="tip_${i}" pos="${num(rod.length)} 0 0" size="${num(0.5 * radius)}"/>${i === 1 ? endMass : ''}
-      </body>
-    </body>`;
-  };
-  const motor = (i: 1 | 2): string => {
-    const drive = sheet.drives ? sheet.drives[i === 1 ? 'actuator_1' : 'actuator_2'] : null;
-    const range = drive ? ` ctrlrange="${num(-drive.peakJointTorque)} ${num(drive.peakJointTorque)}"` : '';
-    return `    <motor name="drive_${i}" joint="theta_${i}" gear="1"${range}/>`;
-  };
-  const qpos = [home.theta_1, home.elbow_1, home.theta_2, home.elbow_2].map(num).join(' ');
-  const holding = [home.gravityTorque_1, home.gravityTorque_2].map(num).join(' ');
-  const g = sheet.gravity;
-  const p = sheet.provenance;
-  return `<mujoco model="loopsmith candidate ${sheet.id}">
+/** The joints of a body tree in qpos order. */
+export function treeMjcfJoints(tree: BodyTree): MjcfJointInfo[] {
+  return tree.bodies
+    .filter((b) => b.joint !== null)
+    .map((b) => ({ name: b.joint!.name, type: b.joint!.kind === 'revolute' ? 'hinge' : 'slide', role: b.joint!.actuator === null ? 'passive' : 'actuated' }));
+}
+
+interface WriteContext {
+  readonly tree: BodyTree;
+  readonly radius: number;
+  /** Mass given to an actuated body without mass, kg. */
+  readonly fill: number;
+}
+
+function inertialOf(body: TreeBody, ctx: WriteContext): string {
+  const { mass, inertiaAboutCom: inertia } = body;
+  const [cx, cz] = body.centreOfMass;
+  const actuated = body.joint !== null && body.joint.actuator !== null;
+  switch (body.shape) {
+    case 'bar': {
+      if (!(mass > 0) && actuated) {
+        const i = ctx.fill * ctx.radius * ctx.radius;
+        return `<inertial pos="0 0 0" mass="${num(ctx.fill)}" diaginertia="${num(i * 1e-3)} ${num(i)} ${num(i)}"/>`;
+      }
+      return `<inertial pos="${num(cx)} 0 ${num(cz)}" mass="${num(mass)}" diaginertia="${num(inertia * 1e-3)} ${num(inertia)} ${num(inertia)}"/>`;
+    }
+    case 'carriage': {
+      const m = mass > 0 ? mass : ctx.fill;
+      const i = m * ctx.radius * ctx.radius;
+      return `<inertial pos="${num(cx)} 0 ${num(cz)}" mass="${num(m)}" diaginertia="${num(i)} ${num(i)} ${num(i)}"/>`;
+    }
+    case 'plate': {
+      if (!(mass > 0)) return '';
+      const i = num(Math.max(inertia, 1e-12));
+      return `<inertial pos="${num(cx)} 0 ${num(cz)}" mass="${num(mass)}" diaginertia="${i} ${i} ${i}"/>`;
+    }
+    case 'point':
+      return `<inertial pos="${num(cx)} 0 ${num(cz)}" mass="${num(mass)}" diaginertia="0 0 0"/>`;
+  }
+}
+
+function geomsOf(body: TreeBody, ctx: WriteContext): string[] {
+  const r = ctx.radius;
+  const actuated = body.joint !== null && body.joint.actuator !== null;
+  switch (body.shape) {
+    case 'bar':
+      return [`<geom name="${body.name}" type="capsule" fromto="0 0 0 ${num(body.reversed ? -body.length : body.length)} 0 0" size="${num(actuated ? r : 0.7 * r)}" rgba="${actuated ? '0.3 0.45 0.7 1' : '0.55 0.6 0.65 1'}"/>`];
+    case 'carriage': {
+      const [ax, ay] = body.joint?.axis ?? [1, 0];
+      return [`<geom name="${body.name}" type="box" size="${num(2.2 * r)} ${num(1.5 * r)} ${num(1.2 * r)}" euler="0 ${num(-Math.atan2(ay, ax))} 0" rgba="0.3 0.45 0.7 1"/>`];
+    }
+    case 'point':
+      return [`<geom name="${body.name}" type="sphere" size="${num(1.8 * r)}" rgba="0.85 0.35 0.2 1"/>`];
+    case 'plate': {
+      const pins = body.sites.filter((s) => s.name !== 'centre').map((s) => s.at);
+      return pins.map((pin, k) => {
+        const next = pins[(k + 1) % pins.length]!;
+        return `<geom name="${body.name}_edge_${k + 1}" type="capsule" fromto="${num(pin[0])} 0 ${num(pin[1])} ${num(next[0])} 0 ${num(next[1])}" size="${num(0.8 * r)}" rgba="0.35 0.6 0.45 1"/>`;
+      });
+    }
+  }
+}
+
+/** The `<body>` element of one tree body and its subtree. */
+function bodyXml(body: TreeBody, ctx: WriteContext, indent: string): string {
+  const inner = `${indent}  `;
+  const lines: string[] = [`${indent}<body name="${body.name}" pos="${num(body.origin[0])} 0 ${num(body.origin[1])}">`];
+  const j = body.joint;
+  if (j) {
+    const armature = j.actuator !== null ? ` armature="${num(j.armature)}"` : '';
+    const axis = j.kind === 'revolute' ? '0 -1 0' : `${num(j.axis[0])} 0 ${num(j.axis[1])}`;
+    lines.push(`${inner}<joint name="${j.name}" type="${j.kind === 'revolute' ? 'hinge' : 'slide'}" axis="${axis}"${armature}${rangeAttribute(j.range)}/>`);
+  }
+  const inertial = inertialOf(body, ctx);
+  if (inertial) lines.push(inner + inertial);
+  for (const g of geomsOf(body, ctx)) lines.push(inner + g);
+  for (const s of body.sites) lines.push(`${inner}<site name="${s.name}" pos="${num(s.at[0])} 0 ${num(s.at[1])}" size="${num(0.5 * ctx.radius)}"/>`);
+  for (const child of ctx.tree.bodies) if (child.parent === body.name && included(child)) lines.push(bodyXml(child, ctx, inner));
+  lines.push(`${indent}</body>`);
+  return lines.join('\n');
+}
+
+/** A fixed point body without mass is left out (MuJoCo needs no body there). */
+function included(body: TreeBody): boolean {
+  return !(body.shape === 'point' && body.joint === null && !(body.mass > 0));
+}
+
+/** Ground features: a site at every ground pivot, a drawn rail under every ground slide (stroke, or ± `reach` about the home position). */
+function groundFeatures(tree: BodyTree, qpos: Float64Array, ctx: WriteContext, reach: number): string[] {
+  const out: string[] = [];
+  let k = 0;
+  let leg = 0;
+  for (const body of tree.bodies) {
+    if (body.parent === null) {
+      leg++;
+      const [ox, oy] = body.origin;
+      if (body.joint?.kind === 'prismatic') {
+        const [ex, ey] = body.joint.axis;
+        const range = body.joint.range;
+        const qa = range ? range.min : qpos[k]! - reach;
+        const qb = range ? range.max : qpos[k]! + reach;
+        out.push(`<geom name="rail_${leg}" type="capsule" fromto="${num(ox + qa * ex)} 0.01 ${num(oy + qa * ey)} ${num(ox + qb * ex)} 0.01 ${num(oy + qb * ey)}" size="${num(0.5 * ctx.radius)}" rgba="0.6 0.6 0.6 1"/>`);
+      } else {
+        out.push(`<site name="pivot_${leg}" pos="${num(ox)} 0 ${num(oy)}" size="${num(ctx.radius)}"/>`);
+      }
+    }
+    if (body.joint) k++;
+  }
+  return out;
+}
+
+/**
+ * The MJCF text of one design of any architecture, with the home keyframe at `home` (P in m, φ in
+ * rad for 3-DOF). Throws when the design cannot be assembled at the home pose.
+ */
+export function architectureMjcf<TModel extends ArchitectureModelBase>(
+  architecture: PlanarArchitecture<TModel>,
+  model: TModel,
+  home: ArchitectureHomePose,
+  options: ArchitectureMjcfOptions = {},
+): string {
+  const n = model.dof;
+  const pose = architecture.createPose();
+  const phi = n === 3 ? (home.phi ?? 0) : 0;
+  const status = architecture.solvePose(model, pose, home.x, home.y, phi);
+  if (status !== PoseStatus.Assembled) {
+    throw new Error(`MJCF export: the ${architecture.name} design is not assembled at the home pose (${home.x}, ${home.y}${n === 3 ? `, φ ${phi}` : ''}): ${statusText(status)}`);
+  }
+  architecture.poseDynamics(model, pose);
+  const tree = architecture.bodyTree(model);
+  const qpos = architecture.bodyTreeJoints(model, pose);
+  const longest = Math.max(0, ...tree.bodies.map((b) => b.length));
+  const radius = options.linkRadius ?? Math.max(0.004, 0.02 * longest);
+  const ctx: WriteContext = { tree, radius, fill: MASSLESS_BODY_FILL * Math.max(treeMass(tree), 1e-3) };
+  const reach = longest + Math.max(0, ...tree.bodies.flatMap((b) => b.sites.map((s) => Math.hypot(s.at[0], s.at[1]))));
+
+  const joints = treeMjcfJoints(tree);
+  const actuated = tree.bodies.filter((b) => b.joint?.actuator != null).sort((a, b) => a.joint!.actuator! - b.joint!.actuator!);
+  const motors = actuated.map((b) => {
+    const i = b.joint!.actuator!;
+    const drive = model.drives ? model.drives[i]! : null;
+    const range = drive && Number.isFinite(drive.peakEffort) && drive.peakEffort > 0 ? ` ctrlrange="${num(-drive.peakEffort)} ${num(drive.peakEffort)}"` : '';
+    return `    <motor name="drive_${i + 1}" joint="${b.joint!.name}" gear="1"${range}/>`;
+  });
+  const closures = tree.closures.map((c) => `    <connect name="${c.name}" site1="${c.site1}" site2="${c.site2}" solref="${LOOP_CLOSURE_SOLREF}" solimp="${LOOP_CLOSURE_SOLIMP}"/>`);
+  const units = actuated.map((b) => `${b.joint!.name}: ${b.joint!.kind === 'revolute' ? 'N·m' : 'N'}`).join(', ');
+  const g = tree.gravity;
+  const homeText = n === 3 ? `P = (${num(home.x)}, ${num(home.y)}) m, φ = ${num(phi)} rad` : `P = (${num(home.x)}, ${num(home.y)}) m`;
+  const header = [
+    `${architecture.name} design exported by loopsmith. Working mode and assembly as in the study; bodies and joints from the model's body tree.`,
+    ...(options.description ?? []),
+    'Plane of motion: MuJoCo x-z (engine y is MuJoCo z). Units: SI, angles in radians, slide positions in metres.',
+    `Joints (qpos order): ${joints.map((j) => j.name).join(', ')}.`,
+    'Each hinge angle is relative to the parent body (a body on the ground: absolute); a slide moves its body along the rail.',
+    `Actuators (gear 1, controls are joint efforts): ${units}; limited to the drive's peak effort.`,
+    `Keyframe "home": ${homeText}, with the static holding efforts as controls.`,
+    options.safetyNote ?? DEFAULT_SAFETY_NOTE,
+  ];
+  const roots = tree.bodies.filter((b) => b.parent === null && included(b));
+  return `<mujoco model="${attributeText(options.modelName ?? `loopsmith ${architecture.name} design`)}">
   <!--
-    Five-bar candidate ${sheet.id} exported by loopsmith ${commentText(p.loopsmithVersion)} from run ${p.runId} of study ${commentText(p.studyName)}
-    (study file sha256 ${p.studyFileHash}). Working mode ${sheet.workingMode}, assembly mode ${sheet.assemblyMode}.
-    Plane of motion: MuJoCo x-z (engine y is MuJoCo z). Joints (qpos order): theta_1, elbow_1, theta_2, elbow_2;
-    elbow_i is the rod angle relative to its crank. Units: SI, angles in radians.
-    Actuators: torque at the crank joints (gear 1), limited to the drive's peak joint torque.
-    Keyframe "home": the home pose with the static holding torques as controls.
-    ${commentText(sheet.safetyNote)}
+${header.map((line) => `    ${commentText(line)}`).join('\n')}
   -->
   <compiler angle="radian" inertiafromgeom="false" autolimits="true"/>
-  <option timestep="${num(MJCF_TIMESTEP)}" gravity="${num(g.x)} 0 ${num(g.y)}"/>
+  <option timestep="${num(MJCF_TIMESTEP)}" gravity="${num(g[0])} 0 ${num(g[1])}"/>
   <default>
     <geom contype="0" conaffinity="0"/>
   </default>
   <worldbody>
-    <site name="pivot_1" pos="${num(sheet.pivot_1.x)} 0 ${num(sheet.pivot_1.y)}" size="${num(radius)}"/>
-    <site name="pivot_2" pos="${num(sheet.pivot_2.x)} 0 ${num(sheet.pivot_2.y)}" size="${num(radius)}"/>${arm(1)}${arm(2)}
+${groundFeatures(tree, qpos, ctx, reach).map((l) => `    ${l}`).join('\n')}
+${roots.map((b) => bodyXml(b, ctx, '    ')).join('\n')}
   </worldbody>
   <equality>
-    <connect name="loop_closure" site1="tip_1" site2="tip_2" solref="${LOOP_CLOSURE_SOLREF}" solimp="${LOOP_CLOSURE_SOLIMP}"/>
+${closures.join('\n')}
   </equality>
   <actuator>
-${motor(1)}
-${motor(2)}
+${motors.join('\n')}
   </actuator>
   <keyframe>
-    <key name="home" qpos="${qpos}" ctrl="${holding}"/>
+    <key name="home" qpos="${Array.from(qpos).map(num).join(' ')}" ctrl="${actuated.map((b) => num(pose.tauG[b.joint!.actuator!]! + 0)).join(' ')}"/>
   </keyframe>
 </mujoco>
 `;

@@ -20,17 +20,18 @@
  */
 import { curveAndJointLayers, mapAxes } from './mapLayers.js';
 import type { TopLevelSpec } from 'vega-lite';
-import type { LeggedModel } from '../architectures/legged.js';
 import {
   ArchitecturePose,
   PoseStatus,
   type ArchitectureModelBase,
+  type BodyTree,
   type PlanarArchitecture,
   type PlaneBox,
 } from '../architectures/types.js';
 import { MarginGrid } from '../mechanics/grid.js';
 import { zeroContours, type Polyline } from './contour.js';
-import { OKABE_ITO, renderVegaLiteSvg } from './render.js';
+import { renderVegaLiteSvg } from './render.js';
+import { MAP_COLOUR_SCHEME, MAP_CURVE_STYLES, MAP_FEATURE_COLOURS, MAP_FEATURES, MAP_JOINT_STYLES, UNUSABLE_OPACITY, type MapFeature } from './mapStyle.js';
 
 /** A task region, as in a study (m): a rectangle or a circle about its centre. */
 export type MapTaskRegion =
@@ -67,8 +68,14 @@ export interface ArchitectureMapOptions {
   readonly cells?: number;
   /** Chart title (default "Workspace of the <architecture> design"). */
   readonly title?: string;
-  /** First subtitle line (e.g. the design's parameters); the map adds modes, area and the home pose. */
+  /** Design line of the title (e.g. the design's parameters as label–value pairs); the map adds modes, area and the home pose. */
   readonly designLabel?: string;
+  /** Feasibility line of the title (e.g. "feasible", or the failing constraints with their values); first line when given. */
+  readonly feasibility?: string;
+  /** Metric line of the title (label–value pairs from the evaluator). */
+  readonly metricsLabel?: string;
+  /** Working-mode name shown with the modes (e.g. "+-+"). */
+  readonly workingMode?: string;
   /** Largest plotting-area width and height, px (defaults 560 and 520). */
   readonly maxWidthPx?: number;
   readonly maxHeightPx?: number;
@@ -116,7 +123,7 @@ export interface ArchitectureMapHome {
   readonly source: 'given' | 'task-centre' | 'usable-centre';
   readonly status: PoseStatus;
   /** Per leg: base point (pivot A_i or rail origin O_i), proximal joint (C_i or S_i), distal joint (P or B_i); null when not reachable. */
-  readonly legs: readonly { readonly base: readonly [number, number]; readonly proximal: readonly [number, number]; readonly distal: readonly [number, number] }[] | null;
+  readonly legs: readonly { readonly base: readonly [number, number]; readonly proximal: readonly [number, number]; readonly distal: readonly [number, number]; readonly baseKind: 'slider' | 'actuated pivot' | 'passive pivot' }[] | null;
 }
 
 export interface ArchitectureMapSpec {
@@ -127,82 +134,21 @@ export interface ArchitectureMapSpec {
   readonly home: ArchitectureMapHome | null;
 }
 
-/** Legend entries of the line layer, in legend order. */
-export const ARCHITECTURE_MAP_FEATURES = {
-  reach: 'reachable region (boundary)',
-  legSingularity: 'leg singularity (some sᵢ = 0)',
-  mechanismSingularity: 'mechanism singularity (det A = 0)',
-  usable: 'usable workspace (boundary)',
-  task: 'task region',
-  rail: 'slider rail',
-  mechanism: 'mechanism at home pose',
-  platform: 'platform at home pose',
-} as const;
-type Feature = (typeof ARCHITECTURE_MAP_FEATURES)[keyof typeof ARCHITECTURE_MAP_FEATURES];
-
-const FEATURE_STYLE: readonly { feature: Feature; colour: string; dash: number[]; width: number }[] = [
-  { feature: ARCHITECTURE_MAP_FEATURES.reach, colour: '#8c8c8c', dash: [1, 0], width: 1.5 },
-  // As the five-bar map: singular curves lie where 1/κ → 0 (dark end of viridis), so bright colours.
-  { feature: ARCHITECTURE_MAP_FEATURES.legSingularity, colour: OKABE_ITO.orange, dash: [7, 3], width: 2.5 },
-  { feature: ARCHITECTURE_MAP_FEATURES.mechanismSingularity, colour: OKABE_ITO.yellow, dash: [1, 0], width: 3 },
-  { feature: ARCHITECTURE_MAP_FEATURES.usable, colour: '#ffffff', dash: [1, 0], width: 2.5 },
-  { feature: ARCHITECTURE_MAP_FEATURES.task, colour: OKABE_ITO.blue, dash: [1, 0], width: 2.5 },
-  // Rails are drawn first and wide, so that a curve along a rail (the 2-PRR's det A = 0) shows on top of it.
-  { feature: ARCHITECTURE_MAP_FEATURES.rail, colour: OKABE_ITO.reddishPurple, dash: [1, 0], width: 6 },
-  { feature: ARCHITECTURE_MAP_FEATURES.mechanism, colour: '#1a1a1a', dash: [1, 0], width: 4.5 },
-  { feature: ARCHITECTURE_MAP_FEATURES.platform, colour: OKABE_ITO.vermillion, dash: [1, 0], width: 3.5 },
-];
-
+/** Legend entries of the curve layer (the one palette: src/report/mapStyle.ts). */
+export const ARCHITECTURE_MAP_FEATURES = MAP_FEATURES;
+type Feature = MapFeature;
+const FEATURE_STYLE = MAP_CURVE_STYLES;
 /** Stroke colour of each line feature (what the SVG paths carry). */
-export const ARCHITECTURE_MAP_FEATURE_COLOURS: Readonly<Record<string, string>> = Object.fromEntries(FEATURE_STYLE.map((f) => [f.feature, f.colour]));
-
-const JOINT_STYLE: readonly { joint: string; shape: string; fill: string }[] = [
-  { joint: 'actuated pivot Aᵢ', shape: 'square', fill: '#1a1a1a' },
-  { joint: 'slider Sᵢ (actuated)', shape: 'square', fill: '#1a1a1a' },
-  { joint: 'elbow Cᵢ', shape: 'circle', fill: '#ffffff' },
-  { joint: 'platform pin Bᵢ', shape: 'circle', fill: OKABE_ITO.vermillion },
-  { joint: 'end point P (home)', shape: 'diamond', fill: OKABE_ITO.yellow },
-  { joint: 'home point (not reachable)', shape: 'cross', fill: OKABE_ITO.vermillion },
-];
+export const ARCHITECTURE_MAP_FEATURE_COLOURS = MAP_FEATURE_COLOURS;
+const JOINT_STYLE = MAP_JOINT_STYLES;
 
 interface LineRow { x: number; y: number; feature: Feature; part: string; order: number; widthPx: number }
 interface ColourRow { x0: number; x1: number; y0: number; y1: number; inverseCondition: number; opacity: number }
+interface ColourPolygonRow { x: number; y: number; part: string; order: number; inverseCondition: number; opacity: number }
 interface JointRow { x: number; y: number; joint: string }
 
 const MM = 1000;
 const DEFAULT_CELLS = 160;
-/** Opacity of colour-map cells outside the actuated joint ranges. */
-const FADED_OPACITY = 0.3;
-
-function isLegged(model: ArchitectureModelBase): model is LeggedModel {
-  const m = model as Partial<LeggedModel>;
-  return Array.isArray(m.baseX) && Array.isArray(m.railX) && Array.isArray(m.platformX) && Array.isArray(m.crank);
-}
-
-/**
- * Reach margin of each leg of a leg-engine model at (x, y, φ), m, into `out` (the engine's formulas,
- * src/architectures/legged.ts): revolute min(ρ − |p − d|, p + d − ρ) with ρ = |B_i − A_i|;
- * prismatic d − |cross(e_r, B_i − O_i)|.
- */
-export function legReachMargins(model: LeggedModel, x: number, y: number, phi: number, out: Float64Array): void {
-  const angle = model.dof === 3 ? phi : 0;
-  const c = Math.cos(angle);
-  const s = Math.sin(angle);
-  for (let i = 0; i < model.dof; i++) {
-    const bx = x + c * model.platformX[i]! - s * model.platformY[i]!;
-    const by = y + s * model.platformX[i]! + c * model.platformY[i]!;
-    const wx = bx - model.baseX[i]!;
-    const wy = by - model.baseY[i]!;
-    const d = model.rod[i]!;
-    if (model.actuators[i] === 'revolute') {
-      const p = model.crank[i]!;
-      const rho = Math.sqrt(wx * wx + wy * wy);
-      out[i] = Math.min(rho - Math.abs(p - d), p + d - rho);
-    } else {
-      out[i] = d - Math.abs(model.railX[i]! * wy - model.railY[i]! * wx);
-    }
-  }
-}
 
 /** Usable margin of a solved pose (≥ 0 usable): the five-bar evaluator's rule on the interface's fields. */
 export function architectureUsableMargin(pose: ArchitecturePose, status: PoseStatus, assembly: 1 | -1, usable: MapUsableThresholds): number {
@@ -221,12 +167,16 @@ export function architectureUsableMargin(pose: ArchitecturePose, status: PoseSta
   return m;
 }
 
-/** Longest leg (crank + rod) plus the platform circumradius, m; for windows of unbounded reach. */
-function legSpan(model: ArchitectureModelBase): number {
-  if (!isLegged(model)) return 1;
+/** Longest chain of bars from the ground plus the largest site distance on a body, m; for windows of unbounded reach. */
+function legSpan(tree: BodyTree): number {
+  const depth = new Map<string, number>();
   let span = 0;
-  for (let i = 0; i < model.dof; i++) span = Math.max(span, model.crank[i]! + model.rod[i]! + Math.hypot(model.platformX[i]!, model.platformY[i]!));
-  return span;
+  for (const b of tree.bodies) {
+    const reach = (b.parent === null ? 0 : (depth.get(b.parent) ?? 0)) + b.length + Math.max(0, ...b.sites.map((t) => Math.hypot(t.at[0], t.at[1])));
+    depth.set(b.name, reach);
+    span = Math.max(span, reach);
+  }
+  return span > 0 ? span : 1;
 }
 
 /** Window of the sampled grid, and whether it cuts an unbounded reachable set (rails without strokes). */
@@ -240,7 +190,7 @@ function sampleWindow(
   const box = architecture.reachableBox(model, phi0);
   if (!box) return null;
   if (Number.isFinite(box.xmin) && Number.isFinite(box.xmax) && Number.isFinite(box.ymin) && Number.isFinite(box.ymax)) return { box, cut: false };
-  const half = 1.5 * legSpan(model);
+  const half = 1.5 * legSpan(architecture.bodyTree(model));
   const cx = options.taskRegion?.centreX ?? options.home?.x ?? 0;
   const cy = options.taskRegion?.centreY ?? options.home?.y ?? 0;
   const xmin = Number.isFinite(box.xmin) ? box.xmin : Math.min(cx - half, Number.isFinite(box.xmax) ? box.xmax - half : Infinity);
@@ -293,8 +243,6 @@ export function sampleArchitectureMapFields(
   const mechanismSine = new Float64Array(nodes);
   const inverseCondition = new Float64Array(nodes);
   const pose = architecture.createPose();
-  const margins = new Float64Array(n);
-  const legged = isLegged(model) ? model : null;
   for (let j = 0; j < ny; j++) {
     const y = y0 + j * h;
     for (let i = 0; i < nx; i++) {
@@ -306,11 +254,10 @@ export function sampleArchitectureMapFields(
       status[k] = st;
       reachMargin[k] = pose.reachMargin;
       values[k] = architectureUsableMargin(pose, st, model.assembly, options.usable);
-      if (legged) legReachMargins(legged, x, y, phi0, margins);
-      else margins.fill(pose.reachMargin);
       for (let leg = 0; leg < n; leg++) {
-        legReachMargin[leg * nodes + k] = margins[leg]!;
-        legSine[leg * nodes + k] = margins[leg]! >= 0 ? pose.legSine[leg]! : Number.NaN;
+        const margin = pose.legReach[leg]!;
+        legReachMargin[leg * nodes + k] = margin;
+        legSine[leg * nodes + k] = margin >= 0 ? pose.legSine[leg]! : Number.NaN;
       }
       if (st !== PoseStatus.Unreachable) {
         mechanismSine[k] = pose.mechanismSine;
@@ -337,13 +284,64 @@ export function sampleArchitectureMapFields(
 }
 
 /**
- * Leg singularity curves (see the file comment): per leg, sign changes of s_i inside the leg's reach
- * where the mechanism assembles, and the edge of the leg's reach (s_i → 0) where the other legs reach.
+ * A vertex of a reach-edge contour of leg `leg` moved onto the exact edge (Newton on the leg's reach
+ * margin, gradient by central differences), kept only when the leg is singular there (|s_i| ≤ 1e-2
+ * just inside the edge): true for crank + rod and slider + rod legs (derived, see the file comment),
+ * and a leg kind whose reach ends elsewhere (e.g. a strut at its stroke end) draws nothing there.
  */
-export function architectureLegSingularityCurves(fields: ArchitectureMapFields, dof: number): Polyline[] {
+function onSingularLegEdge(
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  pose: ArchitecturePose,
+  leg: number,
+  phi: number,
+  x: number,
+  y: number,
+  h: number,
+): [number, number] | null {
+  const margin = (ax: number, ay: number): number => {
+    architecture.solvePose(model, pose, ax, ay, phi);
+    return pose.legReach[leg]!;
+  };
+  const d = 1e-6 * h;
+  let px = x;
+  let py = y;
+  let gx = 0;
+  let gy = 0;
+  for (let iteration = 0; iteration < 6; iteration++) {
+    const f = margin(px, py);
+    gx = (margin(px + d, py) - margin(px - d, py)) / (2 * d);
+    gy = (margin(px, py + d) - margin(px, py - d)) / (2 * d);
+    const g2 = gx * gx + gy * gy;
+    if (!(g2 > 0) || !Number.isFinite(f)) return null;
+    px -= (f * gx) / g2;
+    py -= (f * gy) / g2;
+    if (Math.abs(f) < 1e-13 * h) break;
+  }
+  if (Math.hypot(px - x, py - y) > 2 * h) return null;
+  const g = Math.hypot(gx, gy);
+  const inward = 1e-7 * h;
+  const inside = margin(px + (inward * gx) / g, py + (inward * gy) / g);
+  if (!(inside >= 0) || !(Math.abs(pose.legSine[leg]!) <= 1e-2)) return null;
+  return [px, py];
+}
+
+/**
+ * Leg singularity curves (see the file comment): per leg, sign changes of s_i inside the leg's reach
+ * where the mechanism assembles, and the edge of the leg's reach where s_i → 0 and the other legs
+ * reach. With the architecture and model given, the edge curves are moved onto the exact edge and
+ * kept only where the leg is singular there.
+ */
+export function architectureLegSingularityCurves(
+  fields: ArchitectureMapFields,
+  dof: number,
+  architecture?: PlanarArchitecture<ArchitectureModelBase>,
+  model?: ArchitectureModelBase,
+): Polyline[] {
   const nodes = fields.nx * fields.ny;
   const out: Polyline[] = [];
   const edge = new Float64Array(nodes);
+  const pose = architecture ? architecture.createPose() : null;
   for (let leg = 0; leg < dof; leg++) {
     const sine = fields.legSine.subarray(leg * nodes, (leg + 1) * nodes);
     const reach = fields.legReachMargin.subarray(leg * nodes, (leg + 1) * nodes);
@@ -356,7 +354,25 @@ export function architectureLegSingularityCurves(fields: ArchitectureMapFields, 
       for (let other = 0; other < dof; other++) if (other !== leg && fields.legReachMargin[other * nodes + k]! < 0) return false;
       return true;
     };
-    out.push(...zeroContours(fields, edge, othersReach));
+    const curves = zeroContours(fields, edge, othersReach);
+    if (!architecture || !model || !pose) {
+      out.push(...curves);
+      continue;
+    }
+    for (const curve of curves) {
+      let run: Polyline = { x: [], y: [] };
+      for (let k = 0; k < curve.x.length; k++) {
+        const p = onSingularLegEdge(architecture, model, pose, leg, fields.phi0, curve.x[k]!, curve.y[k]!, fields.h);
+        if (p) {
+          run.x.push(p[0]);
+          run.y.push(p[1]);
+        } else if (run.x.length > 0) {
+          if (run.x.length > 1) out.push(run);
+          run = { x: [], y: [] };
+        }
+      }
+      if (run.x.length > 1) out.push(run);
+    }
   }
   return out;
 }
@@ -438,15 +454,94 @@ export function architectureMapHome(
   const status = architecture.solvePose(model, pose, point[0], point[1], phi);
   let legs: ArchitectureMapHome['legs'] = null;
   if (status !== PoseStatus.Unreachable) {
+    // Leg i starts at the i-th ground body of the body tree: its pivot (a ground hinge) or, on a rail, the slider itself.
+    const roots = architecture.bodyTree(model).bodies.filter((b) => b.parent === null);
     legs = Array.from({ length: model.dof }, (_, i) => {
       const proximal: [number, number] = [pose.proximalJoint[2 * i]!, pose.proximalJoint[2 * i + 1]!];
-      let base: [number, number];
-      if (isLegged(model)) base = model.actuators[i] === 'revolute' ? [model.baseX[i]!, model.baseY[i]!] : proximal;
-      else base = [proximal[0] - pose.actuatorDirection[2 * i]!, proximal[1] - pose.actuatorDirection[2 * i + 1]!];
-      return { base, proximal, distal: [pose.distalJoint[2 * i]!, pose.distalJoint[2 * i + 1]!] as [number, number] };
+      const root = roots[i];
+      const pivot = root && root.joint?.kind === 'revolute';
+      const base: [number, number] = pivot ? [root.origin[0], root.origin[1]] : proximal;
+      const baseKind: 'slider' | 'actuated pivot' | 'passive pivot' = !pivot ? 'slider' : root.joint!.actuator !== null ? 'actuated pivot' : 'passive pivot';
+      return { base, proximal, distal: [pose.distalJoint[2 * i]!, pose.distalJoint[2 * i + 1]!] as [number, number], baseKind };
     });
   }
   return { x: point[0], y: point[1], phi, source, status, legs };
+}
+
+/** Corners of a cell: value of a field at (0,0), (1,0), (1,1), (0,1) in cell coordinates. */
+type CellValues = readonly [number, number, number, number];
+
+/** Bilinear value of a cell field at (u, v) ∈ [0, 1]². */
+function bilinear(c: CellValues, u: number, v: number): number {
+  return (1 - u) * (1 - v) * c[0] + u * (1 - v) * c[1] + u * v * c[2] + (1 - u) * v * c[3];
+}
+
+/** The part of a polygon (cell coordinates) where the bilinear cell field is ≥ 0 (Sutherland–Hodgman, crossings interpolated along each edge). */
+function clipCellPolygon(polygon: readonly (readonly [number, number])[], c: CellValues): [number, number][] {
+  const out: [number, number][] = [];
+  for (let k = 0; k < polygon.length; k++) {
+    const a = polygon[k]!;
+    const b = polygon[(k + 1) % polygon.length]!;
+    const va = bilinear(c, a[0], a[1]);
+    const vb = bilinear(c, b[0], b[1]);
+    if (va >= 0) out.push([a[0], a[1]]);
+    if ((va >= 0) !== (vb >= 0)) {
+      const t = va / (va - vb);
+      out.push([a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]);
+    }
+  }
+  return out;
+}
+
+const UNIT_CELL: readonly (readonly [number, number])[] = [[0, 0], [1, 0], [1, 1], [0, 1]];
+
+/**
+ * The 1/κ colour map, cell by cell (cells between grid nodes, thinned to at most `maxCells` across):
+ * cells inside the reach and wholly usable or wholly not are rectangles; cells the reach edge or the
+ * usable region's edge crosses are cut along those edges (the margins interpolated), so both edges
+ * are smooth. Reachable but unusable parts are dimmed (UNUSABLE_OPACITY).
+ */
+function colourMapRows(fields: ArchitectureMapFields, maxCells: number): { colour: ColourRow[]; polygons: ColourPolygonRow[]; dimmed: boolean } {
+  const { nx, ny, x0, y0, h } = fields;
+  const stride = Math.max(1, Math.ceil(Math.max(nx, ny) / maxCells));
+  const step = stride * h * MM;
+  // Opaque rectangles overlap by 12 % so that anti-aliased edges leave no seams; dimmed ones abut (an overlap would show as stripes).
+  const overlap = 0.06 * step;
+  const colour: ColourRow[] = [];
+  const polygons: ColourPolygonRow[] = [];
+  let dimmed = false;
+  let part = 0;
+  for (let j = 0; j + stride < ny; j += stride) {
+    for (let i = 0; i + stride < nx; i += stride) {
+      const ks = [j * nx + i, j * nx + i + stride, (j + stride) * nx + i + stride, (j + stride) * nx + i];
+      const reach = ks.map((k) => fields.reachMargin[k]!) as unknown as CellValues;
+      if (reach.every((r) => r < 0)) continue;
+      const usable = ks.map((k) => fields.regionMargin[k]!) as unknown as CellValues;
+      let sum = 0;
+      let count = 0;
+      for (const k of ks) if (fields.status[k] !== PoseStatus.Unreachable) { sum += fields.inverseCondition[k]!; count++; }
+      const value = count > 0 ? Math.round((sum / count) * 1e4) / 1e4 : 0;
+      const x = (x0 + i * h) * MM;
+      const y = (y0 + j * h) * MM;
+      const allUsable = usable.every((u) => u >= 0);
+      const noneUsable = usable.every((u) => u < 0);
+      if (reach.every((r) => r >= 0) && (allUsable || noneUsable)) {
+        if (noneUsable) dimmed = true;
+        const e = noneUsable ? 0 : overlap;
+        colour.push({ x0: x - e, x1: x + step + e, y0: y - e, y1: y + step + e, inverseCondition: value, opacity: noneUsable ? UNUSABLE_OPACITY : 1 });
+        continue;
+      }
+      const inReach = clipCellPolygon(UNIT_CELL, reach);
+      const negated = usable.map((u) => -u - 1e-300) as unknown as CellValues;
+      for (const [piece, opacity] of [[clipCellPolygon(inReach, usable), 1], [clipCellPolygon(inReach, negated), UNUSABLE_OPACITY]] as const) {
+        if (piece.length < 3) continue;
+        if (opacity < 1) dimmed = true;
+        const id = `c${part++}`;
+        piece.forEach(([u, v], order) => polygons.push({ x: x + u * step, y: y + v * step, part: id, order, inverseCondition: value, opacity }));
+      }
+    }
+  }
+  return { colour, polygons, dimmed };
 }
 
 function formatMm(value: number): string {
@@ -462,7 +557,7 @@ export function architectureMapSpec(
   const n = model.dof;
   const fields = sampleArchitectureMapFields(architecture, model, options);
   const home = architectureMapHome(architecture, model, fields, options);
-  const legged = isLegged(model) ? model : null;
+  const tree = architecture.bodyTree(model);
 
   const lines: LineRow[] = [];
   let partCount = 0;
@@ -476,29 +571,25 @@ export function architectureMapSpec(
   const gy0 = fields ? fields.y0 : -0.1;
   const gx1 = fields ? fields.x0 + (fields.nx - 1) * fields.h : 0.1;
   const gy1 = fields ? fields.y0 + (fields.ny - 1) * fields.h : 0.1;
-  if (legged) {
-    // Rails: the stroke when limited, else the rail line across the sampled window.
-    const across = Math.hypot(gx1 - gx0, gy1 - gy0);
-    for (let i = 0; i < n; i++) {
-      if (legged.actuators[i] !== 'prismatic') continue;
-      const range = legged.jointLimits[i] ?? null;
-      const ox = legged.baseX[i]!;
-      const oy = legged.baseY[i]!;
-      const ex = legged.railX[i]!;
-      const ey = legged.railY[i]!;
-      let qa: number;
-      let qb: number;
-      if (range) { qa = range.min; qb = range.max; } else {
-        // Parameter of the window centre's projection ± the window diagonal.
-        const t = ((gx0 + gx1) / 2 - ox) * ex + ((gy0 + gy1) / 2 - oy) * ey;
-        qa = t - across; qb = t + across;
-      }
-      addLine(ARCHITECTURE_MAP_FEATURES.rail, { x: [ox + qa * ex, ox + qb * ex], y: [oy + qa * ey, oy + qb * ey] });
+  // Rails of the ground slides (body tree): the stroke when limited, else the rail line across the sampled window.
+  const across = Math.hypot(gx1 - gx0, gy1 - gy0);
+  for (const body of tree.bodies) {
+    const joint = body.joint;
+    if (body.parent !== null || joint?.kind !== 'prismatic') continue;
+    const [ox, oy] = body.origin;
+    const [ex, ey] = joint.axis;
+    let qa: number;
+    let qb: number;
+    if (joint.range) { qa = joint.range.min; qb = joint.range.max; } else {
+      // Parameter of the window centre's projection ± the window diagonal.
+      const t = ((gx0 + gx1) / 2 - ox) * ex + ((gy0 + gy1) / 2 - oy) * ey;
+      qa = t - across; qb = t + across;
     }
+    addLine(ARCHITECTURE_MAP_FEATURES.rail, { x: [ox + qa * ex, ox + qb * ex], y: [oy + qa * ey, oy + qb * ey] });
   }
   if (fields) {
     architectureReachBoundary(fields).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.reach, l));
-    architectureLegSingularityCurves(fields, n).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.legSingularity, l));
+    architectureLegSingularityCurves(fields, n, architecture, model).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.legSingularity, l));
     architectureMechanismSingularityCurves(fields).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.mechanismSingularity, l));
     architectureUsableBoundary(fields).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.usable, l));
   }
@@ -508,16 +599,16 @@ export function architectureMapSpec(
   const joints: JointRow[] = [];
   if (home) {
     if (home.legs) {
-      for (const [i, leg] of home.legs.entries()) {
-        const prismatic = model.actuators[i] === 'prismatic';
-        const path = prismatic ? { x: [leg.proximal[0], leg.distal[0]], y: [leg.proximal[1], leg.distal[1]] }
-          : { x: [leg.base[0], leg.proximal[0], leg.distal[0]], y: [leg.base[1], leg.proximal[1], leg.distal[1]] };
+      for (const leg of home.legs) {
+        // The leg from its ground joint (body tree): a slider on its rail, or a pivot (actuated or passive) with an elbow when the proximal joint lies off the pivot.
+        const onRail = leg.baseKind === 'slider';
+        const elbow = !onRail && Math.hypot(leg.proximal[0] - leg.base[0], leg.proximal[1] - leg.base[1]) > 1e-9;
+        const path = elbow ? { x: [leg.base[0], leg.proximal[0], leg.distal[0]], y: [leg.base[1], leg.proximal[1], leg.distal[1]] }
+          : { x: [leg.base[0], leg.distal[0]], y: [leg.base[1], leg.distal[1]] };
         addLine(ARCHITECTURE_MAP_FEATURES.mechanism, path);
-        if (prismatic) joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'slider Sᵢ (actuated)' });
-        else {
-          joints.push({ x: leg.base[0] * MM, y: leg.base[1] * MM, joint: 'actuated pivot Aᵢ' });
-          joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'elbow Cᵢ' });
-        }
+        const baseJoint = onRail ? 'slider Sᵢ (actuated)' : leg.baseKind === 'actuated pivot' ? 'actuated pivot Aᵢ' : 'base pivot (passive)';
+        joints.push({ x: leg.base[0] * MM, y: leg.base[1] * MM, joint: baseJoint });
+        if (elbow) joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'elbow Cᵢ' });
       }
       if (n === 3) {
         const pins = home.legs.map((l) => l.distal);
@@ -530,28 +621,7 @@ export function architectureMapSpec(
     }
   }
 
-  const colour: ColourRow[] = [];
-  let outsideJointRanges = false;
-  if (fields) {
-    const stride = Math.max(1, Math.ceil(Math.max(fields.nx, fields.ny) / (options.maxColourCells ?? 120)));
-    // Half a cell plus 12 % overlap, so that anti-aliased edges leave no seams between cells; faded
-    // (translucent) cells abut exactly, since an overlap would show as darker stripes.
-    const half = 0.56 * stride * fields.h * MM;
-    const halfFaded = 0.5 * stride * fields.h * MM;
-    for (let j = 0; j < fields.ny; j += stride) {
-      for (let i = 0; i < fields.nx; i += stride) {
-        const k = j * fields.nx + i;
-        if (fields.status[k] === PoseStatus.Unreachable) continue;
-        const x = (fields.x0 + i * fields.h) * MM;
-        const y = (fields.y0 + j * fields.h) * MM;
-        // Nodes the legs reach but whose actuated joints leave their ranges (strokes): faded.
-        const outside = fields.status[k] === PoseStatus.OutsideJointLimits;
-        if (outside) outsideJointRanges = true;
-        const e = outside ? halfFaded : half;
-        colour.push({ x0: x - e, x1: x + e, y0: y - e, y1: y + e, inverseCondition: Math.round(fields.inverseCondition[k]! * 1e4) / 1e4, opacity: outside ? FADED_OPACITY : 1 });
-      }
-    }
-  }
+  const { colour, polygons, dimmed } = fields ? colourMapRows(fields, options.maxColourCells ?? 120) : { colour: [], polygons: [], dimmed: false };
 
   // Axis domains: the reachable region, the task, the mechanism (not the unclipped rails), padded; equal mm per px.
   let xmin = Infinity, xmax = -Infinity, ymin = Infinity, ymax = -Infinity;
@@ -577,7 +647,7 @@ export function architectureMapSpec(
   xDomainMm[0] = xMid - (widthPx * mmPerPx) / 2; xDomainMm[1] = xMid + (widthPx * mmPerPx) / 2;
   yDomainMm[0] = yMid - (heightPx * mmPerPx) / 2; yDomainMm[1] = yMid + (heightPx * mmPerPx) / 2;
 
-  const modeText = legged ? `working mode ${legged.sigma.map((v) => (v > 0 ? '+' : '-')).join('')}, ` : '';
+  const modeText = options.workingMode ? `working mode ${options.workingMode}, ` : '';
   const modes = `${modeText}assembly sign ${model.assembly > 0 ? '+' : '−'}` + (n === 3 ? `, platform at φ₀ = ${(((options.phi0 ?? 0) * 180) / Math.PI).toFixed(1)}°` : '');
   const areaCm2 = fields ? fields.regionArea * 1e4 : 0;
   const summary = fields && fields.region >= 0
@@ -588,9 +658,18 @@ export function architectureMapSpec(
       (home.status === PoseStatus.Unreachable ? ' — NOT reachable' : home.status === PoseStatus.Assembled ? '' : ' — not a usable pose')
     : 'no home pose (no task region and no usable workspace)';
   const notes: string[] = [];
-  if (outsideJointRanges) notes.push('faded colours: the legs reach, but an actuated joint leaves its range');
+  if (dimmed) notes.push('dimmed colours: the legs reach, but the pose is not usable (conditioning, transmission angle, joint range, or outside the chosen region)');
   if (fields?.windowCut) notes.push('the reach continues beyond the drawn window (rails without stroke limits)');
-  const subtitle = [...(options.designLabel ? [`${options.designLabel}; ${modes}`] : [modes]), summary, homeText, ...(notes.length > 0 ? [notes.join('; ')] : [])];
+  // One kind of information per line: feasibility, design (label–value pairs), modes, metrics, workspace, home pose, notes.
+  const subtitle = [
+    ...(options.feasibility ? [options.feasibility] : []),
+    ...(options.designLabel ? [options.designLabel] : []),
+    modes,
+    ...(options.metricsLabel ? [options.metricsLabel] : []),
+    summary,
+    homeText,
+    ...notes,
+  ];
 
   const jointStyles = JOINT_STYLE.filter((j) => joints.some((row) => row.joint === j.joint));
   const featureStyles = FEATURE_STYLE.filter((f) => lines.some((row) => row.feature === f.feature));
@@ -616,9 +695,22 @@ export function architectureMapSpec(
           color: {
             field: 'inverseCondition',
             type: 'quantitative',
-            scale: { scheme: 'viridis', domain: [0, 1] },
+            scale: { scheme: MAP_COLOUR_SCHEME, domain: [0, 1] },
             legend: { title: [conditioning, `(usable needs ≥ ${options.usable.minInverseCondition})`], titleLimit: 320, orient: 'right', gradientLength: Math.min(200, heightPx - 40), direction: 'vertical' },
           },
+        },
+      },
+      {
+        name: 'colour_edges',
+        data: { values: polygons },
+        mark: { type: 'line', filled: true, interpolate: 'linear-closed', strokeWidth: 0, clip: true },
+        encoding: {
+          x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
+          y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
+          detail: { field: 'part', type: 'nominal' },
+          order: { field: 'order', type: 'quantitative' },
+          opacity: { field: 'opacity', type: 'quantitative', scale: null, legend: null },
+          fill: { field: 'inverseCondition', type: 'quantitative', scale: { scheme: MAP_COLOUR_SCHEME, domain: [0, 1] }, legend: null },
         },
       },
       ...curveAndJointLayers({ xDomainMm, yDomainMm, widthPx, heightPx }, lines, joints, featureStyles, jointStyles),

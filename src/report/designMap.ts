@@ -1,20 +1,47 @@
 /**
- * Workspace map of one design of any study through the architecture interface: the 2-PRR, 3-RRR,
- * 3-PRR and every member of a comparison study (a five-bar member through its adapter). Plain
- * five-bar studies keep the five-bar map (map.ts). The map takes the study's task region, usable
- * thresholds, orientation φ_0 and grid window (`evaluation.window`, clipped to the reach; without it
- * the map's own window, which follows the strokes).
+ * Workspace map of one design of any study (every architecture, comparison members included) through
+ * the architecture interface: the one map specification (architectureMap.ts) with the study's task
+ * region, usable thresholds, orientation φ_0 and grid window (`evaluation.window`, clipped to the
+ * reach; without it the map's own window, which follows the strokes), and the evaluator's verdict:
+ * a feasibility line (feasible, or each failing constraint with its value and bound), the design and
+ * the metrics as label–value pairs.
  */
 import type { ArchitectureModelBase, PlanarArchitecture, PlaneBox } from '../architectures/types.js';
-import { Evaluator } from '../mechanics/evaluate.js';
+import { constraintDefinitions, Evaluator, type DesignEvaluation } from '../mechanics/evaluate.js';
+import { METRICS, metricIndex } from '../mechanics/metrics.js';
 import type { Study } from '../study/types.js';
 import { formatQuantity } from '../study/units.js';
 import { architectureMapSpec, type ArchitectureMapSpec } from './architectureMap.js';
-import { MIN_MAP_CELLS } from './map.js';
 
-/** True when a study's designs are drawn by the five-bar map (a single-architecture five-bar study). */
-export function usesFiveBarMap(study: Study): boolean {
-  return !study.members && study.architecture === 'five-bar';
+/** Default smallest grid of a map (cells across the window). */
+export const MIN_MAP_CELLS = 120;
+
+/** A metric value with its unit (a metric the study cannot compute: "n/a"). */
+function metricText(name: string, value: number): string {
+  if (Number.isNaN(value)) return 'n/a';
+  const info = METRICS[metricIndex(name)];
+  return formatQuantity(value, info ? info.kind : 'dimensionless', 3).replace('m^2', 'm²');
+}
+
+/** "feasible (n constraints hold)", or "NOT feasible — fails: <constraint> <value> (needs ≥ / ≤ <bound>); …". */
+export function feasibilityLine(study: Study, result: DesignEvaluation): string {
+  const defs = constraintDefinitions(study);
+  if (result.feasible) return defs.length > 0 ? `feasible: all ${defs.length} constraints hold` : 'feasible (the study sets no constraints)';
+  const failing = defs.flatMap((def, k) => {
+    if (!(result.margins[k]! < 0)) return [];
+    const value = result.metrics[def.metricIndex]!;
+    const min = result.constraintMin[k]!;
+    const max = result.constraintMax[k]!;
+    const bound = Number.isFinite(min) && value < min ? `needs ≥ ${metricText(def.metric, min)}` : Number.isFinite(max) ? `needs ≤ ${metricText(def.metric, max)}` : `margin ${result.margins[k]!.toFixed(3)}`;
+    return [`${def.name} ${metricText(def.metric, value)} (${bound})`];
+  });
+  return `NOT feasible — fails: ${failing.join('; ')}`;
+}
+
+/** Label–value pairs of the metrics a designer reads first. */
+function metricsLine(study: Study, result: DesignEvaluation): string {
+  const names = ['workspace_area', 'inscribed_radius', ...(study.task.region ? ['task_coverage'] : []), 'gci', 'min_inv_condition'];
+  return names.map((name) => `${name}: ${metricText(name, result.metrics[metricIndex(name)]!)}`).join('   ');
 }
 
 /** Platform orientation the study's workspace is taken at, rad (0 for 2-DOF). */
@@ -45,28 +72,37 @@ export interface DesignMapOptions {
 }
 
 /** The workspace-map spec of one design vector of a study (any architecture, comparison included). */
-export function designMapSpec(study: Study, design: ArrayLike<number>, options: DesignMapOptions = {}): ArchitectureMapSpec & { readonly architecture: string } {
-  const built = new Evaluator(study).architectureDesign(design);
+export function designMapSpec(
+  study: Study,
+  design: ArrayLike<number>,
+  options: DesignMapOptions = {},
+): ArchitectureMapSpec & { readonly architecture: string; readonly metrics: Float64Array; readonly feasible: boolean } {
+  const evaluator = new Evaluator(study);
+  const built = evaluator.architectureDesign(design);
+  const result = evaluator.evaluate(design);
   const member = built.study;
   const { architecture, model } = built;
   const phi0 = studyPhi0(member, model.dof);
   const box = member.evaluation.window ? studyGridBox(architecture, model, member, phi0) : undefined;
-  // The design's variable parameters (fixed and tied ones follow from the study), as the five-bar map.
+  // The design's variable parameters (fixed and tied ones follow from the study) as label–value pairs.
   const label = architecture.parameters
     .filter((p) => member.geometry[p.name]?.kind === 'variable')
-    .map((p) => `${p.name} ${formatQuantity(built.resolved.geometry[p.name]!, p.kind === 'angle' ? 'angle' : 'length', 4)}`)
-    .join(', ') || 'fixed geometry';
-  const result = architectureMapSpec(architecture, model, {
+    .map((p) => `${p.name}: ${formatQuantity(built.resolved.geometry[p.name]!, p.kind === 'angle' ? 'angle' : 'length', 4)}`)
+    .join('   ') || 'fixed geometry';
+  const map = architectureMapSpec(architecture, model, {
     usable: { minInverseCondition: member.evaluation.minInverseCondition, minTransmissionAngle: member.evaluation.minTransmissionAngle },
     taskRegion: member.task.region ?? null,
     phi0,
     cells: options.cells ?? Math.max(member.evaluation.gridCells, MIN_MAP_CELLS),
     title: options.title ?? `Workspace of ${study.name}${study.members ? ` (${architecture.name} member)` : ''}`,
-    designLabel: `${architecture.name}: ${label}`,
+    designLabel: `${architecture.name} — ${label}`,
+    feasibility: feasibilityLine(study, result),
+    metricsLabel: metricsLine(study, result),
+    workingMode: built.resolved.workingMode,
     ...(box ? { window: box } : {}),
     ...(options.maxWidthPx !== undefined ? { maxWidthPx: options.maxWidthPx } : {}),
     ...(options.maxHeightPx !== undefined ? { maxHeightPx: options.maxHeightPx } : {}),
     ...(options.maxColourCells !== undefined ? { maxColourCells: options.maxColourCells } : {}),
   });
-  return { ...result, architecture: architecture.name };
+  return { ...map, architecture: architecture.name, metrics: result.metrics, feasible: result.feasible };
 }

@@ -61,7 +61,7 @@ export function curveAndJointLayers(
         y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
         detail: { field: 'part', type: 'nominal' },
         order: { field: 'order', type: 'quantitative' },
-        color: { field: 'feature', type: 'nominal', scale: { domain: curveStyles.map((f) => f.feature), range: curveStyles.map((f) => f.colour) }, legend: { title: 'curves', orient: 'right', symbolType: 'stroke', symbolStrokeWidth: 3, symbolSize: 300, fillColor: '#cfcfcf', padding: 5, labelLimit: 320 } },
+        color: { field: 'feature', type: 'nominal', scale: { domain: curveStyles.map((f) => f.feature), range: curveStyles.map((f) => f.colour) }, legend: { title: 'curves', orient: 'right', symbolType: 'stroke', symbolStrokeWidth: 3, symbolSize: 300, fillColor: '#e6e6e6', strokeColor: '#c8c8c8', padding: 5, labelLimit: 320 } },
         strokeDash: { field: 'feature', type: 'nominal', scale: { domain: curveStyles.map((f) => f.feature), range: curveStyles.map((f) => [...f.dash]) }, legend: { title: 'curves' } },
       },
     },

@@ -17,8 +17,7 @@ import { Store, StoreError, type RunRow, type StoredEvaluation } from '../store/
 import { parseStudyText } from '../study/parse.js';
 import { ARCHITECTURE_PREFIX, type ObjectiveSpec, type Study } from '../study/types.js';
 import { displayUnit, formatQuantity } from '../study/units.js';
-import { designMapSpec, usesFiveBarMap } from './designMap.js';
-import { workspaceMapSpec } from './map.js';
+import { designMapSpec } from './designMap.js';
 import { OKABE_ITO, renderVegaLiteSvg } from './render.js';
 import { PARALLEL_SCRIPT } from './parallel.js';
 
@@ -671,20 +670,13 @@ export async function buildReportHtml(data: ReportData): Promise<string> {
   const leaders: string[] = [];
   for (const [index, d] of data.leading.entries()) {
     const mapOptions = { maxWidthPx: 420, maxHeightPx: 440, maxColourCells: 100, title: `Workspace of design ${d.id} (#${index + 1})` };
-    let mapFigure: string;
-    if (usesFiveBarMap(data.study)) {
-      const overrides = Object.entries(d.variables).map(([k, v]) => `${k}=${v}`);
-      const map = workspaceMapSpec(data.study, overrides, mapOptions);
-      mapFigure = await figure(`map-${index + 1}`, map.spec, 'Colour: 1/κ(J) where both legs reach (1 = isotropic, 0 = singular). White outline: the usable workspace the metrics measure. Axes in mm, equal scales; y points up.');
-    } else {
-      const design = designFromValues(designVariables(data.study), d.variables, true);
-      const map = designMapSpec(data.study, design, mapOptions);
-      mapFigure = await figure(
-        `map-${index + 1}`,
-        map.spec,
-        `${escapeHtml(map.architecture)} design. Colour: 1/κ where every leg reaches (1/κ(J_h) at the study's characteristic length for 3-DOF, at φ₀; 1 = isotropic, 0 = singular), faded outside the strokes. White outline: the usable workspace. Axes in mm, equal scales; y points up.`,
-      );
-    }
+    const design = designFromValues(designVariables(data.study), d.variables, true);
+    const map = designMapSpec(data.study, design, mapOptions);
+    const mapFigure = await figure(
+      `map-${index + 1}`,
+      map.spec,
+      `${escapeHtml(map.architecture)} design. Colour: 1/κ where every leg reaches (1/κ(J_h) at the study's characteristic length for 3-DOF, at φ₀; 1 = isotropic, 0 = singular); dimmed where the legs reach but the pose is not usable. White outline: the usable workspace. Axes in mm, equal scales; y points up.`,
+    );
     leaders.push(`<div class="leader">${metricCard(data, d, index + 1, reasons.get(d.id) ?? [])}${mapFigure}</div>`);
   }
   const parallel = parallelData(data);

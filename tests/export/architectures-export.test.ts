@@ -14,8 +14,7 @@ import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { ARCHITECTURES } from '../../src/architectures/index.js';
-import type { CandidateSheet } from '../../src/export/candidate.js';
-import { architectureHomePoint, type AnyCandidateSheet, type ArchitectureCandidateSheet } from '../../src/export/candidateArchitecture.js';
+import { architectureHomePoint, type CandidateSheet, type CandidateSheet as AnyCandidateSheet, type CandidateSheet as ArchitectureCandidateSheet } from '../../src/export/candidate.js';
 import { PoseStatus } from '../../src/architectures/types.js';
 import { candidateSchemaErrors } from '../../src/export/export.js';
 import { designFromValues } from '../../src/mechanics/designSpace.js';
@@ -55,7 +54,7 @@ interface Exported {
 
 const exported = new Map<string, Exported>();
 
-function isFiveBarSheet(sheet: AnyCandidateSheet): sheet is CandidateSheet {
+function isFiveBarSheet(sheet: AnyCandidateSheet): boolean {
   return sheet.architecture === 'five-bar';
 }
 
@@ -181,10 +180,10 @@ describe.each(CASES)('export of the $name front', (c) => {
       const sim = await SimulatedModel.load(xml!, `${c.name}-${sheet.id}.xml`);
       try {
         const qpos = isFiveBarSheet(sheet)
-          ? [sheet.homePose.theta_1, sheet.homePose.elbow_1, sheet.homePose.theta_2, sheet.homePose.elbow_2]
+          ? [sheet.homePose.theta_1!, sheet.homePose.elbow_1!, sheet.homePose.theta_2!, sheet.homePose.elbow_2!]
           : Object.values((sheet as ArchitectureCandidateSheet).homePose.joints);
         const efforts = isFiveBarSheet(sheet)
-          ? [sheet.homePose.gravityTorque_1, sheet.homePose.gravityTorque_2]
+          ? [sheet.homePose.gravityTorque_1!, sheet.homePose.gravityTorque_2!]
           : Object.values(sheet.homePose.holdingEfforts);
         expect(sim.sizes.nq).toBe(qpos.length);
         expect(sim.sizes.nu).toBe(efforts.length);

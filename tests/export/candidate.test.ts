@@ -11,11 +11,12 @@ import { Ajv } from 'ajv';
 import { FiveBarPose, PoseStatus, solvePose } from '../../src/mechanics/fivebar.js';
 import { usableMargin } from '../../src/mechanics/evaluate.js';
 import { loadStudyFile, parseStudyText } from '../../src/study/parse.js';
-import { actuatedAngle, candidateDesign, sheetToJson, wrapAngle } from '../../src/export/candidate.js';
+import { sheetToJson } from '../../src/export/candidate.js';
+import { angleInRange as actuatedAngle, wrapAngle } from '../../src/core/pose.js';
 import { candidatesCsv } from '../../src/export/csv.js';
 import candidateSchema from '../../src/export/candidate.schema.json' with { type: 'json' };
 import { checkExportedModel, describeMeasurement } from './mjcfChecks.js';
-import { sheetFromStudy } from './sheetsFromStudy.js';
+import { fiveBarModelOf, sheetFromStudy } from './sheetsFromStudy.js';
 
 const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const validate = new Ajv({ allErrors: true, strict: true }).compile(candidateSchema);
@@ -62,7 +63,7 @@ describe('study without a task region', () => {
     const sheet = sheetFromStudy(loaded, 9, values);
     expectValid(sheetToJson(sheet));
     expect(sheet.homePose.source).toBe('usable-workspace-centre');
-    const { model } = candidateDesign(loaded.study, values);
+    const model = fiveBarModelOf(loaded.study, values);
     const pose = new FiveBarPose();
     const status = solvePose(model, pose, sheet.homePose.endPoint.x, sheet.homePose.endPoint.y);
     expect(status).toBe(PoseStatus.Assembled);

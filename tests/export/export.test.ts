@@ -123,8 +123,8 @@ describe('export of the front as JSON sheets', () => {
         pivot.x + crank * Math.cos(theta) + rod * Math.cos(theta + elbow),
         pivot.y + crank * Math.sin(theta) + rod * Math.sin(theta + elbow),
       ];
-      const t1 = tip(sheet.pivot_1, h.theta_1, h.elbow_1, g.crank_1, g.rod_1);
-      const t2 = tip(sheet.pivot_2, h.theta_2, h.elbow_2, g.crank_2, g.rod_2);
+      const t1 = tip(sheet.pivot_1!, h.theta_1, h.elbow_1, g.crank_1, g.rod_1);
+      const t2 = tip(sheet.pivot_2!, h.theta_2, h.elbow_2, g.crank_2, g.rod_2);
       expect(Math.hypot(t1[0]! - t2[0]!, t1[1]! - t2[1]!)).toBeLessThan(1e-12);
       expect(Math.hypot(t1[0]! - h.endPoint.x, t1[1]! - h.endPoint.y)).toBeLessThan(1e-12);
       expect(h.loopClosureError).toBeLessThan(1e-12);

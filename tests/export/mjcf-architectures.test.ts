@@ -1,5 +1,5 @@
 /**
- * MJCF export of 2-PRR, 3-RRR and 3-PRR designs (src/export/mjcfArchitecture.ts) against the engine
+ * MJCF export of 2-PRR, 3-RRR, 3-PRR and 3-RPR designs (src/export/mjcf.ts, one writer walking the body tree) against the engine
  * in MuJoCo (npm mujoco-js@0.0.7, a general-purpose multibody engine), in a vertical plane so that
  * gravity loads the drives:
  * - every joint of the exported chain (actuated and passive) placed from the engine pose closes the
@@ -16,13 +16,9 @@ import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
-import {
-  architectureJointPositions,
-  architectureMjcf,
-  architectureMjcfClosures,
-  architectureMjcfJoints,
-} from '../../src/export/mjcfArchitecture.js';
-import { findPoses, PRR2_INPUT, PRR3_INPUT, RRR3_INPUT, type ArchitectureCase } from '../architectures/models.js';
+import { architectureMjcf, treeMjcfJoints } from '../../src/export/mjcf.js';
+import { findPoses, PRR2_INPUT, PRR3_INPUT, RPR3_INPUT, RRR3_INPUT, type ArchitectureCase } from '../architectures/models.js';
+import { rpr3 } from '../../src/architectures/rpr3.js';
 import { SimulatedModel } from './mujocoSim.js';
 
 /**
@@ -54,7 +50,11 @@ const RRR3_LIMITED: ModelInput = { ...RRR3_INPUT, gravity: VERTICAL, jointLimits
 // Assembly sign −1: the sign of det A over the search box in mode "+++" (found by findPoses).
 const PRR3_LIMITED: ModelInput = { ...PRR3_INPUT, assembly: -1, gravity: VERTICAL, jointLimits: [{ min: -0.5, max: 0.5 }, { min: -0.5, max: 0.5 }, null] };
 
+// 3-RPR (telescoping struts between two pivots): exported by the same writer from its body tree, no change in src/export.
+const RPR3_VERTICAL: ModelInput = { ...RPR3_INPUT, gravity: VERTICAL };
+
 const CASES: readonly ExportCase[] = [
+  { label: '3-RPR', architecture: rpr3, input: RPR3_VERTICAL, caseOf: { label: '3-RPR', architecture: rpr3, input: RPR3_VERTICAL, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.6 } } },
   { label: '2-PRR', architecture: prr2, input: PRR2_LIMITED, caseOf: { label: '2-PRR', architecture: prr2, input: PRR2_LIMITED, box: { x: 0, y: 0.05, half: 0.3, phiHalf: 0 } } },
   { label: '3-RRR', architecture: rrr3, input: RRR3_LIMITED, caseOf: { label: '3-RRR', architecture: rrr3, input: RRR3_LIMITED, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.5 } } },
   { label: '3-PRR', architecture: prr3, input: PRR3_LIMITED, caseOf: { label: '3-PRR', architecture: prr3, input: PRR3_LIMITED, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.5 } } },
@@ -90,8 +90,8 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
     const openXml = xml().replace(/<option ([^>]*)\/>/, '<option $1><flag equality="disable"/></option>');
     expect(openXml).toContain('equality="disable"');
     const open = await SimulatedModel.load(openXml, `${c.label}-open.xml`);
-    const closures = architectureMjcfClosures(model);
-    const joints = architectureMjcfJoints(model);
+    const closures = c.architecture.bodyTree(model).closures;
+    const joints = treeMjcfJoints(c.architecture.bodyTree(model));
     try {
       // 2-DOF: 2 legs × 2 joints, one pin; 3-DOF: 3 × 2 + platform hinge, two pins (derived from the chain layout).
       expect(sim.sizes).toEqual({ nq: 2 * n + (n === 3 ? 1 : 0), nv: 2 * n + (n === 3 ? 1 : 0), nu: n, nkey: 1, neq: n - 1 });
@@ -101,7 +101,7 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
       for (const [k, p] of poses.entries()) {
         expect(c.architecture.solvePose(model, pose, p.x, p.y, p.phi)).toBe(PoseStatus.Assembled);
         c.architecture.poseDynamics(model, pose);
-        const qpos = architectureJointPositions(model, pose);
+        const qpos = c.architecture.bodyTreeJoints(model, pose);
         sim.placeAtRest(qpos, pose.tauG);
         // Every rod tip on the engine's distal joint (x, y) ↦ (x, 0, y): axes and angle senses agree (derived).
         for (let i = 0; i < n; i++) {
@@ -139,7 +139,7 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
       sim.resetToKeyframe('home');
       expect(c.architecture.solvePose(model, pose, home.x, home.y, home.phi)).toBe(PoseStatus.Assembled);
       c.architecture.poseDynamics(model, pose);
-      expect(Array.from(sim.jointPositions())).toEqual(Array.from(architectureJointPositions(model, pose)));
+      expect(Array.from(sim.jointPositions())).toEqual(Array.from(c.architecture.bodyTreeJoints(model, pose)));
       expect(Array.from(sim.controls())).toEqual(Array.from(pose.tauG));
       const start = sim.jointPositions();
       const steps = Math.round(1 / sim.timestep);
@@ -165,7 +165,7 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
       // Total mass = moving mass + payload (the crank body mass is recovered from I and F about the pivot).
       const total = Array.from(sim.bodyMasses()).reduce((a, b) => a + b, 0);
       expect(Math.abs(total - (model.movingMass + model.payloadMass))).toBeLessThan(1e-12);
-      const joints = architectureMjcfJoints(model);
+      const joints = treeMjcfJoints(c.architecture.bodyTree(model));
       const armature = sim.armature();
       joints.forEach((joint, q) => {
         const leg = Number(/_(\d)$/.exec(joint.name)?.[1] ?? '0') - 1;

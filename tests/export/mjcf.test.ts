@@ -6,10 +6,9 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { loadStudyFile } from '../../src/study/parse.js';
-import { toMjcf } from '../../src/export/mjcf.js';
 import { SimulatedModel } from './mujocoSim.js';
 import { checkExportedModel, describeMeasurement, type ModelMeasurement } from './mjcfChecks.js';
-import { sheetFromStudy } from './sheetsFromStudy.js';
+import { mjcfOfSheet, sheetFromStudy } from './sheetsFromStudy.js';
 
 const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const DEMO = loadStudyFile(join(REPO_ROOT, 'studies', 'parcel-sorter.yaml'));
@@ -32,7 +31,7 @@ describe('MJCF export of demo-study designs in MuJoCo', () => {
 
   it('carries the engine body model, drive inertia, joint limits and torque limits', async () => {
     const sheet = sheetFromStudy(DEMO, 1, DESIGNS[0]!.values);
-    const sim = await SimulatedModel.load(toMjcf(sheet), 'candidate-properties.xml');
+    const sim = await SimulatedModel.load(mjcfOfSheet(DEMO.study, sheet), 'candidate-properties.xml');
     try {
       // Armature on the crank hinges only: N² J_rotor + J_gear = 10² · 3.4e-5 + 2.0e-5 = 3.42e-3 kg·m²
       // (derived from the demo study's invented drive data).

@@ -6,8 +6,8 @@
  */
 import { expect } from 'vitest';
 import { FiveBarPose, PoseStatus, poseDynamics, solvePose } from '../../src/mechanics/fivebar.js';
-import { candidateDesign, chainJointAngles, type CandidateSheet } from '../../src/export/candidate.js';
-import { toMjcf } from '../../src/export/mjcf.js';
+import type { CandidateSheet } from '../../src/export/candidate.js';
+import { chainJointAngles, fiveBarModelOf, mjcfOfSheet } from './sheetsFromStudy.js';
 import type { Study } from '../../src/study/types.js';
 import { SimulatedModel } from './mujocoSim.js';
 
@@ -72,9 +72,8 @@ function maxAbs(values: ArrayLike<number>): number {
 /** Exports `sheet` to MJCF, loads it and runs every check; returns the measured figures. */
 export async function checkExportedModel(study: Study, sheet: CandidateSheet, options: { readonly gravityLoadsDrives?: boolean } = {}): Promise<ModelMeasurement> {
   const gravityLoadsDrives = options.gravityLoadsDrives ?? true;
-  const design = candidateDesign(study, sheet.designVariables);
-  const { model } = design;
-  const sim = await SimulatedModel.load(toMjcf(sheet), `candidate-${sheet.id}.xml`);
+  const model = fiveBarModelOf(study, sheet.designVariables);
+  const sim = await SimulatedModel.load(mjcfOfSheet(study, sheet), `candidate-${sheet.id}.xml`);
   try {
     expect(sim.sizes).toEqual({ nq: 4, nv: 4, nu: 2, nkey: 1, neq: 1 });
     // Gravity mapping (x, y) ↦ (x, 0, z) — derived from the plane convention.

@@ -120,11 +120,12 @@ describe('workspace map of a symmetric five-bar', () => {
   it('draws the mechanism at the task centre with elbows at the inverse-kinematics positions', async () => {
     const { map } = mapGeometry();
     expect(map.home?.source).toBe('task-centre');
-    const [c1, c2] = map.home!.elbows!;
-    expect(Math.hypot(c1[0] + a, c1[1])).toBeCloseTo(p, 12);
-    expect(Math.hypot(c1[0] - 0, c1[1] - 0.25)).toBeCloseTo(d, 12);
-    expect(Math.hypot(c2[0] - a, c2[1])).toBeCloseTo(p, 12);
-    expect(Math.hypot(c2[0] - 0, c2[1] - 0.25)).toBeCloseTo(d, 12);
+    const [c1, c2] = map.home!.legs!.map((leg) => leg.proximal);
+    expect(c1 && c2).toBeTruthy();
+    expect(Math.hypot(c1![0] + a, c1![1])).toBeCloseTo(p, 12);
+    expect(Math.hypot(c1![0] - 0, c1![1] - 0.25)).toBeCloseTo(d, 12);
+    expect(Math.hypot(c2![0] - a, c2![1])).toBeCloseTo(p, 12);
+    expect(Math.hypot(c2![0] - 0, c2![1] - 0.25)).toBeCloseTo(d, 12);
     const svg = await renderWorkspaceMap(study);
     expect(svg).toContain('mechanism at home pose');
     expect(svg).toContain('x (mm)');

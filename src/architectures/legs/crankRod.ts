@@ -6,7 +6,7 @@
  * u_i = (B_i − C_i)/d_i and s_i = cross(e(θ_i), u_i). Reach: the annulus |p − d| ≤ ρ ≤ p + d.
  * Compliance along u_i: s² (p²/k + p³/(3EI)) + (1 − s²) p/(EA)_crank + d/(EA)_rod.
  */
-import { jointRangeMargin } from '../../core/pose.js';
+import { angleInRange, jointRangeMargin, wrapAngle } from '../../core/pose.js';
 import type { ArchitecturePose } from '../types.js';
 import { addProximalRod, rodBodyCentre } from './bodies.js';
 import type { LegBody, LegGeometry, LegInput, LegKind, LegLumped, LegModelView } from './types.js';
@@ -118,5 +118,37 @@ export const crankRod: LegKind = {
       { name: `crank_${i + 1}`, joint: 'hinge', jointPosition: base, axis: [0, 0], mass, centreOfMass: [base[0] + c * ex, base[1] + c * ey], inertia: model.proximalInertia[i]! - mass * c * c },
       { name: `rod_${i + 1}`, joint: 'hinge', jointPosition: elbow, axis: [0, 0], mass: model.rodMass[i]!, centreOfMass: rodBodyCentre(model, i, pose), inertia: model.rodInertiaAboutCom[i]! },
     ];
+  },
+
+  treeBodies(model: LegModelView, i: number) {
+    const leg = i + 1;
+    const p = model.crank[i]!;
+    const d = model.rod[i]!;
+    const mass = model.proximalMass[i]!;
+    const c = mass > 0 ? model.proximalFirstMoment[i]! / mass : 0;
+    return {
+      bodies: [
+        {
+          name: `crank_${leg}`, parent: null, origin: [model.baseX[i]!, model.baseY[i]!],
+          joint: { name: `theta_${leg}`, kind: 'revolute', axis: [0, 0], actuator: i, range: model.jointLimits[i] ?? null, armature: model.reflectedInertia[i]! },
+          shape: 'bar', length: p, mass, centreOfMass: [c, 0], inertiaAboutCom: Math.max(model.proximalInertia[i]! - mass * c * c, 0),
+          sites: [], parts: 'uniform bar plus elbow hub at the crank end',
+        },
+        {
+          name: `rod_${leg}`, parent: `crank_${leg}`, origin: [p, 0],
+          joint: { name: `elbow_${leg}`, kind: 'revolute', axis: [0, 0], actuator: null, range: null, armature: 0 },
+          shape: 'bar', length: d, mass: model.rodMass[i]!, centreOfMass: [model.rodComDistance[i]!, 0], inertiaAboutCom: model.rodInertiaAboutCom[i]!,
+          sites: [{ name: `tip_${leg}`, at: [d, 0] }], parts: 'uniform bar',
+        },
+      ],
+      tip: [d, 0],
+    } as const;
+  },
+
+  treeJoints(model: LegModelView, i: number, pose: ArchitecturePose, out: Float64Array, k: number): number {
+    const theta = angleInRange(pose.q[i]!, model.jointLimits[i] ?? null);
+    out[k] = theta;
+    out[k + 1] = wrapAngle(Math.atan2(pose.rodDirection[2 * i + 1]!, pose.rodDirection[2 * i]!) - theta);
+    return k + 2;
   },
 };

@@ -5,7 +5,7 @@
  * q_i = w·e_r + σ_i √(d_i² − cross(e_r, w)²). Velocity row: u_i·Ḃ_i = s_i q̇_i with s_i = u_i·e_r,i.
  * Reach: |cross(e_r, w)| ≤ d_i (a band about the rail). Compliance along u_i: s² /k + d/(EA)_rod.
  */
-import { strokeMargin } from '../../core/pose.js';
+import { strokeMargin, wrapAngle } from '../../core/pose.js';
 import type { ArchitecturePose } from '../types.js';
 import { addProximalRod, rodBodyCentre } from './bodies.js';
 import type { LegBody, LegGeometry, LegInput, LegKind, LegLumped, LegModelView } from './types.js';
@@ -116,5 +116,34 @@ export const sliderRod: LegKind = {
       { name: `slider_${i + 1}`, joint: 'slide', jointPosition: slider, axis: [model.railX[i]!, model.railY[i]!], mass: model.proximalMass[i]!, centreOfMass: slider, inertia: 0 },
       { name: `rod_${i + 1}`, joint: 'hinge', jointPosition: slider, axis: [0, 0], mass: model.rodMass[i]!, centreOfMass: rodBodyCentre(model, i, pose), inertia: model.rodInertiaAboutCom[i]! },
     ];
+  },
+
+  treeBodies(model: LegModelView, i: number) {
+    const leg = i + 1;
+    const d = model.rod[i]!;
+    const mass = model.proximalMass[i]!;
+    return {
+      bodies: [
+        {
+          name: `slider_${leg}`, parent: null, origin: [model.baseX[i]!, model.baseY[i]!],
+          joint: { name: `slide_${leg}`, kind: 'prismatic', axis: [model.railX[i]!, model.railY[i]!], actuator: i, range: model.jointLimits[i] ?? null, armature: model.reflectedInertia[i]! },
+          shape: 'carriage', length: 0, mass, centreOfMass: [0, 0], inertiaAboutCom: 0,
+          sites: [], parts: `slider carriage ${mass} kg, translating along rail ${leg} (it does not turn)`,
+        },
+        {
+          name: `rod_${leg}`, parent: `slider_${leg}`, origin: [0, 0],
+          joint: { name: `beta_${leg}`, kind: 'revolute', axis: [0, 0], actuator: null, range: null, armature: 0 },
+          shape: 'bar', length: d, mass: model.rodMass[i]!, centreOfMass: [model.rodComDistance[i]!, 0], inertiaAboutCom: model.rodInertiaAboutCom[i]!,
+          sites: [{ name: `tip_${leg}`, at: [d, 0] }], parts: 'uniform bar',
+        },
+      ],
+      tip: [d, 0],
+    } as const;
+  },
+
+  treeJoints(_model: LegModelView, i: number, pose: ArchitecturePose, out: Float64Array, k: number): number {
+    out[k] = pose.q[i]!;
+    out[k + 1] = wrapAngle(Math.atan2(pose.rodDirection[2 * i + 1]!, pose.rodDirection[2 * i]!));
+    return k + 2;
   },
 };

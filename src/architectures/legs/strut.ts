@@ -11,7 +11,7 @@
  * with the rod section, its far end at B_i. Rates: β̇_i = cross(u_i, Ḃ_i)/q_i; a point at distance s
  * from A_i moves at ṡ u_i + s β̇_i u_i⊥. Compliance along u_i: 1/k of the drive + h/(EA) of the tube.
  */
-import { strokeMargin } from '../../core/pose.js';
+import { strokeMargin, wrapAngle } from '../../core/pose.js';
 import type { ArchitecturePose } from '../types.js';
 import { addBody, VBX, VBY, VX, VY, W } from './bodies.js';
 import type { LegBody, LegGeometry, LegInput, LegKind, LegLumped, LegModelView } from './types.js';
@@ -126,5 +126,39 @@ export const strut: LegKind = {
       { name: `housing_${i + 1}`, joint: 'hinge', jointPosition: a, axis: [0, 0], mass, centreOfMass: [a[0] + (h / 2) * u[0], a[1] + (h / 2) * u[1]], inertia: (mass * h * h) / 12 },
       { name: `tube_${i + 1}`, joint: 'slide', jointPosition: a, axis: u, mass: model.rodMass[i]!, centreOfMass: [a[0] + s * u[0], a[1] + s * u[1]], inertia: model.rodInertiaAboutCom[i]! },
     ];
+  },
+
+  /**
+   * Tree: the housing swings about A_i (passive hinge swing_i, absolute strut angle), the tube slides
+   * in it (actuated slide strut_i = q_i, the strut length): the tube's frame sits at its far pin B_i,
+   * q_i along the housing's x axis from A_i, and the tube runs back from there (a reversed bar).
+   */
+  treeBodies(model: LegModelView, i: number) {
+    const leg = i + 1;
+    const h = model.rod[i]!;
+    const mass = model.proximalMass[i]!;
+    return {
+      bodies: [
+        {
+          name: `housing_${leg}`, parent: null, origin: [model.baseX[i]!, model.baseY[i]!],
+          joint: { name: `swing_${leg}`, kind: 'revolute', axis: [0, 0], actuator: null, range: null, armature: 0 },
+          shape: 'bar', length: h, mass, centreOfMass: [h / 2, 0], inertiaAboutCom: (mass * h * h) / 12,
+          sites: [], parts: 'strut housing, uniform bar hinged at the base pivot',
+        },
+        {
+          name: `tube_${leg}`, parent: `housing_${leg}`, origin: [0, 0],
+          joint: { name: `strut_${leg}`, kind: 'prismatic', axis: [1, 0], actuator: i, range: model.jointLimits[i] ?? null, armature: model.reflectedInertia[i]! },
+          shape: 'bar', reversed: true, length: h, mass: model.rodMass[i]!, centreOfMass: [-model.rodComDistance[i]!, 0], inertiaAboutCom: model.rodInertiaAboutCom[i]!,
+          sites: [{ name: `tip_${leg}`, at: [0, 0] }], parts: 'strut tube, uniform bar pinned to the platform at its far end',
+        },
+      ],
+      tip: [0, 0],
+    } as const;
+  },
+
+  treeJoints(_model: LegModelView, i: number, pose: ArchitecturePose, out: Float64Array, k: number): number {
+    out[k] = wrapAngle(Math.atan2(pose.rodDirection[2 * i + 1]!, pose.rodDirection[2 * i]!));
+    out[k + 1] = pose.q[i]!;
+    return k + 2;
   },
 };

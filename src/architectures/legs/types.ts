@@ -10,7 +10,7 @@
  * - `circle`, `reachBox`, `basePoints`, `reach`: forward kinematics, bounding box and size;
  * - `bodies`: its body list (joint, axis, mass, centre of mass, inertia) for exports.
  */
-import type { ActuatorKind, ArchitecturePose, DriveAtJoint, LinkSection } from '../types.js';
+import type { ActuatorKind, ArchitecturePose, DriveAtJoint, LinkSection, TreeBody } from '../types.js';
 import type { JointRange } from '../../core/pose.js';
 
 /** Leg geometry an architecture derives from its parameters. */
@@ -89,6 +89,9 @@ export interface LegModelView {
   readonly rodComDistance: readonly number[];
   readonly rodInertiaAboutCom: readonly number[];
   readonly reflectedInertia: readonly number[];
+  /** 3-DOF: the distal pins in the platform frame, m (0 for 2-DOF). */
+  readonly platformX: readonly number[];
+  readonly platformY: readonly number[];
   readonly complianceTransverse: readonly number[];
   readonly complianceProximalAxial: readonly number[];
   readonly complianceRodAxial: readonly number[];
@@ -122,4 +125,12 @@ export interface LegKind {
   reach(model: LegModelView, i: number): number;
   /** The leg's bodies at the pose last solved. */
   bodies(model: LegModelView, i: number, pose: ArchitecturePose): LegBody[];
+  /**
+   * The leg as a chain of tree bodies from the base (the first body's parent is the ground, each next
+   * one's the body before), the last one carrying the site `tip_<i+1>` at the distal joint B_i
+   * (`tip`, in its frame). See BodyTree in ../types.ts.
+   */
+  treeBodies(model: LegModelView, i: number): { readonly bodies: TreeBody[]; readonly tip: readonly [number, number] };
+  /** The chain's joint coordinates at the pose last solved, written to out from index k; returns the next index. */
+  treeJoints(model: LegModelView, i: number, pose: ArchitecturePose, out: Float64Array, k: number): number;
 }

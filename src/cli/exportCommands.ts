@@ -1,5 +1,6 @@
 /** Commands that carry designs onward: export (JSON, CSV, MJCF) and rescore. */
 import type { Argv } from 'yargs';
+import { positiveInteger } from './argChecks.js';
 import { ExportError } from '../export/candidate.js';
 import { EXPORT_FORMATS, exportCandidates, type ExportFormat } from '../export/export.js';
 
@@ -28,7 +29,7 @@ export function registerExportCommands(cli: Argv): Argv {
         .positional('db', { type: 'string', demandOption: true })
         .option('front', { type: 'boolean', describe: 'the feasible Pareto front of the run (default: the latest run)' })
         .option('ids', { type: 'string', describe: 'evaluation ids, e.g. 12,40,41' })
-        .option('run', { type: 'number', describe: 'run whose front (--front) or study and provenance (--ids) to use' })
+        .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run whose front (--front) or study and provenance (--ids) to use' })
         .option('format', { choices: EXPORT_FORMATS, demandOption: true, describe: 'json: one sheet per design; csv: one table; mjcf: one MuJoCo model per design' })
         .option('out', { type: 'string', demandOption: true, describe: 'output folder (created when missing)' })
         .conflicts('front', 'ids'),

@@ -19,17 +19,13 @@ import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
+import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
+import { programName, setInvocationArguments } from './invocation.js';
 
-/** An error whose message is for the user as it stands. */
-export class UserError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = 'UserError';
-  }
-}
+export { UserError, UsageError };
 
 /** Errors whose message is meant for the user (bad input, missing files, refused queries). */
-const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError', 'SimulationError']);
+const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError', 'SimulationError', 'SweepError']);
 
 export function isUserError(error: unknown): error is Error {
   return (
@@ -159,7 +155,7 @@ export function buildCli(argv: readonly string[]): Argv {
       (args) => {
         if (existsSync(args.file) && !args.force) throw new UserError(`${args.file} exists; use --force to overwrite`);
         writeFileSync(args.file, STUDY_TEMPLATE.replace('https://loopsmith.invalid/schema/study.schema.json', schemaPath()));
-        out(`wrote ${args.file}; edit it, then run: loopsmith check ${args.file}`);
+        out(`wrote ${args.file}; edit it, then run: ${programName()} check ${args.file}`);
       },
     )
     .command(
@@ -185,6 +181,7 @@ export function buildCli(argv: readonly string[]): Argv {
           .option('json', { type: 'boolean', default: false }),
       (args) => {
         const loaded = loadStudyFile(args.study);
+        checkOverrides(loaded.study, asStrings(args.set));
         const { report, warnings } = evaluateDesign(loaded.study, asStrings(args.set));
         warnings.forEach(warn);
         if (args.json) {
@@ -215,6 +212,8 @@ export function buildCli(argv: readonly string[]): Argv {
           .option('json', { type: 'boolean', default: false }),
       (args) => {
         const loaded = loadStudyFile(args.study);
+        checkOverrides(loaded.study, asStrings(args.set));
+        checkPointText(loaded.study, args.at);
         const [x, y, phi] = parsePoint(args.at);
         if (loaded.study.members || loaded.study.architecture !== 'five-bar') {
           const { report: r, warnings: w } = probeArchitectureDesign(loaded.study, x, y, phi, asStrings(args.set));
@@ -260,6 +259,7 @@ export function buildCli(argv: readonly string[]): Argv {
     .version()
     .fail((message, error) => {
       // Errors thrown by option checks (coerce) come as YError: they are command-line mistakes.
+      if (error instanceof UsageError) throw error;
       if (error && error.name !== 'YError') throw error;
       throw new UsageError(message ?? error?.message ?? 'bad command line');
     });
@@ -296,26 +296,70 @@ function formatArchitectureProbe(report: ReturnType<typeof probeArchitectureDesi
   return `probe at ${at}\n\n${table(['quantity', 'value'], rows)}`;
 }
 
-class UsageError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = 'UsageError';
-  }
+/** File-system failures a user can cause (a folder that does not exist or is not writable, a full disk). */
+const FILE_ERROR_TEXT: Readonly<Record<string, string>> = {
+  EACCES: 'permission denied',
+  EPERM: 'operation not permitted',
+  EROFS: 'the file system is read-only',
+  ENOENT: 'no such file or folder',
+  ENOTDIR: 'a part of the path is not a folder',
+  EISDIR: 'it is a folder, not a file',
+  ENOSPC: 'no space left on the device',
+  EEXIST: 'it exists already',
+  ENAMETOOLONG: 'the name is too long',
+};
+
+/** One line for a file-system error, or undefined when it is not one. */
+export function fileErrorMessage(error: unknown): string | undefined {
+  const e = error as NodeJS.ErrnoException;
+  if (!(error instanceof Error) || typeof e.code !== 'string' || !(e.code in FILE_ERROR_TEXT)) return undefined;
+  const path = e.path ?? (e as { dest?: string }).dest;
+  const verb = e.syscall === 'open' || e.syscall === 'mkdir' || e.syscall === 'rename' || e.syscall === 'write' ? 'cannot write' : 'cannot use';
+  return `${path ? `${verb} ${path}` : 'file error'}: ${FILE_ERROR_TEXT[e.code]} (${e.code}); choose another path or fix its permissions`;
 }
 
-export async function main(argv: readonly string[]): Promise<number> {
+let pipeGuardInstalled = false;
+
+/** A reader that stops early (`| head`) closes the pipe: end quietly, as command-line tools do. */
+function installPipeGuard(): void {
+  if (pipeGuardInstalled) return;
+  pipeGuardInstalled = true;
+  const quietOnBrokenPipe = (error: NodeJS.ErrnoException): void => {
+    if (error.code === 'EPIPE' || error.code === 'ERR_STREAM_DESTROYED') process.exit(process.exitCode === undefined ? 0 : Number(process.exitCode));
+    throw error;
+  };
+  process.stdout.on('error', quietOnBrokenPipe);
+}
+
+export interface MainOptions {
+  /** Exit quietly when stdout is closed early (the command line does; tests that run main in-process do not). */
+  readonly pipeGuard?: boolean;
+}
+
+export async function main(argv: readonly string[], options: MainOptions = {}): Promise<number> {
+  if (options.pipeGuard !== false) installPipeGuard();
+  const before = process.exitCode;
   try {
-    await buildCli(argv).parseAsync();
+    process.exitCode = undefined;
+    setInvocationArguments(argv);
+    await buildCli(joinNegativeValues(argv)).parseAsync();
     return process.exitCode === undefined ? 0 : Number(process.exitCode);
   } catch (error) {
     if (error instanceof UsageError) {
-      process.stderr.write(`loopsmith: ${error.message}\nsee: loopsmith --help\n`);
+      process.stderr.write(`loopsmith: ${error.message}\nsee: ${programName()} --help\n`);
       return 2;
     }
     if (isUserError(error)) {
       process.stderr.write(`loopsmith: ${error.message}\n`);
       return 1;
     }
+    const fileMessage = fileErrorMessage(error);
+    if (fileMessage !== undefined) {
+      process.stderr.write(`loopsmith: ${fileMessage}\n`);
+      return 1;
+    }
     throw error;
+  } finally {
+    if (options.pipeGuard === false) process.exitCode = before;
   }
 }

@@ -6,6 +6,7 @@ import { CONTROLLER_KINDS, SimulationError, type ControllerKind, type Simulation
 import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup } from '../simulate/study.js';
 import { writeSimulationOutputs } from '../simulate/plots.js';
 import { formatValue, table, toJson } from './format.js';
+import { checkOverrides } from './argChecks.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -91,6 +92,7 @@ export function registerSimulateCommands(cli: Argv): Argv {
       if (args.damping !== undefined && !(args.damping > 0)) throw new SimulationError('--damping must be positive');
       if (extraEndMass !== undefined && !(extraEndMass >= 0)) throw new SimulationError('--extra-payload must be zero or positive');
       if (interval !== undefined && !(interval > 0)) throw new SimulationError('--interval must be positive');
+      checkOverrides(loaded.study, asStrings(args.set));
       const setup = prepareStudySimulation(loaded.study, asStrings(args.set));
       setup.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
       const effectiveDuration = duration ?? setup.cycleTime;

@@ -1,18 +1,24 @@
 /** Commands that run studies and read the store: run, sweep, runs, front, query. */
-import { existsSync } from 'node:fs';
+import { existsSync, rmSync } from 'node:fs';
 import { basename, extname, join } from 'node:path';
 import cliProgress from 'cli-progress';
 import type { Argv } from 'yargs';
 import { METRICS } from '../mechanics/metrics.js';
 import { runFront } from '../run/front.js';
-import { runOptimization, type GenerationProgress } from '../run/optimize.js';
+import { runOptimization, type GenerationProgress, type RunSummary } from '../run/optimize.js';
 import { runSweep } from '../run/sweep.js';
 import { rescoreRun } from '../run/rescore.js';
 import { queryEvaluations } from '../store/query.js';
-import { Store } from '../store/store.js';
-import { formatTable, toCsv } from '../store/format.js';
-import { loadStudyFile } from '../study/parse.js';
-import { formatMetric, formatValue, studyActuators, table, toJson, variableKind } from './format.js';
+import { runState, Store, type RunRow, type RunState } from '../store/store.js';
+import { toCsv } from '../store/format.js';
+import { constraintDefinitions } from '../mechanics/evaluate.js';
+import type { Study } from '../study/types.js';
+import type { QuantityKind } from '../study/units.js';
+import { betterDirection, chooseColumns, csvHeader, describeColumn, displayCell, emptyColumns, parseSort, sortRows } from './columns.js';
+import { commandLine, programName, resumableCommand } from './invocation.js';
+import { loadStudyFile, parseStudyText } from '../study/parse.js';
+import { studyActuators, table, toJson, variableKind } from './format.js';
+import { integerOption, positiveInteger } from './argChecks.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -46,10 +52,14 @@ function progressReporter(quiet: boolean, label: string) {
   const tty = process.stderr.isTTY === true;
   let bar: cliProgress.SingleBar | undefined;
   let lastLine = 0;
+  let first: { done: number; elapsed: number } | undefined;
   return {
     update(done: number, total: number, fields: { rate: number; hv: string; feasible: number; elapsed: number }): void {
       if (quiet) return;
-      const eta = done > 0 ? (fields.elapsed / done) * (total - done) : Number.NaN;
+      // The first step carries the start-up (threads, first compilation, an empty cache): the time left
+      // is estimated from the pace after it, and not shown until there is one.
+      first ??= { done, elapsed: fields.elapsed };
+      const eta = done > first.done ? ((fields.elapsed - first.elapsed) / (done - first.done)) * (total - done) : Number.NaN;
       if (tty) {
         if (!bar) {
           bar = new cliProgress.SingleBar(
@@ -73,12 +83,7 @@ function progressReporter(quiet: boolean, label: string) {
   };
 }
 
-const positiveInt = (name: string) => (value: unknown): number | undefined => {
-  if (value === undefined) return undefined;
-  const n = Number(value);
-  if (!Number.isInteger(n) || n < 1) throw new Error(`--${name} must be a positive integer`);
-  return n;
-};
+const positiveInt = (name: string, minimum = 1) => positiveInteger(name, minimum);
 
 export function registerStoreCommands(cli: Argv): Argv {
   return cli
@@ -87,22 +92,26 @@ export function registerStoreCommands(cli: Argv): Argv {
       'optimize: NSGA-II over the design space into SQLite (resumes an unfinished run)',
       (y) =>
         y
-          .positional('study', { type: 'string', demandOption: true })
+          .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
           .option('db', { type: 'string', describe: 'database file (default results/<study>.db)' })
-          .option('seed', { type: 'number', describe: 'random seed (default: the study\'s)' })
+          .option('seed', { type: 'string', describe: 'random seed, a whole number (default: the study\'s optimizer.seed)', coerce: integerOption('seed') })
           .option('workers', { type: 'number', describe: 'worker threads (default: available cores)', coerce: positiveInt('workers') })
           .option('generations', { type: 'number', describe: 'generations in all, the initial population included', coerce: positiveInt('generations') })
-          .option('population', { type: 'number', describe: 'population size', coerce: positiveInt('population') })
+          .option('population', { type: 'number', describe: 'designs per generation, at least 2 (default: the study\'s optimizer.population)', coerce: positiveInt('population', 2) })
           .option('from', { type: 'string', describe: 'warm start from the final population of DB[:RUN]' })
-          .option('quiet', { type: 'boolean', default: false }),
+          .option('quiet', { type: 'boolean', default: false, describe: 'no progress and no summary (errors are still printed)' })
+          .example('$0 run studies/parcel-sorter.yaml', 'optimize into results/parcel-sorter.db; the same command resumes it')
+          .example('$0 run studies/parcel-sorter.yaml --db trial.db --generations 10 --seed 3', 'a short trial run with another seed'),
       async (args) => {
         const loaded = loadStudyFile(args.study);
         const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
+        const existed = existsSync(dbPath);
         const interrupt = interruptFlag(args.quiet);
         const progress = progressReporter(args.quiet, 'generation');
         try {
           const summary = await runOptimization(loaded, {
             dbPath,
+            command: resumableCommand(),
             ...(args.seed !== undefined ? { seed: args.seed } : {}),
             ...(args.workers !== undefined ? { workers: args.workers } : {}),
             ...(args.generations !== undefined ? { generations: args.generations } : {}),
@@ -113,15 +122,13 @@ export function registerStoreCommands(cli: Argv): Argv {
               progress.update(p.generation + 1, p.generations, { rate: p.evaluationsPerSecond, hv: p.hypervolume === null ? '—' : p.hypervolume.toFixed(4), feasible: p.feasibleCount, elapsed: p.elapsedSeconds }),
           });
           progress.stop();
-          if (!args.quiet) {
-            const front = runFront(dbPath, summary.runId);
-            out(
-              `${summary.status === 'finished' ? 'finished' : 'stopped'} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (resumed at generation ${summary.resumedFromGeneration})` : ''}: ` +
-                `${summary.generationsDone} generations, ${summary.newEvaluations} new evaluations in ${fmtTime(summary.elapsedSeconds)}; ` +
-                `${front.designs.length} designs on the feasible front\ndatabase: ${dbPath}\nnext: loopsmith front ${dbPath}`,
-            );
-          }
+          const front = runFront(dbPath, summary.runId);
+          if (!args.quiet) out(runSummaryText(dbPath, summary, front.designs.length));
+          if (front.designs.length === 0) process.stderr.write(noFeasibleText(dbPath, summary.runId, loaded.study));
           if (summary.status === 'stopped') process.exitCode = 130;
+        } catch (error) {
+          removeEmptyStore(dbPath, existed);
+          throw error;
         } finally {
           progress.stop();
           interrupt.dispose();
@@ -137,7 +144,7 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('samples', { type: 'number', demandOption: true, coerce: positiveInt('samples') })
           .option('method', { choices: ['lhs', 'grid'] as const, default: 'lhs' as const })
           .option('db', { type: 'string' })
-          .option('seed', { type: 'number' })
+          .option('seed', { type: 'string', describe: 'random seed of the sample, a whole number (default: the study\'s optimizer.seed)', coerce: integerOption('seed') })
           .option('workers', { type: 'number', coerce: positiveInt('workers') })
           .option('quiet', { type: 'boolean', default: false }),
       async (args) => {
@@ -170,7 +177,7 @@ export function registerStoreCommands(cli: Argv): Argv {
         y
           .positional('db', { type: 'string', demandOption: true })
           .option('study', { type: 'string', demandOption: true, describe: 'the changed study file' })
-          .option('run', { type: 'number', describe: 'run to rescore (default: the latest)' })
+          .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run to rescore (default: the latest)' })
           .option('workers', { type: 'number', coerce: positiveInt('workers') })
           .option('json', { type: 'boolean', default: false })
           .option('quiet', { type: 'boolean', default: false }),
@@ -206,22 +213,33 @@ export function registerStoreCommands(cli: Argv): Argv {
     )
     .command(
       'runs <db>',
-      'list the runs in a database',
-      (y) => y.positional('db', { type: 'string', demandOption: true }).option('json', { type: 'boolean', default: false }),
+      'list the runs in a database: state (running, interrupted, stopped, finished, failed), seed, generations, time',
+      (y) =>
+        y
+          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the runs as JSON' })
+          .example('$0 runs results/parcel-sorter.db', 'which runs the store holds and how to resume an interrupted one'),
       (args) => {
         const store = openExisting(args.db);
         try {
           const runs = store.listRuns();
+          const now = new Date();
           if (args.json) {
-            out(toJson(runs.map(({ optimizerState: _state, ...rest }) => ({ ...rest, study: store.getStudy(rest.studyId)?.name }))));
+            out(toJson(runs.map(({ optimizerState: _state, ownerToken: _token, ...rest }) => ({ ...rest, state: runState(rest as RunRow, now), study: store.getStudy(rest.studyId)?.name }))));
+            return;
+          }
+          if (runs.length === 0) {
+            out(`${args.db}: no runs yet (start one: ${programName()} run STUDY --db ${args.db})`);
             return;
           }
           out(
             table(
-              ['run', 'study', 'kind', 'status', 'seed', 'generations', 'workers', 'started', 'elapsed'],
-              runs.map((r) => [String(r.id), store.getStudy(r.studyId)?.name ?? '?', r.kind, r.status, String(r.seed), String(r.generationsDone), String(r.workers), r.startedAt, fmtTime(r.elapsedSeconds)]),
+              ['run', 'study', 'kind', 'state', 'seed', 'generations', 'workers', 'started', 'elapsed'],
+              runs.map((r) => [String(r.id), store.getStudy(r.studyId)?.name ?? '?', r.kind, runState(r, now), String(r.seed), String(r.generationsDone), String(r.workers), r.startedAt.replace('T', ' ').replace(/\.\d+Z$/, 'Z'), fmtTime(r.elapsedSeconds)]),
             ),
           );
+          const notes = runs.flatMap((r) => runNote(r, runState(r, now)));
+          if (notes.length > 0) out('\n' + notes.join('\n'));
         } finally {
           store.close();
         }
@@ -229,38 +247,50 @@ export function registerStoreCommands(cli: Argv): Argv {
     )
     .command(
       'front <db>',
-      'the feasible Pareto front of a run (default: the latest)',
+      'the feasible Pareto front of a run (default: the latest finished run)',
       (y) =>
         y
-          .positional('db', { type: 'string', demandOption: true })
-          .option('run', { type: 'number' })
-          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const }),
+          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
+          .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run id (default: the latest finished run; see loopsmith runs DB)' })
+          .option('sort', { type: 'string', describe: 'sort by a metric or variable, :asc or :desc (default on terminals: the first objective, best first)' })
+          .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'show at most N designs (after sorting)' })
+          .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default: id, design variables, objectives); names without prefix' })
+          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stable keys' })
+          .example('$0 front results/parcel-sorter.db --sort bandwidth:desc --limit 10', 'the ten stiffest-dynamics designs of the latest finished run')
+          .example('$0 front results/parcel-sorter.db --format csv > front.csv', 'every metric, SI units, for a spreadsheet'),
       (args) => {
         requireDatabase(args.db);
         const front = runFront(args.db, args.run);
+        const designs = front.designs.map((d) => ({ id: d.id, ...d.variables, ...d.metrics } as Record<string, unknown>));
         const variableNames = front.designs[0] ? Object.keys(front.designs[0].variables) : [];
         const objectiveNames = front.objectives.map((o) => o.metric);
-        const otherMetrics = METRICS.map((m) => m.name).filter((n) => !objectiveNames.includes(n));
+        const metricNames = front.designs[0] ? Object.keys(front.designs[0].metrics) : METRICS.map((m) => m.name);
+        const keys = ['id', ...variableNames, ...metricNames];
+        const sort = args.sort !== undefined ? parseSort(args.sort, keys, betterDirection) : args.format === 'table' && objectiveNames[0] ? { key: objectiveNames[0], direction: front.objectives[0]!.sense === 'max' ? ('desc' as const) : ('asc' as const) } : undefined;
+        let rows = sort ? sortRows(designs, sort.key, sort.direction) : designs;
+        if (args.limit !== undefined) rows = rows.slice(0, args.limit);
+        const chosenIds = new Set(rows.map((r) => r['id']));
         if (args.format === 'json') {
-          out(toJson({ run: front.runId, objectives: front.objectives, designs: front.designs.map((d) => ({ id: d.id, variables: d.variables, metrics: d.metrics, constraints: d.constraints })) }));
+          const byId = new Map(front.designs.map((d) => [d.id, d]));
+          out(toJson({ run: front.runId, objectives: front.objectives, designs: rows.map((r) => byId.get(r['id'] as number)!).filter((d) => chosenIds.has(d.id)).map((d) => ({ id: d.id, variables: d.variables, metrics: d.metrics, constraints: d.constraints })) }));
           return;
         }
-        const columns = ['id', ...variableNames, ...objectiveNames, ...(args.format === 'csv' ? otherMetrics : [])];
+        const actuators = studyActuators(front.study, front.designs[0]?.variables);
+        const kindOf = (name: string): QuantityKind | null => (variableNames.includes(name) ? (typeof front.designs[0]?.variables[name] === 'number' ? variableKind(front.study, name) : null) : null);
+        const empty = emptyColumns(keys, designs);
+        const shown = args.columns !== undefined
+          ? chooseColumns(args.columns, keys)
+          : args.format === 'csv' ? keys.filter((k) => !empty.has(k)) : ['id', ...variableNames, ...objectiveNames];
+        const columns = shown.map((k) => (k === 'id' ? { key: 'id', title: 'id', kind: null } : describeColumn(k, kindOf, actuators)));
         if (args.format === 'csv') {
-          out(toCsv(columns, front.designs.map((d) => ({ id: d.id, ...d.variables, ...d.metrics }))));
+          out(toCsv(columns.map(csvHeader), rows.map((r) => Object.fromEntries(columns.map((c) => [csvHeader(c), r[c.key]])))));
           return;
         }
-        out(`run ${front.runId} (${front.kind}): ${front.designs.length} designs on the feasible front; objectives ${front.objectives.map((o) => `${o.metric} (${o.sense})`).join(', ')}\n`);
-        out(
-          table(
-            columns,
-            front.designs.map((d) => [
-              String(d.id),
-              ...variableNames.map((v) => (typeof d.variables[v] === 'number' ? formatValue(d.variables[v] as number, variableKind(front.study, v)) : String(d.variables[v]))),
-              ...objectiveNames.map((m) => formatMetric(m, d.metrics[m], studyActuators(front.study, d.variables))),
-            ]),
-          ),
-        );
+        const which = front.reason ? `; ${front.reason} — another with --run N (see: ${programName()} runs ${args.db})` : '';
+        const state = front.run ? `, ${runState(front.run)}, ${front.run.generationsDone} generations` : '';
+        const limited = rows.length < front.designs.length ? ` (showing ${rows.length}${sort ? `, sorted by ${sort.key} ${sort.direction}` : ''})` : sort ? ` (sorted by ${sort.key} ${sort.direction})` : '';
+        out(`run ${front.runId} (${front.kind}${state}${which})\n${front.designs.length} designs on the feasible front${limited}; objectives ${front.objectives.map((o) => `${o.metric} (${o.sense})`).join(', ')}\n`);
+        if (rows.length > 0) out(table(columns.map((c) => c.title), rows.map((r) => columns.map((c) => displayCell(r[c.key], c)))));
       },
     )
     .command(
@@ -268,25 +298,145 @@ export function registerStoreCommands(cli: Argv): Argv {
       'select stored evaluations with an SQL expression (read-only)',
       (y) =>
         y
-          .positional('db', { type: 'string', demandOption: true })
+          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
           .option('where', { type: 'string', describe: 'SQL expression over the columns, e.g. "feasible = 1 AND m_gci > 0.8"' })
-          .option('order-by', { type: 'string', describe: 'column [asc|desc]' })
-          .option('limit', { type: 'number', coerce: positiveInt('limit') })
-          .option('run', { type: 'number', describe: 'only designs that were members of this run' })
-          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const }),
+          .option('order-by', { type: 'string', describe: 'column [asc|desc], e.g. "m_bandwidth desc"' })
+          .option('sort', { type: 'string', describe: 'same as --order-by, with a metric name: gci:desc' })
+          .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'at most N rows' })
+          .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'only designs that were members of this run' })
+          .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default on terminals: id, feasible, variables, metrics with values)' })
+          .option('all-columns', { type: 'boolean', default: false, describe: 'every stored column, empty ones included (default for csv and json)' })
+          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stored column names' })
+          .example('$0 query results/parcel-sorter.db --where "feasible = 1 AND m_gci > 0.85" --sort bandwidth:desc --limit 5', 'five feasible, well-conditioned designs with the highest natural frequency')
+          .example('$0 query results/parcel-sorter.db --format csv > all.csv', 'every stored evaluation as CSV'),
       (args) => {
         requireDatabase(args.db);
+        let orderBy = args.orderBy;
+        if (args.sort !== undefined) {
+          const all = queryEvaluations(args.db, { limit: 0 }).columns;
+          const sort = parseSort(args.sort, all, betterDirection);
+          orderBy = `${sort.key} ${sort.direction}`;
+        }
         const result = queryEvaluations(args.db, {
           ...(args.where !== undefined ? { where: args.where } : {}),
-          ...(args.orderBy !== undefined ? { orderBy: args.orderBy } : {}),
+          ...(orderBy !== undefined ? { orderBy } : {}),
           ...(args.limit !== undefined ? { limit: args.limit } : {}),
           ...(args.run !== undefined ? { runId: args.run } : {}),
         });
-        if (args.format === 'json') out(toJson(result.rows));
-        else if (args.format === 'csv') out(toCsv(result.columns, result.rows));
-        else out(`${formatTable(result.columns, result.rows)}\n(${result.rows.length} rows)`);
+        const keys = result.columns;
+        const study = latestStudy(args.db);
+        const textVariable = (name: string): boolean => name === 'working_mode' || name === 'architecture' || /^drive(_\d)?$/.test(name);
+        const kindOf = (name: string): QuantityKind | null => (textVariable(name) ? null : study ? variableKind(study, name) : /angle|^phi/.test(name) ? 'angle' : 'length');
+        let shown: string[];
+        if (args.columns !== undefined) shown = chooseColumns(args.columns, keys);
+        else if (args.allColumns || args.format !== 'table') shown = keys;
+        else {
+          const empty = emptyColumns(keys, result.rows);
+          shown = keys.filter((k) => !empty.has(k) && (k === 'id' || k === 'feasible' || k === 'error' || k.startsWith('v_') || k.startsWith('m_')));
+        }
+        if (args.format === 'json') {
+          out(toJson(result.rows.map((r) => Object.fromEntries(shown.map((k) => [k, r[k]])))));
+          return;
+        }
+        const columns = shown.map((k) => (k.startsWith('v_') || k.startsWith('m_') || k.startsWith('c_') ? describeColumn(k, kindOf, study ? studyActuators(study) : undefined) : { key: k, title: k, kind: null }));
+        if (args.format === 'csv') {
+          out(toCsv(columns.map(csvHeader), result.rows.map((r) => Object.fromEntries(columns.map((c) => [csvHeader(c), r[c.key]])))));
+          return;
+        }
+        const hidden = keys.length - shown.length;
+        out(`${table(columns.map((c) => c.title), result.rows.map((r) => columns.map((c) => displayCell(r[c.key], c))))}\n(${result.rows.length} rows${hidden > 0 ? `; ${hidden} columns not shown — choose with --columns, or --all-columns` : ''})`);
       },
     );
+}
+
+/** The summary line of a finished or stopped run, with the counts the report uses. */
+function runSummaryText(dbPath: string, summary: RunSummary, frontSize: number): string {
+  const store = Store.open(dbPath, { access: 'read' });
+  try {
+    const stats = store.generationStats(summary.runId);
+    const asked = stats.reduce((n, s) => n + s.evaluations, 0);
+    const computed = stats.reduce((n, s) => n + s.newEvaluations, 0);
+    const distinct = queryEvaluations(dbPath, { runId: summary.runId, columns: ['id'] }).rows.length;
+    const hv = stats.at(-1)?.hypervolume;
+    const verb = summary.status === 'finished' ? 'finished' : 'stopped';
+    return (
+      `${verb} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (resumed at generation ${summary.resumedFromGeneration})` : ''}: ` +
+      `${summary.generationsDone} generations in ${fmtTime(summary.elapsedSeconds)}; ${asked} designs asked for, ${computed} evaluated (${asked - computed} found in the store), ` +
+      `${distinct} distinct designs kept in a population; ${frontSize} on the feasible front` +
+      `${hv !== null && hv !== undefined ? `; hypervolume ${hv.toFixed(4)} (normalised, as in the report)` : ''}\n` +
+      `database: ${dbPath}\nnext: ${commandLine(['front', dbPath])}`
+    );
+  } finally {
+    store.close();
+  }
+}
+
+/** Why a run found no feasible design: the constraints that fail most often, and by how much. */
+function noFeasibleText(dbPath: string, runId: number, study: Study): string {
+  const names = constraintDefinitions(study).map((c) => c.name);
+  const rows = queryEvaluations(dbPath, { runId, columns: ['id', ...names.map((n) => `c_${n}`).filter((c) => queryEvaluations(dbPath, { limit: 0 }).columns.includes(c))] }).rows;
+  const lines = [`loopsmith: warning: run ${runId} found NO feasible design among its ${rows.length} designs.`];
+  const failing = names
+    .map((name) => {
+      const margins = rows.map((r) => r[`c_${name}`]).filter((v): v is number => typeof v === 'number');
+      const violated = margins.filter((m) => m < 0).sort((a, b) => a - b);
+      return { name, count: violated.length, total: margins.length, median: violated[Math.floor(violated.length / 2)] ?? 0, worst: violated[0] ?? 0 };
+    })
+    .filter((f) => f.count > 0)
+    .sort((a, b) => b.count - a.count);
+  if (failing.length > 0) {
+    const pct = (v: number): string => `${(v * 100).toPrecision(3)} %`;
+    lines.push('Constraints that fail most often (margins are shortfalls as a fraction of the bound):');
+    lines.push(table(['constraint', 'designs failing', 'median shortfall', 'worst'], failing.map((f) => [f.name, `${f.count} of ${f.total}`, pct(-f.median), pct(-f.worst)])));
+    lines.push('Relax those bounds, widen the design bounds, or check the task region (loopsmith check STUDY).');
+  }
+  return lines.join('\n') + '\n';
+}
+
+/** The study of the store's latest run (for units of variable columns), or undefined. */
+function latestStudy(dbPath: string): Study | undefined {
+  try {
+    const store = Store.open(dbPath, { access: 'read' });
+    try {
+      const run = store.listRuns().at(-1);
+      const row = run ? store.getStudy(run.studyId) : undefined;
+      return row ? parseStudyText(row.fileText, dbPath).study : undefined;
+    } finally {
+      store.close();
+    }
+  } catch {
+    return undefined;
+  }
+}
+
+/** A note per run that needs one: who writes a running run, how to resume an interrupted one. */
+function runNote(run: RunRow, state: RunState): string[] {
+  if (state === 'interrupted') {
+    const who = run.ownerPid !== null ? `its process ${run.ownerPid} on ${run.ownerHost ?? '?'} is gone` : 'its process is gone';
+    const resume = run.kind === 'optimize' ? (run.command ? `; resume it with: ${run.command}` : '; the command that started it resumes it') : '; a sweep starts again from the beginning';
+    return [`run ${run.id} was interrupted after ${run.generationsDone} generation(s) (${who})${resume}`];
+  }
+  if (state === 'running') return [`run ${run.id} is being written by process ${run.ownerPid} on ${run.ownerHost ?? '?'} since ${run.ownerSince ?? run.startedAt}`];
+  if ((state === 'failed' || state === 'stopped') && run.message) return [`run ${run.id}: ${run.message}`];
+  return [];
+}
+
+/** After a refused or failed command: a store this command created that holds no generation is removed. */
+function removeEmptyStore(dbPath: string, existedBefore: boolean): void {
+  if (existedBefore || !existsSync(dbPath)) return;
+  try {
+    const store = Store.open(dbPath, { access: 'read' });
+    let stored = 0;
+    try {
+      stored = store.listRuns().reduce((n, r) => n + r.generationsDone, 0);
+    } finally {
+      store.close();
+    }
+    if (stored > 0) return;
+  } catch {
+    // Not even a readable store: nothing in it to keep.
+  }
+  for (const suffix of ['', '-wal', '-shm', '-journal']) rmSync(dbPath + suffix, { force: true });
 }
 
 /** DB or DB:RUN. */
@@ -306,5 +456,5 @@ function requireDatabase(path: string): void {
 
 function openExisting(path: string): Store {
   requireDatabase(path);
-  return Store.open(path);
+  return Store.open(path, { access: 'read' });
 }

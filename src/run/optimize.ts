@@ -26,6 +26,8 @@ export interface RunOptions extends PoolOptions {
   readonly onGeneration?: (progress: GenerationProgress) => void;
   /** Checked after each committed generation; true stops the run cleanly (status "stopped"). */
   readonly shouldStop?: () => boolean;
+  /** The command line that starts (and resumes) the run, kept with the run for `loopsmith runs`. */
+  readonly command?: string;
 }
 
 export interface GenerationProgress {
@@ -98,6 +100,13 @@ function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
   return { ideal, nadir };
 }
 
+/** The frame widened to cover `points` (objectives clamped to finite values, as in the final record). */
+function widenFrame(frame: HypervolumeFrame | null, points: readonly number[][]): HypervolumeFrame | null {
+  const finite = points.map((p) => p.map((v) => (v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v)));
+  const all = frame ? [frame.ideal, frame.nadir, ...finite] : finite;
+  return frameFrom(all) ?? frame;
+}
+
 /**
  * At the end of a run, every generation's hypervolume is recomputed in one frame: objectives
  * normalised by the ideal and nadir of the feasible rank-0 members over the whole run (reference
@@ -134,7 +143,7 @@ export class WarmStartError extends Error {
 /** Final population of an earlier optimization run, as design vectors of this study (clamped to its bounds). */
 function warmStartDesigns(from: { dbPath: string; runId?: number }, sp: StudyProblem): { runId: number; designs: Float64Array[] } {
   if (!existsSync(from.dbPath)) throw new WarmStartError(`--from ${from.dbPath}: no such database`);
-  const store = Store.open(from.dbPath);
+  const store = Store.open(from.dbPath, { access: 'read' });
   try {
     const run = from.runId !== undefined ? store.getRun(from.runId) : store.listRuns().filter((r) => r.kind === 'optimize').at(-1);
     if (!run) throw new WarmStartError(`--from ${from.dbPath}${from.runId !== undefined ? ':' + from.runId : ''}: no such optimization run`);
@@ -169,7 +178,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   };
   const settingsJson = canonicalJson(settings);
 
-  const store = Store.open(options.dbPath);
+  const store = Store.open(options.dbPath, { access: 'write' });
   const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
   try {
     const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
@@ -178,103 +187,116 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     let optimizer: Nsga2;
     let frame: HypervolumeFrame | null = null;
     let resumedFrom: number | null = null;
-    const unfinished = store.findUnfinishedRun(studyId, 'optimize', seed, settingsJson);
-    if (unfinished && unfinished.optimizerState) {
-      const state = JSON.parse(unfinished.optimizerState) as RunState;
+    // Takes the unfinished run of the same settings (refused while another living process writes it), or starts one.
+    const claimed = store.claimRun({ studyId, kind: 'optimize', seed, settings: JSON.parse(settingsJson) as unknown, workers: pool.workers, command: options.command ?? null });
+    runId = claimed.run.id;
+    if (claimed.resumed && claimed.run.optimizerState) {
+      const state = JSON.parse(claimed.run.optimizerState) as RunState;
       optimizer = Nsga2.restore(sp.problem, nsgaSettings, state.nsga2);
       frame = state.hypervolumeFrame;
-      runId = unfinished.id;
-      resumedFrom = unfinished.generationsDone;
-      store.markRun(runId, 'running', null);
+      resumedFrom = claimed.run.generationsDone;
     } else {
-      runId = unfinished?.id ?? store.createRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers });
-      if (unfinished) store.markRun(runId, 'running', null);
       optimizer = new Nsga2(sp.problem, nsgaSettings);
     }
+    try {
+      return await optimizeLoop();
+    } catch (error) {
+      // Never leave a run "running" behind an error. With generations stored it is 'stopped' (the same
+      // command resumes it from the last one); without any it 'failed'. The reason goes with it.
+      const reason = error instanceof Error ? error.message : String(error);
+      const done = store.getRun(runId)?.generationsDone ?? 0;
+      store.markRun(runId, done > 0 ? 'stopped' : 'failed', done > 0 ? `stopped by an error after ${done} generation(s): ${reason}` : `failed: ${reason}`);
+      throw error;
+    }
 
-    let totalEvaluations = 0;
-    let totalNew = 0;
-    const started = performance.now();
-    let status: 'finished' | 'stopped' = 'finished';
-    // The store write of generation g runs on the main thread while the workers evaluate generation
-    // g + 1; its records are served from memory until then, so the database ends up exactly as if
-    // every generation had been written before the next was asked for.
-    let pendingWrite: GenerationWrite | null = null;
-    let pendingRecords = new Map<string, NewEvaluation>();
-    const flush = (): void => {
-      if (!pendingWrite) return;
-      store.writeGeneration(pendingWrite);
-      pendingWrite = null;
-      pendingRecords = new Map();
-    };
-    while (optimizer.generation + 1 < generations) {
-      const generation = optimizer.generation + 1;
-      const genStart = performance.now();
-      let designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
-      if (generation === 0 && warm) {
-        // Warm start: the earlier run's final population first, then space-filling designs up to the population size.
-        designs = [...warm.designs, ...designs].slice(0, population);
-      }
-      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, pendingRecords, flush);
-      optimizer.tell(designs, evaluations);
+    async function optimizeLoop(): Promise<RunSummary> {
 
-      const members = optimizer.population();
-      const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
-      const feasibleCount = members.filter((m) => isFeasible(m.evaluation)).length;
-      frame ??= frameFrom(feasibleFront);
-      const hv = frame ? frameHypervolume(feasibleFront, frame) : null;
-      const elapsed = (performance.now() - genStart) / 1000;
-      const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
-      const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame };
-      pendingWrite = {
-        runId,
-        generation,
-        newEvaluations: newRecords,
-        members: memberKeys,
-        stats: {
+      let totalEvaluations = 0;
+      let totalNew = 0;
+      const started = performance.now();
+      let status: 'finished' | 'stopped' = 'finished';
+      // The store write of generation g runs on the main thread while the workers evaluate generation
+      // g + 1; its records are served from memory until then, so the database ends up exactly as if
+      // every generation had been written before the next was asked for.
+      let pendingWrite: GenerationWrite | null = null;
+      let pendingRecords = new Map<string, NewEvaluation>();
+      const flush = (): void => {
+        if (!pendingWrite) return;
+        store.writeGeneration(pendingWrite);
+        pendingWrite = null;
+        pendingRecords = new Map();
+      };
+      while (optimizer.generation + 1 < generations) {
+        const generation = optimizer.generation + 1;
+        const genStart = performance.now();
+        let designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
+        if (generation === 0 && warm) {
+          // Warm start: the earlier run's final population first, then space-filling designs up to the population size.
+          designs = [...warm.designs, ...designs].slice(0, population);
+        }
+        const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, pendingRecords, flush);
+        optimizer.tell(designs, evaluations);
+
+        const members = optimizer.population();
+        const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
+        const feasibleCount = members.filter((m) => isFeasible(m.evaluation)).length;
+        // The frame grows with every generation's front, so the figure shown during the run is in the
+      // same normalisation as the record rewritten at the end (equal to it at the last generation).
+      frame = widenFrame(frame, feasibleFront);
+        const hv = frame ? frameHypervolume(feasibleFront, frame) : null;
+        const elapsed = (performance.now() - genStart) / 1000;
+        const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
+        const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame };
+        pendingWrite = {
+          runId,
+          generation,
+          newEvaluations: newRecords,
+          members: memberKeys,
+          stats: {
+            evaluations: designs.length,
+            newEvaluations: newRecords.length,
+            failed,
+            feasibleCount,
+            hypervolume: hv,
+            elapsedSeconds: elapsed,
+            evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
+          },
+          optimizerState: JSON.stringify(state),
+        };
+        for (const record of newRecords) pendingRecords.set(record.key, record);
+        totalEvaluations += designs.length;
+        totalNew += newRecords.length;
+        options.onGeneration?.({
+          runId,
+          generation,
+          generations,
           evaluations: designs.length,
           newEvaluations: newRecords.length,
           failed,
           feasibleCount,
           hypervolume: hv,
-          elapsedSeconds: elapsed,
           evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
-        },
-        optimizerState: JSON.stringify(state),
-      };
-      for (const record of newRecords) pendingRecords.set(record.key, record);
-      totalEvaluations += designs.length;
-      totalNew += newRecords.length;
-      options.onGeneration?.({
-        runId,
-        generation,
-        generations,
-        evaluations: designs.length,
-        newEvaluations: newRecords.length,
-        failed,
-        feasibleCount,
-        hypervolume: hv,
-        evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
-        elapsedSeconds: (performance.now() - started) / 1000,
-        resumed: resumedFrom !== null,
-      });
-      if (options.shouldStop?.() && optimizer.generation + 1 < generations) {
-        status = 'stopped';
-        break;
+          elapsedSeconds: (performance.now() - started) / 1000,
+          resumed: resumedFrom !== null,
+        });
+        if (options.shouldStop?.() && optimizer.generation + 1 < generations) {
+          status = 'stopped';
+          break;
+        }
       }
+      flush();
+      if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
+      store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
+      return {
+        runId,
+        status,
+        resumedFromGeneration: resumedFrom,
+        generationsDone: optimizer.generation + 1,
+        evaluations: totalEvaluations,
+        newEvaluations: totalNew,
+        elapsedSeconds: (performance.now() - started) / 1000,
+      };
     }
-    flush();
-    if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
-    store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
-    return {
-      runId,
-      status,
-      resumedFromGeneration: resumedFrom,
-      generationsDone: optimizer.generation + 1,
-      evaluations: totalEvaluations,
-      newEvaluations: totalNew,
-      elapsedSeconds: (performance.now() - started) / 1000,
-    };
   } finally {
     await pool.close();
     store.close();

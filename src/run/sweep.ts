@@ -49,14 +49,19 @@ export function gridDesigns(layout: ReturnType<typeof designLayout>, samples: nu
   return out;
 }
 
+/** A sweep the study cannot give (a user error). */
+export class SweepError extends Error {
+  override readonly name = 'SweepError';
+}
+
 export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Promise<{ runId: number; evaluations: number; feasible: number; status: 'finished' | 'stopped' }> {
   const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
   const sp = studyProblem(loaded.study);
-  if (sp.variables.length === 0) throw new Error('this study has no design variables to sweep');
+  if (sp.variables.length === 0) throw new SweepError(`${loaded.source}: this study has no design variables to sweep (make a geometry parameter a { min, max } range)`);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const layout = designLayout(sp.problem);
   const designs = options.method === 'grid' ? gridDesigns(layout, options.samples) : latinHypercube(options.samples, layout, new SeededRandom(seed));
-  const store = Store.open(options.dbPath);
+  const store = Store.open(options.dbPath, { access: 'write' });
   const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
   try {
     const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });

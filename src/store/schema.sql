@@ -1,4 +1,4 @@
--- loopsmith result store: full schema of version 1.
+-- loopsmith result store: full schema of version 2.
 --
 -- This file creates a fresh database in one transaction (see migrations.ts).
 -- Databases written by older code are brought up to date by the numbered
@@ -43,7 +43,14 @@ CREATE TABLE runs (
   active_since     TEXT NULL,           -- ISO 8601 UTC start of the current session's unaccounted time; NULL when not running
   generations_done INTEGER NOT NULL DEFAULT 0,
   optimizer_state  TEXT NULL,           -- opaque JSON snapshot written with each generation, for resume
-  message          TEXT NULL
+  message          TEXT NULL,
+  -- version 2: run-ownership lock (see Store.claimRun) and the command that resumes the run
+  owner_pid        INTEGER NULL,        -- process writing the run; NULL when none owns it
+  owner_host       TEXT NULL,           -- host name of that process
+  owner_since      TEXT NULL,           -- ISO 8601 UTC, when that process took the run
+  owner_token      TEXT NULL,           -- start time of that process as the OS reports it (tells a reused pid apart)
+  heartbeat_at     TEXT NULL,           -- ISO 8601 UTC, the owner's last sign of life
+  command          TEXT NULL            -- the command line that writes the run: the one that resumes it
 );
 CREATE INDEX runs_resume_lookup ON runs (study_id, kind, seed, status);
 CREATE INDEX runs_by_parent ON runs (parent_run_id);
@@ -108,4 +115,4 @@ CREATE VIEW results AS
 SELECT id, eval_key, settings_hash, first_run_id, violation, feasible, error, eval_seconds
 FROM evaluations;
 
-PRAGMA user_version = 1;
+PRAGMA user_version = 2;

@@ -164,6 +164,22 @@ function hasAttachments(text: string): boolean {
   return text.includes(ATTACHMENT_KEY);
 }
 
+/** Aliases a study may use (`*name`); far more means a file built to exhaust memory ("billion laughs"). */
+const MAX_ALIAS_COUNT = 100;
+
+/** The plain data of one YAML document; alias bombs and other resolution failures are study errors. */
+function documentData(doc: { toJS(options?: { maxAliasCount?: number }): unknown }, source: string): Json {
+  try {
+    return doc.toJS({ maxAliasCount: MAX_ALIAS_COUNT }) as Json;
+  } catch (error) {
+    const text = error instanceof Error ? error.message : String(error);
+    if (/alias/i.test(text)) {
+      throw new StudyError(`${source}: the YAML uses aliases (*name) so many times that it would expand without bound; a study needs at most a few aliases — write the values out`);
+    }
+    throw new StudyError(`${source}: not valid YAML: ${text}`);
+  }
+}
+
 export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
   const docs = parseAllDocuments(text, { prettyErrors: true });
   const list = Array.isArray(docs) ? docs : [docs];
@@ -174,13 +190,13 @@ export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
   }
   const attachments = new Map<string, string>();
   for (const d of list.slice(1)) {
-    const a = d.toJS() as Json;
+    const a = documentData(d, source);
     if (!isObject(a) || typeof a[ATTACHMENT_KEY] !== 'string' || typeof a['content'] !== 'string') {
       throw new StudyError(`${source}: a study file holds one YAML document (found a second one after "---")`);
     }
     attachments.set(a[ATTACHMENT_KEY], a['content']);
   }
-  const data = first.toJS() as Json;
+  const data = documentData(first, source);
   if (!isObject(data)) throw new StudyError(`${source}: a study file must be a YAML mapping (key: value lines)`);
   const schemaErrors = validateShape(data);
   if (schemaErrors.length > 0) {

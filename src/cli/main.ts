@@ -19,6 +19,8 @@ import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
+import { mirrorLimitWarning, unreachableTaskProblems } from '../study/plausibility.js';
+import { taskPointFailures, type TaskPointFailures } from './taskPoints.js';
 import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
 import { programName, setInvocationArguments } from './invocation.js';
 
@@ -132,6 +134,32 @@ function memberSummary(study: Study): string {
   return lines.join('\n');
 }
 
+/** Says how many task points a design cannot assemble, and where (they give the worst-limit values). */
+function unassembledText(f: TaskPointFailures): string {
+  const where = f.failed.slice(0, 6).map((p) => `(${formatValue(p.x, 'length')}, ${formatValue(p.y, 'length')}) ${p.status}`).join('; ');
+  return (
+    `${f.failed.length} of ${f.checked} task points cannot be assembled: ${where}${f.failed.length > 6 ? '; …' : ''}.\n` +
+    'At those points the per-pose metrics take their worst limits (∞ torques and speeds, zero stiffness, frequency and acceleration) and constraint margins read about −1e6: ' +
+    'the design does not cover its task region there. Probe one with: loopsmith probe STUDY --at X,Y'
+  );
+}
+
+/** Whether the study's baseline meets its constraints, as a line for `check` (and its JSON). */
+function baselineVerdict(study: Study): { feasible: boolean | null; failing: string[]; text: string } {
+  if (study.members) return { feasible: null, failing: [], text: 'baseline: not evaluated for a comparison study (see: loopsmith evaluate)' };
+  try {
+    const { report } = evaluateDesign(study);
+    const failing = report.constraints.filter((c) => !Number.isNaN(c.margin) && !c.satisfied).map((c) => c.name);
+    const text = report.feasible
+      ? 'baseline: feasible (every constraint holds)'
+      : `baseline: NOT feasible — ${failing.join(', ')} fail (details: loopsmith evaluate STUDY); the optimizer does not need a feasible baseline, but it is worth knowing`;
+    return { feasible: report.feasible, failing, text };
+  } catch (error) {
+    if (!isUserError(error)) throw error;
+    return { feasible: null, failing: [], text: `baseline: cannot be evaluated (${error.message})` };
+  }
+}
+
 function parsePoint(text: string): [number, number, number | undefined] {
   const parts = text.split(',');
   if (parts.length !== 2 && parts.length !== 3) throw new UserError(`--at ${text}: expected X,Y (or X,Y,PHI for a 3-DOF platform), for example --at 0,-450mm or --at "0 mm,-450 mm,10 deg"`);
@@ -161,13 +189,22 @@ export function buildCli(argv: readonly string[]): Argv {
     .command(
       'check <study>',
       'validate a study file and summarise it',
-      (y) => y.positional('study', { type: 'string', demandOption: true }).option('json', { type: 'boolean', default: false }),
+      (y) =>
+        y
+          .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the parsed study (SI units) as JSON' })
+          .example('$0 check studies/parcel-sorter.yaml', 'validate the demo study and summarise it'),
       (args) => {
         const loaded = loadStudyFile(args.study);
+        const problems = unreachableTaskProblems(loaded.study);
+        if (problems.length > 0) throw new StudyError(`${args.study}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
+        const mirror = mirrorLimitWarning(loaded.study);
+        if (mirror) warn(mirror.message);
+        const baseline = baselineVerdict(loaded.study);
         if (args.json) {
-          out(toJson({ ok: true, study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, designVariables: designVariables(loaded.study), constraints: constraintDefinitions(loaded.study) }));
+          out(toJson({ ok: true, study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, designVariables: designVariables(loaded.study), constraints: constraintDefinitions(loaded.study), baseline, warnings: mirror ? [mirror.message] : [] }));
         } else {
-          out(`${args.study}: valid\n\n${studySummary(loaded.study)}`);
+          out(`${args.study}: valid\n\n${studySummary(loaded.study)}\n\n${baseline.text}`);
         }
       },
     )
@@ -184,8 +221,9 @@ export function buildCli(argv: readonly string[]): Argv {
         checkOverrides(loaded.study, asStrings(args.set));
         const { report, warnings } = evaluateDesign(loaded.study, asStrings(args.set));
         warnings.forEach(warn);
+        const unassembled = taskPointFailures(loaded.study, asStrings(args.set));
         if (args.json) {
-          out(toJson(report));
+          out(toJson({ ...report, taskPoints: { checked: unassembled.checked, failed: unassembled.failed.length, points: unassembled.failed } }));
           return;
         }
         const study = loaded.study;
@@ -198,6 +236,7 @@ export function buildCli(argv: readonly string[]): Argv {
           lines.push('', table(['constraint', 'value', 'min', 'max', 'margin', 'ok'], shown.map((c) => [c.name, formatMetric(c.metric, c.value, actuators), formatMetric(c.metric, c.min, actuators), formatMetric(c.metric, c.max, actuators), c.margin.toFixed(3), c.satisfied ? 'yes' : 'NO'])));
         }
         lines.push('', report.feasible ? 'feasible: every constraint holds' : `NOT feasible: total normalised violation ${report.violation.toPrecision(3)}`);
+        if (unassembled.failed.length > 0) lines.push('', unassembledText(unassembled));
         out(lines.join('\n'));
       },
     )

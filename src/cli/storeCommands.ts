@@ -16,7 +16,8 @@ import type { Study } from '../study/types.js';
 import type { QuantityKind } from '../study/units.js';
 import { betterDirection, chooseColumns, csvHeader, describeColumn, displayCell, emptyColumns, parseSort, sortRows } from './columns.js';
 import { commandLine, programName, resumableCommand } from './invocation.js';
-import { loadStudyFile, parseStudyText } from '../study/parse.js';
+import { loadStudyFile, parseStudyText, StudyError } from '../study/parse.js';
+import { unreachableTaskProblems } from '../study/plausibility.js';
 import { studyActuators, table, toJson, variableKind } from './format.js';
 import { integerOption, positiveInteger } from './argChecks.js';
 
@@ -104,6 +105,8 @@ export function registerStoreCommands(cli: Argv): Argv {
           .example('$0 run studies/parcel-sorter.yaml --db trial.db --generations 10 --seed 3', 'a short trial run with another seed'),
       async (args) => {
         const loaded = loadStudyFile(args.study);
+        const problems = unreachableTaskProblems(loaded.study);
+        if (problems.length > 0) throw new StudyError(`${args.study}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
         const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
         const existed = existsSync(dbPath);
         const interrupt = interruptFlag(args.quiet);

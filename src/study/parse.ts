@@ -13,7 +13,7 @@ import { metricInfo, metricKind, metricUnavailable } from '../mechanics/metrics.
 import { ARCHITECTURES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../mechanics/dutyCycle.js';
-import { parseQuantity, UnitError, type QuantityKind } from './units.js';
+import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
   ARCHITECTURE_PREFIX,
@@ -726,7 +726,15 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     if (spec.kind !== 'variable') {
       throw new StudyError(`${where}: "${name}" is not a design variable in this study (it is ${spec.kind}); remove it from the baseline`);
     }
-    out[name] = q(value, info.kind === 'angle' ? 'angle' : 'length', where);
+    const kind = info.kind === 'angle' ? 'angle' : 'length';
+    const v = q(value, kind, where);
+    const tolerance = 1e-12 * Math.max(1, Math.abs(spec.min), Math.abs(spec.max));
+    if (v < spec.min - tolerance || v > spec.max + tolerance) {
+      throw new StudyError(
+        `${where}: ${formatQuantity(v, kind)} lies outside the bounds ${formatQuantity(spec.min, kind)} … ${formatQuantity(spec.max, kind)} of geometry.${name}; move the baseline inside them or widen the bounds`,
+      );
+    }
+    out[name] = v;
   }
   return out;
 }

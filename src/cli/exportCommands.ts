@@ -32,7 +32,9 @@ export function registerExportCommands(cli: Argv): Argv {
         .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run whose front (--front) or study and provenance (--ids) to use' })
         .option('format', { choices: EXPORT_FORMATS, demandOption: true, describe: 'json: one sheet per design; csv: one table; mjcf: one MuJoCo model per design' })
         .option('out', { type: 'string', demandOption: true, describe: 'output folder (created when missing)' })
-        .conflicts('front', 'ids'),
+        .conflicts('front', 'ids')
+        .example('$0 export results/parcel-sorter.db --front --format csv --out results/front', 'the front as one CSV table')
+        .example('$0 export results/parcel-sorter.db --ids 12,40 --format mjcf --out results/mjcf', 'MuJoCo models of two designs'),
     (args) => {
       if (args.front !== true && args.ids === undefined) throw new ExportError('nothing selected: give --front or --ids ID,...');
       const ids = args.ids !== undefined ? parseIdList(args.ids) : undefined;

@@ -179,7 +179,11 @@ export function buildCli(argv: readonly string[]): Argv {
     .command(
       'new <file>',
       'write a commented study template',
-      (y) => y.positional('file', { type: 'string', demandOption: true }).option('force', { type: 'boolean', default: false, describe: 'overwrite an existing file' }),
+      (y) =>
+        y
+          .positional('file', { type: 'string', demandOption: true, describe: 'study file to write (YAML)' })
+          .option('force', { type: 'boolean', default: false, describe: 'overwrite an existing file' })
+          .example('$0 new studies/my-arm.yaml', 'a commented template to edit, then check'),
       (args) => {
         if (existsSync(args.file) && !args.force) throw new UserError(`${args.file} exists; use --force to overwrite`);
         writeFileSync(args.file, STUDY_TEMPLATE.replace('https://loopsmith.invalid/schema/study.schema.json', schemaPath()));
@@ -214,8 +218,9 @@ export function buildCli(argv: readonly string[]): Argv {
       (y) =>
         y
           .positional('study', { type: 'string', demandOption: true })
-          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
-          .option('json', { type: 'boolean', default: false }),
+          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-); a bare number is metres or radians' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the report as JSON (SI units, stable keys)' })
+          .example('$0 evaluate studies/parcel-sorter.yaml --set crank_1=250mm --set rod_1=480mm', 'the baseline with two lengths changed'),
       (args) => {
         const loaded = loadStudyFile(args.study);
         checkOverrides(loaded.study, asStrings(args.set));
@@ -247,8 +252,9 @@ export function buildCli(argv: readonly string[]): Argv {
         y
           .positional('study', { type: 'string', demandOption: true })
           .option('at', { type: 'string', demandOption: true, describe: 'end point X,Y, or X,Y,PHI for a 3-DOF platform (units allowed, e.g. 0,-450mm or 0,0.1,10deg)' })
-          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE' })
-          .option('json', { type: 'boolean', default: false }),
+          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm)' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the report as JSON (SI units)' })
+          .example('$0 probe studies/parcel-sorter.yaml --at -200mm,-525mm', 'joint angles, Jacobian, torques and stiffness at one point'),
       (args) => {
         const loaded = loadStudyFile(args.study);
         checkOverrides(loaded.study, asStrings(args.set));

@@ -38,6 +38,7 @@ export function registerReportCommands(cli: Argv): Argv {
           .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
           .option('out', { type: 'string', demandOption: true, describe: 'output file, .svg or .png' })
           .option('cells', { type: 'number', describe: 'grid cells across the reachable box (default: the study\'s evaluation.grid_cells, at least 120)' })
+          .example('$0 map studies/parcel-sorter.yaml --set crank_1=250mm --out results/map.svg', 'the workspace of one design')
           .check((args) => {
             const ext = extname(args.out).toLowerCase();
             if (ext !== '.svg' && ext !== '.png') throw new UsageError(`--out ${args.out}: the file name must end in .svg or .png (for example --out map.svg)`);
@@ -70,7 +71,8 @@ export function registerReportCommands(cli: Argv): Argv {
         y
           .positional('db', { type: 'string', demandOption: true })
           .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run id (default: the latest optimization or sweep)' })
-          .option('out', { type: 'string', demandOption: true, describe: 'output folder (index.html is written there)' }),
+          .option('out', { type: 'string', demandOption: true, describe: 'output folder (index.html is written there)' })
+          .example('$0 report results/parcel-sorter.db --out results/parcel-sorter-report', 'an HTML report of the latest finished run'),
       async (args) => {
         if (!existsSync(args.db)) throw new ReportUsageError(`${args.db}: no such database (run a study first: loopsmith run STUDY)`);
         const written = await writeReport(args.db, args.run, args.out);

@@ -80,7 +80,8 @@ export function registerSimulateCommands(cli: Argv): Argv {
         .option('friction', { type: 'boolean', default: true, describe: 'include the study\'s joint friction (--no-friction to leave it out)' })
         .option('interval', { type: 'string', describe: 'spacing of the recorded samples (default 1 ms)' })
         .option('out', { type: 'string', describe: 'folder for the charts (SVG and PNG), timeseries.csv and summary.json' })
-        .option('json', { type: 'boolean', default: false, describe: 'print the summary as JSON' }),
+        .option('json', { type: 'boolean', default: false, describe: 'print the summary as JSON' })
+        .example('$0 simulate studies/parcel-sorter-cycle.yaml --extra-payload 0.2kg --out results/sim', 'track the duty cycle with an unmodelled payload'),
     async (args) => {
       const loaded = loadStudyFile(args.study);
       const duration = optionQuantity(args.duration, 'time', '--duration');

@@ -143,13 +143,14 @@ export function registerStoreCommands(cli: Argv): Argv {
       'evaluate a space-filling sample of the design space into SQLite',
       (y) =>
         y
-          .positional('study', { type: 'string', demandOption: true })
-          .option('samples', { type: 'number', demandOption: true, coerce: positiveInt('samples') })
-          .option('method', { choices: ['lhs', 'grid'] as const, default: 'lhs' as const })
-          .option('db', { type: 'string' })
+          .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
+          .option('samples', { type: 'number', demandOption: true, coerce: positiveInt('samples'), describe: 'number of designs to evaluate' })
+          .option('method', { choices: ['lhs', 'grid'] as const, default: 'lhs' as const, describe: 'lhs: Latin hypercube; grid: a full factorial grid of about that many points' })
+          .option('db', { type: 'string', describe: 'database file (default results/<study>.db)' })
           .option('seed', { type: 'string', describe: 'random seed of the sample, a whole number (default: the study\'s optimizer.seed)', coerce: integerOption('seed') })
-          .option('workers', { type: 'number', coerce: positiveInt('workers') })
-          .option('quiet', { type: 'boolean', default: false }),
+          .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
+          .option('quiet', { type: 'boolean', default: false, describe: 'no progress and no summary' })
+          .example('$0 sweep studies/parcel-sorter.yaml --samples 2000', 'a design atlas of 2000 Latin-hypercube designs'),
       async (args) => {
         const loaded = loadStudyFile(args.study);
         const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
@@ -178,12 +179,13 @@ export function registerStoreCommands(cli: Argv): Argv {
       'rescore the designs of a run under a changed study (drives, margins, constraints, objectives)',
       (y) =>
         y
-          .positional('db', { type: 'string', demandOption: true })
+          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
           .option('study', { type: 'string', demandOption: true, describe: 'the changed study file' })
           .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run to rescore (default: the latest)' })
-          .option('workers', { type: 'number', coerce: positiveInt('workers') })
-          .option('json', { type: 'boolean', default: false })
-          .option('quiet', { type: 'boolean', default: false }),
+          .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the outcome as JSON' })
+          .option('quiet', { type: 'boolean', default: false, describe: 'no progress bar' })
+          .example('$0 rescore results/parcel-sorter.db --study studies/parcel-sorter-drives.yaml', 'the stored designs under other drives'),
       async (args) => {
         openExisting(args.db).close();
         const loaded = loadStudyFile(args.study);

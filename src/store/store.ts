@@ -409,6 +409,15 @@ function writableLocation(location: string): boolean {
   }
 }
 
+/**
+ * Names to open a database read-only by: the path itself, then the immutable URI that SQLite reads
+ * without its shared-memory file (for a folder where that file cannot be created).
+ */
+export function readOnlyNames(location: string): string[] {
+  const absolute = resolve(location);
+  return [absolute, `file:${encodeURI(absolute).replace(/\?/g, '%3F').replace(/#/g, '%23')}?immutable=1`];
+}
+
 /** Non-finite-safe number for a nullable REAL column: NaN is stored as NULL. */
 function nullableReal(value: number | null): number | null {
   return value === null || Number.isNaN(value) ? null : value;
@@ -556,9 +565,8 @@ export class Store {
    */
   private static openReadOnly(location: string, clock: () => Date): Store {
     if (!existsSync(location)) throw new StoreError(`${location}: no such database (run a study first: loopsmith run STUDY)`);
-    const attempts = [location, `file:${encodeURI(location).replace(/\?/g, '%3F').replace(/#/g, '%23')}?immutable=1`];
     let lastError: unknown;
-    for (const name of attempts) {
+    for (const name of readOnlyNames(location)) {
       let db: Database.Database | undefined;
       try {
         db = new Database(name, { readonly: true, fileMustExist: true, timeout: BUSY_TIMEOUT_MS });

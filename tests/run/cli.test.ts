@@ -90,8 +90,10 @@ describe('loopsmith query: read-only whatever the user types', () => {
     expect(csv.code, csv.stderr).toBe(0);
     // RFC 4180 records end with CRLF; no field of these rows needs quoting (error is NULL, i.e. empty).
     const lines = csv.stdout.split('\r\n').filter((line) => line !== '' && line !== '\n');
-    const header = lines[0]!.split(',');
+    // Headers carry the SI unit in brackets after the stored column name (m_bandwidth [Hz]).
+    const header = lines[0]!.split(',').map((h) => h.replace(/ \[[^\]]+\]$/, ''));
     expect(header).toEqual(Object.keys(rows[0]!));
+    expect(lines[0]).toContain('m_peak_gravity_torque [N*m]');
     expect(lines).toHaveLength(1 + limit);
     lines.slice(1).forEach((line, k) => {
       const fields = line.split(',');

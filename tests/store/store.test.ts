@@ -1,8 +1,8 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
-import { existsSync, mkdtempSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import {
   MIGRATIONS,
   SCHEMA_VERSION,
@@ -105,7 +105,7 @@ describe('schema creation and version', () => {
     expect(existsSync(path)).toBe(true);
     const db = rawConnection(path, { readonly: true });
     expect(db.pragma('user_version', { simple: true })).toBe(SCHEMA_VERSION);
-    expect(SCHEMA_VERSION).toBe(1);
+    expect(SCHEMA_VERSION).toBe(2);
     const names = (db.prepare("SELECT name, type FROM sqlite_schema WHERE name NOT LIKE 'sqlite_%' ORDER BY name").all() as {
       name: string;
       type: string;
@@ -179,11 +179,14 @@ describe('schema creation and version', () => {
   });
 
   it('applies numbered migrations in order, each in a transaction, and refuses a gap', () => {
-    expect(MIGRATIONS).toEqual([]); // version 1 is the first schema
+    expect(MIGRATIONS.map((m) => m.from)).toEqual([1]); // 1 → 2: run-ownership lock
     const path = tempDbPath();
-    openStore(path).close();
+    mkdirSync(dirname(path), { recursive: true });
     const db = rawConnection(path);
     db.pragma('foreign_keys = ON');
+    // A version-1 file, as the first released schema.sql made it.
+    migrate(db, { targetVersion: 1, migrations: [], schemaSql: readSchemaSql().replace(/\n  -- version 2:[^]*?command {10}TEXT NULL[^\n]*\n/, '\n').replace('message          TEXT NULL,', 'message          TEXT NULL').replace('PRAGMA user_version = 2;', 'PRAGMA user_version = 1;') });
+    expect(db.pragma('user_version', { simple: true })).toBe(1);
 
     // A failing step rolls back and leaves the version alone.
     const failing = [
@@ -208,7 +211,27 @@ describe('schema creation and version', () => {
     expect((db.prepare("SELECT COUNT(*) AS n FROM pragma_table_info('runs') WHERE name = 'note'").get() as { n: number }).n).toBe(1);
 
     expect(() => migrate(db, { targetVersion: 3, migrations: working })).toThrow(/no migration from it/);
-    expect(() => migrate(db)).toThrow(SchemaVersionError); // version 2 is newer than this code
+    expect(() => migrate(db, { targetVersion: 1 })).toThrow(SchemaVersionError); // version 2 is newer than that code
+  });
+
+  it('upgrades a version-1 store to version 2 keeping its runs, and the new columns are those of schema.sql', () => {
+    const path = tempDbPath();
+    mkdirSync(dirname(path), { recursive: true });
+    const db = rawConnection(path);
+    const v1Sql = readSchemaSql().replace(/\n  -- version 2:[^]*?command {10}TEXT NULL[^\n]*\n/, '\n').replace('message          TEXT NULL,', 'message          TEXT NULL').replace('PRAGMA user_version = 2;', 'PRAGMA user_version = 1;');
+    migrate(db, { targetVersion: 1, migrations: [], schemaSql: v1Sql });
+    db.prepare("INSERT INTO studies (name, architecture, file_text, file_hash, settings_hash, created_at) VALUES ('s', 'five-bar', 't', 'h', 'x', 'now')").run();
+    db.prepare("INSERT INTO runs (study_id, kind, seed, settings_json, status, workers, started_at) VALUES (1, 'optimize', 7, '{}', 'running', 1, 'now')").run();
+    expect(db.prepare("SELECT COUNT(*) AS n FROM pragma_table_info('runs') WHERE name = 'owner_pid'").get()).toEqual({ n: 0 });
+    db.close();
+    const store = Store.open(path);
+    const run = store.getRun(1)!;
+    expect(run).toMatchObject({ status: 'running', ownerPid: null, command: null });
+    store.close();
+    const fresh = tempDbPath();
+    openStore(fresh).close();
+    const columns = (file: string) => rawConnection(file).prepare<[], { name: string; type: string }>("SELECT name, type FROM pragma_table_info('runs') ORDER BY cid").all();
+    expect(columns(path)).toEqual(columns(fresh));
   });
 });
 

@@ -13,7 +13,7 @@ import { runInProcess } from './inProcess.js';
 beforeAll(assertBuilt);
 afterAll(removeTemporaryDirectories);
 
-const DEMOS = ['parcel-sorter.yaml', 'platform-3rrr.yaml', 'rail-sorter-2prr.yaml'].map((name) => join(REPO_ROOT, 'studies', name));
+const DEMOS = ['parcel-sorter.yaml', 'rail-sorter-2prr.yaml'].map((name) => join(REPO_ROOT, 'studies', name));
 
 interface StudyMutation {
   readonly name: string;
@@ -192,7 +192,8 @@ describe('generated bad study files and command lines', () => {
     expect(cases.length + COMMAND_LINES.length + STORE_COMMAND_LINES.length).toBeGreaterThanOrEqual(60);
   });
 
-  it('every mutated study is refused with one message and leaves nothing behind', async () => {
+  // Long only on a loaded machine (in-process, a case takes milliseconds to a second); no wall-time assertion.
+  it('every mutated study is refused with one message and leaves nothing behind', { timeout: 900_000 }, async () => {
     for (const c of cases) {
       const dir = makeTemporaryDirectory('fuzz');
       const db = join(dir, 'out.db');
@@ -202,7 +203,7 @@ describe('generated bad study files and command lines', () => {
     }
   });
 
-  it('every malformed command line is refused with one message and leaves nothing behind', async () => {
+  it('every malformed command line is refused with one message and leaves nothing behind', { timeout: 900_000 }, async () => {
     for (const [label, make] of COMMAND_LINES) {
       const dir = makeTemporaryDirectory('fuzz-cli');
       const db = join(dir, 'out.db');

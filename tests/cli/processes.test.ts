@@ -141,7 +141,7 @@ describe('a killed run', () => {
 });
 
 describe('a store in a read-only folder', () => {
-  it('is read by an unprivileged user with front, query, runs and report', async (context) => {
+  it('is read by an unprivileged user with front, query, runs and report', { timeout: 900_000 }, async (context) => {
     const probe = spawnSync('runuser', ['-u', 'nobody', '--', process.execPath, '--version'], { encoding: 'utf8' });
     if (process.getuid?.() !== 0 || probe.status !== 0) {
       console.log(`skipped: needs root and runuser to act as user nobody (${probe.error?.message ?? probe.stderr ?? 'not root'})`);

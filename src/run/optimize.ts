@@ -104,7 +104,16 @@ function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
 function widenFrame(frame: HypervolumeFrame | null, points: readonly number[][]): HypervolumeFrame | null {
   const finite = points.map((p) => p.map((v) => (v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v)));
   const all = frame ? [frame.ideal, frame.nadir, ...finite] : finite;
-  return frameFrom(all) ?? frame;
+  if (all.length === 0) return null;
+  // Bounds of every front point so far, kept even before they spread in every objective.
+  const ideal = all[0]!.map((_, k) => Math.min(...all.map((p) => p[k]!)));
+  const nadir = all[0]!.map((_, k) => Math.max(...all.map((p) => p[k]!)));
+  return { ideal, nadir };
+}
+
+/** A frame that spreads in every objective (a hypervolume can be given in it). */
+function spreadFrame(frame: HypervolumeFrame | null): HypervolumeFrame | null {
+  return frame && frame.ideal.every((v, k) => frame.nadir[k]! > v) ? frame : null;
 }
 
 /**
@@ -241,9 +250,10 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
         const feasibleCount = members.filter((m) => isFeasible(m.evaluation)).length;
         // The frame grows with every generation's front, so the figure shown during the run is in the
-      // same normalisation as the record rewritten at the end (equal to it at the last generation).
-      frame = widenFrame(frame, feasibleFront);
-        const hv = frame ? frameHypervolume(feasibleFront, frame) : null;
+        // same normalisation as the record rewritten at the end (equal to it at the last generation).
+        frame = widenFrame(frame, feasibleFront);
+        const spread = spreadFrame(frame);
+        const hv = spread ? frameHypervolume(feasibleFront, spread) : null;
         const elapsed = (performance.now() - genStart) / 1000;
         const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
         const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame };

@@ -164,3 +164,23 @@ describe('a run that finds no feasible design says why', () => {
     expect(result.stderr).toMatch(/bandwidth\s+\d+ of \d+\s+\d/);
   });
 });
+
+describe('numbers that agree', () => {
+  it("the run's progress line, its summary and the stored record (what the report plots) give the same hypervolume and counts", async () => {
+    const dir = makeTemporaryDirectory('numbers');
+    const db = join(dir, 'n.db');
+    const result = await runCli(runArgs(SMALL_STUDY, db, { generations: 4, workers: 1, population: 8, quiet: false }));
+    expect(result.code, result.stderr).toBe(0);
+    const progressHv = [...result.stderr.matchAll(/HV ([\d.]+)/g)].map((m) => Number(m[1])).at(-1);
+    const summaryHv = Number(/hypervolume ([\d.]+) \(normalised, as in the report\)/.exec(result.stdout)?.[1]);
+    const { readDatabase } = await import('../fixtures/harness.js');
+    const stats = readDatabase(db, (d) => d.prepare<[], { hypervolume: number; evaluations: number }>('SELECT hypervolume, evaluations FROM generation_stats ORDER BY generation').all());
+    const recorded = stats.at(-1)!.hypervolume;
+    expect(progressHv).toBeCloseTo(recorded, 4);
+    expect(summaryHv).toBeCloseTo(recorded, 4);
+    const asked = stats.reduce((n, s) => n + s.evaluations, 0);
+    expect(result.stdout).toContain(`${asked} designs asked for`);
+    // No time estimate before the pace is known (the first generation carries the start-up).
+    expect(result.stderr).toMatch(/generation 1\/4: .* left —/);
+  });
+});

@@ -56,8 +56,13 @@ export { svgToPng, renderVegaLiteSvg } from './report/render.js';
 // Forward simulation along a duty cycle
 export * as simulation from './simulate/index.js';
 
-// Other architectures
-export { ARCHITECTURES } from './architectures/index.js';
-export type { PlanarArchitecture, ArchitectureName } from './architectures/types.js';
+// Architectures (the one registry and the leg layer)
+export { ARCHITECTURES, ARCHITECTURE_NAMES } from './architectures/index.js';
+export type { PlanarArchitecture, ArchitectureName, ArchitecturePose, LeggedModel, LegKind } from './architectures/index.js';
+export { sampleWorkspace, type WorkspaceSample } from './mechanics/workspace.js';
+export { usabilityMargin } from './mechanics/usability.js';
+export { probeArchitecturePose, type ArchitecturePoseReport } from './mechanics/probe.js';
+export { probeArchitectureDesign } from './api/design.js';
+export { LoopsmithUserError } from './core/errors.js';
 export { candidateExport } from './export/candidateArchitecture.js';
 export { renderArchitectureMap } from './report/architectureMap.js';

@@ -9,7 +9,7 @@ import { probeArchitecturePose, probePose, type ArchitecturePoseReport, type Pos
 import { ARCHITECTURES } from '../architectures/index.js';
 import { parseQuantity, UnitError } from '../study/units.js';
 import type { Study } from '../study/types.js';
-import { WORKING_MODES } from '../mechanics/fivebar.js';
+import { WORKING_MODES } from '../core/pose.js';
 
 export interface DesignChoice {
   /** The study, with fixed parameters replaced where an override named one. */
@@ -150,13 +150,12 @@ export function evaluateDesign(study: Study, overrides: readonly string[] = []):
   return { report: evaluationReport(evaluator, choice, result), warnings: choice.warnings };
 }
 
-/** Everything about one pose of one five-bar design (the five-bar engine's own report). */
+/** Everything about one pose of one five-bar design, in the five-bar's report shape (a view of the one probe). */
 export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
-  const resolved = evaluator.resolve(choice.design);
-  const model = evaluator.model(choice.design);
-  return { report: { design: choice.values, ...probePose(choice.study, model, x, y, resolved.drives) }, warnings: choice.warnings };
+  const d = evaluator.architectureDesign(choice.design);
+  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives) }, warnings: choice.warnings };
 }
 
 /**

@@ -16,7 +16,7 @@
  * (E the +90° rotation) gives A rows [u_iᵀ, cross(R(φ) b_i, u_i)] and B = diag(p_i s_i) with
  * s_i = cross(e(θ_i), u_i) (revolute) or diag(s_i) with s_i = u_i·e_r,i (prismatic).
  */
-import { jointRangeMargin } from '../mechanics/fivebar.js';
+import { strokeMargin } from '../core/pose.js';
 import {
   determinant,
   generalizedEigenvalues,
@@ -27,6 +27,11 @@ import {
   solveInPlace,
   symmetricEigenvalues,
 } from './dense.js';
+import { generalizedEigen2, inverseCondition2, maxSingularValue2, minEigenSymmetric2 } from './linalg2.js';
+import { addBody, VBX, VBY, VX, VY, W } from './legs/bodies.js';
+import { crankRod } from './legs/crankRod.js';
+import { sliderRod } from './legs/sliderRod.js';
+import type { LegGeometry, LegKind, LegModelView } from './legs/types.js';
 import {
   ArchitecturePose,
   PoseStatus,
@@ -36,22 +41,26 @@ import {
   type ArchitectureName,
   type DriveAtJoint,
   type JointRange,
-  type LinkSection,
   type ModelInput,
   type PlaneBox,
 } from './types.js';
 
+export type { LegGeometry, LegKind } from './legs/types.js';
+export { strokeMargin };
+
 /** Immutable model of a leg-based architecture. Arrays have one entry per leg. */
-export interface LeggedModel extends ArchitectureModelBase {
-  /** Base point: pivot A_i (revolute) or rail origin O_i (prismatic), m. */
+export interface LeggedModel extends ArchitectureModelBase, LegModelView {
+  /** Leg kind per leg (crank + rod, slider + rod, strut). */
+  readonly legs: readonly LegKind[];
+  /** Base point: pivot A_i (crank, strut) or rail origin O_i (slider), m. */
   readonly baseX: readonly number[];
   readonly baseY: readonly number[];
-  /** Rail unit direction e_r,i (prismatic legs; (1, 0) and unused for revolute legs). */
+  /** Rail unit direction e_r,i (slider legs; (1, 0) and unused for the others). */
   readonly railX: readonly number[];
   readonly railY: readonly number[];
-  /** Crank length p_i, m (0 for prismatic legs). */
+  /** Crank length p_i, m (0 for other legs). */
   readonly crank: readonly number[];
-  /** Rod length d_i, m. */
+  /** Rod length d_i, m (strut: the retracted length, the length of its housing and of its tube). */
   readonly rod: readonly number[];
   /** Distal pin b_i in the platform frame, m (all 0 for 2-DOF). */
   readonly platformX: readonly number[];
@@ -62,11 +71,13 @@ export interface LeggedModel extends ArchitectureModelBase {
   readonly jointLimits: readonly (JointRange | null)[];
 
   // --- inertia ---
-  /** Revolute: crank with elbow hub, inertia about the pivot, kg·m². Prismatic: slider mass, kg. */
+  /** Mass of the actuated body (crank with elbow hub, slider carriage, strut housing), kg. */
+  readonly proximalMass: readonly number[];
+  /** Crank with elbow hub: inertia about the pivot, kg·m². Slider: its mass, kg. Strut housing: inertia about its base pivot, kg·m². */
   readonly proximalInertia: readonly number[];
-  /** Revolute: first moment of crank with hub about the pivot, kg·m. Prismatic: slider mass, kg. */
+  /** Crank with hub: first moment about the pivot, kg·m. Slider: its mass, kg. Strut housing: first moment about its pivot, kg·m. */
   readonly proximalFirstMoment: readonly number[];
-  /** Rod mass (kg), centre-of-mass distance from the proximal joint along the rod (m), inertia about the centre of mass (kg·m²). */
+  /** Rod (strut: tube) mass (kg), centre-of-mass distance (m; from the proximal joint for rods, from B_i for a strut tube), inertia about the centre of mass (kg·m²). */
   readonly rodMass: readonly number[];
   readonly rodComDistance: readonly number[];
   readonly rodInertiaAboutCom: readonly number[];
@@ -80,29 +91,21 @@ export interface LeggedModel extends ArchitectureModelBase {
   readonly reflectedInertia: readonly number[];
   readonly gravity: readonly [number, number];
 
-  // --- leg compliance along the rod: c_i = s_i² transverse + (1 − s_i²) proximalAxial + rodAxial ---
-  /** Revolute: p²/k + p³/(3 E I) (drive and crank bending), m/N. Prismatic: 1/k along the rail, m/N. */
+  // --- leg compliance along the line of action: c_i = s_i² transverse + (1 − s_i²) proximalAxial + rodAxial ---
+  /** Crank: p²/k + p³/(3 E I) (drive and crank bending), m/N. Slider, strut: 1/k of the drive, m/N. */
   readonly complianceTransverse: readonly number[];
-  /** Revolute: p/(E A) of the crank, m/N. Prismatic: 0 (the rail is rigid across itself). */
+  /** Crank: p/(E A) of the crank, m/N. Slider, strut: 0. */
   readonly complianceProximalAxial: readonly number[];
-  /** d/(E A) of the rod, m/N. */
+  /** d/(E A) of the rod (strut: of its tube), m/N. */
   readonly complianceRodAxial: readonly number[];
 
   /** Moving mass (payload excluded), kg. */
   readonly movingMass: number;
 }
 
-/** Leg geometry an architecture derives from its parameters. */
-export interface LegGeometry {
-  readonly actuator: ActuatorKind;
-  readonly base: readonly [number, number];
-  /** Rail angle from the x axis, rad (prismatic only). */
-  readonly railAngle?: number;
-  /** Crank length, m (revolute only). */
-  readonly crank?: number;
-  readonly rod: number;
-  /** Distal pin in the platform frame, m (3-DOF). */
-  readonly platformPin?: readonly [number, number];
+/** The leg kind of a leg geometry: its own, else the crank + rod or slider + rod leg of its actuator. */
+export function legKindOf(leg: LegGeometry): LegKind {
+  return leg.leg ?? (leg.actuator === 'revolute' ? crankRod : sliderRod);
 }
 
 /** Builds a LeggedModel from leg geometry plus the masses, sections and drives of the input. */
@@ -117,40 +120,23 @@ export function buildLeggedModel(
   const drives: readonly DriveAtJoint[] | null = input.drives;
   if (drives && drives.length !== dof) throw new Error(`${architecture}: ${dof} drives expected`);
   if (input.rods.length !== dof) throw new Error(`${architecture}: ${dof} rod sections expected`);
-  const hub = input.elbowHubMass ?? 0;
-  const slider = input.sliderMass ?? 0;
-  const proximalInertia: number[] = [];
-  const proximalFirstMoment: number[] = [];
-  const rodMass: number[] = [];
-  const complianceTransverse: number[] = [];
-  const complianceProximalAxial: number[] = [];
-  const complianceRodAxial: number[] = [];
+  const kinds = legs.map(legKindOf);
+  const jointLimits = input.jointLimits ?? legs.map(() => null);
+  const lumped = legs.map((leg, i) =>
+    kinds[i]!.lump(leg, {
+      crankSection: input.cranks?.[i] ?? RIGID_MASSLESS,
+      rodSection: input.rods[i]!,
+      elbowHubMass: input.elbowHubMass ?? 0,
+      sliderMass: input.sliderMass ?? 0,
+      drive: drives ? drives[i]! : null,
+      jointLimit: jointLimits[i] ?? null,
+    }),
+  );
   let movingMass = 0;
-  legs.forEach((leg, i) => {
-    const rodSection = input.rods[i]!;
-    const stiffness = drives ? drives[i]!.jointStiffness : Infinity;
-    const mRod = rodSection.massPerLength * leg.rod;
-    rodMass.push(mRod);
-    complianceRodAxial.push(leg.rod / (rodSection.youngsModulus * rodSection.area));
-    movingMass += mRod;
-    if (leg.actuator === 'revolute') {
-      const p = leg.crank ?? 0;
-      const section: LinkSection = input.cranks?.[i] ?? RIGID_MASSLESS;
-      const mCrank = section.massPerLength * p;
-      // Uniform bar about one end (m p²/3, first moment m p/2) plus the elbow hub at distance p.
-      proximalInertia.push((mCrank * p * p) / 3 + hub * p * p);
-      proximalFirstMoment.push((mCrank * p) / 2 + hub * p);
-      complianceTransverse.push((p * p) / stiffness + (p * p * p) / (3 * section.youngsModulus * section.secondMoment));
-      complianceProximalAxial.push(p / (section.youngsModulus * section.area));
-      movingMass += mCrank + hub;
-    } else {
-      proximalInertia.push(slider);
-      proximalFirstMoment.push(slider);
-      complianceTransverse.push(1 / stiffness);
-      complianceProximalAxial.push(0);
-      movingMass += slider;
-    }
-  });
+  for (const l of lumped) {
+    movingMass += l.rodMass;
+    movingMass += l.proximalMass;
+  }
   const platformMass = dof === 3 ? (input.platform?.mass ?? 0) : (input.endHubMass ?? 0);
   movingMass += platformMass;
   const pinX = legs.map((l) => l.platformPin?.[0] ?? 0);
@@ -158,10 +144,12 @@ export function buildLeggedModel(
   const circumradius = Math.max(...pinX.map((x, i) => Math.hypot(x, pinY[i]!)));
   const characteristicLength = dof === 2 ? 1 : (input.characteristicLength ?? circumradius);
   if (!(characteristicLength > 0)) throw new Error(`${architecture}: characteristic length must be positive`);
+  const field = <K extends keyof (typeof lumped)[number]>(key: K): number[] => lumped.map((l) => l[key]);
   return {
     architecture,
     dof,
-    actuators: legs.map((l) => l.actuator),
+    legs: kinds,
+    actuators: kinds.map((k): ActuatorKind => k.actuator),
     assembly: input.assembly,
     characteristicLength,
     drives,
@@ -169,33 +157,28 @@ export function buildLeggedModel(
     baseY: legs.map((l) => l.base[1]),
     railX: legs.map((l) => Math.cos(l.railAngle ?? 0)),
     railY: legs.map((l) => Math.sin(l.railAngle ?? 0)),
-    crank: legs.map((l) => (l.actuator === 'revolute' ? (l.crank ?? 0) : 0)),
-    rod: legs.map((l) => l.rod),
+    crank: field('crank'),
+    rod: field('rod'),
     platformX: pinX,
     platformY: pinY,
     sigma,
-    jointLimits: input.jointLimits ?? legs.map(() => null),
-    proximalInertia,
-    proximalFirstMoment,
-    rodMass,
-    rodComDistance: legs.map((l) => l.rod / 2),
-    rodInertiaAboutCom: legs.map((l, i) => (rodMass[i]! * l.rod * l.rod) / 12),
+    jointLimits,
+    proximalMass: field('proximalMass'),
+    proximalInertia: field('proximalInertia'),
+    proximalFirstMoment: field('proximalFirstMoment'),
+    rodMass: field('rodMass'),
+    rodComDistance: field('rodComDistance'),
+    rodInertiaAboutCom: field('rodInertiaAboutCom'),
     platformMass,
     platformInertia: dof === 3 ? (input.platform?.inertiaAboutCentre ?? 0) : 0,
     payloadMass: input.payloadMass,
     reflectedInertia: legs.map((_, i) => (drives ? drives[i]!.reflectedInertia : 0)),
     gravity: input.gravity,
-    complianceTransverse,
-    complianceProximalAxial,
-    complianceRodAxial,
+    complianceTransverse: field('complianceTransverse'),
+    complianceProximalAxial: field('complianceProximalAxial'),
+    complianceRodAxial: field('complianceRodAxial'),
     movingMass,
   };
-}
-
-/** Signed margin of a slider position q (m) inside its stroke; +∞ when unlimited. */
-export function strokeMargin(q: number, range: JointRange | null): number {
-  if (range === null) return Infinity;
-  return Math.min(q - range.min, range.max - q);
 }
 
 /** Inverse kinematics and velocity matrices; fills pose and returns its status. */
@@ -211,8 +194,7 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
   let joint = Infinity;
   let reachable = true;
   const A = pose.A;
-  const B = pose.B;
-  B.fill(0);
+  pose.B.fill(0);
   for (let i = 0; i < n; i++) {
     // r_i = R(φ) b_i; B_i = P + r_i.
     const bx = model.platformX[i]!;
@@ -223,76 +205,15 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
     const distalY = y + ry;
     pose.distalJoint[2 * i] = distalX;
     pose.distalJoint[2 * i + 1] = distalY;
-    const d = model.rod[i]!;
-    let proxX: number;
-    let proxY: number;
-    let dirX: number;
-    let dirY: number;
-    if (model.actuators[i] === 'revolute') {
-      const p = model.crank[i]!;
-      const wx = distalX - model.baseX[i]!;
-      const wy = distalY - model.baseY[i]!;
-      const rho = Math.sqrt(wx * wx + wy * wy);
-      const margin = Math.min(rho - Math.abs(p - d), p + d - rho);
-      if (margin < reach) reach = margin;
-      if (margin < 0 || rho === 0) {
-        reachable = false;
-        continue;
-      }
-      let cosAlpha = (p * p + rho * rho - d * d) / (2 * p * rho);
-      cosAlpha = cosAlpha > 1 ? 1 : cosAlpha < -1 ? -1 : cosAlpha;
-      const sinAlpha = model.sigma[i]! * Math.sqrt(1 - cosAlpha * cosAlpha);
-      const nx = wx / rho;
-      const ny = wy / rho;
-      dirX = nx * cosAlpha - ny * sinAlpha;
-      dirY = ny * cosAlpha + nx * sinAlpha;
-      const theta = Math.atan2(dirY, dirX);
-      pose.q[i] = theta;
-      proxX = model.baseX[i]! + p * dirX;
-      proxY = model.baseY[i]! + p * dirY;
-      const m = jointRangeMargin(theta, model.jointLimits[i] ?? null);
-      if (m < joint) joint = m;
-    } else {
-      dirX = model.railX[i]!;
-      dirY = model.railY[i]!;
-      const wx = distalX - model.baseX[i]!;
-      const wy = distalY - model.baseY[i]!;
-      const offset = dirX * wy - dirY * wx; // cross(e_r, w): distance of B_i from the rail line
-      const margin = d - Math.abs(offset);
-      if (margin < reach) reach = margin;
-      if (margin < 0) {
-        reachable = false;
-        continue;
-      }
-      const q = wx * dirX + wy * dirY + model.sigma[i]! * Math.sqrt(Math.max(d * d - offset * offset, 0));
-      pose.q[i] = q;
-      proxX = model.baseX[i]! + q * dirX;
-      proxY = model.baseY[i]! + q * dirY;
-      const m = strokeMargin(q, model.jointLimits[i] ?? null);
-      if (m < joint) joint = m;
+    const m = model.legs[i]!.solve(model, i, distalX, distalY, pose);
+    const margin = pose.legReach[i]!;
+    if (margin < reach) reach = margin;
+    if (Number.isNaN(m)) {
+      reachable = false;
+      continue;
     }
-    pose.actuatorDirection[2 * i] = dirX;
-    pose.actuatorDirection[2 * i + 1] = dirY;
-    pose.proximalJoint[2 * i] = proxX;
-    pose.proximalJoint[2 * i + 1] = proxY;
-    const ux = (distalX - proxX) / d;
-    const uy = (distalY - proxY) / d;
-    pose.rodDirection[2 * i] = ux;
-    pose.rodDirection[2 * i + 1] = uy;
-    let legSine: number;
-    let bii: number;
-    if (model.actuators[i] === 'revolute') {
-      legSine = dirX * uy - dirY * ux;
-      bii = model.crank[i]! * legSine;
-    } else {
-      legSine = ux * dirX + uy * dirY;
-      bii = legSine;
-    }
-    pose.legSine[i] = legSine;
-    B[i * n + i] = bii;
-    A[i * n] = ux;
-    A[i * n + 1] = uy;
-    if (n === 3) A[i * n + 2] = rx * uy - ry * ux;
+    if (m < joint) joint = m;
+    if (n === 3) A[i * n + 2] = rx * pose.rodDirection[2 * i + 1]! - ry * pose.rodDirection[2 * i]!;
   }
   pose.reachMargin = reach;
   if (!reachable) {
@@ -309,7 +230,8 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
 
 /**
  * From A and B (already in pose): det A, J, J⁻¹, the homogenised pair, 1/κ(J_h) and the mechanism
- * sine. Exported for architectures that fill A and B themselves.
+ * sine. Exported for architectures that fill A and B themselves. Two legs use the 2×2 closed forms
+ * (src/architectures/linalg2.ts), whose rows are unit vectors: the mechanism sine is det A itself.
  */
 export function finishKinematics(model: ArchitectureModelBase, pose: ArchitecturePose): void {
   const n = model.dof;
@@ -323,6 +245,10 @@ export function finishKinematics(model: ArchitectureModelBase, pose: Architectur
       Jinv[i * n + k] = v;
       Jhinv[i * n + k] = k === 2 ? v / L : v;
     }
+  }
+  if (n === 2) {
+    finishKinematics2(pose);
+    return;
   }
   // J = A⁻¹B (NaN when det A = 0).
   const Ainv = work; // first n² entries
@@ -354,53 +280,37 @@ export function finishKinematics(model: ArchitectureModelBase, pose: Architectur
   pose.mechanismSine = rowProduct > 0 ? detHomogenised / rowProduct : 0;
 }
 
-/** Offsets into pose.work2 for the body velocity maps of poseDynamics. */
-const VX = 0;
-const VY = 3;
-const W = 6;
-const VBX = 9;
-const VBY = 12;
-
-/** Adds one body with centre-of-mass velocity map V (rows in work2[VX..], work2[VY..]) and angular map w. */
-function addBody(n: number, pose: ArchitecturePose, mass: number, inertia: number, gx: number, gy: number): void {
-  const v = pose.work2;
-  const D = pose.D;
-  for (let a = 0; a < n; a++) {
-    const vax = v[VX + a]!;
-    const vay = v[VY + a]!;
-    const wa = v[W + a]!;
-    for (let b = a; b < n; b++) {
-      D[a * n + b] = D[a * n + b]! + mass * (vax * v[VX + b]! + vay * v[VY + b]!) + inertia * wa * v[W + b]!;
-    }
-    pose.tauG[a] = pose.tauG[a]! - mass * (vax * gx + vay * gy);
-  }
+/** Two legs: det A = cross(u_1, u_2), J = A⁻¹B and 1/κ in closed form (J entries ±∞/NaN when det A = 0). */
+function finishKinematics2(pose: ArchitecturePose): void {
+  const { A, B, J, Jh } = pose;
+  const u1x = A[0]!;
+  const u1y = A[1]!;
+  const u2x = A[2]!;
+  const u2y = A[3]!;
+  const b1 = B[0]!;
+  const b2 = B[3]!;
+  const detA = u1x * u2y - u1y * u2x;
+  pose.detA = detA;
+  pose.mechanismSine = detA;
+  // 1/κ(J) = 1/κ(J⁻¹) = 1/κ of the matrix with rows b_2 u_1, b_1 u_2 (finite at every singularity).
+  pose.inverseCondition = inverseCondition2(b2 * u1x, b2 * u1y, b1 * u2x, b1 * u2y);
+  J[0] = (u2y * b1) / detA;
+  J[1] = (-u1y * b2) / detA;
+  J[2] = (-u2x * b1) / detA;
+  J[3] = (u1x * b2) / detA;
+  Jh.set(J);
 }
 
-/** Reduced dynamics, statics and stiffness at the pose last solved (body by body). */
+/** Reduced dynamics, statics and stiffness at the pose last solved (body by body; each leg kind adds its bodies). */
 export function leggedPoseDynamics(model: LeggedModel, pose: ArchitecturePose): void {
   const n = model.dof;
   const gx = model.gravity[0];
   const gy = model.gravity[1];
-  const { J, D, tauG, rodRate } = pose;
+  const { J, D, tauG } = pose;
   const v = pose.work2;
   D.fill(0);
   tauG.fill(0);
   for (let i = 0; i < n; i++) {
-    const ex = pose.actuatorDirection[2 * i]!;
-    const ey = pose.actuatorDirection[2 * i + 1]!;
-    const ux = pose.rodDirection[2 * i]!;
-    const uy = pose.rodDirection[2 * i + 1]!;
-    const d = model.rod[i]!;
-    const revolute = model.actuators[i] === 'revolute';
-    // Proximal joint velocity per unit q̇_i: p e⊥(θ_i) (revolute) or e_r (prismatic).
-    const p = model.crank[i]!;
-    const pvx = revolute ? -p * ey : ex;
-    const pvy = revolute ? p * ex : ey;
-    // Actuated body: crank about its pivot, or the translating slider.
-    D[i * n + i] = D[i * n + i]! + model.proximalInertia[i]! + model.reflectedInertia[i]!;
-    const unitDirX = revolute ? -ey : ex;
-    const unitDirY = revolute ? ex : ey;
-    tauG[i] = tauG[i]! - model.proximalFirstMoment[i]! * (unitDirX * gx + unitDirY * gy);
     // Distal pin velocity map V_B = J_xy + E r_i J_φ, r_i = B_i − P.
     const rx = pose.distalJoint[2 * i]! - pose.x;
     const ry = pose.distalJoint[2 * i + 1]! - pose.y;
@@ -414,22 +324,7 @@ export function leggedPoseDynamics(model: LeggedModel, pose: ArchitecturePose): 
       v[VBX + k] = vbx;
       v[VBY + k] = vby;
     }
-    // Rod rate β̇_i = cross(u_i, Ḃ_i − proximal velocity)/d_i.
-    const crossProximal = ux * pvy - uy * pvx;
-    for (let k = 0; k < n; k++) {
-      let w = ux * v[VBY + k]! - uy * v[VBX + k]!;
-      if (k === i) w -= crossProximal;
-      rodRate[i * n + k] = w / d;
-    }
-    // Rod centre of mass: proximal velocity + b u⊥ β̇ (u⊥ = (−u_y, u_x)).
-    const b = model.rodComDistance[i]!;
-    for (let k = 0; k < n; k++) {
-      const w = rodRate[i * n + k]!;
-      v[VX + k] = (k === i ? pvx : 0) - b * uy * w;
-      v[VY + k] = (k === i ? pvy : 0) + b * ux * w;
-      v[W + k] = w;
-    }
-    addBody(n, pose, model.rodMass[i]!, model.rodInertiaAboutCom[i]!, gx, gy);
+    model.legs[i]!.addBodies(model, i, pose, gx, gy);
   }
   // Platform (or end hub) and payload at P: V = J_xy, w = J_φ (3-DOF).
   for (let k = 0; k < n; k++) {
@@ -478,13 +373,14 @@ export function finishDynamics(model: LeggedModel, pose: ArchitecturePose): void
     pose.inertiaRowNorm[i] = Math.sqrt(s);
     pose.inverseJacobianRowNorm[i] = rowNorm(n, Jhinv, i);
   }
+  for (let i = 0; i < n; i++) pose.legCompliance[i] = model.legs[i]!.compliance(model, i, pose.legSine[i]!);
+  if (n === 2) {
+    finishDynamics2(pose);
+    return;
+  }
   singularValues(n, pose.Jh, work, t);
   pose.maxSingularValue = t[0]!;
-  // Leg compliances and K_x = Aᵀ diag(1/c) A.
-  for (let i = 0; i < n; i++) {
-    const s2 = pose.legSine[i]! ** 2;
-    pose.legCompliance[i] = s2 * model.complianceTransverse[i]! + (1 - s2) * model.complianceProximalAxial[i]! + model.complianceRodAxial[i]!;
-  }
+  // K_x = Aᵀ diag(1/c) A.
   for (let a = 0; a < n; a++) {
     for (let b = 0; b < n; b++) {
       let s = 0;
@@ -492,11 +388,7 @@ export function finishDynamics(model: LeggedModel, pose: ArchitecturePose): void
       Kx[a * n + b] = s;
     }
   }
-  if (n === 2) {
-    symmetricEigenvalues(2, Kx, work, t);
-    pose.minStiffness = t[0]!;
-    pose.rotationalStiffness = Number.NaN;
-  } else {
+  if (n === 3) {
     // Schur complements: translational K_tt − K_tφ K_φφ⁻¹ K_φt; rotational K_φφ − K_φt K_tt⁻¹ K_tφ.
     const k22 = Kx[8]!;
     const s11 = Kx[0]! - (Kx[2]! * Kx[6]!) / k22;
@@ -512,6 +404,10 @@ export function finishDynamics(model: LeggedModel, pose: ArchitecturePose): void
     const c1 = Kx[5]!;
     const quad = (a0 * (Kx[4]! * c0 - Kx[1]! * c1) + a1 * (-Kx[3]! * c0 + Kx[0]! * c1)) / detTT;
     pose.rotationalStiffness = k22 - quad;
+  } else {
+    symmetricEigenvalues(n, Kx, work, t);
+    pose.minStiffness = t[0]!;
+    pose.rotationalStiffness = Number.NaN;
   }
   if (generalizedEigenvalues(n, Kx, Mx, work, t)) {
     for (let i = 0; i < n; i++) pose.frequencies[i] = Math.sqrt(Math.max(t[i]!, 0)) / (2 * Math.PI);
@@ -520,18 +416,45 @@ export function finishDynamics(model: LeggedModel, pose: ArchitecturePose): void
   }
 }
 
+/** Two legs: σ_max(J), K_x = Σ_i u_i u_iᵀ / c_i, its smallest eigenvalue and the two frequencies in closed form. */
+function finishDynamics2(pose: ArchitecturePose): void {
+  const { A, J, Kx, Mx } = pose;
+  pose.maxSingularValue = maxSingularValue2(J[0]!, J[1]!, J[2]!, J[3]!);
+  const u1x = A[0]!;
+  const u1y = A[1]!;
+  const u2x = A[2]!;
+  const u2y = A[3]!;
+  const k1 = 1 / pose.legCompliance[0]!;
+  const k2 = 1 / pose.legCompliance[1]!;
+  const kx11 = k1 * u1x * u1x + k2 * u2x * u2x;
+  const kx12 = k1 * u1x * u1y + k2 * u2x * u2y;
+  const kx22 = k1 * u1y * u1y + k2 * u2y * u2y;
+  Kx[0] = kx11; Kx[1] = kx12; Kx[2] = kx12; Kx[3] = kx22;
+  pose.minStiffness = minEigenSymmetric2(kx11, kx12, kx22);
+  pose.rotationalStiffness = Number.NaN;
+  const eig = pose.work;
+  generalizedEigen2(kx11, kx12, kx22, Mx[0]!, Mx[1]!, Mx[3]!, eig);
+  pose.frequencies[0] = Math.sqrt(Math.max(eig[0]!, 0)) / (2 * Math.PI);
+  pose.frequencies[1] = Math.sqrt(Math.max(eig[1]!, 0)) / (2 * Math.PI);
+}
+
 /**
- * Numerical forward kinematics: Newton on the rod-length residuals f_i = |B_i − proximal_i|² − d_i²
- * in the unknowns (x, y[, φ]), starting from the guess in `pose`. Returns false when it does not
- * converge (to 1e-13 of the largest link) in 60 steps. Uses a small local buffer per call.
+ * Numerical forward kinematics: Newton on the leg residuals f_i = |B_i − c_i|² − r_i² (B_i on the
+ * circle of leg i for its joint position, see LegKind.circle) in the unknowns (x, y[, φ]), starting
+ * from the guess in `pose`. Returns false when it does not converge (to 1e-13 of the largest link)
+ * in 60 steps. Uses a small local buffer per call.
  */
 export function leggedForwardKinematics(model: LeggedModel, q: ArrayLike<number>, pose: Float64Array): boolean {
   const n = model.dof;
   const jac = new Float64Array(9);
   const residual = new Float64Array(3);
   const work = new Float64Array(9);
+  const circles = new Float64Array(9);
   let scale = 0;
-  for (let i = 0; i < n; i++) scale = Math.max(scale, model.rod[i]!, model.crank[i]!, Math.hypot(model.platformX[i]!, model.platformY[i]!));
+  for (let i = 0; i < n; i++) {
+    model.legs[i]!.circle(model, i, q[i]!, circles.subarray(3 * i, 3 * i + 3));
+    scale = Math.max(scale, model.rod[i]!, model.crank[i]!, circles[3 * i + 2]!, Math.hypot(model.platformX[i]!, model.platformY[i]!));
+  }
   for (let iteration = 0; iteration < 60; iteration++) {
     const phi = n === 3 ? pose[2]! : 0;
     const c = Math.cos(phi);
@@ -540,18 +463,9 @@ export function leggedForwardKinematics(model: LeggedModel, q: ArrayLike<number>
     for (let i = 0; i < n; i++) {
       const rx = c * model.platformX[i]! - s * model.platformY[i]!;
       const ry = s * model.platformX[i]! + c * model.platformY[i]!;
-      let px: number;
-      let py: number;
-      if (model.actuators[i] === 'revolute') {
-        px = model.baseX[i]! + model.crank[i]! * Math.cos(q[i]!);
-        py = model.baseY[i]! + model.crank[i]! * Math.sin(q[i]!);
-      } else {
-        px = model.baseX[i]! + q[i]! * model.railX[i]!;
-        py = model.baseY[i]! + q[i]! * model.railY[i]!;
-      }
-      const wx = pose[0]! + rx - px;
-      const wy = pose[1]! + ry - py;
-      const d = model.rod[i]!;
+      const wx = pose[0]! + rx - circles[3 * i]!;
+      const wy = pose[1]! + ry - circles[3 * i + 1]!;
+      const d = circles[3 * i + 2]!;
       // Scaled residual (|w|² − d²)/(2d) ≈ length error, m; its gradient is w/d.
       residual[i] = -(wx * wx + wy * wy - d * d) / (2 * d);
       largest = Math.max(largest, Math.abs(residual[i]!));
@@ -567,22 +481,20 @@ export function leggedForwardKinematics(model: LeggedModel, q: ArrayLike<number>
 }
 
 /**
- * Closed-form forward kinematics of a 2-DOF legged model: P is an intersection of the circles
- * (proximal_1, d_1) and (proximal_2, d_2); the assembly sign picks the side
- * (sign cross(proximal_2 − proximal_1, P − proximal_1) = sign det A).
+ * Closed-form forward kinematics of a 2-DOF legged model: P is an intersection of the two legs'
+ * circles; the assembly sign picks the side (sign cross(c_2 − c_1, P − c_1) = sign det A).
  */
 export function twoLegForwardKinematics(model: LeggedModel, q: ArrayLike<number>, out: Float64Array): boolean {
-  const prox = (i: number): [number, number] =>
-    model.actuators[i] === 'revolute'
-      ? [model.baseX[i]! + model.crank[i]! * Math.cos(q[i]!), model.baseY[i]! + model.crank[i]! * Math.sin(q[i]!)]
-      : [model.baseX[i]! + q[i]! * model.railX[i]!, model.baseY[i]! + q[i]! * model.railY[i]!];
-  const [c1x, c1y] = prox(0);
-  const [c2x, c2y] = prox(1);
-  const dx = c2x - c1x;
-  const dy = c2y - c1y;
-  const dist = Math.hypot(dx, dy);
-  const r1 = model.rod[0]!;
-  const r2 = model.rod[1]!;
+  const circles = new Float64Array(6);
+  model.legs[0]!.circle(model, 0, q[0]!, circles.subarray(0, 3));
+  model.legs[1]!.circle(model, 1, q[1]!, circles.subarray(3, 6));
+  const c1x = circles[0]!;
+  const c1y = circles[1]!;
+  const dx = circles[3]! - c1x;
+  const dy = circles[4]! - c1y;
+  const dist = Math.sqrt(dx * dx + dy * dy);
+  const r1 = circles[2]!;
+  const r2 = circles[5]!;
   if (dist === 0 || dist > r1 + r2 || dist < Math.abs(r1 - r2)) return false;
   const along = (r1 * r1 - r2 * r2 + dist * dist) / (2 * dist);
   const height = Math.sqrt(Math.max(r1 * r1 - along * along, 0));
@@ -599,6 +511,7 @@ export function leggedReachableBox(model: LeggedModel, phi = 0): PlaneBox | null
   const angle = n === 3 ? phi : 0;
   const c = Math.cos(angle);
   const s = Math.sin(angle);
+  const leg = new Float64Array(4);
   let xmin = -Infinity;
   let xmax = Infinity;
   let ymin = -Infinity;
@@ -606,62 +519,31 @@ export function leggedReachableBox(model: LeggedModel, phi = 0): PlaneBox | null
   for (let i = 0; i < n; i++) {
     const rx = c * model.platformX[i]! - s * model.platformY[i]!;
     const ry = s * model.platformX[i]! + c * model.platformY[i]!;
-    const ox = model.baseX[i]! - rx;
-    const oy = model.baseY[i]! - ry;
-    let lx: number;
-    let hx: number;
-    let ly: number;
-    let hy: number;
-    if (model.actuators[i] === 'revolute') {
-      const reach = model.crank[i]! + model.rod[i]!;
-      lx = ox - reach; hx = ox + reach; ly = oy - reach; hy = oy + reach;
-    } else {
-      const d = model.rod[i]!;
-      const ex = model.railX[i]!;
-      const ey = model.railY[i]!;
-      const range = model.jointLimits[i] ?? null;
-      const qa = range ? range.min : -Infinity;
-      const qb = range ? range.max : Infinity;
-      // Ends of the stroke segment (an infinite coordinate only along a rail component ≠ 0).
-      const end = (qv: number, e: number, o: number): number => (e === 0 ? o : o + qv * e);
-      const xa = end(qa, ex, ox);
-      const xb = end(qb, ex, ox);
-      const ya = end(qa, ey, oy);
-      const yb = end(qb, ey, oy);
-      lx = Math.min(xa, xb) - d; hx = Math.max(xa, xb) + d;
-      ly = Math.min(ya, yb) - d; hy = Math.max(ya, yb) + d;
-    }
-    xmin = Math.max(xmin, lx); xmax = Math.min(xmax, hx);
-    ymin = Math.max(ymin, ly); ymax = Math.min(ymax, hy);
+    model.legs[i]!.reachBox(model, i, model.baseX[i]! - rx, model.baseY[i]! - ry, leg);
+    xmin = Math.max(xmin, leg[0]!); xmax = Math.min(xmax, leg[1]!);
+    ymin = Math.max(ymin, leg[2]!); ymax = Math.min(ymax, leg[3]!);
   }
   return xmax > xmin && ymax > ymin ? { xmin, xmax, ymin, ymax } : null;
 }
 
 /**
  * Size proxy, m: the diameter of the base points (pivots; the stroke ends of limited rails, else
- * the rail origins) plus the longest leg reach (p + d, or d) plus the platform circumradius.
+ * the rail origins) plus the longest leg reach plus the platform circumradius.
  */
 export function leggedFootprint(model: LeggedModel): number {
-  const xs: number[] = [];
-  const ys: number[] = [];
+  const points: [number, number][] = [];
   let reach = 0;
   let radius = 0;
   for (let i = 0; i < model.dof; i++) {
-    const range = model.jointLimits[i] ?? null;
-    if (model.actuators[i] === 'prismatic' && range) {
-      for (const qv of [range.min, range.max]) {
-        xs.push(model.baseX[i]! + qv * model.railX[i]!);
-        ys.push(model.baseY[i]! + qv * model.railY[i]!);
-      }
-    } else {
-      xs.push(model.baseX[i]!);
-      ys.push(model.baseY[i]!);
-    }
-    reach = Math.max(reach, model.crank[i]! + model.rod[i]!);
+    const leg = model.legs[i]!;
+    points.push(...leg.basePoints(model, i));
+    reach = Math.max(reach, leg.reach(model, i));
     radius = Math.max(radius, Math.hypot(model.platformX[i]!, model.platformY[i]!));
   }
   let diameter = 0;
-  for (let a = 0; a < xs.length; a++) for (let b = a + 1; b < xs.length; b++) diameter = Math.max(diameter, Math.hypot(xs[a]! - xs[b]!, ys[a]! - ys[b]!));
+  for (let a = 0; a < points.length; a++) {
+    for (let b = a + 1; b < points.length; b++) diameter = Math.max(diameter, Math.hypot(points[a]![0] - points[b]![0], points[a]![1] - points[b]![1]));
+  }
   return diameter + reach + radius;
 }
 

@@ -22,13 +22,14 @@ import {
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
 
 export const PRR2_PARAMETERS = [
-  { name: 'rail_height', kind: 'length', description: 'height of the common slider rail above the base origin' },
+  { name: 'rail_height', kind: 'length', description: 'height of the common slider rail above the base origin', signed: true, mayBeZero: true },
   { name: 'rod_1', kind: 'length', description: 'rod length of slider 1 to the end point' },
   { name: 'rod_2', kind: 'length', description: 'rod length of slider 2 to the end point' },
 ] as const;
 
 export const prr2: PlanarArchitecture<LeggedModel> = {
   name: '2-prr',
+  variablePrefix: 'prr2',
   dof: 2,
   actuators: ['prismatic', 'prismatic'],
   parameters: PRR2_PARAMETERS,

@@ -35,6 +35,7 @@ export const PRR3_PARAMETERS = [
 
 export const prr3: PlanarArchitecture<LeggedModel> = {
   name: '3-prr',
+  variablePrefix: 'prr3',
   dof: 3,
   actuators: ['prismatic', 'prismatic', 'prismatic'],
   parameters: PRR3_PARAMETERS,

@@ -42,6 +42,7 @@ export function legAngle(i: number): number {
 
 export const rrr3: PlanarArchitecture<LeggedModel> = {
   name: '3-rrr',
+  variablePrefix: 'rrr3',
   dof: 3,
   actuators: ['revolute', 'revolute', 'revolute'],
   parameters: RRR3_PARAMETERS,

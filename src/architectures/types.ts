@@ -13,14 +13,15 @@
  *   (scaling every length and L by the same factor leaves κ unchanged). For 2-DOF J_h = J.
  * - Matrices are n×n row-major Float64Array, n = degrees of freedom = number of legs.
  */
-import { PoseStatus, type JointRange } from '../mechanics/fivebar.js';
+import { PoseStatus, type JointRange } from '../core/pose.js';
 import { WORK_LENGTH } from './dense.js';
 
 export { PoseStatus };
 export type { JointRange };
 
-/** Names of the architectures in this folder (the study's `architecture` values-to-be). */
-export type ArchitectureName = 'five-bar' | '2-prr' | '3-rrr' | '3-prr';
+/** Names of the architectures: the keys of the one registry, `ARCHITECTURES` in index.ts. */
+export type { ArchitectureName } from './index.js';
+import type { ArchitectureName } from './index.js';
 
 /** Kind of an actuated joint: revolute (efforts N·m, stiffness N·m/rad) or prismatic (N, N/m). */
 export type ActuatorKind = 'revolute' | 'prismatic';
@@ -47,6 +48,10 @@ export interface ParameterInfo {
   readonly kind: 'length' | 'angle';
   /** One-line meaning, in our own words. */
   readonly description: string;
+  /** A position rather than a size: may be negative (lengths only; angles are always signed). */
+  readonly signed?: boolean;
+  /** May be zero (lengths only; sizes must otherwise be positive). */
+  readonly mayBeZero?: boolean;
 }
 
 /** Cross-section and material of a link (uniform bar). Infinity = rigid. */
@@ -149,6 +154,8 @@ export class ArchitecturePose {
   phi = 0;
   /** Smallest reach margin over the legs, m (negative outside a leg's reach). */
   reachMargin = 0;
+  /** Reach margin of each leg, m (see LegKind.solve). */
+  readonly legReach: Float64Array;
   /** Smallest joint-range margin, in joint units (rad or m; +∞ when unlimited). */
   jointMargin = Infinity;
   /** Actuated joint positions q_i: rad (revolute) or m (prismatic slider position along its rail). */
@@ -218,6 +225,7 @@ export class ArchitecturePose {
     this.dof = dof;
     const n = dof;
     this.q = new Float64Array(n);
+    this.legReach = new Float64Array(n);
     this.actuatorDirection = new Float64Array(2 * n);
     this.proximalJoint = new Float64Array(2 * n);
     this.distalJoint = new Float64Array(2 * n);
@@ -247,6 +255,8 @@ export class ArchitecturePose {
  */
 export interface PlanarArchitecture<TModel extends ArchitectureModelBase = ArchitectureModelBase> {
   readonly name: ArchitectureName;
+  /** Prefix of its design variables in a comparison study (`fivebar_crank_1`, …): letters and digits. */
+  readonly variablePrefix: string;
   readonly dof: 2 | 3;
   /** Actuator kind per leg. */
   readonly actuators: readonly ActuatorKind[];

@@ -4,12 +4,13 @@
  * that the option parser would take for options.
  */
 import { ARCHITECTURES } from '../architectures/index.js';
+import { LoopsmithUserError } from '../core/errors.js';
 import { designVariables } from '../mechanics/designSpace.js';
 import type { Study } from '../study/types.js';
 import { formatValue } from './format.js';
 
 /** An error whose message is for the user as it stands (exit code 1). */
-export class UserError extends Error {
+export class UserError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'UserError';

@@ -2,17 +2,18 @@
  * The `loopsmith` command line: thin glue over the programmatic API in src/api.
  * Errors a user can cause end with one message and exit code 1; a bad command line exits with 2.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { existsSync, writeFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import yargs, { type Argv } from 'yargs';
-import { DesignError, evaluateDesign, probeArchitectureDesign, probeDesign } from '../api/design.js';
+import { evaluateDesign, probeArchitectureDesign, probeDesign } from '../api/design.js';
 import { designVariables, studyActuators, variableKind } from '../mechanics/designSpace.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.js';
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
 import { loadStudyFile, StudyError } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
-import { parseQuantity, UnitError } from '../study/units.js';
+import { parseQuantity } from '../study/units.js';
 import type { Study } from '../study/types.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';
 import { registerStoreCommands } from './storeCommands.js';
@@ -26,17 +27,12 @@ import { programName, setInvocationArguments } from './invocation.js';
 
 export { UserError, UsageError };
 
-/** Errors whose message is meant for the user (bad input, missing files, refused queries). */
-const USER_ERROR_NAMES = new Set(['StoreError', 'QueryError', 'SqliteError', 'SchemaVersionError', 'CatalogueError', 'FrontError', 'RescoreError', 'WarmStartError', 'ExportError', 'ReportError', 'SimulationError', 'SweepError']);
+/** Errors of other libraries whose message is meant for the user (SQLite refusing a file or a query). */
+const FOREIGN_USER_ERROR_NAMES = new Set(['SqliteError', 'ReportError']);
 
+/** Errors a user can cause: every LoopsmithUserError (src/core/errors.ts), plus SQLite's own. */
 export function isUserError(error: unknown): error is Error {
-  return (
-    error instanceof UserError ||
-    error instanceof StudyError ||
-    error instanceof DesignError ||
-    error instanceof UnitError ||
-    (error instanceof Error && USER_ERROR_NAMES.has(error.name))
-  );
+  return error instanceof LoopsmithUserError || (error instanceof Error && FOREIGN_USER_ERROR_NAMES.has(error.name));
 }
 
 const out = (text: string): void => {

@@ -4,7 +4,8 @@
  */
 import { chooseDesign } from '../api/design.js';
 import { Evaluator } from '../mechanics/evaluate.js';
-import { probeArchitecturePose, probePose } from '../mechanics/probe.js';
+import { probeArchitecturePose } from '../mechanics/probe.js';
+import { taskSamples } from '../mechanics/taskSamples.js';
 import type { Study } from '../study/types.js';
 
 export interface TaskPointFailures {
@@ -12,26 +13,12 @@ export interface TaskPointFailures {
   readonly failed: readonly { x: number; y: number; status: string }[];
 }
 
-/** Task-region sample points: `taskSamples` intervals across the longer side, edges included. */
+/** Task-region sample points, as the evaluator samples them (`taskSamples` intervals across the longer side). */
 export function taskSamplePoints(study: Study): [number, number][] {
   const r = study.task.region;
   if (!r) return [];
-  const n = Math.max(1, study.evaluation.taskSamples);
-  const width = r.shape === 'rectangle' ? r.width : 2 * r.radius;
-  const height = r.shape === 'rectangle' ? r.height : 2 * r.radius;
-  const step = Math.max(width, height) / n;
-  const nx = Math.max(1, Math.round(width / step));
-  const ny = Math.max(1, Math.round(height / step));
-  const points: [number, number][] = [];
-  for (let i = 0; i <= nx; i++) {
-    for (let j = 0; j <= ny; j++) {
-      const x = r.centreX - width / 2 + (width * i) / nx;
-      const y = r.centreY - height / 2 + (height * j) / ny;
-      if (r.shape === 'circle' && Math.hypot(x - r.centreX, y - r.centreY) > r.radius * (1 + 1e-9)) continue;
-      points.push([x, y]);
-    }
-  }
-  return points;
+  const samples = taskSamples(r, study.evaluation.taskSamples);
+  return Array.from(samples.x, (x, i) => [x, samples.y[i]!] as [number, number]);
 }
 
 /** The task sample points where the design (baseline with overrides) cannot be assembled in the study's modes and limits. */
@@ -39,21 +26,11 @@ export function taskPointFailures(study: Study, overrides: readonly string[]): T
   const points = taskSamplePoints(study);
   if (points.length === 0 || study.members) return { checked: 0, failed: [] };
   const choice = chooseDesign(study, overrides);
-  const evaluator = new Evaluator(choice.study);
+  const d = new Evaluator(choice.study).architectureDesign(choice.design);
   const failed: { x: number; y: number; status: string }[] = [];
-  if (choice.study.architecture === 'five-bar') {
-    const model = evaluator.model(choice.design);
-    const drives = evaluator.resolve(choice.design).drives;
-    for (const [x, y] of points) {
-      const status = probePose(choice.study, model, x, y, drives).status;
-      if (status !== 'assembled') failed.push({ x, y, status });
-    }
-  } else {
-    const d = evaluator.architectureDesign(choice.design);
-    for (const [x, y] of points) {
-      const status = probeArchitecturePose(d.study, d.architecture, d.model, x, y, undefined, d.resolved.drives).status;
-      if (status !== 'assembled') failed.push({ x, y, status });
-    }
+  for (const [x, y] of points) {
+    const status = probeArchitecturePose(d.study, d.architecture, d.model, x, y, undefined, d.resolved.drives).status;
+    if (status !== 'assembled') failed.push({ x, y, status });
   }
   return { checked: points.length, failed };
 }

@@ -7,6 +7,7 @@
  * uniform bars plus the elbow hub as a point mass at the crank end, rods are uniform bars, the end
  * hub and the payload are one point mass at the end point P. SI units throughout (m, kg, rad, N·m).
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { readFileSync } from 'node:fs';
 import {
   FiveBarPose,
@@ -31,7 +32,7 @@ import { METRICS } from '../mechanics/metrics.js';
 import { FIVE_BAR_PARAMETERS, type DriveSpec, type FiveBarParameter, type Study } from '../study/types.js';
 
 /** A problem with an export request that the user can fix (unknown ids, empty selection, ...). */
-export class ExportError extends Error {
+export class ExportError extends LoopsmithUserError {
   override readonly name = 'ExportError';
 }
 

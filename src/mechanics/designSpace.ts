@@ -1,12 +1,13 @@
 /**
  * Design space of a study: which parameters the optimizer varies, how a design vector maps to a
- * full geometry (ties resolved), and how a geometry plus the study's masses and drives become an
- * immutable model: `buildFiveBarModel` for the five-bar's own engine (the pipeline's five-bar path),
- * `buildArchitectureModel` for any architecture through src/architectures.
+ * full geometry (ties resolved), and how a geometry plus the study's masses and drives become the
+ * architecture's model input (`modelInput`). Transitional: `buildFiveBarModel` builds the five-bar's
+ * former model type for the duty-cycle analysis, simulation and five-bar sheets that still take it.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import type { FiveBarModel } from './fivebar.js';
 import { ARCHITECTURES } from '../architectures/index.js';
-import type { ActuatorKind, ArchitectureModelBase, ArchitectureName, DriveAtJoint, LinkSection, ModelInput, PlanarArchitecture } from '../architectures/types.js';
+import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelInput } from '../architectures/types.js';
 import { driveAtJoint } from '../study/drives.js';
 import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
@@ -131,7 +132,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
-export class DesignError extends Error {
+export class DesignError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'DesignError';
@@ -278,17 +279,6 @@ export function modelInput(study: Study, resolved: ResolvedDesign, characteristi
     drives: drivesAtJoint(study, resolved.drives),
     ...(length !== undefined ? { characteristicLength: length } : {}),
   };
-}
-
-/** The architecture of a (single-architecture) study and its immutable model of a design. */
-export function buildArchitectureModel(
-  study: Study,
-  resolved: ResolvedDesign,
-  characteristicLength?: number,
-): { architecture: PlanarArchitecture<ArchitectureModelBase>; model: ArchitectureModelBase } {
-  if (study.members) throw new Error('buildArchitectureModel: resolve a comparison design to its member first (memberDesign)');
-  const architecture = ARCHITECTURES[study.architecture];
-  return { architecture, model: architecture.buildModel(modelInput(study, resolved, characteristicLength)) };
 }
 
 /**

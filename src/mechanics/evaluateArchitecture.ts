@@ -1,11 +1,11 @@
 /**
- * Evaluation of one design of any architecture through the interface of src/architectures
- * (`PlanarArchitecture`): the same pipeline as the five-bar's (src/mechanics/evaluate.ts) — grid
- * workspace, connected usable region, task coverage, per-pose metrics aggregated over the
- * evaluation region, constraints — written on the generic `ArchitecturePose` with n = 2 or 3
- * actuators. The five-bar keeps its own path in evaluate.ts (its numbers are the regression check).
+ * The one evaluator of a single-architecture study (every architecture, the five-bar included):
+ * grid workspace (workspace.ts), connected usable region, task coverage, per-pose metrics aggregated
+ * over the evaluation region on the generic `ArchitecturePose`, duty-cycle metrics where the study
+ * has a cycle, and the constraints. A comparison study delegates to one of these per member
+ * (evaluate.ts). Made once per study and per worker: it owns every buffer.
  *
- * Differences from the five-bar path, all documented in docs/architectures.md:
+ * Conventions, all documented in docs/architectures.md:
  * - joint margins of sliders (m) are divided by the longest rod so that min() over the usability
  *   terms compares dimensionless numbers; the zero level (the usable boundary) is unchanged;
  * - 3-DOF: the workspace is the constant-orientation workspace at φ_0; at every task point the usable
@@ -16,14 +16,22 @@
  */
 import { characteristicLengthForPoses } from '../architectures/conditioning.js';
 import type { LeggedModel } from '../architectures/legged.js';
+import { maxSingularValue2 } from '../architectures/linalg2.js';
 import { orientationRanges, orientationRequirementMargin } from '../architectures/orientation.js';
-import { PoseStatus, type ArchitectureModelBase, type ArchitecturePose, type DriveAtJoint, type PlanarArchitecture, type PlaneBox } from '../architectures/types.js';
+import { type ArchitectureModelBase, type ArchitecturePose, type DriveAtJoint, type PlanarArchitecture } from '../architectures/types.js';
 import { ARCHITECTURES } from '../architectures/index.js';
+import { PoseStatus } from '../core/pose.js';
+import { METRICS, metricIndex } from '../core/metrics.js';
 import { MarginGrid } from './grid.js';
-import { METRICS, metricIndex } from './metrics.js';
 import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
-import { applyConstraints, constraintDefinitions, taskSamples, type ConstraintDefinition, type DesignEvaluation } from './evaluate.js';
+import { applyConstraints, constraintDefinitions, type ConstraintDefinition, type DesignEvaluation } from './constraints.js';
+import { taskSamples } from './taskSamples.js';
+import { architectureUsableMargin } from './usability.js';
+import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
+import { CycleMetrics } from './cycleMetrics.js';
 import type { Study } from '../study/types.js';
+
+export { architectureUsableMargin };
 
 const M = {
   reachable: metricIndex('reachable_area'),
@@ -72,35 +80,6 @@ class ArchitectureAggregate {
   }
 }
 
-/**
- * Usability margin of a solved pose of any architecture (dimensionless; ≥ 0 when usable): the
- * smallest of 1/κ(J_h) − c_min, |s_i| − sin μ_min for each leg, σ_a · mechanismSine − sin μ_min and
- * the joint-range margin divided by `jointScale` (1 for cranks, rad; the longest rod for sliders, m);
- * −1 when a leg cannot reach. For the five-bar the terms are those of `usableMargin` in evaluate.ts.
- */
-export function architectureUsableMargin(
-  pose: ArchitecturePose,
-  status: PoseStatus,
-  study: Pick<Study, 'evaluation' | 'assemblyMode'>,
-  jointScale: number,
-): number {
-  if (status === PoseStatus.Unreachable) return -1;
-  const e = study.evaluation;
-  const sinMin = Math.sin(e.minTransmissionAngle);
-  const assembly = study.assemblyMode === '+' ? 1 : -1;
-  let m = pose.inverseCondition - e.minInverseCondition;
-  for (let i = 0; i < pose.dof; i++) {
-    const t = Math.abs(pose.legSine[i]!) - sinMin;
-    if (t < m) m = t;
-  }
-  const tm = assembly * pose.mechanismSine - sinMin;
-  if (tm < m) m = tm;
-  const jm = pose.jointMargin / jointScale;
-  if (jm < m) m = jm;
-  if (m === 0 && (pose.inverseCondition === 0 || assembly * pose.mechanismSine <= 0)) m = -1e-12;
-  return m;
-}
-
 function isLegged(model: ArchitectureModelBase): model is LeggedModel {
   return 'complianceTransverse' in model;
 }
@@ -117,7 +96,7 @@ export function rangeWidthAt(ranges: Float64Array, count: number, phi0: number):
   return 0;
 }
 
-/** Evaluator of one single-architecture study through the architecture interface. */
+/** The evaluator of one single-architecture study (any architecture). */
 export class ArchitectureEvaluator {
   readonly study: Study;
   readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
@@ -133,6 +112,8 @@ export class ArchitectureEvaluator {
   /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
   private jointScale = 1;
   private drives: readonly DriveAtJoint[] | null = null;
+  /** Duty-cycle buffers, or null without a duty cycle. */
+  private readonly cycle: CycleMetrics | null;
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -144,6 +125,7 @@ export class ArchitectureEvaluator {
     this.grid = new MarginGrid(study.evaluation.gridCells + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
+    this.cycle = CycleMetrics.forStudy(study);
   }
 
   resolve(design: ArrayLike<number>): ResolvedDesign {
@@ -178,9 +160,7 @@ export class ArchitectureEvaluator {
 
   private prepare(resolved: ResolvedDesign, model: ArchitectureModelBase): void {
     this.drives = drivesAtJoint(this.study, resolved.drives);
-    let scale = 1;
-    if (isLegged(model) && model.actuators.includes('prismatic')) scale = Math.max(...model.rod);
-    this.jointScale = scale;
+    this.jointScale = modelJointScale(model);
   }
 
   private usable(status: PoseStatus): number {
@@ -194,6 +174,7 @@ export class ArchitectureEvaluator {
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics);
+    this.cycle?.write(resolved, metrics);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -211,6 +192,7 @@ export class ArchitectureEvaluator {
     metrics[M.coverage] = workspace[2]!;
     metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, metrics);
+    this.cycle?.write(resolved, metrics);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -218,28 +200,10 @@ export class ArchitectureEvaluator {
     return applyConstraints(this.constraints, this.study, resolved.drives, metrics);
   }
 
-  /** Reachable box at φ_0 clipped to the study's window; null when empty or unbounded. */
-  private box(model: ArchitectureModelBase): PlaneBox | null {
-    const raw = this.architecture.reachableBox(model, this.phi0);
-    if (!raw) return null;
-    const w = this.study.evaluation.window;
-    const box = w
-      ? { xmin: Math.max(raw.xmin, w.xmin), xmax: Math.min(raw.xmax, w.xmax), ymin: Math.max(raw.ymin, w.ymin), ymax: Math.min(raw.ymax, w.ymax) }
-      : raw;
-    if (!(box.xmax > box.xmin && box.ymax > box.ymin)) return null;
-    if (![box.xmin, box.xmax, box.ymin, box.ymax].every(Number.isFinite)) {
-      throw new Error(`${this.study.architecture}: the reachable box is unbounded; give strokes (joint_limits) or evaluation.window`);
-    }
-    return box;
-  }
-
   private analyseWorkspace(model: ArchitectureModelBase, metrics: Float64Array): void {
     const grid = this.grid;
-    const pose = this.pose;
-    const architecture = this.architecture;
-    const box = this.box(model);
-    const agg = this.aggregate;
-    agg.reset();
+    const box = evaluationBox(this.study, this.architecture, model, this.phi0);
+    this.aggregate.reset();
     if (!box) {
       metrics[M.reachable] = 0;
       metrics[M.workspace] = 0;
@@ -248,35 +212,8 @@ export class ArchitectureEvaluator {
       if (this.task) this.aggregateTask(model, -1);
       return;
     }
-    grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, this.study.evaluation.gridCells);
-    const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
-    const phi = this.phi0;
-    // A grid window bounds the evaluation region: nodes outside it count as unreachable, with the
-    // signed distance to the window edge (m; divided by the footprint for the dimensionless margin).
-    const w = this.study.evaluation.window;
-    const scale = architecture.footprint(model);
-    for (let j = 0; j < ny; j++) {
-      const y = y0 + j * h;
-      for (let i = 0; i < nx; i++) {
-        const x = x0 + i * h;
-        const status = architecture.solvePose(model, pose, x, y, phi);
-        let r = pose.reachMargin;
-        let u = this.usable(status);
-        if (w) {
-          const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
-          if (inside < r) r = inside;
-          if (inside / scale < u) u = inside / scale;
-        }
-        reach[j * nx + i] = r;
-        values[j * nx + i] = u;
-      }
-    }
-    metrics[M.reachable] = grid.positiveArea(reach);
-    grid.labelRegions();
-    const taskRegion = this.study.task.region;
-    const region = taskRegion
-      ? grid.workspaceRegion({ x: taskRegion.centreX, y: taskRegion.centreY }, this.usable(architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi)) >= 0)
-      : grid.workspaceRegion(null, false);
+    const region = sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+    metrics[M.reachable] = grid.positiveArea(grid.secondary);
     metrics[M.workspace] = grid.regionArea(region);
     metrics[M.inscribed] = grid.inscribedRadius(region);
     if (this.task) {
@@ -376,6 +313,13 @@ export class ArchitectureEvaluator {
     }
     if (drives && drives.every((d) => d.encoderStep > 0)) {
       // Largest step of P for one count on each joint: σ_max of the translational rows of J diag(δq).
+      if (n === 2) {
+        const d1 = drives[0]!.encoderStep;
+        const d2 = drives[1]!.encoderStep;
+        const step = maxSingularValue2(pose.J[0]! * d1, pose.J[1]! * d2, pose.J[2]! * d1, pose.J[3]! * d2);
+        if (step > agg.maxStep) agg.maxStep = step;
+        return;
+      }
       let g11 = 0;
       let g12 = 0;
       let g22 = 0;

@@ -11,18 +11,8 @@
  */
 import { generalizedEigen2, inverseCondition2, maxSingularValue2, minEigenSymmetric2 } from './linalg2.js';
 
-/** Sign pair (σ_1, σ_2) naming the working mode: which side each elbow bends to. */
-export type WorkingMode = '++' | '+-' | '-+' | '--';
-export const WORKING_MODES: readonly WorkingMode[] = ['+-', '-+', '++', '--'];
-/** Sign of det A = cross(u_1, u_2): which of the two forward-kinematics solutions is used. */
-export type AssemblyMode = '+' | '-';
-
-export interface JointRange {
-  /** Lower limit of the actuated joint angle, rad. */
-  readonly min: number;
-  /** Upper limit, rad (min < max ≤ min + 2π). */
-  readonly max: number;
-}
+import { PoseStatus, jointRangeMargin, type JointRange } from '../core/pose.js';
+export { PoseStatus, jointRangeMargin, WORKING_MODES, type JointRange, type WorkingMode, type AssemblyMode } from '../core/pose.js';
 
 /** Everything constant about one candidate design. Built once per design; never written to. */
 export interface FiveBarModel {
@@ -65,18 +55,6 @@ export interface FiveBarModel {
   readonly complianceCrankAxial: readonly [number, number];
   /** d/(E A) of the rod, m/N. */
   readonly complianceRodAxial: readonly [number, number];
-}
-
-/** Outcome of placing the end point. */
-export const enum PoseStatus {
-  /** Both legs reach, joint limits hold and det A has the study's sign. */
-  Assembled = 0,
-  /** At least one leg cannot reach the point. */
-  Unreachable = 1,
-  /** Reached in the working mode, but a joint limit is violated. */
-  OutsideJointLimits = 2,
-  /** Reached, but det A has the other sign (the other assembly mode) or is zero. */
-  WrongAssembly = 3,
 }
 
 /**
@@ -138,18 +116,6 @@ export class FiveBarPose {
   rodRate11 = 0; rodRate12 = 0; rodRate21 = 0; rodRate22 = 0;
 
   readonly eigenScratch = new Float64Array(2);
-}
-
-const TWO_PI = 2 * Math.PI;
-
-/** Signed margin of θ inside [min, max] (rad), respecting wrap-around. */
-export function jointRangeMargin(theta: number, range: JointRange | null): number {
-  if (range === null) return Infinity;
-  const span = range.max - range.min;
-  let t = (theta - range.min) % TWO_PI;
-  if (t < 0) t += TWO_PI;
-  if (t <= span) return Math.min(t, span - t);
-  return -Math.min(t - span, TWO_PI - t);
 }
 
 /**

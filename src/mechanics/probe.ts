@@ -1,12 +1,15 @@
 /**
- * One pose of one design, reported in full: what `loopsmith probe` prints.
+ * The one probe: one pose of one design of any architecture, reported in full (what `loopsmith
+ * probe` prints), with the five-bar's own report shape as a view of it.
  */
-import { FiveBarPose, PoseStatus, poseDynamics, solvePose, type FiveBarModel } from './fivebar.js';
+import { PoseStatus } from '../core/pose.js';
 import type { DriveSpec, Study } from '../study/types.js';
+import { ARCHITECTURES } from '../architectures/index.js';
 import { actuatorUnits, type ActuatorKind, type ArchitectureModelBase, type PlanarArchitecture } from '../architectures/types.js';
 import { orientationRanges } from '../architectures/orientation.js';
 import { drivesAtJoint } from './designSpace.js';
-import { architectureUsableMargin } from './evaluateArchitecture.js';
+import { architectureUsableMargin } from './usability.js';
+import { modelJointScale } from './workspace.js';
 
 export interface PoseReport {
   /** End point, m. */
@@ -42,40 +45,39 @@ export interface PoseReport {
 
 const STATUS_NAMES = ['assembled', 'unreachable', 'outside-joint-limits', 'wrong-assembly-mode'] as const;
 
-export function probePose(study: Study, model: FiveBarModel, x: number, y: number, drivesIn: readonly DriveSpec[] | null = study.drives): PoseReport {
-  const drives = drivesIn ? ([drivesIn[0]!, drivesIn[1]!] as const) : null;
-  const pose = new FiveBarPose();
-  const status = solvePose(model, pose, x, y);
-  const base = { point: { x, y }, status: STATUS_NAMES[status] };
-  if (status === PoseStatus.Unreachable) return base;
+/**
+ * One pose of a five-bar design in the five-bar's own report shape (joint angles, elbows, det A,
+ * transmission angles): a view of the one probe, `probeArchitecturePose`.
+ */
+export function probePose(study: Study, model: ArchitectureModelBase, x: number, y: number, drives: readonly DriveSpec[] | null = study.drives): PoseReport {
+  const r = probeArchitecturePose(study, ARCHITECTURES['five-bar'], model, x, y, 0, drives);
+  const base = { point: { x, y }, status: r.status };
+  if (r.status === 'unreachable') return base;
+  const pair = (v: readonly number[]): [number, number] => [v[0]!, v[1]!];
+  const sym = (m: Matrix): [[number, number], [number, number]] => [[m[0]![0]!, m[0]![1]!], [m[0]![1]!, m[1]![1]!]];
+  const s = r.legSines!;
+  const detA = r.mechanismSine!;
+  const angle = (v: number): number => Math.asin(Math.min(Math.abs(v), 1));
   const kinematics = {
     ...base,
-    jointAngles: [pose.theta1, pose.theta2] as [number, number],
-    elbows: [[pose.c1x, pose.c1y], [pose.c2x, pose.c2y]] as [[number, number], [number, number]],
-    jacobian: [[pose.j11, pose.j12], [pose.j21, pose.j22]] as [[number, number], [number, number]],
-    inverseCondition: pose.inverseCondition,
-    detA: pose.detA,
-    transmissionAngles: { leg1: Math.asin(Math.min(Math.abs(pose.s1), 1)), leg2: Math.asin(Math.min(Math.abs(pose.s2), 1)), rods: Math.asin(Math.min(Math.abs(pose.detA), 1)) },
+    jointAngles: pair(r.jointPositions!),
+    elbows: [pair(r.proximalJoints![0]!), pair(r.proximalJoints![1]!)] as [[number, number], [number, number]],
+    jacobian: [pair(r.jacobian![0]!), pair(r.jacobian![1]!)] as [[number, number], [number, number]],
+    inverseCondition: r.inverseCondition!,
+    detA,
+    transmissionAngles: { leg1: angle(s[0]!), leg2: angle(s[1]!), rods: angle(detA) },
   };
-  if (pose.inverseCondition === 0) return kinematics;
-  poseDynamics(model, pose);
-  let accel: number | null = null;
-  if (drives) {
-    const limit1 = drives[0].efficiency * drives[0].gearRatio * drives[0].peakTorque;
-    const limit2 = drives[1].efficiency * drives[1].gearRatio * drives[1].peakTorque;
-    accel = Math.min((limit1 - Math.abs(pose.tauG1)) / pose.inertiaRowNorm1, (limit2 - Math.abs(pose.tauG2)) / pose.inertiaRowNorm2);
-  }
-  const v = study.task.speed;
+  if (r.gravityEfforts === undefined) return kinematics;
   return {
     ...kinematics,
-    gravityTorque: [pose.tauG1, pose.tauG2],
-    inertia: [[pose.d11, pose.d12], [pose.d12, pose.d22]],
-    cartesianMass: [[pose.mx11, pose.mx12], [pose.mx12, pose.mx22]],
-    cartesianStiffness: [[pose.kx11, pose.kx12], [pose.kx12, pose.kx22]],
-    minStiffness: pose.minStiffness,
-    naturalFrequencies: [pose.frequencyLow, pose.frequencyHigh],
-    accelCapability: accel,
-    requiredJointSpeeds: v > 0 ? [v * pose.inverseJacobianRowNorm1, v * pose.inverseJacobianRowNorm2] : null,
+    gravityTorque: pair(r.gravityEfforts),
+    inertia: sym(r.inertia!),
+    cartesianMass: sym(r.cartesianMass!),
+    cartesianStiffness: sym(r.cartesianStiffness!),
+    minStiffness: r.minStiffness!,
+    naturalFrequencies: pair(r.naturalFrequencies!),
+    accelCapability: r.accelCapability ?? null,
+    requiredJointSpeeds: r.requiredJointSpeeds ? pair(r.requiredJointSpeeds) : null,
   };
 }
 
@@ -151,7 +153,7 @@ export function probeArchitecturePose(
     const u = actuatorUnits(kind);
     return { position: u.position, speed: u.speed, effort: u.effort };
   });
-  const jointScale = architecture.actuators.includes('prismatic') ? Math.max(...pairs(pose.distalJoint, n).map((d, i) => Math.hypot(d[0] - pose.proximalJoint[2 * i]!, d[1] - pose.proximalJoint[2 * i + 1]!))) : 1;
+  const jointScale = modelJointScale(model);
   const kinematics = {
     ...base,
     actuatorUnits: units,

@@ -1,13 +1,15 @@
 /**
  * Fields for a workspace map of one design: every grid node's reach margin, usable margin, 1/κ(J),
  * leg transmission sines s_1, s_2 and det A, the usable region's labels, its largest inscribed circle
- * (radius and centre) and the home pose. Sampling uses exactly the evaluator's pieces (solvePose,
- * usableMargin, MarginGrid, the same bounding box and region choice), so what a map shows is what the
- * metrics measured. Plain computation: no drawing here (see src/report).
+ * (radius and centre) and the home pose. Sampling is the evaluator's own (workspace.ts), so what a
+ * map shows is what the metrics measured. Transitional: this file takes the five-bar's former model
+ * type for src/report/map.ts; maps of every architecture call `sampleWorkspace` directly. Plain computation: no drawing here (see src/report).
  */
 import { FiveBarPose, PoseStatus, reachableBox, solvePose, type FiveBarModel } from './fivebar.js';
-import { usableMargin } from './evaluate.js';
-import { MarginGrid } from './grid.js';
+import { fiveBar } from '../architectures/fivebar.js';
+import { buildLeggedModel } from '../architectures/legged.js';
+import { RIGID_MASSLESS, type ArchitectureModelBase, type PlanarArchitecture } from '../architectures/types.js';
+import { sampleWorkspace } from './workspace.js';
 import type { Study } from '../study/types.js';
 
 export interface WorkspaceMapFields {
@@ -58,55 +60,50 @@ export interface HomePose {
 /** Bounding box of the reachable set, m (the evaluator's box): null when the legs' discs do not overlap. */
 export { reachableBox };
 
+/** The kinematic leg model of a five-bar given in the former model type (masses do not shape a map). */
+function kinematicModel(model: FiveBarModel): ArchitectureModelBase {
+  return buildLeggedModel(
+    'five-bar',
+    2,
+    [0, 1].map((i) => ({ actuator: 'revolute' as const, base: [model.pivotX[i]!, model.pivotY[i]!] as const, crank: model.crank[i]!, rod: model.rod[i]! })),
+    model.sigma,
+    {
+      parameters: {}, workingMode: '++', assembly: model.assembly, jointLimits: model.jointLimits,
+      rods: [RIGID_MASSLESS, RIGID_MASSLESS], payloadMass: 0, gravity: model.gravity, drives: null,
+    },
+  );
+}
+
 /**
  * Sample every field of the map on the evaluator's grid (`cells` across the longer side of the
- * reachable box; default the study's evaluation.grid_cells). Returns null when nothing is reachable.
+ * reachable box; default the study's evaluation.grid_cells): a view of the one sampler
+ * (workspace.ts `sampleWorkspace`). Returns null when nothing is reachable.
  */
 export function sampleWorkspaceFields(study: Study, model: FiveBarModel, cells = study.evaluation.gridCells): WorkspaceMapFields | null {
-  const box = reachableBox(model);
-  if (!box) return null;
-  const grid = new MarginGrid(cells + 4);
-  grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
-  const { nx, ny, x0, y0, h, values } = grid;
+  const sample = sampleWorkspace(study, fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>, kinematicModel(model), 0, cells);
+  if (!sample) return null;
+  const { grid, region } = sample;
+  const { nx, ny, x0, y0, h } = grid;
   const n = nx * ny;
-  const reachMargin = new Float64Array(n);
-  const inverseCondition = new Float64Array(n);
   const s1 = new Float64Array(n);
   const s2 = new Float64Array(n);
-  const detA = new Float64Array(n);
-  const status = new Uint8Array(n);
-  const pose = new FiveBarPose();
-  for (let j = 0; j < ny; j++) {
-    const y = y0 + j * h;
-    for (let i = 0; i < nx; i++) {
-      const k = j * nx + i;
-      const st = solvePose(model, pose, x0 + i * h, y);
-      status[k] = st;
-      reachMargin[k] = pose.reachMargin;
-      values[k] = usableMargin(pose, st, study);
-      if (st !== PoseStatus.Unreachable) {
-        inverseCondition[k] = pose.inverseCondition;
-        s1[k] = pose.s1;
-        s2[k] = pose.s2;
-        detA[k] = pose.detA;
-      }
-    }
+  for (let k = 0; k < n; k++) {
+    s1[k] = sample.legSines[2 * k]!;
+    s2[k] = sample.legSines[2 * k + 1]!;
   }
-  grid.labelRegions();
-  const task = study.task.region;
-  const region = task
-    ? grid.workspaceRegion({ x: task.centreX, y: task.centreY }, usableMargin(pose, solvePose(model, pose, task.centreX, task.centreY), study) >= 0)
-    : grid.workspaceRegion(null, false);
-  const usable = Float64Array.from(values.subarray(0, n));
+  const reachMargin = Float64Array.from(grid.secondary.subarray(0, n));
+  const usable = Float64Array.from(grid.values.subarray(0, n));
   const labels = Int32Array.from(grid.labels.subarray(0, n));
   const regionMargin = new Float64Array(n);
   for (let k = 0; k < n; k++) {
     const v = usable[k]!;
     regionMargin[k] = labels[k] === region ? v : v >= 0 ? -v - 1e-300 : v;
   }
-  const inscribedRadius = grid.inscribedRadius(region);
   const inscribedCentre = region >= 0 ? deepestNode(nx, ny, x0, y0, h, regionMargin) : null;
-  return { nx, ny, x0, y0, h, reachMargin, usable, inverseCondition, s1, s2, detA, status, labels, region, regionMargin, inscribedRadius, inscribedCentre };
+  return {
+    nx, ny, x0, y0, h, reachMargin, usable, inverseCondition: sample.inverseCondition, s1, s2, detA: sample.mechanismSine,
+    status: sample.status, labels, region, regionMargin, inscribedRadius: sample.inscribedRadius, inscribedCentre,
+  };
 }
 
 /**

@@ -4,11 +4,12 @@
  * by the objectives of the run's study. Taking every generation, not only the last population, keeps
  * good designs that the population's fixed size pushed out.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { Store, type RunRow, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
 import type { ObjectiveSpec, Study } from '../study/types.js';
 
-export class FrontError extends Error {
+export class FrontError extends LoopsmithUserError {
   override readonly name = 'FrontError';
 }
 

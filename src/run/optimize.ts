@@ -3,6 +3,7 @@
  * transaction per generation. A run that was killed or stopped resumes from its last committed
  * generation when started again with the same study, seed and population.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { existsSync } from 'node:fs';
 import { designFromValues } from '../mechanics/designSpace.js';
 import { hypervolume } from '../optimizer/hypervolume.js';
@@ -145,7 +146,7 @@ function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem):
   store.setHypervolumes(runId, values);
 }
 
-export class WarmStartError extends Error {
+export class WarmStartError extends LoopsmithUserError {
   override readonly name = 'WarmStartError';
 }
 

@@ -8,6 +8,7 @@
  *   region: only the per-pose metrics over the task region; the stored workspace metrics are reused;
  * - anything else: a full evaluation.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { designFromValues } from '../mechanics/designSpace.js';
 import { WORKSPACE_METRICS } from '../mechanics/evaluate.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
@@ -17,7 +18,7 @@ import { parseStudyText, workspaceSettingsHash, type LoadedStudy } from '../stud
 import { nonDominated } from './front.js';
 import { evaluationFromOutcome, evaluationFromStored, evaluationKey, newEvaluationRecord, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
 
-export class RescoreError extends Error {
+export class RescoreError extends LoopsmithUserError {
   override readonly name = 'RescoreError';
 }
 

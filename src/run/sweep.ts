@@ -2,6 +2,7 @@
  * `loopsmith sweep`: a space-filling sample of the design space (Latin hypercube or full grid),
  * evaluated into the same store for design atlases. Written in chunks, one transaction each.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { designLayout, latinHypercube, KIND_CATEGORICAL } from '../optimizer/operators.js';
 import { SeededRandom } from '../optimizer/random.js';
 import { isFeasible } from '../optimizer/types.js';
@@ -50,7 +51,7 @@ export function gridDesigns(layout: ReturnType<typeof designLayout>, samples: nu
 }
 
 /** A sweep the study cannot give (a user error). */
-export class SweepError extends Error {
+export class SweepError extends LoopsmithUserError {
   override readonly name = 'SweepError';
 }
 

@@ -15,6 +15,7 @@
  * extra end mass the controller does not know about. A ninth state integrates the net power into the
  * chain, ∫(τ − f)·θ̇ dt, so the energy balance E(t) − E(0) = W(t) can be checked in every run.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { CycleTrajectory, FiveBarMotion, JointSpaceDynamics, jointRatesFromPath, jointSpaceDynamics, type EndPointState, type JointFriction } from '../mechanics/dutyCycle.js';
 import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../mechanics/fivebar.js';
 import {
@@ -32,7 +33,7 @@ import {
 import { ODEX_CONVERGED, createOdexSolver } from './odex.js';
 
 /** A user-facing problem with a simulation (bad options, a cycle the design cannot follow). */
-export class SimulationError extends Error {
+export class SimulationError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'SimulationError';

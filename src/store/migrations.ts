@@ -10,6 +10,7 @@
  * inside that transaction, so two processes opening the same new file do not both
  * create the schema.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { readFileSync } from 'node:fs';
 import type Database from 'better-sqlite3';
 
@@ -17,7 +18,7 @@ import type Database from 'better-sqlite3';
 export const SCHEMA_VERSION = 2;
 
 /** Raised when a database cannot be used at this schema version. */
-export class SchemaVersionError extends Error {
+export class SchemaVersionError extends LoopsmithUserError {
   override readonly name = 'SchemaVersionError';
 }
 

@@ -13,6 +13,7 @@
  *  4. orderBy and the column list are checked against the real columns and
  *     are never pasted in as free SQL.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import Database from 'better-sqlite3';
 import { existsSync } from 'node:fs';
 import { quoteIdentifier, readOnlyNames } from './store.js';
@@ -36,7 +37,7 @@ export interface QueryResult {
 }
 
 /** A refused or failed user query; the message says why. */
-export class QueryError extends Error {
+export class QueryError extends LoopsmithUserError {
   override readonly name = 'QueryError';
 }
 

@@ -6,6 +6,7 @@
  * See docs/store.md for the schema and the rules on numbers (doubles round-trip
  * exactly, ±Infinity round-trips, NaN is stored as NULL, -0 reads back as 0).
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import Database from 'better-sqlite3';
 import { createHash } from 'node:crypto';
 import { accessSync, constants, existsSync, mkdirSync, readFileSync } from 'node:fs';
@@ -232,7 +233,7 @@ function ownedByMe(run: Pick<RunRow, 'ownerPid' | 'ownerHost'>): boolean {
 }
 
 /** Raised for calls the store refuses (bad names, unknown columns, out-of-order generations...). */
-export class StoreError extends Error {
+export class StoreError extends LoopsmithUserError {
   override readonly name = 'StoreError';
 }
 

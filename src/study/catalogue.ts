@@ -5,10 +5,11 @@
  * `mass`). CSV: a header row with those field names, one option per row; cells may carry units
  * ("0.64 N*m"). Lines starting with "#" are comments in both.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { parse as parseYaml } from 'yaml';
 import type { DriveSpec } from './types.js';
 
-export class CatalogueError extends Error {
+export class CatalogueError extends LoopsmithUserError {
   override readonly name = 'CatalogueError';
 }
 

@@ -3,16 +3,17 @@
  * Validation runs in two layers: the JSON Schema in schema/study.schema.json (shape, names, enums;
  * editors can use the same file), then the unit conversion and cross-field checks here.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import { parseAllDocuments, parseDocument, stringify } from 'yaml';
-import type { AssemblyMode, JointRange } from '../mechanics/fivebar.js';
-import { metricInfo, metricKind, metricUnavailable } from '../mechanics/metrics.js';
-import { ARCHITECTURES } from '../architectures/index.js';
+import type { AssemblyMode, JointRange } from '../core/pose.js';
+import { metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
+import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
-import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../mechanics/dutyCycle.js';
+import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
 import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
@@ -31,7 +32,7 @@ import {
 import studySchema from './study.schema.json' with { type: 'json' };
 
 /** A problem with a study file that the user can fix. The message names the file and the field. */
-export class StudyError extends Error {
+export class StudyError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'StudyError';
@@ -59,10 +60,24 @@ type Json = null | boolean | number | string | Json[] | { [key: string]: Json };
 type JsonObject = { [key: string]: Json };
 
 let validator: ReturnType<Ajv['compile']> | undefined;
+
+/**
+ * The study schema as validation uses it: the file's shape with the architecture names of the one
+ * registry (src/architectures/index.ts) as the `architecture` enums. The file itself lists no names.
+ */
+export function studySchemaForRegistry(): Record<string, unknown> {
+  const schema = structuredClone(studySchema) as unknown as { properties: { architecture: { oneOf: [Record<string, unknown>, { items: Record<string, unknown> }] } } };
+  const names = [...ARCHITECTURE_NAMES];
+  const [single, list] = schema.properties.architecture.oneOf;
+  single['enum'] = names;
+  delete single['type'];
+  list.items = { enum: names };
+  return schema as unknown as Record<string, unknown>;
+}
 function validateShape(data: unknown): readonly ErrorObject[] {
   if (!validator) {
     const ajv = new Ajv({ allErrors: true, strict: false });
-    validator = ajv.compile(studySchema);
+    validator = ajv.compile(studySchemaForRegistry());
   }
   return validator(data) ? [] : (validator.errors ?? []);
 }
@@ -300,10 +315,6 @@ function positive(value: number, where: string, allowZero = false): number {
   return value;
 }
 
-/** Length parameters that may be zero or negative (positions rather than sizes). */
-const SIGNED_LENGTHS: ReadonlySet<string> = new Set(['base_rise', 'rail_height']);
-/** Length parameters that may be zero. */
-const ZERO_LENGTHS: ReadonlySet<string> = new Set(['base_rise', 'base_span', 'rail_height']);
 /** Member-study keys of a comparison study (each replaces the top-level key for that architecture). */
 const MEMBER_KEYS = ['geometry', 'working_mode', 'assembly_mode', 'joint_limits', 'mass', 'drives', 'orientation', 'friction'] as const;
 
@@ -379,10 +390,10 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     const where = `geometry.${name}`;
     const raw = geometryIn[name];
     const kind: QuantityKind = info.kind === 'angle' ? 'angle' : 'length';
-    const allowZero = ZERO_LENGTHS.has(name);
-    const signed = info.kind === 'angle' || SIGNED_LENGTHS.has(name);
+    const allowZero = info.mayBeZero === true;
+    const signed = info.kind === 'angle' || info.signed === true;
     if (raw === undefined) {
-      if (!isFiveBar && info.kind === 'length' && !ZERO_LENGTHS.has(name)) throw new StudyError(`${where}: missing (the ${architectureName} needs ${parameterNames.join(', ')})`);
+      if (!isFiveBar && info.kind === 'length' && !allowZero) throw new StudyError(`${where}: missing (the ${architectureName} needs ${parameterNames.join(', ')})`);
       geometry[name] = { kind: 'fixed', value: 0 };
     } else if (isObject(raw) && 'same_as' in raw) {
       const to = raw['same_as'] as string;
@@ -550,7 +561,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
       step,
     };
   } else if (orientationIn !== undefined) {
-    throw new StudyError(`orientation: only 3-DOF architectures (3-rrr, 3-prr) have an orientation; the ${architectureName} is 2-DOF`);
+    throw new StudyError(`orientation: only 3-DOF architectures (${ARCHITECTURE_NAMES.filter((a) => ARCHITECTURES[a].dof === 3).join(', ')}) have an orientation; the ${architectureName} is 2-DOF`);
   }
 
   const taskIn = isObject(data['task']) ? data['task'] : {};

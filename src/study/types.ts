@@ -1,20 +1,18 @@
 /**
  * A study after parsing and validation: typed, every quantity in SI units.
  */
-import type { AssemblyMode, JointRange } from '../mechanics/fivebar.js';
-import type { CyclePath, JointFriction } from '../mechanics/dutyCycle.js';
-import type { ArchitectureName, DriveAtJoint } from '../architectures/types.js';
+import type { AssemblyMode, JointRange } from '../core/pose.js';
+import type { CyclePath, JointFriction } from '../core/cycle.js';
+import { ARCHITECTURES, ARCHITECTURE_NAMES, type ArchitectureName } from '../architectures/index.js';
+import type { DriveAtJoint } from '../architectures/types.js';
 
 /** The study's mechanism architecture (see docs/architectures.md). */
 export type Architecture = ArchitectureName;
 
 /** Variable-name prefix of each architecture in a comparison study (store columns need [a-z0-9_]). */
-export const ARCHITECTURE_PREFIX: Readonly<Record<ArchitectureName, string>> = {
-  'five-bar': 'fivebar',
-  '2-prr': 'prr2',
-  '3-rrr': 'rrr3',
-  '3-prr': 'prr3',
-};
+export const ARCHITECTURE_PREFIX: Readonly<Record<ArchitectureName, string>> = Object.fromEntries(
+  ARCHITECTURE_NAMES.map((name) => [name, ARCHITECTURES[name].variablePrefix]),
+) as Record<ArchitectureName, string>;
 
 /** Geometry parameters of the five-bar, in the order design vectors list them. */
 export const FIVE_BAR_PARAMETERS = ['base_span', 'base_rise', 'crank_1', 'rod_1', 'crank_2', 'rod_2'] as const;

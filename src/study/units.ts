@@ -43,56 +43,13 @@
  * notation (exponent a multiple of 3, e.g. "125e3 N/m") outside that range.
  */
 
-export type QuantityKind =
-  | 'length'
-  | 'mass'
-  | 'time'
-  | 'angle'
-  | 'speed'
-  | 'acceleration'
-  | 'angularSpeed'
-  | 'angularAcceleration'
-  | 'force'
-  | 'torque'
-  | 'rotationalStiffness'
-  | 'linearStiffness'
-  | 'modulus' /* Pa */
-  | 'density' /* kg/m^3 */
-  | 'massPerLength' /* kg/m */
-  | 'inertia' /* kg*m^2 */
-  | 'area'
-  | 'secondMomentOfArea' /* m^4 */
-  | 'frequency'
-  | 'power'
-  | 'dimensionless';
-
-/** Every quantity kind, in a stable order (useful for schema generation and tests). */
-export const QUANTITY_KINDS: readonly QuantityKind[] = [
-  'length',
-  'mass',
-  'time',
-  'angle',
-  'speed',
-  'acceleration',
-  'angularSpeed',
-  'angularAcceleration',
-  'force',
-  'torque',
-  'rotationalStiffness',
-  'linearStiffness',
-  'modulus',
-  'density',
-  'massPerLength',
-  'inertia',
-  'area',
-  'secondMomentOfArea',
-  'frequency',
-  'power',
-  'dimensionless',
-];
+export type { QuantityKind } from '../core/quantities.js';
+export { QUANTITY_KINDS } from '../core/quantities.js';
+import { LoopsmithUserError } from '../core/errors.js';
+import { QUANTITY_KINDS, type QuantityKind } from '../core/quantities.js';
 
 /** Thrown for any quantity that cannot be read; the message names the field. */
-export class UnitError extends Error {
+export class UnitError extends LoopsmithUserError {
   constructor(message: string) {
     super(message);
     this.name = 'UnitError';

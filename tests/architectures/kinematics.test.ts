@@ -4,8 +4,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { fiveBar } from '../../src/architectures/fivebar.js';
-import { buildLeggedModel, leggedPoseDynamics, solveLeggedPose } from '../../src/architectures/legged.js';
-import { ArchitecturePose, PoseStatus, type ModelInput } from '../../src/architectures/types.js';
+import { PoseStatus, type ModelInput } from '../../src/architectures/types.js';
+import { FiveBarPose, poseDynamics as formerPoseDynamics, solvePose as formerSolvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
 import { CASES, findPoses, TUBE, LIGHT_TUBE, withMode } from './models.js';
 
 function relativeError(a: ArrayLike<number>, b: ArrayLike<number>): number {
@@ -148,48 +148,65 @@ describe('five-bar behind the interface', () => {
     drives: [0, 1].map(() => ({ reflectedInertia: 0.004, jointStiffness: 3e4, peakEffort: 20, ratedEffort: 8, maxSpeed: 6, encoderStep: 1e-4 })),
   };
 
-  it('the adapter reports the engine numbers, and the shared leg engine with two revolute legs gives the same J, D, τ_g, K_x', () => {
+  /** The five-bar's former engine model of the same input (the lumping of src/mechanics/designSpace.ts buildFiveBarModel). */
+  function formerEngineModel(mode: string, assembly: 1 | -1): FiveBarModel {
+    const crank = [0.2, 0.16] as const;
+    const rod = [0.28, 0.32] as const;
+    const cranks = [TUBE, LIGHT_TUBE] as const;
+    const rods = [LIGHT_TUBE, TUBE] as const;
+    const hub = 0.12;
+    const crankMass = [cranks[0].massPerLength * crank[0], cranks[1].massPerLength * crank[1]] as const;
+    const rodMass = [rods[0].massPerLength * rod[0], rods[1].massPerLength * rod[1]] as const;
+    const bending = (i: 0 | 1): number => crank[i] ** 2 / 3e4 + crank[i] ** 3 / (3 * cranks[i].youngsModulus * cranks[i].secondMoment);
+    return {
+      pivotX: [-0.11, 0.11], pivotY: [0, 0.05], crank, rod,
+      sigma: [mode[0] === '+' ? 1 : -1, mode[1] === '+' ? 1 : -1], assembly, jointLimits: [null, null],
+      crankInertiaAboutPivot: [(crankMass[0] * crank[0] ** 2) / 3 + hub * crank[0] ** 2, (crankMass[1] * crank[1] ** 2) / 3 + hub * crank[1] ** 2],
+      crankFirstMoment: [(crankMass[0] * crank[0]) / 2 + hub * crank[0], (crankMass[1] * crank[1]) / 2 + hub * crank[1]],
+      rodMass, rodComDistance: [rod[0] / 2, rod[1] / 2], rodInertiaAboutCom: [(rodMass[0] * rod[0] ** 2) / 12, (rodMass[1] * rod[1] ** 2) / 12],
+      endMass: 0.05 + 0.6, reflectedInertia: [0.004, 0.004], gravity: [0, -9.81],
+      complianceBending: [bending(0), bending(1)],
+      complianceCrankAxial: [crank[0] / (cranks[0].youngsModulus * cranks[0].area), crank[1] / (cranks[1].youngsModulus * cranks[1].area)],
+      complianceRodAxial: [rod[0] / (rods[0].youngsModulus * rods[0].area), rod[1] / (rods[1].youngsModulus * rods[1].area)],
+    };
+  }
+
+  it('the five-bar on the leg layer gives the former five-bar engine\'s J, D, τ_g, K_x, M_x, 1/κ and frequencies', () => {
     let worst = 0;
     let checked = 0;
     for (const mode of fiveBar.workingModes) {
       for (const assembly of [1, -1] as const) {
         const model = fiveBar.buildModel({ ...input, workingMode: mode, assembly });
-        const legged = buildLeggedModel(
-          'five-bar',
-          2,
-          [
-            { actuator: 'revolute', base: [-0.11, 0], crank: 0.2, rod: 0.28 },
-            { actuator: 'revolute', base: [0.11, 0.05], crank: 0.16, rod: 0.32 },
-          ],
-          [mode[0] === '+' ? 1 : -1, mode[1] === '+' ? 1 : -1],
-          { ...input, workingMode: mode, assembly },
-        );
+        const former = formerEngineModel(mode, assembly);
         const pose = fiveBar.createPose();
-        const generic = new ArchitecturePose(2);
+        const engine = new FiveBarPose();
         for (let x = -0.3; x <= 0.3; x += 0.05) {
           for (let y = -0.4; y <= 0.45; y += 0.05) {
             const status = fiveBar.solvePose(model, pose, x, y);
-            const genericStatus = solveLeggedPose(legged, generic, x, y);
-            expect(genericStatus).toBe(status);
+            expect(formerSolvePose(former, engine, x, y)).toBe(status);
             if (status !== PoseStatus.Assembled || pose.inverseCondition < 0.05) continue;
             fiveBar.poseDynamics(model, pose);
-            leggedPoseDynamics(legged, generic);
-            // The adapter copies the engine: spot-check against the engine pose itself.
-            const engine = (pose as unknown as { engine: { tauG1: number; d12: number } }).engine;
-            expect(pose.tauG[0]).toBe(engine.tauG1);
-            expect(pose.D[1]).toBe(engine.d12);
-            for (const [a, b] of [[generic.J, pose.J], [generic.D, pose.D], [generic.tauG, pose.tauG], [generic.Kx, pose.Kx], [generic.Mx, pose.Mx]] as const) {
-              worst = Math.max(worst, relativeError(a, b));
-            }
-            worst = Math.max(worst, Math.abs(generic.inverseCondition - pose.inverseCondition), Math.abs(generic.frequencies[0]! - pose.frequencies[0]!) / pose.frequencies[0]!);
+            formerPoseDynamics(former, engine);
+            const e = engine;
+            const pairs: [ArrayLike<number>, number[]][] = [
+              [pose.J, [e.j11, e.j12, e.j21, e.j22]],
+              [pose.D, [e.d11, e.d12, e.d12, e.d22]],
+              [pose.tauG, [e.tauG1, e.tauG2]],
+              [pose.Kx, [e.kx11, e.kx12, e.kx12, e.kx22]],
+              [pose.Mx, [e.mx11, e.mx12, e.mx12, e.mx22]],
+            ];
+            for (const [a, b] of pairs) worst = Math.max(worst, relativeError(a, Float64Array.from(b)));
+            expect(pose.inverseCondition).toBe(e.inverseCondition);
+            expect(pose.detA).toBe(e.detA);
+            worst = Math.max(worst, Math.abs(e.frequencyLow - pose.frequencies[0]!) / e.frequencyLow);
             checked++;
           }
         }
       }
     }
-    measured.push(`five-bar: shared leg engine vs src/mechanics/fivebar.ts, worst relative difference ${worst.toExponential(2)} over ${checked} poses`);
+    measured.push(`five-bar: leg layer vs the former engine src/mechanics/fivebar.ts, worst relative difference ${worst.toExponential(2)} over ${checked} poses`);
     expect(checked).toBeGreaterThan(100);
-    // Two independent codings of the same formulas (README "The five-bar model"): rounding only.
+    // Two codings of the same formulas (README "The five-bar model"): rounding only.
     expect(worst).toBeLessThan(1e-12);
   });
 });

@@ -5,6 +5,7 @@
 import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
+import { rpr3 } from '../../src/architectures/rpr3.js';
 import { PoseStatus, type LinkSection, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import type { LeggedModel } from '../../src/architectures/legged.js';
 
@@ -55,6 +56,20 @@ export const PRR3_INPUT: ModelInput = {
   drives: [0, 1, 2].map(() => ({ reflectedInertia: 0.8, jointStiffness: 1e6, peakEffort: 300, ratedEffort: 100, maxSpeed: 1.5, encoderStep: 1e-6 })),
 };
 
+/** 3-RPR with strokes 0.12 m to 0.45 m (the retracted length is the housing and tube length). */
+export const RPR3_INPUT: ModelInput = {
+  parameters: { base_radius: 0.3, platform_radius: 0.08, platform_twist: 0.25 },
+  workingMode: '+++',
+  assembly: 1,
+  jointLimits: [0, 1, 2].map(() => ({ min: 0.12, max: 0.45 })),
+  rods: [TUBE, LIGHT_TUBE, TUBE],
+  sliderMass: 0.6,
+  platform: { mass: 0.55, inertiaAboutCentre: 0.0012 },
+  payloadMass: 0.3,
+  gravity: [0.8, -9.81],
+  drives: [0, 1, 2].map(() => ({ reflectedInertia: 0.9, jointStiffness: 1.2e6, peakEffort: 300, ratedEffort: 100, maxSpeed: 1, encoderStep: 1e-6 })),
+};
+
 export interface ArchitectureCase {
   readonly label: string;
   readonly architecture: PlanarArchitecture<LeggedModel>;
@@ -67,6 +82,7 @@ export const CASES: readonly ArchitectureCase[] = [
   { label: '2-PRR', architecture: prr2, input: PRR2_INPUT, box: { x: 0, y: 0.05, half: 0.3, phiHalf: 0 } },
   { label: '3-RRR', architecture: rrr3, input: RRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
   { label: '3-PRR', architecture: prr3, input: PRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
+  { label: '3-RPR', architecture: rpr3, input: RPR3_INPUT, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.6 } },
 ];
 
 /** Deterministic random numbers in [0, 1) (mulberry32). */

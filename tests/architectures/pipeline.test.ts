@@ -20,7 +20,7 @@ import { driveAtJoint } from '../../src/study/drives.js';
 import { assertBuilt, dumpDatabase, makeTemporaryDirectory, removeTemporaryDirectories, REPO_ROOT, runArgs, runCli } from '../fixtures/harness.js';
 
 const STUDY = (name: string): string => join(REPO_ROOT, 'studies', name);
-const DEMOS = ['rail-sorter-2prr.yaml', 'platform-3rrr.yaml', 'platform-3prr.yaml'] as const;
+const DEMOS = ['rail-sorter-2prr.yaml', 'platform-3rrr.yaml', 'platform-3prr.yaml', 'platform-3rpr.yaml'] as const;
 
 function metric(values: Float64Array, name: string): number {
   return values[metricIndex(name)]!;

@@ -1,0 +1,125 @@
+/**
+ * Leg kinds of the leg layer (src/architectures/legged.ts). A leg joins the base to the distal joint
+ * B_i (the end point of a 2-DOF mechanism, or a platform pin of a 3-DOF one) through one actuated
+ * joint. Each kind lives in its own file and supplies, for leg i of a `LeggedModel`:
+ * - `lump`: its model fields (inertia, compliance, moving mass) from the geometry and the input;
+ * - `solve`: inverse kinematics to B_i in its working-mode sign, its velocity row (A row u_iᵀ, B_ii)
+ *   and transmission sine, its reach margin and its joint margin;
+ * - `addBodies`: its bodies' contribution to D and τ_g (the velocity map of B_i is given);
+ * - `compliance`: its compliance along its line of action, m/N;
+ * - `circle`, `reachBox`, `basePoints`, `reach`: forward kinematics, bounding box and size;
+ * - `bodies`: its body list (joint, axis, mass, centre of mass, inertia) for exports.
+ */
+import type { ActuatorKind, ArchitecturePose, DriveAtJoint, LinkSection } from '../types.js';
+import type { JointRange } from '../../core/pose.js';
+
+/** Leg geometry an architecture derives from its parameters. */
+export interface LegGeometry {
+  /** Actuator kind; with no `leg`, picks the crank + rod (revolute) or slider + rod (prismatic) leg. */
+  readonly actuator: ActuatorKind;
+  /** Leg kind (default from `actuator`). */
+  readonly leg?: LegKind;
+  /** Base point: pivot A_i (crank, strut) or rail origin O_i (slider), m. */
+  readonly base: readonly [number, number];
+  /** Rail angle from the x axis, rad (slider only). */
+  readonly railAngle?: number;
+  /** Crank length, m (crank only). */
+  readonly crank?: number;
+  /** Rod length, m (crank, slider); ignored by the strut, whose length is its joint position. */
+  readonly rod: number;
+  /** Distal pin in the platform frame, m (3-DOF). */
+  readonly platformPin?: readonly [number, number];
+}
+
+/** What a leg contributes to the immutable model (see LeggedModel for each field's meaning). */
+export interface LegLumped {
+  readonly crank: number;
+  readonly rod: number;
+  readonly proximalInertia: number;
+  readonly proximalFirstMoment: number;
+  readonly rodMass: number;
+  readonly rodComDistance: number;
+  readonly rodInertiaAboutCom: number;
+  readonly complianceTransverse: number;
+  readonly complianceProximalAxial: number;
+  readonly complianceRodAxial: number;
+  /** Moving mass of the leg's actuated body (crank with hub, slider, strut housing), kg. */
+  readonly proximalMass: number;
+}
+
+/** Masses, sections and drive of one leg, taken from the model input. */
+export interface LegInput {
+  readonly crankSection: LinkSection;
+  readonly rodSection: LinkSection;
+  readonly elbowHubMass: number;
+  readonly sliderMass: number;
+  readonly drive: DriveAtJoint | null;
+  readonly jointLimit: JointRange | null;
+}
+
+/** One rigid body of a leg, in the pose's current configuration (for exports and drawings). */
+export interface LegBody {
+  readonly name: string;
+  /** Joint that carries the body: a hinge about the plane normal or a slide along `axis`. */
+  readonly joint: 'hinge' | 'slide';
+  /** Joint position and, for a slide, its unit direction (m; for a hinge the axis is the plane normal). */
+  readonly jointPosition: readonly [number, number];
+  readonly axis: readonly [number, number];
+  readonly mass: number;
+  readonly centreOfMass: readonly [number, number];
+  /** Inertia about the centre of mass, about the plane normal, kg·m². */
+  readonly inertia: number;
+}
+
+/** The model fields a leg kind reads (a `LeggedModel` has them all). */
+export interface LegModelView {
+  readonly dof: 2 | 3;
+  readonly baseX: readonly number[];
+  readonly baseY: readonly number[];
+  readonly railX: readonly number[];
+  readonly railY: readonly number[];
+  readonly crank: readonly number[];
+  readonly rod: readonly number[];
+  readonly sigma: readonly number[];
+  readonly jointLimits: readonly (JointRange | null)[];
+  readonly proximalMass: readonly number[];
+  readonly proximalInertia: readonly number[];
+  readonly proximalFirstMoment: readonly number[];
+  readonly rodMass: readonly number[];
+  readonly rodComDistance: readonly number[];
+  readonly rodInertiaAboutCom: readonly number[];
+  readonly reflectedInertia: readonly number[];
+  readonly complianceTransverse: readonly number[];
+  readonly complianceProximalAxial: readonly number[];
+  readonly complianceRodAxial: readonly number[];
+}
+
+export interface LegKind {
+  readonly name: 'crank-rod' | 'slider-rod' | 'strut';
+  readonly actuator: ActuatorKind;
+  lump(geometry: LegGeometry, input: LegInput): LegLumped;
+  /**
+   * Inverse kinematics of leg i to the distal joint (bx, by): writes q_i, the actuator direction,
+   * proximal joint, rod direction u_i, leg sine s_i, A row entries (u_iᵀ) and B_ii, and the leg's
+   * reach margin in pose.legReach[i] (m, negative outside its reach). Returns the joint margin
+   * (rad or m, +∞ when unlimited), or NaN when the leg cannot reach B_i.
+   */
+  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): number;
+  /**
+   * Adds the leg's bodies to pose.D and pose.tauG and writes its rod-rate row, given the velocity
+   * map of B_i per unit joint rate in pose.work2 (see legs/bodies.ts for the layout).
+   */
+  addBodies(model: LegModelView, i: number, pose: ArchitecturePose, gx: number, gy: number): void;
+  /** Compliance of the leg along its line of action at leg sine s, m/N. */
+  compliance(model: LegModelView, i: number, legSine: number): number;
+  /** Forward kinematics: B_i lies on the circle (centre, radius) for joint position q; writes cx, cy, r. */
+  circle(model: LegModelView, i: number, q: number, out: Float64Array): void;
+  /** Box holding every reachable B_i translated by (−ox, −oy) from the base: writes xmin, xmax, ymin, ymax. */
+  reachBox(model: LegModelView, i: number, ox: number, oy: number, out: Float64Array): void;
+  /** Fixed points of the leg on the base (pivot; the stroke ends of a limited rail, else its origin). */
+  basePoints(model: LegModelView, i: number): [number, number][];
+  /** Longest distance from the base point to B_i, m. */
+  reach(model: LegModelView, i: number): number;
+  /** The leg's bodies at the pose last solved. */
+  bodies(model: LegModelView, i: number, pose: ArchitecturePose): LegBody[];
+}

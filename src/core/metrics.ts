@@ -1,0 +1,96 @@
+/**
+ * The metric catalogue: every quantity a design evaluation reports, with its unit and meaning.
+ * The order here is the order of columns in tables, the store and exports.
+ */
+import type { QuantityKind } from './quantities.js';
+
+export interface MetricInfo {
+  readonly name: string;
+  readonly kind: QuantityKind;
+  /** Which direction is better, when the metric is used as an objective. */
+  readonly better: 'min' | 'max';
+  /** One-line meaning, in the project's own words, shown by `loopsmith check` and the README. */
+  readonly description: string;
+}
+
+export const METRICS: readonly MetricInfo[] = [
+  { name: 'reachable_area', kind: 'area', better: 'max', description: 'area both legs can reach, before any quality filter' },
+  { name: 'workspace_area', kind: 'area', better: 'max', description: 'area of the usable (singularity-free, well-conditioned) workspace region' },
+  { name: 'task_coverage', kind: 'dimensionless', better: 'max', description: 'fraction of the task region inside the usable workspace (1 = all of it)' },
+  { name: 'inscribed_radius', kind: 'length', better: 'max', description: 'radius of the largest circle that fits inside the usable workspace' },
+  { name: 'gci', kind: 'dimensionless', better: 'max', description: 'area-mean of 1/κ(J) over the evaluation region (global conditioning index)' },
+  { name: 'min_inv_condition', kind: 'dimensionless', better: 'max', description: 'worst 1/κ(J) over the evaluation region' },
+  { name: 'min_transmission_angle', kind: 'angle', better: 'max', description: 'worst transmission angle (crank–rod or rod–rod) over the evaluation region' },
+  { name: 'min_stiffness', kind: 'linearStiffness', better: 'max', description: 'smallest eigenvalue of the end-point stiffness K_x over the evaluation region' },
+  { name: 'peak_gravity_torque', kind: 'torque', better: 'min', description: 'largest static holding torque at any actuator joint, payload included' },
+  { name: 'peak_gravity_torque_1', kind: 'torque', better: 'min', description: 'largest static holding torque at joint 1' },
+  { name: 'peak_gravity_torque_2', kind: 'torque', better: 'min', description: 'largest static holding torque at joint 2' },
+  { name: 'bandwidth', kind: 'frequency', better: 'max', description: 'lowest natural frequency of the end point over the evaluation region' },
+  { name: 'accel_capability', kind: 'acceleration', better: 'max', description: 'end-point acceleration available in every direction from standstill, at the worst pose' },
+  { name: 'peak_joint_speed', kind: 'angularSpeed', better: 'min', description: 'largest actuator joint speed needed to move the end point at the required speed' },
+  { name: 'peak_joint_speed_1', kind: 'angularSpeed', better: 'min', description: 'largest joint-1 speed for the required end-point speed' },
+  { name: 'peak_joint_speed_2', kind: 'angularSpeed', better: 'min', description: 'largest joint-2 speed for the required end-point speed' },
+  { name: 'resolution', kind: 'length', better: 'min', description: 'largest end-point step caused by one encoder count' },
+  { name: 'footprint', kind: 'length', better: 'min', description: 'size proxy: pivot distance plus the longer leg reach' },
+  { name: 'moving_mass', kind: 'mass', better: 'min', description: 'mass of cranks, rods and hubs (payload not included)' },
+  // Duty cycle (NaN when the study gives no duty_cycle); see docs/duty-cycle.md.
+  { name: 'cycle_peak_torque', kind: 'torque', better: 'min', description: 'largest actuator torque |τ_i| along the duty cycle (inertia, velocity terms, gravity, friction)' },
+  { name: 'cycle_peak_torque_1', kind: 'torque', better: 'min', description: 'largest joint-1 torque along the duty cycle' },
+  { name: 'cycle_peak_torque_2', kind: 'torque', better: 'min', description: 'largest joint-2 torque along the duty cycle' },
+  { name: 'cycle_rms_torque', kind: 'torque', better: 'min', description: 'larger of the two actuators\' RMS torques over the duty cycle (root of the time-mean of τ²)' },
+  { name: 'cycle_rms_torque_1', kind: 'torque', better: 'min', description: 'RMS joint-1 torque over the duty cycle' },
+  { name: 'cycle_rms_torque_2', kind: 'torque', better: 'min', description: 'RMS joint-2 torque over the duty cycle' },
+  { name: 'cycle_peak_speed', kind: 'angularSpeed', better: 'min', description: 'largest actuator joint speed along the duty cycle' },
+  { name: 'cycle_peak_speed_1', kind: 'angularSpeed', better: 'min', description: 'largest joint-1 speed along the duty cycle' },
+  { name: 'cycle_peak_speed_2', kind: 'angularSpeed', better: 'min', description: 'largest joint-2 speed along the duty cycle' },
+  { name: 'cycle_peak_power', kind: 'power', better: 'min', description: 'largest joint power |τ_i θ̇_i| of either actuator along the duty cycle' },
+  { name: 'cycle_peak_power_1', kind: 'power', better: 'min', description: 'largest joint-1 power along the duty cycle' },
+  { name: 'cycle_peak_power_2', kind: 'power', better: 'min', description: 'largest joint-2 power along the duty cycle' },
+  { name: 'min_cycle_time', kind: 'time', better: 'min', description: 'shortest duty-cycle time the drives allow (peak and RMS torque, speed), moves scaled, dwells kept' },
+  // Third actuator and orientation (3-DOF platforms; NaN for 2-DOF architectures); see docs/architectures.md.
+  { name: 'peak_gravity_torque_3', kind: 'torque', better: 'min', description: 'largest static holding effort at joint 3 (3-DOF)' },
+  { name: 'peak_joint_speed_3', kind: 'angularSpeed', better: 'min', description: 'largest joint-3 speed for the required end-point speed (3-DOF)' },
+  { name: 'orientation_margin', kind: 'angle', better: 'max', description: 'worst margin of the orientation requirement φ_0 ± Δφ over the task points (≥ 0: met everywhere; −π where nothing is reachable)' },
+  { name: 'orientation_range', kind: 'angle', better: 'max', description: 'smallest width, over the task points, of the usable orientation range that holds φ_0 (2π = full turn)' },
+];
+
+export type MetricName = (typeof METRICS)[number]['name'];
+export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
+const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
+
+/** Metrics of one actuator's effort: N·m for a crank, N for a slider (the names stay). */
+const EFFORT_METRICS: ReadonlySet<string> = new Set(['peak_gravity_torque', 'peak_gravity_torque_1', 'peak_gravity_torque_2', 'peak_gravity_torque_3']);
+/** Metrics of one actuator's speed: rad/s for a crank, m/s for a slider. */
+const SPEED_METRICS: ReadonlySet<string> = new Set(['peak_joint_speed', 'peak_joint_speed_1', 'peak_joint_speed_2', 'peak_joint_speed_3']);
+
+/**
+ * Quantity kind of a metric for an architecture's actuators: the per-actuator effort and speed
+ * metrics are forces (N) and speeds (m/s) when the actuators are sliders; every other metric keeps
+ * the kind in METRICS. `actuators` absent = the five-bar (revolute).
+ */
+export function metricKind(name: string, actuators?: readonly ('revolute' | 'prismatic')[]): QuantityKind {
+  const info = BY_NAME.get(name)?.info;
+  if (!info) throw new Error(`unknown metric "${name}"`);
+  if (actuators && actuators.length > 0 && actuators.every((a) => a === 'prismatic')) {
+    if (EFFORT_METRICS.has(name)) return 'force';
+    if (SPEED_METRICS.has(name)) return 'speed';
+  }
+  return info.kind;
+}
+
+/** Why a metric is not available for an architecture with `dof` actuators, or null when it is. */
+export function metricUnavailable(name: string, dof: number): string | null {
+  if (dof < 3 && (name.endsWith('_3') || name.startsWith('orientation_'))) return 'exists for 3-DOF architectures only';
+  return null;
+}
+
+
+export function metricIndex(name: string): number {
+  const hit = BY_NAME.get(name);
+  if (!hit) throw new Error(`unknown metric "${name}"`);
+  return hit.index;
+}
+
+export function metricInfo(name: string): MetricInfo | undefined {
+  return BY_NAME.get(name)?.info;
+}

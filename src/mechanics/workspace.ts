@@ -1,0 +1,133 @@
+/**
+ * The one workspace sampler: the evaluation grid over the reachable box of a design (clipped to the
+ * study's window), with every node's reach margin (m) and usability margin (dimensionless, the one
+ * rule of usability.ts), the connected usable regions and the region the evaluator measures (the one
+ * holding the task centre, else the largest). The evaluator runs it for every design; maps and
+ * exports call `sampleWorkspace` to draw exactly what the metrics measured.
+ */
+import { PoseStatus } from '../core/pose.js';
+import type { ArchitectureModelBase, ArchitecturePose, PlanarArchitecture, PlaneBox } from '../architectures/types.js';
+import type { Study } from '../study/types.js';
+import { MarginGrid } from './grid.js';
+import { architectureUsableMargin, jointMarginScale } from './usability.js';
+
+/** Called for every grid node after it is solved (the pose holds the node's solution). */
+export type NodeVisitor = (index: number, pose: ArchitecturePose, status: PoseStatus) => void;
+
+/** Reachable box at φ of a design, clipped to the study's window; null when empty. Throws when unbounded. */
+export function evaluationBox(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, phi: number): PlaneBox | null {
+  const raw = architecture.reachableBox(model, phi);
+  if (!raw) return null;
+  const w = study.evaluation.window;
+  const box = w
+    ? { xmin: Math.max(raw.xmin, w.xmin), xmax: Math.min(raw.xmax, w.xmax), ymin: Math.max(raw.ymin, w.ymin), ymax: Math.min(raw.ymax, w.ymax) }
+    : raw;
+  if (!(box.xmax > box.xmin && box.ymax > box.ymin)) return null;
+  if (![box.xmin, box.xmax, box.ymin, box.ymax].every(Number.isFinite)) {
+    throw new Error(`${study.architecture}: the reachable box is unbounded; give strokes (joint_limits) or evaluation.window`);
+  }
+  return box;
+}
+
+/** The joint-margin scale of a model in the usability rule (see jointMarginScale). */
+export function modelJointScale(model: ArchitectureModelBase): number {
+  return jointMarginScale(model.actuators, 'rod' in model ? (model as { rod: readonly number[] }).rod : undefined);
+}
+
+/**
+ * Samples the grid over `box` (laid out with `cells` across its longer side): grid.values holds the
+ * usability margin, grid.secondary the reach margin of every node; labels the usable regions.
+ * Returns the label of the evaluation region (−1 when there is none). A window bounds the region:
+ * nodes outside it count as unreachable, with the signed distance to its edge (m; divided by the
+ * footprint for the dimensionless margin).
+ */
+export function sampleGrid(
+  study: Study,
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  pose: ArchitecturePose,
+  grid: MarginGrid,
+  box: PlaneBox,
+  phi: number,
+  cells: number = study.evaluation.gridCells,
+  visit?: NodeVisitor,
+): number {
+  const jointScale = modelJointScale(model);
+  grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
+  const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
+  const w = study.evaluation.window;
+  const scale = w ? architecture.footprint(model) : 1;
+  for (let j = 0; j < ny; j++) {
+    const y = y0 + j * h;
+    for (let i = 0; i < nx; i++) {
+      const x = x0 + i * h;
+      const status = architecture.solvePose(model, pose, x, y, phi);
+      let r = pose.reachMargin;
+      let u = architectureUsableMargin(pose, status, study, jointScale);
+      if (w) {
+        const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
+        if (inside < r) r = inside;
+        if (inside / scale < u) u = inside / scale;
+      }
+      reach[j * nx + i] = r;
+      values[j * nx + i] = u;
+      if (visit) visit(j * nx + i, pose, status);
+    }
+  }
+  grid.labelRegions();
+  const taskRegion = study.task.region;
+  if (!taskRegion) return grid.workspaceRegion(null, false);
+  const centreStatus = architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi);
+  return grid.workspaceRegion({ x: taskRegion.centreX, y: taskRegion.centreY }, architectureUsableMargin(pose, centreStatus, study, jointScale) >= 0);
+}
+
+/** Grid fields of one design for maps and exports (any architecture). */
+export interface WorkspaceSample {
+  readonly grid: MarginGrid;
+  /** Label of the evaluation region, or −1. */
+  readonly region: number;
+  /** Per node: pose status, 1/κ(J_h), mechanism sine and leg sines (n per node, leg-major within a node). */
+  readonly status: Uint8Array;
+  readonly inverseCondition: Float64Array;
+  readonly mechanismSine: Float64Array;
+  readonly legSines: Float64Array;
+  /** Largest inscribed circle of the evaluation region: radius (m). */
+  readonly inscribedRadius: number;
+}
+
+/**
+ * The evaluator's grid for one design at orientation φ, with per-node fields for a map; null when
+ * nothing is reachable. `cells` defaults to the study's evaluation.grid_cells.
+ */
+export function sampleWorkspace(
+  study: Study,
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  phi = 0,
+  cells: number = study.evaluation.gridCells,
+): WorkspaceSample | null {
+  const box = evaluationBox(study, architecture, model, phi);
+  if (!box) return null;
+  const grid = new MarginGrid(cells + 4);
+  const pose = architecture.createPose();
+  const n = architecture.dof;
+  let status = new Uint8Array(0);
+  let inverseCondition = new Float64Array(0);
+  let mechanismSine = new Float64Array(0);
+  let legSines = new Float64Array(0);
+  const region = sampleGrid(study, architecture, model, pose, grid, box, phi, cells, (index, p, s) => {
+    if (index === 0) {
+      const count = grid.nx * grid.ny;
+      status = new Uint8Array(count);
+      inverseCondition = new Float64Array(count);
+      mechanismSine = new Float64Array(count);
+      legSines = new Float64Array(count * n);
+    }
+    status[index] = s;
+    if (s === PoseStatus.Unreachable) return;
+    inverseCondition[index] = p.inverseCondition;
+    mechanismSine[index] = p.mechanismSine;
+    for (let i = 0; i < n; i++) legSines[index * n + i] = p.legSine[i]!;
+  });
+  return { grid, region, status, inverseCondition, mechanismSine, legSines, inscribedRadius: grid.inscribedRadius(region) };
+}

@@ -2,6 +2,7 @@
 import { accessSync, constants, existsSync, mkdirSync } from 'node:fs';
 import { dirname, extname } from 'node:path';
 import type { Argv } from 'yargs';
+import { LoopsmithUserError } from '../core/errors.js';
 import { designMapSpec, usesFiveBarMap } from '../report/designMap.js';
 import { renderWorkspaceMap } from '../report/map.js';
 import { renderVegaLiteSvg, svgToPng } from '../report/render.js';
@@ -20,12 +21,7 @@ function asStrings(value: unknown): string[] {
   return (Array.isArray(value) ? value : [value]).map(String);
 }
 
-class ReportUsageError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = 'StoreError';
-  }
-}
+class ReportUsageError extends LoopsmithUserError {}
 
 export function registerReportCommands(cli: Argv): Argv {
   return cli

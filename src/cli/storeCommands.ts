@@ -9,7 +9,7 @@ import { runOptimization, type GenerationProgress, type RunSummary } from '../ru
 import { runSweep } from '../run/sweep.js';
 import { rescoreRun } from '../run/rescore.js';
 import { queryEvaluations } from '../store/query.js';
-import { runState, Store, type RunRow, type RunState } from '../store/store.js';
+import { runState, Store, StoreError, type RunRow, type RunState } from '../store/store.js';
 import { toCsv } from '../store/format.js';
 import { constraintDefinitions } from '../mechanics/evaluate.js';
 import type { Study } from '../study/types.js';
@@ -154,6 +154,7 @@ export function registerStoreCommands(cli: Argv): Argv {
       async (args) => {
         const loaded = loadStudyFile(args.study);
         const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
+        const existed = existsSync(dbPath);
         const interrupt = interruptFlag(args.quiet);
         const progress = progressReporter(args.quiet, 'designs');
         try {
@@ -167,7 +168,10 @@ export function registerStoreCommands(cli: Argv): Argv {
             onChunk: (p) => progress.update(p.done, p.total, { rate: p.evaluationsPerSecond, hv: '—', feasible: p.feasible, elapsed: p.elapsedSeconds }),
           });
           progress.stop();
-          if (!args.quiet) out(`${result.status} sweep run ${result.runId}: ${result.evaluations} designs, ${result.feasible} feasible\ndatabase: ${dbPath}`);
+          if (!args.quiet) out(`${result.status} sweep run ${result.runId}: ${result.evaluations} designs, ${result.feasible} feasible\ndatabase: ${dbPath}\nnext: ${commandLine(['front', dbPath])}`);
+        } catch (error) {
+          removeEmptyStore(dbPath, existed);
+          throw error;
         } finally {
           progress.stop();
           interrupt.dispose();
@@ -452,11 +456,7 @@ function parseFrom(text: string): { dbPath: string; runId?: number } {
 
 /** Refuse a database path that does not exist (opening would create it). */
 function requireDatabase(path: string): void {
-  if (!existsSync(path)) {
-    const error = new Error(`${path}: no such database (run a study first: loopsmith run STUDY)`);
-    error.name = 'StoreError';
-    throw error;
-  }
+  if (!existsSync(path)) throw new StoreError(`${path}: no such database (run a study first: ${programName()} run STUDY --db ${path})`);
 }
 
 function openExisting(path: string): Store {

@@ -2,8 +2,31 @@
  * loopsmith programmatic API. The `loopsmith` command is a thin layer over these exports.
  * All quantities are SI (m, kg, s, rad, N, N·m) unless a name says otherwise.
  */
+// Main entry points, with their arguments checked (a wrong one throws ApiArgumentError)
+export {
+  loadStudyFile,
+  parseStudyText,
+  designVariables,
+  chooseDesign,
+  evaluateDesign,
+  probeDesign,
+  Evaluator,
+  runOptimization,
+  runSweep,
+  rescoreRun,
+  runFront,
+  queryEvaluations,
+  exportCandidates,
+  writeReport,
+  workspaceMapSpec,
+  renderWorkspaceMap,
+  type StudyInput,
+} from './public/api.js';
+export { ApiArgumentError, type DesignOverrides } from './public/arguments.js';
+export { loopsmithVersion, demoStudyNames, demoStudyPath, packageFile } from './public/packageFiles.js';
+
 // Study files
-export { loadStudyFile, parseStudyText, StudyError, evaluationSettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
+export { StudyError, evaluationSettingsHash, studySettingsHash, MATERIALS, type LoadedStudy } from './study/parse.js';
 export type * from './study/types.js';
 export { parseQuantity, formatQuantity, UnitError, type QuantityKind } from './study/units.js';
 export { STUDY_TEMPLATE } from './study/template.js';
@@ -22,35 +45,45 @@ export {
   type AssemblyMode,
   type JointRange,
 } from './mechanics/fivebar.js';
-export { Evaluator, constraintDefinitions, taskSamples, type DesignEvaluation, type ConstraintDefinition } from './mechanics/evaluate.js';
+export { constraintDefinitions, taskSamples, type DesignEvaluation, type ConstraintDefinition } from './mechanics/evaluate.js';
 export { METRICS, metricInfo, type MetricInfo } from './mechanics/metrics.js';
-export { designVariables, designFromValues, designToValues, resolveDesign, buildFiveBarModel, DesignError, type DesignVariable } from './mechanics/designSpace.js';
+export { designFromValues, designToValues, resolveDesign, buildFiveBarModel, DesignError, type DesignVariable } from './mechanics/designSpace.js';
 export { MarginGrid } from './mechanics/grid.js';
 export { probePose, type PoseReport } from './mechanics/probe.js';
-export { chooseDesign, evaluateDesign, probeDesign, type EvaluationReport, type ConstraintReport } from './api/design.js';
+export type { EvaluationReport, ConstraintReport, DesignChoice } from './api/design.js';
 
 // Optimizer (generic; usable on its own)
 export * as optimizer from './optimizer/index.js';
 export { Nsga2, optimize, type Nsga2Settings, type Member, type Nsga2State } from './optimizer/nsga2.js';
 export { hypervolume } from './optimizer/hypervolume.js';
+export { optimizeIslands, runIslandEpoch, migrate, type IslandSettings, type IslandResult } from './optimizer/islands.js';
 export type { ProblemSpec, VariableSpec, ObjectiveSpec as OptimizerObjective, Evaluation, BatchEvaluate } from './optimizer/types.js';
 
 // Batch runs, pool and store
 export { EvaluationPool, defaultWorkerCount, type PoolOptions } from './pool/pool.js';
-export { runOptimization, type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
-export { runSweep, type SweepOptions } from './run/sweep.js';
-export { runFront, type FrontResult } from './run/front.js';
+export { type RunOptions, type RunSummary, type GenerationProgress } from './run/optimize.js';
+export type { SweepOptions } from './run/sweep.js';
+export type { FrontResult } from './run/front.js';
+// Choosing from the front: representatives, knees, redundant objectives; rounding; sensitivity
+export { analyseFront, analysePoints, type StoredFrontAnalysis, type FrontAnalysis } from './run/frontTools.js';
+export { roundAndEvaluate, snapToStep, RoundingError, type RoundingResult, type RoundedDesign } from './run/roundDesigns.js';
+export { sensitivity, parseVariation, type SensitivityResult, type SensitivityOptions, type Variation } from './run/sensitivity.js';
+
+// Studies larger than one machine: plan, shards (Slurm job arrays), merge; options are checked inside (ScaleError)
+export { makePlan, readPlan, ScaleError, type Plan, type PlanOptions } from './scale/plan.js';
+export { runShards, type ShardOptions, type ShardReport } from './scale/shard.js';
+export { mergePlan, missingShards, type MergeOptions, type MergeResult } from './scale/merge.js';
 export { Store, StoreError } from './store/store.js';
-export { queryEvaluations, QueryError } from './store/query.js';
+export { QueryError, type QueryOptions, type QueryResult } from './store/query.js';
 
 // Drive changes and candidates for detailed simulation
-export { rescoreRun, type RescoreOptions, type RescoreResult } from './run/rescore.js';
+export { type RescoreOptions, type RescoreResult } from './run/rescore.js';
 export * as exporting from './export/index.js';
-export { exportCandidates, candidateSheet, toMjcf } from './export/index.js';
+export { candidateSheet, toMjcf } from './export/index.js';
+export type { ExportOptions, ExportResult, ExportFormat } from './export/export.js';
 
 // Pictures
-export { renderWorkspaceMap, workspaceMapSpec } from './report/map.js';
-export { writeReport } from './report/report.js';
+export type { WorkspaceMapOptions } from './report/map.js';
 export { svgToPng, renderVegaLiteSvg } from './report/render.js';
 
 // Forward simulation along a duty cycle

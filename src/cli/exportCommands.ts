@@ -2,7 +2,10 @@
 import type { Argv } from 'yargs';
 import { positiveInteger } from './argChecks.js';
 import { ExportError } from '../export/candidate.js';
-import { EXPORT_FORMATS, exportCandidates, type ExportFormat } from '../export/export.js';
+import { EXPORT_FORMATS, exportCandidates, selectCandidates, type ExportFormat } from '../export/export.js';
+import { roundAndEvaluate, RoundingError, type RoundingResult } from '../run/roundDesigns.js';
+import { formatQuantity, parseQuantity } from '../study/units.js';
+import type { StoredEvaluation } from '../store/store.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -32,20 +35,28 @@ export function registerExportCommands(cli: Argv): Argv {
         .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run whose front (--front) or study and provenance (--ids) to use' })
         .option('format', { choices: EXPORT_FORMATS, demandOption: true, describe: 'json: one sheet per design; csv: one table; mjcf: one MuJoCo model per design' })
         .option('out', { type: 'string', demandOption: true, describe: 'output folder (created when missing)' })
+        .option('round', { type: 'string', describe: 'snap every length design variable to this step (e.g. 0.5mm), re-evaluate, store the rounded designs and export those' })
+        .option('workers', { type: 'number', describe: 'worker threads for the re-evaluation of --round (default: available cores)' })
+        .example('$0 export results/parcel-sorter.db --front --round 0.5mm --format json --out sheets', 'buildable lengths: rounded, re-evaluated, stored, exported, with what changed')
         .conflicts('front', 'ids')
-        .example('$0 export results/parcel-sorter.db --front --format csv --out results/front', 'the front as one CSV table')
-        .example('$0 export results/parcel-sorter.db --ids 12,40 --format mjcf --out results/mjcf', 'MuJoCo models of two designs'),
-    (args) => {
+        .example('$0 export results/parcel-sorter.db --front --format csv --out results/front', 'the front as one CSV table'),
+    async (args) => {
       if (args.front !== true && args.ids === undefined) throw new ExportError('nothing selected: give --front or --ids ID,...');
-      const ids = args.ids !== undefined ? parseIdList(args.ids) : undefined;
+      let ids = args.ids !== undefined ? parseIdList(args.ids) : undefined;
+      let rounding: RoundingResult[] | undefined;
+      if (args.round !== undefined) {
+        rounding = await roundSelection(args.db, { front: args.front === true, ids, runId: args.run, step: args.round, workers: args.workers });
+        ids = [...new Set(rounding.flatMap((r) => r.designs.map((d) => d.roundedId)))];
+      }
       // ExportError is a user error for the command line (main.ts): one message, exit code 1.
       const result = exportCandidates(args.db, {
         format: args.format as ExportFormat,
         outDir: args.out,
-        ...(args.front === true ? { front: true } : {}),
+        ...(args.front === true && !rounding ? { front: true } : {}),
         ...(ids !== undefined ? { ids } : {}),
-        ...(args.run !== undefined ? { runId: args.run } : {}),
+        ...(args.run !== undefined && !rounding ? { runId: args.run } : {}),
       });
+      if (rounding) out(roundingReport(rounding));
       out(
         `exported ${result.sheets.length} candidate${result.sheets.length === 1 ? '' : 's'} (${result.sheets.map((s) => s.id).join(', ')}) as ${args.format}:\n` +
           result.files.map((f) => `  ${f}`).join('\n') +
@@ -53,4 +64,57 @@ export function registerExportCommands(cli: Argv): Argv {
       );
     },
   );
+}
+
+/** Rounds the selected designs (grouped by the run that describes them), re-evaluates and stores them. */
+async function roundSelection(
+  dbPath: string,
+  selection: { front: boolean; ids: number[] | undefined; runId: number | undefined; step: string; workers: number | undefined },
+): Promise<RoundingResult[]> {
+  let step: number;
+  try {
+    step = parseQuantity(selection.step, 'length', '--round');
+  } catch (error) {
+    throw new ExportError(`--round ${selection.step}: give a length step such as 0.5mm (${(error as Error).message})`);
+  }
+  if (!(step > 0)) throw new ExportError(`--round ${selection.step}: the step must be a positive length, such as 0.5mm`);
+  const selected = selectCandidates(dbPath, {
+    ...(selection.front ? { front: true } : {}),
+    ...(selection.ids !== undefined ? { ids: selection.ids } : {}),
+    ...(selection.runId !== undefined ? { runId: selection.runId } : {}),
+  });
+  const byRun = new Map<number, StoredEvaluation[]>();
+  for (const s of selected) byRun.set(s.run.id, [...(byRun.get(s.run.id) ?? []), s.evaluation]);
+  const results: RoundingResult[] = [];
+  try {
+    for (const [runId, designs] of byRun) {
+      results.push(await roundAndEvaluate({ dbPath, step, designs, sourceRunId: runId, ...(selection.workers !== undefined ? { workers: selection.workers } : {}) }));
+    }
+  } catch (error) {
+    if (error instanceof RoundingError) throw new ExportError(error.message);
+    throw error;
+  }
+  return results;
+}
+
+function roundingReport(results: readonly RoundingResult[]): string {
+  const lines: string[] = [];
+  for (const r of results) {
+    const moved = r.designs.filter((d) => d.changedVariables.length > 0).length;
+    lines.push(`rounded lengths to ${formatQuantity(r.step, 'length')}: ${r.designs.length} designs of run ${r.sourceRunId} (${moved} changed), re-evaluated and stored as run ${r.runId}`);
+    for (const d of r.designs) {
+      const variables = d.changedVariables.map((v) => `${v.name} ${formatQuantity(v.from, 'length', 6)} → ${formatQuantity(v.to, 'length', 6)}`).join(', ') || 'already on the step';
+      const objectives = d.objectives
+        .map((o) => {
+          if (o.from === null || o.to === null) return `${o.metric} ${o.from ?? '—'} → ${o.to ?? '—'}`;
+          const change = o.from !== 0 ? (100 * (o.to - o.from)) / Math.abs(o.from) : 0;
+          return `${o.metric} ${change >= 0 ? '+' : ''}${change.toFixed(2)} %`;
+        })
+        .join(', ');
+      const feasibility = d.feasibleBefore === d.feasibleAfter ? (d.feasibleAfter ? 'still feasible' : 'still infeasible') : d.feasibleAfter ? 'now feasible' : 'NOW INFEASIBLE';
+      const broken = d.brokenConstraints.length > 0 ? ` (violates ${d.brokenConstraints.map((c) => `${c.name}, margin ${c.margin.toFixed(4)}`).join('; ')})` : '';
+      lines.push(`  design ${d.sourceId} → ${d.roundedId}: ${variables}; ${objectives}; ${feasibility}${broken}`);
+    }
+  }
+  return lines.join('\n');
 }

@@ -13,6 +13,7 @@ import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.j
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
 import { loadStudyFile, StudyError } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
+import { loopsmithVersion } from '../core/version.js';
 import { parseQuantity } from '../study/units.js';
 import type { Study } from '../study/types.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';
@@ -24,6 +25,7 @@ import { mirrorLimitWarning, unreachableTaskProblems } from '../study/plausibili
 import { taskPointFailures, type TaskPointFailures } from './taskPoints.js';
 import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
 import { programName, setInvocationArguments } from './invocation.js';
+import { registerScaleCommands } from './scaleCommands.js';
 
 export { UserError, UsageError };
 
@@ -293,11 +295,12 @@ export function buildCli(argv: readonly string[]): Argv {
   cli = registerReportCommands(cli);
   cli = registerExportCommands(cli);
   cli = registerSimulateCommands(cli);
+  cli = registerScaleCommands(cli);
   return cli
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()
     .help()
-    .version()
+    .version(loopsmithVersion()) // loopsmith's own package.json, not the one in the working directory
     .fail((message, error) => {
       // Errors thrown by option checks (coerce) come as YError: they are command-line mistakes.
       if (error instanceof UsageError) throw error;

@@ -5,9 +5,11 @@ import cliProgress from 'cli-progress';
 import type { Argv } from 'yargs';
 import { METRICS } from '../mechanics/metrics.js';
 import { runFront } from '../run/front.js';
+import { analyseFront, type StoredFrontAnalysis } from '../run/frontTools.js';
 import { runOptimization, type GenerationProgress, type RunSummary } from '../run/optimize.js';
 import { runSweep } from '../run/sweep.js';
 import { rescoreRun } from '../run/rescore.js';
+import { parseVariation, sensitivity } from '../run/sensitivity.js';
 import { queryEvaluations } from '../store/query.js';
 import { runState, Store, StoreError, type RunRow, type RunState } from '../store/store.js';
 import { toCsv } from '../store/format.js';
@@ -18,7 +20,7 @@ import { betterDirection, chooseColumns, csvHeader, describeColumn, displayCell,
 import { commandLine, programName, resumableCommand } from './invocation.js';
 import { loadStudyFile, parseStudyText, StudyError } from '../study/parse.js';
 import { unreachableTaskProblems } from '../study/plausibility.js';
-import { studyActuators, table, toJson, variableKind } from './format.js';
+import { formatMetric, formatValue, studyActuators, table, toJson, variableKind } from './format.js';
 import { integerOption, positiveInteger } from './argChecks.js';
 
 const out = (text: string): void => {
@@ -221,6 +223,51 @@ export function registerStoreCommands(cli: Argv): Argv {
       },
     )
     .command(
+      'sensitivity <db>',
+      'do the front\'s representatives stay non-dominated when a study assumption changes by ± a percentage?',
+      (y) =>
+        y
+          .positional('db', { type: 'string', demandOption: true })
+          .option('vary', { type: 'string', array: true, demandOption: true, describe: 'NAME=±PERCENT; NAME is payload, joint_stiffness, rated_torque, peak_torque, min_inverse_condition or a path in the study file (drives.both.joint_stiffness, constraints.1.min)' })
+          .option('run', { type: 'number', describe: 'run whose front is tested (default: the latest)' })
+          .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'representatives to follow (default 4)' })
+          .option('workers', { type: 'number', coerce: positiveInt('workers') })
+          .option('json', { type: 'boolean', default: false })
+          .example('$0 sensitivity results/parcel-sorter.db --vary payload=20% --vary joint_stiffness=30%', 'payload ±20 %, drive stiffness ±30 %')
+          .example('$0 sensitivity results/parcel-sorter.db --vary constraints.1.min=10%', 'a constraint threshold ±10 %'),
+      async (args) => {
+        openExisting(args.db).close();
+        const variations = args.vary.map((v) => parseVariation(String(v)));
+        const result = await sensitivity({
+          dbPath: args.db,
+          variations,
+          ...(args.run !== undefined ? { runId: args.run } : {}),
+          ...(args.representatives !== undefined ? { representatives: args.representatives } : {}),
+          ...(args.workers !== undefined ? { workers: args.workers } : {}),
+          onCase: (done, total) => { if (!args.json) process.stderr.write(`rescored ${done} of ${total} changes\n`); },
+        });
+        if (args.json) {
+          out(toJson(result));
+          return;
+        }
+        const ids = result.representatives.map((r) => r.id);
+        const lines = [
+          `run ${result.runId}: ${result.frontSize} front designs rescored under each change; representatives ${result.representatives.map((r) => `${r.id} (${r.reasons.join(', ')})`).join('; ')}`,
+          '',
+          table(
+            ['assumption', 'change', 'value', 'front', ...ids.map((id) => `design ${id}`), 'rescore run'],
+            result.cases.map((c) => [c.path, `${c.change > 0 ? '+' : ''}${(100 * c.change).toFixed(0)} %`, `${c.from} → ${c.to}`, String(c.frontSize), ...ids.map((id) => c.representatives.find((x) => x.id === id)!.status), String(c.rescoreRunId)]),
+          ),
+          '',
+          result.robust.length > 0
+            ? `non-dominated under every change: ${result.robust.map((id) => `design ${id}`).join(', ')}`
+            : 'no representative stays non-dominated under every change',
+          'Early-design estimates from simplified models, not a safety analysis.',
+        ];
+        out(lines.join('\n'));
+      },
+    )
+    .command(
       'runs <db>',
       'list the runs in a database: state (running, interrupted, stopped, finished, failed), seed, generations, time',
       (y) =>
@@ -265,11 +312,19 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'show at most N designs (after sorting)' })
           .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default: id, design variables, objectives); names without prefix' })
           .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stable keys' })
+          .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'show K distinct designs: extremes and knees, then the farthest apart (normalised objective space)' })
+          .option('knees', { type: 'boolean', describe: 'list the knee designs (largest distance from the hyperplane through the extremes, Das 1999)' })
+          .option('redundancy', { type: 'boolean', describe: 'objectives that do not conflict on the front: correlations and principal components' })
+          .example('$0 front results/parcel-sorter.db --representatives 5', 'five genuinely different designs, with why each was chosen')
           .example('$0 front results/parcel-sorter.db --sort bandwidth:desc --limit 10', 'the ten stiffest-dynamics designs of the latest finished run')
           .example('$0 front results/parcel-sorter.db --format csv > front.csv', 'every metric, SI units, for a spreadsheet'),
       (args) => {
         requireDatabase(args.db);
         const front = runFront(args.db, args.run);
+        if (args.representatives !== undefined || args.knees === true || args.redundancy === true) {
+          analysedFront(args, front);
+          return;
+        }
         const designs = front.designs.map((d) => ({ id: d.id, ...d.variables, ...d.metrics } as Record<string, unknown>));
         const variableNames = front.designs[0] ? Object.keys(front.designs[0].variables) : [];
         const objectiveNames = front.objectives.map((o) => o.metric);
@@ -448,6 +503,40 @@ function removeEmptyStore(dbPath: string, existedBefore: boolean): void {
   for (const suffix of ['', '-wal', '-shm', '-journal']) rmSync(dbPath + suffix, { force: true });
 }
 
+/** `front --representatives/--knees/--redundancy`: the analysed front (issue of the front tools). */
+function analysedFront(args: { representatives?: number | undefined; knees?: boolean | undefined; redundancy?: boolean | undefined; format: 'table' | 'csv' | 'json' }, front: ReturnType<typeof runFront>): void {
+    const analysis = analyseFront(front, args.representatives ?? 0);
+    const chosen = args.representatives !== undefined && analysis ? new Map(analysis.representatives.map((r) => [r.id, r])) : undefined;
+    const shown = chosen ? analysis!.representatives.map((r) => front.designs.find((d) => d.id === r.id)!) : front.designs;
+    const variableNames = front.designs[0] ? Object.keys(front.designs[0].variables) : [];
+    const objectiveNames = front.objectives.map((o) => o.metric);
+    const otherMetrics = METRICS.map((m) => m.name).filter((n) => !objectiveNames.includes(n));
+    if (args.format === 'json') {
+      out(toJson({ run: front.runId, objectives: front.objectives, designs: shown.map((d) => ({ id: d.id, variables: d.variables, metrics: d.metrics, constraints: d.constraints })), ...(analysis ? { analysis: analysisJson(analysis, args) } : {}) }));
+      return;
+    }
+    const columns = ['id', ...variableNames, ...objectiveNames, ...(args.format === 'csv' ? otherMetrics : [])];
+    if (args.format === 'csv') {
+      out(toCsv(chosen ? [...columns, 'chosen_as'] : columns, shown.map((d) => ({ id: d.id, ...d.variables, ...d.metrics, ...(chosen ? { chosen_as: chosen.get(d.id)!.reasons.join('; ') } : {}) }))));
+      return;
+    }
+    out(`run ${front.runId} (${front.kind}): ${front.designs.length} designs on the feasible front; objectives ${front.objectives.map((o) => `${o.metric} (${o.sense})`).join(', ')}\n`);
+    if (chosen) out(`${shown.length} representatives (extremes and knees kept, the rest farthest apart in normalised objective space); every front design lies within ${analysis!.coverRadius.toFixed(3)} of one (normalised units, each objective's range on the front = 1)\n`);
+    out(
+      table(
+        chosen ? [...columns, 'chosen as', 'represents'] : columns,
+        shown.map((d) => [
+          String(d.id),
+          ...variableNames.map((v) => (typeof d.variables[v] === 'number' ? formatValue(d.variables[v] as number, variableKind(front.study, v)) : String(d.variables[v]))),
+          ...objectiveNames.map((m) => formatMetric(m, d.metrics[m], studyActuators(front.study, d.variables))),
+          ...(chosen ? [chosen.get(d.id)!.reasons.join(', '), String(chosen.get(d.id)!.clusterSize)] : []),
+        ]),
+      ),
+    );
+    if (analysis && args.knees === true) out('\n' + kneeLines(analysis).join('\n'));
+    if (analysis && args.redundancy === true) out('\n' + redundancyLines(analysis).join('\n'));
+}
+
 /** DB or DB:RUN. */
 function parseFrom(text: string): { dbPath: string; runId?: number } {
   const match = /^(.*):(\d+)$/.exec(text);
@@ -462,4 +551,36 @@ function requireDatabase(path: string): void {
 function openExisting(path: string): Store {
   requireDatabase(path);
   return Store.open(path, { access: 'read' });
+}
+
+function analysisJson(analysis: StoredFrontAnalysis, args: { representatives?: number; knees?: boolean; redundancy?: boolean }): Record<string, unknown> {
+  return {
+    extremes: analysis.extremes,
+    ...(args.representatives !== undefined ? { representatives: analysis.representatives, coverRadius: analysis.coverRadius } : {}),
+    ...(args.knees === true || args.representatives !== undefined ? { knees: analysis.knees, kneePlane: analysis.kneePlane } : {}),
+    ...(args.redundancy === true ? { redundancy: analysis.redundancy } : {}),
+  };
+}
+
+function kneeLines(analysis: StoredFrontAnalysis): string[] {
+  if (analysis.knees.length === 0) return ['knees: none (no design lies on the ideal side of the hyperplane through the extremes)'];
+  const plane = analysis.kneePlane === 'extremes' ? 'the hyperplane through the extreme designs' : 'the plane sum = 1 (the extremes do not span a hyperplane)';
+  return [
+    `knees (Das 1999: largest normalised distance from ${plane}, towards the ideal point):`,
+    ...analysis.knees.map((k) => `  design ${k.id}: distance ${k.distance.toFixed(3)}`),
+  ];
+}
+
+function redundancyLines(analysis: StoredFrontAnalysis): string[] {
+  const r = analysis.redundancy;
+  const names = analysis.objectives.map((o) => o.metric);
+  if (analysis.designs < 3) return ['redundancy: too few designs on the front to judge'];
+  const lines = ['objective correlations on the front (minimisation form: + means they do not conflict):'];
+  lines.push(table(['', ...names], names.map((a) => [a, ...names.map((b) => r.correlation[a]![b]!.toFixed(2))])));
+  lines.push('', 'principal components of the correlation matrix (after Deb & Saxena 2006):');
+  lines.push(table(['component', 'variance share', ...names], r.components.map((c, i) => [String(i + 1), `${(100 * c.share).toFixed(1)} %`, ...names.map((n) => c.weights[n]!.toFixed(2))])));
+  lines.push('', `essential objectives: ${r.essential.join(', ')}`);
+  if (r.redundant.length === 0) lines.push('redundant objectives: none');
+  for (const x of r.redundant) lines.push(`redundant: ${x.metric} follows ${x.follows} on the front (correlation ${x.correlation.toFixed(3)}); the trade-off is the same without it`);
+  return lines;
 }

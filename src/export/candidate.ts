@@ -8,7 +8,6 @@
  * hub and the payload are one point mass at the end point P. SI units throughout (m, kg, rad, N·m).
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import { readFileSync } from 'node:fs';
 import {
   FiveBarPose,
   PoseStatus,
@@ -456,16 +455,8 @@ export function candidateSheet(study: Study, record: CandidateRecord, provenance
   };
 }
 
-let cachedVersion: string | undefined;
-/** The loopsmith version from package.json (two folders up from src/export and dist/export). */
-export function loopsmithVersion(): string {
-  if (cachedVersion === undefined) {
-    const text = readFileSync(new URL('../../package.json', import.meta.url), 'utf8');
-    const parsed = JSON.parse(text) as { version?: unknown };
-    cachedVersion = typeof parsed.version === 'string' ? parsed.version : 'unknown';
-  }
-  return cachedVersion;
-}
+/** The loopsmith version, from the package's own package.json. */
+export { loopsmithVersion } from '../core/version.js';
 
 /** JSON text of a sheet: infinite numbers written as the strings "Infinity" / "-Infinity". */
 export function sheetToJson(sheet: CandidateSheet | object): string {

@@ -8,7 +8,7 @@ import { Ajv, type ErrorObject } from 'ajv';
 import { FrontError, runFront } from '../run/front.js';
 import { queryEvaluations } from '../store/query.js';
 import { Store, type RunRow, type StoredEvaluation } from '../store/store.js';
-import { parseStudyText } from '../study/parse.js';
+import { parseStudyText, studySettingsHash } from '../study/parse.js';
 import type { Study } from '../study/types.js';
 import { ExportError, loopsmithVersion, sheetToJson } from './candidate.js';
 import { candidateExport, type AnyCandidateSheet, type CandidateExport } from './candidateArchitecture.js';
@@ -63,6 +63,15 @@ function runStudy(store: Store, dbPath: string, run: RunRow): { study: Study; fi
   return { study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, name: row.name };
 }
 
+/** True when the study of run `otherRunId` has the same evaluation settings as `study` (program version aside). */
+function sameStudySettings(store: Store, run: RunRow, otherRunId: number, study: Study): boolean {
+  const other = store.getRun(otherRunId);
+  const row = other ? store.getStudy(other.studyId) : undefined;
+  if (!row) return false;
+  if (other!.studyId === run.studyId) return true;
+  return studySettingsHash(parseStudyText(row.fileText, `study of run ${otherRunId}`).study) === studySettingsHash(study);
+}
+
 /** The stored designs an export selection names, each with the run and study it is described by. */
 export function selectCandidates(dbPath: string, selection: ExportSelection): Selected[] {
   if (!existsSync(dbPath)) throw new ExportError(`${dbPath}: no such database (run a study first: loopsmith run STUDY)`);
@@ -114,10 +123,11 @@ export function selectCandidates(dbPath: string, selection: ExportSelection): Se
         s = runStudy(store, dbPath, run);
         studies.set(run.id, s);
       }
-      if (s.settingsHash !== evaluation.settingsHash) {
+      // Compared without the program version: an evaluation made by an earlier loopsmith still belongs to its run's study.
+      if (run.id !== evaluation.firstRunId && !sameStudySettings(store, run, evaluation.firstRunId, s.study)) {
         throw new ExportError(`evaluation ${id} was computed with other study settings than run ${run.id}'s study; export it without --run or with the run that evaluated it (run ${evaluation.firstRunId})`);
       }
-      return { run, study: s.study, studyFileHash: s.fileHash, settingsHash: s.settingsHash, studyName: s.name, evaluation };
+      return { run, study: s.study, studyFileHash: s.fileHash, settingsHash: evaluation.settingsHash, studyName: s.name, evaluation };
     });
   } finally {
     store.close();

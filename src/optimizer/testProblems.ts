@@ -4,7 +4,7 @@
  * - ZDT1, ZDT2, ZDT3, ZDT4, ZDT6: Zitzler, Deb & Thiele 2000, "Comparison of
  *   multiobjective evolutionary algorithms: empirical results", Evolutionary
  *   Computation 8(2), 173-195 (problems T1, T2, T3, T4, T6).
- * - DTLZ2: Deb, Thiele, Laumanns & Zitzler 2005, "Scalable test problems for
+ * - DTLZ1, DTLZ2: Deb, Thiele, Laumanns & Zitzler 2005, "Scalable test problems for
  *   evolutionary multiobjective optimization", in Evolutionary Multiobjective
  *   Optimization, Springer, 105-145.
  * - CONSTR and TNK: the constrained problems of Deb, Pratap, Agarwal &
@@ -140,6 +140,35 @@ export function dtlz2(objectiveCount = 3, variableCount = objectiveCount + 9): T
         let value = 1 + g;
         for (let i = 0; i < objectiveCount - m - 1; i++) value *= Math.cos((x[i]! * Math.PI) / 2);
         if (m > 0) value *= Math.sin((x[objectiveCount - m - 1]! * Math.PI) / 2);
+        objectives[m] = value;
+      }
+      return objectives;
+    }),
+  };
+}
+
+/**
+ * DTLZ1 with M objectives and n = M + k - 1 variables in [0,1] (k = 5 gives n = M + 4):
+ * g = 100 (k + sum over the last k variables of ((xi - 0.5)^2 - cos(20 pi (xi - 0.5))));
+ * f_1 = 0.5 x1 ... x_{M-1} (1+g), f_m = 0.5 x1 ... x_{M-m} (1 - x_{M-m+1}) (1+g),
+ * f_M = 0.5 (1 - x1) (1+g). Front: the hyperplane sum f_m = 0.5 in the positive orthant (g = 0);
+ * the g term has 11^k - 1 local fronts.
+ */
+export function dtlz1(objectiveCount = 3, variableCount = objectiveCount + 4): TestProblem {
+  if (variableCount < objectiveCount) throw new RangeError('DTLZ1 needs at least as many variables as objectives');
+  const k = variableCount - objectiveCount + 1;
+  return {
+    name: `DTLZ1-${objectiveCount}`,
+    problem: { variables: realVariables(variableCount, () => [0, 1]), objectives: minimise(objectiveCount) },
+    evaluate: unconstrained((x) => {
+      let g = k;
+      for (let i = objectiveCount - 1; i < x.length; i++) g += (x[i]! - 0.5) * (x[i]! - 0.5) - Math.cos(20 * Math.PI * (x[i]! - 0.5));
+      g *= 100;
+      const objectives: number[] = new Array<number>(objectiveCount);
+      for (let m = 0; m < objectiveCount; m++) {
+        let value = 0.5 * (1 + g);
+        for (let i = 0; i < objectiveCount - m - 1; i++) value *= x[i]!;
+        if (m > 0) value *= 1 - x[objectiveCount - m - 1]!;
         objectives[m] = value;
       }
       return objectives;

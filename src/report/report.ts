@@ -12,6 +12,7 @@ import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.j
 import { designFromValues, designVariables, studyActuators, variableKind } from '../mechanics/designSpace.js';
 import { METRICS, metricInfo, metricKind } from '../mechanics/metrics.js';
 import { runFront } from '../run/front.js';
+import { analyseFront, type StoredFrontAnalysis } from '../run/frontTools.js';
 import { Store, StoreError, type RunRow, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
 import { ARCHITECTURE_PREFIX, type ObjectiveSpec, type Study } from '../study/types.js';
@@ -19,6 +20,7 @@ import { displayUnit, formatQuantity } from '../study/units.js';
 import { designMapSpec, usesFiveBarMap } from './designMap.js';
 import { workspaceMapSpec } from './map.js';
 import { OKABE_ITO, renderVegaLiteSvg } from './render.js';
+import { PARALLEL_SCRIPT } from './parallel.js';
 
 /** The caution every user-facing report carries (README, "Safety"). */
 export const SAFETY_CAUTION =
@@ -26,8 +28,18 @@ export const SAFETY_CAUTION =
   'They are not a safety analysis and do not certify a machine. Moving machines can hurt people: follow the machinery and robot safety standards and the local codes ' +
   'that apply to your machine, perform your own risk assessment, and have the design reviewed by a licensed engineer before anything is built or run.';
 
-/** How many designs of the front get a metric card and a workspace map. */
-export const LEADING_DESIGNS = 3;
+/**
+ * Representatives asked for (front --representatives K): the leading designs are the front's
+ * representatives (extremes and knees always, the rest farthest apart), each with a metric card and
+ * a workspace map; there can be more when the extremes and knees alone exceed it.
+ */
+export const LEADING_DESIGNS = 4;
+
+/** A constraint whose margin is below this fraction of its bound (and not violated) is binding (as in rescore). */
+export const BINDING_MARGIN = 0.01;
+
+/** Scatter axes span the PERCENTILE..(100 - PERCENTILE) range of the drawn designs (the front always inside). */
+export const CLIP_PERCENTILE = 2;
 
 export const MEMBER_STATUS = { front: 'on the feasible front', feasible: 'feasible', infeasible: 'infeasible' } as const;
 
@@ -44,8 +56,12 @@ export interface ReportData {
   readonly failedCount: number;
   /** The feasible non-dominated designs (runFront). */
   readonly front: readonly StoredEvaluation[];
-  /** Front designs in leading order: best first by the first objective. */
+  /** Front designs in table order: best first by the first objective. */
   readonly ranked: readonly StoredEvaluation[];
+  /** Extremes, knees, representatives and redundancy of the front (src/run/frontTools.ts). */
+  readonly analysis: StoredFrontAnalysis;
+  /** The leading designs: the representatives, in their order (extremes, knees, spread). */
+  readonly leading: readonly StoredEvaluation[];
 }
 
 /** Read everything a report shows from the store. */
@@ -82,7 +98,10 @@ export function readReportData(dbPath: string, runId?: number): ReportData {
       const vb = b.metrics[first.metric] ?? Number.NaN;
       return (first.sense === 'max' ? vb - va : va - vb) || a.id - b.id;
     });
-    return { dbPath, run, study, studyText: studyRow.fileText, hypervolume, feasiblePerGeneration, members, failedCount, front: front.designs, ranked };
+    const analysis = analyseFront(front, LEADING_DESIGNS);
+    const byFrontId = new Map(front.designs.map((d) => [d.id, d]));
+    const leading = analysis.representatives.map((r) => byFrontId.get(r.id)!);
+    return { dbPath, run, study, studyText: studyRow.fileText, hypervolume, feasiblePerGeneration, members, failedCount, front: front.designs, ranked, analysis, leading };
   } finally {
     store.close();
   }
@@ -211,10 +230,67 @@ export function scatterPanelCount(objectiveCount: number): number {
   return objectiveCount < 2 ? 1 : (objectiveCount * (objectiveCount - 1)) / 2;
 }
 
+export interface AxisClip {
+  readonly metric: string;
+  readonly domain: [number, number];
+  /** Drawn designs beyond the domain (drawn on the axis edge), and the full range of the values. */
+  readonly below: number;
+  readonly above: number;
+  readonly range: [number, number];
+}
+
+function percentile(sorted: readonly number[], p: number): number {
+  if (sorted.length === 0) return Number.NaN;
+  const position = (p / 100) * (sorted.length - 1);
+  const lower = Math.floor(position);
+  const upper = Math.min(sorted.length - 1, lower + 1);
+  return sorted[lower]! + (sorted[upper]! - sorted[lower]!) * (position - lower);
+}
+
+/**
+ * Axis domains robust to outliers: the CLIP_PERCENTILE..(100 - CLIP_PERCENTILE) range of the drawn
+ * designs, widened to hold every front design and padded by 4 %; values beyond are counted (and drawn
+ * on the edge). An axis whose full range is no more than 1.5 times that domain is not clipped.
+ */
+export function scatterClips(data: ReportData, rows: readonly ScatterRow[]): AxisClip[] {
+  return data.study.objectives.map((o) => {
+    const values = rows.map((r) => r[o.metric] as number).sort((a, b) => a - b);
+    const front = rows.filter((r) => r.status === MEMBER_STATUS.front).map((r) => r[o.metric] as number);
+    const range: [number, number] = [values[0] ?? 0, values.at(-1) ?? 0];
+    let lo = Math.min(percentile(values, CLIP_PERCENTILE), ...front);
+    let hi = Math.max(percentile(values, 100 - CLIP_PERCENTILE), ...front);
+    const pad = 0.04 * (hi - lo || Math.abs(hi) || 1);
+    lo -= pad;
+    hi += pad;
+    if (range[1] - range[0] <= 1.5 * (hi - lo)) return { metric: o.metric, domain: range, below: 0, above: 0, range };
+    lo = Math.max(lo, range[0]);
+    hi = Math.min(hi, range[1]);
+    return { metric: o.metric, domain: [lo, hi], below: values.filter((v) => v < lo).length, above: values.filter((v) => v > hi).length, range };
+  });
+}
+
+function clipText(clips: readonly AxisClip[], objectives: readonly ObjectiveSpec[]): string {
+  const parts = clips
+    .filter((c) => c.below + c.above > 0)
+    .map((c) => {
+      const o = objectives.find((x) => x.metric === c.metric)!;
+      const unit = axisTitle(o).match(/\(([^)]*)\)/)?.[1] ?? '';
+      const fmt = (v: number): string => `${Number(v.toPrecision(4))}${unit ? ' ' + unit : ''}`;
+      const sides = [c.below > 0 ? `${c.below} below ${fmt(c.domain[0])} (down to ${fmt(c.range[0])})` : '', c.above > 0 ? `${c.above} above ${fmt(c.domain[1])} (up to ${fmt(c.range[1])})` : ''].filter(Boolean);
+      return `${c.metric}: ${sides.join(', ')}`;
+    });
+  return parts.length === 0 ? '' : `Axes clipped to the ${CLIP_PERCENTILE}th–${100 - CLIP_PERCENTILE}th percentile of the drawn designs (every front design inside); designs beyond are drawn on the axis edge — ${parts.join('; ')}.`;
+}
+
 /** Scatter matrix: each pair of objectives once (lower triangle); feasible, infeasible and front told apart. */
 export function scatterMatrixSpec(data: ReportData): TopLevelSpec {
   const { rows, omitted } = scatterRows(data);
   const objectives = data.study.objectives;
+  const clips = new Map(scatterClips(data, rows).map((c) => [c.metric, c]));
+  const scaleOf = (field: string) => {
+    const clip = clips.get(field);
+    return clip ? { zero: false, nice: false, domain: clip.domain, clamp: true } : { zero: false };
+  };
   const statusDomain = [MEMBER_STATUS.front, MEMBER_STATUS.feasible, MEMBER_STATUS.infeasible];
   const colour = { field: 'status', type: 'nominal', scale: { domain: statusDomain, range: [OKABE_ITO.vermillion, OKABE_ITO.blue, '#9e9e9e'] }, legend: { title: 'designs', orient: 'top', labelLimit: 300 } } as const;
   const shape = { field: 'status', type: 'nominal', scale: { domain: statusDomain, range: ['diamond', 'circle', 'cross'] }, legend: { title: 'designs', orient: 'top', labelLimit: 300 } } as const;
@@ -225,14 +301,14 @@ export function scatterMatrixSpec(data: ReportData): TopLevelSpec {
     height: size,
     mark: { type: 'point', filled: true, opacity: 0.8, size: 30 },
     encoding: {
-      x: { field: xField, type: 'quantitative', scale: { zero: false }, axis: { title: xTitle, titleFontSize: 11 } },
-      y: { field: yField, type: 'quantitative', scale: { zero: false }, axis: { title: yTitle, titleFontSize: 11 } },
+      x: { field: xField, type: 'quantitative', scale: scaleOf(xField), axis: { title: xTitle, titleFontSize: 11 } },
+      y: { field: yField, type: 'quantitative', scale: scaleOf(yField), axis: { title: yTitle, titleFontSize: 11 } },
       color: colour,
       shape,
       order: { field: 'drawOrder', type: 'quantitative' },
       tooltip: [{ field: 'id', type: 'quantitative', title: 'design id' }, { field: 'status', type: 'nominal' }, { field: xField, type: 'quantitative', format: '.4~g' }, { field: yField, type: 'quantitative', format: '.4~g' }],
     },
-  } as const);
+  });
   const subtitle = `${rows.length} of the ${data.members.length} distinct designs kept in a population of run ${data.run.id}` + (omitted > 0 ? `; ${omitted} with an infinite or missing objective not shown` : '') +
     (data.failedCount > 0 ? `; ${data.failedCount} failed evaluations left out` : '');
   const base = { $schema: 'https://vega.github.io/schema/vega-lite/v6.json', title: { text: subtitle, fontSize: 13, fontWeight: 'normal' }, data: { values: rows } } as const;
@@ -318,49 +394,144 @@ ${cons.length > 0 ? `<div><h3>Constraints</h3>${table(['constraint', 'metric', '
 function frontColumns(data: ReportData): { variables: string[]; metrics: string[] } {
   const variables = designVariables(data.study).map((v) => v.name as string);
   const objectives = data.study.objectives.map((o) => o.metric);
-  const extra = ['task_coverage', 'workspace_area', 'inscribed_radius', 'min_transmission_angle', 'footprint', 'moving_mass'].filter((m) => !objectives.includes(m));
+  // At most nine metric columns in all, so the table fits the page; every metric is on the cards and in `loopsmith front --format csv`.
+  const extra = ['task_coverage', 'inscribed_radius', 'min_transmission_angle', 'workspace_area', 'footprint', 'moving_mass']
+    .filter((m) => !objectives.includes(m))
+    .slice(0, Math.max(2, 9 - objectives.length));
   return { variables, metrics: [...objectives, ...extra] };
+}
+
+/** Names of the constraints a design holds with less than BINDING_MARGIN to spare. */
+export function bindingConstraints(data: ReportData, d: StoredEvaluation): string[] {
+  return constraintDefinitions(data.study)
+    .filter((c) => {
+      const margin = d.constraints[c.name];
+      return margin !== null && margin !== undefined && margin >= 0 && margin < BINDING_MARGIN;
+    })
+    .map((c) => c.name);
+}
+
+/** Splits "3.661 N·m" into value and unit; values without a unit keep an empty unit. */
+function splitUnit(text: string): [string, string] {
+  const space = text.indexOf(' ');
+  return space < 0 ? [text, ''] : [text.slice(0, space), text.slice(space + 1)];
 }
 
 function frontTable(data: ReportData): string {
   const { variables, metrics } = frontColumns(data);
   const rank = new Map(data.ranked.map((d, i) => [d.id, i + 1]));
-  const header = ['rank', 'design id', ...variables, ...metrics];
-  const cell = (sortValue: number | string, text: string): string =>
-    `<td data-sort="${escapeHtml(String(sortValue))}">${escapeHtml(text)}</td>`;
-  const rows = data.ranked.map((d) => {
-    const cells = [cell(rank.get(d.id)!, String(rank.get(d.id))), cell(d.id, String(d.id))];
-    for (const v of variables) {
-      const value = d.variables[v];
-      const shown = value !== undefined && isActiveVariable(data.study, v, d.variables);
-      cells.push(!shown ? cell('', '—') : cell(typeof value === 'number' ? value : value, formatVariable(data.study, v, value)));
-    }
-    const actuators = studyActuators(data.study, d.variables);
-    for (const m of metrics) {
-      const value = d.metrics[m];
-      cells.push(cell(value === null || value === undefined ? '' : Number.isFinite(value) ? value : value > 0 ? 1e308 : -1e308, formatMetricValue(m, value, actuators)));
-    }
-    return `<tr>${cells.join('')}</tr>`;
-  });
+  const chosen = new Map(data.analysis.representatives.map((r) => [r.id, r]));
   const objectiveSet = new Set(data.study.objectives.map((o) => o.metric));
-  return `<table class="sortable" id="front-table"><thead><tr>${header
-    .map((h) => `<th scope="col" class="${objectiveSet.has(h) ? 'objective' : ''}" title="click to sort">${escapeHtml(h)}<span class="arrow"></span></th>`)
-    .join('')}</tr></thead><tbody>${rows.join('')}</tbody></table>`;
+  const texts = data.ranked.map((d) => {
+    const actuators = studyActuators(data.study, d.variables);
+    return {
+      variables: variables.map((v) => {
+        const value = d.variables[v];
+        return value === undefined || !isActiveVariable(data.study, v, d.variables) ? '—' : formatVariable(data.study, v, value);
+      }),
+      metrics: metrics.map((m) => formatMetricValue(m, d.metrics[m], actuators)),
+    };
+  });
+  // A column's unit goes in its heading when every row uses the same one; otherwise cells keep theirs.
+  const unitOf = (cells: string[]): string | null => {
+    const units = new Set(cells.filter((t) => t !== '—' && !t.startsWith('∞') && !t.startsWith('−∞')).map((t) => splitUnit(t)[1]));
+    return units.size === 1 ? [...units][0]! : units.size === 0 ? '' : null;
+  };
+  const variableUnits = variables.map((_, c) => unitOf(texts.map((t) => t.variables[c]!)));
+  const metricUnits = metrics.map((_, c) => unitOf(texts.map((t) => t.metrics[c]!)));
+  const shown = (text: string, unit: string | null): string => (unit && text.endsWith(' ' + unit) ? splitUnit(text)[0] : text);
+  const cell = (sortValue: number | string, text: string, className = ''): string =>
+    `<td data-sort="${escapeHtml(String(sortValue))}"${className ? ` class="${className}"` : ''}>${escapeHtml(text)}</td>`;
+  const rows = data.ranked.map((d, k) => {
+    const representative = chosen.get(d.id);
+    const binding = bindingConstraints(data, d);
+    const cells = [cell(rank.get(d.id)!, String(rank.get(d.id))), cell(d.id, String(d.id)), cell(representative ? representative.reasons.join(', ') : '', representative ? representative.reasons.join(', ') : '', 'text')];
+    variables.forEach((v, c) => {
+      const value = d.variables[v];
+      const text = texts[k]!.variables[c]!;
+      cells.push(text === '—' ? cell('', '—') : cell(typeof value === 'number' ? value : String(value), shown(text, variableUnits[c]!)));
+    });
+    metrics.forEach((m, c) => {
+      const value = d.metrics[m];
+      const sort = value === null || value === undefined ? '' : Number.isFinite(value) ? value : value > 0 ? 1e308 : -1e308;
+      cells.push(cell(sort, shown(texts[k]!.metrics[c]!, metricUnits[c]!), objectiveSet.has(m) ? 'objective' : ''));
+    });
+    cells.push(cell(binding.join(' '), binding.join(', ') || '—', binding.length > 0 ? 'text binding' : 'text'));
+    return `<tr data-id="${d.id}"${representative ? ' class="representative"' : ''}>${cells.join('')}</tr>`;
+  });
+  const heading = (name: string, unit: string | null, className = ''): string =>
+    `<th scope="col" class="${className}" title="click to sort">${escapeHtml(name).replace(/_/g, '_<wbr>')}${unit ? `<span class="unit">${escapeHtml(unit)}</span>` : ''}<span class="arrow"></span></th>`;
+  const objectives = metrics.filter((m) => objectiveSet.has(m));
+  const others = metrics.filter((m) => !objectiveSet.has(m));
+  const groups = [
+    ['design', 3],
+    ['design variables', variables.length],
+    ['objectives', objectives.length],
+    ['other metrics', others.length],
+    ['constraints', 1],
+  ] as const;
+  const groupRow = `<tr class="groups">${groups.filter(([, n]) => n > 0).map(([name, n]) => `<th colspan="${n}" scope="colgroup">${escapeHtml(name)}</th>`).join('')}</tr>`;
+  const colgroups = groups.filter(([, n]) => n > 0).map(([name, n]) => `<colgroup span="${n}" class="group-${name.replace(/ /g, '-')}"></colgroup>`).join('');
+  const columnRow = `<tr class="columns">${[
+    heading('rank', null),
+    heading('design id', null),
+    heading('chosen as', null, 'text'),
+    ...variables.map((v, c) => heading(v, variableUnits[c]!)),
+    ...metrics.map((m, c) => heading(m, metricUnits[c]!, objectiveSet.has(m) ? 'objective' : '')),
+    heading('binding', null, 'text'),
+  ].join('')}</tr>`;
+  return `<table class="sortable" id="front-table">${colgroups}<thead>${groupRow}${columnRow}</thead><tbody>${rows.join('')}</tbody></table>`;
 }
 
-function metricCard(data: ReportData, d: StoredEvaluation, rankNumber: number): string {
+export interface ParallelAxis {
+  readonly key: string;
+  readonly label: string;
+  readonly unit: string;
+  /** 'max' axes are drawn with the better end on top too: higher is better, so the top is the maximum. */
+  readonly sense: 'min' | 'max' | 'none';
+}
+
+/**
+ * Data of the parallel-coordinates chart: one axis per objective then per real design variable,
+ * one line per front design (display units), the representatives marked.
+ */
+export function parallelData(data: ReportData): { axes: ParallelAxis[]; rows: { id: number; representative: boolean; values: (number | null)[] }[] } {
+  const objectiveAxes: ParallelAxis[] = data.study.objectives.map((o) => {
+    const info = metricInfo(o.metric);
+    return { key: o.metric, label: o.metric, unit: info ? prettyUnits(displayUnit(info.kind).symbol) : '', sense: o.sense };
+  });
+  const variableAxes: ParallelAxis[] = designVariables(data.study)
+    .filter((v) => v.kind === 'real')
+    .map((v) => ({ key: v.name, label: v.name, unit: prettyUnits(displayUnit(variableKind(data.study, v.name)).symbol), sense: 'none' }));
+  const representatives = new Set(data.analysis.representatives.map((r) => r.id));
+  const rows = data.ranked.map((d) => ({
+    id: d.id,
+    representative: representatives.has(d.id),
+    values: [
+      ...objectiveAxes.map((a) => displayValue(a.key, d.metrics[a.key])),
+      ...variableAxes.map((a) => {
+        const value = d.variables[a.key];
+        return typeof value === 'number' && isActiveVariable(data.study, a.key, d.variables) ? value / displayUnit(variableKind(data.study, a.key)).factor : null;
+      }),
+    ],
+  }));
+  return { axes: [...objectiveAxes, ...variableAxes], rows };
+}
+
+function metricCard(data: ReportData, d: StoredEvaluation, rankNumber: number, reasons: readonly string[]): string {
   const objectives = new Set(data.study.objectives.map((o) => o.metric));
   const actuators = studyActuators(data.study, d.variables);
   const rows = METRICS.map((m) => `<tr class="${objectives.has(m.name) ? 'objective' : ''}"><th scope="row" title="${escapeHtml(m.description)}">${escapeHtml(m.name)}</th><td>${escapeHtml(formatMetricValue(m.name, d.metrics[m.name], actuators))}</td></tr>`);
   const cons = constraintDefinitions(data.study).map((c) => {
     const margin = d.constraints[c.name];
-    return `<tr><th scope="row">${escapeHtml(c.name)}</th><td>${margin === null || margin === undefined ? '—' : `${margin >= 0 ? 'holds' : 'VIOLATED'}, margin ${margin.toFixed(3)}`}</td></tr>`;
+    const binding = margin !== null && margin !== undefined && margin >= 0 && margin < BINDING_MARGIN;
+    return `<tr${binding ? ' class="binding"' : ''}><th scope="row">${escapeHtml(c.name)}</th><td>${margin === null || margin === undefined ? '—' : `${margin >= 0 ? (binding ? 'binding' : 'holds') : 'VIOLATED'}, margin ${margin.toFixed(3)}`}</td></tr>`;
   });
   const design = Object.entries(d.variables)
     .filter(([k]) => isActiveVariable(data.study, k, d.variables))
     .map(([k, v]) => `${k} ${formatVariable(data.study, k, v)}`)
     .join(', ');
-  return `<div class="card"><h3>#${rankNumber}: design ${d.id}</h3><p class="design">${escapeHtml(design)}</p>
+  return `<div class="card"><h3>#${rankNumber}: design ${d.id}</h3><p class="chosen">${escapeHtml(reasons.join(', '))}</p><p class="design">${escapeHtml(design)}</p>
 <table class="metrics"><tbody>${rows.join('')}</tbody></table>
 ${cons.length > 0 ? `<h4>Constraint margins</h4><table class="metrics"><tbody>${cons.join('')}</tbody></table>` : ''}</div>`;
 }
@@ -392,12 +563,36 @@ figcaption { color: var(--muted); font-size: .88rem; max-width: 900px; }
 table.metrics td { text-align: right; font-variant-numeric: tabular-nums; }
 details pre { background: #f7f7f7; padding: 10px; overflow-x: auto; font-size: .82rem; }
 footer { margin-top: 40px; color: var(--muted); font-size: .85rem; }
+#front-table { font-size: .78rem; }
+#front-table th, #front-table td { padding: 2px 5px; }
+#front-table thead th { white-space: normal; vertical-align: bottom; max-width: 6.5em; }
+#front-table th .arrow { padding-left: 1px; }
+#front-table td.text { white-space: normal; min-width: 5em; max-width: 9em; }
+#front-table tr.groups th { text-align: center; cursor: default; border-left: 2px solid #fff; font-weight: normal; color: var(--muted); }
+#front-table th .unit { display: block; font-weight: normal; color: var(--muted); font-size: .75rem; }
+#front-table colgroup.group-objectives { background: #f3f8fc; }
+#front-table td.text { text-align: left; }
+#front-table tr.representative td { font-weight: bold; }
+td.binding, tr.binding td, tr.binding th { background: #fde7d9; color: #8a3300; }
+.card .chosen { font-weight: bold; color: var(--accent); margin: 0 0 4px; }
+#parallel svg { max-width: 100%; height: auto; font-family: inherit; }
+#parallel .pc-line { fill: none; stroke: #0072B2; stroke-opacity: .45; stroke-width: 1.2; }
+#parallel .pc-line.rep { stroke: #D55E00; stroke-opacity: 1; stroke-width: 2.4; }
+#parallel .pc-line.dim { stroke: #bbb; stroke-opacity: .25; stroke-width: 1; }
+#parallel .pc-axis line { stroke: #333; }
+#parallel .pc-label { font-size: 12px; text-anchor: middle; font-weight: bold; }
+#parallel .pc-unit, #parallel .pc-tick { font-size: 11px; text-anchor: middle; fill: #555; }
+#parallel .pc-hit { fill: transparent; cursor: ns-resize; }
+#parallel .pc-brush { fill: #E69F00; fill-opacity: .35; stroke: #E69F00; }
+#selection-status { color: var(--muted); font-size: .9rem; }
+@media print { .table-wrap { overflow: visible; } #front-table { font-size: .62rem; } }
 `;
 
 const SORT_SCRIPT = `
 (function () {
   document.querySelectorAll('table.sortable').forEach(function (table) {
-    var heads = table.querySelectorAll('thead th');
+    var heads = table.querySelectorAll('thead tr.columns th');
+    if (heads.length === 0) heads = table.querySelectorAll('thead th');
     heads.forEach(function (th, column) {
       th.addEventListener('click', function () {
         var ascending = th.getAttribute('data-order') !== 'asc';
@@ -421,6 +616,21 @@ const SORT_SCRIPT = `
 })();
 `;
 
+/** Counts (the same as loopsmith front), knees and redundant objectives in a few sentences. */
+function frontSummary(data: ReportData): string {
+  const a = data.analysis;
+  const lines: string[] = [];
+  lines.push(`${data.front.length} feasible non-dominated designs (the count of <code>loopsmith front ${escapeHtml(data.dbPath)} --run ${data.run.id}</code>); ${a.representatives.length} representatives cover every one within ${a.coverRadius.toFixed(2)} in normalised objective space (each objective's range on the front = 1).`);
+  if (a.knees.length > 0) lines.push(`Knees (Das 1999, largest distance from the hyperplane through the extreme designs): ${a.knees.map((k) => `design ${k.id} (${k.distance.toFixed(3)})`).join(', ')}.`);
+  else if (data.front.length > 2) lines.push('No knee: no design bulges towards the ideal point beyond the hyperplane through the extreme designs.');
+  for (const r of a.redundancy.redundant) lines.push(`<strong>${escapeHtml(r.metric)} is redundant on this front</strong>: it follows ${escapeHtml(r.follows)} (correlation ${r.correlation.toFixed(2)} in minimisation form), so the trade-off has one objective fewer than the study states.`);
+  for (const p of a.redundancy.agreeingPairs) {
+    if (a.redundancy.redundant.some((r) => (r.metric === p.a && r.follows === p.b) || (r.metric === p.b && r.follows === p.a))) continue;
+    lines.push(`${escapeHtml(p.a)} and ${escapeHtml(p.b)} do not conflict on this front (correlation ${p.correlation.toFixed(2)} in minimisation form).`);
+  }
+  return `<p class="lead" id="front-summary">${lines.join(' ')}</p>`;
+}
+
 /** Build the report's HTML (charts rendered to inline SVG). */
 export async function buildReportHtml(data: ReportData): Promise<string> {
   let figureCount = 0;
@@ -434,11 +644,14 @@ export async function buildReportHtml(data: ReportData): Promise<string> {
     ? await figure('convergence', convergenceSpec(data), 'Hypervolume is computed on objectives normalised by the spread of the first generation with feasible designs (reference point 1.1), so it is comparable within this run only; a flat tail means the search has settled.' +
       (data.hypervolume.length === 0 ? ' <strong>No hypervolume was recorded in this run</strong> (no generation had feasible designs with finite values in every objective).' : ''))
     : '<p class="lead">No generation of this run has been stored yet.</p>';
+  const { rows: scatterRowList } = scatterRows(data);
+  const clipNote = clipText(scatterClips(data, scatterRowList), data.study.objectives);
   const scatter = data.members.length > 0
-    ? await figure('scatter', scatterMatrixSpec(data), `Every design evaluated in the run, one panel per pair of objectives (${escapeHtml(objectivesText)}). Grey crosses violate a constraint; blue dots are feasible; vermillion diamonds are the feasible Pareto front.`)
+    ? await figure('scatter', scatterMatrixSpec(data), `Every design evaluated in the run, one panel per pair of objectives (${escapeHtml(objectivesText)}). Grey crosses violate a constraint; blue dots are feasible; vermillion diamonds are the feasible Pareto front.${clipNote ? ' <strong>' + escapeHtml(clipNote) + '</strong>' : ''}`)
     : '<p class="lead">The run has no evaluated designs.</p>';
+  const reasons = new Map(data.analysis.representatives.map((r) => [r.id, r.reasons]));
   const leaders: string[] = [];
-  for (const [index, d] of data.ranked.slice(0, LEADING_DESIGNS).entries()) {
+  for (const [index, d] of data.leading.entries()) {
     const mapOptions = { maxWidthPx: 420, maxHeightPx: 440, maxColourCells: 100, title: `Workspace of design ${d.id} (#${index + 1})` };
     let mapFigure: string;
     if (usesFiveBarMap(data.study)) {
@@ -454,8 +667,10 @@ export async function buildReportHtml(data: ReportData): Promise<string> {
         `${escapeHtml(map.architecture)} design. Colour: 1/κ where every leg reaches (1/κ(J_h) at the study's characteristic length for 3-DOF, at φ₀; 1 = isotropic, 0 = singular), faded outside the strokes. White outline: the usable workspace. Axes in mm, equal scales; y points up.`,
       );
     }
-    leaders.push(`<div class="leader">${metricCard(data, d, index + 1)}${mapFigure}</div>`);
+    leaders.push(`<div class="leader">${metricCard(data, d, index + 1, reasons.get(d.id) ?? [])}${mapFigure}</div>`);
   }
+  const parallel = parallelData(data);
+  const parallelJson = JSON.stringify(parallel).replace(/</g, '\\u003c');
   const caution = `<aside class="caution" role="note"><strong>Safety.</strong> ${escapeHtml(SAFETY_CAUTION)}</aside>`;
   const title = `loopsmith report — ${data.study.name}, run ${data.run.id}`;
   return `<!DOCTYPE html>
@@ -473,16 +688,19 @@ ${studySection(data)}
 <section id="convergence"><h2>Convergence</h2>${convergence}</section>
 <section id="objectives"><h2>Objectives and the Pareto front</h2>${scatter}</section>
 <section id="front"><h2>Feasible Pareto front (${data.front.length} designs)</h2>
-<p class="lead">Ranked ${first ? `by the first objective, ${escapeHtml(first.metric)} (${first.sense === 'max' ? 'highest' : 'lowest'} first)` : 'by design id'}. Click a column heading to sort; objectives are in blue.</p>
+${frontSummary(data)}
+${data.front.length > 0 ? `<figure class="chart" data-chart="parallel"><div id="parallel"></div><figcaption id="selection-status"></figcaption></figure><script type="application/json" id="parallel-data">${parallelJson}</script>` : ''}
+<p class="lead">Ranked ${first ? `by the first objective, ${escapeHtml(first.metric)} (${first.sense === 'max' ? 'highest' : 'lowest'} first)` : 'by design id'}. Click a column heading to sort; objectives are shaded; units are under the headings. Representatives are in bold with the reason they were chosen; constraints held with less than ${100 * BINDING_MARGIN} % to spare are highlighted.</p>
 ${data.front.length > 0 ? `<div class="table-wrap">${frontTable(data)}</div>` : '<p>No feasible design yet: relax the constraints or run more generations.</p>'}
 </section>
-<section id="leading"><h2>Leading designs</h2>
-<p class="lead">The first ${Math.min(LEADING_DESIGNS, data.ranked.length)} designs of the front in the order above, each with every metric and its workspace map.</p>
+<section id="leading"><h2>Leading designs: the front's representatives</h2>
+<p class="lead">${data.leading.length} genuinely different designs of the front (loopsmith front --representatives ${LEADING_DESIGNS}): the best design of each objective, the knees, then the designs farthest from those already chosen in normalised objective space. Each has every metric, its constraint margins (binding ones highlighted) and its workspace map.</p>
 ${leaders.join('\n')}
 </section>
 ${caution}
 <footer>Written by loopsmith from ${escapeHtml(data.dbPath)}. Invented demo studies say so in their first lines.</footer>
 <script>${SORT_SCRIPT}</script>
+<script>${PARALLEL_SCRIPT}</script>
 </body>
 </html>
 `;

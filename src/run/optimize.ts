@@ -7,7 +7,8 @@ import { LoopsmithUserError } from '../core/errors.js';
 import { existsSync } from 'node:fs';
 import { designFromValues } from '../mechanics/designSpace.js';
 import { hypervolume } from '../optimizer/hypervolume.js';
-import { Nsga2, type Nsga2State } from '../optimizer/nsga2.js';
+import type { Nsga2State } from '../optimizer/nsga2.js';
+import { createOptimizer, type AskTellOptimizer } from '../optimizer/algorithm.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { canonicalJson, Store, type GenerationWrite, type NewEvaluation } from '../store/store.js';
@@ -124,7 +125,7 @@ function spreadFrame(frame: HypervolumeFrame | null): HypervolumeFrame | null {
  * the last. The values shown while the run goes are provisional (frame of the first generation with
  * a spread in every objective).
  */
-function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
+export function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
   const last = store.lastGeneration(runId);
   if (last === undefined) return;
   const fronts: number[][][] = [];
@@ -181,9 +182,10 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   const population = options.population ?? loaded.study.optimizer.population;
   const generations = options.generations ?? loaded.study.optimizer.generations;
   const nsgaSettings = { populationSize: population, seed };
+  const algorithm = loaded.study.optimizer.algorithm;
   const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
   const settings = {
-    algorithm: 'nsga2', population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20,
+    ...(algorithm === 'nsga3' ? { algorithm, population, seed, crossoverProbability: 1, crossoverEta: 30, mutationEta: 20 } : { algorithm, population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20 }),
     ...(warm ? { warmStart: { database: options.warmStart!.dbPath, run: warm.runId } } : {}),
   };
   const settingsJson = canonicalJson(settings);
@@ -194,7 +196,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
     store.ensureColumns(sp.columns);
     let runId: number;
-    let optimizer: Nsga2;
+    let optimizer: AskTellOptimizer;
     let frame: HypervolumeFrame | null = null;
     let resumedFrom: number | null = null;
     // Takes the unfinished run of the same settings (refused while another living process writes it), or starts one.
@@ -202,11 +204,11 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     runId = claimed.run.id;
     if (claimed.resumed && claimed.run.optimizerState) {
       const state = JSON.parse(claimed.run.optimizerState) as RunState;
-      optimizer = Nsga2.restore(sp.problem, nsgaSettings, state.nsga2);
+      optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings, state.nsga2);
       frame = state.hypervolumeFrame;
       resumedFrom = claimed.run.generationsDone;
     } else {
-      optimizer = new Nsga2(sp.problem, nsgaSettings);
+      optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings);
     }
     try {
       return await optimizeLoop();

@@ -27,6 +27,8 @@ export interface RescoreOptions extends PoolOptions {
   /** Run whose designs are rescored (default: the latest optimize, sweep or rescore run). */
   readonly runId?: number;
   readonly onProgress?: (done: number, total: number) => void;
+  /** 'front': only the old run's feasible non-dominated designs (by its own study) are rescored (default 'all'). */
+  readonly designs?: 'all' | 'front';
 }
 
 export interface RescoreResult {
@@ -70,7 +72,14 @@ export async function rescoreRun(studyIn: LoadedStudy, options: RescoreOptions):
     const last = store.lastGeneration(oldRun.id);
     const byId = new Map<number, StoredEvaluation>();
     for (let g = 0; last !== undefined && g <= last; g++) for (const m of store.generationMembers(oldRun.id, g)) byId.set(m.id, m);
-    const stored = [...byId.values()].sort((a, b) => a.id - b.id);
+    const everyStored = [...byId.values()].sort((a, b) => a.id - b.id);
+    const stored =
+      options.designs === 'front'
+        ? nonDominated(
+            everyStored.filter((e) => e.feasible && e.error === null),
+            (e) => oldLoaded.study.objectives.map((o) => (o.sense === 'max' ? -(e.metrics[o.metric] ?? Number.NaN) : (e.metrics[o.metric] ?? Number.NaN))),
+          )
+        : everyStored;
     if (stored.length === 0) throw new RescoreError(`${options.dbPath}: run ${oldRun.id} has no stored designs`);
 
     const designs = stored.map((e) => designFromValues(sp.variables, e.variables, true));
@@ -125,7 +134,7 @@ export async function rescoreRun(studyIn: LoadedStudy, options: RescoreOptions):
       kind: 'rescore',
       parentRunId: oldRun.id,
       seed: oldRun.seed,
-      settings: { from: oldRun.id, mode },
+      settings: { from: oldRun.id, mode, ...(options.designs === 'front' ? { designs: 'front' } : {}) },
       workers: pool?.workers ?? 0,
     });
     const uniqueMembers = new Set<string>();

@@ -15,6 +15,7 @@ import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 import { pathEnd, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
 import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
+import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
   ARCHITECTURE_PREFIX,
@@ -54,7 +55,7 @@ export const DEFAULT_EVALUATION = {
   minTransmissionAngle: (30 * Math.PI) / 180,
 } as const;
 
-export const DEFAULT_OPTIMIZER = { population: 100, generations: 100, seed: 1 } as const;
+export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;
 
 type Json = null | boolean | number | string | Json[] | { [key: string]: Json };
 type JsonObject = { [key: string]: Json };
@@ -236,8 +237,19 @@ export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
   };
 }
 
-/** Hash of the parts of a study that change evaluation results (canonical JSON of the typed study). */
-export function evaluationSettingsHash(study: Study): string {
+/**
+ * Hash of everything that changes an evaluation's result: the study settings (`studySettingsHash`)
+ * and the program version, so that results of another loopsmith version are never taken from the
+ * cache nor merged silently. Stores written before the version entered the hash hold the bare
+ * `studySettingsHash` in `settings_hash`: they open, query, export and rescore as before, and their
+ * evaluations are simply not reused by this version (a rescore evaluates them again).
+ */
+export function evaluationSettingsHash(study: Study, version: string = programVersion()): string {
+  return sha256(`${studySettingsHash(study)}\u0000loopsmith ${version}`);
+}
+
+/** Hash of the parts of a study that change evaluation results (canonical JSON of the typed study), without the program version. */
+export function studySettingsHash(study: Study): string {
   const relevant = {
     architecture: study.architecture,
     geometry: study.geometry,
@@ -259,7 +271,7 @@ export function evaluationSettingsHash(study: Study): string {
     sliderMass: study.sliderMass,
     platform: study.platform ?? undefined,
     orientation: study.orientation ?? undefined,
-    members: study.members ? study.members.map(evaluationSettingsHash) : undefined,
+    members: study.members ? study.members.map(studySettingsHash) : undefined,
   };
   return sha256(canonicalJson(relevant));
 }
@@ -667,6 +679,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
 
   const optIn = isObject(data['optimizer']) ? data['optimizer'] : {};
   const optimizer = {
+    algorithm: (optIn['algorithm'] as 'nsga2' | 'nsga3' | undefined) ?? DEFAULT_OPTIMIZER.algorithm,
     population: (optIn['population'] as number | undefined) ?? DEFAULT_OPTIMIZER.population,
     generations: (optIn['generations'] as number | undefined) ?? DEFAULT_OPTIMIZER.generations,
     seed: (optIn['seed'] as number | undefined) ?? DEFAULT_OPTIMIZER.seed,

@@ -76,6 +76,7 @@ baseline:                             # the design that 'loopsmith evaluate' rep
   rod_1: 350 mm
 
 optimizer:
+  algorithm: nsga2                    # nsga3 for four or more objectives (reference directions)
   population: 100
   generations: 100
   seed: 1

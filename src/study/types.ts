@@ -109,6 +109,8 @@ export interface ConstraintSpec {
 }
 
 export interface OptimizerSettings {
+  /** Search algorithm: NSGA-II (default) or NSGA-III (reference directions; for four or more objectives). */
+  readonly algorithm: 'nsga2' | 'nsga3';
   readonly population: number;
   readonly generations: number;
   readonly seed: number;

@@ -17,6 +17,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { workspaceMapSpec } from '../../src/report/map.js';
 import { renderVegaLiteSvg } from '../../src/report/render.js';
 import { LEADING_DESIGNS } from '../../src/report/report.js';
+import { analyseFront } from '../../src/run/frontTools.js';
 import { runFront } from '../../src/run/front.js';
 import { loadStudyFile } from '../../src/study/parse.js';
 import { assertBuilt, makeTemporaryDirectory, REPO_ROOT, removeTemporaryDirectories, runCli, runArgs, SMALL_STUDY } from '../fixtures/harness.js';
@@ -132,7 +133,8 @@ describe('loopsmith report of a comparison run', () => {
 
   it('has a metric card and a workspace map for each leading design, of its own architecture', async () => {
     const front = runFront(comparisonDb).designs;
-    const leading = Math.min(LEADING_DESIGNS, front.length);
+    // The leading designs are the front's representatives (extremes and knees always kept).
+    const leading = analyseFront(runFront(comparisonDb), LEADING_DESIGNS).representatives.length;
     expect(leading).toBeGreaterThan(0);
     expect(await page.locator('section#leading .leader').count()).toBe(leading);
     expect(await page.locator('section#leading figure.chart svg').count()).toBe(leading);

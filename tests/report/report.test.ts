@@ -11,6 +11,8 @@ import { join } from 'node:path';
 import { tmpdir } from 'node:os';
 import { chromium, type BrowserContext, type Page } from 'playwright-core';
 import { runFront } from '../../src/run/front.js';
+import { analyseFront } from '../../src/run/frontTools.js';
+import { LEADING_DESIGNS } from '../../src/report/report.js';
 import { Store } from '../../src/store/store.js';
 import { parseStudyText } from '../../src/study/parse.js';
 import { assertBuilt, makeTemporaryDirectory, removeTemporaryDirectories, runArgs, runCli, SMALL_STUDY } from '../fixtures/harness.js';
@@ -102,8 +104,13 @@ describe('loopsmith report in a browser', () => {
     expect(await page.locator('figure[data-chart="convergence"] g.hv_points_marks path').count()).toBe(expected.hypervolumePoints);
     expect(await page.locator('figure[data-chart="convergence"] g.feasible_bars_marks path').count()).toBe(expected.generations);
     expect(await page.locator('#front-table tbody tr').count()).toBe(expected.front);
-    const maps = Math.min(3, expected.front);
+    // The leading designs are the front's representatives (extremes and knees kept), each with a map.
+    const representatives = analyseFront(runFront(dbPath), LEADING_DESIGNS).representatives;
+    const maps = representatives.length;
+    expect(maps).toBeGreaterThan(0);
     expect(await page.locator('figure[data-chart^="map-"]').count()).toBe(maps);
+    const leadingIds = await page.locator('section#leading .leader h3').allTextContents();
+    expect(leadingIds.map((t) => Number(/design (\d+)/.exec(t)![1]))).toEqual(representatives.map((r) => r.id));
     for (let k = 1; k <= maps; k++) {
       const map = page.locator(`figure[data-chart="map-${k}"]`);
       expect(await map.locator('g.colour_map_marks path').count()).toBeGreaterThan(100);
@@ -122,6 +129,33 @@ describe('loopsmith report in a browser', () => {
     await header.click();
     const descending = await ids();
     expect(descending).toEqual([...ascending].reverse());
+  });
+
+  it('filters the front table by brushing an axis of the parallel coordinates', async () => {
+    const rows = page.locator('#front-table tbody tr');
+    const total = await rows.count();
+    expect(total).toBeGreaterThan(2);
+    const data = JSON.parse((await page.locator('#parallel-data').textContent())!) as { rows: { id: number; values: (number | null)[] }[] };
+    await page.locator('#parallel').scrollIntoViewIfNeeded();
+    const axis = page.locator('#parallel rect.pc-hit[data-axis="0"]');
+    const box = (await axis.boundingBox())!;
+    // Drag over the upper half of the first objective's axis.
+    await page.mouse.move(box.x + box.width / 2, box.y + 2);
+    await page.mouse.down();
+    await page.mouse.move(box.x + box.width / 2, box.y + box.height * 0.5, { steps: 6 });
+    await page.mouse.up();
+    const brushes = JSON.parse((await page.locator('#parallel').getAttribute('data-brushes'))!) as { axis: number; range: [number, number] }[];
+    expect(brushes).toHaveLength(1);
+    const [lo, hi] = brushes[0]!.range;
+    const expectedIds = data.rows.filter((r) => r.values[0] !== null && r.values[0]! >= lo && r.values[0]! <= hi).map((r) => String(r.id)).sort();
+    const visibleIds = (await page.locator('#front-table tbody tr:visible').evaluateAll((trs) => trs.map((tr) => tr.getAttribute('data-id')!))).sort();
+    expect(visibleIds).toEqual(expectedIds);
+    expect(visibleIds.length).toBeLessThan(total);
+    await expect(page.locator('#selection-status').textContent()).resolves.toContain(`${visibleIds.length} of ${total}`);
+    // A click on the axis clears its range: every row is back.
+    await axis.click();
+    expect(await page.locator('#front-table tbody tr:visible').count()).toBe(total);
+    expect(consoleErrors).toEqual([]);
   });
 
   it('renders a screenshot that is not blank', async () => {

@@ -231,8 +231,8 @@ export function registerStoreCommands(cli: Argv): Argv {
           .option('vary', { type: 'string', array: true, demandOption: true, describe: 'NAME=±PERCENT; NAME is payload, joint_stiffness, rated_torque, peak_torque, min_inverse_condition or a path in the study file (drives.both.joint_stiffness, constraints.1.min)' })
           .option('run', { type: 'number', describe: 'run whose front is tested (default: the latest)' })
           .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'representatives to follow (default 4)' })
-          .option('workers', { type: 'number', coerce: positiveInt('workers') })
-          .option('json', { type: 'boolean', default: false })
+          .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the outcome as JSON' })
           .example('$0 sensitivity results/parcel-sorter.db --vary payload=20% --vary joint_stiffness=30%', 'payload ±20 %, drive stiffness ±30 %')
           .example('$0 sensitivity results/parcel-sorter.db --vary constraints.1.min=10%', 'a constraint threshold ±10 %'),
       async (args) => {

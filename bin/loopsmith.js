@@ -7,7 +7,10 @@ main(process.argv.slice(2)).then(
     process.exitCode = code;
   },
   (error) => {
-    process.stderr.write(`loopsmith: internal error: ${error && error.stack ? error.stack : String(error)}\n`);
+    // A defect in loopsmith, not a user's mistake: one line, the stack only on request.
+    const detail = process.env.LOOPSMITH_DEBUG && error && error.stack ? `\n${error.stack}` : '';
+    const text = error instanceof Error ? `${error.name}: ${error.message}` : String(error);
+    process.stderr.write(`loopsmith: internal error: ${text}${detail}\n(this is a defect in loopsmith; rerun with LOOPSMITH_DEBUG=1 for the stack trace and report it)\n`);
     process.exitCode = 70;
   },
 );

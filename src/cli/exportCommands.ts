@@ -1,5 +1,6 @@
 /** Commands that carry designs onward: export (JSON, CSV, MJCF) and rescore. */
 import type { Argv } from 'yargs';
+import { positiveInteger } from './argChecks.js';
 import { ExportError } from '../export/candidate.js';
 import { EXPORT_FORMATS, exportCandidates, selectCandidates, type ExportFormat } from '../export/export.js';
 import { roundAndEvaluate, RoundingError, type RoundingResult } from '../run/roundDesigns.js';
@@ -31,13 +32,14 @@ export function registerExportCommands(cli: Argv): Argv {
         .positional('db', { type: 'string', demandOption: true })
         .option('front', { type: 'boolean', describe: 'the feasible Pareto front of the run (default: the latest run)' })
         .option('ids', { type: 'string', describe: 'evaluation ids, e.g. 12,40,41' })
-        .option('run', { type: 'number', describe: 'run whose front (--front) or study and provenance (--ids) to use' })
+        .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run whose front (--front) or study and provenance (--ids) to use' })
         .option('format', { choices: EXPORT_FORMATS, demandOption: true, describe: 'json: one sheet per design; csv: one table; mjcf: one MuJoCo model per design' })
         .option('out', { type: 'string', demandOption: true, describe: 'output folder (created when missing)' })
         .option('round', { type: 'string', describe: 'snap every length design variable to this step (e.g. 0.5mm), re-evaluate, store the rounded designs and export those' })
         .option('workers', { type: 'number', describe: 'worker threads for the re-evaluation of --round (default: available cores)' })
         .example('$0 export results/parcel-sorter.db --front --round 0.5mm --format json --out sheets', 'buildable lengths: rounded, re-evaluated, stored, exported, with what changed')
-        .conflicts('front', 'ids'),
+        .conflicts('front', 'ids')
+        .example('$0 export results/parcel-sorter.db --front --format csv --out results/front', 'the front as one CSV table'),
     async (args) => {
       if (args.front !== true && args.ids === undefined) throw new ExportError('nothing selected: give --front or --ids ID,...');
       let ids = args.ids !== undefined ? parseIdList(args.ids) : undefined;

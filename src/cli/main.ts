@@ -11,7 +11,7 @@ import { designVariables, studyActuators, variableKind } from '../mechanics/desi
 import { ARCHITECTURES } from '../architectures/index.js';
 import { constraintBounds, constraintDefinitions } from '../mechanics/evaluate.js';
 import { METRICS, metricInfo } from '../mechanics/metrics.js';
-import { loadStudyFile } from '../study/parse.js';
+import { loadStudyFile, StudyError } from '../study/parse.js';
 import { STUDY_TEMPLATE } from '../study/template.js';
 import { loopsmithVersion } from '../core/version.js';
 import { parseQuantity } from '../study/units.js';
@@ -21,15 +21,13 @@ import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
+import { mirrorLimitWarning, unreachableTaskProblems } from '../study/plausibility.js';
+import { taskPointFailures, type TaskPointFailures } from './taskPoints.js';
+import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
+import { programName, setInvocationArguments } from './invocation.js';
 import { registerScaleCommands } from './scaleCommands.js';
 
-/** An error whose message is for the user as it stands. */
-export class UserError extends LoopsmithUserError {
-  constructor(message: string) {
-    super(message);
-    this.name = 'UserError';
-  }
-}
+export { UserError, UsageError };
 
 /** Errors of other libraries whose message is meant for the user (SQLite refusing a file or a query). */
 const FOREIGN_USER_ERROR_NAMES = new Set(['SqliteError', 'ReportError']);
@@ -136,6 +134,32 @@ function memberSummary(study: Study): string {
   return lines.join('\n');
 }
 
+/** Says how many task points a design cannot assemble, and where (they give the worst-limit values). */
+function unassembledText(f: TaskPointFailures): string {
+  const where = f.failed.slice(0, 6).map((p) => `(${formatValue(p.x, 'length')}, ${formatValue(p.y, 'length')}) ${p.status}`).join('; ');
+  return (
+    `${f.failed.length} of ${f.checked} task points cannot be assembled: ${where}${f.failed.length > 6 ? '; …' : ''}.\n` +
+    'At those points the per-pose metrics take their worst limits (∞ torques and speeds, zero stiffness, frequency and acceleration) and constraint margins read about −1e6: ' +
+    'the design does not cover its task region there. Probe one with: loopsmith probe STUDY --at X,Y'
+  );
+}
+
+/** Whether the study's baseline meets its constraints, as a line for `check` (and its JSON). */
+function baselineVerdict(study: Study): { feasible: boolean | null; failing: string[]; text: string } {
+  if (study.members) return { feasible: null, failing: [], text: 'baseline: not evaluated for a comparison study (see: loopsmith evaluate)' };
+  try {
+    const { report } = evaluateDesign(study);
+    const failing = report.constraints.filter((c) => !Number.isNaN(c.margin) && !c.satisfied).map((c) => c.name);
+    const text = report.feasible
+      ? 'baseline: feasible (every constraint holds)'
+      : `baseline: NOT feasible — ${failing.join(', ')} fail (details: loopsmith evaluate STUDY); the optimizer does not need a feasible baseline, but it is worth knowing`;
+    return { feasible: report.feasible, failing, text };
+  } catch (error) {
+    if (!isUserError(error)) throw error;
+    return { feasible: null, failing: [], text: `baseline: cannot be evaluated (${error.message})` };
+  }
+}
+
 function parsePoint(text: string): [number, number, number | undefined] {
   const parts = text.split(',');
   if (parts.length !== 2 && parts.length !== 3) throw new UserError(`--at ${text}: expected X,Y (or X,Y,PHI for a 3-DOF platform), for example --at 0,-450mm or --at "0 mm,-450 mm,10 deg"`);
@@ -155,23 +179,36 @@ export function buildCli(argv: readonly string[]): Argv {
     .command(
       'new <file>',
       'write a commented study template',
-      (y) => y.positional('file', { type: 'string', demandOption: true }).option('force', { type: 'boolean', default: false, describe: 'overwrite an existing file' }),
+      (y) =>
+        y
+          .positional('file', { type: 'string', demandOption: true, describe: 'study file to write (YAML)' })
+          .option('force', { type: 'boolean', default: false, describe: 'overwrite an existing file' })
+          .example('$0 new studies/my-arm.yaml', 'a commented template to edit, then check'),
       (args) => {
         if (existsSync(args.file) && !args.force) throw new UserError(`${args.file} exists; use --force to overwrite`);
         writeFileSync(args.file, STUDY_TEMPLATE.replace('https://loopsmith.invalid/schema/study.schema.json', schemaPath()));
-        out(`wrote ${args.file}; edit it, then run: loopsmith check ${args.file}`);
+        out(`wrote ${args.file}; edit it, then run: ${programName()} check ${args.file}`);
       },
     )
     .command(
       'check <study>',
       'validate a study file and summarise it',
-      (y) => y.positional('study', { type: 'string', demandOption: true }).option('json', { type: 'boolean', default: false }),
+      (y) =>
+        y
+          .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the parsed study (SI units) as JSON' })
+          .example('$0 check studies/parcel-sorter.yaml', 'validate the demo study and summarise it'),
       (args) => {
         const loaded = loadStudyFile(args.study);
+        const problems = unreachableTaskProblems(loaded.study);
+        if (problems.length > 0) throw new StudyError(`${args.study}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
+        const mirror = mirrorLimitWarning(loaded.study);
+        if (mirror) warn(mirror.message);
+        const baseline = baselineVerdict(loaded.study);
         if (args.json) {
-          out(toJson({ ok: true, study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, designVariables: designVariables(loaded.study), constraints: constraintDefinitions(loaded.study) }));
+          out(toJson({ ok: true, study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, designVariables: designVariables(loaded.study), constraints: constraintDefinitions(loaded.study), baseline, warnings: mirror ? [mirror.message] : [] }));
         } else {
-          out(`${args.study}: valid\n\n${studySummary(loaded.study)}`);
+          out(`${args.study}: valid\n\n${studySummary(loaded.study)}\n\n${baseline.text}`);
         }
       },
     )
@@ -181,14 +218,17 @@ export function buildCli(argv: readonly string[]): Argv {
       (y) =>
         y
           .positional('study', { type: 'string', demandOption: true })
-          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
-          .option('json', { type: 'boolean', default: false }),
+          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-); a bare number is metres or radians' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the report as JSON (SI units, stable keys)' })
+          .example('$0 evaluate studies/parcel-sorter.yaml --set crank_1=250mm --set rod_1=480mm', 'the baseline with two lengths changed'),
       (args) => {
         const loaded = loadStudyFile(args.study);
+        checkOverrides(loaded.study, asStrings(args.set));
         const { report, warnings } = evaluateDesign(loaded.study, asStrings(args.set));
         warnings.forEach(warn);
+        const unassembled = taskPointFailures(loaded.study, asStrings(args.set));
         if (args.json) {
-          out(toJson(report));
+          out(toJson({ ...report, taskPoints: { checked: unassembled.checked, failed: unassembled.failed.length, points: unassembled.failed } }));
           return;
         }
         const study = loaded.study;
@@ -201,6 +241,7 @@ export function buildCli(argv: readonly string[]): Argv {
           lines.push('', table(['constraint', 'value', 'min', 'max', 'margin', 'ok'], shown.map((c) => [c.name, formatMetric(c.metric, c.value, actuators), formatMetric(c.metric, c.min, actuators), formatMetric(c.metric, c.max, actuators), c.margin.toFixed(3), c.satisfied ? 'yes' : 'NO'])));
         }
         lines.push('', report.feasible ? 'feasible: every constraint holds' : `NOT feasible: total normalised violation ${report.violation.toPrecision(3)}`);
+        if (unassembled.failed.length > 0) lines.push('', unassembledText(unassembled));
         out(lines.join('\n'));
       },
     )
@@ -211,10 +252,13 @@ export function buildCli(argv: readonly string[]): Argv {
         y
           .positional('study', { type: 'string', demandOption: true })
           .option('at', { type: 'string', demandOption: true, describe: 'end point X,Y, or X,Y,PHI for a 3-DOF platform (units allowed, e.g. 0,-450mm or 0,0.1,10deg)' })
-          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE' })
-          .option('json', { type: 'boolean', default: false }),
+          .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm)' })
+          .option('json', { type: 'boolean', default: false, describe: 'print the report as JSON (SI units)' })
+          .example('$0 probe studies/parcel-sorter.yaml --at -200mm,-525mm', 'joint angles, Jacobian, torques and stiffness at one point'),
       (args) => {
         const loaded = loadStudyFile(args.study);
+        checkOverrides(loaded.study, asStrings(args.set));
+        checkPointText(loaded.study, args.at);
         const [x, y, phi] = parsePoint(args.at);
         if (loaded.study.members || loaded.study.architecture !== 'five-bar') {
           const { report: r, warnings: w } = probeArchitectureDesign(loaded.study, x, y, phi, asStrings(args.set));
@@ -261,6 +305,7 @@ export function buildCli(argv: readonly string[]): Argv {
     .version(loopsmithVersion()) // loopsmith's own package.json, not the one in the working directory
     .fail((message, error) => {
       // Errors thrown by option checks (coerce) come as YError: they are command-line mistakes.
+      if (error instanceof UsageError) throw error;
       if (error && error.name !== 'YError') throw error;
       throw new UsageError(message ?? error?.message ?? 'bad command line');
     });
@@ -297,26 +342,70 @@ function formatArchitectureProbe(report: ReturnType<typeof probeArchitectureDesi
   return `probe at ${at}\n\n${table(['quantity', 'value'], rows)}`;
 }
 
-class UsageError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = 'UsageError';
-  }
+/** File-system failures a user can cause (a folder that does not exist or is not writable, a full disk). */
+const FILE_ERROR_TEXT: Readonly<Record<string, string>> = {
+  EACCES: 'permission denied',
+  EPERM: 'operation not permitted',
+  EROFS: 'the file system is read-only',
+  ENOENT: 'no such file or folder',
+  ENOTDIR: 'a part of the path is not a folder',
+  EISDIR: 'it is a folder, not a file',
+  ENOSPC: 'no space left on the device',
+  EEXIST: 'it exists already',
+  ENAMETOOLONG: 'the name is too long',
+};
+
+/** One line for a file-system error, or undefined when it is not one. */
+export function fileErrorMessage(error: unknown): string | undefined {
+  const e = error as NodeJS.ErrnoException;
+  if (!(error instanceof Error) || typeof e.code !== 'string' || !(e.code in FILE_ERROR_TEXT)) return undefined;
+  const path = e.path ?? (e as { dest?: string }).dest;
+  const verb = e.syscall === 'open' || e.syscall === 'mkdir' || e.syscall === 'rename' || e.syscall === 'write' ? 'cannot write' : 'cannot use';
+  return `${path ? `${verb} ${path}` : 'file error'}: ${FILE_ERROR_TEXT[e.code]} (${e.code}); choose another path or fix its permissions`;
 }
 
-export async function main(argv: readonly string[]): Promise<number> {
+let pipeGuardInstalled = false;
+
+/** A reader that stops early (`| head`) closes the pipe: end quietly, as command-line tools do. */
+function installPipeGuard(): void {
+  if (pipeGuardInstalled) return;
+  pipeGuardInstalled = true;
+  const quietOnBrokenPipe = (error: NodeJS.ErrnoException): void => {
+    if (error.code === 'EPIPE' || error.code === 'ERR_STREAM_DESTROYED') process.exit(process.exitCode === undefined ? 0 : Number(process.exitCode));
+    throw error;
+  };
+  process.stdout.on('error', quietOnBrokenPipe);
+}
+
+export interface MainOptions {
+  /** Exit quietly when stdout is closed early (the command line does; tests that run main in-process do not). */
+  readonly pipeGuard?: boolean;
+}
+
+export async function main(argv: readonly string[], options: MainOptions = {}): Promise<number> {
+  if (options.pipeGuard !== false) installPipeGuard();
+  const before = process.exitCode;
   try {
-    await buildCli(argv).parseAsync();
+    process.exitCode = undefined;
+    setInvocationArguments(argv);
+    await buildCli(joinNegativeValues(argv)).parseAsync();
     return process.exitCode === undefined ? 0 : Number(process.exitCode);
   } catch (error) {
     if (error instanceof UsageError) {
-      process.stderr.write(`loopsmith: ${error.message}\nsee: loopsmith --help\n`);
+      process.stderr.write(`loopsmith: ${error.message}\nsee: ${programName()} --help\n`);
       return 2;
     }
     if (isUserError(error)) {
       process.stderr.write(`loopsmith: ${error.message}\n`);
       return 1;
     }
+    const fileMessage = fileErrorMessage(error);
+    if (fileMessage !== undefined) {
+      process.stderr.write(`loopsmith: ${fileMessage}\n`);
+      return 1;
+    }
     throw error;
+  } finally {
+    if (options.pipeGuard === false) process.exitCode = before;
   }
 }

@@ -1,6 +1,6 @@
 /** Commands that draw: map (workspace of one design) and report (HTML study report). */
 import { LoopsmithUserError } from '../core/errors.js';
-import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { accessSync, constants, existsSync, mkdirSync } from 'node:fs';
 import { dirname, extname } from 'node:path';
 import type { Argv } from 'yargs';
 import { designMapSpec } from '../report/designMap.js';
@@ -8,6 +8,8 @@ import { renderVegaLiteSvg, svgToPng } from '../report/render.js';
 import { writeReport } from '../report/report.js';
 import { loadStudyFile } from '../study/parse.js';
 import { chooseDesign } from '../api/design.js';
+import { checkOverrides, positiveInteger, UsageError } from './argChecks.js';
+import { writeFileAtomically } from './files.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -18,12 +20,7 @@ function asStrings(value: unknown): string[] {
   return (Array.isArray(value) ? value : [value]).map(String);
 }
 
-class ReportUsageError extends LoopsmithUserError {
-  constructor(message: string) {
-    super(message);
-    this.name = 'StoreError';
-  }
-}
+class ReportUsageError extends LoopsmithUserError {}
 
 export function registerReportCommands(cli: Argv): Argv {
   return cli
@@ -36,23 +33,26 @@ export function registerReportCommands(cli: Argv): Argv {
           .option('set', { type: 'string', array: true, describe: 'override NAME=VALUE (e.g. crank_1=320mm, working_mode=+-)' })
           .option('out', { type: 'string', demandOption: true, describe: 'output file, .svg or .png' })
           .option('cells', { type: 'number', describe: 'grid cells across the reachable box (default: the study\'s evaluation.grid_cells, at least 120)' })
+          .example('$0 map studies/parcel-sorter.yaml --set crank_1=250mm --out results/map.svg', 'the workspace of one design')
           .check((args) => {
             const ext = extname(args.out).toLowerCase();
-            if (ext !== '.svg' && ext !== '.png') throw new Error(`--out ${args.out}: the file name must end in .svg or .png`);
-            if (args.cells !== undefined && (!Number.isInteger(args.cells) || args.cells < 4 || args.cells > 1000)) throw new Error('--cells must be an integer from 4 to 1000');
+            if (ext !== '.svg' && ext !== '.png') throw new UsageError(`--out ${args.out}: the file name must end in .svg or .png (for example --out map.svg)`);
+            if (args.cells !== undefined && (!Number.isInteger(args.cells) || args.cells < 4 || args.cells > 1000)) throw new UsageError(`--cells ${String(args.cells)}: expected a whole number from 4 to 1000`);
             return true;
           }),
       async (args) => {
         const loaded = loadStudyFile(args.study);
         const overrides = asStrings(args.set);
+        checkOverrides(loaded.study, overrides);
         const choice = chooseDesign(loaded.study, overrides);
         choice.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
+        // Refuse an unwritable --out before the (long) drawing, not after it.
+        mkdirSync(dirname(args.out), { recursive: true });
+        accessSync(dirname(args.out), constants.W_OK);
         const cells = args.cells !== undefined ? { cells: args.cells } : {};
         // One map for every architecture (a comparison study: the member the design chooses).
         const svg = await renderVegaLiteSvg(designMapSpec(choice.study, choice.design, cells).spec);
-        mkdirSync(dirname(args.out), { recursive: true });
-        if (extname(args.out).toLowerCase() === '.png') writeFileSync(args.out, svgToPng(svg));
-        else writeFileSync(args.out, svg);
+        writeFileAtomically(args.out, extname(args.out).toLowerCase() === '.png' ? svgToPng(svg) : svg);
         out(`wrote ${args.out}`);
       },
     )
@@ -62,8 +62,9 @@ export function registerReportCommands(cli: Argv): Argv {
       (y) =>
         y
           .positional('db', { type: 'string', demandOption: true })
-          .option('run', { type: 'number', describe: 'run id (default: the latest optimization or sweep)' })
-          .option('out', { type: 'string', demandOption: true, describe: 'output folder (index.html is written there)' }),
+          .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run id (default: the latest optimization or sweep)' })
+          .option('out', { type: 'string', demandOption: true, describe: 'output folder (index.html is written there)' })
+          .example('$0 report results/parcel-sorter.db --out results/parcel-sorter-report', 'an HTML report of the latest finished run'),
       async (args) => {
         if (!existsSync(args.db)) throw new ReportUsageError(`${args.db}: no such database (run a study first: loopsmith run STUDY)`);
         const written = await writeReport(args.db, args.run, args.out);

@@ -37,7 +37,7 @@ export function registerScaleCommands(cli: Argv): Argv {
           .option('shards', { type: 'number', demandOption: true, coerce: wholeNumber('shards', 1), describe: 'array tasks (per epoch)' })
           .option('out', { type: 'string', demandOption: true, describe: 'plan folder, on a file system every node sees' })
           .option('db', { type: 'string', describe: 'store the merge writes (default: results/<study>.db)' })
-          .option('seed', { type: 'number' })
+          .option('seed', { type: 'number', describe: 'random seed (default: the study\'s optimizer.seed)' })
           .option('partition', { type: 'string', describe: 'Slurm partition (default: the cluster\'s)' })
           .option('cpus-per-task', { type: 'number', default: 1, coerce: wholeNumber('cpus-per-task', 1), describe: 'CPUs per array task = evaluation workers per shard' })
           .option('time', { type: 'string', describe: 'time limit per task, e.g. 02:00:00' })
@@ -84,7 +84,7 @@ export function registerScaleCommands(cli: Argv): Argv {
           .option('all', { type: 'boolean', describe: 'every shard (every epoch) on this machine, in order' })
           .option('workers', { type: 'number', coerce: wholeNumber('workers', 1), describe: 'evaluation workers (default: SLURM_CPUS_PER_TASK, else the plan\'s CPUs per task)' })
           .option('scratch', { type: 'string', describe: 'node-local scratch folder (default: the plan\'s, else $TMPDIR)' })
-          .option('quiet', { type: 'boolean', default: false })
+          .option('quiet', { type: 'boolean', default: false, describe: 'no progress output' })
           .conflicts('all', ['index', 'epoch'])
           .example('loopsmith shard /shared/atlas --index 17', 'run shard 17 here'),
       async (args) => {

@@ -6,6 +6,7 @@ import { CONTROLLER_KINDS, SimulationError, type ControllerKind, type Simulation
 import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup } from '../simulate/study.js';
 import { writeSimulationOutputs } from '../simulate/plots.js';
 import { formatValue, table, toJson } from './format.js';
+import { checkOverrides } from './argChecks.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -85,7 +86,8 @@ export function registerSimulateCommands(cli: Argv): Argv {
         .option('friction', { type: 'boolean', default: true, describe: 'include the study\'s joint friction (--no-friction to leave it out)' })
         .option('interval', { type: 'string', describe: 'spacing of the recorded samples (default 1 ms)' })
         .option('out', { type: 'string', describe: 'folder for the charts (SVG and PNG), timeseries.csv and summary.json' })
-        .option('json', { type: 'boolean', default: false, describe: 'print the summary as JSON' }),
+        .option('json', { type: 'boolean', default: false, describe: 'print the summary as JSON' })
+        .example('$0 simulate studies/parcel-sorter-cycle.yaml --extra-payload 0.2kg --out results/sim', 'track the duty cycle with an unmodelled payload'),
     async (args) => {
       const loaded = loadStudyFile(args.study);
       const duration = optionQuantity(args.duration, 'time', '--duration');
@@ -97,6 +99,7 @@ export function registerSimulateCommands(cli: Argv): Argv {
       if (args.damping !== undefined && !(args.damping > 0)) throw new SimulationError('--damping must be positive');
       if (extraEndMass !== undefined && !(extraEndMass >= 0)) throw new SimulationError('--extra-payload must be zero or positive');
       if (interval !== undefined && !(interval > 0)) throw new SimulationError('--interval must be positive');
+      checkOverrides(loaded.study, asStrings(args.set));
       const setup = prepareStudySimulation(loaded.study, asStrings(args.set));
       setup.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
       const effectiveDuration = duration ?? setup.cycleTime;

@@ -86,6 +86,7 @@ const RUN_RULES: OptionRules<RunOptions> = {
     problem: (value) => (value === 'converge' || (Number.isInteger(value) && (value as number) >= 1) ? undefined : { path: '', expected: 'a whole number of generations ≥ 1 or "converge"', value }),
   }),
   runId: is.optional(RUN_ID),
+  command: is.optional(is.text('the command line that starts the run')),
 };
 
 export async function runOptimization(study: LoadedStudy, options: RunOptions): Promise<RunSummary> {

@@ -326,7 +326,7 @@ export function scatterMatrixSpec(data: ReportData): TopLevelSpec {
       tooltip: [{ field: 'id', type: 'quantitative', title: 'design id' }, { field: 'status', type: 'nominal' }, { field: xField, type: 'quantitative', format: '.4~g' }, { field: yField, type: 'quantitative', format: '.4~g' }],
     },
   });
-  const subtitle = `${rows.length} designs evaluated in run ${data.run.id}` + (omitted > 0 ? `; ${omitted} with an infinite or missing objective not shown` : '') +
+  const subtitle = `${rows.length} of the ${data.members.length} distinct designs kept in a population of run ${data.run.id}` + (omitted > 0 ? `; ${omitted} with an infinite or missing objective not shown` : '') +
     (data.failedCount > 0 ? `; ${data.failedCount} failed evaluations left out` : '');
   const base = { $schema: 'https://vega.github.io/schema/vega-lite/v6.json', title: { text: subtitle, fontSize: 13, fontWeight: 'normal' }, data: { values: rows } } as const;
   if (objectives.length < 2) {
@@ -387,7 +387,8 @@ function studySection(data: ReportData): string {
     ['database', data.dbPath],
     ['run', `${run.id} (${run.kind}), status ${run.status}, seed ${run.seed}, ${run.generationsDone} generations, ${run.workers} workers, started ${run.startedAt}, ${run.elapsedSeconds.toFixed(0)} s`],
     ...(data.standing ? ([['ended', data.standing]] as [string, string][]) : []),
-    ['designs', `${data.members.length} evaluated members, ${data.members.filter((m) => m.feasible).length} feasible, ${data.front.length} on the feasible front`],
+    // The same counts and words as the summary of \`loopsmith run\`.
+    ['designs', `${data.feasiblePerGeneration.reduce((n, g) => n + g.evaluations, 0)} designs asked for over ${data.feasiblePerGeneration.length} generations; ${data.members.length} distinct designs kept in a population, ${data.members.filter((m) => m.feasible).length} feasible, ${data.front.length} on the feasible front`],
     ['architecture', s.members ? `comparison of ${s.members.map((m) => m.architecture).join(', ')} (a design variable)` : s.architecture],
     [
       'working mode / assembly',

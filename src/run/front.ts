@@ -5,7 +5,7 @@
  * good designs that the population's fixed size pushed out.
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import { Store, type StoredEvaluation } from '../store/store.js';
+import { Store, type RunRow, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
 import { evaluationKey } from './problem.js';
 import type { ObjectiveSpec, Study } from '../study/types.js';
@@ -21,6 +21,10 @@ export interface FrontResult {
   readonly designs: readonly StoredEvaluation[];
   /** The run's study (architecture, units of variables and metrics). */
   readonly study: Study;
+  /** The run as stored. */
+  readonly run?: RunRow;
+  /** Why this run was shown when none was named. */
+  readonly reason?: string;
 }
 
 function dominates(a: readonly number[], b: readonly number[]): boolean {
@@ -69,15 +73,35 @@ function archiveEvaluations(store: Store, optimizerState: string | null, setting
   return keys.map((k) => found.get(k)).filter((e): e is StoredEvaluation => e !== undefined && e.feasible && e.error === null);
 }
 
+/**
+ * The run a command shows when none is named: the latest finished run; when none has finished, the
+ * one with the most generations stored (the latest of those). A run that has just started and holds
+ * nothing is never preferred over one with results.
+ */
+export function chooseDefaultRun(runs: readonly RunRow[]): { run: RunRow; reason: string } | undefined {
+  const candidates = runs.filter((r) => r.kind === 'optimize' || r.kind === 'sweep' || r.kind === 'rescore');
+  const finished = candidates.filter((r) => r.status === 'finished');
+  const latestFinished = finished.at(-1);
+  if (latestFinished) {
+    const newer = candidates.filter((r) => r.id > latestFinished.id).length;
+    return { run: latestFinished, reason: `the latest finished run${newer > 0 ? ` (${newer} newer run(s) not finished)` : ''}` };
+  }
+  let best: RunRow | undefined;
+  for (const r of candidates) if (!best || r.generationsDone >= best.generationsDone) best = r;
+  return best ? { run: best, reason: 'no run has finished; this one has the most generations stored' } : undefined;
+}
+
 export function runFront(dbPath: string, runId?: number): FrontResult {
   const store = Store.open(dbPath);
   try {
-    const run = runId !== undefined ? store.getRun(runId) : store.listRuns().filter((r) => r.kind === 'optimize' || r.kind === 'sweep' || r.kind === 'rescore').at(-1);
+    const chosen = runId !== undefined ? undefined : chooseDefaultRun(store.listRuns());
+    const run = runId !== undefined ? store.getRun(runId) : chosen?.run;
     if (!run) throw new FrontError(runId !== undefined ? `${dbPath}: no run ${runId} (see: loopsmith runs ${dbPath})` : `${dbPath}: no optimization or sweep run yet`);
     const studyRow = store.getStudy(run.studyId)!;
     const { study } = parseStudyText(studyRow.fileText, `${dbPath} (study of run ${run.id})`);
     const last = store.lastGeneration(run.id);
-    if (last === undefined) return { runId: run.id, kind: run.kind, objectives: study.objectives, designs: [], study };
+    const about = { run, ...(chosen ? { reason: chosen.reason } : {}) };
+    if (last === undefined) return { runId: run.id, kind: run.kind, objectives: study.objectives, designs: [], study, ...about };
     const generations = Array.from({ length: last + 1 }, (_, g) => g);
     const byId = new Map<number, StoredEvaluation>();
     let settingsHash: string | undefined;
@@ -94,7 +118,7 @@ export function runFront(dbPath: string, runId?: number): FrontResult {
         return o.sense === 'max' ? -v : v;
       });
     const designs = nonDominated([...byId.values()], minimised).sort((a, b) => a.id - b.id);
-    return { runId: run.id, kind: run.kind, objectives: study.objectives, designs, study };
+    return { runId: run.id, kind: run.kind, objectives: study.objectives, designs, study, ...about };
   } finally {
     store.close();
   }

@@ -41,6 +41,8 @@ export interface RunOptions extends PoolOptions {
   readonly onGeneration?: (progress: GenerationProgress) => void;
   /** Checked after each committed generation; true stops the run cleanly (status "stopped"). */
   readonly shouldStop?: () => boolean;
+  /** The command line that starts (and resumes) the run, kept with the run for `loopsmith runs`. */
+  readonly command?: string;
 }
 
 export interface GenerationProgress {
@@ -158,6 +160,22 @@ function frameFrom(points: readonly number[][]): HypervolumeFrame | null {
   return { ideal, nadir };
 }
 
+/** The frame widened to cover `points` (objectives clamped to finite values, as in the final record). */
+function widenFrame(frame: HypervolumeFrame | null, points: readonly number[][]): HypervolumeFrame | null {
+  const finite = points.map((p) => p.map((v) => (v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v)));
+  const all = frame ? [frame.ideal, frame.nadir, ...finite] : finite;
+  if (all.length === 0) return null;
+  // Bounds of every front point so far, kept even before they spread in every objective.
+  const ideal = all[0]!.map((_, k) => Math.min(...all.map((p) => p[k]!)));
+  const nadir = all[0]!.map((_, k) => Math.max(...all.map((p) => p[k]!)));
+  return { ideal, nadir };
+}
+
+/** A frame that spreads in every objective (a hypervolume can be given in it). */
+function spreadFrame(frame: HypervolumeFrame | null): HypervolumeFrame | null {
+  return frame && frame.ideal.every((v, k) => frame.nadir[k]! > v) ? frame : null;
+}
+
 /**
  * At the end of a run, every generation's hypervolume is recomputed in one frame: objectives
  * normalised by the ideal and nadir of the feasible rank-0 members over the whole run (reference
@@ -194,7 +212,7 @@ export class WarmStartError extends LoopsmithUserError {
 /** Final population of an earlier optimization run, as design vectors of this study (clamped to its bounds). */
 function warmStartDesigns(from: { dbPath: string; runId?: number }, sp: StudyProblem): { runId: number; designs: Float64Array[] } {
   if (!existsSync(from.dbPath)) throw new WarmStartError(`--from ${from.dbPath}: no such database`);
-  const store = Store.open(from.dbPath);
+  const store = Store.open(from.dbPath, { access: 'read' });
   try {
     const run = from.runId !== undefined ? store.getRun(from.runId) : store.listRuns().filter((r) => r.kind === 'optimize').at(-1);
     if (!run) throw new WarmStartError(`--from ${from.dbPath}${from.runId !== undefined ? ':' + from.runId : ''}: no such optimization run`);
@@ -269,7 +287,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   // Checked before the database is opened, so that a bad --from creates nothing.
   const warm = options.warmStart ? warmStartDesigns(options.warmStart, sp) : null;
   if (options.more !== undefined && !existsSync(options.dbPath)) throw new ContinueError(`--more: ${options.dbPath}: no such database; run the study first (loopsmith run STUDY), then continue it`);
-  const store = Store.open(options.dbPath);
+  const store = Store.open(options.dbPath, { access: 'write' });
   const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
   let continued: RunRow | undefined;
   try {
@@ -294,6 +312,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   }
 
   const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
+  let ownedRunId: number | undefined;
   try {
     store.ensureColumns(sp.columns);
     let runId: number;
@@ -303,12 +322,16 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     let termination = plan.termination;
     let trackerState: TerminationState | undefined;
     let evaluationsSoFar = 0;
-    const previous = continued ?? store.findUnfinishedRun(studyId, 'optimize', seed, settingsJson);
+    // Takes the run to continue (--more), or the unfinished run of the same settings, or starts one;
+    // refused while another living process writes it.
+    const claimed = store.claimRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers, command: options.command ?? null, ...(continued ? { runId: continued.id } : {}) });
+    runId = claimed.run.id;
+    ownedRunId = runId;
+    const previous = claimed.resumed ? claimed.run : undefined;
     if (previous && previous.optimizerState) {
       const state = JSON.parse(previous.optimizerState) as RunState;
       optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings, state.nsga2);
       frame = state.hypervolumeFrame;
-      runId = previous.id;
       resumedFrom = previous.generationsDone;
       evaluationsSoFar = state.evaluations ?? previous.generationsDone * population;
       trackerState = state.termination;
@@ -320,10 +343,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       } else if (recorded) {
         termination = recorded;
       }
-      store.markRun(runId, 'running', null);
     } else {
-      runId = previous?.id ?? store.createRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers });
-      if (previous) store.markRun(runId, 'running', null);
       optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings);
     }
     store.setRunEnd(runId, null, termination);
@@ -370,8 +390,11 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       const members = optimizer.population();
       const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
       const feasibleCount = members.filter((m) => isFeasible(m.evaluation)).length;
-      frame ??= frameFrom(feasibleFront);
-      const hv = frame ? frameHypervolume(feasibleFront, frame) : null;
+      // The frame grows with every generation's front, so the figure shown during the run is in the
+      // same normalisation as the record rewritten at the end (equal to it at the last generation).
+      frame = widenFrame(frame, feasibleFront);
+      const spread = spreadFrame(frame);
+      const hv = spread ? frameHypervolume(feasibleFront, spread) : null;
       const elapsed = (performance.now() - genStart) / 1000;
       const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
       const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame, termination: tracker.toJSON(), evaluations: evaluationsSoFar };
@@ -446,6 +469,16 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       archiveSize,
       convergedAt: tracker.convergedGeneration,
     };
+  } catch (error) {
+    // Never leave a run "running" behind an error. With generations stored it is 'stopped' (the same
+    // command resumes it from the last one); without any it 'failed'. The reason goes with it. A run
+    // this process never claimed (another process writes it) is not touched.
+    if (ownedRunId !== undefined) {
+      const reason = error instanceof Error ? error.message : String(error);
+      const done = store.getRun(ownedRunId)?.generationsDone ?? 0;
+      store.markRun(ownedRunId, done > 0 ? 'stopped' : 'failed', done > 0 ? `stopped by an error after ${done} generation(s): ${reason}` : `failed: ${reason}`);
+    }
+    throw error;
   } finally {
     await pool.close();
     store.close();

@@ -52,7 +52,7 @@ function designIdentity(values: Readonly<Record<string, number | string>>): stri
 
 export async function rescoreRun(studyIn: LoadedStudy, options: RescoreOptions): Promise<RescoreResult> {
   const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
-  const store = Store.open(options.dbPath);
+  const store = Store.open(options.dbPath, { access: 'write' });
   let pool: EvaluationPool | undefined;
   try {
     const runs = store.listRuns();

@@ -2,6 +2,7 @@
  * `loopsmith sweep`: a space-filling sample of the design space (Latin hypercube or full grid),
  * evaluated into the same store for design atlases. Written in chunks, one transaction each.
  */
+import { LoopsmithUserError } from '../core/errors.js';
 import { designLayout, latinHypercube, KIND_CATEGORICAL } from '../optimizer/operators.js';
 import { SeededRandom } from '../optimizer/random.js';
 import { isFeasible } from '../optimizer/types.js';
@@ -49,14 +50,19 @@ export function gridDesigns(layout: ReturnType<typeof designLayout>, samples: nu
   return out;
 }
 
+/** A sweep the study cannot give (a user error). */
+export class SweepError extends LoopsmithUserError {
+  override readonly name = 'SweepError';
+}
+
 export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Promise<{ runId: number; evaluations: number; feasible: number; status: 'finished' | 'stopped' }> {
   const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
   const sp = studyProblem(loaded.study);
-  if (sp.variables.length === 0) throw new Error('this study has no design variables to sweep');
+  if (sp.variables.length === 0) throw new SweepError(`${loaded.source}: this study has no design variables to sweep (make a geometry parameter a { min, max } range)`);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const layout = designLayout(sp.problem);
   const designs = options.method === 'grid' ? gridDesigns(layout, options.samples) : latinHypercube(options.samples, layout, new SeededRandom(seed));
-  const store = Store.open(options.dbPath);
+  const store = Store.open(options.dbPath, { access: 'write' });
   const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
   try {
     const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });

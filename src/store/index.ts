@@ -9,6 +9,12 @@ export {
   METRIC_PREFIX,
   CONSTRAINT_PREFIX,
   EVALUATION_BASE_COLUMNS,
+  currentOwner,
+  ownerAlive,
+  runState,
+  runBusyMessage,
+  processStartToken,
+  REMOTE_OWNER_STALE_MS,
 } from './store.js';
 export type {
   ColumnSet,
@@ -24,6 +30,8 @@ export type {
   StudyRow,
   StoreOptions,
   VariableType,
+  RunOwner,
+  RunState,
 } from './store.js';
 export { migrate, readSchemaSql, SCHEMA_VERSION, MIGRATIONS, SchemaVersionError } from './migrations.js';
 export type { Migration, MigrateOptions, MigrateResult } from './migrations.js';

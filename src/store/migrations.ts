@@ -15,7 +15,7 @@ import { readFileSync } from 'node:fs';
 import type Database from 'better-sqlite3';
 
 /** Schema version this code reads and writes; equals the `PRAGMA user_version` set by schema.sql. */
-export const SCHEMA_VERSION = 2;
+export const SCHEMA_VERSION = 3;
 
 /** Raised when a database cannot be used at this schema version. */
 export class SchemaVersionError extends LoopsmithUserError {
@@ -29,6 +29,16 @@ export interface Migration {
   /** Runs inside the step's transaction; must not change `user_version` itself. */
   apply(db: Database.Database): void;
 }
+
+/** Columns of the run-ownership lock (version 3); schema.sql has the same definitions. */
+export const RUN_OWNER_COLUMNS: readonly string[] = [
+  'owner_pid INTEGER NULL',   // process writing the run; NULL when no process owns it
+  'owner_host TEXT NULL',     // host name of that process
+  'owner_since TEXT NULL',    // ISO 8601 UTC: when that process took the run
+  'owner_token TEXT NULL',    // start time of that process as the OS reports it (tells a reused pid apart)
+  'heartbeat_at TEXT NULL',   // ISO 8601 UTC: the owner's last sign of life (claim or generation write)
+  'command TEXT NULL',        // the command line that writes the run: the one that resumes it
+];
 
 /**
  * Convergence record of optimization runs: why a run ended (`runs.end_reason`), the termination it
@@ -49,11 +59,20 @@ export const MIGRATION_RUN_END_REASON_AND_CONVERGENCE: Migration = {
   },
 };
 
+/** Run-ownership lock of a run (owner process, host, start, heartbeat) and the command that resumes it. */
+export const MIGRATION_RUN_OWNER: Migration = {
+  from: 2,
+  description: 'runs: ownership lock (owner process, host, start, heartbeat) and the command that resumes the run',
+  apply(db) {
+    for (const column of RUN_OWNER_COLUMNS) db.exec(`ALTER TABLE runs ADD COLUMN ${column}`);
+  },
+};
+
 /**
  * Steps from older schema versions, in order. A new version N adds `{ from: N - 1, ... }` here and
  * sets `PRAGMA user_version = N` in schema.sql.
  */
-export const MIGRATIONS: readonly Migration[] = [MIGRATION_RUN_END_REASON_AND_CONVERGENCE];
+export const MIGRATIONS: readonly Migration[] = [MIGRATION_RUN_END_REASON_AND_CONVERGENCE, MIGRATION_RUN_OWNER];
 
 /** Full text of schema.sql, read next to this module (src/store in tests, dist/store when built). */
 export function readSchemaSql(): string {

@@ -15,7 +15,8 @@
  */
 import { LoopsmithUserError } from '../core/errors.js';
 import Database from 'better-sqlite3';
-import { quoteIdentifier } from './store.js';
+import { existsSync } from 'node:fs';
+import { quoteIdentifier, readOnlyNames } from './store.js';
 
 export interface QueryOptions {
   /** SQL expression over the evaluation columns, e.g. `m_workspace_area > 0.05 AND feasible = 1`. */
@@ -156,19 +157,23 @@ export function parseOrderBy(
 }
 
 function openReadOnly(dbPath: string): Database.Database {
-  let db: Database.Database;
-  try {
-    db = new Database(dbPath, { readonly: true, fileMustExist: true, timeout: READ_BUSY_TIMEOUT_MS });
-  } catch (error) {
-    throw new QueryError(`cannot open database ${dbPath}: ${(error as Error).message}`);
+  // The plain read-only connection first; in a folder where SQLite cannot create the shared-memory
+  // file of a WAL store, the same file opened immutable.
+  let lastError: unknown;
+  for (const name of readOnlyNames(dbPath)) {
+    let db: Database.Database | undefined;
+    try {
+      db = new Database(name, { readonly: true, fileMustExist: true, timeout: READ_BUSY_TIMEOUT_MS });
+      db.pragma('query_only = ON');
+      db.prepare('SELECT COUNT(*) FROM sqlite_schema').get();
+      return db;
+    } catch (error) {
+      db?.close();
+      lastError = error;
+      if (!existsSync(dbPath)) break;
+    }
   }
-  try {
-    db.pragma('query_only = ON');
-  } catch (error) {
-    db.close();
-    throw new QueryError(`cannot use database ${dbPath}: ${(error as Error).message}`);
-  }
-  return db;
+  throw new QueryError(`cannot open database ${dbPath}: ${(lastError as Error).message}`);
 }
 
 /**

@@ -1,4 +1,4 @@
--- loopsmith result store: full schema of version 2.
+-- loopsmith result store: full schema of version 3.
 --
 -- This file creates a fresh database in one transaction (see migrations.ts).
 -- Databases written by older code are brought up to date by the numbered
@@ -45,7 +45,14 @@ CREATE TABLE runs (
   optimizer_state  TEXT NULL,           -- opaque JSON snapshot written with each generation, for resume
   message          TEXT NULL,
   end_reason       TEXT NULL CHECK (end_reason IN ('converged', 'budget')), -- why a finished run ended; NULL otherwise
-  termination_json TEXT NULL            -- canonical JSON of the termination the run used (see docs/optimizer.md)
+  termination_json TEXT NULL,           -- canonical JSON of the termination the run used (see docs/optimizer.md)
+  -- version 3: run-ownership lock (see Store.claimRun) and the command that resumes the run
+  owner_pid        INTEGER NULL,        -- process writing the run; NULL when none owns it
+  owner_host       TEXT NULL,           -- host name of that process
+  owner_since      TEXT NULL,           -- ISO 8601 UTC, when that process took the run
+  owner_token      TEXT NULL,           -- start time of that process as the OS reports it (tells a reused pid apart)
+  heartbeat_at     TEXT NULL,           -- ISO 8601 UTC, the owner's last sign of life
+  command          TEXT NULL            -- the command line that writes the run: the one that resumes it
 );
 CREATE INDEX runs_resume_lookup ON runs (study_id, kind, seed, status);
 CREATE INDEX runs_by_parent ON runs (parent_run_id);
@@ -112,4 +119,4 @@ CREATE VIEW results AS
 SELECT id, eval_key, settings_hash, first_run_id, violation, feasible, error, eval_seconds
 FROM evaluations;
 
-PRAGMA user_version = 2;
+PRAGMA user_version = 3;

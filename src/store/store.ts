@@ -9,9 +9,14 @@
 import { LoopsmithUserError } from '../core/errors.js';
 import Database from 'better-sqlite3';
 import { createHash } from 'node:crypto';
-import { mkdirSync } from 'node:fs';
+import { accessSync, constants, existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { hostname } from 'node:os';
 import { dirname, resolve } from 'node:path';
-import { migrate } from './migrations.js';
+import { migrate, SCHEMA_VERSION, SchemaVersionError } from './migrations.js';
+
+// A store in a folder nobody may write is opened as an immutable URI (file:...?immutable=1); SQLite
+// reads this setting when better-sqlite3 loads its addon, on the first connection of the process.
+process.env['SQLITE_USE_URI'] ??= '1';
 
 export type RunKind = 'optimize' | 'sweep' | 'rescore' | 'evaluate';
 export type RunStatus = 'running' | 'stopped' | 'finished' | 'failed';
@@ -132,6 +137,14 @@ export interface RunRow {
   endReason: RunEndReason | null;
   /** Canonical JSON of the termination the run used; null when not recorded. */
   terminationJson: string | null;
+  /** Owner of a running run (null when none, or in a store older than schema version 3). */
+  ownerPid: number | null;
+  ownerHost: string | null;
+  ownerSince: string | null;
+  ownerToken: string | null;
+  heartbeatAt: string | null;
+  /** The command line that writes the run (and resumes it), when known. */
+  command: string | null;
 }
 
 export type RunEndReason = 'converged' | 'budget';
@@ -149,6 +162,84 @@ export interface StudyRow {
 export interface StoreOptions {
   /** Source of "now" for timestamps and elapsed time; defaults to the system clock. */
   readonly clock?: () => Date;
+  /**
+   * 'write': the store must be writable (created when missing); a read-only file or folder is refused
+   * with a clear message. 'read': never writes (no migration, no WAL switch); the file must exist.
+   * 'auto' (default): writes when it can, reads only when the file or its folder is not writable.
+   */
+  readonly access?: 'write' | 'read' | 'auto';
+}
+
+/** The process that owns (writes) a run. */
+export interface RunOwner {
+  readonly pid: number;
+  readonly host: string;
+  /** ISO 8601 UTC. */
+  readonly since: string;
+  /** The process's start time as the OS reports it (Linux: /proc/PID/stat), or null. */
+  readonly token: string | null;
+}
+
+/** A run's status as a user sees it: 'running' of a process that is gone reads 'interrupted'. */
+export type RunState = RunStatus | 'interrupted';
+
+/** A run owned by a process on another host counts as alive for this long after its last sign of life. */
+export const REMOTE_OWNER_STALE_MS = 30 * 60 * 1000;
+
+/** Start time of a process as Linux reports it (field 22 of /proc/PID/stat), or null elsewhere. */
+export function processStartToken(pid: number): string | null {
+  try {
+    const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+    const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+    return fields[19] ?? null;
+  } catch {
+    return null;
+  }
+}
+
+/** This process as a run owner. */
+export function currentOwner(now: Date = new Date()): RunOwner {
+  return { pid: process.pid, host: hostname(), since: now.toISOString(), token: processStartToken(process.pid) };
+}
+
+/**
+ * Whether the process that owns a run still lives: on this host by asking the OS (a reused pid is told
+ * apart by its start time); on another host by its last sign of life (REMOTE_OWNER_STALE_MS).
+ */
+export function ownerAlive(run: Pick<RunRow, 'ownerPid' | 'ownerHost' | 'ownerToken' | 'heartbeatAt'>, now: Date = new Date()): boolean {
+  if (run.ownerPid === null || run.ownerPid === undefined) return false;
+  if (run.ownerHost !== hostname()) {
+    const last = run.heartbeatAt ? Date.parse(run.heartbeatAt) : Number.NaN;
+    return Number.isFinite(last) && now.getTime() - last < REMOTE_OWNER_STALE_MS;
+  }
+  try {
+    process.kill(run.ownerPid, 0);
+  } catch (error) {
+    if ((error as NodeJS.ErrnoException).code === 'ESRCH') return false;
+  }
+  const token = processStartToken(run.ownerPid);
+  return !(run.ownerToken && token !== null && token !== run.ownerToken);
+}
+
+/** The state to show for a run: a 'running' run whose owner is gone was interrupted (killed, crashed, power lost). */
+export function runState(run: RunRow, now: Date = new Date()): RunState {
+  if (run.status !== 'running') return run.status;
+  return ownerAlive(run, now) ? 'running' : 'interrupted';
+}
+
+/** Why a run cannot be taken: the living process that writes it. */
+export function runBusyMessage(path: string, run: RunRow): string {
+  const where = run.ownerHost === hostname() ? `process ${run.ownerPid} on this host (${run.ownerHost})` : `process ${run.ownerPid} on host ${run.ownerHost}`;
+  return (
+    `${path}: run ${run.id} is being written by ${where} since ${run.ownerSince ?? run.startedAt}` +
+    `${run.heartbeatAt ? `, last generation stored ${run.heartbeatAt}` : ''}; ` +
+    `wait for it to finish (loopsmith runs ${path}), stop it (Ctrl-C in its terminal, or kill ${run.ownerPid}), or write to another --db`
+  );
+}
+
+/** Whether this process owns the run. */
+function ownedByMe(run: Pick<RunRow, 'ownerPid' | 'ownerHost'>): boolean {
+  return run.ownerPid === process.pid && run.ownerHost === hostname();
 }
 
 /** Raised for calls the store refuses (bad names, unknown columns, out-of-order generations...). */
@@ -219,6 +310,12 @@ interface RunDbRow {
   message: string | null;
   end_reason: RunEndReason | null;
   termination_json: string | null;
+  owner_pid?: number | null;
+  owner_host?: string | null;
+  owner_since?: string | null;
+  owner_token?: string | null;
+  heartbeat_at?: string | null;
+  command?: string | null;
 }
 
 interface StatsDbRow {
@@ -275,6 +372,12 @@ function toRunRow(row: RunDbRow): RunRow {
     message: row.message,
     endReason: row.end_reason ?? null,
     terminationJson: row.termination_json ?? null,
+    ownerPid: row.owner_pid ?? null,
+    ownerHost: row.owner_host ?? null,
+    ownerSince: row.owner_since ?? null,
+    ownerToken: row.owner_token ?? null,
+    heartbeatAt: row.heartbeat_at ?? null,
+    command: row.command ?? null,
   };
 }
 
@@ -310,6 +413,28 @@ function checkNumber(what: string, value: number): void {
 
 function columnSetSignature(names: ColumnSetNames): string {
   return JSON.stringify([names.variables, names.metrics, names.constraints]);
+}
+
+/** Whether loopsmith may write the store at `location`: the file (if any) and its nearest existing folder. */
+function writableLocation(location: string): boolean {
+  try {
+    if (existsSync(location)) accessSync(location, constants.W_OK);
+    let folder = dirname(location);
+    while (!existsSync(folder) && dirname(folder) !== folder) folder = dirname(folder);
+    accessSync(folder, constants.W_OK);
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+/**
+ * Names to open a database read-only by: the path itself, then the immutable URI that SQLite reads
+ * without its shared-memory file (for a folder where that file cannot be created).
+ */
+export function readOnlyNames(location: string): string[] {
+  const absolute = resolve(location);
+  return [absolute, `file:${encodeURI(absolute).replace(/\?/g, '%3F').replace(/#/g, '%23')}?immutable=1`];
 }
 
 /** Non-finite-safe number for a nullable REAL column: NaN is stored as NULL. */
@@ -353,9 +478,14 @@ export class Store {
   private selectMembersStatement!: Database.Statement<unknown[], EvaluationDbRow>;
   private readonly selectEvaluationsByKeysStatements = new Map<number, Database.Statement<unknown[], EvaluationDbRow>>();
 
-  private constructor(db: Database.Database, clock: () => Date) {
+  /** True when opened without write access (a read-only file or folder, or access 'read'). */
+  readonly readOnly: boolean;
+  private readonly lazyStatements = new Map<string, Database.Statement<unknown[]>>();
+
+  private constructor(db: Database.Database, clock: () => Date, readOnly = false) {
     this.db = db;
     this.clock = clock;
+    this.readOnly = readOnly;
 
     this.insertStudyStatement = db.prepare(
       `INSERT INTO studies (name, architecture, file_text, file_hash, settings_hash, created_at)
@@ -414,8 +544,22 @@ export class Store {
   static open(path: string, options: StoreOptions = {}): Store {
     const inMemory = path === ':memory:';
     const location = inMemory ? path : resolve(path);
-    if (!inMemory) mkdirSync(dirname(location), { recursive: true });
-    const db = new Database(location, { timeout: BUSY_TIMEOUT_MS });
+    const access = options.access ?? 'auto';
+    const clock = options.clock ?? (() => new Date());
+    if (!inMemory) {
+      const writable = writableLocation(location);
+      if (access === 'read' || (access === 'auto' && existsSync(location) && !writable)) return Store.openReadOnly(location, clock);
+      if (!writable) {
+        throw new StoreError(`${location}: cannot write the store here: the file or its folder is read-only; give a writable path (--db elsewhere) or fix the permissions`);
+      }
+      mkdirSync(dirname(location), { recursive: true });
+    }
+    let db: Database.Database;
+    try {
+      db = new Database(location, { timeout: BUSY_TIMEOUT_MS });
+    } catch (error) {
+      throw new StoreError(`${location}: cannot open the store: ${(error as Error).message}`);
+    }
     try {
       db.pragma(`busy_timeout = ${BUSY_TIMEOUT_MS}`);
       db.pragma('foreign_keys = ON');
@@ -426,11 +570,38 @@ export class Store {
       // Safe with WAL: a power loss may drop the last commits but never corrupts the file.
       db.pragma('synchronous = NORMAL');
       migrate(db, { label: location });
-      return new Store(db, options.clock ?? (() => new Date()));
+      return new Store(db, clock);
     } catch (error) {
       db.close();
+      if (error instanceof Error && error.name === 'SqliteError') throw new StoreError(`${location}: ${error.message}`);
       throw error;
     }
+  }
+
+  /**
+   * A store opened without writing anything: read-only, or (in a folder where SQLite cannot create
+   * its shared-memory file) immutable. A store of an older schema version is read as it is.
+   */
+  private static openReadOnly(location: string, clock: () => Date): Store {
+    if (!existsSync(location)) throw new StoreError(`${location}: no such database (run a study first: loopsmith run STUDY)`);
+    let lastError: unknown;
+    for (const name of readOnlyNames(location)) {
+      let db: Database.Database | undefined;
+      try {
+        db = new Database(name, { readonly: true, fileMustExist: true, timeout: BUSY_TIMEOUT_MS });
+        const version: unknown = db.pragma('user_version', { simple: true });
+        if (typeof version !== 'number' || version === 0) throw new StoreError(`${location} is not a loopsmith store (no schema version)`);
+        if (version > SCHEMA_VERSION) {
+          throw new SchemaVersionError(`database ${location} has schema version ${version}, but this loopsmith only understands versions up to ${SCHEMA_VERSION}; it was written by a newer loopsmith. Upgrade loopsmith, or use a different database file.`);
+        }
+        return new Store(db, clock, true);
+      } catch (error) {
+        db?.close();
+        if (error instanceof StoreError || error instanceof SchemaVersionError) throw error;
+        lastError = error;
+      }
+    }
+    throw new StoreError(`${location}: cannot read the store: ${(lastError as Error).message}`);
   }
 
   close(): void {
@@ -551,22 +722,75 @@ export class Store {
     seed: number;
     settings: unknown;
     workers: number;
+    /** The command line that writes the run. */
+    command?: string | null;
   }): number {
     if (!RUN_KINDS.includes(r.kind)) throw new StoreError(`run kind ${String(r.kind)} is not one of ${RUN_KINDS.join(', ')}`);
     checkInteger('seed', r.seed);
     checkInteger('workers', r.workers);
     const now = this.nowIso();
-    const result = this.insertRunStatement.run(
-      r.studyId,
-      r.kind,
-      r.parentRunId ?? null,
-      r.seed,
-      canonicalJson(r.settings),
-      r.workers,
-      now,
-      now,
+    return this.db.transaction(() => {
+      const result = this.insertRunStatement.run(
+        r.studyId,
+        r.kind,
+        r.parentRunId ?? null,
+        r.seed,
+        canonicalJson(r.settings),
+        r.workers,
+        now,
+        now,
+      );
+      const runId = Number(result.lastInsertRowid);
+      this.setOwner(runId, currentOwner(this.clock()), r.command ?? null);
+      return runId;
+    }).immediate();
+  }
+
+  /**
+   * Takes the run that a command resumes, or creates it, in one transaction: the newest 'running' or
+   * 'stopped' run of this study, kind, seed and settings becomes this process's (status 'running');
+   * when there is none, a new run is created. A run that a living process still writes is refused
+   * with a StoreError naming that process (pid, host, since when); one whose process is gone
+   * (interrupted) is taken over.
+   */
+  claimRun(r: { studyId: number; kind: RunKind; seed: number; settings: unknown; workers: number; command?: string | null; runId?: number }): { run: RunRow; resumed: boolean } {
+    return this.db.transaction(() => {
+      // `runId`: a given run to take (a finished run that `run --more` continues).
+      const existing = r.runId !== undefined ? this.getRun(r.runId) : this.findUnfinishedRun(r.studyId, r.kind, r.seed, canonicalJson(r.settings));
+      if (existing === undefined) {
+        const runId = this.createRun(r);
+        return { run: this.getRun(runId)!, resumed: false };
+      }
+      const now = this.clock();
+      if (existing.status === 'running' && !ownedByMe(existing) && ownerAlive(existing, now)) {
+        throw new StoreError(runBusyMessage(this.path, existing));
+      }
+      this.markRunStatement.run('running', null, existing.elapsedSeconds, now.toISOString(), null, existing.id);
+      this.setOwner(existing.id, currentOwner(now), r.command ?? existing.command);
+      return { run: this.getRun(existing.id)!, resumed: true };
+    }).immediate();
+  }
+
+  private setOwner(runId: number, owner: RunOwner | null, command: string | null): void {
+    this.lazy('UPDATE runs SET owner_pid = ?, owner_host = ?, owner_since = ?, owner_token = ?, heartbeat_at = ?, command = ? WHERE id = ?').run(
+      owner?.pid ?? null,
+      owner?.host ?? null,
+      owner?.since ?? null,
+      owner?.token ?? null,
+      owner?.since ?? null,
+      command,
+      runId,
     );
-    return Number(result.lastInsertRowid);
+  }
+
+  /** A statement prepared on first use (statements over columns an older read-only store may lack). */
+  private lazy(sql: string): Database.Statement<unknown[]> {
+    let statement = this.lazyStatements.get(sql);
+    if (statement === undefined) {
+      statement = this.db.prepare(sql);
+      this.lazyStatements.set(sql, statement);
+    }
+    return statement;
   }
 
   /**
@@ -620,6 +844,8 @@ export class Store {
       } else {
         const elapsed = run.elapsed_seconds + this.secondsSince(run.active_since, now);
         this.markRunStatement.run(status, nowIso, elapsed, null, newMessage, runId);
+        // The run is no longer written: release the ownership lock (the command stays for reference).
+        this.lazy('UPDATE runs SET owner_pid = NULL, owner_token = NULL WHERE id = ?').run(runId);
       }
     }).immediate();
   }
@@ -728,6 +954,7 @@ export class Store {
       const elapsed = run.elapsed_seconds + this.secondsSince(run.active_since, now);
       const activeSince = run.active_since === null ? null : now.toISOString();
       this.updateRunAfterGenerationStatement.run(w.generation + 1, w.optimizerState, elapsed, activeSince, w.runId);
+      this.lazy('UPDATE runs SET heartbeat_at = ? WHERE id = ?').run(now.toISOString(), w.runId);
     }).immediate();
 
     // Only after commit: a rolled-back column set must not stay cached.

@@ -86,7 +86,12 @@ export function catalogueRecords(text: string, path: string): Record<string, unk
       return record;
     });
   }
-  const data = parseYaml(text) as { options?: unknown } | null;
+  let data: { options?: unknown } | null;
+  try {
+    data = parseYaml(text, { maxAliasCount: 100 }) as { options?: unknown } | null;
+  } catch (error) {
+    throw new CatalogueError(`${path}: not valid YAML (${error instanceof Error ? error.message.split('\n')[0] : String(error)})`);
+  }
   if (!data || !Array.isArray(data.options)) throw new CatalogueError(`${path}: a YAML catalogue needs a list "options:"`);
   return data.options.map((o, i) => {
     if (typeof o !== 'object' || o === null || Array.isArray(o)) throw new CatalogueError(`${path}: options[${i}] is not a mapping`);

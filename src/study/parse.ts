@@ -14,7 +14,7 @@ import { metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
-import { parseQuantity, UnitError, type QuantityKind } from './units.js';
+import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import {
@@ -183,6 +183,22 @@ function hasAttachments(text: string): boolean {
   return text.includes(ATTACHMENT_KEY);
 }
 
+/** Aliases a study may use (`*name`); far more means a file built to exhaust memory ("billion laughs"). */
+const MAX_ALIAS_COUNT = 100;
+
+/** The plain data of one YAML document; alias bombs and other resolution failures are study errors. */
+function documentData(doc: { toJS(options?: { maxAliasCount?: number }): unknown }, source: string): Json {
+  try {
+    return doc.toJS({ maxAliasCount: MAX_ALIAS_COUNT }) as Json;
+  } catch (error) {
+    const text = error instanceof Error ? error.message : String(error);
+    if (/alias/i.test(text)) {
+      throw new StudyError(`${source}: the YAML uses aliases (*name) so many times that it would expand without bound; a study needs at most a few aliases — write the values out`);
+    }
+    throw new StudyError(`${source}: not valid YAML: ${text}`);
+  }
+}
+
 export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
   const docs = parseAllDocuments(text, { prettyErrors: true });
   const list = Array.isArray(docs) ? docs : [docs];
@@ -193,13 +209,13 @@ export function parseStudyText(text: string, source = '<study>'): LoadedStudy {
   }
   const attachments = new Map<string, string>();
   for (const d of list.slice(1)) {
-    const a = d.toJS() as Json;
+    const a = documentData(d, source);
     if (!isObject(a) || typeof a[ATTACHMENT_KEY] !== 'string' || typeof a['content'] !== 'string') {
       throw new StudyError(`${source}: a study file holds one YAML document (found a second one after "---")`);
     }
     attachments.set(a[ATTACHMENT_KEY], a['content']);
   }
-  const data = first.toJS() as Json;
+  const data = documentData(first, source);
   if (!isObject(data)) throw new StudyError(`${source}: a study file must be a YAML mapping (key: value lines)`);
   const schemaErrors = validateShape(data);
   if (schemaErrors.length > 0) {
@@ -751,7 +767,15 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     if (spec.kind !== 'variable') {
       throw new StudyError(`${where}: "${name}" is not a design variable in this study (it is ${spec.kind}); remove it from the baseline`);
     }
-    out[name] = q(value, info.kind === 'angle' ? 'angle' : 'length', where);
+    const kind = info.kind === 'angle' ? 'angle' : 'length';
+    const v = q(value, kind, where);
+    const tolerance = 1e-12 * Math.max(1, Math.abs(spec.min), Math.abs(spec.max));
+    if (v < spec.min - tolerance || v > spec.max + tolerance) {
+      throw new StudyError(
+        `${where}: ${formatQuantity(v, kind)} lies outside the bounds ${formatQuantity(spec.min, kind)} … ${formatQuantity(spec.max, kind)} of geometry.${name}; move the baseline inside them or widen the bounds`,
+      );
+    }
+    out[name] = v;
   }
   return out;
 }

@@ -63,7 +63,8 @@ function memberCountsByGeneration(dbPath: string, runId: number): number[] {
 
 /** The feasible front of the newest run, without the evaluation times. */
 function frontWithoutTimes(dbPath: string): unknown {
-  const front = runFront(dbPath);
+  // The stored run row carries times and its owner's process and command line: compared without them.
+  const { run: _run, ...front } = runFront(dbPath);
   return { ...front, designs: front.designs.map(({ evalSeconds: _seconds, ...design }) => design) };
 }
 

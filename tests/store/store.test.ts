@@ -1,8 +1,8 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import Database from 'better-sqlite3';
-import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import {
   MIGRATIONS,
   SCHEMA_VERSION,
@@ -115,7 +115,7 @@ describe('schema creation and version', () => {
     expect(existsSync(path)).toBe(true);
     const db = rawConnection(path, { readonly: true });
     expect(db.pragma('user_version', { simple: true })).toBe(SCHEMA_VERSION);
-    expect(SCHEMA_VERSION).toBe(2);
+    expect(SCHEMA_VERSION).toBe(3);
     const names = (db.prepare("SELECT name, type FROM sqlite_schema WHERE name NOT LIKE 'sqlite_%' ORDER BY name").all() as {
       name: string;
       type: string;
@@ -189,11 +189,12 @@ describe('schema creation and version', () => {
   });
 
   it('applies numbered migrations in order, each in a transaction, and refuses a gap', () => {
-    expect(MIGRATIONS.map((m) => m.from)).toEqual([1]); // version 1 was the first schema
+    expect(MIGRATIONS.map((m) => m.from)).toEqual([1, 2]); // 1 → 2: convergence record; 2 → 3: run-ownership lock
     const path = flatDbPath();
     const db = rawConnection(path);
     migrate(db, { targetVersion: 1, schemaSql: SCHEMA_V1 }); // a store written by the first schema
     db.pragma('foreign_keys = ON');
+    expect(db.pragma('user_version', { simple: true })).toBe(1);
 
     // A failing step rolls back and leaves the version alone.
     const failing = [
@@ -218,7 +219,7 @@ describe('schema creation and version', () => {
     expect((db.prepare("SELECT COUNT(*) AS n FROM pragma_table_info('runs') WHERE name = 'note'").get() as { n: number }).n).toBe(1);
 
     expect(() => migrate(db, { targetVersion: 3, migrations: working })).toThrow(/no migration from it/);
-    expect(() => migrate(db, { targetVersion: 1 })).toThrow(SchemaVersionError); // version 2 is newer than that
+    expect(() => migrate(db, { targetVersion: 1 })).toThrow(SchemaVersionError); // version 3 is newer than that
   });
 
   it('migrates a version 1 store to exactly the columns schema.sql creates, keeping its rows (runs.end_reason, generation_stats.hv_improvement, ...)', () => {
@@ -230,7 +231,7 @@ describe('schema creation and version', () => {
       INSERT INTO generation_stats VALUES (1, 0, 10, 10, 0, 3, 0.5, 1.0, 10.0);`);
     old.close();
     const upgraded = openStore(oldPath);
-    expect(upgraded.getRun(1)).toMatchObject({ status: 'finished', endReason: null, terminationJson: null });
+    expect(upgraded.getRun(1)).toMatchObject({ status: 'finished', endReason: null, terminationJson: null, ownerPid: null, command: null });
     expect(upgraded.generationStats(1)[0]).toMatchObject({ hypervolume: 0.5, archiveSize: null, hvImprovement: null });
     upgraded.setRunEnd(1, 'converged', { maxEvaluations: 100 });
     expect(upgraded.getRun(1)).toMatchObject({ endReason: 'converged', terminationJson: '{"maxEvaluations":100}' });

@@ -21,7 +21,7 @@ import { registerStoreCommands } from './storeCommands.js';
 import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
-import { mirrorLimitWarning, unreachableTaskProblems } from '../study/plausibility.js';
+import { mirrorLimitWarning, unreachableTaskProblems } from '../api/plausibility.js';
 import { taskPointFailures, type TaskPointFailures } from './taskPoints.js';
 import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
 import { programName, setInvocationArguments } from './invocation.js';

@@ -19,7 +19,7 @@ import type { QuantityKind } from '../study/units.js';
 import { betterDirection, chooseColumns, csvHeader, describeColumn, displayCell, emptyColumns, parseSort, sortRows } from './columns.js';
 import { commandLine, programName, resumableCommand } from './invocation.js';
 import { loadStudyFile, parseStudyText, StudyError } from '../study/parse.js';
-import { unreachableTaskProblems } from '../study/plausibility.js';
+import { unreachableTaskProblems } from '../api/plausibility.js';
 import { formatMetric, formatValue, studyActuators, table, toJson, variableKind } from './format.js';
 import { integerOption, positiveInteger } from './argChecks.js';
 

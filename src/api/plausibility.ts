@@ -3,12 +3,12 @@
  * reach, and joint limits that treat the two sides of a mirror-symmetric five-bar alike. They run at
  * study level through the public evaluation functions; the engine is not touched.
  */
-import { chooseDesign } from '../api/design.js';
+import { chooseDesign } from './design.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import { METRIC_NAMES } from '../mechanics/metrics.js';
 import type { JointRange } from '../mechanics/fivebar.js';
-import type { ParameterSpec, Study } from './types.js';
-import { formatQuantity } from './units.js';
+import type { ParameterSpec, Study } from '../study/types.js';
+import { formatQuantity } from '../study/units.js';
 
 const mm = (v: number): string => formatQuantity(v, 'length');
 const deg = (v: number): string => formatQuantity(v, 'angle');

@@ -50,6 +50,12 @@ const KEY_LOOKUP_CHUNK = 500;
 /** Busy timeout for lock waits between processes [ms]. */
 const BUSY_TIMEOUT_MS = 10_000;
 
+/** SQLITE_BUSY in any of its forms (a lock another connection holds). */
+function isBusyError(error: unknown): boolean {
+  const code = (error as { code?: unknown }).code;
+  return error instanceof Error && ((typeof code === 'string' && code.startsWith('SQLITE_BUSY')) || /database is locked/.test(error.message));
+}
+
 export interface ColumnSet {
   variables: readonly { name: string; type: VariableType }[];
   metrics: readonly string[];
@@ -554,6 +560,24 @@ export class Store {
       }
       mkdirSync(dirname(location), { recursive: true });
     }
+    // Two processes creating or migrating one new store at once: SQLite answers SQLITE_BUSY at once
+    // (without waiting) when the journal-mode switch or the migration's lock upgrade collides, so the
+    // whole opening is tried again for up to BUSY_TIMEOUT_MS.
+    const deadline = Date.now() + BUSY_TIMEOUT_MS;
+    for (;;) {
+      try {
+        return Store.openWritable(location, clock, inMemory);
+      } catch (error) {
+        if (!isBusyError(error) || Date.now() >= deadline) {
+          if (error instanceof Error && error.name === 'SqliteError') throw new StoreError(`${location}: ${error.message}`);
+          throw error;
+        }
+        Atomics.wait(new Int32Array(new SharedArrayBuffer(4)), 0, 0, 20 + Math.floor(Math.random() * 60));
+      }
+    }
+  }
+
+  private static openWritable(location: string, clock: () => Date, inMemory: boolean): Store {
     let db: Database.Database;
     try {
       db = new Database(location, { timeout: BUSY_TIMEOUT_MS });
@@ -573,7 +597,6 @@ export class Store {
       return new Store(db, clock);
     } catch (error) {
       db.close();
-      if (error instanceof Error && error.name === 'SqliteError') throw new StoreError(`${location}: ${error.message}`);
       throw error;
     }
   }

@@ -10,6 +10,8 @@ export {
   chooseDesign,
   evaluateDesign,
   probeDesign,
+  checkStudy,
+  studySummary,
   Evaluator,
   runOptimization,
   runSweep,
@@ -51,6 +53,7 @@ export { designFromValues, designToValues, resolveDesign, buildFiveBarModel, Des
 export { MarginGrid } from './mechanics/grid.js';
 export { probePose, type PoseReport } from './mechanics/probe.js';
 export type { EvaluationReport, ConstraintReport, DesignChoice } from './api/design.js';
+export type { StudyCheck, BaselineVerdict } from './api/studySummary.js';
 
 // Optimizer (generic; usable on its own)
 export * as optimizer from './optimizer/index.js';

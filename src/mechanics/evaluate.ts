@@ -7,14 +7,12 @@
  * An Evaluator is made once per study and per worker; it owns every buffer, so evaluating a design
  * allocates only its small result object. Pure: no I/O.
  */
-import type { FiveBarModel, FiveBarPose } from './fivebar.js';
-import type { PoseStatus } from '../core/pose.js';
+import type { FiveBarModel } from './fivebar.js';
 import { buildFiveBarModel, designVariables, memberDesign, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import type { Study } from '../study/types.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
 import { ArchitectureEvaluator } from './evaluateArchitecture.js';
 import { comparisonConstraints, type ConstraintDefinition, type DesignEvaluation } from './constraints.js';
-import { usabilityMargin, type UsabilitySettings } from './usability.js';
 
 export {
   applyConstraints,
@@ -30,14 +28,6 @@ export { architectureUsableMargin, usabilityMargin } from './usability.js';
 
 /** Metrics that `evaluateWithWorkspace` takes from an earlier evaluation, in its argument order. */
 export const WORKSPACE_METRICS = ['reachable_area', 'workspace_area', 'task_coverage', 'inscribed_radius'] as const;
-
-/**
- * Transitional: the usability rule on the five-bar's former pose type, for the callers that still
- * use it (src/export/candidate.ts, workspaceMap.ts); the same rule as every other caller.
- */
-export function usableMargin(pose: FiveBarPose, status: PoseStatus, study: UsabilitySettings): number {
-  return usabilityMargin(status, pose.inverseCondition, [pose.s1, pose.s2], pose.detA, pose.jointMargin, study);
-}
 
 /** What every evaluation path offers (five-bar engine, architecture interface, comparison). */
 interface EvaluationPath {

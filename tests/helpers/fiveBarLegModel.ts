@@ -6,7 +6,7 @@
 import { fiveBar } from '../../src/architectures/fivebar.js';
 import type { LeggedModel } from '../../src/architectures/legged.js';
 import { RIGID_MASSLESS } from '../../src/architectures/types.js';
-import type { FiveBarModel } from '../../src/mechanics/fivebar.js';
+import type { FiveBarModel } from './fiveBarClosedForm.js';
 
 export function legModelOf(m: FiveBarModel): LeggedModel {
   const base = fiveBar.buildModel({

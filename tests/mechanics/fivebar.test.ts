@@ -14,7 +14,7 @@ import {
   solvePose,
   type FiveBarModel,
   type WorkingMode,
-} from '../../src/mechanics/fivebar.js';
+} from '../helpers/fiveBarClosedForm.js';
 import {
   linkageState,
   makeFiveBarModel,

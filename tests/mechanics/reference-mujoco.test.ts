@@ -28,7 +28,7 @@ import {
   solvePose,
   type FiveBarModel,
   type WorkingMode,
-} from '../../src/mechanics/fivebar.js';
+} from '../helpers/fiveBarClosedForm.js';
 import { loadMujoco, MujocoSystem, type MujocoModule } from '../helpers/mujoco.js';
 
 /** Physical parts of one leg, SI. */

@@ -10,7 +10,7 @@ import {
   maxEigenSymmetric2,
   maxSingularValue2,
   minEigenSymmetric2,
-} from '../../src/mechanics/linalg2.js';
+} from '../../src/architectures/linalg2.js';
 import { seededRandom } from '../helpers/fivebarModels.js';
 
 type Entries = readonly [number, number, number, number];

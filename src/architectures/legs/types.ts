@@ -98,7 +98,8 @@ export interface LegModelView {
 }
 
 export interface LegKind {
-  readonly name: 'crank-rod' | 'slider-rod' | 'strut';
+  /** The kind's name (crank-rod, slider-rod, strut, …): a plain string, so a new leg kind touches only its own file. */
+  readonly name: string;
   readonly actuator: ActuatorKind;
   lump(geometry: LegGeometry, input: LegInput): LegLumped;
   /**

@@ -1,12 +1,13 @@
 /**
  * Forward simulation of the leg-based architectures (src/simulate/legChain.ts, simulateArchitecture.ts):
  * the cut-open chain against the reduced model, energy conservation and loop closure of the unforced
- * chain, and tracking of the 2-PRR and 3-RRR demo duty cycles. Figures are printed for the notes.
+ * chain, and tracking of the 2-PRR, 3-RRR and 3-RPR demo duty cycles. Figures are printed for the notes.
  */
 import { describe, expect, it } from 'vitest';
 import { fiveBar } from '../../src/architectures/fivebar.js';
 import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
+import { rpr3 } from '../../src/architectures/rpr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ArchitectureModelBase, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import { CycleDynamics, CycleTrajectory, type CyclePath } from '../../src/mechanics/dutyCycle.js';
@@ -17,7 +18,7 @@ import { LegChain } from '../../src/simulate/legChain.js';
 import { cutChainState, simulateArchitecture } from '../../src/simulate/simulateArchitecture.js';
 import { prepareStudySimulation, simulateStudyDesign } from '../../src/simulate/study.js';
 import { loadStudyFile } from '../../src/study/parse.js';
-import { findPoses, PRR2_INPUT, PRR3_INPUT, RRR3_INPUT, seededRandom } from '../architectures/models.js';
+import { findPoses, PRR2_INPUT, PRR3_INPUT, RPR3_INPUT, RRR3_INPUT, seededRandom } from '../architectures/models.js';
 
 const generic = (a: unknown): PlanarArchitecture<ArchitectureModelBase> => a as PlanarArchitecture<ArchitectureModelBase>;
 
@@ -31,6 +32,7 @@ const CASES: readonly Case[] = [
   { label: '2-PRR', architecture: generic(prr2), input: PRR2_INPUT, box: { x: 0, y: 0.05, half: 0.3, phiHalf: 0 } },
   { label: '3-RRR', architecture: generic(rrr3), input: RRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
   { label: '3-PRR', architecture: generic(prr3), input: PRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
+  { label: '3-RPR', architecture: generic(rpr3), input: RPR3_INPUT, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.6 } },
 ];
 
 /** Well-conditioned poses of a case with the model in the matching assembly sign. */
@@ -105,12 +107,13 @@ describe.each(CASES)('$label cut-open chain', (c) => {
   });
 });
 
-describe('simulate on the 2-PRR and 3-RRR demo duty cycles', () => {
+describe('simulate on the 2-PRR, 3-RRR and 3-RPR demo duty cycles', () => {
   const studyPath = (name: string): string => new URL(`../../studies/${name}.yaml`, import.meta.url).pathname;
 
   it.each([
     ['rail-sorter-2prr-cycle', 2],
     ['platform-3rrr-cycle', 3],
+    ['platform-3rpr-cycle', 3],
   ] as const)('%s: computed torque tracks the cycle, the loops stay closed and the energy balances', (name, joints) => {
     const setup = prepareStudySimulation(loadStudyFile(studyPath(name)).study);
     expect(setup.model).toBeNull();

@@ -12,7 +12,7 @@ import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ArchitectureModelBase, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import { CycleDynamics, CycleTrajectory, type CyclePath } from '../../src/mechanics/dutyCycle.js';
 import type { FiveBarModel } from '../../src/mechanics/fivebar.js';
-import { simulate } from '../../src/simulate/simulate.js';
+import { simulateFreeChain } from '../helpers/fiveBarFreeChainSimulation.js';
 import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import { LegChain } from '../../src/simulate/legChain.js';
 import { cutChainState, simulateArchitecture } from '../../src/simulate/simulateArchitecture.js';
@@ -172,7 +172,8 @@ describe('simulate on the 2-PRR, 3-RRR and 3-RPR demo duty cycles', () => {
 describe('the cut-open chain of the legs against the five-bar\'s own free chain', () => {
   it('gives the same efforts, errors and energies on an asymmetric five-bar (computed torque and PD)', () => {
     // Two formulations of the same closed chain (derived): the five-bar cut at P into two arms with P on
-    // arm 1 (freeChain.ts) and every rod cut at P with P a free body (legChain.ts) must move alike.
+    // arm 1 (freeChain.ts, integrated by the former five-bar path kept in tests/helpers) and every rod
+    // cut at P with P a free body (legChain.ts) must move alike.
     const model: FiveBarModel = {
       pivotX: [-0.12, 0.1], pivotY: [0.0, 0.05], crank: [0.2, 0.16], rod: [0.28, 0.32], sigma: [1, -1], assembly: 1,
       jointLimits: [null, null], crankInertiaAboutPivot: [0.0108, 0.0065], crankFirstMoment: [0.069, 0.044], rodMass: [0.4, 0.5],
@@ -194,7 +195,7 @@ describe('the cut-open chain of the legs against the five-bar\'s own free chain'
     for (const controller of ['computed-torque', 'pd'] as const) {
       const options = { controller, trajectory: new CycleTrajectory(path), duration: 0.77, friction, extraEndMass: 0.2 };
       const mine = simulateArchitecture(generic(fiveBar), legModelOf(model), options);
-      const theirs = simulate(model, options);
+      const theirs = simulateFreeChain(model, options);
       expect(mine.series.count).toBe(theirs.series.count);
       for (let k = 0; k < mine.series.count; k += 7) {
         for (let i = 0; i < 2; i++) {

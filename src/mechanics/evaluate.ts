@@ -7,8 +7,7 @@
  * An Evaluator is made once per study and per worker; it owns every buffer, so evaluating a design
  * allocates only its small result object. Pure: no I/O.
  */
-import type { FiveBarModel } from './fivebar.js';
-import { buildFiveBarModel, designVariables, memberDesign, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
+import { designVariables, memberDesign, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import type { Study } from '../study/types.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
 import { ArchitectureEvaluator } from './evaluateArchitecture.js';
@@ -120,17 +119,6 @@ export class Evaluator {
   /** Geometry, working mode and drives of a design vector (a comparison study: of the selected member). */
   resolve(design: ArrayLike<number>): ResolvedDesign {
     return resolveDesign(this.study, this.variables, design);
-  }
-
-  /**
-   * Transitional: the five-bar's former model type of a design vector (five-bar studies only), for
-   * the duty-cycle analysis, simulation and five-bar sheets that still take it. Use `architectureDesign`.
-   */
-  model(design: ArrayLike<number>): FiveBarModel {
-    if (this.study.members || this.study.architecture !== 'five-bar') {
-      throw new Error(`Evaluator.model gives the five-bar's former model; the study's architecture is ${this.study.members ? 'a comparison' : this.study.architecture} (use architectureDesign)`);
-    }
-    return buildFiveBarModel(this.study, this.resolve(design));
   }
 
   /**

@@ -204,7 +204,7 @@ describe('five-bar behind the interface', () => {
         }
       }
     }
-    measured.push(`five-bar: leg layer vs the former engine src/mechanics/fivebar.ts, worst relative difference ${worst.toExponential(2)} over ${checked} poses`);
+    measured.push(`five-bar: leg layer vs the former engine (tests/helpers/fiveBarClosedForm.ts), worst relative difference ${worst.toExponential(2)} over ${checked} poses`);
     expect(checked).toBeGreaterThan(100);
     // Two codings of the same formulas (README "The five-bar model"): rounding only.
     expect(worst).toBeLessThan(1e-12);

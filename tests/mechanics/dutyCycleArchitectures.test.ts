@@ -108,7 +108,7 @@ function solveAtTime(d: CycleDynamics, model: ArchitectureModelBase, trajectory:
 }
 
 describe('the generic path on the five-bar', () => {
-  it('gives the closed-form θ̇, θ̈, β̇, β̈ and torques of dutyCycleFiveBar.ts along a cycle (1e-10 relative)', () => {
+  it('gives the closed-form θ̇, θ̈, β̇, β̈ and torques of the closed forms (tests/helpers/fiveBarClosedFormCycle.ts) along a cycle (1e-10 relative)', () => {
     const trajectory = new CycleTrajectory(FIVE_BAR_PATH);
     const samples = new CycleSamples(trajectory, 200);
     const d = new CycleDynamics(generic(fiveBar));

@@ -1,5 +1,5 @@
 /**
- * Closed-form 2×2 helpers (src/mechanics/linalg2.ts) against ml-matrix's general SVD and eigenvalue
+ * Closed-form 2×2 helpers (src/architectures/linalg2.ts) against ml-matrix's general SVD and eigenvalue
  * decompositions on random matrices, including badly conditioned and singular ones.
  */
 import { describe, expect, it } from 'vitest';

@@ -98,8 +98,8 @@ export interface LegModelView {
 }
 
 export interface LegKind {
-  /** The kind's name (crank-rod, slider-rod, strut, …): a plain string, so a new leg kind touches only its own file. */
-  readonly name: string;
+  /** The kind's name; the cut-open chain of forward simulation (src/simulate/legChain.ts) dispatches on it. */
+  readonly name: 'crank-rod' | 'slider-rod' | 'strut';
   readonly actuator: ActuatorKind;
   lump(geometry: LegGeometry, input: LegInput): LegLumped;
   /**

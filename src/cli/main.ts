@@ -22,6 +22,7 @@ import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
 import { mirrorLimitWarning, unreachableTaskProblems } from '../api/plausibility.js';
+import { staticSizingNote } from '../api/driveNotes.js';
 import { taskPointFailures, type TaskPointFailures } from './taskPoints.js';
 import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
 import { programName, setInvocationArguments } from './invocation.js';
@@ -204,6 +205,8 @@ export function buildCli(argv: readonly string[]): Argv {
         if (problems.length > 0) throw new StudyError(`${args.study}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
         const mirror = mirrorLimitWarning(loaded.study);
         if (mirror) warn(mirror.message);
+        const sizing = staticSizingNote(loaded.study);
+        if (sizing) warn(sizing);
         const baseline = baselineVerdict(loaded.study);
         if (args.json) {
           out(toJson({ ok: true, study: loaded.study, fileHash: loaded.fileHash, settingsHash: loaded.settingsHash, designVariables: designVariables(loaded.study), constraints: constraintDefinitions(loaded.study), baseline, warnings: mirror ? [mirror.message] : [] }));

@@ -290,7 +290,6 @@ export function buildDriveTrainSetup(drives: Raw, attachments: ReadonlyMap<strin
   const prismatic = kinds.some((k) => k === 'prismatic');
   const stageIn = drives['linear_stage'] as Raw | undefined;
   if (prismatic && !stageIn) throw new CatalogueError('drives.linear_stage: the sliders need a screw or belt (lead, efficiency, max_thrust)');
-  if (!prismatic && stageIn) throw new CatalogueError('drives.linear_stage: only architectures with sliders have one');
   const brakeFactor = drives['brake_factor'] === undefined ? 1.5 : quantity(drives, 'brake_factor', 'dimensionless', 'drives');
   if (!(brakeFactor >= 1)) throw new CatalogueError('drives.brake_factor: must be at least 1');
   const maxInertiaRatio = drives['max_inertia_ratio'] === undefined ? null : quantity(drives, 'max_inertia_ratio', 'dimensionless', 'drives');
@@ -299,7 +298,8 @@ export function buildDriveTrainSetup(drives: Raw, attachments: ReadonlyMap<strin
   if (drives['choose'] !== undefined && drives['choose'] !== 'shared' && drives['choose'] !== 'per-actuator') throw new CatalogueError('drives.choose: "shared" or "per-actuator"');
   return {
     motorsPath, gearboxesPath, motors, gearboxes, choose, ratio,
-    stage: stageIn ? buildStage(stageIn, 'drives.linear_stage') : null,
+    // A revolute architecture ignores it (a comparison study may share one drives section).
+    stage: stageIn && prismatic ? buildStage(stageIn, 'drives.linear_stage') : null,
     brakeFactor, maxInertiaRatio,
   };
 }

@@ -170,9 +170,14 @@ export function bundleAttachments(text: string, studyPath: string): string {
   if (doc.errors.length > 0) return text; // parseStudyText reports it
   if (hasAttachments(text)) return text;
   let out = text;
-  for (const key of ['catalogue', 'motors', 'gearboxes']) {
-    const catalogue = doc.getIn(['drives', key]);
-    if (typeof catalogue !== 'string') continue;
+  const seen = new Set<string>();
+  const members = doc.getIn(['members']) as { items?: { key?: { value?: unknown } }[] } | undefined;
+  const memberNames = (members?.items ?? []).map((item) => item.key?.value).filter((v): v is string => typeof v === 'string');
+  const places = [['drives'], ...memberNames.map((m) => ['members', m, 'drives'])];
+  for (const [place, key] of places.flatMap((p) => ['catalogue', 'motors', 'gearboxes'].map((k) => [p, k] as const))) {
+    const catalogue = doc.getIn([...place, key]);
+    if (typeof catalogue !== 'string' || seen.has(catalogue)) continue;
+    seen.add(catalogue);
     const file = resolve(dirname(studyPath), catalogue);
     let content: string;
     try {

@@ -153,3 +153,29 @@ describe('old studies and static sizing', () => {
     expect(staticSizingNote(study)).toMatch(/static only/);
   });
 });
+
+describe('a comparison study with drive trains per member', () => {
+  it('prefixes the motor and gearbox variables and evaluates both members', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'loopsmith-drives-'));
+    dirs.push(dir);
+    let text = readFileSync(join(ROOT, 'studies', 'compare-fivebar-2prr.yaml'), 'utf8');
+    const member = (indent: string, stage: string): string =>
+      `${indent}drives:\n${indent}  motors: m.csv\n${indent}  gearboxes: g.csv\n${indent}  choose: shared\n${stage ? `${indent}  linear_stage: ${stage}\n` : ''}`;
+    const blocks = text.split(/\n    drives:\n(?:      .*\n)+/);
+    expect(blocks.length).toBe(3);
+    text = blocks[0] + '\n' + member('    ', '') + blocks[1] + '\n' + member('    ', '{ lead: 40 mm, efficiency: 0.9, max_thrust: 1500 N }') + blocks[2];
+    text = text.replace('  fivebar_rod_1: 450 mm', '  fivebar_rod_1: 450 mm\n  fivebar_motor: A\n  prr2_motor: B');
+    writeFileSync(join(dir, 'study.yaml'), text);
+    writeFileSync(join(dir, 'm.csv'), 'name,rated_torque,peak_torque,max_speed,rotor_inertia\nA,1.27 N*m,3.8 N*m,3000 rpm,3.4e-5 kg*m^2\nB,2.39 N*m,7.2 N*m,3000 rpm,1e-4 kg*m^2\n');
+    writeFileSync(join(dir, 'g.csv'), 'name,ratio,efficiency,rated_torque,stiffness\nG,10,0.9,30 N*m,3e4 N*m/rad\n');
+    const study = loadStudyFile(join(dir, 'study.yaml')).study;
+    const names = designVariables(study).map((v) => v.name);
+    expect(names).toContain('fivebar_motor');
+    expect(names).toContain('prr2_motor');
+    const evaluator = new Evaluator(study);
+    for (const architecture of ['five-bar', '2-prr']) {
+      const e = evaluator.evaluate(designFromValues(evaluator.variables, { ...study.baseline, architecture }));
+      expect(Number.isFinite(metric(e, 'gearbox_estop_use')), architecture).toBe(true);
+    }
+  });
+});

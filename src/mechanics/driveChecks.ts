@@ -130,7 +130,7 @@ export function checkCycle(cycle: JointCycle, trains: readonly DriveTrain[], u: 
 /**
  * Shortest cycle time, s, at which every pace-dependent drive check holds, and holds at every slower
  * pace scanned: the pace u = 1/s is scanned upward from slow (u_0 = 1/64 of the reference pace,
- * doubling until the checks fail, then 256 steps up to there) and the first failure is bisected.
+ * doubling until the checks fail, then 64 steps up to there) and the first failure is bisected.
  * +∞ when even the slowest scanned pace fails (the holding torque alone is too much).
  */
 export function envelopeMinCycleTime(cycle: JointCycle, trains: readonly DriveTrain[], scratch: DriveCheckResult): number {
@@ -141,7 +141,7 @@ export function envelopeMinCycleTime(cycle: JointCycle, trains: readonly DriveTr
   let top = slow;
   for (let i = 0; i < 40 && ok(top * 2); i++) top *= 2;
   top *= 2;
-  const steps = 256;
+  const steps = 64;
   let previous = slow;
   let found = top;
   for (let i = 1; i <= steps; i++) {
@@ -149,7 +149,7 @@ export function envelopeMinCycleTime(cycle: JointCycle, trains: readonly DriveTr
     if (!ok(u)) {
       let lo = previous;
       let hi = u;
-      for (let it = 0; it < 50; it++) {
+      for (let it = 0; it < 45; it++) {
         const mid = 0.5 * (lo + hi);
         if (ok(mid)) lo = mid;
         else hi = mid;

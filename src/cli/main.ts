@@ -22,7 +22,7 @@ import { registerReportCommands } from './reportCommands.js';
 import { registerExportCommands } from './exportCommands.js';
 import { registerSimulateCommands } from './simulateCommands.js';
 import { mirrorLimitWarning, unreachableTaskProblems } from '../api/plausibility.js';
-import { staticSizingNote } from '../api/driveNotes.js';
+import { driveTrainSummary, staticSizingNote } from '../api/driveNotes.js';
 import { taskPointFailures, type TaskPointFailures } from './taskPoints.js';
 import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
 import { programName, setInvocationArguments } from './invocation.js';
@@ -100,6 +100,8 @@ function memberSummary(study: Study): string {
           : `drive ${i + 1}: ${d.label}: ratio ${d.gearRatio}, η ${d.efficiency}, rated ${formatValue(d.ratedTorque, 'torque')}, peak ${formatValue(d.peakTorque, 'torque')}, max ${formatValue(d.maxSpeed, 'angularSpeed')} (motor side)${d.lead !== undefined ? `, lead ${formatValue(d.lead, 'length')} per turn` : ''}`,
       ),
     );
+  } else if (study.driveTrains) {
+    lines.push(driveTrainSummary(study.driveTrains));
   } else if (study.driveChoice.kind !== 'fixed') {
     lines.push(`drives: chosen by the optimizer (${study.driveChoice.kind === 'shared' ? 'one option for both actuators' : 'one option per actuator'}) from ${study.driveChoice.options.map((o) => o.label).join(', ')}`);
   } else {

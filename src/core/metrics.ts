@@ -65,6 +65,7 @@ export const METRICS: readonly MetricInfo[] = [
   ...perActuatorMetrics('inertia_ratio', 'dimensionless', 'load inertia reflected to the motor (gearbox and screw included) over the rotor inertia, worst over the cycle'),
   { name: 'gearbox_estop_use', kind: 'dimensionless', better: 'min', description: 'gearbox output torque at an emergency stop, N·max(peak motor torque, brake torque), over its emergency-stop rating (worst actuator)' },
   { name: 'brake_use', kind: 'dimensionless', better: 'min', description: 'brake factor times the largest static holding torque, referred to the motor, over the brake holding torque (worst actuator)' },
+  { name: 'drive_cost', kind: 'dimensionless', better: 'min', description: 'sum of the chosen motors\' and gearboxes\' catalogue costs over the actuators (catalogue currency; NaN when a cost is not given)' },
   { name: 'accel_capability_at_speed', kind: 'acceleration', better: 'max', description: 'end-point acceleration available in every direction while moving at the required speed (peak envelope at that motor speed), at the worst pose' },
 ];
 

@@ -15,6 +15,7 @@ const INDEX = Object.fromEntries(
 ) as Record<(typeof PER_ACTUATOR)[number], { all: number; of: number[] }>;
 const ESTOP = metricIndex('gearbox_estop_use');
 const BRAKE = metricIndex('brake_use');
+const COST = metricIndex('drive_cost');
 const MIN_CYCLE_TIME = metricIndex('min_cycle_time');
 const GRAVITY_OF = [1, 2, 3].map((i) => metricIndex(`peak_gravity_torque_${i}`));
 
@@ -66,7 +67,7 @@ export class CycleDriveMetrics {
  * Checks that need no cycle: the gearbox's emergency-stop torque N·max(T_peak(0), T_brake) against
  * its rating, and the brake: factor × largest static holding effort (peak_gravity_torque_i, already
  * in `metrics`) referred to the motor (× r, no efficiency credit) against the brake's holding torque.
- * brake_use stays NaN when no motor has a brake.
+ * brake_use stays NaN when no motor has a brake. drive_cost: the catalogue costs summed (NaN when one is missing).
  */
 export function writeStaticDriveMetrics(trains: readonly DriveTrain[], brakeFactor: number, metrics: Float64Array): void {
   let estop = 0;
@@ -81,4 +82,5 @@ export function writeStaticDriveMetrics(trains: readonly DriveTrain[], brakeFact
   });
   metrics[ESTOP] = estop;
   metrics[BRAKE] = brake;
+  metrics[COST] = trains.reduce((sum, t) => sum + t.motor.cost + t.gearbox.cost, 0);
 }

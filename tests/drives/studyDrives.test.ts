@@ -75,6 +75,8 @@ describe('the demo study (invented): motors and gearboxes chosen per actuator', 
     for (const name of ['drive_peak_use', 'drive_rms_use', 'gearbox_torque_use', 'drive_speed_use', 'inertia_ratio', 'gearbox_estop_use', 'brake_use', 'accel_capability_at_speed', 'min_cycle_time']) {
       expect(Number.isFinite(metric(e, name)), name).toBe(true);
     }
+    // Invented catalogue costs: IM-400 290 and PG-60 260 per actuator.
+    expect(metric(e, 'drive_cost')).toBe(2 * (290 + 260));
     const names = constraintDefinitions(study).map((c) => c.name);
     expect(names).toContain('drive_envelope_1');
     expect(names).toContain('drive_inertia_ratio');

@@ -108,6 +108,7 @@ export function registerSimulateCommands(cli: Argv): Argv {
       checkOverrides(loaded.study, asStrings(args.set));
       const epsilon = optionQuantity(args.epsilon, 'time', '--epsilon');
       if (epsilon !== undefined && !(epsilon > 0 && epsilon <= 1)) throw new SimulationError('--epsilon must be positive and at most 1 s');
+      const compareList = args['compare-epsilon'] ? epsilonList(args['compare-epsilon']) : null;
       const setup = prepareStudySimulation(loaded.study, asStrings(args.set));
       const hooks = driveHooksOf(setup, args.formulation as 'stabilised' | 'perturbed', epsilon, args.saturate);
       setup.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
@@ -131,7 +132,7 @@ export function registerSimulateCommands(cli: Argv): Argv {
         return;
       }
       out([summaryText(setup, result), ...driveSimulationLines(setup, result, hooks)].join('\n'));
-      if (args['compare-epsilon']) out(formulationReportLines(compareFormulations(setup, { controller: args.controller as ControllerKind, friction: args.friction, ...(frequency !== undefined ? { naturalFrequency: frequency } : {}) }, epsilonList(args['compare-epsilon']))).join('\n'));
+      if (compareList) out(formulationReportLines(compareFormulations(setup, { controller: args.controller as ControllerKind, friction: args.friction, ...(frequency !== undefined ? { naturalFrequency: frequency } : {}) }, compareList)).join('\n'));
       if (written.length > 0) out(`\nwrote ${written.length} files to ${args.out}: ${written.map((p) => p.slice(args.out!.length).replace(/^[\\/]/, '')).join(', ')}`);
     },
   );

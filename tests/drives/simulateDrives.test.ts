@@ -61,3 +61,21 @@ describe('efforts saturating at the drive envelopes', () => {
     expect(worst(baseline)).toBeCloseTo(worst(simulateStudyDesign(strong, { controller: 'computed-torque' })), 9);
   }, 600_000);
 });
+
+describe('loopsmith simulate with the drive-train options (command line, in process; needs dist/)', () => {
+  const STUDY = join(ROOT, 'studies', 'parcel-sorter-drivetrains.yaml');
+  it('--formulation perturbed, --saturate and --compare-epsilon print their lines; bad values are refused', async () => {
+    const { runInProcess } = await import('../cli/inProcess.js');
+    const perturbed = await runInProcess(['simulate', STUDY, '--formulation', 'perturbed', '--epsilon', '3 ms', '--duration', '0.3 s']);
+    expect(perturbed.code, perturbed.stderr).toBe(0);
+    expect(perturbed.stdout).toMatch(/loop closure: singularly perturbed, ε = 0\.003 s/);
+    const saturated = await runInProcess(['simulate', STUDY, '--saturate', '--set', 'motor_1=IM-100', '--duration', '0.3 s']);
+    expect(saturated.code, saturated.stderr).toBe(0);
+    expect(saturated.stdout).toMatch(/efforts saturate at the drive envelopes: at the limit in [1-9][0-9.]* %/);
+    const compared = await runInProcess(['simulate', STUDY, '--duration', '0.3 s', '--compare-epsilon', '0.01,0.001']);
+    expect(compared.code, compared.stderr).toBe(0);
+    expect(compared.stdout).toMatch(/perturbed ε = 0\.001 s: max \|Δq\|/);
+    expect((await runInProcess(['simulate', STUDY, '--formulation', 'perturbed', '--epsilon', '0 s'])).code).toBe(1);
+    expect((await runInProcess(['simulate', STUDY, '--compare-epsilon', 'a,b'])).code).toBe(1);
+  }, 600_000);
+});

@@ -118,6 +118,27 @@ describe('a drive train equal to the rectangle drive gives the same joint-side c
   });
 });
 
+describe('a screw drive train equal to the rectangle screw drive gives the same joint-side cycle figures (prismatic)', () => {
+  // Direct drive (no gearbox) into a screw: lead, η and the screw-shaft inertia as the inline drive has them.
+  it.each([
+    ['platform-3rpr-cycle.yaml', '0.32 N*m', '0.95 N*m', '1.2e-5', '5 mm', 0, '2.0e6 N/m', 4096],
+    ['rail-sorter-2prr-cycle.yaml', '1.27 N*m', '3.8 N*m', '3.4e-5', '40 mm', 1.5e-5, '2.0e7 N/m', 1048576],
+  ])('%s', (name, rated, peak, rotor, lead, screwInertia, stiffness, counts) => {
+    const drives = `drives:\n  motors: m.csv\n  torque_safety_factor: 1.5\n  linear_stage: { kind: screw, lead: ${lead}, efficiency: 0.9, max_thrust: 1e5 N, inertia: ${screwInertia} kg*m^2, stiffness: ${stiffness} }\n`;
+    const path = variant(name, drives, { 'm.csv': `name,rated_torque,peak_torque,max_speed,rotor_inertia,encoder_counts\nM,${rated},${peak},3000 rpm,${rotor} kg*m^2,${counts}\n` });
+    const trains = loadStudyFile(path).study;
+    const plain = loadStudyFile(join(ROOT, 'studies', name)).study;
+    const a = new Evaluator(trains);
+    const b = new Evaluator(plain);
+    const ea = a.evaluate(designFromValues(a.variables, trains.baseline));
+    const eb = b.evaluate(designFromValues(b.variables, plain.baseline));
+    for (const m of ['cycle_peak_torque_1', 'cycle_rms_torque_2', 'cycle_peak_speed_1', 'peak_gravity_torque', 'min_stiffness', 'resolution']) {
+      expect(Math.abs(metric(ea, m) - metric(eb, m)), m).toBeLessThanOrEqual(1e-9 * Math.max(Math.abs(metric(eb, m)), 1e-9));
+    }
+    for (const m of ['drive_peak_use', 'drive_rms_use', 'gearbox_torque_use', 'inertia_ratio']) expect(Number.isFinite(metric(ea, m)), m).toBe(true);
+  });
+});
+
 describe('prismatic: 2-PRR sliders on a screw', () => {
   it('evaluates the drive checks with a linear stage and a continuous gear ratio', () => {
     const drives =
@@ -179,5 +200,25 @@ describe('a comparison study with drive trains per member', () => {
       const e = evaluator.evaluate(designFromValues(evaluator.variables, { ...study.baseline, architecture }));
       expect(Number.isFinite(metric(e, 'gearbox_estop_use')), architecture).toBe(true);
     }
+  });
+});
+
+describe('acceleration capability at speed', () => {
+  const drives = 'drives:\n  motors: m.csv\n  gearboxes: g.csv\n  torque_safety_factor: 1.5\n';
+  const gear = 'name,ratio,efficiency,inertia,rated_torque,stiffness\nG,10,0.85,2e-7 kg*m^2,1000 N*m,3.0e4 N*m/rad\n';
+  const at = (motor: string): { still: number; moving: number } => {
+    const path = variant('parcel-sorter-cycle.yaml', drives, { 'm.csv': `name,rated_torque,peak_torque,max_speed,corner_speed,peak_torque_at_max_speed,rotor_inertia\n${motor}\n`, 'g.csv': gear });
+    const study = loadStudyFile(path).study;
+    const evaluator = new Evaluator(study);
+    const e = evaluator.evaluate(designFromValues(evaluator.variables, study.baseline));
+    return { still: metric(e, 'accel_capability'), moving: metric(e, 'accel_capability_at_speed') };
+  };
+  it('equals the standstill figure below the corner speed and falls above it', () => {
+    // Joint speeds for 2 m/s stay below 80 rpm, 800 rpm at the motor (peak_joint_speed of this design).
+    const below = at('M,1.27 N*m,3.8 N*m,3000 rpm,2500 rpm,1 N*m,3.4e-5 kg*m^2');
+    expect(below.moving).toBeCloseTo(below.still, 9);
+    const above = at('M,1.27 N*m,3.8 N*m,3000 rpm,100 rpm,1 N*m,3.4e-5 kg*m^2');
+    expect(above.still).toBeCloseTo(below.still, 9);
+    expect(above.moving).toBeLessThan(0.9 * above.still); // about 3.15 of 3.8 N·m left at ~770 rpm
   });
 });

@@ -230,7 +230,9 @@ export function composeDrive(train: DriveTrain, kind: ActuatorKind): DriveSpec {
   if (kind === 'prismatic' && !stage) throw new CatalogueError('drives.linear_stage: sliders need a screw or belt (lead, efficiency, max_thrust)');
   const n = ratio;
   const speedLimit = Math.min(motor.maxSpeed, gearbox.maxInputSpeed);
-  const stiffness = kind === 'prismatic' ? (stage!.stiffness) : gearbox.stiffness;
+  // Slider: the stage in series with the gearbox's torsional stiffness seen at the slider, k_g/r_s² (r_s = ℓ/2π).
+  const rs = stage ? stage.lead / (2 * Math.PI) : 1;
+  const stiffness = kind === 'prismatic' ? 1 / (1 / stage!.stiffness + (rs * rs) / gearbox.stiffness) : gearbox.stiffness;
   return {
     label: gearbox === DIRECT_DRIVE ? motor.name : `${motor.name} + ${gearbox.name}${gearbox.ratio !== ratio ? ` @${Number(ratio.toPrecision(6))}` : ''}`,
     mass: motor.mass + gearbox.mass,

@@ -226,3 +226,15 @@ describe('screw drive: thrust and speed from lead and efficiency (common practic
     expect(motorTorque(-100, 0.1, 0, 0.01 / (2 * Math.PI), 0.9, 0)).toBeCloseTo((-100 * 0.01 * 0.9) / (2 * Math.PI), 10);
   });
 });
+
+describe('slider stiffness: stage in series with the gearbox (derived here: springs in series, k_g seen at the slider as k_g (2π/ℓ)²)', () => {
+  it('1/k = 1/k_stage + (ℓ/2π)²/k_gear', () => {
+    const stage = { kind: 'screw' as const, lead: 0.01, efficiency: 0.9, maxThrust: 2000, maxSpeed: Infinity, inertia: 0, stiffness: 2e7 };
+    const gear = { ...gearbox(5, 0.95), stiffness: 1e4 };
+    const drive = composeDrive({ motor: motor(), gearbox: gear, ratio: 5, stage }, 'prismatic');
+    const rs = 0.01 / (2 * Math.PI);
+    expect(drive.jointStiffness).toBeCloseTo(1 / (1 / 2e7 + (rs * rs) / 1e4), 3);
+    // by hand: (ℓ/2π)²/k_g = 2.533e-10 m/N, 1/k_stage = 5e-8 m/N ⇒ k = 1.990e7 N/m
+    expect(drive.jointStiffness / 1.990e7).toBeCloseTo(1, 3);
+  });
+});

@@ -7,7 +7,7 @@ import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup 
 import { writeSimulationOutputs } from '../simulate/plots.js';
 import { formatValue, table, toJson } from './format.js';
 import { checkOverrides } from './argChecks.js';
-import { compareFormulations, driveHooksOf, driveSimulationLines, epsilonList, formulationReportLines } from '../simulate/driveSimulation.js';
+import { compareFormulations, driveHooksOf, driveSimulationJson, driveSimulationLines, epsilonList, formulationReportLines } from '../simulate/driveSimulation.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -125,7 +125,7 @@ export function registerSimulateCommands(cli: Argv): Argv {
         ...(extraEndMass !== undefined ? { extraEndMass } : {}),
         ...hooks,
       });
-      const json = toJson(simulationJson(setup, result.summary));
+      const json = toJson({ ...simulationJson(setup, result.summary), ...driveSimulationJson(setup, result, hooks) });
       const written = args.out ? await writeSimulationOutputs(args.out, result, setup.limits, setup.study.name, json) : [];
       if (args.json) {
         out(json);

@@ -162,3 +162,11 @@ export function epsilonList(text: string): number[] {
   if (values.length === 0 || values.some((v) => !(v > 0 && v <= 1))) throw new SimulationError('--compare-epsilon: give ε values in s between 0 and 1, comma-separated (e.g. 0.01,0.003,0.001)');
   return values;
 }
+
+/** The drive-train fields of the `simulate` JSON: closure formulation (ε in s) and, when saturating, the share of samples at the limit. */
+export function driveSimulationJson(setup: StudySimulationSetup, result: SimulationResult, hooks: DriveSimulationHooks): Record<string, unknown> {
+  return {
+    closure: hooks.formulation === 'perturbed' ? { formulation: 'perturbed', epsilon: hooks.epsilon ?? 0.01 } : { formulation: 'stabilised' },
+    ...(hooks.saturate ? { saturation: { saturatedShare: saturatedShare(setup, result) } } : {}),
+  };
+}

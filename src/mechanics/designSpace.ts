@@ -9,6 +9,8 @@ import type { FiveBarModel } from './fivebar.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelInput } from '../architectures/types.js';
 import { driveAtJoint } from '../study/drives.js';
+import { takeMount } from '../cell/mounting.js';
+import { MOUNT_VARIABLES, type Mount } from '../cell/types.js';
 import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
 /**
@@ -65,6 +67,14 @@ export function designVariables(study: Study): DesignVariable[] {
       for (let i = 0; i < n; i++) out.push({ name: `drive_${i + 1}`, kind: 'categorical', role: 'drive', actuators: [i], choices: labels, options: choice.options });
     }
   }
+  // Mounting of the base in the cell (docs/cell.md), last so earlier variables keep their places.
+  const mounting = study.cell?.mounting;
+  if (mounting) {
+    for (const name of MOUNT_VARIABLES) {
+      const spec = mounting[name];
+      if (spec.kind === 'variable') out.push({ name, kind: 'real', min: spec.min, max: spec.max });
+    }
+  }
   return out;
 }
 
@@ -74,6 +84,8 @@ export interface ResolvedDesign {
   readonly workingMode: string;
   /** Drives of this design (one per actuator), or null when the study gives none. */
   readonly drives: readonly DriveSpec[] | null;
+  /** Base pose in the task frame (studies with cell.mounting only). */
+  readonly mount?: Mount;
 }
 
 /** A comparison study's design resolved to its member: the member study, its variables and its design vector. */
@@ -128,7 +140,8 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     const spec = study.geometry[name]!;
     if (spec.kind === 'tied') geometry[name] = geometry[spec.to]!;
   }
-  return { geometry, workingMode, drives };
+  const mount = takeMount(study.cell, geometry);
+  return { geometry, workingMode, drives, ...(mount ? { mount } : {}) };
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
@@ -293,6 +306,7 @@ export function studyActuators(study: Study, values?: Readonly<Record<string, un
 
 /** Quantity kind of a design variable's value: angle for angle parameters, else length (categorical values are text). */
 export function variableKind(study: Study, name: string): 'angle' | 'length' {
+  if (name === 'mount_angle' || name.endsWith('_mount_angle')) return 'angle';
   const architectures = study.members ? study.members.map((m) => m.architecture) : [study.architecture];
   for (const a of architectures) {
     const prefix = study.members ? `${ARCHITECTURE_PREFIX[a]}_` : '';

@@ -30,6 +30,7 @@ import { architectureUsableMargin } from './usability.js';
 import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
 import type { Study } from '../study/types.js';
+import { mountModel } from '../cell/mounting.js';
 
 export { architectureUsableMargin };
 
@@ -141,7 +142,7 @@ export class ArchitectureEvaluator {
    */
   buildModel(resolved: ResolvedDesign): ArchitectureModelBase {
     const architecture = this.architecture;
-    const model = architecture.buildModel(modelInput(this.study, resolved));
+    const model = mountModel(architecture.buildModel(modelInput(this.study, resolved)), resolved.mount);
     if (this.study.orientation?.characteristicLength !== 'auto' || !this.task) return model;
     const task = this.task;
     const points = new Float64Array(3 * task.x.length);
@@ -152,7 +153,7 @@ export class ArchitectureEvaluator {
     }
     const scale = architecture.footprint(model);
     const best = characteristicLengthForPoses(architecture, model, this.pose, points, 1e-3 * scale, 10 * scale);
-    return best ? architecture.buildModel(modelInput(this.study, resolved, best.length)) : model;
+    return best ? mountModel(architecture.buildModel(modelInput(this.study, resolved, best.length)), resolved.mount) : model;
   }
 
   /** Model of a design vector. */

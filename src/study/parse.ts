@@ -4,6 +4,7 @@
  * editors can use the same file), then the unit conversion and cross-field checks here.
  */
 import { LoopsmithUserError } from '../core/errors.js';
+import { mountBaseline, parseCell } from '../cell/parse.js';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
@@ -274,6 +275,7 @@ export function studySettingsHash(study: Study): string {
     sliderMass: study.sliderMass,
     platform: study.platform ?? undefined,
     orientation: study.orientation ?? undefined,
+    cell: study.cell ?? undefined,
     members: study.members ? study.members.map(studySettingsHash) : undefined,
   };
   return sha256(canonicalJson(relevant));
@@ -297,6 +299,7 @@ export function workspaceSettingsHash(study: Study): string {
       evaluation: study.evaluation,
       // Absent for 2-DOF studies, so their hashes stay as they were.
       orientation: study.orientation ?? undefined,
+      cell: study.cell ?? undefined,
       members: study.members ? study.members.map(workspaceSettingsHash) : undefined,
     }),
   );
@@ -639,6 +642,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
 
   const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle'], { architecture: architectureName, dof: n, phi0: orientation?.phi0 ?? 0 }) : null;
   const friction = isObject(data['friction']) ? buildFriction(data['friction'], n, actuatorKind) : null;
+  const cell = isObject(data['cell']) ? parseCell(data['cell'], { actuators: architecture.actuators, massIn, hasDutyCycle: dutyCycle !== null }) : null;
   if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
 
   const objectives: ObjectiveSpec[] = (data['objectives'] as JsonObject[]).map((o, i) => {
@@ -702,6 +706,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     ...(sliderMass !== undefined ? { sliderMass } : {}),
     ...(platform ? { platform } : {}),
     ...(orientation ? { orientation } : {}),
+    ...(cell ? { cell } : {}),
   };
   const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
   return { ...partial, baseline };
@@ -756,6 +761,11 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
         throw new StudyError(`${where}: must be one of the catalogue options ${JSON.stringify(choice.options.map((o) => o.label))}`);
       }
       out[name] = value;
+      continue;
+    }
+    const mount = mountBaseline(study.cell, name, value);
+    if (mount !== undefined) {
+      out[name] = mount;
       continue;
     }
     const parameters = ARCHITECTURES[study.architecture].parameters;

@@ -57,6 +57,15 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'cycle_rms_torque_3', kind: 'torque', better: 'min', description: 'RMS joint-3 effort over the duty cycle (3-DOF)' },
   { name: 'cycle_peak_speed_3', kind: 'angularSpeed', better: 'min', description: 'largest joint-3 speed along the duty cycle (3-DOF)' },
   { name: 'cycle_peak_power_3', kind: 'power', better: 'min', description: 'largest joint-3 power along the duty cycle (3-DOF)' },
+  // The machine in its cell (studies with a cell section; NaN otherwise); see docs/cell.md.
+  { name: 'min_clearance', kind: 'length', better: 'max', description: 'smallest clearance of the links from keep-outs, the other legs, the drive housings and between sliders, over the task region, zones and duty cycle, after the required clearance (negative = collision)' },
+  { name: 'passive_joint_margin', kind: 'angle', better: 'max', description: 'smallest included angle at a passive joint minus its limit, over the task region, zones and duty cycle (negative = beyond the limit)' },
+  { name: 'zone_coverage', kind: 'dimensionless', better: 'max', description: 'worst covered fraction of a task zone (pick, place, …) inside the usable workspace (1 = every zone whole)' },
+  { name: 'cycle_coverage', kind: 'dimensionless', better: 'max', description: 'fraction of the duty-cycle path inside the usable workspace (1 = all of it)' },
+  { name: 'regular_workspace_area', kind: 'area', better: 'max', description: 'area of the largest rectangle of the study aspect ratio and angle (a square by default) inside the usable workspace' },
+  { name: 'regular_workspace_width', kind: 'length', better: 'max', description: 'width of that largest rectangle (along its angle; height = width / aspect)' },
+  { name: 'regular_workspace_x', kind: 'length', better: 'max', description: 'x of the centre of that largest rectangle (its placement, not an objective)' },
+  { name: 'regular_workspace_y', kind: 'length', better: 'max', description: 'y of the centre of that largest rectangle (its placement, not an objective)' },
 ];
 
 export type MetricName = (typeof METRICS)[number]['name'];

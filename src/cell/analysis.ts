@@ -98,10 +98,12 @@ export class CellAnalysis {
       worst.points++;
       return usable(status) >= 0 && grid.regionAt(x, y) === region && region >= 0;
     };
+    // Every point covered counts as exactly 1 (the weights' float sum may fall short of it by an ulp).
     const covered = (s: ShapeSamples): number => {
       let sum = 0;
-      for (let k = 0; k < s.x.length; k++) if (visit(s.x[k]!, s.y[k]!, this.phi0)) sum += s.weight[k]!;
-      return Math.min(sum, 1);
+      let points = 0;
+      for (let k = 0; k < s.x.length; k++) if (visit(s.x[k]!, s.y[k]!, this.phi0)) { sum += s.weight[k]!; points++; }
+      return points === s.x.length ? 1 : Math.min(sum, 1);
     };
     if (this.region) covered(this.region);
     let zones = 1;
@@ -109,14 +111,10 @@ export class CellAnalysis {
     metrics[M.zones] = this.zones.length > 0 ? zones : Number.NaN;
     if (this.cycle && this.spec.cycleAsTask) {
       const c = this.cycle;
-      let sum = 0;
-      let total = 0;
-      for (let k = 0; k < c.count; k++) {
-        const w = c.weight[k]! > 0 ? c.weight[k]! : 1;
-        total += w;
-        if (visit(c.x[k]!, c.y[k]!, c.phi[k]!)) sum += w;
-      }
-      metrics[M.cycle] = total > 0 ? sum / total : Number.NaN;
+      // Fraction of the cycle's samples (each point of the path counts once).
+      let inside = 0;
+      for (let k = 0; k < c.count; k++) if (visit(c.x[k]!, c.y[k]!, c.phi[k]!)) inside++;
+      metrics[M.cycle] = c.count > 0 ? inside / c.count : Number.NaN;
     } else if (this.cycle) {
       for (let k = 0; k < this.cycle.count; k++) visit(this.cycle.x[k]!, this.cycle.y[k]!, this.cycle.phi[k]!);
     }

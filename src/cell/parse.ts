@@ -46,6 +46,29 @@ export interface CellContext {
   readonly hasDutyCycle: boolean;
 }
 
+/**
+ * The study's cell section (null without one). A study that asks for the regular workspace without a
+ * cell section gets the defaults (a square, nothing else); the other cell metrics need what they measure.
+ */
+export function studyCell(data: JsonObject, context: CellContext): CellSpec | null {
+  const raw = data['cell'];
+  const used: { metric: string; where: string }[] = [];
+  for (const key of ['objectives', 'constraints']) {
+    const list = data[key];
+    if (Array.isArray(list)) list.forEach((o, i) => { if (isObject(o) && typeof o['metric'] === 'string') used.push({ metric: o['metric'], where: `${key}[${i}].metric` }); });
+  }
+  const cell = isObject(raw) ? parseCell(raw, context) : used.some((u) => u.metric.startsWith('regular_workspace_')) ? parseCell({}, context) : null;
+  for (const { metric, where } of used) {
+    const missing =
+      (metric === 'min_clearance' && !(cell && (cell.keepOuts.length > 0 || cell.interference))) ? 'cell.keep_outs or cell.interference' :
+      (metric === 'passive_joint_margin' && cell?.interference?.passiveMinAngle == null) ? 'cell.interference.passive_min_angle' :
+      (metric === 'zone_coverage' && !(cell && cell.zones.length > 0)) ? 'cell.zones' :
+      (metric === 'cycle_coverage' && !cell?.cycleAsTask) ? 'cell.cycle_as_task: true (and a duty_cycle)' : null;
+    if (missing) throw new CellSettingsError(`${where}: "${metric}" needs ${missing}`);
+  }
+  return cell;
+}
+
 /** The cell section of a study. */
 export function parseCell(raw: JsonObject, context: CellContext): CellSpec {
   const zones = Array.isArray(raw['zones']) ? raw['zones'].map((z, i) => parseNamedShape(z as JsonObject, `cell.zones[${i}]`, `zone_${i + 1}`)) : [];

@@ -69,6 +69,11 @@ export const METRICS: readonly MetricInfo[] = [
 ];
 
 export type MetricName = (typeof METRICS)[number]['name'];
+/** Metrics of the machine in its cell: computed only for a study with a cell section (NaN otherwise). */
+export const CELL_METRIC_NAMES: ReadonlySet<string> = new Set([
+  'min_clearance', 'passive_joint_margin', 'zone_coverage', 'cycle_coverage',
+  'regular_workspace_area', 'regular_workspace_width', 'regular_workspace_x', 'regular_workspace_y',
+]);
 export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
 const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
 

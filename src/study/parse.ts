@@ -4,7 +4,7 @@
  * editors can use the same file), then the unit conversion and cross-field checks here.
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import { mountBaseline, parseCell } from '../cell/parse.js';
+import { mountBaseline, studyCell } from '../cell/parse.js';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
@@ -642,7 +642,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
 
   const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle'], { architecture: architectureName, dof: n, phi0: orientation?.phi0 ?? 0 }) : null;
   const friction = isObject(data['friction']) ? buildFriction(data['friction'], n, actuatorKind) : null;
-  const cell = isObject(data['cell']) ? parseCell(data['cell'], { actuators: architecture.actuators, massIn, hasDutyCycle: dutyCycle !== null }) : null;
+  const cell = studyCell(data, { actuators: architecture.actuators, massIn, hasDutyCycle: dutyCycle !== null });
   if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
 
   const objectives: ObjectiveSpec[] = (data['objectives'] as JsonObject[]).map((o, i) => {

@@ -93,6 +93,8 @@ export interface MapCellLayer {
   readonly restricts?: boolean;
   readonly keepOuts: readonly Float64Array[];
   readonly zones: readonly Float64Array[];
+  /** Drive housings at the pivots (outlines). */
+  readonly housings?: readonly Float64Array[];
   /** Corners of the regular-workspace rectangle, or null. */
   readonly rectangle?: Float64Array | null;
 }
@@ -585,6 +587,7 @@ function closedOutline(poly: Float64Array): Polyline {
 function addCellLines(cell: MapCellLayer, fields: ArchitectureMapFields | null, addLine: (feature: Feature, line: Polyline) => void): void {
   for (const k of cell.keepOuts) addLine(ARCHITECTURE_MAP_FEATURES.keepOut, closedOutline(k));
   for (const z of cell.zones) addLine(ARCHITECTURE_MAP_FEATURES.zone, closedOutline(z));
+  for (const h of cell.housings ?? []) addLine(ARCHITECTURE_MAP_FEATURES.housing, closedOutline(h));
   if (fields?.cellMargin) {
     const margin = fields.cellMargin;
     zeroContours(fields, margin, (k) => !Number.isNaN(margin[k]!)).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.interference, l));

@@ -75,6 +75,20 @@ export interface DesignMapOptions {
   readonly maxColourCells?: number;
 }
 
+/** Outlines of the drive housings at the (mounted) pivots of a leg model. */
+function housingOutlines(cell: NonNullable<Study['cell']>, model: ArchitectureModelBase, mount: Mount | undefined): Float64Array[] {
+  const m = model as ArchitectureModelBase & { baseX?: readonly number[]; baseY?: readonly number[]; legs?: readonly { name: string }[] };
+  if (!cell.interference || !m.baseX || !m.baseY) return [];
+  const out: Float64Array[] = [];
+  cell.interference.housings.forEach((h, i) => {
+    if (!h || m.legs?.[i]?.name === 'slider-rod') return;
+    const x = m.baseX![i]!;
+    const y = m.baseY![i]!;
+    out.push(h.shape === 'circle' ? shapeOutline({ shape: 'circle', centreX: x, centreY: y, radius: h.radius }) : rectanglePolygon(x, y, h.width, h.height, h.angle + (mount?.angle ?? 0)));
+  });
+  return out;
+}
+
 /** The cell layer of a design's map: keep-outs, zones, its clearance checks and its regular rectangle (from the metrics). */
 function cellLayer(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, mount: Mount | undefined, metrics: Float64Array): MapCellLayer {
   const cell = study.cell!;
@@ -88,6 +102,7 @@ function cellLayer(study: Study, architecture: PlanarArchitecture<ArchitectureMo
     ...(analysis.restricts ? { nodeMargin: (pose, status) => analysis.nodeMargin(pose, status), restricts: true } : {}),
     keepOuts: cell.keepOuts.map(shapeOutline),
     zones: cell.zones.map(shapeOutline),
+    housings: housingOutlines(cell, model, mount),
     rectangle,
   };
 }

@@ -32,6 +32,7 @@ export const MAP_FEATURES = {
   zone: 'task zone',
   interference: 'interference (clearance = 0)',
   regular: 'regular workspace',
+  housing: 'drive housing',
 } as const;
 export type MapFeature = (typeof MAP_FEATURES)[keyof typeof MAP_FEATURES];
 
@@ -56,6 +57,7 @@ export const MAP_CURVE_STYLES: readonly MapCurveStyle[] = [
   { feature: MAP_FEATURES.zone, colour: '#8c2d04', dash: [2, 2], width: 2.5 },
   { feature: MAP_FEATURES.interference, colour: '#e31a1c', dash: [5, 2, 1, 2], width: 2.5 },
   { feature: MAP_FEATURES.regular, colour: '#ffffff', dash: [10, 4], width: 2.5 },
+  { feature: MAP_FEATURES.housing, colour: '#1a1a1a', dash: [3, 1.5], width: 2 },
 ];
 
 /** Stroke colour of each curve feature (what the SVG paths carry). */

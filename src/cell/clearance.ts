@@ -33,18 +33,47 @@ const CRANK = 0;
 const ROD = 1;
 const EDGE = 2;
 
-/** A zone as the checks use it: a polygon, or a circle (cx, cy, r). */
+/** A zone as the checks use it: a polygon, or a circle (cx, cy, r); with its bounding box, m. */
 interface Zone {
   readonly polygon: Float64Array | null;
   readonly cx: number;
   readonly cy: number;
   readonly r: number;
+  readonly xmin: number;
+  readonly xmax: number;
+  readonly ymin: number;
+  readonly ymax: number;
+}
+
+function circleZone(cx: number, cy: number, r: number): Zone {
+  return { polygon: null, cx, cy, r, xmin: cx - r, xmax: cx + r, ymin: cy - r, ymax: cy + r };
+}
+
+function polygonZone(polygon: Float64Array): Zone {
+  let xmin = Infinity, xmax = -Infinity, ymin = Infinity, ymax = -Infinity;
+  for (let k = 0; k < polygon.length; k += 2) {
+    xmin = Math.min(xmin, polygon[k]!); xmax = Math.max(xmax, polygon[k]!);
+    ymin = Math.min(ymin, polygon[k + 1]!); ymax = Math.max(ymax, polygon[k + 1]!);
+  }
+  return { polygon, cx: 0, cy: 0, r: 0, xmin, xmax, ymin, ymax };
 }
 
 function zoneOf(shape: CellShape): Zone {
-  if (shape.shape === 'circle') return { polygon: null, cx: shape.centreX, cy: shape.centreY, r: shape.radius };
-  if (shape.shape === 'rectangle') return { polygon: rectanglePolygon(shape.centreX, shape.centreY, shape.width, shape.height, shape.angle), cx: 0, cy: 0, r: 0 };
-  return { polygon: Float64Array.from(shape.vertices), cx: 0, cy: 0, r: 0 };
+  if (shape.shape === 'circle') return circleZone(shape.centreX, shape.centreY, shape.radius);
+  if (shape.shape === 'rectangle') return polygonZone(rectanglePolygon(shape.centreX, shape.centreY, shape.width, shape.height, shape.angle));
+  return polygonZone(Float64Array.from(shape.vertices));
+}
+
+/** Lower bound of the distance between the segment AB and the zone: the gap between their bounding boxes, m. */
+function boxGap(ax: number, ay: number, bx: number, by: number, z: Zone): number {
+  const gx = Math.max(0, z.xmin - Math.max(ax, bx), Math.min(ax, bx) - z.xmax);
+  const gy = Math.max(0, z.ymin - Math.max(ay, by), Math.min(ay, by) - z.ymax);
+  return Math.sqrt(gx * gx + gy * gy);
+}
+
+/** Included angle between two directions, rad in [0, π]. */
+function includedAngle(ux: number, uy: number, vx: number, vy: number): number {
+  return Math.atan2(Math.abs(ux * vy - uy * vx), ux * vx + uy * vy);
 }
 
 /** Clearance of a thick segment from a zone, m. */
@@ -99,7 +128,7 @@ export class CellChecker {
       if (!h || leg.name === 'slider-rod') return null;
       const x = model.baseX[i]!;
       const y = model.baseY[i]!;
-      return h.shape === 'circle' ? { polygon: null, cx: x, cy: y, r: h.radius } : { polygon: rectanglePolygon(x, y, h.width, h.height, h.angle + turn), cx: 0, cy: 0, r: 0 };
+      return h.shape === 'circle' ? circleZone(x, y, h.radius) : polygonZone(rectanglePolygon(x, y, h.width, h.height, h.angle + turn));
     });
     this.staticClearance = Infinity;
     this.staticSource = 'none';
@@ -133,15 +162,17 @@ export class CellChecker {
     return Math.abs(along) - (this.spec.interference?.sliderLength ?? 0);
   }
 
+  private push(c: number, ax: number, ay: number, bx: number, by: number, w: number, leg: number, kind: number, other: number): number {
+    const seg = this.seg;
+    const o = 8 * c;
+    seg[o] = ax; seg[o + 1] = ay; seg[o + 2] = bx; seg[o + 3] = by; seg[o + 4] = w; seg[o + 5] = leg; seg[o + 6] = kind; seg[o + 7] = other;
+    return c + 1;
+  }
+
   private collectSegments(pose: ArchitecturePose): void {
     const m = this.model!;
     const inter = this.spec.interference;
-    const seg = this.seg;
     let c = 0;
-    const push = (ax: number, ay: number, bx: number, by: number, w: number, leg: number, kind: number, other: number): void => {
-      const o = 8 * c++;
-      seg[o] = ax; seg[o + 1] = ay; seg[o + 2] = bx; seg[o + 3] = by; seg[o + 4] = w; seg[o + 5] = leg; seg[o + 6] = kind; seg[o + 7] = other;
-    };
     for (let i = 0; i < this.n; i++) {
       const px = pose.proximalJoint[2 * i]!;
       const py = pose.proximalJoint[2 * i + 1]!;
@@ -149,14 +180,14 @@ export class CellChecker {
       const dy = pose.distalJoint[2 * i + 1]!;
       const rodWidth = inter?.rodWidth[i] ?? 0;
       const kind = m.legs[i]!.name;
-      if (kind === 'crank-rod') push(m.baseX[i]!, m.baseY[i]!, px, py, inter?.crankWidth[i] ?? 0, i, CRANK, -1);
-      if (kind === 'strut') push(m.baseX[i]!, m.baseY[i]!, dx, dy, rodWidth, i, ROD, -1);
-      else push(px, py, dx, dy, rodWidth, i, ROD, -1);
+      if (kind === 'crank-rod') c = this.push(c, m.baseX[i]!, m.baseY[i]!, px, py, inter?.crankWidth[i] ?? 0, i, CRANK, -1);
+      if (kind === 'strut') c = this.push(c, m.baseX[i]!, m.baseY[i]!, dx, dy, rodWidth, i, ROD, -1);
+      else c = this.push(c, px, py, dx, dy, rodWidth, i, ROD, -1);
     }
     if (m.dof === 3) {
       for (let i = 0; i < this.n; i++) {
         const j = (i + 1) % this.n;
-        push(pose.distalJoint[2 * i]!, pose.distalJoint[2 * i + 1]!, pose.distalJoint[2 * j]!, pose.distalJoint[2 * j + 1]!, 0, i, EDGE, j);
+        c = this.push(c, pose.distalJoint[2 * i]!, pose.distalJoint[2 * i + 1]!, pose.distalJoint[2 * j]!, pose.distalJoint[2 * j + 1]!, 0, i, EDGE, j);
       }
     }
     this.segCount = c;
@@ -185,7 +216,10 @@ export class CellChecker {
     for (let a = 0; a < count; a++) {
       const o = 8 * a;
       const ax = seg[o]!, ay = seg[o + 1]!, bx = seg[o + 2]!, by = seg[o + 3]!, w = seg[o + 4]!;
-      for (const z of this.keepOuts) {
+      // Zones whose bounding box lies farther than the best clearance so far cannot lower it.
+      for (let k = 0; k < this.keepOuts.length; k++) {
+        const z = this.keepOuts[k]!;
+        if (boxGap(ax, ay, bx, by, z) - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, z);
         if (v < best) { best = v; source = 'keep-out'; }
       }
@@ -193,6 +227,7 @@ export class CellChecker {
         const hz = this.housings[i];
         // A crank or strut is carried by its own housing.
         if (!hz || (seg[o + 5] === i && (seg[o + 6] === CRANK || this.model!.legs[i]!.name === 'strut'))) continue;
+        if (boxGap(ax, ay, bx, by, hz) - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, hz);
         if (v < best) { best = v; source = 'housing'; }
       }
@@ -222,7 +257,7 @@ export class CellChecker {
     if (limit === null || limit === undefined) return Infinity;
     const m = this.model!;
     let worst = Infinity;
-    const angle = (ux: number, uy: number, vx: number, vy: number): number => Math.atan2(Math.abs(ux * vy - uy * vx), ux * vx + uy * vy);
+    const angle = includedAngle;
     for (let i = 0; i < this.n; i++) {
       const ux = pose.rodDirection[2 * i]!;
       const uy = pose.rodDirection[2 * i + 1]!;

@@ -91,3 +91,27 @@ describe('cell section', () => {
     expect(() => study('cell:\n  cycle_as_task: true')).toThrow(/needs a duty_cycle/);
   });
 });
+
+describe('every architecture', () => {
+  const cellFor = (name: string): string => (name.includes('prr') ? cell : cell.replace(', slider_length: 50 mm', ''));
+  const cell = [
+    'cell:',
+    '  keep_outs:',
+    '    - { name: far wall, shape: rectangle, centre: [3 m, 0 m], width: 100 mm, height: 2 m }',
+    '  interference: { links: true, link_width: 10 mm, housings: { radius: 20 mm }, passive_min_angle: 5 deg, slider_length: 50 mm }',
+    '  mounting: { mount_angle: { min: -5 deg, max: 5 deg } }',
+    '  regular_workspace: { aspect: 1.5, angle: 20 deg }',
+  ].join('\n');
+  it.each(['rail-sorter-2prr', 'platform-3rrr', 'platform-3prr', 'platform-3rpr'])('%s: the cell metrics are computed and mount_angle is a variable', (name) => {
+    const text = readFileSync(new URL(`../../studies/${name}.yaml`, import.meta.url), 'utf8');
+    const s = parseStudyText(`${text}\n${cellFor(name)}\n`, name).study;
+    const ev = new ArchitectureEvaluator(s);
+    expect(ev.variables.at(-1)!.name).toBe('mount_angle');
+    const m = ev.evaluate(designFromValues(ev.variables, { ...s.baseline, mount_angle: 0 })).metrics;
+    for (const metric of ['min_clearance', 'passive_joint_margin', 'regular_workspace_area']) expect(Number.isFinite(m[metricIndex(metric)]!), metric).toBe(true);
+    // The wall is 3 m away: whatever limits the clearance is the mechanism itself (links, housings, sliders), well under 3 m.
+    expect(m[metricIndex('min_clearance')]!).toBeLessThan(2.5);
+    // Derived here: the rectangle is inside the usable region, so it cannot have more area.
+    expect(m[metricIndex('regular_workspace_area')]!).toBeLessThanOrEqual(m[metricIndex('workspace_area')]! + 1e-12);
+  });
+});

@@ -7,7 +7,7 @@
 import { LoopsmithUserError } from '../core/errors.js';
 import type { FiveBarModel } from './fivebar.js';
 import { ARCHITECTURES } from '../architectures/index.js';
-import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelInput } from '../architectures/types.js';
+import type { ActuatorKind, ArchitectureName, DriveAtJoint, JointRange, LinkSection, ModelInput } from '../architectures/types.js';
 import { driveAtJoint } from '../study/drives.js';
 import { takeMount } from '../cell/mounting.js';
 import { MOUNT_VARIABLES, type Mount } from '../cell/types.js';
@@ -234,14 +234,21 @@ export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveB
     crank[i] ** 2 / jointStiffness(i) + crank[i] ** 3 / (3 * cranks[i].youngsModulus * cranks[i].secondMoment);
   const [s1, s2] = resolved.workingMode === '++' ? [1, 1] : resolved.workingMode === '+-' ? [1, -1] : resolved.workingMode === '-+' ? [-1, 1] : [-1, -1];
 
+  // Mounting (docs/cell.md): pivots placed by m + R(a) p, crank ranges turned by a (as mountModel).
+  const m = resolved.mount ?? { x: 0, y: 0, angle: 0 };
+  const [ca, sa] = [Math.cos(m.angle), Math.sin(m.angle)];
+  const place = (px: number, py: number): [number, number] => [m.x + ca * px - sa * py, m.y + sa * px + ca * py];
+  const turn = (r: JointRange | null): JointRange | null => (r && m.angle !== 0 ? { min: r.min + m.angle, max: r.max + m.angle } : r);
+  const a1 = place(-g.base_span! / 2, 0);
+  const a2 = place(g.base_span! / 2, g.base_rise!);
   return {
-    pivotX: [-g.base_span! / 2, g.base_span! / 2],
-    pivotY: [0, g.base_rise!],
+    pivotX: [a1[0], a2[0]],
+    pivotY: [a1[1], a2[1]],
     crank,
     rod,
     sigma: [s1, s2],
     assembly: study.assemblyMode === '+' ? 1 : -1,
-    jointLimits: [study.jointLimits[0] ?? null, study.jointLimits[1] ?? null],
+    jointLimits: [turn(study.jointLimits[0] ?? null), turn(study.jointLimits[1] ?? null)],
     crankInertiaAboutPivot,
     crankFirstMoment,
     rodMass,

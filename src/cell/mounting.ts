@@ -8,8 +8,7 @@
  */
 import type { LeggedModel } from '../architectures/legged.js';
 import type { ArchitectureModelBase } from '../architectures/types.js';
-import type { ParameterSpec } from '../study/types.js';
-import { MOUNT_VARIABLES, type CellSpec, type Mount } from './types.js';
+import { MOUNT_VARIABLES, type CellParameter, type CellSpec, type Mount } from './types.js';
 
 function isLegged(model: ArchitectureModelBase): model is LeggedModel {
   return 'baseX' in model && 'railX' in model;
@@ -48,7 +47,7 @@ export function takeMount(cell: CellSpec | null | undefined, geometry: Record<st
   const mounting = cell?.mounting;
   if (!mounting) return undefined;
   const value = (name: (typeof MOUNT_VARIABLES)[number]): number => {
-    const spec: ParameterSpec = mounting[name];
+    const spec: CellParameter = mounting[name];
     const v = spec.kind === 'fixed' ? spec.value : geometry[name] ?? 0;
     delete geometry[name];
     return v;

@@ -10,7 +10,19 @@
  * outside), is ≥ 0. Accuracy: about one grid spacing on each side (the lattice step is at most the
  * grid spacing h); holes larger than a cell (keep-outs) are seen.
  */
-import type { MarginGrid } from '../mechanics/grid.js';
+/** A sampled, labelled grid (the workspace sampler's MarginGrid has these fields). */
+export interface LabelledGrid {
+  readonly nx: number;
+  readonly ny: number;
+  /** Node (0, 0) and spacing, m. */
+  readonly x0: number;
+  readonly y0: number;
+  readonly h: number;
+  /** Margin per node (≥ 0 inside), row-major. */
+  readonly values: Float64Array;
+  /** Region label per node (−1 outside). */
+  readonly labels: Int32Array;
+}
 
 /** A rectangle of the plane, m and rad: centre, width (along `angle`), height. */
 export interface PlacedRectangle {
@@ -22,7 +34,7 @@ export interface PlacedRectangle {
 }
 
 /** Bilinear margin of `region` at (x, y) on the grid (nodes of other regions negative); −1 off the grid. */
-export function regionMarginAt(grid: MarginGrid, region: number, x: number, y: number): number {
+export function regionMarginAt(grid: LabelledGrid, region: number, x: number, y: number): number {
   const { nx, ny, x0, y0, h, values, labels } = grid;
   const fi = (x - x0) / h;
   const fj = (y - y0) / h;
@@ -47,7 +59,7 @@ export class RegularWorkspaceFinder {
    * The largest rectangle with width/height = `aspect` at `angle` (rad) inside `region` of the grid,
    * or null when the region is empty (a single inside lattice point gives a zero-size rectangle).
    */
-  find(grid: MarginGrid, region: number, aspect = 1, angle = 0): PlacedRectangle | null {
+  find(grid: LabelledGrid, region: number, aspect = 1, angle = 0): PlacedRectangle | null {
     if (region < 0) return null;
     const c = Math.cos(angle);
     const s = Math.sin(angle);

@@ -3,7 +3,8 @@
  * checks, mounting variables and the regular workspace (docs/cell.md). Polygons are plain number
  * arrays of interleaved vertices (x0, y0, x1, y1, …) so the typed study hashes as canonical JSON.
  */
-import type { ParameterSpec } from '../study/types.js';
+/** A mounting value: fixed, or a design variable between bounds (m or rad; same shape as a geometry ParameterSpec). */
+export type CellParameter = { readonly kind: 'fixed'; readonly value: number } | { readonly kind: 'variable'; readonly min: number; readonly max: number };
 
 /** A zone of the plane: an axis-aligned or rotated rectangle, a circle, or a simple polygon. */
 export type CellShape =
@@ -34,9 +35,9 @@ export interface InterferenceSpec {
 
 /** Mounting of the base relative to the task frame: position (m) and angle (rad), each fixed or a design variable. */
 export interface MountingSpec {
-  readonly mount_x: ParameterSpec;
-  readonly mount_y: ParameterSpec;
-  readonly mount_angle: ParameterSpec;
+  readonly mount_x: CellParameter;
+  readonly mount_y: CellParameter;
+  readonly mount_angle: CellParameter;
 }
 
 export const MOUNT_VARIABLES = ['mount_x', 'mount_y', 'mount_angle'] as const;

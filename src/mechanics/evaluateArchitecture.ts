@@ -31,7 +31,7 @@ import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
 import type { Study } from '../study/types.js';
 import { mountModel } from '../cell/mounting.js';
-import { CellAnalysis } from '../cell/analysis.js';
+import { CellAnalysis } from './cellMetrics.js';
 
 export { architectureUsableMargin };
 

@@ -12,7 +12,7 @@ import { METRICS, metricIndex } from '../mechanics/metrics.js';
 import type { Study } from '../study/types.js';
 import { formatQuantity } from '../study/units.js';
 import { architectureMapSpec, type ArchitectureMapSpec, type MapCellLayer } from './architectureMap.js';
-import { CellAnalysis } from '../cell/analysis.js';
+import { CellAnalysis } from '../mechanics/cellMetrics.js';
 import { rectanglePolygon } from '../cell/geometry.js';
 import { shapeOutline } from '../cell/taskShapes.js';
 import type { Mount } from '../cell/types.js';

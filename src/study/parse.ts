@@ -4,7 +4,7 @@
  * editors can use the same file), then the unit conversion and cross-field checks here.
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import { mountBaseline, studyCell } from '../cell/parse.js';
+import { mountBaseline, studyCell } from './cell.js';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';

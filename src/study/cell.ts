@@ -1,12 +1,11 @@
 /**
- * Parsing of the study's `cell` section (docs/cell.md) into a CellSpec, SI units. The JSON Schema
+ * Parsing of the study's `cell` section (docs/cell.md) into a CellSpec (src/cell/types.ts), SI units. The JSON Schema
  * (src/study/study.schema.json, definitions/cell) checks the shape first; this checks the values.
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import { parseQuantity, type QuantityKind } from '../study/units.js';
-import type { ParameterSpec } from '../study/types.js';
-import { polygonSelfIntersects, polygonSignedArea } from './geometry.js';
-import { MOUNT_VARIABLES, type CellShape, type CellSpec, type Housing, type InterferenceSpec, type MountingSpec, type NamedShape } from './types.js';
+import { parseQuantity, type QuantityKind } from './units.js';
+import { polygonSelfIntersects, polygonSignedArea } from '../cell/geometry.js';
+import { MOUNT_VARIABLES, type CellParameter, type CellShape, type CellSpec, type Housing, type InterferenceSpec, type MountingSpec, type NamedShape } from '../cell/types.js';
 
 type Json = unknown;
 type JsonObject = { readonly [key: string]: Json };
@@ -177,7 +176,7 @@ function parseMounting(raw: JsonObject): MountingSpec {
   for (const key of Object.keys(raw)) {
     if (!(MOUNT_VARIABLES as readonly string[]).includes(key)) throw new CellSettingsError(`cell.mounting.${key}: unknown (mount_x, mount_y, mount_angle)`);
   }
-  const spec = (name: string, kind: QuantityKind): ParameterSpec => {
+  const spec = (name: string, kind: QuantityKind): CellParameter => {
     const value = raw[name];
     const where = `cell.mounting.${name}`;
     if (value === undefined) return { kind: 'fixed', value: 0 };

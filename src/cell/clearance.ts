@@ -216,10 +216,12 @@ export class CellChecker {
     for (let a = 0; a < count; a++) {
       const o = 8 * a;
       const ax = seg[o]!, ay = seg[o + 1]!, bx = seg[o + 2]!, by = seg[o + 3]!, w = seg[o + 4]!;
-      // Zones whose bounding box lies farther than the best clearance so far cannot lower it.
+      // A zone whose bounding box is apart from the segment's by more than the best clearance so far
+      // cannot lower it (apart boxes: the distance is at least their gap; touching boxes are always checked).
       for (let k = 0; k < this.keepOuts.length; k++) {
         const z = this.keepOuts[k]!;
-        if (boxGap(ax, ay, bx, by, z) - w / 2 >= best) continue;
+        const gap = boxGap(ax, ay, bx, by, z);
+        if (gap > 0 && gap - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, z);
         if (v < best) { best = v; source = 'keep-out'; }
       }
@@ -227,7 +229,8 @@ export class CellChecker {
         const hz = this.housings[i];
         // A crank or strut is carried by its own housing.
         if (!hz || (seg[o + 5] === i && (seg[o + 6] === CRANK || this.model!.legs[i]!.name === 'strut'))) continue;
-        if (boxGap(ax, ay, bx, by, hz) - w / 2 >= best) continue;
+        const gap = boxGap(ax, ay, bx, by, hz);
+        if (gap > 0 && gap - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, hz);
         if (v < best) { best = v; source = 'housing'; }
       }

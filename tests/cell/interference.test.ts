@@ -96,6 +96,30 @@ describe('link against link', () => {
   });
 });
 
+describe('keep-outs against a link', () => {
+  it('the deepest of two keep-outs counts, whichever is checked first (no pruning past a penetration)', () => {
+    // Derived here: crank 1 at 45° runs from A1 = (−0.1, 0) along e = (1, 1)/√2; n = (−1, 1)/√2 is across it.
+    // Keep-out A (0.05 along e, 0.1 across) spans −0.005 … 0.095 across the centre line at 0.2 of the crank:
+    // the chord's midpoint is 0.005 deep → −0.005 − w/2. Keep-out B (0.03 along, 0.06 across) sits on the
+    // line at 0.5 of the crank: the midpoint is 0.015 deep (half its length along e) → −0.015 − w/2.
+    const { model, pose } = fiveBarAt(Math.PI / 4, (3 * Math.PI) / 4);
+    const at = (t: number, across: number): [number, number] => [-0.1 + (0.2 * t - across) / SQ, (0.2 * t + across) / SQ];
+    const [ax, ay] = at(0.2, 0.045);
+    const [bx, by] = at(0.5, 0);
+    const a = { name: 'A', shape: 'rectangle' as const, centreX: ax, centreY: ay, width: 0.05, height: 0.1, angle: Math.PI / 4 };
+    const b = { name: 'B', shape: 'rectangle' as const, centreX: bx, centreY: by, width: 0.03, height: 0.06, angle: Math.PI / 4 };
+    for (const keepOuts of [[a, b], [b, a]]) {
+      const checker = new CellChecker(spec({ links: false, crankWidth: [0.01, 0.01] }, { keepOuts }), 2);
+      checker.prepare(model);
+      expect(checker.clearance(pose)).toBeCloseTo(-0.015 - 0.005, 12);
+    }
+    // Negative control: A alone gives its own, shallower value.
+    const alone = new CellChecker(spec({ links: false, crankWidth: [0.01, 0.01] }, { keepOuts: [a] }), 2);
+    alone.prepare(model);
+    expect(alone.clearance(pose)).toBeCloseTo(-0.005 - 0.005, 12);
+  });
+});
+
 describe('housings at the pivots', () => {
   it('two round housings on a 40 mm span overlap by their radii less the span', () => {
     // Derived here: circles of radius 45 mm whose centres are 40 mm apart: clearance 0.04 − 0.09 = −0.05 m.

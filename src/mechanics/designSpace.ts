@@ -1,13 +1,11 @@
 /**
  * Design space of a study: which parameters the optimizer varies, how a design vector maps to a
  * full geometry (ties resolved), and how a geometry plus the study's masses and drives become the
- * architecture's model input (`modelInput`). Transitional: `buildFiveBarModel` builds the five-bar's
- * former model type for the duty-cycle analysis, simulation and five-bar sheets that still take it.
+ * architecture's model input (`modelInput`).
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import type { FiveBarModel } from './fivebar.js';
 import { ARCHITECTURES } from '../architectures/index.js';
-import type { ActuatorKind, ArchitectureName, DriveAtJoint, JointRange, LinkSection, ModelInput } from '../architectures/types.js';
+import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelInput } from '../architectures/types.js';
 import { driveAtJoint } from '../study/drives.js';
 import { takeMount } from '../cell/mounting.js';
 import { MOUNT_VARIABLES, type Mount } from '../cell/types.js';
@@ -206,61 +204,6 @@ export function movingMass(study: Study, geometry: Readonly<Record<string, numbe
     2 * study.elbowHubMass +
     study.endHubMass
   );
-}
-
-/** Build the immutable model of one design. */
-export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveBarModel {
-  if (study.architecture !== 'five-bar' || study.members) throw new Error(`buildFiveBarModel: the study's architecture is ${study.members ? 'a comparison' : study.architecture}; use buildArchitectureModel`);
-  const g = resolved.geometry;
-  const crank = [g.crank_1!, g.crank_2!] as const;
-  const rod = [g.rod_1!, g.rod_2!] as const;
-  const cranks = [study.links.cranks[0]!, study.links.cranks[1]!] as const;
-  const rods = [study.links.rods[0]!, study.links.rods[1]!] as const;
-  const hub = study.elbowHubMass;
-
-  // Uniform bar about one end: I = m L²/3, first moment m L/2; elbow hub is a point mass at the crank end.
-  const crankMass = [cranks[0].massPerLength * crank[0], cranks[1].massPerLength * crank[1]] as const;
-  const crankInertiaAboutPivot = [
-    (crankMass[0] * crank[0] ** 2) / 3 + hub * crank[0] ** 2,
-    (crankMass[1] * crank[1] ** 2) / 3 + hub * crank[1] ** 2,
-  ] as const;
-  const crankFirstMoment = [(crankMass[0] * crank[0]) / 2 + hub * crank[0], (crankMass[1] * crank[1]) / 2 + hub * crank[1]] as const;
-  const rodMass = [rods[0].massPerLength * rod[0], rods[1].massPerLength * rod[1]] as const;
-
-  const drives = resolved.drives;
-  const reflected = (i: 0 | 1): number => (drives ? drives[i]!.gearRatio ** 2 * drives[i]!.rotorInertia + drives[i]!.gearInertia : 0);
-  const jointStiffness = (i: 0 | 1): number => (drives ? drives[i]!.jointStiffness : Infinity);
-  const bending = (i: 0 | 1): number =>
-    crank[i] ** 2 / jointStiffness(i) + crank[i] ** 3 / (3 * cranks[i].youngsModulus * cranks[i].secondMoment);
-  const [s1, s2] = resolved.workingMode === '++' ? [1, 1] : resolved.workingMode === '+-' ? [1, -1] : resolved.workingMode === '-+' ? [-1, 1] : [-1, -1];
-
-  // Mounting (docs/cell.md): pivots placed by m + R(a) p, crank ranges turned by a (as mountModel).
-  const m = resolved.mount ?? { x: 0, y: 0, angle: 0 };
-  const [ca, sa] = [Math.cos(m.angle), Math.sin(m.angle)];
-  const place = (px: number, py: number): [number, number] => [m.x + ca * px - sa * py, m.y + sa * px + ca * py];
-  const turn = (r: JointRange | null): JointRange | null => (r && m.angle !== 0 ? { min: r.min + m.angle, max: r.max + m.angle } : r);
-  const a1 = place(-g.base_span! / 2, 0);
-  const a2 = place(g.base_span! / 2, g.base_rise!);
-  return {
-    pivotX: [a1[0], a2[0]],
-    pivotY: [a1[1], a2[1]],
-    crank,
-    rod,
-    sigma: [s1, s2],
-    assembly: study.assemblyMode === '+' ? 1 : -1,
-    jointLimits: [turn(study.jointLimits[0] ?? null), turn(study.jointLimits[1] ?? null)],
-    crankInertiaAboutPivot,
-    crankFirstMoment,
-    rodMass,
-    rodComDistance: [rod[0] / 2, rod[1] / 2],
-    rodInertiaAboutCom: [(rodMass[0] * rod[0] ** 2) / 12, (rodMass[1] * rod[1] ** 2) / 12],
-    endMass: study.endHubMass + study.payloadMass,
-    reflectedInertia: [reflected(0), reflected(1)],
-    gravity: study.gravity,
-    complianceBending: [bending(0), bending(1)],
-    complianceCrankAxial: [crank[0] / (cranks[0].youngsModulus * cranks[0].area), crank[1] / (cranks[1].youngsModulus * cranks[1].area)],
-    complianceRodAxial: [rod[0] / (rods[0].youngsModulus * rods[0].area), rod[1] / (rods[1].youngsModulus * rods[1].area)],
-  };
 }
 
 /** A link section of the study as the architecture models take it. */

@@ -2,7 +2,8 @@
  * Forward simulation of one design of any architecture that describes its bodies
  * (PlanarArchitecture.cutOpenChain) along a duty cycle: the cut-open chain of legChain.ts with the
  * loop closures held by Lagrange multipliers and Baumgarte stabilisation, integrated by ODEX between
- * the instants where the desired motion is not smooth, as simulate.ts does for the five-bar. The
+ * the instants where the desired motion is not smooth (the five-bar included; simulate.ts is its
+ * entry by body data). The
  * actuated joints follow the cycle's q_d(t), q̇_d, q̈_d (inverse kinematics and the acceleration
  * analysis of dutyCycle.ts) under the same controllers:
  *
@@ -34,8 +35,8 @@ import {
   type SimulationOptions,
   type SimulationResult,
   type SimulationSeries,
-} from './simulate.js';
-import { DEFAULT_STABILISATION_RATE } from './freeChain.js';
+  DEFAULT_STABILISATION_RATE,
+} from './shared.js';
 
 /** Options of `simulateArchitecture`: as `simulate`, with the initial state in cut-chain coordinates (z then ż). */
 export type ArchitectureSimulationOptions = Omit<SimulationOptions, 'initialState'> & { readonly initialState?: ArrayLike<number> };

@@ -9,9 +9,10 @@ import type { ActuatorKind, ArchitectureModelBase, PlanarArchitecture } from '..
 import { drivesAtJoint } from '../mechanics/designSpace.js';
 import { CycleSamples, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, evaluatedCycleTime, type CyclePath, type JointFriction } from '../mechanics/dutyCycle.js';
 import { Evaluator } from '../mechanics/evaluate.js';
-import type { FiveBarModel } from '../mechanics/fivebar.js';
+import type { LeggedModel } from '../architectures/legged.js';
 import type { Study } from '../study/types.js';
-import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './simulate.js';
+import { fiveBarBodiesOf, type FiveBarBodies } from './fiveBarBodies.js';
+import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './shared.js';
 import { simulateArchitecture } from './simulateArchitecture.js';
 
 /** Everything a simulation of one study design needs. */
@@ -24,8 +25,8 @@ export interface StudySimulationSetup {
   readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
   readonly architectureModel: ArchitectureModelBase;
   readonly actuators: readonly ActuatorKind[];
-  /** Five-bar studies: the former five-bar engine model (for simulate.ts and the closed-form checks); null for other architectures. */
-  readonly model: FiveBarModel | null;
+  /** Five-bar studies: the design's bodies in the five-bar layout (what `simulate` takes); null for other architectures. */
+  readonly model: FiveBarBodies | null;
   /** The duty cycle at the evaluated pace. */
   readonly trajectory: CycleTrajectory;
   readonly cycleTime: number;
@@ -90,7 +91,7 @@ export function prepareStudySimulation(study: Study, overrides: readonly string[
     architecture,
     architectureModel,
     actuators: architecture.actuators,
-    model: isFiveBar ? evaluator.model(choice.design) : null,
+    model: isFiveBar ? fiveBarBodiesOf(architectureModel as LeggedModel) : null,
     trajectory,
     cycleTime: trajectory.cycleTime,
     limits,

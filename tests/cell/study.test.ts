@@ -8,7 +8,6 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { parseStudyText } from '../../src/study/parse.js';
 import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.js';
-import { Evaluator } from '../../src/mechanics/evaluate.js';
 import { designFromValues } from '../../src/mechanics/designSpace.js';
 import { METRIC_NAMES, metricIndex } from '../../src/core/metrics.js';
 
@@ -85,21 +84,6 @@ describe('cell section', () => {
     const ev = new ArchitectureEvaluator(s);
     const off = ev.evaluate(designFromValues(ev.variables, { ...s.baseline, mount_x: 0.125, mount_y: -0.0625 })).metrics;
     expect(Math.abs(off[metricIndex('gci')]! - home[metricIndex('gci')]!)).toBeGreaterThan(1e-4);
-  });
-  it('the five-bar’s former model (simulation path) carries the same mounted pivots and ranges as the architecture model', () => {
-    const s = study('cell:\n  mounting: { mount_x: 30 mm, mount_y: { min: -50 mm, max: 50 mm }, mount_angle: 0.2 }');
-    const ev = new Evaluator(s);
-    const design = designFromValues(ev.variables, { ...s.baseline, mount_y: 0.04 });
-    const former = ev.model(design);
-    const model = ev.architectureDesign(design).model as unknown as { baseX: number[]; baseY: number[]; jointLimits: { min: number; max: number }[] };
-    for (let i = 0; i < 2; i++) {
-      expect(former.pivotX[i]).toBeCloseTo(model.baseX[i]!, 15);
-      expect(former.pivotY[i]).toBeCloseTo(model.baseY[i]!, 15);
-      expect(former.jointLimits[i]!.min).toBeCloseTo(model.jointLimits[i]!.min, 15);
-    }
-    // Derived here: pivot 1 of the parcel-sorter baseline (base_span 200 mm) at (−0.1, 0) lands at (0.03, 0.04) + R(0.2)(−0.1, 0).
-    expect(former.pivotX[0]).toBeCloseTo(0.03 - 0.1 * Math.cos(0.2), 15);
-    expect(former.pivotY[0]).toBeCloseTo(0.04 - 0.1 * Math.sin(0.2), 15);
   });
   it('refuses a baseline mount value for a fixed mounting and a self-crossing keep-out', () => {
     expect(() => study('cell:\n  mounting: { mount_x: 10 mm }', [['baseline:\n', 'baseline:\n  mount_x: 0 mm\n']])).toThrow(/not a design variable/);

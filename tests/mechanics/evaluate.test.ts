@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import { Matrix, SingularValueDecomposition } from 'ml-matrix';
 import { Evaluator } from '../../src/mechanics/evaluate.js';
-import { FiveBarPose, PoseStatus, poseDynamics, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, PoseStatus, poseDynamics, solvePose, type FiveBarModel } from '../helpers/fiveBarClosedForm.js';
 import { METRICS, metricIndex, metricUnavailable } from '../../src/mechanics/metrics.js';
 import { CELL_METRIC_NAMES } from '../../src/core/metrics.js';
 import type { Study } from '../../src/study/types.js';

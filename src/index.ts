@@ -92,3 +92,9 @@ export { probeArchitectureDesign } from './api/design.js';
 export { LoopsmithUserError } from './core/errors.js';
 export { candidateExport } from './export/candidate.js';
 export { renderArchitectureMap } from './report/architectureMap.js';
+
+// Drive trains: motor and gearbox catalogues, envelopes, checks along the cycle (docs/drives.md)
+export type { MotorSpec, GearboxSpec, LinearStageSpec, DriveTrain, TorqueSpeedCurve } from './drives/types.js';
+export { curveTorque, cornerEnvelopes, motorTorque, jointPeakEffortAtSpeed } from './drives/envelope.js';
+export { readMotors, readGearboxes, composeDrive } from './study/driveTrains.js';
+export { compareFormulations, type FormulationReport, type FormulationComparison } from './simulate/driveSimulation.js';

@@ -12,6 +12,7 @@ import type { Study } from '../study/types.js';
 import type { DesignVariable } from '../mechanics/designSpace.js';
 import { evaluateDesign } from './design.js';
 import { mirrorLimitWarning, unreachableTaskProblems } from './plausibility.js';
+import { driveTrainSummary, staticSizingNote } from './driveNotes.js';
 import { formatMetric, formatValue, table } from './text.js';
 
 /** Whether the baseline meets the constraints (null: not evaluated), the failing ones, and a line saying so. */
@@ -50,7 +51,8 @@ export function checkStudy(loaded: LoadedStudy, source: string = loaded.source):
   const problems = unreachableTaskProblems(loaded.study);
   if (problems.length > 0) throw new StudyError(`${source}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
   const mirror = mirrorLimitWarning(loaded.study);
-  const warnings = mirror ? [mirror.message] : [];
+  const sizing = staticSizingNote(loaded.study);
+  const warnings = [...(mirror ? [mirror.message] : []), ...(sizing ? [sizing] : [])];
   const baseline = baselineVerdict(loaded.study);
   return {
     warnings,
@@ -187,6 +189,8 @@ function driveLines(study: Study): string[] {
           : `drive ${i + 1}: ${d.label}: ratio ${d.gearRatio}, η ${d.efficiency}, rated ${formatValue(d.ratedTorque, 'torque')}, peak ${formatValue(d.peakTorque, 'torque')}, max ${formatValue(d.maxSpeed, 'angularSpeed')} (motor side)${d.lead !== undefined ? `, lead ${formatValue(d.lead, 'length')} per turn` : ''}`,
       ),
     );
+  } else if (study.driveTrains) {
+    lines.push(driveTrainSummary(study.driveTrains));
   } else if (study.driveChoice.kind !== 'fixed') {
     lines.push(`drives: chosen by the optimizer (${study.driveChoice.kind === 'shared' ? 'one option for both actuators' : 'one option per actuator'}) from ${study.driveChoice.options.map((o) => o.label).join(', ')}`);
   } else {

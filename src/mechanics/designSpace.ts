@@ -9,6 +9,7 @@ import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelIn
 import { driveAtJoint } from '../study/drives.js';
 import { takeMount } from '../cell/mounting.js';
 import { MOUNT_VARIABLES, type Mount } from '../cell/types.js';
+import { composeDrives, driveTrainVariables, type DriveTrainVariable } from './driveVariables.js';
 import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
 /**
@@ -16,7 +17,8 @@ import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '
  * `study.members`); their names carry the member's prefix (`fivebar_crank_1`, `prr2_rod_1`, …).
  */
 export type DesignVariable =
-  | { readonly name: string; readonly kind: 'real'; readonly min: number; readonly max: number; readonly member?: number }
+  | { readonly name: string; readonly kind: 'real'; readonly min: number; readonly max: number; readonly member?: number; readonly role?: undefined }
+  | DriveTrainVariable
   | { readonly name: string; readonly kind: 'categorical'; readonly role: 'working_mode'; readonly choices: readonly string[]; readonly member?: number }
   | {
       readonly name: string;
@@ -65,6 +67,7 @@ export function designVariables(study: Study): DesignVariable[] {
       for (let i = 0; i < n; i++) out.push({ name: `drive_${i + 1}`, kind: 'categorical', role: 'drive', actuators: [i], choices: labels, options: choice.options });
     }
   }
+  if (study.driveTrains) out.push(...driveTrainVariables(study.driveTrains, architecture.dof));
   // Mounting of the base in the cell (docs/cell.md), last so earlier variables keep their places.
   const mounting = study.cell?.mounting;
   if (mounting) {
@@ -123,13 +126,16 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
   let workingMode = study.workingModes[0]!;
   let drives: DriveSpec[] | null = study.drives ? [...study.drives] : null;
   const chosen: (DriveSpec | undefined)[] = [];
+  const trainValues: { variable: DriveTrainVariable; value: number }[] = [];
   variables.forEach((v, k) => {
     const index = Math.round(design[k]!);
-    if (v.kind === 'real') geometry[v.name] = design[k]!;
+    if (v.role === 'motor' || v.role === 'gearbox' || v.role === 'gear_ratio') trainValues.push({ variable: v, value: design[k]! });
+    else if (v.kind === 'real') geometry[v.name] = design[k]!;
     else if (v.role === 'working_mode') workingMode = v.choices[index]!;
     else if (v.role === 'drive') for (const a of v.actuators) chosen[a] = v.options[index]!;
   });
   if (chosen.length === architecture.dof && chosen.every((d) => d !== undefined)) drives = chosen as DriveSpec[];
+  if (study.driveTrains && trainValues.length > 0) drives = composeDrives(study.driveTrains, architecture.actuators, trainValues);
   for (const { name } of architecture.parameters) {
     const spec = study.geometry[name]!;
     if (spec.kind === 'fixed') geometry[name] = spec.value;
@@ -255,7 +261,8 @@ export function studyActuators(study: Study, values?: Readonly<Record<string, un
 }
 
 /** Quantity kind of a design variable's value: angle for angle parameters, else length (categorical values are text). */
-export function variableKind(study: Study, name: string): 'angle' | 'length' {
+export function variableKind(study: Study, name: string): 'angle' | 'length' | 'dimensionless' {
+  if (/^(?:[a-z0-9]+_)?gear_ratio(_[123])?$/.test(name)) return 'dimensionless';
   if (name === 'mount_angle' || name.endsWith('_mount_angle')) return 'angle';
   const architectures = study.members ? study.members.map((m) => m.architecture) : [study.architecture];
   for (const a of architectures) {

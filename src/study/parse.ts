@@ -18,10 +18,12 @@ import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction
 import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
+import { buildDriveTrainSetup, fixedDrives } from './driveTrains.js';
 import {
   ARCHITECTURE_PREFIX,
   type ConstraintSpec,
   type DriveSpec,
+  type DriveTrainSetup,
   type DutyCycleSpec,
   type EvaluationSettings,
   type LinkSpec,
@@ -167,17 +169,27 @@ const ATTACHMENT_KEY = 'loopsmith_attachment';
 export function bundleAttachments(text: string, studyPath: string): string {
   const doc = parseDocument(text);
   if (doc.errors.length > 0) return text; // parseStudyText reports it
-  const catalogue = doc.getIn(['drives', 'catalogue']);
-  if (typeof catalogue !== 'string' || hasAttachments(text)) return text;
-  const file = resolve(dirname(studyPath), catalogue);
-  let content: string;
-  try {
-    content = readFileSync(file, 'utf8');
-  } catch (error) {
-    const code = (error as NodeJS.ErrnoException).code;
-    throw new StudyError(`${studyPath}: drives.catalogue: cannot read "${catalogue}" (${code ?? String(error)}; the path is relative to the study file)`);
+  if (hasAttachments(text)) return text;
+  let out = text;
+  const seen = new Set<string>();
+  const members = doc.getIn(['members']) as { items?: { key?: { value?: unknown } }[] } | undefined;
+  const memberNames = (members?.items ?? []).map((item) => item.key?.value).filter((v): v is string => typeof v === 'string');
+  const places = [['drives'], ...memberNames.map((m) => ['members', m, 'drives'])];
+  for (const [place, key] of places.flatMap((p) => ['catalogue', 'motors', 'gearboxes'].map((k) => [p, k] as const))) {
+    const catalogue = doc.getIn([...place, key]);
+    if (typeof catalogue !== 'string' || seen.has(catalogue)) continue;
+    seen.add(catalogue);
+    const file = resolve(dirname(studyPath), catalogue);
+    let content: string;
+    try {
+      content = readFileSync(file, 'utf8');
+    } catch (error) {
+      const code = (error as NodeJS.ErrnoException).code;
+      throw new StudyError(`${studyPath}: drives.${key}: cannot read "${catalogue}" (${code ?? String(error)}; the path is relative to the study file)`);
+    }
+    out = `${out.endsWith('\n') ? out : out + '\n'}---\n${stringify({ [ATTACHMENT_KEY]: catalogue, content })}`;
   }
-  return `${text.endsWith('\n') ? text : text + '\n'}---\n${stringify({ [ATTACHMENT_KEY]: catalogue, content })}`;
+  return out;
 }
 
 function hasAttachments(text: string): boolean {
@@ -272,6 +284,7 @@ export function studySettingsHash(study: Study): string {
     // Added only when present, so studies without them keep their earlier hashes.
     dutyCycle: study.dutyCycle ?? undefined,
     friction: study.friction ?? undefined,
+    driveTrains: study.driveTrains ?? undefined,
     sliderMass: study.sliderMass,
     platform: study.platform ?? undefined,
     orientation: study.orientation ?? undefined,
@@ -415,7 +428,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
   const { links, elbowHubMass, endHubMass, payloadMass, sliderMass, platform } = parseMass(isObject(data['mass']) ? data['mass'] : {}, context);
   const gravity = parseGravity(data['gravity'] ?? 'vertical');
   const drivesIn = isObject(data['drives']) ? data['drives'] : undefined;
-  const { drives, torqueSafetyFactor, driveCatalogue, driveChoice } = parseDrives(drivesIn, attachments, context);
+  const { drives, torqueSafetyFactor, driveCatalogue, driveChoice, driveTrains } = parseDrives(drivesIn, attachments, context);
   const orientation = parseOrientation(data['orientation'], context);
   const task = parseTask(isObject(data['task']) ? data['task'] : {});
   const region = task.region;
@@ -458,6 +471,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     drives,
     driveChoice,
     driveCatalogue,
+    ...(driveTrains ? { driveTrains } : {}),
     torqueSafetyFactor,
     task,
     evaluation,
@@ -628,18 +642,22 @@ interface DrivesSection {
   readonly torqueSafetyFactor: number;
   readonly driveCatalogue: Study['driveCatalogue'];
   readonly driveChoice: Study['driveChoice'];
+  readonly driveTrains: DriveTrainSetup | null;
 }
 
 /** `drives:` — fixed drives (`both` / `actuator_i`, inline or by catalogue name), or `choose` among catalogue options. */
 function parseDrives(drivesIn: JsonObject | undefined, attachments: ReadonlyMap<string, string>, context: SectionContext): DrivesSection {
   const { architectureName, n } = context;
-  if (!drivesIn) return { drives: null, torqueSafetyFactor: 1.5, driveCatalogue: null, driveChoice: { kind: 'fixed' } };
+  if (!drivesIn) return { drives: null, torqueSafetyFactor: 1.5, driveCatalogue: null, driveChoice: { kind: 'fixed' }, driveTrains: null };
   if (drivesIn['actuator_3'] !== undefined && n < 3) throw new StudyError(`drives.actuator_3: the ${architectureName} has ${n} actuators`);
   const driveCatalogue = typeof drivesIn['catalogue'] === 'string' ? parseDriveCatalogue(drivesIn['catalogue'], attachments, context) : null;
   let drives: DriveSpec[] | null = null;
   let driveChoice: Study['driveChoice'] = { kind: 'fixed' };
+  const driveTrains: DriveTrainSetup | null = buildDriveTrainSetup(drivesIn, attachments, context.architecture.actuators);
   const choose = drivesIn['choose'] as 'shared' | 'per-actuator' | undefined;
-  if (choose) {
+  if (driveTrains) {
+    drives = fixedDrives(driveTrains, context.architecture.actuators);
+  } else if (choose) {
     if (!driveCatalogue) throw new StudyError('drives.choose: needs drives.catalogue (the options to choose from)');
     const choices = drivesIn['choices'] as string[] | undefined;
     const options = choices ? choices.map((name) => findOption(driveCatalogue.options, name, 'drives.choices')) : driveCatalogue.options;
@@ -650,7 +668,7 @@ function parseDrives(drivesIn: JsonObject | undefined, attachments: ReadonlyMap<
     for (let i = 0; i < n; i++) drives.push(pickDrive(drivesIn, `actuator_${i + 1}`, driveCatalogue, context));
   }
   const torqueSafetyFactor = typeof drivesIn['torque_safety_factor'] === 'number' ? drivesIn['torque_safety_factor'] : 1.5;
-  return { drives, torqueSafetyFactor, driveCatalogue, driveChoice };
+  return { drives, torqueSafetyFactor, driveCatalogue, driveChoice, driveTrains };
 }
 
 /** `drives.catalogue:` — the attached catalogue file's options, each a drive with a unique name. */
@@ -871,6 +889,10 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
       out[name] = mount;
       continue;
     }
+    if (/^(motor|gearbox|gear_ratio)(_[123])?$/.test(name)) {
+      out[name] = driveTrainBaseline(name, value, study, where);
+      continue;
+    }
     const parameters = ARCHITECTURES[study.architecture].parameters;
     const info = parameters.find((p) => p.name === name);
     if (!info) {
@@ -891,6 +913,24 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     out[name] = v;
   }
   return out;
+}
+
+/** A baseline value of a drive-train variable (motor, gearbox, gear_ratio; docs/drives.md). */
+function driveTrainBaseline(name: string, value: Json, study: Omit<Study, 'baseline'>, where: string): string | number {
+  const setup = study.driveTrains;
+  const n = ARCHITECTURES[study.architecture].dof;
+  const base = name.replace(/_[123]$/, '');
+  const perActuator = name !== base;
+  const list = base === 'motor' ? setup?.motors : base === 'gearbox' ? setup?.gearboxes : undefined;
+  const active = setup && (base === 'gear_ratio' ? setup.ratio !== null : (list?.length ?? 0) > 1) && perActuator === (setup.choose === 'per-actuator') && (!perActuator || Number(name.slice(-1)) <= n);
+  if (!active) throw new StudyError(`${where}: "${name}" is not a design variable in this study (see drives.motors, drives.gearboxes, drives.gear_ratio and drives.choose)`);
+  if (base === 'gear_ratio') {
+    const v = q(value, 'dimensionless', where);
+    if (v < setup!.ratio!.min || v > setup!.ratio!.max) throw new StudyError(`${where}: ${v} lies outside drives.gear_ratio [${setup!.ratio!.min}, ${setup!.ratio!.max}]`);
+    return v;
+  }
+  if (typeof value !== 'string' || !list!.some((o) => o.name === value)) throw new StudyError(`${where}: must be one of ${JSON.stringify(list!.map((o) => o.name))}`);
+  return value;
 }
 
 function buildLink(raw: Json | undefined, where: string): LinkSpec {

@@ -110,6 +110,7 @@ function memberSummary(study: Study): string {
   lines.push(...driveLines(study), ...taskLines(study));
   const e = study.evaluation;
   lines.push(`evaluation: ${e.gridCells} grid cells, ${e.taskSamples} task samples, 1/κ ≥ ${e.minInverseCondition}, transmission angle ≥ ${formatValue(e.minTransmissionAngle, 'angle')}`);
+  if (study.cell) lines.push(cellLine(study.cell));
   lines.push('', table(['objective', 'sense', 'meaning'], study.objectives.map((o) => [o.metric, o.sense, metricInfo(o.metric)!.description])));
   const constraints = constraintTable(study);
   if (constraints) lines.push('', constraints);
@@ -117,6 +118,22 @@ function memberSummary(study: Study): string {
   const stop = t.kind === 'generations' ? `${t.generations} generations (fixed)` : `until the front improves by less than ${t.tolerance * 100} % over ${t.window} generations, at most ${t.maxEvaluations} evaluations`;
   lines.push('', `optimizer: population ${study.optimizer.population}, seed ${study.optimizer.seed}; runs ${stop}`);
   return lines.join('\n');
+}
+
+/** One line on the cell section (docs/cell.md). */
+function cellLine(cell: NonNullable<Study['cell']>): string {
+  const parts: string[] = [];
+  if (cell.zones.length > 0) parts.push(`zones ${cell.zones.map((z) => z.name).join(', ')}`);
+  if (cell.cycleAsTask) parts.push('the duty cycle as a task');
+  if (cell.keepOuts.length > 0) parts.push(`keep-outs ${cell.keepOuts.map((z) => z.name).join(', ')}`);
+  const i = cell.interference;
+  if (i) {
+    const checks = [i.links ? 'links' : '', i.housings.some((h) => h) ? 'housings' : '', i.passiveMinAngle !== null ? `passive joints ≥ ${formatValue(i.passiveMinAngle, 'angle')}` : '', i.sliderLength !== null ? `slider gap (carriage ${formatValue(i.sliderLength, 'length')})` : ''];
+    parts.push(`interference: ${checks.filter((c) => c).join(', ') || 'none'}`);
+  }
+  if (cell.allowance > 0) parts.push(`clearance ${formatValue(cell.allowance, 'length')}`);
+  parts.push(`regular workspace ${cell.regular.aspect}:1 at ${formatValue(cell.regular.angle, 'angle')}`);
+  return `cell: ${parts.join('; ')}`;
 }
 
 /** Every parameter: fixed, tied or variable, with bounds and baseline. */
@@ -128,6 +145,16 @@ function geometryTable(study: Study): string {
     if (spec.kind === 'tied') return [name, 'tied', `= ${spec.to}`, ''];
     return [name, 'variable', `${formatValue(spec.min, kind)} … ${formatValue(spec.max, kind)}`, study.baseline[name] !== undefined ? formatValue(study.baseline[name] as number, kind) : '(none)'];
   });
+  // Mounting of the base in the cell (docs/cell.md).
+  const mounting = study.cell?.mounting;
+  if (mounting) {
+    for (const name of ['mount_x', 'mount_y', 'mount_angle'] as const) {
+      const spec = mounting[name];
+      const kind = name === 'mount_angle' ? 'angle' : 'length';
+      if (spec.kind === 'fixed') rows.push([name, 'fixed', formatValue(spec.value, kind), '']);
+      else rows.push([name, 'variable', `${formatValue(spec.min, kind)} … ${formatValue(spec.max, kind)}`, study.baseline[name] !== undefined ? formatValue(study.baseline[name] as number, kind) : '(none)']);
+    }
+  }
   return table(['parameter', 'kind', 'value or bounds', 'baseline'], rows);
 }
 

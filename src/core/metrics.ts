@@ -67,6 +67,15 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'brake_use', kind: 'dimensionless', better: 'min', description: 'brake factor times the largest static holding torque, referred to the motor, over the brake holding torque (worst actuator)' },
   { name: 'drive_cost', kind: 'dimensionless', better: 'min', description: 'sum of the chosen motors\' and gearboxes\' catalogue costs over the actuators (catalogue currency; NaN when a cost is not given)' },
   { name: 'accel_capability_at_speed', kind: 'acceleration', better: 'max', description: 'end-point acceleration available in every direction while moving at the required speed (peak envelope at that motor speed), at the worst pose' },
+  // The machine in its cell (studies with a cell section; NaN otherwise); see docs/cell.md.
+  { name: 'min_clearance', kind: 'length', better: 'max', description: 'smallest clearance of the links from keep-outs, the other legs, the drive housings and between sliders, over the task region, zones and duty cycle, after the required clearance (negative = collision)' },
+  { name: 'passive_joint_margin', kind: 'angle', better: 'max', description: 'smallest included angle at a passive joint minus its limit, over the task region, zones and duty cycle (negative = beyond the limit)' },
+  { name: 'zone_coverage', kind: 'dimensionless', better: 'max', description: 'worst covered fraction of a task zone (pick, place, …) inside the usable workspace (1 = every zone whole)' },
+  { name: 'cycle_coverage', kind: 'dimensionless', better: 'max', description: 'fraction of the duty-cycle path inside the usable workspace (1 = all of it)' },
+  { name: 'regular_workspace_area', kind: 'area', better: 'max', description: 'area of the largest rectangle of the study aspect ratio and angle (a square by default) inside the usable workspace' },
+  { name: 'regular_workspace_width', kind: 'length', better: 'max', description: 'width of that largest rectangle (along its angle; height = width / aspect)' },
+  { name: 'regular_workspace_x', kind: 'length', better: 'max', description: 'x of the centre of that largest rectangle (its placement, not an objective)' },
+  { name: 'regular_workspace_y', kind: 'length', better: 'max', description: 'y of the centre of that largest rectangle (its placement, not an objective)' },
 ];
 
 /** The worst-over-actuators metric and one per actuator (drive-train checks). */
@@ -78,6 +87,11 @@ function perActuatorMetrics(name: string, kind: MetricInfo['kind'], description:
 }
 
 export type MetricName = (typeof METRICS)[number]['name'];
+/** Metrics of the machine in its cell: computed only for a study with a cell section (NaN otherwise). */
+export const CELL_METRIC_NAMES: ReadonlySet<string> = new Set([
+  'min_clearance', 'passive_joint_margin', 'zone_coverage', 'cycle_coverage',
+  'regular_workspace_area', 'regular_workspace_width', 'regular_workspace_x', 'regular_workspace_y',
+]);
 export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
 const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
 

@@ -7,6 +7,8 @@ import { LoopsmithUserError } from '../core/errors.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelInput } from '../architectures/types.js';
 import { driveAtJoint } from '../study/drives.js';
+import { takeMount } from '../cell/mounting.js';
+import { MOUNT_VARIABLES, type Mount } from '../cell/types.js';
 import { composeDrives, driveTrainVariables, type DriveTrainVariable } from './driveVariables.js';
 import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
@@ -66,6 +68,14 @@ export function designVariables(study: Study): DesignVariable[] {
     }
   }
   if (study.driveTrains) out.push(...driveTrainVariables(study.driveTrains, architecture.dof));
+  // Mounting of the base in the cell (docs/cell.md), last so earlier variables keep their places.
+  const mounting = study.cell?.mounting;
+  if (mounting) {
+    for (const name of MOUNT_VARIABLES) {
+      const spec = mounting[name];
+      if (spec.kind === 'variable') out.push({ name, kind: 'real', min: spec.min, max: spec.max });
+    }
+  }
   return out;
 }
 
@@ -75,6 +85,8 @@ export interface ResolvedDesign {
   readonly workingMode: string;
   /** Drives of this design (one per actuator), or null when the study gives none. */
   readonly drives: readonly DriveSpec[] | null;
+  /** Base pose in the task frame (studies with cell.mounting only). */
+  readonly mount?: Mount;
 }
 
 /** A comparison study's design resolved to its member: the member study, its variables and its design vector. */
@@ -132,7 +144,8 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     const spec = study.geometry[name]!;
     if (spec.kind === 'tied') geometry[name] = geometry[spec.to]!;
   }
-  return { geometry, workingMode, drives };
+  const mount = takeMount(study.cell, geometry);
+  return { geometry, workingMode, drives, ...(mount ? { mount } : {}) };
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
@@ -250,6 +263,7 @@ export function studyActuators(study: Study, values?: Readonly<Record<string, un
 /** Quantity kind of a design variable's value: angle for angle parameters, else length (categorical values are text). */
 export function variableKind(study: Study, name: string): 'angle' | 'length' | 'dimensionless' {
   if (/^(?:[a-z0-9]+_)?gear_ratio(_[123])?$/.test(name)) return 'dimensionless';
+  if (name === 'mount_angle' || name.endsWith('_mount_angle')) return 'angle';
   const architectures = study.members ? study.members.map((m) => m.architecture) : [study.architecture];
   for (const a of architectures) {
     const prefix = study.members ? `${ARCHITECTURE_PREFIX[a]}_` : '';

@@ -33,6 +33,8 @@ import { trainsOf, writeStaticDriveMetrics } from './driveMetrics.js';
 import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
 import type { DriveTrain } from '../drives/types.js';
 import type { Study } from '../study/types.js';
+import { mountModel } from '../cell/mounting.js';
+import { CellAnalysis } from './cellMetrics.js';
 
 export { architectureUsableMargin };
 
@@ -124,6 +126,10 @@ export class ArchitectureEvaluator {
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
   private readonly cycle: CycleMetrics | null;
+  /** Cell checks and metrics (docs/cell.md), or null without a cell section. */
+  readonly cell: CellAnalysis | null;
+  /** Label of the evaluation region of the design in hand (−1 = none). */
+  private region = -1;
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -136,6 +142,7 @@ export class ArchitectureEvaluator {
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
     this.cycle = CycleMetrics.forStudy(study, this.architecture);
+    this.cell = CellAnalysis.forStudy(study, this.architecture);
   }
 
   resolve(design: ArrayLike<number>): ResolvedDesign {
@@ -149,7 +156,7 @@ export class ArchitectureEvaluator {
    */
   buildModel(resolved: ResolvedDesign): ArchitectureModelBase {
     const architecture = this.architecture;
-    const model = architecture.buildModel(modelInput(this.study, resolved));
+    const model = mountModel(architecture.buildModel(modelInput(this.study, resolved)), resolved.mount);
     if (this.study.orientation?.characteristicLength !== 'auto' || !this.task) return model;
     const task = this.task;
     const points = new Float64Array(3 * task.x.length);
@@ -160,7 +167,7 @@ export class ArchitectureEvaluator {
     }
     const scale = architecture.footprint(model);
     const best = characteristicLengthForPoses(architecture, model, this.pose, points, 1e-3 * scale, 10 * scale);
-    return best ? architecture.buildModel(modelInput(this.study, resolved, best.length)) : model;
+    return best ? mountModel(architecture.buildModel(modelInput(this.study, resolved, best.length)), resolved.mount) : model;
   }
 
   /** Model of a design vector. */
@@ -173,10 +180,12 @@ export class ArchitectureEvaluator {
     this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
+    this.cell?.prepare(model, resolved.mount);
   }
 
   private usable(status: PoseStatus): number {
-    return architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+    const u = architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+    return this.cell?.restricts ? Math.min(u, this.cell.nodeMargin(this.pose, status)) : u;
   }
 
   evaluate(design: ArrayLike<number>): DesignEvaluation {
@@ -187,12 +196,15 @@ export class ArchitectureEvaluator {
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics);
     this.cycle?.write(model, this.drives, metrics, this.trains);
+    this.cell?.write(model, this.pose, (status) => this.usable(status), this.grid, this.region, metrics);
     return this.withConstraints(metrics, resolved);
   }
 
   /** As Evaluator.evaluateWithWorkspace: workspace metrics from an earlier evaluation, the rest recomputed. */
   evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation {
     if (!this.task) throw new Error('evaluateWithWorkspace needs a study with a task region');
+    // The cell metrics need the grid: evaluate in full.
+    if (this.cell) return this.evaluate(design);
     const resolved = this.resolve(design);
     const model = this.buildModel(resolved);
     this.prepare(resolved, model);
@@ -216,6 +228,7 @@ export class ArchitectureEvaluator {
     const grid = this.grid;
     const box = evaluationBox(this.study, this.architecture, model, this.phi0);
     this.aggregate.reset();
+    this.region = -1;
     if (!box) {
       metrics[M.reachable] = 0;
       metrics[M.workspace] = 0;
@@ -224,7 +237,15 @@ export class ArchitectureEvaluator {
       if (this.task) this.aggregateTask(model, -1);
       return;
     }
-    const region = sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+    const cell = this.cell?.restricts ? this.cell : null;
+    // With cell checks every node's margin also honours them (docs/cell.md); without, the grid is sampled as before.
+    const region = cell
+      ? sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.study.evaluation.gridCells, (index, pose, status) => {
+          const m = cell.nodeMargin(pose, status);
+          if (m < grid.values[index]!) grid.values[index] = m;
+        })
+      : sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+    this.region = region;
     metrics[M.reachable] = grid.positiveArea(grid.secondary);
     metrics[M.workspace] = grid.regionArea(region);
     metrics[M.inscribed] = grid.inscribedRadius(region);

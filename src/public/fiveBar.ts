@@ -10,6 +10,7 @@ import type { LeggedModel } from '../architectures/legged.js';
 import { ArchitecturePose } from '../architectures/types.js';
 import type { PoseStatus } from '../core/pose.js';
 import { modelInput, type ResolvedDesign } from '../mechanics/designSpace.js';
+import { mountModel } from '../cell/mounting.js';
 import type { Study } from '../study/types.js';
 import { ApiArgumentError } from './arguments.js';
 
@@ -48,5 +49,6 @@ export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveB
   if (study.architecture !== 'five-bar' || study.members) {
     throw new ApiArgumentError(`buildFiveBarModel: the study's architecture is ${study.members ? 'a comparison' : study.architecture}, not the five-bar (use new Evaluator(study).architectureDesign(design))`);
   }
-  return fiveBar.buildModel(modelInput(study, resolved));
+  // Mounted in its cell when the study gives cell.mounting (docs/cell.md).
+  return mountModel(fiveBar.buildModel(modelInput(study, resolved)), resolved.mount);
 }

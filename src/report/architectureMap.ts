@@ -81,6 +81,22 @@ export interface ArchitectureMapOptions {
   readonly maxHeightPx?: number;
   /** Colour-map cells across the longer side at most (default 120). */
   readonly maxColourCells?: number;
+  /** The machine in its cell (docs/cell.md): keep-outs, task zones, the regular workspace and the clearance checks. */
+  readonly cell?: MapCellLayer;
+}
+
+/** Cell layer of a map: outlines (x, y interleaved, m) and the per-node clearance checks. */
+export interface MapCellLayer {
+  /** Cell margin of a solved node (≥ 0 clear); min()-ed into the usable margin when `restricts`, and its zero level is drawn. */
+  readonly nodeMargin?: (pose: ArchitecturePose, status: PoseStatus) => number;
+  /** Whether the usable workspace honours `nodeMargin` (as the evaluator does). */
+  readonly restricts?: boolean;
+  readonly keepOuts: readonly Float64Array[];
+  readonly zones: readonly Float64Array[];
+  /** Drive housings at the pivots (outlines). */
+  readonly housings?: readonly Float64Array[];
+  /** Corners of the regular-workspace rectangle, or null. */
+  readonly rectangle?: Float64Array | null;
 }
 
 /** Sampled fields of an architecture map (row-major, index j·nx + i). */
@@ -113,6 +129,8 @@ export interface ArchitectureMapFields {
   /** Label of the chosen usable region (−1 when none) and its area, m². */
   readonly region: number;
   readonly regionArea: number;
+  /** Cell margin per node (maps with a cell layer; NaN where unreachable). */
+  readonly cellMargin?: Float64Array;
 }
 
 /** The mechanism at its home pose, m. */
@@ -242,6 +260,8 @@ export function sampleArchitectureMapFields(
   const legSine = new Float64Array(n * nodes);
   const mechanismSine = new Float64Array(nodes);
   const inverseCondition = new Float64Array(nodes);
+  const cellCheck = options.cell?.nodeMargin;
+  const cellMargin = cellCheck ? new Float64Array(nodes).fill(Number.NaN) : undefined;
   const pose = architecture.createPose();
   for (let j = 0; j < ny; j++) {
     const y = y0 + j * h;
@@ -254,6 +274,10 @@ export function sampleArchitectureMapFields(
       status[k] = st;
       reachMargin[k] = pose.reachMargin;
       values[k] = architectureUsableMargin(pose, st, model.assembly, options.usable);
+      if (cellCheck && cellMargin && st !== PoseStatus.Unreachable) {
+        cellMargin[k] = cellCheck(pose, st);
+        if (options.cell?.restricts && cellMargin[k]! < values[k]!) values[k] = cellMargin[k]!;
+      }
       for (let leg = 0; leg < n; leg++) {
         const margin = pose.legReach[leg]!;
         legReachMargin[leg * nodes + k] = margin;
@@ -280,7 +304,7 @@ export function sampleArchitectureMapFields(
     regionMargin[k] = grid.labels[k] === region ? v : v >= 0 ? -v - 1e-300 : v;
   }
   const regionArea = grid.regionArea(region);
-  return { nx, ny, x0, y0, h, phi0, windowCut: window.cut, status, reachMargin, legReachMargin, legSine, mechanismSine, inverseCondition, usable, regionMargin, region, regionArea };
+  return { nx, ny, x0, y0, h, phi0, windowCut: window.cut, status, reachMargin, legReachMargin, legSine, mechanismSine, inverseCondition, usable, regionMargin, region, regionArea, ...(cellMargin ? { cellMargin } : {}) };
 }
 
 /**
@@ -548,6 +572,29 @@ function formatMm(value: number): string {
   return `${(value * MM).toFixed(0)} mm`;
 }
 
+/** A closed outline (x, y interleaved) as a polyline. */
+function closedOutline(poly: Float64Array): Polyline {
+  const x: number[] = [];
+  const y: number[] = [];
+  for (let k = 0; k <= poly.length; k += 2) {
+    x.push(poly[k % poly.length]!);
+    y.push(poly[(k + 1) % poly.length]!);
+  }
+  return { x, y };
+}
+
+/** Keep-outs, task zones, the regular workspace and the zero level of the cell margin (interference curves). */
+function addCellLines(cell: MapCellLayer, fields: ArchitectureMapFields | null, addLine: (feature: Feature, line: Polyline) => void): void {
+  for (const k of cell.keepOuts) addLine(ARCHITECTURE_MAP_FEATURES.keepOut, closedOutline(k));
+  for (const z of cell.zones) addLine(ARCHITECTURE_MAP_FEATURES.zone, closedOutline(z));
+  for (const h of cell.housings ?? []) addLine(ARCHITECTURE_MAP_FEATURES.housing, closedOutline(h));
+  if (fields?.cellMargin) {
+    const margin = fields.cellMargin;
+    zeroContours(fields, margin, (k) => !Number.isNaN(margin[k]!)).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.interference, l));
+  }
+  if (cell.rectangle) addLine(ARCHITECTURE_MAP_FEATURES.regular, closedOutline(cell.rectangle));
+}
+
 /** The drawing's window: the sampled grid (rails are clipped to it), m. */
 interface MapWindow { readonly x0: number; readonly y0: number; readonly x1: number; readonly y1: number }
 
@@ -585,6 +632,7 @@ export function architectureMapSpec(
   }
   const task = options.taskRegion ?? null;
   if (task) lines.add(ARCHITECTURE_MAP_FEATURES.task, taskOutline(task));
+  if (options.cell) addCellLines(options.cell, fields, (feature, line) => lines.add(feature, line));
   const joints = home ? addMechanism(lines, home, n) : [];
 
   const { colour, polygons, dimmed } = fields ? colourMapRows(fields, options.maxColourCells ?? 120) : { colour: [], polygons: [], dimmed: false };
@@ -659,7 +707,8 @@ function mapLayout(lines: readonly LineRow[], joints: readonly JointRow[], windo
     if (x < xmin) xmin = x; if (x > xmax) xmax = x;
     if (y < ymin) ymin = y; if (y > ymax) ymax = y;
   };
-  for (const r of lines) if (r.feature !== ARCHITECTURE_MAP_FEATURES.rail) include(r.x, r.y);
+  // Rails and keep-outs (a conveyor may run far past the arm) are clipped to the drawing, not fitted.
+  for (const r of lines) if (r.feature !== ARCHITECTURE_MAP_FEATURES.rail && r.feature !== ARCHITECTURE_MAP_FEATURES.keepOut) include(r.x, r.y);
   for (const r of joints) include(r.x, r.y);
   if (!Number.isFinite(xmin)) { xmin = window.x0 * MM; xmax = window.x1 * MM; ymin = window.y0 * MM; ymax = window.y1 * MM; }
   const pad = 0.04 * Math.max(xmax - xmin, ymax - ymin);

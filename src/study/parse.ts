@@ -4,6 +4,7 @@
  * editors can use the same file), then the unit conversion and cross-field checks here.
  */
 import { LoopsmithUserError } from '../core/errors.js';
+import { mountBaseline, studyCell } from './cell.js';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
@@ -287,6 +288,7 @@ export function studySettingsHash(study: Study): string {
     sliderMass: study.sliderMass,
     platform: study.platform ?? undefined,
     orientation: study.orientation ?? undefined,
+    cell: study.cell ?? undefined,
     members: study.members ? study.members.map(studySettingsHash) : undefined,
   };
   return sha256(canonicalJson(relevant));
@@ -310,6 +312,7 @@ export function workspaceSettingsHash(study: Study): string {
       evaluation: study.evaluation,
       // Absent for 2-DOF studies, so their hashes stay as they were.
       orientation: study.orientation ?? undefined,
+      cell: study.cell ?? undefined,
       members: study.members ? study.members.map(workspaceSettingsHash) : undefined,
     }),
   );
@@ -443,6 +446,8 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
   const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle'], { architecture: architectureName, dof: n, phi0: orientation?.phi0 ?? 0 }) : null;
   const friction = isObject(data['friction']) ? buildFriction(data['friction'], n, actuatorKind) : null;
   if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
+  const massIn = isObject(data['mass']) ? data['mass'] : {};
+  const cell = studyCell(data, { actuators: ARCHITECTURES[architectureName].actuators, massIn, hasDutyCycle: dutyCycle !== null });
 
   const objectives = parseObjectives(data['objectives'] as JsonObject[]);
   const constraints = parseConstraints((data['constraints'] as JsonObject[] | undefined) ?? [], context);
@@ -478,6 +483,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     ...(sliderMass !== undefined ? { sliderMass } : {}),
     ...(platform ? { platform } : {}),
     ...(orientation ? { orientation } : {}),
+    ...(cell ? { cell } : {}),
   };
   const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
   return { ...partial, baseline };
@@ -876,6 +882,11 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
         throw new StudyError(`${where}: must be one of the catalogue options ${JSON.stringify(choice.options.map((o) => o.label))}`);
       }
       out[name] = value;
+      continue;
+    }
+    const mount = mountBaseline(study.cell, name, value);
+    if (mount !== undefined) {
+      out[name] = mount;
       continue;
     }
     if (/^(motor|gearbox|gear_ratio)(_[123])?$/.test(name)) {

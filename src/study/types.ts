@@ -5,6 +5,7 @@ import type { AssemblyMode, JointRange } from '../core/pose.js';
 import type { CyclePath, JointFriction } from '../core/cycle.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES, type ArchitectureName } from '../architectures/index.js';
 import type { DriveAtJoint } from '../architectures/types.js';
+import type { CellSpec } from '../cell/types.js';
 import type { DriveTrain, GearboxSpec, LinearStageSpec, MotorSpec } from '../drives/types.js';
 
 /** The study's mechanism architecture (see docs/architectures.md). */
@@ -234,4 +235,6 @@ export interface Study {
   /** Baseline design: a value for every design variable. */
   readonly baseline: Readonly<Record<string, number | string>>;
   readonly optimizer: OptimizerSettings;
+  /** The machine in its cell: task zones, keep-outs, interference, mounting, regular workspace (docs/cell.md); absent = none. */
+  readonly cell?: CellSpec | null;
 }

@@ -13,13 +13,15 @@
  *
  * Reported per run: the largest distance between MuJoCo's end point and loopsmith's over the run
  * (compared every millisecond), the one at the end, and the largest loop gap (distance between the two sites
- * of any loop closure). A free run that would take an actuated joint out of its range (where MuJoCo's
- * joint limits, which loopsmith's simulation does not model, would act) is compared up to that instant.
+ * of any loop closure). A free run is compared while it stays in the design's operating poses: inside
+ * the actuated joints' ranges (beyond them MuJoCo's joint limits act, which loopsmith's simulation does
+ * not model), in its working mode and in its assembly mode (no parallel singularity crossed, where the
+ * closed chain's motion hangs on round-off).
  * Controls are not clamped to `ctrlrange` in the replay (a check of dynamics, not of drive sizing); the
  * result says whether the recorded efforts stay inside it. MuJoCo states come from the engine's poses
  * through the body tree (`bodyTreeJoints`), rates by a central difference along the task rates.
  */
-import { PoseStatus, type ArchitectureModelBase, type PlanarArchitecture, type TreeBody } from '../architectures/types.js';
+import { PoseStatus, type ArchitectureModelBase, type PlanarArchitecture } from '../architectures/types.js';
 import type { CyclePath, EndPointState } from '../core/cycle.js';
 import { CycleDynamics, CycleSamples, CycleTrajectory, DutyCycleAnalysis } from '../mechanics/dutyCycle.js';
 import { cutChainState, simulateArchitecture } from '../simulate/simulateArchitecture.js';
@@ -49,6 +51,8 @@ export interface MjcfCheckRun {
 export interface MjcfCheckResult {
   /** The motion: the study's duty cycle at its evaluated pace, or the standard motion around the home pose. */
   readonly motion: 'duty-cycle' | 'standard-motion';
+  /** The motion in words (and why the standard motion was used). */
+  readonly motionNote: string;
   readonly cycleTime: number;
   /** The model's own settings as MuJoCo read them. */
   readonly settings: { readonly integrator: string; readonly timestep: number; readonly loopClosureSolref: string; readonly loopClosureSolimp: string };
@@ -154,28 +158,23 @@ function sitesOf(run: MujocoRun, architecture: PlanarArchitecture<ArchitectureMo
   return { end, closures: tree.closures.map((c) => [run.siteId(c.site1), run.siteId(c.site2)] as const) };
 }
 
-/** Index of the first sample where an actuated joint leaves its range in a rigid result, or the sample count. */
-function samplesInsideRanges(result: SimulationResult, bodies: readonly TreeBody[]): number {
+/**
+ * Number of leading samples of a free rigid run that stay in the design's operating poses: assembled
+ * in its assembly mode (no type-2 singularity crossed), actuated joints inside their ranges, and the
+ * chain in its working mode (inverse kinematics of P gives the chain's own joint positions).
+ */
+function samplesInOperatingPoses(result: SimulationResult, architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase): number {
   const s = result.series;
-  let limit = s.count;
-  for (const body of bodies) {
-    const j = body.joint;
-    if (!j || j.actuator === null || !j.range) continue;
-    const q = s.positions[j.actuator]!;
-    for (let k = 0; k < limit; k++) {
-      const inside = j.kind === 'revolute' ? angleInside(q[k]!, j.range.min, j.range.max) : q[k]! >= j.range.min - 1e-12 && q[k]! <= j.range.max + 1e-12;
-      if (!inside) { limit = k; break; }
+  const pose = architecture.createPose();
+  for (let k = 0; k < s.count; k++) {
+    if (architecture.solvePose(model, pose, s.x[k]!, s.y[k]!, s.phi ? s.phi[k]! : 0) !== PoseStatus.Assembled) return k;
+    for (let i = 0; i < model.dof; i++) {
+      let gap = pose.q[i]! - s.positions[i]![k]!;
+      if (model.actuators[i] === 'revolute') gap = Math.atan2(Math.sin(gap), Math.cos(gap));
+      if (Math.abs(gap) > 1e-6) return k;
     }
   }
-  return limit;
-}
-
-function angleInside(q: number, min: number, max: number): boolean {
-  const twoPi = 2 * Math.PI;
-  let a = q;
-  while (a < min) a += twoPi;
-  while (a > min + twoPi) a -= twoPi;
-  return a <= max + 1e-12;
+  return s.count;
 }
 
 /**
@@ -267,6 +266,7 @@ export interface MjcfCheckReference {
   readonly model: ArchitectureModelBase;
   readonly motion: CycleTrajectory;
   readonly motionKind: MjcfCheckResult['motion'];
+  readonly motionNote: string;
   readonly timestep: number;
   /** MuJoCo steps per compared sample, steps of the tracked run and of the free run. */
   readonly stride: number;
@@ -286,8 +286,12 @@ export interface MjcfCheckReference {
 export function mjcfCheckReference(
   architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, trajectory: CycleTrajectory | null, home: { x: number; y: number; phi?: number }, timestep: number,
 ): MjcfCheckReference {
-  const motion = trajectory ?? standardMotion(architecture, model, home);
+  // A design that cannot follow the study's cycle (a candidate of a sweep, say) is checked on the standard motion.
+  const follows = trajectory !== null && new DutyCycleAnalysis(new CycleSamples(trajectory, 240), null, architecture).run(model);
+  const motion = follows ? trajectory : standardMotion(architecture, model, home);
   if (!motion) throw new Error('MJCF check: the design cannot follow a standard motion of 1 mm around its home pose');
+  const motionNote = follows ? 'the study\'s duty cycle at its evaluated pace'
+    : trajectory ? 'the standard motion around the home pose (the design cannot follow the study\'s duty cycle)' : 'the standard motion around the home pose (the study has no duty cycle)';
   const dt = timestep;
   const n = model.dof;
   // Compared every `stride` steps (about every millisecond).
@@ -313,9 +317,9 @@ export function mjcfCheckReference(
   const z0 = new Float64Array(2 * (2 * n + (n === 3 ? 3 : 2)));
   if (!cutChainState(architecture, model, [...fastTask, 0], [...fastRate, 0], z0)) throw new Error('MJCF check: the fastest pose of the motion cannot be assembled');
   const coasting = simulateArchitecture(architecture, model, { controller: 'none', trajectory: null, duration, initialState: z0, outputInterval: stride * dt });
-  const inside = samplesInsideRanges(coasting, architecture.bodyTree(model).bodies);
+  const inside = samplesInOperatingPoses(coasting, architecture, model);
   return {
-    architecture, model, motion, motionKind: trajectory ? 'duty-cycle' : 'standard-motion', timestep: dt, stride, steps,
+    architecture, model, motion, motionKind: follows ? 'duty-cycle' : 'standard-motion', motionNote, timestep: dt, stride, steps,
     coastSteps: stride * Math.max(0, Math.min(steps / stride, inside - 1)),
     tracked, coasting, means,
     trackedStart: treeState(architecture, model, start.task, start.rate),
@@ -358,12 +362,13 @@ export async function runMjcfCheck(reference: MjcfCheckReference, xml: string): 
       { name: 'recorded-efforts', description: 'the efforts of loopsmith\'s computed-torque simulation of the motion, replayed open loop from its start', duration: ref.steps * dt, ...recorded, passed: verdict(recorded) },
       {
         name: 'zero-effort',
-        description: `drives off, coasting under gravity from the motion's fastest state${ref.coastSteps < ref.steps ? ` (compared until an actuated joint reaches its range, ${(ref.coastSteps * dt).toFixed(4)} s)` : ''}`,
+        description: `drives off, coasting under gravity from the motion's fastest state${ref.coastSteps < ref.steps ? ` (compared for ${(ref.coastSteps * dt).toFixed(4)} s, until the free motion leaves the design's operating poses: a joint range, the working or the assembly mode)` : ''}`,
         duration: ref.coastSteps * dt, ...free, passed: verdict(free),
       },
     ];
     return {
       motion: ref.motionKind,
+      motionNote: ref.motionNote,
       cycleTime: ref.motion.cycleTime,
       settings: { integrator: INTEGRATOR_NAMES[run.integrator] ?? String(run.integrator), timestep: dt, loopClosureSolref: LOOP_CLOSURE_SOLREF, loopClosureSolimp: LOOP_CLOSURE_SOLIMP },
       runs,

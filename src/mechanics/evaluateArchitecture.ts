@@ -29,6 +29,9 @@ import { taskSamples } from './taskSamples.js';
 import { architectureUsableMargin } from './usability.js';
 import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
+import { trainsOf, writeStaticDriveMetrics } from './driveMetrics.js';
+import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
+import type { DriveTrain } from '../drives/types.js';
 import type { Study } from '../study/types.js';
 
 export { architectureUsableMargin };
@@ -54,6 +57,7 @@ const M = {
   orientationMargin: metricIndex('orientation_margin'),
   orientationRange: metricIndex('orientation_range'),
 } as const;
+const M_ACCEL_AT_SPEED = metricIndex('accel_capability_at_speed');
 
 /** Most orientation ranges kept per point (more are dropped by orientationRanges). */
 const MAX_RANGES = 16;
@@ -67,6 +71,8 @@ class ArchitectureAggregate {
   minStiffness = Infinity;
   minFrequency = Infinity;
   minAccel = Infinity;
+  /** Drive trains: acceleration available while moving at the required speed (peak envelope). */
+  minAccelAtSpeed = Infinity;
   maxStep = 0;
   readonly peakEffort = new Float64Array(3);
   readonly peakSpeed = new Float64Array(3);
@@ -74,7 +80,7 @@ class ArchitectureAggregate {
   minOrientationRange = Infinity;
   reset(): void {
     this.weight = 0; this.invCondSum = 0; this.minInvCond = Infinity; this.minTransmissionSine = Infinity;
-    this.minStiffness = Infinity; this.minFrequency = Infinity; this.minAccel = Infinity; this.maxStep = 0;
+    this.minStiffness = Infinity; this.minFrequency = Infinity; this.minAccel = Infinity; this.maxStep = 0; this.minAccelAtSpeed = Infinity;
     this.peakEffort.fill(0); this.peakSpeed.fill(0);
     this.minOrientationMargin = Infinity; this.minOrientationRange = Infinity;
   }
@@ -112,6 +118,8 @@ export class ArchitectureEvaluator {
   /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
   private jointScale = 1;
   private drives: readonly DriveAtJoint[] | null = null;
+  /** Motor, gearbox and stage per actuator when the study builds drives from catalogues (docs/drives.md). */
+  private trains: readonly DriveTrain[] | null = null;
   /** Every drive of the design in hand has an encoder step (for `resolution`). */
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
@@ -162,6 +170,7 @@ export class ArchitectureEvaluator {
 
   private prepare(resolved: ResolvedDesign, model: ArchitectureModelBase): void {
     this.drives = drivesAtJoint(this.study, resolved.drives);
+    this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
   }
@@ -177,7 +186,7 @@ export class ArchitectureEvaluator {
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -195,7 +204,7 @@ export class ArchitectureEvaluator {
     metrics[M.coverage] = workspace[2]!;
     metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, metrics);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -286,6 +295,7 @@ export class ArchitectureEvaluator {
       agg.minStiffness = 0;
       agg.minFrequency = 0;
       agg.minAccel = 0;
+      agg.minAccelAtSpeed = 0;
       agg.peakEffort.fill(Infinity);
       agg.peakSpeed.fill(Infinity);
       agg.maxStep = Infinity;
@@ -312,6 +322,10 @@ export class ArchitectureEvaluator {
       if (drives) {
         const a = (drives[i]!.peakEffort - effort) / pose.inertiaRowNorm[i]!;
         if (a < agg.minAccel) agg.minAccel = a;
+      }
+      if (this.trains) {
+        const a = (jointPeakEffortAtSpeed(this.trains[i]!, speed) - effort) / pose.inertiaRowNorm[i]!;
+        if (a < agg.minAccelAtSpeed) agg.minAccelAtSpeed = a;
       }
     }
     if (drives && this.encodersKnown) {
@@ -369,6 +383,10 @@ export class ArchitectureEvaluator {
     if (this.study.task.speed > 0) metrics[M.peakSpeed] = peakSpeed;
     metrics[M.accel] = this.drives ? worst(agg.minAccel, 0) : Number.NaN;
     metrics[M.resolution] = this.drives && this.drives.every((d) => d.encoderStep > 0) ? worst(agg.maxStep, Infinity) : Number.NaN;
+    if (this.trains) {
+      metrics[M_ACCEL_AT_SPEED] = worst(agg.minAccelAtSpeed, 0);
+      writeStaticDriveMetrics(this.trains, this.study.driveTrains?.brakeFactor ?? 1.5, metrics);
+    }
     metrics[M.footprint] = this.architecture.footprint(model);
     metrics[M.movingMass] = this.architecture.movingMass(model);
     if (n === 3 && this.task) {

@@ -14,6 +14,7 @@ import type { Study } from '../study/types.js';
 import { fiveBarBodiesOf, type FiveBarBodies } from './fiveBarBodies.js';
 import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './shared.js';
 import { simulateArchitecture } from './simulateArchitecture.js';
+import type { DriveSimulationHooks } from './driveHooks.js';
 
 /** Everything a simulation of one study design needs. */
 export interface StudySimulationSetup {
@@ -36,7 +37,9 @@ export interface StudySimulationSetup {
   readonly driveLabels: readonly string[] | null;
 }
 
-export interface StudySimulationOptions {
+/** `DriveSimulationHooks`: formulation, ε and effort saturation (docs/drives.md); `initialState` as simulateArchitecture takes it. */
+export interface StudySimulationOptions extends DriveSimulationHooks {
+  readonly initialState?: ArrayLike<number>;
   readonly controller: ControllerKind;
   /** Simulated time, s (default one cycle). */
   readonly duration?: number;
@@ -122,6 +125,10 @@ export function simulateStudyDesign(setup: StudySimulationSetup, options: StudyS
     ...(options.outputInterval !== undefined ? { outputInterval: options.outputInterval } : {}),
     friction: options.friction === false ? null : setup.friction,
     limits: setup.limits,
+    ...(options.formulation !== undefined ? { formulation: options.formulation } : {}),
+    ...(options.epsilon !== undefined ? { epsilon: options.epsilon } : {}),
+    ...(options.saturate !== undefined ? { saturate: options.saturate } : {}),
+    ...(options.initialState !== undefined ? { initialState: options.initialState } : {}),
   };
   // One path for every architecture: the cut-open chain of legChain.ts on the architecture interface.
   return simulateArchitecture(setup.architecture, setup.architectureModel, common);

@@ -6,7 +6,7 @@
  */
 import { MJCF_TIMESTEP } from '../../src/export/mjcf.js';
 import { expect } from 'vitest';
-import { FiveBarPose, PoseStatus, poseDynamics, solvePose } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, PoseStatus, poseDynamics, solvePose } from '../helpers/fiveBarClosedForm.js';
 import type { CandidateSheet } from '../../src/export/candidate.js';
 import { chainJointAngles, fiveBarModelOf, mjcfOfSheet } from './sheetsFromStudy.js';
 import type { Study } from '../../src/study/types.js';

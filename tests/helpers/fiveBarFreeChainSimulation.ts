@@ -3,7 +3,7 @@
  * path every architecture takes (src/simulate/simulateArchitecture.ts on the cut-open chain of
  * legChain.ts): the five-bar cut at the end point into two arms with the end mass on arm 1's tip
  * (src/simulate/freeChain.ts), its closed-form reduced model for the controllers
- * (src/mechanics/dutyCycleFiveBar.ts) and the same ODEX stretches, controllers and recording.
+ * (tests/helpers/fiveBarClosedFormCycle.ts) and the same ODEX stretches, controllers and recording.
  *
  * - computed torque: τ = D(θ)(θ̈_d + K_d ė + K_p e) + C(θ, θ̇) θ̇ + g(θ) + f̂(θ̇), with K_p = ω², K_d = 2ζω,
  *   from the reduced model at the measured joint state (jointSpaceDynamics);
@@ -14,8 +14,8 @@
  * extra end mass the controller does not know about. A ninth state integrates ∫(τ − f)·θ̇ dt.
  */
 import { CycleTrajectory, type EndPointState, type JointFriction } from '../../src/mechanics/dutyCycle.js';
-import { FiveBarMotion, JointSpaceDynamics, endPointAcceleration, jointRatesFromPath, jointSpaceDynamics, poseFromJointAngles } from '../../src/mechanics/dutyCycleFiveBar.js';
-import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { FiveBarMotion, JointSpaceDynamics, endPointAcceleration, jointRatesFromPath, jointSpaceDynamics, poseFromJointAngles } from './fiveBarClosedFormCycle.js';
+import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from './fiveBarClosedForm.js';
 import {
   DEFAULT_STABILISATION_RATE,
   FreeChainAcceleration,

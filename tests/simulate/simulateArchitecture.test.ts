@@ -11,7 +11,7 @@ import { rpr3 } from '../../src/architectures/rpr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ArchitectureModelBase, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import { CycleDynamics, CycleTrajectory, type CyclePath } from '../../src/mechanics/dutyCycle.js';
-import type { FiveBarModel } from '../../src/mechanics/fivebar.js';
+import type { FiveBarModel } from '../helpers/fiveBarClosedForm.js';
 import { simulateFreeChain } from '../helpers/fiveBarFreeChainSimulation.js';
 import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import { LegChain } from '../../src/simulate/legChain.js';

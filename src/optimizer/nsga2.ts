@@ -34,23 +34,12 @@
  * the run's real result (`archive()`). The search never reads it.
  */
 
-import {
-  crossover,
-  crowdedTournament,
-  designLayout,
-  DesignSet,
-  KIND_CATEGORICAL,
-  latinHypercube,
-  mutate,
-  mutateVariable,
-  repair,
-  uniformDesign,
-  type DesignLayout,
-} from './operators.js';
-import { deserializeEvaluation, ParetoArchive, serializeEvaluation, type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
-import { SeededRandom, type RandomState } from './random.js';
-import { crowdingDistance, NonDominatedSorter } from './sorting.js';
-import { sanitizeEvaluation, validateProblem, type BatchEvaluate, type Evaluation, type ProblemSpec } from './types.js';
+import { crowdedTournament, DesignSet, KIND_CATEGORICAL, mutate, mutateVariable, repair } from './operators.js';
+import { type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
+import { MAX_DUPLICATE_ATTEMPTS, PopulationOptimizer, type Individual } from './population.js';
+import type { SeededRandom, RandomState } from './random.js';
+import { crowdingDistance } from './sorting.js';
+import { validateProblem, type BatchEvaluate, type Evaluation, type ProblemSpec } from './types.js';
 import { TerminationTracker, type EndReason, type Termination } from './termination.js';
 import type { ConvergenceStatus } from './convergence.js';
 
@@ -143,9 +132,6 @@ export interface ResolvedNsga2Settings {
   refinementEta: number;
 }
 
-/** Maximum re-mutations of an offspring that duplicates an existing design. */
-const MAX_DUPLICATE_ATTEMPTS = 20;
-
 export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): ResolvedNsga2Settings {
   const resolved: ResolvedNsga2Settings = {
     populationSize: settings.populationSize,
@@ -183,34 +169,7 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
   return resolved;
 }
 
-/** A told design with its evaluation and its objectives in minimisation form. */
-interface Individual {
-  design: Float64Array;
-  evaluation: Evaluation;
-  minimized: Float64Array;
-}
-
-export class Nsga2 {
-  readonly problem: ProblemSpec;
-  readonly settings: ResolvedNsga2Settings;
-  private readonly layout: DesignLayout;
-  private readonly objectiveCount: number;
-  private readonly maximize: boolean[];
-  private readonly sorter = new NonDominatedSorter();
-  /** Scratch for the sort: minimised objectives (row-major), violations, crowding distances. */
-  private objectiveScratch = new Float64Array(0);
-  private violationScratch = new Float64Array(0);
-  private distanceScratch = new Float64Array(0);
-
-  /** Random state at the start of the next step; ask()/initialDesigns() draw from a copy. */
-  private random: SeededRandom;
-  private generationNumber = -1;
-  private individuals: Individual[] = [];
-  private members: Member[] = [];
-  /** Every told design is offered here; only read by the search, never used by it. */
-  private paretoArchive: ParetoArchive;
-  /** Designs of the next step and the random state after making them (cache of ask()). */
-  private pending: { designs: Float64Array[]; randomAfter: SeededRandom } | undefined;
+export class Nsga2 extends PopulationOptimizer {
   /** ε(0) of the ε-constraint handling (0 without it or before the initial population). */
   private epsilonZero = 0;
   /** ε used by the sort of the generation being formed. */
@@ -219,111 +178,14 @@ export class Nsga2 {
 
   constructor(problem: ProblemSpec, settings: Nsga2Settings) {
     validateProblem(problem);
-    this.problem = problem;
-    this.settings = resolveSettings(problem, settings);
-    this.layout = designLayout(problem);
-    this.objectiveCount = problem.objectives.length;
-    this.maximize = problem.objectives.map((objective) => objective.sense === 'max');
-    this.random = new SeededRandom(this.settings.seed);
-    this.paretoArchive = new ParetoArchive(problem.objectives);
+    super(problem, resolveSettings(problem, settings));
   }
 
   /** Continues from a snapshot() of an optimizer with the same problem and settings. */
   static restore(problem: ProblemSpec, settings: Nsga2Settings, state: Nsga2State): Nsga2 {
     const optimizer = new Nsga2(problem, settings);
-    if (!Number.isInteger(state.generation) || state.generation < -1) throw new RangeError(`bad generation ${state.generation}`);
-    if ((state.generation === -1) !== (state.population.length === 0)) {
-      throw new RangeError('state: the population must be empty exactly when generation is -1');
-    }
-    optimizer.random = SeededRandom.fromState(state.random);
-    optimizer.generationNumber = state.generation;
-    optimizer.epsilonZero = state.epsilonZero ?? 0;
-    optimizer.phase = state.phase ?? 'search';
-    optimizer.epsilon = optimizer.epsilonLevel(state.generation);
-    const individuals = state.population.map((entry, j) => {
-      if (entry.design.length !== optimizer.layout.count) {
-        throw new RangeError(`state: design ${j} has ${entry.design.length} variables, expected ${optimizer.layout.count}`);
-      }
-      return optimizer.individual(Float64Array.from(entry.design), deserializeEvaluation(entry.evaluation));
-    });
-    optimizer.adoptPopulation(individuals);
-    if (state.archive === undefined) {
-      // Older snapshot without an archive: the best that can be rebuilt is its population.
-      for (const individual of individuals) optimizer.paretoArchive.offer(individual.design, individual.evaluation);
-    } else {
-      optimizer.paretoArchive = ParetoArchive.fromJSON(problem.objectives, state.archive);
-    }
+    optimizer.restoreState(state);
     return optimizer;
-  }
-
-  /** -1 before the initial population is told, 0 after, then +1 per tell(). */
-  get generation(): number {
-    return this.generationNumber;
-  }
-
-  /**
-   * N designs for the initial population: Latin hypercube sampling for real
-   * and integer variables, uniform for categoricals; a design equal to an
-   * earlier one is replaced by a uniformly random one (bounded attempts).
-   * Calling it again before tell() returns the same designs.
-   */
-  initialDesigns(): Float64Array[] {
-    if (this.generationNumber !== -1) throw new Error('initialDesigns(): the initial population has already been told');
-    return this.pendingDesigns().map((design) => design.slice());
-  }
-
-  /**
-   * Q_{t+1} = make-new-pop(P_{t+1}): N offspring by binary tournament on the
-   * crowded comparison, SBX crossover with probability p_c, polynomial
-   * mutation with probability p_m per variable; integers rounded and
-   * clamped. An offspring equal to a population member or an earlier
-   * offspring is mutated again (up to 20 times; if a round of mutation
-   * changes nothing, one random variable is mutated for sure).
-   * Calling it again before tell() returns the same designs.
-   */
-  ask(): Float64Array[] {
-    if (this.generationNumber < 0) throw new Error('ask(): tell the initial population first (see initialDesigns())');
-    return this.pendingDesigns().map((design) => design.slice());
-  }
-
-  /**
-   * The first call gives the initial population P_0 (any number of designs;
-   * more than N are reduced to N by the survival rule). Every later call
-   * gives the evaluated offspring Q_t, and P_{t+1} is chosen from
-   * R_t = P_t ∪ Q_t by the (mu + lambda) survival of the paper.
-   */
-  tell(designs: readonly Float64Array[], evaluations: readonly Evaluation[]): void {
-    if (designs.length !== evaluations.length) {
-      throw new RangeError(`tell(): ${designs.length} designs but ${evaluations.length} evaluations`);
-    }
-    if (designs.length === 0) throw new RangeError('tell(): no designs');
-    const offspring = designs.map((design, j) => {
-      if (design.length !== this.layout.count) {
-        throw new RangeError(`tell(): design ${j} has ${design.length} variables, expected ${this.layout.count}`);
-      }
-      const copy = new Float64Array(design.length);
-      for (let i = 0; i < design.length; i++) copy[i] = design[i]! + 0;
-      return this.individual(copy, sanitizeEvaluation(evaluations[j]!, this.objectiveCount));
-    });
-    const randomAfter = this.pendingRandomAfter();
-    for (const individual of offspring) this.paretoArchive.offer(individual.design, individual.evaluation);
-    if (this.generationNumber === -1) this.epsilonZero = this.initialEpsilon(offspring);
-    this.epsilon = this.epsilonLevel(this.generationNumber + 1);
-
-    // R_t = P_t ∪ Q_t
-    const combined = this.individuals.concat(offspring);
-    // P_{t+1}: fill by fronts, the last front by crowding distance.
-    const survivors = this.selectSurvivors(combined, this.settings.populationSize);
-
-    this.adoptPopulation(survivors);
-    this.random = randomAfter;
-    this.pending = undefined;
-    this.generationNumber++;
-  }
-
-  /** Current population P_t with rank and crowding distance (computed within P_t). */
-  population(): readonly Member[] {
-    return this.members;
   }
 
   /** 'search' (NSGA-II generations) or 'refine' (final local refinement, see startRefinement()). */
@@ -345,49 +207,44 @@ export class Nsga2 {
     if (this.generationNumber < 0) throw new Error('startRefinement(): tell the initial population first');
     if (this.phase === 'refine') return;
     this.phase = 'refine';
-    this.pending = undefined;
+    this.discardPending();
   }
 
   /** Back to NSGA-II's make-new-pop after a refinement (used to continue a converged run). */
   resumeSearch(): void {
     if (this.phase === 'search') return;
     this.phase = 'search';
-    this.pending = undefined;
+    this.discardPending();
   }
 
-  /** Rank-0 feasible members of the current population. */
-  front(): readonly Member[] {
-    return this.members.filter((member) => member.rank === 0 && member.evaluation.failed === undefined && member.evaluation.violation === 0);
+  // ---------------------------------------------------------------- hooks of PopulationOptimizer
+
+  /** Feasibility-seeking start: round(k · N) designs (k = initialOversampling). */
+  protected override initialCount(): number {
+    return Math.round(this.settings.initialOversampling * this.settings.populationSize);
   }
 
-  /**
-   * External archive: every feasible design told so far (initial and
-   * offspring) that no other told design weakly dominates, in the order it
-   * was admitted; of equal objective vectors the first told design. This is
-   * the best front found, usually far larger and better than front().
-   */
-  archive(): readonly ArchiveMember[] {
-    return this.paretoArchive.members();
+  /** ε-constraint handling: a violation up to ε(t) counts as feasible in the sort. */
+  protected override sortViolation(violation: number): number {
+    return violation <= this.epsilon ? 0 : violation;
   }
 
-  /** Plain-JSON state including the archive; take it after tell() to persist a generation. */
-  snapshot(): Nsga2State {
+  protected override beforeSurvival(told: readonly Individual[]): void {
+    if (this.generationNumber === -1) this.epsilonZero = this.initialEpsilon(told);
+    this.epsilon = this.epsilonLevel(this.generationNumber + 1);
+  }
+
+  protected override restoreExtra(state: Nsga2State): void {
+    this.epsilonZero = state.epsilonZero ?? 0;
+    this.phase = state.phase ?? 'search';
+    this.epsilon = this.epsilonLevel(state.generation);
+  }
+
+  protected override snapshotExtra(): Partial<Nsga2State> {
     return {
-      generation: this.generationNumber,
-      random: this.random.state(),
-      population: this.individuals.map((individual) => ({
-        design: Array.from(individual.design),
-        evaluation: serializeEvaluation(individual.evaluation),
-      })),
-      archive: this.paretoArchive.toJSON(),
       ...(this.settings.epsilonConstraint ? { epsilonZero: this.epsilonZero } : {}),
       ...(this.phase === 'refine' ? { phase: this.phase } : {}),
     };
-  }
-
-  /** Objectives of the archive members in minimisation form (for convergence tests). */
-  archivePoints(): Float64Array[] {
-    return this.paretoArchive.points();
   }
 
   /** ε(0): the violation at the θ quantile of the initial population (failed designs excluded). */
@@ -414,7 +271,7 @@ export class Nsga2 {
    * longer fits; the last front is sorted by the crowded comparison (larger
    * crowding distance first, ties by index) and cut to fill N.
    */
-  private selectSurvivors(combined: Individual[], populationSize: number): Individual[] {
+  protected selectSurvivors(combined: Individual[], populationSize: number): Individual[] {
     const { fronts } = this.sortFronts(combined);
     const survivors: Individual[] = [];
     for (const front of fronts) {
@@ -432,98 +289,20 @@ export class Nsga2 {
     return survivors;
   }
 
-  /** Makes `individuals` the population and recomputes rank and crowding within it. */
-  private adoptPopulation(individuals: Individual[]): void {
-    this.individuals = individuals;
-    if (individuals.length === 0) {
-      this.members = [];
-      return;
-    }
-    const { fronts, rank } = this.sortFronts(individuals);
-    const distance = this.crowdingScratch(individuals.length);
-    for (const front of fronts) crowdingDistance(this.objectiveScratch, this.objectiveCount, front, distance);
-    this.members = individuals.map((individual, p) => ({
-      design: individual.design,
-      evaluation: individual.evaluation,
-      rank: rank[p]!,
-      crowding: distance[p]!,
-    }));
-  }
-
-  private sortFronts(individuals: Individual[]): { fronts: Int32Array[]; rank: Int32Array } {
-    const count = individuals.length;
-    const objectiveCount = this.objectiveCount;
-    if (this.objectiveScratch.length < count * objectiveCount) {
-      this.objectiveScratch = new Float64Array(count * objectiveCount);
-      this.violationScratch = new Float64Array(count);
-    }
-    for (let p = 0; p < count; p++) {
-      const individual = individuals[p]!;
-      this.objectiveScratch.set(individual.minimized, p * objectiveCount);
-      const violation = individual.evaluation.violation;
-      this.violationScratch[p] = violation <= this.epsilon ? 0 : violation;
-    }
-    return this.sorter.sort({ count, objectiveCount, objectives: this.objectiveScratch, violations: this.violationScratch });
-  }
-
-  private crowdingScratch(count: number): Float64Array {
-    if (this.distanceScratch.length < count) this.distanceScratch = new Float64Array(count);
-    return this.distanceScratch;
-  }
-
-  private individual(design: Float64Array, evaluation: Evaluation): Individual {
-    const minimized = new Float64Array(this.objectiveCount);
-    for (let m = 0; m < this.objectiveCount; m++) {
-      const value = evaluation.objectives[m] ?? Number.NaN;
-      minimized[m] = this.maximize[m] ? -value : value;
-    }
-    return { design, evaluation, minimized };
-  }
-
   // ---------------------------------------------------------------- variation
 
-  private pendingDesigns(): Float64Array[] {
-    this.pending ??= this.makeDesigns();
-    return this.pending.designs;
+  protected makeOffspring(random: SeededRandom): Float64Array[] {
+    return this.phase === 'refine' ? this.makeRefinementPopulation(random) : this.makeNewPopulation(random);
   }
 
-  private pendingRandomAfter(): SeededRandom {
-    this.pending ??= this.makeDesigns();
-    return this.pending.randomAfter;
-  }
-
-  /** Designs of the next step, drawn from a copy of the committed random state. */
-  private makeDesigns(): { designs: Float64Array[]; randomAfter: SeededRandom } {
-    const random = this.random.clone();
-    const designs =
-      this.generationNumber < 0 ? this.makeInitialPopulation(random) : this.phase === 'refine' ? this.makeRefinementPopulation(random) : this.makeNewPopulation(random);
-    return { designs, randomAfter: random };
-  }
-
-  private makeInitialPopulation(random: SeededRandom): Float64Array[] {
-    const count = Math.round(this.settings.initialOversampling * this.settings.populationSize);
-    const designs = latinHypercube(count, this.layout, random);
-    const seen = new DesignSet();
-    for (const design of designs) {
-      for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(design); attempt++) {
-        uniformDesign(this.layout, random, design);
-      }
-      seen.add(design);
-    }
-    return designs;
-  }
-
-  /** make-new-pop (Deb et al. 2002, Section III-C): selection, crossover, mutation. */
+  /**
+   * make-new-pop (Deb et al. 2002, Section III-C): N offspring by binary tournament on the crowded
+   * comparison, then the shared variation step (SBX, polynomial mutation, see population.ts).
+   */
   private makeNewPopulation(random: SeededRandom): Float64Array[] {
-    const { populationSize, crossoverProbability, crossoverEta, mutationEta, mutationProbability } = this.settings;
-    const layout = this.layout;
     const parents = this.members;
     const rank = Int32Array.from(parents, (member) => member.rank);
     const crowding = Float64Array.from(parents, (member) => member.crowding);
-
-    const seen = new DesignSet();
-    for (const member of parents) seen.add(member.design);
-
     // Tournament entrants come from successive random permutations of P_t
     // (each member enters two tournaments per N offspring, as in Deb's code).
     const entrants = new Int32Array(parents.length);
@@ -535,30 +314,7 @@ export class Nsga2 {
       }
       return entrants[nextEntrant++]!;
     };
-
-    const scratchPair = new Float64Array(2);
-    const offspring: Float64Array[] = [];
-    while (offspring.length < populationSize) {
-      const first = crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random);
-      const second = crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random);
-      const child1 = new Float64Array(layout.count);
-      const child2 = new Float64Array(layout.count);
-      crossover(parents[first]!.design, parents[second]!.design, child1, child2, layout, crossoverProbability, crossoverEta, random, scratchPair);
-      for (const child of [child1, child2]) {
-        if (offspring.length === populationSize) break;
-        mutate(child, layout, mutationProbability, mutationEta, random);
-        repair(child, layout);
-        for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
-          if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) {
-            mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
-          }
-          repair(child, layout);
-        }
-        seen.add(child);
-        offspring.push(child);
-      }
-    }
-    return offspring;
+    return this.variation(random, () => crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random));
   }
 
   /**

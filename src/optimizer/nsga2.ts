@@ -34,7 +34,7 @@
  * the run's real result (`archive()`). The search never reads it.
  */
 
-import { crowdedTournament, DesignSet, KIND_CATEGORICAL, mutate, mutateVariable, repair } from './operators.js';
+import { crowdedTournament, DesignSet, differentialMove, KIND_CATEGORICAL, mutate, mutateVariable, repair } from './operators.js';
 import { type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
 import { MAX_DUPLICATE_ATTEMPTS, PopulationOptimizer, type Individual } from './population.js';
 import type { SeededRandom, RandomState } from './random.js';
@@ -68,6 +68,20 @@ export interface Nsga2Settings {
   epsilonConstraint?: EpsilonConstraintSettings;
   /** Distribution index of the polynomial moves of the final local refinement (default 100). */
   refinementEta?: number;
+  /**
+   * Variation of the search generations: 'sbx' (the paper's SBX crossover and polynomial mutation,
+   * default) or 'de' (differential evolution DE/rand/1 with polynomial mutation, as in NSGA-II-DE of
+   * Li & Zhang 2009; see operators.ts differentialMove).
+   */
+  variation?: 'sbx' | 'de';
+  /** F of the differential moves (default 0.5). */
+  differentialWeight?: number;
+  /**
+   * Moves of the final local refinement: 'mutation' (polynomial mutation of an archive member,
+   * default) or 'differential' (an archive member plus a scaled difference of two of its nearest
+   * archive neighbours, followed by polynomial mutation; see makeRefinementPopulation).
+   */
+  refinementMove?: 'mutation' | 'differential';
 }
 
 /**
@@ -130,6 +144,9 @@ export interface ResolvedNsga2Settings {
   initialOversampling: number;
   epsilonConstraint: Required<EpsilonConstraintSettings> | null;
   refinementEta: number;
+  variation: 'sbx' | 'de';
+  differentialWeight: number;
+  refinementMove: 'mutation' | 'differential';
 }
 
 export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): ResolvedNsga2Settings {
@@ -145,6 +162,9 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
       ? { generations: settings.epsilonConstraint.generations, exponent: settings.epsilonConstraint.exponent ?? 5, quantile: settings.epsilonConstraint.quantile ?? 0.2 }
       : null,
     refinementEta: settings.refinementEta ?? 100,
+    variation: settings.variation ?? 'sbx',
+    differentialWeight: settings.differentialWeight ?? 0.5,
+    refinementMove: settings.refinementMove ?? 'mutation',
   };
   if (!(resolved.initialOversampling >= 1 && Number.isFinite(resolved.initialOversampling))) {
     throw new RangeError(`initialOversampling must be a finite number >= 1, got ${resolved.initialOversampling}`);
@@ -153,6 +173,9 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
   if (epsilon && !(Number.isInteger(epsilon.generations) && epsilon.generations >= 1 && epsilon.exponent >= 0 && epsilon.quantile >= 0 && epsilon.quantile <= 1)) {
     throw new RangeError('epsilonConstraint: generations must be an integer >= 1, exponent >= 0, quantile in [0, 1]');
   }
+  if (resolved.variation !== 'sbx' && resolved.variation !== 'de') throw new RangeError(`variation must be 'sbx' or 'de', got ${String(resolved.variation)}`);
+  if (resolved.refinementMove !== 'mutation' && resolved.refinementMove !== 'differential') throw new RangeError(`refinementMove must be 'mutation' or 'differential', got ${String(resolved.refinementMove)}`);
+  if (!(resolved.differentialWeight > 0 && resolved.differentialWeight <= 2)) throw new RangeError(`differentialWeight must be in (0, 2], got ${resolved.differentialWeight}`);
   if (!(resolved.refinementEta >= 0 && Number.isFinite(resolved.refinementEta))) throw new RangeError(`refinementEta must be a finite number >= 0, got ${resolved.refinementEta}`);
   if (!Number.isInteger(resolved.populationSize) || resolved.populationSize < 2) {
     throw new RangeError(`populationSize must be an integer >= 2, got ${resolved.populationSize}`);
@@ -314,20 +337,57 @@ export class Nsga2 extends PopulationOptimizer {
       }
       return entrants[nextEntrant++]!;
     };
-    return this.variation(random, () => crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random));
+    const tournament = (): number => crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random);
+    // DE/rand/1 needs three distinct members; a smaller population uses the paper's variation.
+    if (this.settings.variation === 'de' && parents.length >= 3) return this.differentialVariation(random, tournament);
+    return this.variation(random, tournament);
+  }
+
+  /**
+   * NSGA-II-DE (Li & Zhang 2009): each child is base + F (a - b) (DE/rand/1, crossover rate 1) with
+   * the base chosen by the crowded tournament and a, b two other members drawn uniformly, then
+   * polynomial mutation; duplicates are re-mutated as in the shared variation step.
+   */
+  private differentialVariation(random: SeededRandom, selectBase: () => number): Float64Array[] {
+    const { populationSize, mutationEta, mutationProbability, differentialWeight } = this.settings;
+    const layout = this.layout;
+    const parents = this.individuals;
+    const seen = new DesignSet();
+    for (const individual of parents) seen.add(individual.design);
+    const offspring: Float64Array[] = [];
+    while (offspring.length < populationSize) {
+      const base = selectBase();
+      const [a, b] = distinctPair(parents.length, base, random);
+      const child = new Float64Array(layout.count);
+      differentialMove(parents[base]!.design, parents[a]!.design, parents[b]!.design, differentialWeight, child, layout, random);
+      mutate(child, layout, mutationProbability, mutationEta, random);
+      repair(child, layout);
+      for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
+        if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
+        repair(child, layout);
+      }
+      seen.add(child);
+      offspring.push(child);
+    }
+    return offspring;
   }
 
   /**
    * Final local refinement: N neighbours of archive members. A parent is the winner of a binary
    * tournament between two random archive members on their crowding distance within the archive
    * (objective space; the sparser region wins, boundary members first), so the moves fill the gaps
-   * of the front; its child changes each real or integer variable with probability min(1, 2 / n)
-   * (at least one) by polynomial mutation with the large distribution index `refinementEta` (steps
-   * of about 1 / (eta + 1) of the range). Categorical variables are kept. This is a Pareto local
-   * search (Paquete, Chiarandini & Stützle 2004, "Pareto local optimum sets in the biobjective
-   * traveling salesman problem: an experimental study") around the archive with a continuous
-   * neighbourhood, used as the final stage of a hybrid search as proposed by Deb & Goel 2001 ("A
-   * hybrid multi-objective evolutionary approach to engineering shape design", EMO 2001).
+   * of the front. With `refinementMove: 'differential'` the child first takes a differential move
+   * parent + F (a - b), a and b two distinct members among the parent's 10 nearest archive
+   * neighbours (normalised objective distance): the difference of two neighbouring Pareto-optimal
+   * designs points along the Pareto set, so the move lands near the front between existing
+   * members even where the set is curved or runs along a constraint boundary (neighbourhood mating
+   * as in MOEA/D-DE, Li & Zhang 2009). Then each real or integer variable changes with probability
+   * min(1, 2 / n) (at least one) by polynomial mutation with the large distribution index
+   * `refinementEta` (steps of about 1 / (eta + 1) of the range). Categorical variables are kept.
+   * This is a Pareto local search (Paquete, Chiarandini & Stützle 2004, "Pareto local optimum sets
+   * in the biobjective traveling salesman problem: an experimental study") around the archive with
+   * a continuous neighbourhood, used as the final stage of a hybrid search as proposed by Deb &
+   * Goel 2001 ("A hybrid multi-objective evolutionary approach to engineering shape design", EMO 2001).
    */
   private makeRefinementPopulation(random: SeededRandom): Float64Array[] {
     const members = this.paretoArchive.members();
@@ -339,6 +399,7 @@ export class Nsga2 extends PopulationOptimizer {
     const indices = Int32Array.from(points, (_, i) => i);
     const crowding = new Float64Array(points.length);
     crowdingDistance(flat, this.objectiveCount, indices, crowding);
+    const scale = objectiveScale(flat, this.objectiveCount);
     const seen = new DesignSet();
     for (const member of this.members) seen.add(member.design);
     for (const member of members) seen.add(member.design);
@@ -352,6 +413,10 @@ export class Nsga2 extends PopulationOptimizer {
       const b = random.int(members.length);
       const parent = crowding[a]! > crowding[b]! ? a : crowding[b]! > crowding[a]! ? b : random.next() <= 0.5 ? a : b;
       const child = members[parent]!.design.slice();
+      if (this.settings.refinementMove === 'differential' && members.length >= 3) {
+        const [a, b] = nearestPair(flat, this.objectiveCount, parent, REFINEMENT_NEIGHBOURS, random, scale);
+        differentialMove(members[parent]!.design, members[a]!.design, members[b]!.design, this.settings.differentialWeight, child, layout, random);
+      }
       for (let attempt = 0; attempt <= MAX_DUPLICATE_ATTEMPTS && (attempt === 0 || seen.has(child)); attempt++) {
         if (movable.length === 0) {
           mutate(child, layout, 1 / layout.count, eta, random);
@@ -372,6 +437,57 @@ export class Nsga2 extends PopulationOptimizer {
     }
     return offspring;
   }
+}
+
+/** Neighbours of an archive member among which the differential refinement draws its pair. */
+const REFINEMENT_NEIGHBOURS = 10;
+
+/** Two distinct indices in [0, n), both other than `exclude` (needs n >= 3). */
+function distinctPair(n: number, exclude: number, random: SeededRandom): [number, number] {
+  let a = random.int(n - 1);
+  if (a >= exclude) a++;
+  let b = random.int(n - 2);
+  const low = Math.min(a, exclude);
+  const high = Math.max(a, exclude);
+  if (b >= low) b++;
+  if (b >= high) b++;
+  return [a, b];
+}
+
+/** 1 / range of each objective over the rows (1 where there is no spread). */
+function objectiveScale(flat: Float64Array, m: number): Float64Array {
+  const lo = new Float64Array(m).fill(Infinity);
+  const hi = new Float64Array(m).fill(-Infinity);
+  for (let i = 0; i < flat.length; i++) {
+    const k = i % m;
+    if (flat[i]! < lo[k]!) lo[k] = flat[i]!;
+    if (flat[i]! > hi[k]!) hi[k] = flat[i]!;
+  }
+  return lo.map((l, k) => (hi[k]! > l ? 1 / (hi[k]! - l) : 1));
+}
+
+/**
+ * Two distinct members among the `k` nearest to `centre` (normalised objective distance, ties by
+ * index), drawn uniformly; the centre itself is never drawn. Needs at least 3 rows.
+ */
+function nearestPair(flat: Float64Array, m: number, centre: number, k: number, random: SeededRandom, scale: Float64Array): [number, number] {
+  const n = flat.length / m;
+  const distance = new Float64Array(n);
+  for (let j = 0; j < n; j++) {
+    let d = 0;
+    for (let q = 0; q < m; q++) {
+      const diff = (flat[j * m + q]! - flat[centre * m + q]!) * scale[q]!;
+      d += diff * diff;
+    }
+    distance[j] = d;
+  }
+  const order = Array.from({ length: n }, (_, j) => j).filter((j) => j !== centre);
+  order.sort((x, y) => distance[x]! - distance[y]! || x - y);
+  const near = order.slice(0, Math.max(2, Math.min(k, order.length)));
+  const a = random.int(near.length);
+  let b = random.int(near.length - 1);
+  if (b >= a) b++;
+  return [near[a]!, near[b]!];
 }
 
 /** Larger crowding distance first; +Infinity ties with +Infinity. */

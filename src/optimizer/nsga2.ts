@@ -34,7 +34,7 @@
  * the run's real result (`archive()`). The search never reads it.
  */
 
-import { crowdedTournament, DesignSet, differentialMove, KIND_CATEGORICAL, mutate, mutateVariable, repair } from './operators.js';
+import { crowdedTournament, DesignSet, differentialMove, KIND_CATEGORICAL, mutate, mutateVariable, repair, type DesignLayout } from './operators.js';
 import { type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
 import { MAX_DUPLICATE_ATTEMPTS, PopulationOptimizer, type Individual } from './population.js';
 import type { SeededRandom, RandomState } from './random.js';
@@ -82,6 +82,8 @@ export interface Nsga2Settings {
    * archive neighbours, followed by polynomial mutation; see makeRefinementPopulation).
    */
   refinementMove?: 'mutation' | 'differential';
+  /** Refinement children per objective spent on anchor moves (default 0; see anchorMoves). */
+  refinementAnchors?: number;
 }
 
 /**
@@ -147,6 +149,7 @@ export interface ResolvedNsga2Settings {
   variation: 'sbx' | 'de';
   differentialWeight: number;
   refinementMove: 'mutation' | 'differential';
+  refinementAnchors: number;
 }
 
 export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): ResolvedNsga2Settings {
@@ -165,6 +168,7 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
     variation: settings.variation ?? 'sbx',
     differentialWeight: settings.differentialWeight ?? 0.5,
     refinementMove: settings.refinementMove ?? 'mutation',
+    refinementAnchors: settings.refinementAnchors ?? 0,
   };
   if (!(resolved.initialOversampling >= 1 && Number.isFinite(resolved.initialOversampling))) {
     throw new RangeError(`initialOversampling must be a finite number >= 1, got ${resolved.initialOversampling}`);
@@ -175,6 +179,7 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
   }
   if (resolved.variation !== 'sbx' && resolved.variation !== 'de') throw new RangeError(`variation must be 'sbx' or 'de', got ${String(resolved.variation)}`);
   if (resolved.refinementMove !== 'mutation' && resolved.refinementMove !== 'differential') throw new RangeError(`refinementMove must be 'mutation' or 'differential', got ${String(resolved.refinementMove)}`);
+  if (!(Number.isInteger(resolved.refinementAnchors) && resolved.refinementAnchors >= 0)) throw new RangeError(`refinementAnchors must be an integer >= 0, got ${resolved.refinementAnchors}`);
   if (!(resolved.differentialWeight > 0 && resolved.differentialWeight <= 2)) throw new RangeError(`differentialWeight must be in (0, 2], got ${resolved.differentialWeight}`);
   if (!(resolved.refinementEta >= 0 && Number.isFinite(resolved.refinementEta))) throw new RangeError(`refinementEta must be a finite number >= 0, got ${resolved.refinementEta}`);
   if (!Number.isInteger(resolved.populationSize) || resolved.populationSize < 2) {
@@ -406,8 +411,14 @@ export class Nsga2 extends PopulationOptimizer {
     const movable: number[] = [];
     for (let i = 0; i < layout.count; i++) if (layout.kinds[i] !== KIND_CATEGORICAL) movable.push(i);
     const probability = Math.min(1, 2 / Math.max(1, movable.length));
-    const eta = this.settings.refinementEta;
-    const offspring: Float64Array[] = [];
+    const step = (child: Float64Array, eta: number): void => {
+      for (let attempt = 0; attempt <= MAX_DUPLICATE_ATTEMPTS && (attempt === 0 || seen.has(child)); attempt++) {
+        localStep(child, layout, movable, probability, eta, random);
+        repair(child, layout);
+      }
+      seen.add(child);
+    };
+    const offspring = this.anchorMoves(points, step);
     while (offspring.length < this.settings.populationSize) {
       const a = random.int(members.length);
       const b = random.int(members.length);
@@ -417,26 +428,55 @@ export class Nsga2 extends PopulationOptimizer {
         const [a, b] = nearestPair(flat, this.objectiveCount, parent, REFINEMENT_NEIGHBOURS, random, scale);
         differentialMove(members[parent]!.design, members[a]!.design, members[b]!.design, this.settings.differentialWeight, child, layout, random);
       }
-      for (let attempt = 0; attempt <= MAX_DUPLICATE_ATTEMPTS && (attempt === 0 || seen.has(child)); attempt++) {
-        if (movable.length === 0) {
-          mutate(child, layout, 1 / layout.count, eta, random);
-        } else {
-          let changed = 0;
-          for (const i of movable) {
-            if (random.next() <= probability) {
-              mutateVariable(child, i, layout, eta, random);
-              changed++;
-            }
-          }
-          if (changed === 0) mutateVariable(child, movable[random.int(movable.length)]!, layout, eta, random);
-        }
-        repair(child, layout);
-      }
-      seen.add(child);
+      step(child, this.settings.refinementEta);
       offspring.push(child);
     }
     return offspring;
   }
+
+  /**
+   * Anchor moves of the refinement: `refinementAnchors` children per objective from the archive
+   * member that is best in that objective (its anchor point, the individual minimum of the Normal
+   * Boundary Intersection method, Das & Dennis 1998, SIAM J. Optim. 8(3), 631-657). Alternate
+   * children take coarse steps (the search's mutation index) and ten times finer ones, a (1 + λ)
+   * search per anchor: any child that betters the anchor's objective enters the archive as the new
+   * anchor, so the ends of the front keep moving outward while the other moves fill it in.
+   */
+  private anchorMoves(points: readonly Float64Array[], step: (child: Float64Array, eta: number) => void): Float64Array[] {
+    const children: Float64Array[] = [];
+    const members = this.paretoArchive.members();
+    const count = this.settings.refinementAnchors;
+    for (let m = 0; m < this.objectiveCount && count > 0; m++) {
+      let best = 0;
+      for (let i = 1; i < points.length; i++) if (points[i]![m]! < points[best]![m]!) best = i;
+      for (let j = 0; j < count && children.length < this.settings.populationSize; j++) {
+        const child = members[best]!.design.slice();
+        step(child, j % 2 === 0 ? this.settings.mutationEta : this.settings.mutationEta * 10);
+        children.push(child);
+      }
+    }
+    return children;
+  }
+}
+
+/**
+ * A local move: each movable (real or integer) variable changes with probability `probability` by
+ * polynomial mutation of index `eta`, at least one of them; without movable variables, the usual
+ * mutation of every variable with probability 1 / n.
+ */
+function localStep(child: Float64Array, layout: DesignLayout, movable: readonly number[], probability: number, eta: number, random: SeededRandom): void {
+  if (movable.length === 0) {
+    mutate(child, layout, 1 / layout.count, eta, random);
+    return;
+  }
+  let changed = 0;
+  for (const i of movable) {
+    if (random.next() <= probability) {
+      mutateVariable(child, i, layout, eta, random);
+      changed++;
+    }
+  }
+  if (changed === 0) mutateVariable(child, movable[random.int(movable.length)]!, layout, eta, random);
 }
 
 /** Neighbours of an archive member among which the differential refinement draws its pair. */

@@ -113,6 +113,8 @@ export const CONVERGENCE_SEARCH = {
   refinementMove: 'differential' as const,
   /** Distribution index of the refinement's polynomial moves (steps of about 0.1 % of a range). */
   refinementEta: 1000,
+  /** Refinement children per objective and generation that push the front's ends (anchor moves). */
+  refinementAnchors: 2,
   /** T_c of the ε-constraint handling (Takahama & Sakai 2006) in generations; 0: Deb's constrained domination. */
   epsilonGenerations: 0,
 };
@@ -254,6 +256,7 @@ function searchPlan(loaded: LoadedStudy, population: number, seed: number, fixed
     differentialWeight: CONVERGENCE_SEARCH.differentialWeight,
     refinementMove: CONVERGENCE_SEARCH.refinementMove,
     refinementEta: CONVERGENCE_SEARCH.refinementEta,
+    refinementAnchors: CONVERGENCE_SEARCH.refinementAnchors,
     ...(CONVERGENCE_SEARCH.epsilonGenerations > 0 ? { epsilonConstraint: { generations: CONVERGENCE_SEARCH.epsilonGenerations } } : {}),
   };
   return {

@@ -107,8 +107,11 @@ export const CONVERGENCE_SEARCH = {
   variation: 'de' as const,
   /** F of the differential moves. */
   differentialWeight: 0.5,
-  /** Generations of final local refinement of the front (the budget split: the last ones of the cap). */
-  refinementGenerations: 30,
+  /**
+   * Budget split: the share of the evaluation cap spent on the final local refinement of the front
+   * (its last round(0.3 · cap / N) generations; 30 of the default 10,000 evaluations with N = 100).
+   */
+  refinementShare: 0.3,
   /** Refinement moves: an archive member plus a difference of two of its archive neighbours. */
   refinementMove: 'differential' as const,
   /** Distribution index of the refinement's polynomial moves (steps of about 0.1 % of a range). */
@@ -262,9 +265,9 @@ function searchPlan(loaded: LoadedStudy, population: number, seed: number, fixed
   return {
     nsga,
     // The final local refinement is a phase of Nsga2; NSGA-III runs stop on convergence without it.
-    termination: { maxEvaluations: conv.maxEvaluations, convergence: { window: conv.window, tolerance: conv.tolerance }, refinementGenerations: algorithm === 'nsga2' ? CONVERGENCE_SEARCH.refinementGenerations : 0 },
+    termination: { maxEvaluations: conv.maxEvaluations, convergence: { window: conv.window, tolerance: conv.tolerance }, refinementGenerations: algorithm === 'nsga2' ? Math.round((CONVERGENCE_SEARCH.refinementShare * conv.maxEvaluations) / population) : 0 },
     // NSGA-III keeps its paper's start and variation (it reads none of these settings): recorded as such.
-    search: algorithm === 'nsga2' ? { ...CONVERGENCE_SEARCH } : { initialOversampling: 1, variation: 'sbx', refinementGenerations: 0 },
+    search: algorithm === 'nsga2' ? { ...CONVERGENCE_SEARCH } : { initialOversampling: 1, variation: 'sbx', refinementShare: 0 },
   };
 }
 

@@ -31,7 +31,16 @@
  *
  * Not in the paper: every told design is also offered to an external archive
  * (archive.ts) of the non-dominated feasible designs found so far, which is
- * the run's real result (`archive()`). The search never reads it.
+ * the run's real result (`archive()`). The paper's search never reads it.
+ *
+ * Options, all off by default (see docs/optimizer.md, "Reaching a narrow
+ * feasible region"): an oversampled initial Latin hypercube, ε-constraint
+ * handling (Takahama & Sakai 2006), differential-evolution variation
+ * (NSGA-II-DE, Li & Zhang 2009), and a final local refinement phase that
+ * makes its offspring around archive members (Pareto local search).
+ *
+ * What NSGA-II shares with NSGA-III (ask/tell cycle, archive, snapshot,
+ * sort, initial sample, SBX variation) lives in population.ts.
  */
 
 import { crowdedTournament, DesignSet, differentialMove, KIND_CATEGORICAL, mutate, mutateVariable, repair, type DesignLayout } from './operators.js';

@@ -9,6 +9,8 @@ import type { FiveBarModel } from './fivebar.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelInput } from '../architectures/types.js';
 import { driveAtJoint } from '../study/drives.js';
+import { motorPerJointUnit, withDriveStiffness } from '../accuracy/joints.js';
+import { tubeSection } from '../accuracy/sectionChoice.js';
 import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
 /**
@@ -28,7 +30,9 @@ export type DesignVariable =
       readonly options: readonly DriveSpec[];
       readonly member?: number;
     }
-  | { readonly name: 'architecture'; readonly kind: 'categorical'; readonly role: 'architecture'; readonly choices: readonly ArchitectureName[] };
+  | { readonly name: 'architecture'; readonly kind: 'categorical'; readonly role: 'architecture'; readonly choices: readonly ArchitectureName[] }
+  /** Link section from the study's tube list (docs/accuracy.md). */
+  | { readonly name: string; readonly kind: 'categorical'; readonly role: 'section'; readonly choices: readonly string[]; readonly member?: number };
 
 /**
  * The study's design variables, in design-vector order: geometry variables (the architecture's
@@ -65,6 +69,8 @@ export function designVariables(study: Study): DesignVariable[] {
       for (let i = 0; i < n; i++) out.push({ name: `drive_${i + 1}`, kind: 'categorical', role: 'drive', actuators: [i], choices: labels, options: choice.options });
     }
   }
+  const tubes = study.accuracy?.sectionChoice;
+  if (tubes) out.push({ name: 'link_section', kind: 'categorical', role: 'section', choices: tubes.options.map((o) => o.label) });
   return out;
 }
 
@@ -74,6 +80,8 @@ export interface ResolvedDesign {
   readonly workingMode: string;
   /** Drives of this design (one per actuator), or null when the study gives none. */
   readonly drives: readonly DriveSpec[] | null;
+  /** Index of the chosen tube of the study's link_sections list (absent: the study's own sections). */
+  readonly linkSection?: number;
 }
 
 /** A comparison study's design resolved to its member: the member study, its variables and its design vector. */
@@ -113,11 +121,13 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
   let workingMode = study.workingModes[0]!;
   let drives: DriveSpec[] | null = study.drives ? [...study.drives] : null;
   const chosen: (DriveSpec | undefined)[] = [];
+  let linkSection: number | undefined;
   variables.forEach((v, k) => {
     const index = Math.round(design[k]!);
     if (v.kind === 'real') geometry[v.name] = design[k]!;
     else if (v.role === 'working_mode') workingMode = v.choices[index]!;
     else if (v.role === 'drive') for (const a of v.actuators) chosen[a] = v.options[index]!;
+    else if (v.role === 'section') linkSection = index;
   });
   if (chosen.length === architecture.dof && chosen.every((d) => d !== undefined)) drives = chosen as DriveSpec[];
   for (const { name } of architecture.parameters) {
@@ -128,7 +138,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     const spec = study.geometry[name]!;
     if (spec.kind === 'tied') geometry[name] = geometry[spec.to]!;
   }
-  return { geometry, workingMode, drives };
+  return { geometry, workingMode, drives, ...(linkSection !== undefined ? { linkSection } : {}) };
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
@@ -263,13 +273,13 @@ export function drivesAtJoint(study: Study, drives: readonly DriveSpec[] | null)
 export function modelInput(study: Study, resolved: ResolvedDesign, characteristicLength?: number): ModelInput {
   const o = study.orientation;
   const length = characteristicLength ?? (o && typeof o.characteristicLength === 'number' ? o.characteristicLength : undefined);
-  return {
+  const input: ModelInput = {
     parameters: resolved.geometry,
     workingMode: resolved.workingMode,
     assembly: study.assemblyMode === '+' ? 1 : -1,
     jointLimits: study.jointLimits,
-    cranks: study.links.cranks.map(section),
-    rods: study.links.rods.map(section),
+    cranks: study.links.cranks.map((link) => tubeSection(study.accuracy?.sectionChoice, resolved.linkSection, 'cranks') ?? section(link)),
+    rods: study.links.rods.map((link) => tubeSection(study.accuracy?.sectionChoice, resolved.linkSection, 'rods') ?? section(link)),
     elbowHubMass: study.elbowHubMass,
     sliderMass: study.sliderMass ?? 0,
     endHubMass: study.endHubMass,
@@ -279,6 +289,8 @@ export function modelInput(study: Study, resolved: ResolvedDesign, characteristi
     drives: drivesAtJoint(study, resolved.drives),
     ...(length !== undefined ? { characteristicLength: length } : {}),
   };
+  // Gearbox and servo stiffness of the study's joints section (docs/accuracy.md); unchanged without it.
+  return withDriveStiffness(input, study.accuracy?.joints ?? null, resolved.drives ? resolved.drives.map(motorPerJointUnit) : null);
 }
 
 /**

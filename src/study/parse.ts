@@ -17,6 +17,7 @@ import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction
 import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
+import { accuracyMetricProblem, parseAccuracySections } from './accuracySection.js';
 import {
   ARCHITECTURE_PREFIX,
   type ConstraintSpec,
@@ -275,6 +276,7 @@ export function studySettingsHash(study: Study): string {
     platform: study.platform ?? undefined,
     orientation: study.orientation ?? undefined,
     members: study.members ? study.members.map(studySettingsHash) : undefined,
+    accuracy: study.accuracy ?? undefined,
   };
   return sha256(canonicalJson(relevant));
 }
@@ -671,6 +673,8 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     const unavailable = metricUnavailable(metric, n);
     if (unavailable) throw new StudyError(`${where}: "${metric}" ${unavailable} (the ${architectureName} has ${n} actuators)`);
     if (metric === 'min_cycle_time' && !drivesIn) throw new StudyError(`${where}: "min_cycle_time" needs drives (their limits set the shortest cycle time)`);
+    const builtArm = accuracyMetricProblem(metric, data);
+    if (builtArm) throw new StudyError(`${where}: "${metric}" ${builtArm}`);
   });
 
   const optimizer = parseOptimizer(isObject(data['optimizer']) ? data['optimizer'] : {});
@@ -702,9 +706,16 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     ...(sliderMass !== undefined ? { sliderMass } : {}),
     ...(platform ? { platform } : {}),
     ...(orientation ? { orientation } : {}),
+    ...accuracyOf(data, architecture.actuators),
   };
   const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
   return { ...partial, baseline };
+}
+
+/** The accuracy sections (tolerances, joints, strength, link_sections) as a partial study: empty when none is given. */
+function accuracyOf(data: JsonObject, actuators: readonly ActuatorKind[]): { accuracy?: Study['accuracy'] } {
+  const accuracy = parseAccuracySections(data, actuators);
+  return accuracy ? { accuracy } : {};
 }
 
 /**
@@ -745,6 +756,15 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
       out[name] = value;
       continue;
     }
+    if (name === 'link_section') {
+      const tubes = study.accuracy?.sectionChoice;
+      if (!tubes) throw new StudyError(`${where}: "link_section" is a design variable only with a link_sections list`);
+      if (typeof value !== 'string' || !tubes.options.some((o) => o.label === value)) {
+        throw new StudyError(`${where}: must be one of the link_sections tubes ${JSON.stringify(tubes.options.map((o) => o.label))}`);
+      }
+      out[name] = value;
+      continue;
+    }
     if (name === 'drive' || /^drive_[123]$/.test(name)) {
       const choice = study.driveChoice;
       const count = ARCHITECTURES[study.architecture].dof;
@@ -777,6 +797,9 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     }
     out[name] = v;
   }
+  // The tube list's first entry is the baseline's link section unless the baseline names one.
+  const tubes = study.accuracy?.sectionChoice;
+  if (tubes && out['link_section'] === undefined) out['link_section'] = tubes.options[0]!.label;
   return out;
 }
 

@@ -122,7 +122,7 @@ export class BuiltArmChecks {
       if (r.bending[i]! > this.bending) this.bending = r.bending[i]!;
       if (r.stress[i]! > this.stress) this.stress = r.stress[i]!;
       if (r.euler[i]! < this.euler) this.euler = r.euler[i]!;
-      if (r.axial[i]! > this.jointForce[i]!) this.jointForce[i] = r.axial[i]!;
+      if (r.pinForce[i]! > this.jointForce[i]!) this.jointForce[i] = r.pinForce[i]!;
     }
   }
 

@@ -80,3 +80,26 @@ export function sectionProperties(s: SectionShape): SectionProperties {
 export function eulerLoad(youngsModulus: number, secondMoment: number, length: number): number {
   return (Math.PI * Math.PI * youngsModulus * secondMoment) / (length * length);
 }
+
+/**
+ * Cantilever of length L under a tip force F: tip deflection F L³/(3 E I) and root moment F L; under
+ * a uniform load w (N/m): tip deflection w L⁴/(8 E I), root moment w L²/2 (Roark's Formulas for Stress
+ * and Strain, 7th ed., Table 8.1 cases 1a and 2a, from memory).
+ */
+export function cantilever(force: number, uniform: number, length: number, flexuralRigidity: number): { tipDeflection: number; rootMoment: number } {
+  const L = length;
+  return {
+    tipDeflection: (force * L ** 3) / (3 * flexuralRigidity) + (uniform * L ** 4) / (8 * flexuralRigidity),
+    rootMoment: force * L + (uniform * L * L) / 2,
+  };
+}
+
+/**
+ * Simply supported (pinned–pinned) beam of length L under a uniform load w (N/m): largest moment
+ * w L²/8 at mid-span, mid-span deflection 5 w L⁴/(384 E I) (Roark's Formulas for Stress and Strain,
+ * 7th ed., Table 8.1 case 2e, from memory). A rod carrying its own weight across its pins.
+ */
+export function simplySupportedUniform(uniform: number, length: number, flexuralRigidity: number): { maxMoment: number; centreDeflection: number } {
+  const L = length;
+  return { maxMoment: (uniform * L * L) / 8, centreDeflection: (5 * uniform * L ** 4) / (384 * flexuralRigidity) };
+}

@@ -19,13 +19,16 @@
  * gives Aᵀ f = w, so f = A⁻ᵀ w for the payload and end-body weight w (a force at P; 3-DOF: no moment,
  * the centre of mass is P), plus a study load of size F in the worst in-plane direction:
  * |f_i| ≤ |f_g,i| + F |(A⁻¹)_{xy, i}|. A crank carries the rod force at its end: axial f (e·u),
- * root bending moment p f |s_i|. Stresses N/A + M c/I; Euler load π² E I_min / L² of a compressed rod
- * or strut (pinned–pinned).
+ * root bending moment p f |s_i|. Links are not two-force members under their own weight: a rod or
+ * strut tube bends between its pins as a simply supported beam under the weight component across it
+ * (w L²/8), a crank as a cantilever (w p²/2 plus the elbow hub's weight at p); the pins of a rod then
+ * also carry w L/2 across it. Stresses N/A + M c/I; Euler load π² E I_min / L² of a compressed rod or
+ * strut (pinned–pinned).
  */
 import { generalizedEigenvalues } from '../architectures/dense.js';
 import type { LeggedModel } from '../architectures/legged.js';
 import type { ArchitecturePose } from '../architectures/types.js';
-import { eulerLoad, type SectionProperties } from './sections.js';
+import { cantilever, eulerLoad, simplySupportedUniform, type SectionProperties } from './sections.js';
 
 /** Section, modulus and shear modulus of one link (null section: not known, checks give NaN). */
 export interface LinkMaterial {
@@ -54,8 +57,9 @@ function memberCompliance(x0: number, y0: number, x1: number, y1: number, bx: nu
 export interface PoseStructure {
   /** Lowest out-of-plane natural frequency, Hz (NaN when a section is not known). */
   outOfPlaneMode: number;
-  /** Per leg: peak axial force (N), crank bending moment (N·m), largest stress (Pa), Euler ratio (∞ when not compressed). */
+  /** Per leg: peak axial force (N), largest bending moment (N·m), pin force (N), largest stress (Pa), Euler ratio (∞ when not compressed). */
   readonly axial: Float64Array;
+  readonly pinForce: Float64Array;
   readonly bending: Float64Array;
   readonly stress: Float64Array;
   readonly euler: Float64Array;
@@ -72,7 +76,7 @@ export class StructureAtPose {
 
   constructor(dof: number) {
     this.n = dof;
-    this.result = { outOfPlaneMode: Number.NaN, axial: new Float64Array(dof), bending: new Float64Array(dof), stress: new Float64Array(dof), euler: new Float64Array(dof) };
+    this.result = { outOfPlaneMode: Number.NaN, axial: new Float64Array(dof), pinForce: new Float64Array(dof), bending: new Float64Array(dof), stress: new Float64Array(dof), euler: new Float64Array(dof) };
   }
 
   /** Out-of-plane compliance of leg i at its distal pin (m/N) and the ratio of the elbow's deflection to it; NaN when a section is missing. */
@@ -161,11 +165,21 @@ export class StructureAtPose {
       const ey = pose.actuatorDirection[2 * i + 1]!;
       const ux = pose.rodDirection[2 * i]!;
       const uy = pose.rodDirection[2 * i + 1]!;
-      const moment = leg === 'crank-rod' ? p * peak * Math.abs(pose.legSine[i]!) : 0;
+      const g = Math.hypot(model.gravity[0], model.gravity[1]);
+      // Weight per length across the rod (N/m) and across the crank; the crank's hub weight acts at its end.
+      const rodLength = leg === 'strut' ? pose.q[i]! : model.rod[i]!;
+      const rodAcross = model.rodMass[i]! > 0 && rodLength > 0 ? (model.rodMass[i]! / Math.max(model.rod[i]!, 1e-12)) * Math.abs(ux * model.gravity[1] - uy * model.gravity[0]) : 0;
+      const rodMoment = simplySupportedUniform(rodAcross, rodLength, 1).maxMoment;
+      // Crank with hub: first moment m_c p/2 + m_h p and mass m_c + m_h give the hub 2 S/p − m and the bar the rest.
+      const hub = leg === 'crank-rod' && p > 0 ? (2 * model.proximalFirstMoment[i]!) / p - model.proximalMass[i]! : 0;
+      const crankMass = leg === 'crank-rod' ? model.proximalMass[i]! - hub : 0;
+      const crankAcross = leg === 'crank-rod' && p > 0 ? Math.abs(ex * model.gravity[1] - ey * model.gravity[0]) / Math.max(g, 1e-300) : 0;
+      const moment = leg === 'crank-rod' ? cantilever(peak * Math.abs(pose.legSine[i]!) + hub * g * crankAcross, (crankMass / p) * g * crankAcross, p, 1).rootMoment : 0;
       r.axial[i] = peak;
-      r.bending[i] = moment;
+      r.bending[i] = Math.max(moment, rodMoment);
+      r.pinForce[i] = peak + (rodAcross * rodLength) / 2;
       const rod = rods[i]!.section;
-      let stress = rod ? peak / rod.area : Number.NaN;
+      let stress = rod ? peak / rod.area + (rodMoment * rod.inPlaneHalfDepth) / rod.inPlaneSecondMoment : Number.NaN;
       if (leg === 'crank-rod') {
         const crank = cranks[i]!.section;
         const crankStress = crank ? (peak * Math.abs(ex * ux + ey * uy)) / crank.area + (moment * crank.inPlaneHalfDepth) / crank.inPlaneSecondMoment : Number.NaN;
@@ -173,7 +187,7 @@ export class StructureAtPose {
         if (Number.isNaN(crankStress)) stress = Number.NaN;
       }
       r.stress[i] = stress;
-      const length = leg === 'strut' ? pose.q[i]! : model.rod[i]!;
+      const length = rodLength;
       const inertia = rod ? Math.min(rod.inPlaneSecondMoment, rod.outOfPlaneSecondMoment) : Number.NaN;
       r.euler[i] = compression > 0 ? eulerLoad(rods[i]!.youngsModulus, inertia, length) / compression : Infinity;
     }

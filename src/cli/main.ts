@@ -26,6 +26,7 @@ import { taskPointFailures, type TaskPointFailures } from './taskPoints.js';
 import { checkOverrides, checkPointText, joinNegativeValues, UsageError, UserError } from './argChecks.js';
 import { programName, setInvocationArguments } from './invocation.js';
 import { registerScaleCommands } from './scaleCommands.js';
+import { builtArmRows, registerAccuracyCommands } from './accuracyCommands.js';
 
 export { UserError, UsageError };
 
@@ -290,6 +291,7 @@ export function buildCli(argv: readonly string[]): Argv {
         if (report.naturalFrequencies) rows.push(['natural frequencies', report.naturalFrequencies.map((f) => formatValue(f, 'frequency')).join(', ')]);
         if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
         if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? report.requiredJointSpeeds.map((s) => formatValue(s, 'angularSpeed')).join(', ') : '— (no task speed)']);
+        rows.push(...builtArmRows(report.builtArm));
         out(`probe at (${formatValue(x, 'length')}, ${formatValue(y, 'length')})\n\n${table(['quantity', 'value'], rows)}`);
       },
     );
@@ -298,6 +300,7 @@ export function buildCli(argv: readonly string[]): Argv {
   cli = registerExportCommands(cli);
   cli = registerSimulateCommands(cli);
   cli = registerScaleCommands(cli);
+  cli = registerAccuracyCommands(cli);
   return cli
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()
@@ -338,6 +341,7 @@ function formatArchitectureProbe(report: ReturnType<typeof probeArchitectureDesi
   if (report.naturalFrequencies) rows.push(['natural frequencies', report.naturalFrequencies.map((f) => formatValue(f, 'frequency')).join(', ')]);
   if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
   if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? withUnits(report.requiredJointSpeeds, 'speed') : '— (no task speed)']);
+  rows.push(...builtArmRows(report.builtArm));
   const at = `(${formatValue(report.point.x, 'length')}, ${formatValue(report.point.y, 'length')}${report.point.phi !== undefined ? `, ${formatValue(report.point.phi, 'angle')}` : ''})`;
   return `probe at ${at}\n\n${table(['quantity', 'value'], rows)}`;
 }

@@ -10,7 +10,7 @@ import { dirname, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import { parseAllDocuments, parseDocument, stringify } from 'yaml';
 import type { AssemblyMode, JointRange } from '../core/pose.js';
-import { metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
+import { currentMetricName, metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
 import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
@@ -647,7 +647,9 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     const metric = o['metric'] as string;
     const info = metricInfo(metric);
     if (!info) throw new StudyError(`objectives[${i}].metric: unknown metric "${metric}"`);
-    return { metric, sense: (o['sense'] as 'min' | 'max' | undefined) ?? info.better };
+    // A renamed metric's old name (bandwidth, resolution) is read as the new one: stored columns and
+    // front tables carry the current name (src/core/metrics.ts METRIC_ALIASES).
+    return { metric: currentMetricName(metric), sense: (o['sense'] as 'min' | 'max' | undefined) ?? info.better };
   });
   const seenObjectives = new Set<string>();
   for (const o of objectives) {

@@ -5,7 +5,8 @@
  * (allocation-free); `write` fills the metrics. Without the study sections every metric stays NaN.
  */
 import type { LeggedModel } from '../architectures/legged.js';
-import type { ArchitectureModelBase, ArchitecturePose, DriveAtJoint } from '../architectures/types.js';
+import type { ArchitectureModelBase, ArchitecturePose, DriveAtJoint, PlanarArchitecture } from '../architectures/types.js';
+import { PoseStatus } from '../core/pose.js';
 import { metricIndex } from '../core/metrics.js';
 import { FirstOrderAccuracy } from './firstOrder.js';
 import type { AccuracySpec } from './spec.js';
@@ -24,6 +25,15 @@ const M = {
   jointForce: metricIndex('peak_joint_force'),
   jointForceOf: [metricIndex('peak_joint_force_1'), metricIndex('peak_joint_force_2'), metricIndex('peak_joint_force_3')],
 } as const;
+
+/** Poses and accelerations along a duty cycle (reference timing), for the strength checks. */
+export interface CycleLoadPath {
+  readonly count: number;
+  readonly x: Float64Array; readonly y: Float64Array; readonly phi: Float64Array;
+  readonly ax: Float64Array; readonly ay: Float64Array; readonly aphi: Float64Array;
+  /** Time scale of the moves at the evaluated cycle time (accelerations divide by its square); 1 = reference timing. */
+  readonly timeScale: number;
+}
 
 /** What a design brings to the checks besides its model. */
 export interface BuiltArmDesign {
@@ -56,11 +66,41 @@ export class BuiltArmChecks {
   private stress = 0;
   private euler = Infinity;
   private readonly jointForce = new Float64Array(3);
+  private cyclePath: CycleLoadPath | null = null;
+  private cyclePose: ArchitecturePose | null = null;
 
   constructor(dof: number) {
     this.n = dof;
     this.firstOrder = new FirstOrderAccuracy(dof);
     this.structure = new StructureAtPose(dof);
+  }
+
+  /** The duty cycle whose inertial loads the strength checks include (set once per evaluator). */
+  setCycle(path: CycleLoadPath | null, pose: ArchitecturePose): void {
+    this.cyclePath = path;
+    this.cyclePose = pose;
+  }
+
+  /**
+   * Link loads along the duty cycle (after the region's poses, before `write`): the end body's weight
+   * and inertia at each cycle node. A node the design cannot hold makes the loads unbounded.
+   */
+  runCycle(modelBase: ArchitectureModelBase, architecture: PlanarArchitecture<ArchitectureModelBase>): void {
+    const path = this.cyclePath;
+    const design = this.design;
+    const pose = this.cyclePose;
+    if (!path || !design || !pose) return;
+    const model = modelBase as LeggedModel;
+    const s2 = path.timeScale * path.timeScale;
+    for (let k = 0; k < path.count; k++) {
+      const status = architecture.solvePose(modelBase, pose, path.x[k]!, path.y[k]!, path.phi[k]!);
+      if (status !== PoseStatus.Assembled || !this.firstOrder.inverseOnly(pose)) {
+        this.axial = Infinity; this.bending = Infinity; this.stress = Infinity; this.euler = 0; this.jointForce.fill(Infinity);
+        return;
+      }
+      this.structure.loads(model, pose, this.firstOrder.inverse, design.spec.strength?.endLoad ?? 0, design.cranks, design.rods, path.ax[k]! / s2, path.ay[k]! / s2, path.aphi[k]! / s2);
+      this.takeLoads();
+    }
   }
 
   /** Per design; null (or a model outside the leg layer) turns the checks off. */
@@ -116,7 +156,12 @@ export class BuiltArmChecks {
       if (!(mode >= this.outOfPlane)) this.outOfPlane = mode;
     }
     s.loads(model, pose, fo.inverse, design.spec.strength?.endLoad ?? 0, design.cranks, design.rods);
-    const r = s.result;
+    this.takeLoads();
+  }
+
+  /** The worst of the loads just computed and those before. */
+  private takeLoads(): void {
+    const r = this.structure.result;
     for (let i = 0; i < this.n; i++) {
       if (r.axial[i]! > this.axial) this.axial = r.axial[i]!;
       if (r.bending[i]! > this.bending) this.bending = r.bending[i]!;

@@ -144,18 +144,25 @@ export class StructureAtPose {
 
   /**
    * Leg forces and link stresses at the pose, from A⁻¹ (row-major n×n, already computed). `endLoad` N
-   * in the worst in-plane direction; gravity (m/s²) acts on the end body and payload.
+   * in the worst in-plane direction; gravity (m/s²) acts on the end body and payload, and along a duty
+   * cycle their inertia at the end point's acceleration (ax, ay; m/s²) and the platform's (aphi, rad/s²).
    */
-  loads(model: LeggedModel, pose: ArchitecturePose, ainv: Float64Array, endLoad: number, cranks: readonly LinkMaterial[], rods: readonly LinkMaterial[]): void {
+  loads(
+    model: LeggedModel, pose: ArchitecturePose, ainv: Float64Array, endLoad: number, cranks: readonly LinkMaterial[], rods: readonly LinkMaterial[],
+    ax = 0, ay = 0, aphi = 0,
+  ): void {
     const n = this.n;
     const r = this.result;
     const end = model.platformMass + model.payloadMass;
-    const wx = end * model.gravity[0];
-    const wy = end * model.gravity[1];
+    // d'Alembert: the end body (and payload) at acceleration a loads the rods like a weight m (g − a); a
+    // platform's angular acceleration adds the moment −I φ̈ (3-DOF; its centre of mass is P).
+    const wx = end * (model.gravity[0] - ax);
+    const wy = end * (model.gravity[1] - ay);
+    const wm = n === 3 ? -model.platformInertia * aphi : 0;
     for (let i = 0; i < n; i++) {
       const gx = ainv[i]!;
       const gy = ainv[n + i]!;
-      const fg = gx * wx + gy * wy;
+      const fg = gx * wx + gy * wy + (n === 3 ? ainv[2 * n + i]! * wm : 0);
       const spread = endLoad * Math.hypot(gx, gy);
       const peak = Math.abs(fg) + spread;
       const compression = Math.max(0, spread - fg);

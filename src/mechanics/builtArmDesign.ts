@@ -3,13 +3,14 @@
  * study's accuracy sections, each link's section properties (its own shape or the chosen tube),
  * Young's modulus and shear modulus G = E / (2 (1 + ν)), and the drives at the joints.
  */
-import { isLeggedModel, type BuiltArmDesign } from '../accuracy/builtArm.js';
+import { isLeggedModel, type BuiltArmDesign, type CycleLoadPath } from '../accuracy/builtArm.js';
+import { CycleSamples, CycleTrajectory, evaluatedCycleTime } from './dutyCycle.js';
 import { FirstOrderAccuracy, type PoseAccuracy } from '../accuracy/firstOrder.js';
 import { StructureAtPose } from '../accuracy/structure.js';
 import { chosenTube, linkSectionProperties } from '../accuracy/sectionChoice.js';
 import type { LinkMaterial } from '../accuracy/structure.js';
 import type { ArchitectureModelBase, ArchitecturePose, DriveAtJoint } from '../architectures/types.js';
-import type { Study } from '../study/types.js';
+import type { DutyCycleSpec, Study } from '../study/types.js';
 import { drivesAtJoint, type ResolvedDesign } from './designSpace.js';
 import type { ArchitectureDesign } from './evaluate.js';
 import { PoseStatus } from '../core/pose.js';
@@ -102,3 +103,14 @@ export function builtArmField(d: ArchitectureDesign, x: number, y: number, phi?:
   return report ? { builtArm: report } : {};
 }
 
+
+/** The duty cycle's nodes with their accelerations and the time scale of the evaluated pace (dwells kept, moves scaled). */
+export function cycleLoadPath(duty: DutyCycleSpec): CycleLoadPath {
+  const samples = new CycleSamples(new CycleTrajectory(duty.path), duty.samples);
+  const cycleTime = evaluatedCycleTime(duty);
+  const scale = cycleTime === null ? 1 : (cycleTime - samples.dwellTime) / samples.moveTime;
+  return {
+    count: samples.count, x: samples.x, y: samples.y, phi: samples.phi, ax: samples.ax, ay: samples.ay, aphi: samples.aphi,
+    timeScale: scale > 0 ? scale : Number.NaN,
+  };
+}

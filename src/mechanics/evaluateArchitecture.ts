@@ -31,7 +31,7 @@ import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
 import { BuiltArmChecks, isLeggedModel } from '../accuracy/builtArm.js';
 import { withBearings } from '../accuracy/joints.js';
-import { builtArmDesign } from './builtArmDesign.js';
+import { builtArmDesign, cycleLoadPath } from './builtArmDesign.js';
 import type { Study } from '../study/types.js';
 
 export { architectureUsableMargin };
@@ -134,6 +134,7 @@ export class ArchitectureEvaluator {
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
     this.cycle = CycleMetrics.forStudy(study, this.architecture);
     this.builtArm = new BuiltArmChecks(this.architecture.dof);
+    if (study.accuracy && study.dutyCycle) this.builtArm.setCycle(cycleLoadPath(study.dutyCycle), this.architecture.createPose());
   }
 
   resolve(design: ArrayLike<number>): ResolvedDesign {
@@ -385,6 +386,7 @@ export class ArchitectureEvaluator {
     if (this.study.task.speed > 0) metrics[M.peakSpeed] = peakSpeed;
     metrics[M.accel] = this.drives ? worst(agg.minAccel, 0) : Number.NaN;
     metrics[M.resolution] = this.drives && this.drives.every((d) => d.encoderStep > 0) ? worst(agg.maxStep, Infinity) : Number.NaN;
+    this.builtArm.runCycle(model, this.architecture);
     this.builtArm.write(metrics);
     metrics[M.footprint] = this.architecture.footprint(model);
     metrics[M.movingMass] = this.architecture.movingMass(model);

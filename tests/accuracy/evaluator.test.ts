@@ -129,3 +129,31 @@ objectives: [ { metric: gci } ]
     expect(report!.firstOrder.orientationErrorWorst).toBeGreaterThan(0);
   });
 });
+
+describe('link loads along the duty cycle', () => {
+  // Horizontal plane, no end load: over the region the links carry nothing; along the cycle the end
+  // body's inertia loads them (d'Alembert: f = A⁻ᵀ m (−a)). Derived: a move twice as slow has a quarter
+  // of the acceleration, so a quarter of the force.
+  const cycle = (time: string): string => `${BASE.replace('gravity: vertical', 'gravity: horizontal')}
+strength: { end_load: 0 }
+duty_cycle:
+  waypoints: { a: [-40 mm, 300 mm], b: [40 mm, 300 mm] }
+  start: a
+  steps:
+    - { move_to: b, law: cycloidal, time: ${time} }
+    - { move_to: a, law: cycloidal, time: ${time} }
+  samples: 200
+`;
+
+  it('without a cycle the horizontal arm carries nothing; with it the peak force scales with 1/T²', () => {
+    const still = metricsOf(`${BASE.replace('gravity: vertical', 'gravity: horizontal')}\nstrength: { end_load: 0 }\n`);
+    expect(still['peak_link_axial_force']).toBe(0);
+    const fast = metricsOf(cycle('100 ms'))['peak_link_axial_force']!;
+    const slow = metricsOf(cycle('200 ms'))['peak_link_axial_force']!;
+    expect(fast).toBeGreaterThan(0);
+    expect(fast / slow).toBeCloseTo(4, 9);
+    // Derived bound: cycloidal peak acceleration 2π s/T² = 2π · 0.08 m / (0.1 s)² = 50.3 m/s² on 0.4 kg
+    // gives |F| = 20.1 N at P; F = Aᵀ f with unit rows, so |F| ≤ √2 |f| ≤ 2 max|f_i|: max|f_i| ≥ |F|/2.
+    expect(fast).toBeGreaterThanOrEqual(0.4 * 50.26 * 0.5 * 0.999);
+  });
+});

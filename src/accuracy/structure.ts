@@ -72,6 +72,7 @@ export class StructureAtPose {
   private readonly M = new Float64Array(9);
   private readonly work = new Float64Array(64);
   private readonly eig = new Float64Array(3);
+  private readonly lever = new Float64Array(3);
   readonly result: PoseStructure;
 
   constructor(dof: number) {
@@ -127,8 +128,9 @@ export class StructureAtPose {
       }
       const rx = pose.distalJoint[2 * i]! - pose.x;
       const ry = pose.distalJoint[2 * i + 1]! - pose.y;
-      const v0 = 1, v1 = ry, v2 = -rx;
-      const v = [v0, v1, v2];
+      // Deflection at B_i for heave w and tilts (θx, θy): w + θx r_y − θy r_x.
+      const v = this.lever;
+      v[0] = 1; v[1] = ry; v[2] = -rx;
       for (let a = 0; a < 3; a++) for (let b = 0; b < 3; b++) {
         K[a * 3 + b] = K[a * 3 + b]! + (v[a]! * v[b]!) / c;
         M[a * 3 + b] = M[a * 3 + b]! + mass * v[a]! * v[b]!;

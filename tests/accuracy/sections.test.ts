@@ -144,5 +144,13 @@ describe('cantilever and simply supported deflections', () => {
     const c = new StructureAtPose(2).legCompliance(model, pose, 0, links(crank), links(rod));
     const expected = 0.1 ** 3 / (3 * E * crank.outOfPlaneSecondMoment) + 0.2 ** 3 / (3 * E * rod.outOfPlaneSecondMoment) + (0.1 * 0.2 ** 2) / (G * crank.torsionConstant);
     expect(c / expected - 1).toBeCloseTo(0, 12);
+    // Massless links, point mass at P: the legs are springs in parallel under one mass, f = √(Σ 1/c_i / m)/2π
+    // (single-degree-of-freedom vibration, any vibration text, from memory).
+    const massless = fiveBar.buildModel({ ...input, cranks: [{ ...TUBE, massPerLength: 0 }, { ...TUBE, massPerLength: 0 }], rods: [{ ...TUBE, massPerLength: 0 }, { ...TUBE, massPerLength: 0 }], payloadMass: 2 });
+    fiveBar.solvePose(massless, pose, 0, 0.1);
+    const s = new StructureAtPose(2);
+    const c1 = s.legCompliance(massless, pose, 0, links(crank), links(rod));
+    const c2 = s.legCompliance(massless, pose, 1, links(crank), links(rod));
+    expect(s.outOfPlane(massless, pose, links(crank), links(rod)) / (Math.sqrt((1 / c1 + 1 / c2) / 2) / (2 * Math.PI)) - 1).toBeCloseTo(0, 12);
   });
 });

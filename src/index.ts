@@ -100,3 +100,13 @@ export { probeArchitectureDesign } from './api/design.js';
 export { LoopsmithUserError } from './core/errors.js';
 export { candidateExport } from './export/candidate.js';
 export { renderArchitectureMap } from './report/architectureMap.js';
+
+// The built arm: tolerances, real joints, out-of-plane mode, strength (docs/accuracy.md)
+export { toleranceScatter } from './public/accuracyApi.js';
+export { ToleranceCheckError, type ToleranceScatterReport } from './api/accuracy.js';
+export { FirstOrderAccuracy, type PoseAccuracy } from './accuracy/firstOrder.js';
+export { monteCarloAtPose, type MonteCarloResult, type MonteCarloOptions } from './accuracy/monteCarlo.js';
+export { sectionProperties, eulerLoad, cantilever, simplySupportedUniform, type SectionProperties, type SectionShape } from './accuracy/sections.js';
+export { builtArmAtPose, type BuiltArmPoseReport } from './mechanics/builtArmDesign.js';
+export type { AccuracySpec, ToleranceSpec, JointStiffnessSpec, StrengthSpec, SectionChoiceSpec } from './accuracy/spec.js';
+export { METRIC_ALIASES, currentMetricName } from './core/metrics.js';

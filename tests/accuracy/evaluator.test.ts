@@ -157,3 +157,16 @@ duty_cycle:
     expect(fast).toBeGreaterThanOrEqual(0.4 * 50.26 * 0.5 * 0.999);
   });
 });
+
+describe('public API: toleranceScatter', () => {
+  it('checks its arguments and gives the same numbers for the same seed', async () => {
+    const api = await import('../../src/index.js');
+    const study = api.parseStudyText(`${BASE}\ntolerances: { link_length: 0.01 mm, joint_clearance: 0.003 mm, backlash: 0.02 deg }\n`);
+    expect(() => api.toleranceScatter(study, 0, 0.3, { samples: 3 })).toThrow(api.ApiArgumentError);
+    const a = api.toleranceScatter(study, 0.01, 0.3, { samples: 500, seed: 4 });
+    const b = api.toleranceScatter(study, 0.01, 0.3, { samples: 500, seed: 4 });
+    expect(a.monteCarlo.positionMax).toBe(b.monteCarlo.positionMax);
+    expect(a.worstRatio).toBeGreaterThanOrEqual(1);
+    expect(() => api.toleranceScatter(api.parseStudyText(BASE), 0, 0.3)).toThrow(/no tolerances section/);
+  });
+});

@@ -6,7 +6,7 @@
 import { chooseDesign } from './design.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import { METRIC_NAMES } from '../mechanics/metrics.js';
-import type { JointRange } from '../mechanics/fivebar.js';
+import type { JointRange } from '../core/pose.js';
 import type { ParameterSpec, Study } from '../study/types.js';
 import { formatQuantity } from '../study/units.js';
 

@@ -7,6 +7,7 @@ import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup 
 import { writeSimulationOutputs } from '../simulate/plots.js';
 import { formatValue, table, toJson } from './format.js';
 import { checkOverrides } from './argChecks.js';
+import { compareFormulations, driveHooksOf, driveSimulationLines, epsilonList, formulationReportLines } from '../simulate/driveSimulation.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -87,6 +88,11 @@ export function registerSimulateCommands(cli: Argv): Argv {
         .option('interval', { type: 'string', describe: 'spacing of the recorded samples (default 1 ms)' })
         .option('out', { type: 'string', describe: 'folder for the charts (SVG and PNG), timeseries.csv and summary.json' })
         .option('json', { type: 'boolean', default: false, describe: 'print the summary as JSON' })
+        .option('formulation', { type: 'string', choices: ['stabilised', 'perturbed'], default: 'stabilised', describe: 'how the loops are held closed: Lagrange multipliers with Baumgarte stabilisation, or the singularly perturbed closure with time constant --epsilon (docs/drives.md)' })
+        .option('epsilon', { type: 'string', describe: 'time constant ε of the perturbed closure (default 0.01 s), e.g. 5ms' })
+        .option('saturate', { type: 'boolean', default: false, describe: 'clip the drive efforts at the drives\' torque–speed envelopes (the tracking error shows the cost)' })
+        .option('compare-epsilon', { type: 'string', describe: 'also run the perturbed closure at these ε (s, comma-separated, e.g. 0.01,0.003,0.001) and report the difference to the stabilised run' })
+        .example('$0 simulate studies/parcel-sorter-drivetrains.yaml --formulation perturbed --epsilon 0.01', 'the singularly perturbed closure')
         .example('$0 simulate studies/parcel-sorter-cycle.yaml --extra-payload 0.2kg --out results/sim', 'track the duty cycle with an unmodelled payload'),
     async (args) => {
       const loaded = loadStudyFile(args.study);
@@ -100,7 +106,10 @@ export function registerSimulateCommands(cli: Argv): Argv {
       if (extraEndMass !== undefined && !(extraEndMass >= 0)) throw new SimulationError('--extra-payload must be zero or positive');
       if (interval !== undefined && !(interval > 0)) throw new SimulationError('--interval must be positive');
       checkOverrides(loaded.study, asStrings(args.set));
+      const epsilon = optionQuantity(args.epsilon, 'time', '--epsilon');
+      if (epsilon !== undefined && !(epsilon > 0 && epsilon <= 1)) throw new SimulationError('--epsilon must be positive and at most 1 s');
       const setup = prepareStudySimulation(loaded.study, asStrings(args.set));
+      const hooks = driveHooksOf(setup, args.formulation as 'stabilised' | 'perturbed', epsilon, args.saturate);
       setup.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
       const effectiveDuration = duration ?? setup.cycleTime;
       const effectiveInterval = interval ?? 1e-3;
@@ -113,6 +122,7 @@ export function registerSimulateCommands(cli: Argv): Argv {
         ...(frequency !== undefined ? { naturalFrequency: frequency } : {}),
         ...(args.damping !== undefined ? { dampingRatio: args.damping } : {}),
         ...(extraEndMass !== undefined ? { extraEndMass } : {}),
+        ...hooks,
       });
       const json = toJson(simulationJson(setup, result.summary));
       const written = args.out ? await writeSimulationOutputs(args.out, result, setup.limits, setup.study.name, json) : [];
@@ -120,7 +130,8 @@ export function registerSimulateCommands(cli: Argv): Argv {
         out(json);
         return;
       }
-      out(summaryText(setup, result));
+      out([summaryText(setup, result), ...driveSimulationLines(setup, result, hooks)].join('\n'));
+      if (args['compare-epsilon']) out(formulationReportLines(compareFormulations(setup, { controller: args.controller as ControllerKind, friction: args.friction, ...(frequency !== undefined ? { naturalFrequency: frequency } : {}) }, epsilonList(args['compare-epsilon']))).join('\n'));
       if (written.length > 0) out(`\nwrote ${written.length} files to ${args.out}: ${written.map((p) => p.slice(args.out!.length).replace(/^[\\/]/, '')).join(', ')}`);
     },
   );

@@ -59,6 +59,16 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'cycle_rms_torque_3', kind: 'torque', better: 'min', description: 'RMS joint-3 effort over the duty cycle (3-DOF)' },
   { name: 'cycle_peak_speed_3', kind: 'angularSpeed', better: 'min', description: 'largest joint-3 speed along the duty cycle (3-DOF)' },
   { name: 'cycle_peak_power_3', kind: 'power', better: 'min', description: 'largest joint-3 power along the duty cycle (3-DOF)' },
+  // Drive trains from motor and gearbox catalogues (NaN without them); see docs/drives.md. A "use" is value / limit: ≤ 1 holds.
+  ...perActuatorMetrics('drive_peak_use', 'dimensionless', 'largest motor torque over the peak torque–speed envelope at its speed, along the duty cycle'),
+  ...perActuatorMetrics('drive_rms_use', 'dimensionless', 'RMS motor torque over the cycle divided by the continuous torque at the mean motor speed'),
+  ...perActuatorMetrics('gearbox_torque_use', 'dimensionless', 'gearbox output torque against its acceleration rating (peak) and rated torque (cubic mean), and a slider stage\'s thrust against its limit, along the cycle'),
+  ...perActuatorMetrics('drive_speed_use', 'dimensionless', 'largest motor (gearbox input) speed over the smallest of the motor, gearbox and stage speed limits, along the cycle'),
+  ...perActuatorMetrics('inertia_ratio', 'dimensionless', 'load inertia reflected to the motor (gearbox and screw included) over the rotor inertia, worst over the cycle'),
+  { name: 'gearbox_estop_use', kind: 'dimensionless', better: 'min', description: 'gearbox output torque at an emergency stop, N·max(peak motor torque, brake torque), over its emergency-stop rating (worst actuator)' },
+  { name: 'brake_use', kind: 'dimensionless', better: 'min', description: 'brake factor times the largest static holding torque, referred to the motor, over the brake holding torque (worst actuator)' },
+  { name: 'drive_cost', kind: 'dimensionless', better: 'min', description: 'sum of the chosen motors\' and gearboxes\' catalogue costs over the actuators (catalogue currency; NaN when a cost is not given)' },
+  { name: 'accel_capability_at_speed', kind: 'acceleration', better: 'max', description: 'end-point acceleration available in every direction while moving at the required speed (peak envelope at that motor speed), at the worst pose' },
   // Accuracy under tolerances, real joints, out-of-plane mode and strength (NaN unless the study gives the
   // section they need); see docs/accuracy.md.
   { name: 'position_error_worst', kind: 'length', better: 'min', description: 'largest first-order worst-case end-point error over the region from the study tolerances (lengths, pivots, clearances, backlash, encoder)' },
@@ -75,6 +85,14 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'peak_joint_force_2', kind: 'force', better: 'min', description: 'largest force at the pins of leg 2 over the region' },
   { name: 'peak_joint_force_3', kind: 'force', better: 'min', description: 'largest force at the pins of leg 3 over the region (3-DOF)' },
 ];
+
+/** The worst-over-actuators metric and one per actuator (drive-train checks). */
+function perActuatorMetrics(name: string, kind: MetricInfo['kind'], description: string): MetricInfo[] {
+  return [
+    { name, kind, better: 'min', description: `${description} (worst actuator)` },
+    ...[1, 2, 3].map((i) => ({ name: `${name}_${i}`, kind, better: 'min' as const, description: `${description}, actuator ${i}${i === 3 ? ' (3-DOF)' : ''}` })),
+  ];
+}
 
 /**
  * Former metric names, still read from studies, stores and command lines: old name → current name.

@@ -32,6 +32,9 @@ import { CycleMetrics } from './cycleMetrics.js';
 import { BuiltArmChecks, isLeggedModel } from '../accuracy/builtArm.js';
 import { withBearings } from '../accuracy/joints.js';
 import { builtArmDesign, cycleLoadPath } from './builtArmDesign.js';
+import { trainsOf, writeStaticDriveMetrics } from './driveMetrics.js';
+import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
+import type { DriveTrain } from '../drives/types.js';
 import type { Study } from '../study/types.js';
 
 export { architectureUsableMargin };
@@ -57,6 +60,7 @@ const M = {
   orientationMargin: metricIndex('orientation_margin'),
   orientationRange: metricIndex('orientation_range'),
 } as const;
+const M_ACCEL_AT_SPEED = metricIndex('accel_capability_at_speed');
 
 /** Most orientation ranges kept per point (more are dropped by orientationRanges). */
 const MAX_RANGES = 16;
@@ -70,6 +74,8 @@ class ArchitectureAggregate {
   minStiffness = Infinity;
   minFrequency = Infinity;
   minAccel = Infinity;
+  /** Drive trains: acceleration available while moving at the required speed (peak envelope). */
+  minAccelAtSpeed = Infinity;
   maxStep = 0;
   readonly peakEffort = new Float64Array(3);
   readonly peakSpeed = new Float64Array(3);
@@ -77,7 +83,7 @@ class ArchitectureAggregate {
   minOrientationRange = Infinity;
   reset(): void {
     this.weight = 0; this.invCondSum = 0; this.minInvCond = Infinity; this.minTransmissionSine = Infinity;
-    this.minStiffness = Infinity; this.minFrequency = Infinity; this.minAccel = Infinity; this.maxStep = 0;
+    this.minStiffness = Infinity; this.minFrequency = Infinity; this.minAccel = Infinity; this.maxStep = 0; this.minAccelAtSpeed = Infinity;
     this.peakEffort.fill(0); this.peakSpeed.fill(0);
     this.minOrientationMargin = Infinity; this.minOrientationRange = Infinity;
   }
@@ -115,6 +121,8 @@ export class ArchitectureEvaluator {
   /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
   private jointScale = 1;
   private drives: readonly DriveAtJoint[] | null = null;
+  /** Motor, gearbox and stage per actuator when the study builds drives from catalogues (docs/drives.md). */
+  private trains: readonly DriveTrain[] | null = null;
   /** Every drive of the design in hand has an encoder step (for `resolution`). */
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
@@ -175,6 +183,7 @@ export class ArchitectureEvaluator {
 
   private prepare(resolved: ResolvedDesign, model: ArchitectureModelBase): void {
     this.drives = drivesAtJoint(this.study, resolved.drives);
+    this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
     this.builtArm.prepare(model, builtArmDesign(this.study, resolved, this.drives));
@@ -192,7 +201,7 @@ export class ArchitectureEvaluator {
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -210,7 +219,7 @@ export class ArchitectureEvaluator {
     metrics[M.coverage] = workspace[2]!;
     metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, metrics);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -301,6 +310,7 @@ export class ArchitectureEvaluator {
       agg.minStiffness = 0;
       agg.minFrequency = 0;
       agg.minAccel = 0;
+      agg.minAccelAtSpeed = 0;
       agg.peakEffort.fill(Infinity);
       agg.peakSpeed.fill(Infinity);
       agg.maxStep = Infinity;
@@ -329,6 +339,10 @@ export class ArchitectureEvaluator {
       if (drives) {
         const a = (drives[i]!.peakEffort - effort) / pose.inertiaRowNorm[i]!;
         if (a < agg.minAccel) agg.minAccel = a;
+      }
+      if (this.trains) {
+        const a = (jointPeakEffortAtSpeed(this.trains[i]!, speed) - effort) / pose.inertiaRowNorm[i]!;
+        if (a < agg.minAccelAtSpeed) agg.minAccelAtSpeed = a;
       }
     }
     if (drives && this.encodersKnown) {
@@ -388,6 +402,10 @@ export class ArchitectureEvaluator {
     metrics[M.resolution] = this.drives && this.drives.every((d) => d.encoderStep > 0) ? worst(agg.maxStep, Infinity) : Number.NaN;
     this.builtArm.runCycle(model, this.architecture);
     this.builtArm.write(metrics);
+    if (this.trains) {
+      metrics[M_ACCEL_AT_SPEED] = worst(agg.minAccelAtSpeed, 0);
+      writeStaticDriveMetrics(this.trains, this.study.driveTrains?.brakeFactor ?? 1.5, metrics);
+    }
     metrics[M.footprint] = this.architecture.footprint(model);
     metrics[M.movingMass] = this.architecture.movingMass(model);
     if (n === 3 && this.task) {

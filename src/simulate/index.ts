@@ -16,7 +16,9 @@ export {
   type SimulationResult,
   type SimulationSeries,
   type SimulationSummary,
+  type FiveBarBodies,
 } from './simulate.js';
+export { fiveBarBodiesOf, fiveBarLegModel } from './fiveBarBodies.js';
 export {
   DEFAULT_STABILISATION_RATE,
   FreeChainAcceleration,

@@ -9,10 +9,12 @@ import type { ActuatorKind, ArchitectureModelBase, PlanarArchitecture } from '..
 import { drivesAtJoint } from '../mechanics/designSpace.js';
 import { CycleSamples, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, evaluatedCycleTime, type CyclePath, type JointFriction } from '../mechanics/dutyCycle.js';
 import { Evaluator } from '../mechanics/evaluate.js';
-import type { FiveBarModel } from '../mechanics/fivebar.js';
+import type { LeggedModel } from '../architectures/legged.js';
 import type { Study } from '../study/types.js';
-import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './simulate.js';
+import { fiveBarBodiesOf, type FiveBarBodies } from './fiveBarBodies.js';
+import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './shared.js';
 import { simulateArchitecture } from './simulateArchitecture.js';
+import type { DriveSimulationHooks } from './driveHooks.js';
 
 /** Everything a simulation of one study design needs. */
 export interface StudySimulationSetup {
@@ -24,8 +26,8 @@ export interface StudySimulationSetup {
   readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
   readonly architectureModel: ArchitectureModelBase;
   readonly actuators: readonly ActuatorKind[];
-  /** Five-bar studies: the former five-bar engine model (for simulate.ts and the closed-form checks); null for other architectures. */
-  readonly model: FiveBarModel | null;
+  /** Five-bar studies: the design's bodies in the five-bar layout (what `simulate` takes); null for other architectures. */
+  readonly model: FiveBarBodies | null;
   /** The duty cycle at the evaluated pace. */
   readonly trajectory: CycleTrajectory;
   readonly cycleTime: number;
@@ -35,7 +37,9 @@ export interface StudySimulationSetup {
   readonly driveLabels: readonly string[] | null;
 }
 
-export interface StudySimulationOptions {
+/** `DriveSimulationHooks`: formulation, ε and effort saturation (docs/drives.md); `initialState` as simulateArchitecture takes it. */
+export interface StudySimulationOptions extends DriveSimulationHooks {
+  readonly initialState?: ArrayLike<number>;
   readonly controller: ControllerKind;
   /** Simulated time, s (default one cycle). */
   readonly duration?: number;
@@ -90,7 +94,7 @@ export function prepareStudySimulation(study: Study, overrides: readonly string[
     architecture,
     architectureModel,
     actuators: architecture.actuators,
-    model: isFiveBar ? evaluator.model(choice.design) : null,
+    model: isFiveBar ? fiveBarBodiesOf(architectureModel as LeggedModel) : null,
     trajectory,
     cycleTime: trajectory.cycleTime,
     limits,
@@ -111,6 +115,10 @@ export function simulateStudyDesign(setup: StudySimulationSetup, options: StudyS
     ...(options.outputInterval !== undefined ? { outputInterval: options.outputInterval } : {}),
     friction: options.friction === false ? null : setup.friction,
     limits: setup.limits,
+    ...(options.formulation !== undefined ? { formulation: options.formulation } : {}),
+    ...(options.epsilon !== undefined ? { epsilon: options.epsilon } : {}),
+    ...(options.saturate !== undefined ? { saturate: options.saturate } : {}),
+    ...(options.initialState !== undefined ? { initialState: options.initialState } : {}),
   };
   // One path for every architecture: the cut-open chain of legChain.ts on the architecture interface.
   return simulateArchitecture(setup.architecture, setup.architectureModel, common);

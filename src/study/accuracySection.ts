@@ -43,6 +43,16 @@ export function accuracyMetricProblem(metric: string, data: JsonObject): string 
   return ['tolerances', 'joints', 'strength', 'link_sections'].some(has) ? null : 'needs a strength section (docs/accuracy.md), and section shapes for stress, buckling and the out-of-plane mode';
 }
 
+/** Objectives' and constraints' metrics (in order) that need an accuracy section the study lacks: a study error naming the first. */
+export function checkAccuracyMetricNeeds(metrics: readonly string[], data: JsonObject): void {
+  const objectives = Array.isArray(data['objectives']) ? data['objectives'].length : 0;
+  metrics.forEach((metric, k) => {
+    const problem = accuracyMetricProblem(metric, data);
+    const where = k < objectives ? `objectives[${k}].metric` : `constraints[${k - objectives}].metric`;
+    if (problem) throw new UnitError(`${where}: "${metric}" ${problem}`);
+  });
+}
+
 /** The four sections of a study's data; null when the study has none of them. */
 export function parseAccuracySections(data: JsonObject, actuators: readonly ActuatorKind[]): AccuracySpec | null {
   const keys = ['tolerances', 'joints', 'strength', 'link_sections'] as const;

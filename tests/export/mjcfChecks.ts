@@ -5,7 +5,7 @@
  * the home holding torques keeps the loop closed. Returns what it measured, for the report.
  */
 import { expect } from 'vitest';
-import { FiveBarPose, PoseStatus, poseDynamics, solvePose } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, PoseStatus, poseDynamics, solvePose } from '../helpers/fiveBarClosedForm.js';
 import type { CandidateSheet } from '../../src/export/candidate.js';
 import { chainJointAngles, fiveBarModelOf, mjcfOfSheet } from './sheetsFromStudy.js';
 import type { Study } from '../../src/study/types.js';

@@ -7,7 +7,7 @@ import type { LeggedModel } from '../architectures/legged.js';
 import { LoopsmithUserError } from '../core/errors.js';
 import { monteCarloAtPose, type MonteCarloResult } from '../accuracy/monteCarlo.js';
 import { isLeggedModel } from '../accuracy/builtArm.js';
-import { builtArmField, type BuiltArmPoseReport } from '../mechanics/builtArmDesign.js';
+import { builtArmField, withGearboxBacklash, type BuiltArmPoseReport } from '../mechanics/builtArmDesign.js';
 import { drivesAtJoint } from '../mechanics/designSpace.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import type { PlanarArchitecture } from '../architectures/types.js';
@@ -50,7 +50,8 @@ export function toleranceScatter(
   const field = builtArmField(d, x, y, phi);
   if (!field.builtArm) throw new ToleranceCheckError(`the design cannot take the pose (${x}, ${y}${phi !== undefined ? `, ${phi}` : ''}) m/rad in its working and assembly mode, or it is singular there; hint: probe it first`);
   const at: [number, number, number] = [x, y, d.architecture.dof === 3 ? (phi ?? study.orientation?.phi0 ?? 0) : 0];
-  const mc = monteCarloAtPose(d.architecture as PlanarArchitecture<LeggedModel>, d.model, tol, drivesAtJoint(d.study, d.resolved.drives), at, options);
+  const perDesign = withGearboxBacklash(tol, d.study, d.resolved);
+  const mc = monteCarloAtPose(d.architecture as PlanarArchitecture<LeggedModel>, d.model, perDesign, drivesAtJoint(d.study, d.resolved.drives), at, options);
   const { errors: _errors, ...summary } = mc;
   return {
     study: study.name,

@@ -11,6 +11,8 @@ import { chosenTube, linkSectionProperties } from '../accuracy/sectionChoice.js'
 import type { LinkMaterial } from '../accuracy/structure.js';
 import type { ArchitectureModelBase, ArchitecturePose, DriveAtJoint } from '../architectures/types.js';
 import type { DutyCycleSpec, Study } from '../study/types.js';
+import type { ToleranceSpec } from '../accuracy/spec.js';
+import { ARCHITECTURES } from '../architectures/index.js';
 import { drivesAtJoint, type ResolvedDesign } from './designSpace.js';
 import type { ArchitectureDesign } from './evaluate.js';
 import { PoseStatus } from '../core/pose.js';
@@ -32,7 +34,7 @@ export function builtArmDesign(study: Study, resolved: ResolvedDesign, drives: r
   };
   const n = study.links.rods.length;
   return {
-    spec,
+    spec: spec.tolerances ? { ...spec, tolerances: withGearboxBacklash(spec.tolerances, study, resolved) } : spec,
     cranks: Array.from({ length: n }, (_, i) => material('cranks', i)),
     rods: Array.from({ length: n }, (_, i) => material('rods', i)),
     drives,
@@ -113,4 +115,20 @@ export function cycleLoadPath(duty: DutyCycleSpec): CycleLoadPath {
     count: samples.count, x: samples.x, y: samples.y, phi: samples.phi, ax: samples.ax, ay: samples.ay, aphi: samples.aphi,
     timeScale: scale > 0 ? scale : Number.NaN,
   };
+}
+
+/**
+ * The tolerances with each drive's backlash: the study's where it gives one (> 0), else the gearbox
+ * catalogue's backlash of the design's drive train (docs/drives.md; at the output, so at the joint for
+ * a crank and × lead/2π for a slider's screw or belt), else none.
+ */
+export function withGearboxBacklash(tol: ToleranceSpec, study: Study, resolved: ResolvedDesign): ToleranceSpec {
+  const actuators = ARCHITECTURES[study.architecture].actuators;
+  const backlash = tol.backlash.map((given, i) => {
+    if (given > 0) return given;
+    const train = resolved.drives?.[i]?.train;
+    if (!train) return 0;
+    return actuators[i] === 'revolute' ? train.gearbox.backlash : (train.gearbox.backlash * (train.stage?.lead ?? 0)) / (2 * Math.PI);
+  });
+  return backlash.every((b, i) => b === tol.backlash[i]) ? tol : { ...tol, backlash };
 }

@@ -170,3 +170,39 @@ describe('public API: toleranceScatter', () => {
     expect(() => api.toleranceScatter(api.parseStudyText(BASE), 0, 0.3)).toThrow(/no tolerances section/);
   });
 });
+
+describe('backlash from the gearbox catalogue', () => {
+  it('without a study backlash, the design\'s gearbox backlash is used (same figure as giving it explicitly)', async () => {
+    const { mkdtempSync, cpSync, readFileSync, writeFileSync, rmSync } = await import('node:fs');
+    const { join } = await import('node:path');
+    const { tmpdir } = await import('node:os');
+    const { fileURLToPath } = await import('node:url');
+    const { loadStudyFile } = await import('../../src/study/parse.js');
+    const { Evaluator } = await import('../../src/mechanics/evaluate.js');
+    const { chooseDesign } = await import('../../src/api/design.js');
+    const studies = fileURLToPath(new URL('../../studies/', import.meta.url));
+    const dir = mkdtempSync(join(tmpdir(), 'loopsmith-backlash-'));
+    try {
+      cpSync(join(studies, 'catalogues'), join(dir, 'catalogues'), { recursive: true });
+      const text = readFileSync(join(studies, 'parcel-sorter-drivetrains.yaml'), 'utf8');
+      const write = (name: string, extra: string): string => {
+        writeFileSync(join(dir, name), `${text}\n${extra}\n`);
+        return join(dir, name);
+      };
+      const fromCatalogue = loadStudyFile(write('a.yaml', 'tolerances: { link_length: 0.01 mm }')).study;
+      const choice = chooseDesign(fromCatalogue, []);
+      const resolved = new Evaluator(choice.study).architectureDesign(choice.design).resolved;
+      const backlash = resolved.drives!.map((d) => d.train!.gearbox.backlash);
+      expect(backlash.every((b) => b > 0)).toBe(true); // the invented catalogue gives every gearbox a backlash
+      const explicit = loadStudyFile(write('b.yaml', `tolerances: { link_length: 0.01 mm, backlash: { actuator_1: ${backlash[0]}, actuator_2: ${backlash[1]} } }`)).study;
+      const none = loadStudyFile(write('c.yaml', 'tolerances: { link_length: 0.01 mm, backlash: 1e-12 }')).study;
+      const { metricIndex } = await import('../../src/core/metrics.js');
+      const worst = (s: typeof explicit): number => new Evaluator(s).evaluate(chooseDesign(s, []).design).metrics[metricIndex('position_error_worst')]!;
+      const a = worst(fromCatalogue);
+      expect(a).toBeCloseTo(worst(explicit), 12);
+      expect(a).toBeGreaterThan(2 * worst(none)); // negative control: the backlash matters here
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+});

@@ -27,7 +27,8 @@ import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignV
 import { applyConstraints, constraintDefinitions, type ConstraintDefinition, type DesignEvaluation } from './constraints.js';
 import { taskSamples } from './taskSamples.js';
 import { architectureUsableMargin } from './usability.js';
-import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
+import { AdaptiveArea } from './adaptive.js';
+import { coarseCells, evaluationBox, modelJointScale, sampleAdaptive, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
 import type { Study } from '../study/types.js';
 
@@ -116,6 +117,12 @@ export class ArchitectureEvaluator {
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
   private readonly cycle: CycleMetrics | null;
+  /** Adaptive sampling at the study's tolerance, or null for a fixed grid (grid_cells without a tolerance). */
+  private readonly adaptive: AdaptiveArea | null;
+  /** Estimated absolute errors of the last evaluation's area metrics (m²), by metric name. */
+  private errors: Record<string, number> = {};
+  /** Points solved for the workspace of the last evaluation. */
+  lastSamples = 0;
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -124,7 +131,9 @@ export class ArchitectureEvaluator {
     this.variables = designVariables(study);
     this.constraints = constraintDefinitions(study);
     this.pose = this.architecture.createPose();
-    this.grid = new MarginGrid(study.evaluation.gridCells + 4);
+    const tolerance = study.evaluation.tolerance;
+    this.adaptive = tolerance !== undefined ? new AdaptiveArea() : null;
+    this.grid = new MarginGrid((tolerance !== undefined ? coarseCells(tolerance) : study.evaluation.gridCells) + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
     this.cycle = CycleMetrics.forStudy(study, this.architecture);
@@ -178,7 +187,8 @@ export class ArchitectureEvaluator {
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics);
     this.cycle?.write(model, this.drives, metrics);
-    return this.withConstraints(metrics, resolved);
+    const result = this.withConstraints(metrics, resolved);
+    return this.adaptive ? { ...result, estimatedErrors: this.errors } : result;
   }
 
   /** As Evaluator.evaluateWithWorkspace: workspace metrics from an earlier evaluation, the rest recomputed. */
@@ -207,6 +217,8 @@ export class ArchitectureEvaluator {
     const grid = this.grid;
     const box = evaluationBox(this.study, this.architecture, model, this.phi0);
     this.aggregate.reset();
+    this.errors = { reachable_area: 0, workspace_area: 0 };
+    this.lastSamples = 0;
     if (!box) {
       metrics[M.reachable] = 0;
       metrics[M.workspace] = 0;
@@ -215,14 +227,51 @@ export class ArchitectureEvaluator {
       if (this.task) this.aggregateTask(model, -1);
       return;
     }
-    const region = sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
-    metrics[M.reachable] = grid.positiveArea(grid.secondary);
-    metrics[M.workspace] = grid.regionArea(region);
-    metrics[M.inscribed] = grid.inscribedRadius(region);
+    let region: number;
+    if (this.adaptive) {
+      const sampled = sampleAdaptive(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.adaptive, this.study.evaluation.tolerance!);
+      region = sampled.region;
+      metrics[M.reachable] = sampled.reachableArea;
+      metrics[M.workspace] = sampled.workspaceArea;
+      metrics[M.inscribed] = sampled.inscribedRadius;
+      this.errors = { reachable_area: sampled.reachableAreaError, workspace_area: sampled.workspaceAreaError };
+      this.lastSamples = sampled.samples;
+    } else {
+      region = sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+      metrics[M.reachable] = grid.positiveArea(grid.secondary);
+      metrics[M.workspace] = grid.regionArea(region);
+      metrics[M.inscribed] = grid.inscribedRadius(region);
+      this.lastSamples = grid.nx * grid.ny;
+    }
     if (this.task) {
       metrics[M.coverage] = this.aggregateTask(model, region);
+    } else if (this.adaptive) {
+      this.aggregateRegionLattice(model, region, box);
     } else {
       this.aggregateRegionNodes(model, region);
+    }
+  }
+
+  /**
+   * Adaptive sampling, no task region: the per-pose metrics over the usable nodes of the region on
+   * the lattice of evaluation.grid_cells over the box (the nodes a fixed grid would use), a node
+   * counting as the region's when the coarse grid places it there (MarginGrid.regionAt).
+   */
+  private aggregateRegionLattice(model: ArchitectureModelBase, region: number, box: { xmin: number; xmax: number; ymin: number; ymax: number }): void {
+    if (region < 0) return;
+    const cells = this.study.evaluation.gridCells;
+    const h = Math.max(box.xmax - box.xmin, box.ymax - box.ymin) / cells;
+    const nx = Math.ceil((box.xmax - box.xmin) / h - 1e-9) + 3;
+    const ny = Math.ceil((box.ymax - box.ymin) / h - 1e-9) + 3;
+    for (let j = 0; j < ny; j++) {
+      const y = box.ymin - h + j * h;
+      for (let i = 0; i < nx; i++) {
+        const x = box.xmin - h + i * h;
+        if (this.grid.regionAt(x, y) !== region) continue;
+        const status = this.architecture.solvePose(model, this.pose, x, y, this.phi0);
+        if (this.usable(status) < 0) continue;
+        this.accumulate(model, status, 1);
+      }
     }
   }
 

@@ -8,6 +8,7 @@
 import { PoseStatus } from '../core/pose.js';
 import type { ArchitectureModelBase, ArchitecturePose, PlanarArchitecture, PlaneBox } from '../architectures/types.js';
 import type { Study } from '../study/types.js';
+import type { AdaptiveArea } from './adaptive.js';
 import { MarginGrid } from './grid.js';
 import { architectureUsableMargin, jointMarginScale } from './usability.js';
 
@@ -75,10 +76,103 @@ export function sampleGrid(
     }
   }
   grid.labelRegions();
+  return evaluationRegion(study, architecture, model, pose, grid, phi, jointScale);
+}
+
+/** The label of the evaluation region on a labelled grid (see sampleGrid). */
+function evaluationRegion(
+  study: Study,
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  pose: ArchitecturePose,
+  grid: MarginGrid,
+  phi: number,
+  jointScale: number,
+): number {
   const taskRegion = study.task.region;
   if (!taskRegion) return grid.workspaceRegion(null, false);
   const centreStatus = architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi);
   return grid.workspaceRegion({ x: taskRegion.centreX, y: taskRegion.centreY }, architectureUsableMargin(pose, centreStatus, study, jointScale) >= 0);
+}
+
+/** Bounds the reach margins of a sampled grid by the signed distance to the box (m). */
+function clipReachToBox(grid: MarginGrid, box: PlaneBox): void {
+  const { nx, ny, x0, y0, h, secondary } = grid;
+  for (let j = 0; j < ny; j++) {
+    const y = y0 + j * h;
+    for (let i = 0; i < nx; i++) {
+      const x = x0 + i * h;
+      const inside = Math.min(x - box.xmin, box.xmax - x, y - box.ymin, box.ymax - y);
+      if (inside < secondary[j * nx + i]!) secondary[j * nx + i] = inside;
+    }
+  }
+}
+
+/** Coarse grid cells across the longer side of the box for a relative tolerance (adaptive sampling). */
+export function coarseCells(tolerance: number): number {
+  return Math.round(Math.min(Math.max(24 * Math.sqrt(0.005 / tolerance), 16), 64));
+}
+
+/** Workspace measures of one design from adaptive sampling (m², m), with the area error estimates (m²). */
+export interface AdaptiveWorkspace {
+  readonly region: number;
+  readonly reachableArea: number;
+  readonly reachableAreaError: number;
+  readonly workspaceArea: number;
+  readonly workspaceAreaError: number;
+  readonly inscribedRadius: number;
+  /** Points solved: coarse nodes plus sub-samples. */
+  readonly samples: number;
+}
+
+/**
+ * The evaluator's workspace at the study's tolerance: the coarse grid (coarseCells) sampled and
+ * labelled as sampleGrid does, then the reachable set and the evaluation region refined near their
+ * boundaries (adaptive.ts) until the estimated error of each area is within the tolerance, and the
+ * inscribed radius found against the refined boundary.
+ */
+export function sampleAdaptive(
+  study: Study,
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  pose: ArchitecturePose,
+  grid: MarginGrid,
+  box: PlaneBox,
+  phi: number,
+  adaptive: AdaptiveArea,
+  tolerance: number,
+): AdaptiveWorkspace {
+  const region = sampleGrid(study, architecture, model, pose, grid, box, phi, coarseCells(tolerance));
+  clipReachToBox(grid, box);
+  const jointScale = modelJointScale(model);
+  const w = study.evaluation.window;
+  const scale = w ? architecture.footprint(model) : 1;
+  const sampler = (x: number, y: number, out: Float64Array): void => {
+    const status = architecture.solvePose(model, pose, x, y, phi);
+    // The reach margin is bounded by the box, as on the fixed grid when its cells shrink.
+    let r = Math.min(pose.reachMargin, x - box.xmin, box.xmax - x, y - box.ymin, box.ymax - y);
+    let u = architectureUsableMargin(pose, status, study, jointScale);
+    if (w) {
+      const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
+      if (inside < r) r = inside;
+      if (inside / scale < u) u = inside / scale;
+    }
+    out[0] = u;
+    out[1] = r;
+  };
+  adaptive.begin(grid, sampler, region);
+  const reachable = adaptive.area(1, tolerance);
+  const workspace = region >= 0 ? adaptive.area(0, tolerance) : { area: 0, error: 0, levels: 0 };
+  const inscribedRadius = region >= 0 ? adaptive.inscribedRadius(region) : 0;
+  return {
+    region,
+    reachableArea: reachable.area,
+    reachableAreaError: reachable.error,
+    workspaceArea: workspace.area,
+    workspaceAreaError: workspace.error,
+    inscribedRadius,
+    samples: grid.nx * grid.ny + adaptive.samples,
+  };
 }
 
 /** Grid fields of one design for maps and exports (any architecture). */

@@ -1,0 +1,506 @@
+/**
+ * Adaptive workspace sampling at a stated accuracy (study setting `evaluation.tolerance`, relative).
+ *
+ * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). A cell whose
+ * corners disagree in sign (or whose smallest corner margin is small against the spread of its
+ * corners, so that the zero level may pass through it) is split into four, level after level; only
+ * the sub-cells whose corners still disagree are split again. The area of each field's positive set
+ * at level k is the sum of the cells known to be wholly inside plus, for the undecided sub-cells of
+ * level k, the sub-cell estimate on two triangles (linear interpolation, as MarginGrid.positiveArea).
+ * This boundary estimate converges with the square of the sub-cell size, so successive levels
+ * A_k are extrapolated (Richardson 1911) when their differences fall by about four, A ≈ A_k + (A_k −
+ * A_{k−1})/3, and the size of that correction, |A_k − A_{k−1}|/3, is the reported error estimate
+ * (|A_k − A_{k−1}| when the differences do not fall as h²). Refinement stops when the estimate is
+ * below half the tolerance (or at the deepest level).
+ *
+ * Sub-samples are cached by their position on the finest lattice (open addressing, no allocation
+ * per point), so neighbouring cells share their edge samples. Two fields are refined from one pass:
+ * the reach margin (reachable area) and the usability margin restricted to the evaluation region
+ * (workspace area; positive sub-samples inside a cell that touches the region count as the region).
+ */
+import type { MarginGrid } from './grid.js';
+import { trianglePositiveFraction } from './grid.js';
+
+/** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
+export const MAX_LEVEL = 6;
+/** Fewest levels before the error estimate may stop refinement (three estimates for the h² check). */
+const MIN_LEVEL = 2;
+const CACHE_BITS = 17;
+const CACHE_SIZE = 1 << CACHE_BITS;
+/** Stop adding sub-samples beyond this many (half the cache): the estimate then stays at the last full level. */
+const MAX_SUBSAMPLES = CACHE_SIZE >> 1;
+
+/** Samples one point: writes the usability margin and the reach margin into out[0], out[1]. */
+export type PointSampler = (x: number, y: number, out: Float64Array) => void;
+
+/** An area with its estimated error (both m²) and the refinement it took. */
+export interface AreaEstimate {
+  area: number;
+  error: number;
+  /** Refinement levels used below the coarse grid. */
+  levels: number;
+}
+
+const COMPASS_X = Float64Array.of(1, -1, 0, 0, Math.SQRT1_2, -Math.SQRT1_2, Math.SQRT1_2, -Math.SQRT1_2);
+const COMPASS_Y = Float64Array.of(0, 0, 1, -1, Math.SQRT1_2, Math.SQRT1_2, -Math.SQRT1_2, -Math.SQRT1_2);
+
+/** Lattice refinement of a neck probe (per coarse cell; divides 2^MAX_LEVEL) and the most probes per design. */
+const PROBE_SPLIT = 16;
+/** A uniform coarse cell is refined when its corner nearest the zero level is within this share of its corner spread. */
+const NEAR_FACTOR = 0.5;
+const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
+const MAX_PROBES = 64;
+
+/** Growable list of cells (fine-lattice corner coordinates), reused across designs. */
+class CellList {
+  data = new Int32Array(4096);
+  count = 0;
+  push(i: number, j: number): void {
+    if (2 * this.count + 2 > this.data.length) {
+      const grown = new Int32Array(this.data.length * 2);
+      grown.set(this.data);
+      this.data = grown;
+    }
+    this.data[2 * this.count] = i;
+    this.data[2 * this.count + 1] = j;
+    this.count++;
+  }
+}
+
+/** The area of a field's positive set by adaptive refinement; one per evaluator (owns its buffers). */
+export class AdaptiveArea {
+  private readonly keys = new Int32Array(CACHE_SIZE);
+  private readonly stamps = new Int32Array(CACHE_SIZE);
+  private readonly usable = new Float64Array(CACHE_SIZE);
+  private readonly reach = new Float64Array(CACHE_SIZE);
+  private epoch = 0;
+  private subsamples = 0;
+  private readonly point = new Float64Array(2);
+  private current = new CellList();
+  private next = new CellList();
+  private readonly estimates = new Float64Array(MAX_LEVEL + 1);
+  /** Region-masked usability margins of the coarse nodes. */
+  private masked = new Float64Array(0);
+  private grid: MarginGrid | null = null;
+  private sampler: PointSampler | null = null;
+  /** Fine-lattice spacing (m) and nodes per fine row. */
+  private hf = 0;
+  private fineWidth = 0;
+  /** Boundary points of the last workspace field (finest level): x, y interleaved; see boundaryCount. */
+  boundary = new Float64Array(4096);
+  boundaryCount = 0;
+  /** Sub-samples taken in the last `begin` … calls. */
+  get samples(): number {
+    return this.subsamples;
+  }
+
+  /** Starts a design: the coarse grid (sampled, labelled) and the sampler for sub-samples. */
+  begin(grid: MarginGrid, sampler: PointSampler, region: number): void {
+    this.grid = grid;
+    this.sampler = sampler;
+    this.epoch++;
+    if (this.epoch > 0x3fffffff) {
+      this.stamps.fill(0);
+      this.epoch = 1;
+    }
+    this.subsamples = 0;
+    this.hf = grid.h / (1 << MAX_LEVEL);
+    this.fineWidth = (grid.nx - 1) * (1 << MAX_LEVEL) + 1;
+    const n = grid.nx * grid.ny;
+    if (this.masked.length < n) this.masked = new Float64Array(grid.capacity);
+    if (this.merged.length < grid.capacity) this.merged = new Uint8Array(grid.capacity);
+    this.merged.fill(0, 0, grid.regionCount);
+    if (region >= 0) {
+      this.merged[region] = 1;
+      this.connectNecks();
+    }
+    const { values, labels } = grid;
+    for (let k = 0; k < n; k++) {
+      const v = values[k]!;
+      const label = labels[k]!;
+      this.masked[k] = label >= 0 && this.merged[label] === 1 ? v : v >= 0 ? -v - 1e-300 : v;
+    }
+  }
+
+  /** Per coarse region label: 1 when it belongs to the evaluation region (itself or joined through a neck). */
+  private merged = new Uint8Array(0);
+  private readonly probeQueue = new Int32Array(PROBE_NODES);
+  private readonly probeSeen = new Uint8Array(PROBE_NODES);
+
+  /**
+   * Joins to the evaluation region the coarse regions connected to it through necks narrower than a
+   * coarse cell: around every outside node that has a node of the region and a node of another
+   * region among its eight neighbours, the usable set is flood-filled on a lattice PROBE_SPLIT times
+   * finer over the 2 × 2 cells about that node; regions reached are joined (repeated until none is).
+   */
+  private connectNecks(): void {
+    const grid = this.grid!;
+    const { nx, ny, labels } = grid;
+    let probes = 0;
+    for (let changed = true; changed && probes < MAX_PROBES; ) {
+      changed = false;
+      for (let j = 1; j + 1 < ny && probes < MAX_PROBES; j++) {
+        for (let i = 1; i + 1 < nx && probes < MAX_PROBES; i++) {
+          const s = j * nx + i;
+          if (labels[s]! >= 0) continue;
+          let inside = false;
+          let other = false;
+          for (let dj = -1; dj <= 1; dj++) {
+            for (let di = -1; di <= 1; di++) {
+              const label = labels[s + dj * nx + di]!;
+              if (label < 0) continue;
+              if (this.merged[label] === 1) inside = true;
+              else other = true;
+            }
+          }
+          if (!inside || !other) continue;
+          probes++;
+          if (this.probe(i, j)) changed = true;
+        }
+      }
+    }
+  }
+
+  /** Flood fill of the usable set over the 2 × 2 coarse cells about node (i, j); joins the regions reached. */
+  private probe(i: number, j: number): boolean {
+    const grid = this.grid!;
+    const { nx, labels } = grid;
+    const side = 2 * PROBE_SPLIT + 1;
+    const step = (1 << MAX_LEVEL) / PROBE_SPLIT;
+    const fi0 = (i - 1) << MAX_LEVEL;
+    const fj0 = (j - 1) << MAX_LEVEL;
+    const queue = this.probeQueue;
+    const seen = this.probeSeen;
+    seen.fill(0);
+    let head = 0;
+    let tail = 0;
+    for (let dj = 0; dj <= 2; dj++) {
+      for (let di = 0; di <= 2; di++) {
+        const label = labels[(j - 1 + dj) * nx + i - 1 + di]!;
+        if (label < 0 || this.merged[label] !== 1) continue;
+        const q = dj * PROBE_SPLIT * side + di * PROBE_SPLIT;
+        seen[q] = 1;
+        queue[tail++] = q;
+      }
+    }
+    let joined = false;
+    while (head < tail) {
+      const q = queue[head++]!;
+      const qi = q % side;
+      const qj = (q - qi) / side;
+      if (qi % PROBE_SPLIT === 0 && qj % PROBE_SPLIT === 0) {
+        const label = labels[(j - 1 + qj / PROBE_SPLIT) * nx + i - 1 + qi / PROBE_SPLIT]!;
+        if (label >= 0 && this.merged[label] !== 1) {
+          this.merged[label] = 1;
+          joined = true;
+        }
+      }
+      for (let d = 0; d < 4; d++) {
+        const ni = qi + (d === 0 ? 1 : d === 1 ? -1 : 0);
+        const nj = qj + (d === 2 ? 1 : d === 3 ? -1 : 0);
+        if (ni < 0 || nj < 0 || ni >= side || nj >= side) continue;
+        const nq = nj * side + ni;
+        if (seen[nq] === 1) continue;
+        seen[nq] = 1;
+        if (this.value(2, fi0 + ni * step, fj0 + nj * step) >= 0) queue[tail++] = nq;
+      }
+    }
+    return joined;
+  }
+
+  /** Field value (0: region-masked usability, 1: reach, 2: usability) at fine-lattice node (fi, fj). */
+  private value(field: number, fi: number, fj: number): number {
+    const mask = (1 << MAX_LEVEL) - 1;
+    const grid = this.grid!;
+    if ((fi & mask) === 0 && (fj & mask) === 0) {
+      const k = (fj >> MAX_LEVEL) * grid.nx + (fi >> MAX_LEVEL);
+      return field === 0 ? this.masked[k]! : field === 1 ? grid.secondary[k]! : grid.values[k]!;
+    }
+    const key = fj * this.fineWidth + fi;
+    let slot = Math.imul(key, 0x9e3779b1) >>> (32 - CACHE_BITS);
+    for (;;) {
+      if (this.stamps[slot] !== this.epoch) break;
+      if (this.keys[slot] === key) return field === 1 ? this.reach[slot]! : this.usable[slot]!;
+      slot = (slot + 1) & (CACHE_SIZE - 1);
+    }
+    this.stamps[slot] = this.epoch;
+    this.keys[slot] = key;
+    this.subsamples++;
+    const point = this.point;
+    this.sampler!(grid.x0 + fi * this.hf, grid.y0 + fj * this.hf, point);
+    this.usable[slot] = point[0]!;
+    this.reach[slot] = point[1]!;
+    return field === 1 ? point[1]! : point[0]!;
+  }
+
+  /**
+   * Area of a field's positive set (0: the evaluation region's usable workspace, 1: the reachable
+   * set) to a relative tolerance; records the workspace boundary points when field = 0.
+   */
+  area(field: number, tolerance: number): AreaEstimate {
+    const grid = this.grid!;
+    const { nx, ny } = grid;
+    const h = grid.h;
+    const coarse = field === 0 ? this.masked : grid.secondary;
+    const S = 1 << MAX_LEVEL;
+    let full = 0;
+    let partial = 0;
+    this.current.count = 0;
+    for (let j = 0; j + 1 < ny; j++) {
+      for (let i = 0; i + 1 < nx; i++) {
+        const k = j * nx + i;
+        const a = coarse[k]!;
+        const b = coarse[k + 1]!;
+        const c = coarse[k + nx]!;
+        const d = coarse[k + nx + 1]!;
+        const inside = (a >= 0 ? 1 : 0) + (b >= 0 ? 1 : 0) + (c >= 0 ? 1 : 0) + (d >= 0 ? 1 : 0);
+        if (inside === 4 || inside === 0) {
+          // The zero level may still cross the cell when a corner is close to it.
+          const lo = Math.min(a, b, c, d);
+          const hi = Math.max(a, b, c, d);
+          const near = inside === 4 ? lo : -hi;
+          if (!(near < NEAR_FACTOR * (hi - lo))) {
+            if (inside === 4) full += 1;
+            continue;
+          }
+          if (field === 0 && inside === 0 && !this.nearRegion(i, j)) continue;
+        }
+        this.current.push(i * S, j * S);
+        partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
+      }
+    }
+    const est = this.estimates;
+    let cellArea = h * h;
+    full *= cellArea;
+    est[0] = full + partial * cellArea;
+    let level = 0;
+    let result = est[0]!;
+    let error = Infinity;
+    while (level < MAX_LEVEL && this.current.count > 0) {
+      if (this.subsamples + 5 * this.current.count > MAX_SUBSAMPLES) break;
+      level++;
+      cellArea /= 4;
+      const step = S >> level;
+      const list = this.current;
+      const out = this.next;
+      out.count = 0;
+      partial = 0;
+      let fullCells = 0;
+      const data = list.data;
+      for (let c = 0; c < list.count; c++) {
+        const i0 = data[2 * c]!;
+        const j0 = data[2 * c + 1]!;
+        for (let q = 0; q < 4; q++) {
+          const fi = i0 + (q & 1) * step;
+          const fj = j0 + (q >> 1) * step;
+          const a = this.value(field, fi, fj);
+          const b = this.value(field, fi + step, fj);
+          const cc = this.value(field, fi, fj + step);
+          const d = this.value(field, fi + step, fj + step);
+          if (a >= 0 && b >= 0 && cc >= 0 && d >= 0) { fullCells++; continue; }
+          if (a < 0 && b < 0 && cc < 0 && d < 0) continue;
+          out.push(fi, fj);
+          partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, cc));
+        }
+      }
+      full += fullCells * cellArea;
+      est[level] = full + partial * cellArea;
+      this.current = out;
+      this.next = list;
+      const estimate = this.extrapolate(level);
+      result = estimate.area;
+      error = estimate.error;
+      if (level >= MIN_LEVEL && error <= 0.5 * tolerance * Math.abs(result)) break;
+    }
+    if (level === 0) error = this.current.count === 0 ? 0 : est[0]!;
+    if (field === 0) this.collectBoundary(level);
+    return { area: result, error, levels: level };
+  }
+
+  /**
+   * Radius of the largest circle inside the evaluation region (m), without a distance transform of
+   * a fine grid: the coarse grid's deepest nodes (MarginGrid.deepCandidates) are the starting
+   * centres; each is scored against the boundary points of the finest level (bucketed by coarse
+   * cell, nearest point by rings of cells), and the best few are moved by a compass search (eight
+   * directions, step halved when no move helps) that maximises the distance to the boundary.
+   * Call after area(0, …).
+   */
+  inscribedRadius(region: number): number {
+    const grid = this.grid!;
+    if (region < 0 || this.boundaryCount === 0) return 0;
+    this.bucketBoundary();
+    const { nx, h } = grid;
+    // Score the candidate nodes of every coarse region joined to the evaluation region; keep the best three.
+    const starts = this.starts;
+    starts.fill(-1);
+    const scores = this.startScores;
+    scores.fill(-1);
+    for (let label = 0; label < grid.regionCount; label++) {
+      if (this.merged[label] !== 1) continue;
+      const nc = grid.deepCandidates(label);
+      const nodes = grid.candidateNodes;
+      for (let c = 0; c < nc; c++) {
+        const k = nodes[c]!;
+        const d = this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h);
+        for (let s = 0; s < starts.length; s++) {
+          if (d > scores[s]!) {
+            for (let t = starts.length - 1; t > s; t--) { scores[t] = scores[t - 1]!; starts[t] = starts[t - 1]!; }
+            scores[s] = d;
+            starts[s] = k;
+            break;
+          }
+        }
+      }
+    }
+    let best = 0;
+    for (let s = 0; s < starts.length && starts[s]! >= 0; s++) {
+      const k = starts[s]!;
+      let cx = grid.x0 + (k % nx) * h;
+      let cy = grid.y0 + Math.floor(k / nx) * h;
+      let value = scores[s]!;
+      let step = 0.5 * h;
+      const stop = 1e-4 * Math.max(value, h);
+      while (step > stop) {
+        // Moves stay inside the circle already known to be free of boundary, so inside the region.
+        if (step >= value) { step *= 0.5; continue; }
+        let moved = false;
+        for (let dir = 0; dir < 8; dir++) {
+          const x = cx + step * COMPASS_X[dir]!;
+          const y = cy + step * COMPASS_Y[dir]!;
+          const d = this.nearest(x, y);
+          if (d > value) { value = d; cx = x; cy = y; moved = true; }
+        }
+        if (!moved) step *= 0.5;
+      }
+      if (value > best) best = value;
+    }
+    return best;
+  }
+
+  private readonly starts = new Int32Array(3);
+  private readonly startScores = new Float64Array(3);
+  private bucketStart = new Int32Array(0);
+  private bucketOrder = new Int32Array(0);
+
+  /** Sorts the boundary points into coarse cells (counting sort). */
+  private bucketBoundary(): void {
+    const grid = this.grid!;
+    const cells = grid.nx * grid.ny;
+    if (this.bucketStart.length < cells + 1) this.bucketStart = new Int32Array(grid.capacity + 1);
+    if (this.bucketOrder.length < this.boundaryCount) this.bucketOrder = new Int32Array(this.boundary.length >> 1);
+    const start = this.bucketStart;
+    start.fill(0, 0, cells + 1);
+    const b = this.boundary;
+    for (let p = 0; p < this.boundaryCount; p++) start[this.cellOf(b[2 * p]!, b[2 * p + 1]!) + 1]!++;
+    for (let c = 0; c < cells; c++) start[c + 1]! += start[c]!;
+    for (let p = 0; p < this.boundaryCount; p++) {
+      const c = this.cellOf(b[2 * p]!, b[2 * p + 1]!);
+      this.bucketOrder[start[c]!++] = p;
+    }
+    // start[c] now holds the end of cell c: shift back to starts.
+    for (let c = cells; c > 0; c--) start[c] = start[c - 1]!;
+    start[0] = 0;
+  }
+
+  private cellOf(x: number, y: number): number {
+    const grid = this.grid!;
+    const i = Math.min(Math.max(Math.floor((x - grid.x0) / grid.h), 0), grid.nx - 1);
+    const j = Math.min(Math.max(Math.floor((y - grid.y0) / grid.h), 0), grid.ny - 1);
+    return j * grid.nx + i;
+  }
+
+  /** Distance (m) from (x, y) to the nearest boundary point: rings of cells until no closer one can exist. */
+  private nearest(x: number, y: number): number {
+    const grid = this.grid!;
+    const { nx, ny, h } = grid;
+    const fi = (x - grid.x0) / h;
+    const fj = (y - grid.y0) / h;
+    const ci = Math.floor(fi);
+    const cj = Math.floor(fj);
+    // Distance from (x, y) to the edge of its own cell: ring r holds no point closer than (r − 1) h + edge.
+    const edge = Math.min(fi - ci, ci + 1 - fi, fj - cj, cj + 1 - fj) * h;
+    const b = this.boundary;
+    const start = this.bucketStart;
+    const order = this.bucketOrder;
+    let bestSq = Infinity;
+    const maxRing = Math.max(nx, ny);
+    for (let r = 0; r <= maxRing; r++) {
+      const reach = r === 0 ? 0 : (r - 1) * h + edge;
+      if (reach * reach >= bestSq) break;
+      for (let j = cj - r; j <= cj + r; j++) {
+        if (j < 0 || j >= ny) continue;
+        const onRow = j === cj - r || j === cj + r;
+        for (let i = ci - r; i <= ci + r; i += onRow || r === 0 ? 1 : 2 * r) {
+          if (i < 0 || i >= nx) continue;
+          const c = j * nx + i;
+          for (let q = start[c]!; q < start[c + 1]!; q++) {
+            const p = order[q]!;
+            const dx = b[2 * p]! - x;
+            const dy = b[2 * p + 1]! - y;
+            const d = dx * dx + dy * dy;
+            if (d < bestSq) bestSq = d;
+          }
+        }
+      }
+    }
+    return Math.sqrt(bestSq);
+  }
+
+  /** Whether a node of the ring around coarse cell (i, j) lies in the region (masked ≥ 0 there). */
+  private nearRegion(i: number, j: number): boolean {
+    const { nx, ny } = this.grid!;
+    const m = this.masked;
+    for (let jj = Math.max(j - 1, 0); jj <= Math.min(j + 2, ny - 1); jj++) {
+      for (let ii = Math.max(i - 1, 0); ii <= Math.min(i + 2, nx - 1); ii++) if (m[jj * nx + ii]! >= 0) return true;
+    }
+    return false;
+  }
+
+  /** Area and error from the estimates of levels 0 … level (see the file comment). */
+  private extrapolate(level: number): { area: number; error: number } {
+    const est = this.estimates;
+    const last = est[level]!;
+    const d2 = last - est[level - 1]!;
+    if (d2 === 0) return { area: last, error: 0 };
+    if (level >= 2) {
+      const d1 = est[level - 1]! - est[level - 2]!;
+      const ratio = d1 / d2;
+      if (ratio > 2.5 && ratio < 6.5) return { area: last + d2 / 3, error: Math.abs(d2) / 3 };
+    }
+    return { area: last, error: Math.abs(d2) };
+  }
+
+  /** Zero crossings along the edges of the finest undecided sub-cells of the workspace field. */
+  private collectBoundary(level: number): void {
+    const step = (1 << MAX_LEVEL) >> level;
+    const list = this.current;
+    const grid = this.grid!;
+    this.boundaryCount = 0;
+    for (let c = 0; c < list.count; c++) {
+      const fi = list.data[2 * c]!;
+      const fj = list.data[2 * c + 1]!;
+      const a = this.value(0, fi, fj);
+      const b = this.value(0, fi + step, fj);
+      const cc = this.value(0, fi, fj + step);
+      const d = this.value(0, fi + step, fj + step);
+      // Bottom and left edges of every cell, plus top and right (shared edges give repeated points; harmless).
+      this.crossing(a, b, fi, fj, step, 0, grid);
+      this.crossing(a, cc, fi, fj, 0, step, grid);
+      this.crossing(cc, d, fi, fj + step, step, 0, grid);
+      this.crossing(b, d, fi + step, fj, 0, step, grid);
+    }
+  }
+
+  private crossing(v: number, w: number, fi: number, fj: number, di: number, dj: number, grid: MarginGrid): void {
+    if ((v >= 0) === (w >= 0)) return;
+    const t = v / (v - w);
+    if (2 * this.boundaryCount + 2 > this.boundary.length) {
+      const grown = new Float64Array(this.boundary.length * 2);
+      grown.set(this.boundary);
+      this.boundary = grown;
+    }
+    this.boundary[2 * this.boundaryCount] = grid.x0 + (fi + t * di) * this.hf;
+    this.boundary[2 * this.boundaryCount + 1] = grid.y0 + (fj + t * dj) * this.hf;
+    this.boundaryCount++;
+  }
+}

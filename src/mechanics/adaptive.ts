@@ -51,19 +51,28 @@ const NEAR_FACTOR = 0.5;
 const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
 const MAX_PROBES = 64;
 
-/** Growable list of cells (fine-lattice corner coordinates), reused across designs. */
+/** Growable list of cells (fine-lattice corner coordinates and the four corner values), reused across designs. */
 class CellList {
-  data = new Int32Array(4096);
+  at = new Int32Array(4096);
+  corners = new Float64Array(8192);
   count = 0;
-  push(i: number, j: number): void {
-    if (2 * this.count + 2 > this.data.length) {
-      const grown = new Int32Array(this.data.length * 2);
-      grown.set(this.data);
-      this.data = grown;
+  push(i: number, j: number, a: number, b: number, c: number, d: number): void {
+    if (2 * this.count + 2 > this.at.length) {
+      const at = new Int32Array(this.at.length * 2);
+      at.set(this.at);
+      this.at = at;
+      const corners = new Float64Array(this.corners.length * 2);
+      corners.set(this.corners);
+      this.corners = corners;
     }
-    this.data[2 * this.count] = i;
-    this.data[2 * this.count + 1] = j;
-    this.count++;
+    const n = this.count;
+    this.at[2 * n] = i;
+    this.at[2 * n + 1] = j;
+    this.corners[4 * n] = a;
+    this.corners[4 * n + 1] = b;
+    this.corners[4 * n + 2] = c;
+    this.corners[4 * n + 3] = d;
+    this.count = n + 1;
   }
 }
 
@@ -265,7 +274,7 @@ export class AdaptiveArea {
           }
           if (field === 0 && inside === 0 && !this.nearRegion(i, j)) continue;
         }
-        this.current.push(i * S, j * S);
+        this.current.push(i * S, j * S, a, b, c, d);
         partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
       }
     }
@@ -286,23 +295,28 @@ export class AdaptiveArea {
       out.count = 0;
       partial = 0;
       let fullCells = 0;
-      const data = list.data;
+      const at = list.at;
+      const corners = list.corners;
       for (let c = 0; c < list.count; c++) {
-        const i0 = data[2 * c]!;
-        const j0 = data[2 * c + 1]!;
-        for (let q = 0; q < 4; q++) {
-          const fi = i0 + (q & 1) * step;
-          const fj = j0 + (q >> 1) * step;
-          const a = this.value(field, fi, fj);
-          const b = this.value(field, fi + step, fj);
-          const cc = this.value(field, fi, fj + step);
-          const d = this.value(field, fi + step, fj + step);
-          if (a >= 0 && b >= 0 && cc >= 0 && d >= 0) { fullCells++; continue; }
-          if (a < 0 && b < 0 && cc < 0 && d < 0) continue;
-          out.push(fi, fj);
-          partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, cc));
-        }
+        const i0 = at[2 * c]!;
+        const j0 = at[2 * c + 1]!;
+        // The 3 × 3 nodes of the split cell: corners known, five new (or cached) values.
+        const v00 = corners[4 * c]!;
+        const v20 = corners[4 * c + 1]!;
+        const v02 = corners[4 * c + 2]!;
+        const v22 = corners[4 * c + 3]!;
+        const v10 = this.value(field, i0 + step, j0);
+        const v01 = this.value(field, i0, j0 + step);
+        const v11 = this.value(field, i0 + step, j0 + step);
+        const v21 = this.value(field, i0 + 2 * step, j0 + step);
+        const v12 = this.value(field, i0 + step, j0 + 2 * step);
+        partial += this.child(out, i0, j0, v00, v10, v01, v11);
+        partial += this.child(out, i0 + step, j0, v10, v20, v11, v21);
+        partial += this.child(out, i0, j0 + step, v01, v11, v02, v12);
+        partial += this.child(out, i0 + step, j0 + step, v11, v21, v12, v22);
       }
+      fullCells = this.fullChildren;
+      this.fullChildren = 0;
       full += fullCells * cellArea;
       est[level] = full + partial * cellArea;
       this.current = out;
@@ -358,6 +372,11 @@ export class AdaptiveArea {
       let cx = grid.x0 + (k % nx) * h;
       let cy = grid.y0 + Math.floor(k / nx) * h;
       let value = scores[s]!;
+      // A start more than a cell below the best found cannot catch up within the search's reach.
+      if (value < best - h) continue;
+      let gx = cx;
+      let gy = cy;
+      this.gatherLocal(cx, cy, value + 3 * h);
       let step = 0.5 * h;
       const stop = 1e-4 * Math.max(value, h);
       while (step > stop) {
@@ -367,14 +386,69 @@ export class AdaptiveArea {
         for (let dir = 0; dir < 8; dir++) {
           const x = cx + step * COMPASS_X[dir]!;
           const y = cy + step * COMPASS_Y[dir]!;
-          const d = this.nearest(x, y);
+          const d = this.nearestLocal(x, y);
           if (d > value) { value = d; cx = x; cy = y; moved = true; }
         }
         if (!moved) step *= 0.5;
+        else if (Math.abs(cx - gx) + Math.abs(cy - gy) > h) {
+          gx = cx;
+          gy = cy;
+          this.gatherLocal(cx, cy, value + 3 * h);
+        }
       }
       if (value > best) best = value;
     }
     return best;
+  }
+
+  private local = new Float64Array(1024);
+  private localCount = 0;
+
+  /** Boundary points within `radius` of (x, y), into the local list (every point when the radius covers the grid). */
+  private gatherLocal(x: number, y: number, radius: number): void {
+    const grid = this.grid!;
+    const { nx, ny, h } = grid;
+    const b = this.boundary;
+    const start = this.bucketStart;
+    const order = this.bucketOrder;
+    const r2 = radius * radius;
+    const i0 = Math.max(Math.floor((x - radius - grid.x0) / h), 0);
+    const i1 = Math.min(Math.floor((x + radius - grid.x0) / h), nx - 1);
+    const j0 = Math.max(Math.floor((y - radius - grid.y0) / h), 0);
+    const j1 = Math.min(Math.floor((y + radius - grid.y0) / h), ny - 1);
+    this.localCount = 0;
+    for (let j = j0; j <= j1; j++) {
+      for (let i = i0; i <= i1; i++) {
+        const c = j * nx + i;
+        for (let q = start[c]!; q < start[c + 1]!; q++) {
+          const p = order[q]!;
+          const px = b[2 * p]!;
+          const py = b[2 * p + 1]!;
+          if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
+          if (2 * this.localCount + 2 > this.local.length) {
+            const grown = new Float64Array(this.local.length * 2);
+            grown.set(this.local);
+            this.local = grown;
+          }
+          this.local[2 * this.localCount] = px;
+          this.local[2 * this.localCount + 1] = py;
+          this.localCount++;
+        }
+      }
+    }
+  }
+
+  /** Distance (m) from (x, y) to the nearest point of the local list (Infinity when it is empty). */
+  private nearestLocal(x: number, y: number): number {
+    const l = this.local;
+    let bestSq = Infinity;
+    for (let p = 0; p < this.localCount; p++) {
+      const dx = l[2 * p]! - x;
+      const dy = l[2 * p + 1]! - y;
+      const d = dx * dx + dy * dy;
+      if (d < bestSq) bestSq = d;
+    }
+    return Math.sqrt(bestSq);
   }
 
   private readonly starts = new Int32Array(3);
@@ -446,6 +520,19 @@ export class AdaptiveArea {
     return Math.sqrt(bestSq);
   }
 
+  private fullChildren = 0;
+
+  /** One child sub-cell: counts it when wholly inside, lists it when undecided; returns its partial share. */
+  private child(out: CellList, i: number, j: number, a: number, b: number, c: number, d: number): number {
+    if (a >= 0 && b >= 0 && c >= 0 && d >= 0) {
+      this.fullChildren++;
+      return 0;
+    }
+    if (a < 0 && b < 0 && c < 0 && d < 0) return 0;
+    out.push(i, j, a, b, c, d);
+    return 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
+  }
+
   /** Whether a node of the ring around coarse cell (i, j) lies in the region (masked ≥ 0 there). */
   private nearRegion(i: number, j: number): boolean {
     const { nx, ny } = this.grid!;
@@ -477,12 +564,12 @@ export class AdaptiveArea {
     const grid = this.grid!;
     this.boundaryCount = 0;
     for (let c = 0; c < list.count; c++) {
-      const fi = list.data[2 * c]!;
-      const fj = list.data[2 * c + 1]!;
-      const a = this.value(0, fi, fj);
-      const b = this.value(0, fi + step, fj);
-      const cc = this.value(0, fi, fj + step);
-      const d = this.value(0, fi + step, fj + step);
+      const fi = list.at[2 * c]!;
+      const fj = list.at[2 * c + 1]!;
+      const a = list.corners[4 * c]!;
+      const b = list.corners[4 * c + 1]!;
+      const cc = list.corners[4 * c + 2]!;
+      const d = list.corners[4 * c + 3]!;
       // Bottom and left edges of every cell, plus top and right (shared edges give repeated points; harmless).
       this.crossing(a, b, fi, fj, step, 0, grid);
       this.crossing(a, cc, fi, fj, 0, step, grid);

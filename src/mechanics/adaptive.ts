@@ -344,7 +344,8 @@ export class AdaptiveArea {
     if (region < 0 || this.boundaryCount === 0) return 0;
     this.bucketBoundary();
     const { nx, h } = grid;
-    // Score the candidate nodes of every coarse region joined to the evaluation region; keep the best three.
+    // The deepest candidate nodes (coarse distance transform) of every coarse region joined to the
+    // evaluation region are the starting centres.
     const starts = this.starts;
     starts.fill(-1);
     const scores = this.startScores;
@@ -355,11 +356,11 @@ export class AdaptiveArea {
       const nodes = grid.candidateNodes;
       for (let c = 0; c < nc; c++) {
         const k = nodes[c]!;
-        const d = this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h);
+        const depth = grid.depth(k);
         for (let s = 0; s < starts.length; s++) {
-          if (d > scores[s]!) {
+          if (depth > scores[s]!) {
             for (let t = starts.length - 1; t > s; t--) { scores[t] = scores[t - 1]!; starts[t] = starts[t - 1]!; }
-            scores[s] = d;
+            scores[s] = depth;
             starts[s] = k;
             break;
           }
@@ -371,7 +372,7 @@ export class AdaptiveArea {
       const k = starts[s]!;
       let cx = grid.x0 + (k % nx) * h;
       let cy = grid.y0 + Math.floor(k / nx) * h;
-      let value = scores[s]!;
+      let value = this.nearest(cx, cy);
       // A start more than a cell below the best found cannot catch up within the search's reach.
       if (value < best - h) continue;
       let gx = cx;
@@ -451,8 +452,8 @@ export class AdaptiveArea {
     return Math.sqrt(bestSq);
   }
 
-  private readonly starts = new Int32Array(3);
-  private readonly startScores = new Float64Array(3);
+  private readonly starts = new Int32Array(4);
+  private readonly startScores = new Float64Array(4);
   private bucketStart = new Int32Array(0);
   private bucketOrder = new Int32Array(0);
 

@@ -26,7 +26,7 @@ import { MarginGrid } from './grid.js';
 import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import { applyConstraints, constraintDefinitions, type ConstraintDefinition, type DesignEvaluation } from './constraints.js';
 import { taskSamples } from './taskSamples.js';
-import { architectureUsableMargin } from './usability.js';
+import { architectureUsableMargin, UsabilityRule } from './usability.js';
 import { AdaptiveArea } from './adaptive.js';
 import { coarseCells, evaluationBox, modelJointScale, sampleAdaptive, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
@@ -173,10 +173,14 @@ export class ArchitectureEvaluator {
     this.drives = drivesAtJoint(this.study, resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
+    this.rule = new UsabilityRule(this.study, this.jointScale);
   }
 
+  /** The usability rule of the design in hand (constants hoisted). */
+  private rule: UsabilityRule | null = null;
+
   private usable(status: PoseStatus): number {
-    return architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+    return this.rule!.margin(this.pose, status);
   }
 
   evaluate(design: ArrayLike<number>): DesignEvaluation {
@@ -285,7 +289,8 @@ export class ArchitectureEvaluator {
     const pose = this.pose;
     const architecture = this.architecture;
     const orientation = architecture.dof === 3 ? this.study.orientation : null;
-    const accept = (p: ArchitecturePose, status: PoseStatus): boolean => architectureUsableMargin(p, status, this.study, this.jointScale) >= 0;
+    const rule = this.rule!;
+    const accept = (p: ArchitecturePose, status: PoseStatus): boolean => rule.margin(p, status) >= 0;
     let covered = 0;
     let coveredPoints = 0;
     for (let k = 0; k < task.x.length; k++) {

@@ -251,6 +251,11 @@ export class MarginGrid {
     return Math.sqrt(best);
   }
 
+  /** Squared distance (in cells²) of node k to the nearest node outside the region of the last deepCandidates call. */
+  depth(k: number): number {
+    return this.distance[k]!;
+  }
+
   /** Candidate centres of the last deepCandidates call (node indices), deepest first. */
   get candidateNodes(): Int32Array {
     return this.candidates;

@@ -11,7 +11,7 @@ import type { ArchitectureModelBase, ArchitecturePose, PlanarArchitecture, Plane
 import type { Study } from '../study/types.js';
 import type { AdaptiveArea } from './adaptive.js';
 import { MarginGrid } from './grid.js';
-import { architectureUsableMargin, jointMarginScale } from './usability.js';
+import { architectureUsableMargin, jointMarginScale, UsabilityRule } from './usability.js';
 
 /** Called for every grid node after it is solved (the pose holds the node's solution). */
 export type NodeVisitor = (index: number, pose: ArchitecturePose, status: PoseStatus) => void;
@@ -57,27 +57,59 @@ export function sampleGrid(
   const jointScale = modelJointScale(model);
   grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
   const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
-  const w = study.evaluation.window;
-  const scale = w ? architecture.footprint(model) : 1;
+  const kernel = new PointKernel(study, architecture, model, pose, phi);
   for (let j = 0; j < ny; j++) {
     const y = y0 + j * h;
     for (let i = 0; i < nx; i++) {
       const x = x0 + i * h;
-      const status = architecture.solvePose(model, pose, x, y, phi);
-      let r = pose.reachMargin;
-      let u = architectureUsableMargin(pose, status, study, jointScale);
-      if (w) {
-        const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
-        if (inside < r) r = inside;
-        if (inside / scale < u) u = inside / scale;
-      }
-      reach[j * nx + i] = r;
-      values[j * nx + i] = u;
+      const status = kernel.sample(x, y);
+      reach[j * nx + i] = kernel.reach;
+      values[j * nx + i] = kernel.usable;
       if (visit) visit(j * nx + i, pose, status);
     }
   }
   grid.labelRegions();
   return evaluationRegion(study, architecture, model, pose, grid, phi, jointScale);
+}
+
+/**
+ * One design's per-point work with its constants hoisted: solve the pose, then the usability margin
+ * (UsabilityRule) and the reach margin, both bounded by the study's window when it has one (the
+ * signed distance to its edge, divided by the footprint for the dimensionless margin). Writes
+ * `usable` and `reach` (no number returned but the status, so nothing is boxed per point).
+ */
+export class PointKernel {
+  usable = 0;
+  reach = 0;
+  private readonly rule: UsabilityRule;
+  private readonly window: Study['evaluation']['window'];
+  private readonly scale: number;
+  constructor(
+    study: Study,
+    private readonly architecture: PlanarArchitecture<ArchitectureModelBase>,
+    private readonly model: ArchitectureModelBase,
+    private readonly pose: ArchitecturePose,
+    private readonly phi: number,
+  ) {
+    this.rule = new UsabilityRule(study, modelJointScale(model));
+    this.window = study.evaluation.window;
+    this.scale = this.window ? architecture.footprint(model) : 1;
+  }
+
+  sample(x: number, y: number): PoseStatus {
+    const status = this.architecture.solvePose(this.model, this.pose, x, y, this.phi);
+    let r = this.pose.reachMargin;
+    let u = this.rule.margin(this.pose, status);
+    const w = this.window;
+    if (w) {
+      const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
+      if (inside < r) r = inside;
+      if (inside / this.scale < u) u = inside / this.scale;
+    }
+    this.usable = u;
+    this.reach = r;
+    return status;
+  }
 }
 
 /** The label of the evaluation region on a labelled grid (see sampleGrid). */
@@ -174,21 +206,13 @@ export function sampleAdaptive(
 ): AdaptiveWorkspace {
   const region = sampleGrid(study, architecture, model, pose, grid, box, phi, coarseCells(tolerance));
   clipReachToBox(grid, box);
-  const jointScale = modelJointScale(model);
   const w = study.evaluation.window;
-  const scale = w ? architecture.footprint(model) : 1;
+  const kernel = new PointKernel(study, architecture, model, pose, phi);
   const sampler = (x: number, y: number, out: Float64Array): void => {
-    const status = architecture.solvePose(model, pose, x, y, phi);
+    kernel.sample(x, y);
+    out[0] = kernel.usable;
     // The reach margin is bounded by the box, as on the fixed grid when its cells shrink.
-    let r = Math.min(pose.reachMargin, x - box.xmin, box.xmax - x, y - box.ymin, box.ymax - y);
-    let u = architectureUsableMargin(pose, status, study, jointScale);
-    if (w) {
-      const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
-      if (inside < r) r = inside;
-      if (inside / scale < u) u = inside / scale;
-    }
-    out[0] = u;
-    out[1] = r;
+    out[1] = Math.min(kernel.reach, x - box.xmin, box.xmax - x, y - box.ymin, box.ymax - y);
   };
   adaptive.begin(grid, sampler, region);
   const exact = w ? null : twoCrankReachableArea(model);

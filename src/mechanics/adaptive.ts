@@ -41,8 +41,9 @@ export interface AreaEstimate {
   levels: number;
 }
 
-const COMPASS_X = Float64Array.of(1, -1, 0, 0, Math.SQRT1_2, -Math.SQRT1_2, Math.SQRT1_2, -Math.SQRT1_2);
-const COMPASS_Y = Float64Array.of(0, 0, 1, -1, Math.SQRT1_2, Math.SQRT1_2, -Math.SQRT1_2, -Math.SQRT1_2);
+/** Sixteen unit directions of the compass search. */
+const COMPASS_X = Float64Array.from({ length: 16 }, (_, k) => Math.cos((k * Math.PI) / 8));
+const COMPASS_Y = Float64Array.from({ length: 16 }, (_, k) => Math.sin((k * Math.PI) / 8));
 
 /** Lattice refinement of a neck probe (per coarse cell; divides 2^MAX_LEVEL) and the most probes per design. */
 const PROBE_SPLIT = 16;
@@ -269,7 +270,9 @@ export class AdaptiveArea {
           const hi = Math.max(a, b, c, d);
           const near = inside === 4 ? lo : -hi;
           if (!(near < NEAR_FACTOR * (hi - lo))) {
-            if (inside === 4) full += 1;
+            if (inside === 4) {
+              full += 1;
+            }
             continue;
           }
           if (field === 0 && inside === 0 && !this.nearRegion(i, j)) continue;
@@ -321,9 +324,9 @@ export class AdaptiveArea {
       est[level] = full + partial * cellArea;
       this.current = out;
       this.next = list;
-      const estimate = this.extrapolate(level);
-      result = estimate.area;
-      error = estimate.error;
+      this.extrapolate(level);
+      result = this.resultArea;
+      error = this.resultError;
       if (level >= MIN_LEVEL && error <= 0.5 * tolerance * Math.abs(result)) break;
     }
     if (level === 0) error = this.current.count === 0 ? 0 : est[0]!;
@@ -335,7 +338,7 @@ export class AdaptiveArea {
    * Radius of the largest circle inside the evaluation region (m), without a distance transform of
    * a fine grid: the coarse grid's deepest nodes (MarginGrid.deepCandidates) are the starting
    * centres; each is scored against the boundary points of the finest level (bucketed by coarse
-   * cell, nearest point by rings of cells), and the best few are moved by a compass search (eight
+   * cell, nearest point by rings of cells), and the best few are moved by a compass search (sixteen
    * directions, step halved when no move helps) that maximises the distance to the boundary.
    * Call after area(0, …).
    */
@@ -384,7 +387,7 @@ export class AdaptiveArea {
         // Moves stay inside the circle already known to be free of boundary, so inside the region.
         if (step >= value) { step *= 0.5; continue; }
         let moved = false;
-        for (let dir = 0; dir < 8; dir++) {
+        for (let dir = 0; dir < 16; dir++) {
           const x = cx + step * COMPASS_X[dir]!;
           const y = cy + step * COMPASS_Y[dir]!;
           const d = this.nearestLocal(x, y);
@@ -452,8 +455,8 @@ export class AdaptiveArea {
     return Math.sqrt(bestSq);
   }
 
-  private readonly starts = new Int32Array(4);
-  private readonly startScores = new Float64Array(4);
+  private readonly starts = new Int32Array(8);
+  private readonly startScores = new Float64Array(8);
   private bucketStart = new Int32Array(0);
   private bucketOrder = new Int32Array(0);
 
@@ -544,19 +547,33 @@ export class AdaptiveArea {
     return false;
   }
 
-  /** Area and error from the estimates of levels 0 … level (see the file comment). */
-  private extrapolate(level: number): { area: number; error: number } {
+  /**
+   * Area and error from the estimates of levels 0 … level (see the file comment): Richardson's
+   * correction when the last two differences fall by about four (then its size is the error);
+   * otherwise the last estimate, with the larger of the last difference and a quarter of the one before as its error (an
+   * erratic sequence whose last step happens to be small is not taken as converged).
+   */
+  private extrapolate(level: number): void {
     const est = this.estimates;
     const last = est[level]!;
     const d2 = last - est[level - 1]!;
-    if (d2 === 0) return { area: last, error: 0 };
+    this.resultArea = last;
     if (level >= 2) {
       const d1 = est[level - 1]! - est[level - 2]!;
       const ratio = d1 / d2;
-      if (ratio > 2.5 && ratio < 6.5) return { area: last + d2 / 3, error: Math.abs(d2) / 3 };
+      if (d2 !== 0 && ratio > 2.5 && ratio < 6.5) {
+        this.resultArea = last + d2 / 3;
+        this.resultError = Math.abs(d2) / 3;
+        return;
+      }
+      this.resultError = Math.max(Math.abs(d2), Math.abs(d1) / 4);
+      return;
     }
-    return { area: last, error: Math.abs(d2) };
+    this.resultError = Math.abs(d2);
   }
+
+  private resultArea = 0;
+  private resultError = 0;
 
   /** Zero crossings along the edges of the finest undecided sub-cells of the workspace field. */
   private collectBoundary(level: number): void {

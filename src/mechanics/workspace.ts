@@ -53,11 +53,13 @@ export function sampleGrid(
   phi: number,
   cells: number = study.evaluation.gridCells,
   visit?: NodeVisitor,
+  continuous = false,
 ): number {
   const jointScale = modelJointScale(model);
   grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
   const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
   const kernel = new PointKernel(study, architecture, model, pose, phi);
+  kernel.continuous = continuous;
   for (let j = 0; j < ny; j++) {
     const y = y0 + j * h;
     for (let i = 0; i < nx; i++) {
@@ -81,6 +83,14 @@ export function sampleGrid(
 export class PointKernel {
   usable = 0;
   reach = 0;
+  /**
+   * Continuous margin outside the reach (adaptive sampling): an unreachable point's usability margin
+   * is its reach margin divided by the joint scale (negative) instead of −1, so that the margin has
+   * no jump where the usable set ends at a leg's reach (a strut's stroke): its zero crossing along a
+   * cell edge is then interpolated between comparable values.
+   */
+  continuous = false;
+  private readonly jointScale: number;
   private readonly rule: UsabilityRule;
   private readonly window: Study['evaluation']['window'];
   private readonly scale: number;
@@ -91,7 +101,8 @@ export class PointKernel {
     private readonly pose: ArchitecturePose,
     private readonly phi: number,
   ) {
-    this.rule = new UsabilityRule(study, modelJointScale(model));
+    this.jointScale = modelJointScale(model);
+    this.rule = new UsabilityRule(study, this.jointScale);
     this.window = study.evaluation.window;
     this.scale = this.window ? architecture.footprint(model) : 1;
   }
@@ -99,7 +110,7 @@ export class PointKernel {
   sample(x: number, y: number): PoseStatus {
     const status = this.architecture.solvePose(this.model, this.pose, x, y, this.phi);
     let r = this.pose.reachMargin;
-    let u = this.rule.margin(this.pose, status);
+    let u = this.continuous && status === PoseStatus.Unreachable ? Math.min(r / this.jointScale, -1e-12) : this.rule.margin(this.pose, status);
     const w = this.window;
     if (w) {
       const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
@@ -204,10 +215,11 @@ export function sampleAdaptive(
   adaptive: AdaptiveArea,
   tolerance: number,
 ): AdaptiveWorkspace {
-  const region = sampleGrid(study, architecture, model, pose, grid, box, phi, coarseCells(tolerance));
+  const region = sampleGrid(study, architecture, model, pose, grid, box, phi, coarseCells(tolerance), undefined, true);
   clipReachToBox(grid, box);
   const w = study.evaluation.window;
   const kernel = new PointKernel(study, architecture, model, pose, phi);
+  kernel.continuous = true;
   const sampler = (x: number, y: number, out: Float64Array): void => {
     kernel.sample(x, y);
     out[0] = kernel.usable;

@@ -49,6 +49,8 @@ const COMPASS_Y = Float64Array.from({ length: 16 }, (_, k) => Math.sin((k * Math
 const PROBE_SPLIT = 16;
 /** A uniform coarse cell is refined when its corner nearest the zero level is within this share of its corner spread. */
 const NEAR_FACTOR = 0.5;
+/** Compass searches per inscribed radius (from the starts nearest to the best). */
+const SEARCHES = 8;
 const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
 const MAX_PROBES = 64;
 
@@ -370,39 +372,105 @@ export class AdaptiveArea {
         }
       }
     }
+    // Exact distances of the starts; only those within half a cell of the best are searched from,
     let best = 0;
+    let first = 0;
     for (let s = 0; s < starts.length && starts[s]! >= 0; s++) {
       const k = starts[s]!;
-      let cx = grid.x0 + (k % nx) * h;
-      let cy = grid.y0 + Math.floor(k / nx) * h;
-      let value = this.nearest(cx, cy);
-      // A start more than a cell below the best found cannot catch up within the search's reach.
-      if (value < best - h) continue;
-      let gx = cx;
-      let gy = cy;
-      this.gatherLocal(cx, cy, value + 3 * h);
-      let step = 0.5 * h;
-      const stop = 1e-4 * Math.max(value, h);
-      while (step > stop) {
-        // Moves stay inside the circle already known to be free of boundary, so inside the region.
-        if (step >= value) { step *= 0.5; continue; }
-        let moved = false;
-        for (let dir = 0; dir < 16; dir++) {
-          const x = cx + step * COMPASS_X[dir]!;
-          const y = cy + step * COMPASS_Y[dir]!;
-          const d = this.nearestLocal(x, y);
-          if (d > value) { value = d; cx = x; cy = y; moved = true; }
-        }
-        if (!moved) step *= 0.5;
-        else if (Math.abs(cx - gx) + Math.abs(cy - gy) > h) {
-          gx = cx;
-          gy = cy;
-          this.gatherLocal(cx, cy, value + 3 * h);
-        }
+      scores[s] = this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h);
+      if (scores[s]! > first) first = scores[s]!;
+    }
+    // At most the SEARCHES best of them, in order of their distance.
+    for (let searched = 0; searched < SEARCHES; searched++) {
+      let pick = -1;
+      for (let s = 0; s < starts.length && starts[s]! >= 0; s++) {
+        if (scores[s]! >= first - 0.5 * h && (pick < 0 || scores[s]! > scores[pick]!)) pick = s;
       }
+      if (pick < 0) break;
+      const value = this.compassSearch(starts[pick]!, scores[pick]!);
+      scores[pick] = -1;
       if (value > best) best = value;
     }
     return best;
+  }
+
+  /**
+   * Compass search from node k (distance `value` to the boundary): sixteen directions, the step
+   * halved when no move helps, down to 10⁻³ of the radius. Trial points within `step` of the centre
+   * can only have a nearest boundary point within value + 2·step of it, so the local list is
+   * re-gathered (or filtered) to that radius as the centre moves and the step shrinks.
+   */
+  private compassSearch(k: number, value: number): number {
+    const grid = this.grid!;
+    const { nx, h } = grid;
+    let cx = grid.x0 + (k % nx) * h;
+    let cy = grid.y0 + Math.floor(k / nx) * h;
+    // Two lists of boundary points: `wide` holds every point within value_g + 3h of (gx, gy) (from
+    // the buckets), `local` every point within value_l + slack of (lx, ly) (filtered from `wide`).
+    // A trial point within `step` of centre c is served by a list about (ox, oy) with value v_o and
+    // margin m while |c − o| ≤ (m − 2 step)/2 (its nearest point is within v_o + |c − o| + step).
+    let gx = cx;
+    let gy = cy;
+    this.gatherLocal(cx, cy, value + 3 * h);
+    this.keepWide();
+    let step = 0.5 * h;
+    let lx = cx;
+    let ly = cy;
+    let slack = 6 * step;
+    this.filterFromWide(cx, cy, value + slack);
+    const stop = 1e-3 * Math.max(value, h);
+    while (step > stop) {
+      // Moves stay inside the circle already known to be free of boundary, so inside the region.
+      if (step >= value) { step *= 0.5; continue; }
+      let moved = false;
+      for (let dir = 0; dir < 16; dir++) {
+        const x = cx + step * COMPASS_X[dir]!;
+        const y = cy + step * COMPASS_Y[dir]!;
+        const d = this.nearestLocal(x, y);
+        if (d > value) { value = d; cx = x; cy = y; moved = true; }
+      }
+      if (!moved) step *= 0.5;
+      if (!moved || Math.abs(cx - lx) + Math.abs(cy - ly) > 0.5 * (slack - 2 * step)) {
+        if (Math.abs(cx - gx) + Math.abs(cy - gy) > 0.5 * (3 * h - 2 * step) - 6 * step) {
+          gx = cx;
+          gy = cy;
+          this.gatherLocal(cx, cy, value + 3 * h);
+          this.keepWide();
+        }
+        lx = cx;
+        ly = cy;
+        slack = 6 * step;
+        this.filterFromWide(cx, cy, value + slack);
+      }
+    }
+    return value;
+  }
+
+  private wide = new Float64Array(1024);
+  private wideCount = 0;
+
+  /** Copies the local list into the wide one. */
+  private keepWide(): void {
+    if (this.wide.length < this.local.length) this.wide = new Float64Array(this.local.length);
+    this.wide.set(this.local.subarray(0, 2 * this.localCount));
+    this.wideCount = this.localCount;
+  }
+
+  /** The local list: the wide list's points within `radius` of (x, y). */
+  private filterFromWide(x: number, y: number, radius: number): void {
+    const w = this.wide;
+    const l = this.local;
+    const r2 = radius * radius;
+    let kept = 0;
+    for (let p = 0; p < this.wideCount; p++) {
+      const px = w[2 * p]!;
+      const py = w[2 * p + 1]!;
+      if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
+      l[2 * kept] = px;
+      l[2 * kept + 1] = py;
+      kept++;
+    }
+    this.localCount = kept;
   }
 
   private local = new Float64Array(1024);

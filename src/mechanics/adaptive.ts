@@ -387,8 +387,17 @@ export class AdaptiveArea {
         if (scores[s]! >= first - 0.5 * h && (pick < 0 || scores[s]! > scores[pick]!)) pick = s;
       }
       if (pick < 0) break;
-      const value = this.compassSearch(starts[pick]!, scores[pick]!);
+      const k = starts[pick]!;
       scores[pick] = -1;
+      // A start next to one already searched climbs the same hill.
+      let near = false;
+      for (let t = 0; t < searched; t++) {
+        const q = this.searchedFrom[t]!;
+        if (Math.abs((q % nx) - (k % nx)) <= 1 && Math.abs(Math.floor(q / nx) - Math.floor(k / nx)) <= 1) near = true;
+      }
+      this.searchedFrom[searched] = k;
+      if (near) continue;
+      const value = this.compassSearch(k, this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h));
       if (value > best) best = value;
     }
     return best;
@@ -419,17 +428,34 @@ export class AdaptiveArea {
     let slack = 6 * step;
     this.filterFromWide(cx, cy, value + slack);
     const stop = 1e-3 * Math.max(value, h);
+    let bestDir = 0;
     while (step > stop) {
       // Moves stay inside the circle already known to be free of boundary, so inside the region.
       if (step >= value) { step *= 0.5; continue; }
+      // The eight even directions first, the eight between them only when those fail.
       let moved = false;
-      for (let dir = 0; dir < 16; dir++) {
-        const x = cx + step * COMPASS_X[dir]!;
-        const y = cy + step * COMPASS_Y[dir]!;
-        const d = this.nearestLocal(x, y);
-        if (d > value) { value = d; cx = x; cy = y; moved = true; }
+      for (let dir = 0; dir < 16; dir += 2) {
+        const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
+        if (d > value) { value = d; bestDir = dir; moved = true; }
       }
-      if (!moved) step *= 0.5;
+      if (!moved) {
+        for (let dir = 1; dir < 16; dir += 2) {
+          const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
+          if (d > value) { value = d; bestDir = dir; moved = true; }
+        }
+      }
+      if (moved) {
+        cx += step * COMPASS_X[bestDir]!;
+        cy += step * COMPASS_Y[bestDir]!;
+      } else if (this.ridgeStep(cx, cy, step, value)) {
+        // On a ridge between two boundary points the distance rises along it: follow it.
+        value = this.ridgeValue;
+        cx = this.ridgeX;
+        cy = this.ridgeY;
+        moved = true;
+      } else {
+        step *= 0.5;
+      }
       if (!moved || Math.abs(cx - lx) + Math.abs(cy - ly) > 0.5 * (slack - 2 * step)) {
         if (Math.abs(cx - gx) + Math.abs(cy - gy) > 0.5 * (3 * h - 2 * step) - 6 * step) {
           gx = cx;
@@ -444,6 +470,56 @@ export class AdaptiveArea {
       }
     }
     return value;
+  }
+
+  private ridgeX = 0;
+  private ridgeY = 0;
+  private ridgeValue = 0;
+
+  /**
+   * Tries a step along the ridge at (x, y): perpendicular to the line through its two nearest
+   * boundary points that lie apart (more than a step), both ways; true (with ridgeX, ridgeY,
+   * ridgeValue) when one raises the distance above `value`.
+   */
+  private ridgeStep(x: number, y: number, step: number, value: number): boolean {
+    const l = this.local;
+    let b1 = -1;
+    let d1 = Infinity;
+    for (let p = 0; p < this.localCount; p++) {
+      const d = (l[2 * p]! - x) ** 2 + (l[2 * p + 1]! - y) ** 2;
+      if (d < d1) { d1 = d; b1 = p; }
+    }
+    if (b1 < 0) return false;
+    const x1 = l[2 * b1]!;
+    const y1 = l[2 * b1 + 1]!;
+    let b2 = -1;
+    let d2 = Infinity;
+    for (let p = 0; p < this.localCount; p++) {
+      const px = l[2 * p]!;
+      const py = l[2 * p + 1]!;
+      if ((px - x1) ** 2 + (py - y1) ** 2 <= 4 * step * step) continue;
+      const d = (px - x) ** 2 + (py - y) ** 2;
+      if (d < d2) { d2 = d; b2 = p; }
+    }
+    if (b2 < 0) return false;
+    let tx = -(l[2 * b2 + 1]! - y1);
+    let ty = l[2 * b2]! - x1;
+    const norm = Math.hypot(tx, ty);
+    if (!(norm > 0)) return false;
+    tx /= norm;
+    ty /= norm;
+    for (let sign = -1; sign <= 1; sign += 2) {
+      const px = x + sign * step * tx;
+      const py = y + sign * step * ty;
+      const d = this.nearestLocal(px, py);
+      if (d > value) {
+        this.ridgeX = px;
+        this.ridgeY = py;
+        this.ridgeValue = d;
+        return true;
+      }
+    }
+    return false;
   }
 
   private wide = new Float64Array(1024);
@@ -524,6 +600,7 @@ export class AdaptiveArea {
   }
 
   private readonly starts = new Int32Array(8);
+  private readonly searchedFrom = new Int32Array(8);
   private readonly startScores = new Float64Array(8);
   private bucketStart = new Int32Array(0);
   private bucketOrder = new Int32Array(0);

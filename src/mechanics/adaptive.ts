@@ -8,10 +8,13 @@
  * at level k is the sum of the cells known to be wholly inside plus, for the undecided sub-cells of
  * level k, the sub-cell estimate on two triangles (linear interpolation, as MarginGrid.positiveArea).
  * This boundary estimate converges with the square of the sub-cell size, so successive levels
- * A_k are extrapolated (Richardson 1911) when their differences fall by about four, A ≈ A_k + (A_k −
- * A_{k−1})/3, and the size of that correction, |A_k − A_{k−1}|/3, is the reported error estimate
- * (|A_k − A_{k−1}| when the differences do not fall as h²). Refinement stops when the estimate is
- * below half the tolerance (or at the deepest level).
+ * A_k are extrapolated (L. F. Richardson 1911, "The approximate arithmetical solution by finite
+ * differences of physical problems", Phil. Trans. R. Soc. A 210; from memory) when their differences
+ * fall by about four, A ≈ A_k + (A_k − A_{k−1})/3, and the size of that correction, |A_k − A_{k−1}|/3,
+ * is the reported error estimate (the larger of |A_k − A_{k−1}| and a quarter of the difference
+ * before it when the differences do not fall as h²). Refinement stops when the estimate is below
+ * half the tolerance (or at the deepest level). Outside the coarse nodes' reach the method is blind:
+ * a part of the region thinner than the sub-cells and away from every split cell is missed.
  *
  * Sub-samples are cached by their position on the finest lattice (open addressing, no allocation
  * per point), so neighbouring cells share their edge samples. Two fields are refined from one pass:

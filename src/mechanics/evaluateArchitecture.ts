@@ -30,7 +30,12 @@ import { architectureUsableMargin, UsabilityRule } from './usability.js';
 import { AdaptiveArea } from './adaptive.js';
 import { coarseCells, evaluationBox, modelJointScale, sampleAdaptive, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
+import { trainsOf, writeStaticDriveMetrics } from './driveMetrics.js';
+import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
+import type { DriveTrain } from '../drives/types.js';
 import type { Study } from '../study/types.js';
+import { mountModel } from '../cell/mounting.js';
+import { CellAnalysis } from './cellMetrics.js';
 
 export { architectureUsableMargin };
 
@@ -55,6 +60,7 @@ const M = {
   orientationMargin: metricIndex('orientation_margin'),
   orientationRange: metricIndex('orientation_range'),
 } as const;
+const M_ACCEL_AT_SPEED = metricIndex('accel_capability_at_speed');
 
 /** Most orientation ranges kept per point (more are dropped by orientationRanges). */
 const MAX_RANGES = 16;
@@ -68,6 +74,8 @@ class ArchitectureAggregate {
   minStiffness = Infinity;
   minFrequency = Infinity;
   minAccel = Infinity;
+  /** Drive trains: acceleration available while moving at the required speed (peak envelope). */
+  minAccelAtSpeed = Infinity;
   maxStep = 0;
   readonly peakEffort = new Float64Array(3);
   readonly peakSpeed = new Float64Array(3);
@@ -75,7 +83,7 @@ class ArchitectureAggregate {
   minOrientationRange = Infinity;
   reset(): void {
     this.weight = 0; this.invCondSum = 0; this.minInvCond = Infinity; this.minTransmissionSine = Infinity;
-    this.minStiffness = Infinity; this.minFrequency = Infinity; this.minAccel = Infinity; this.maxStep = 0;
+    this.minStiffness = Infinity; this.minFrequency = Infinity; this.minAccel = Infinity; this.maxStep = 0; this.minAccelAtSpeed = Infinity;
     this.peakEffort.fill(0); this.peakSpeed.fill(0);
     this.minOrientationMargin = Infinity; this.minOrientationRange = Infinity;
   }
@@ -113,16 +121,25 @@ export class ArchitectureEvaluator {
   /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
   private jointScale = 1;
   private drives: readonly DriveAtJoint[] | null = null;
+  /** Motor, gearbox and stage per actuator when the study builds drives from catalogues (docs/drives.md). */
+  private trains: readonly DriveTrain[] | null = null;
   /** Every drive of the design in hand has an encoder step (for `resolution`). */
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
   private readonly cycle: CycleMetrics | null;
-  /** Adaptive sampling at the study's tolerance, or null for a fixed grid (grid_cells without a tolerance). */
+  /**
+   * Adaptive sampling at the study's tolerance, or null for a fixed grid (grid_cells without a
+   * tolerance, or a study with a cell section: its checks and metrics work on the fixed grid).
+   */
   private readonly adaptive: AdaptiveArea | null;
   /** Estimated absolute errors of the last evaluation's area metrics (m²), by metric name. */
   private errors: Record<string, number> = {};
   /** Points solved for the workspace of the last evaluation. */
   lastSamples = 0;
+  /** Cell checks and metrics (docs/cell.md), or null without a cell section. */
+  readonly cell: CellAnalysis | null;
+  /** Label of the evaluation region of the design in hand (−1 = none). */
+  private region = -1;
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -131,7 +148,8 @@ export class ArchitectureEvaluator {
     this.variables = designVariables(study);
     this.constraints = constraintDefinitions(study);
     this.pose = this.architecture.createPose();
-    const tolerance = study.evaluation.tolerance;
+    this.cell = CellAnalysis.forStudy(study, this.architecture);
+    const tolerance = this.cell ? undefined : study.evaluation.tolerance;
     this.adaptive = tolerance !== undefined ? new AdaptiveArea() : null;
     this.grid = new MarginGrid((tolerance !== undefined ? coarseCells(tolerance) : study.evaluation.gridCells) + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
@@ -150,7 +168,7 @@ export class ArchitectureEvaluator {
    */
   buildModel(resolved: ResolvedDesign): ArchitectureModelBase {
     const architecture = this.architecture;
-    const model = architecture.buildModel(modelInput(this.study, resolved));
+    const model = mountModel(architecture.buildModel(modelInput(this.study, resolved)), resolved.mount);
     if (this.study.orientation?.characteristicLength !== 'auto' || !this.task) return model;
     const task = this.task;
     const points = new Float64Array(3 * task.x.length);
@@ -161,7 +179,7 @@ export class ArchitectureEvaluator {
     }
     const scale = architecture.footprint(model);
     const best = characteristicLengthForPoses(architecture, model, this.pose, points, 1e-3 * scale, 10 * scale);
-    return best ? architecture.buildModel(modelInput(this.study, resolved, best.length)) : model;
+    return best ? mountModel(architecture.buildModel(modelInput(this.study, resolved, best.length)), resolved.mount) : model;
   }
 
   /** Model of a design vector. */
@@ -171,16 +189,19 @@ export class ArchitectureEvaluator {
 
   private prepare(resolved: ResolvedDesign, model: ArchitectureModelBase): void {
     this.drives = drivesAtJoint(this.study, resolved.drives);
+    this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
     this.rule = new UsabilityRule(this.study, this.jointScale);
+    this.cell?.prepare(model, resolved.mount);
   }
 
   /** The usability rule of the design in hand (constants hoisted). */
   private rule: UsabilityRule | null = null;
 
   private usable(status: PoseStatus): number {
-    return this.rule!.margin(this.pose, status);
+    const u = this.rule!.margin(this.pose, status);
+    return this.cell?.restricts ? Math.min(u, this.cell.nodeMargin(this.pose, status)) : u;
   }
 
   evaluate(design: ArrayLike<number>): DesignEvaluation {
@@ -190,7 +211,8 @@ export class ArchitectureEvaluator {
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
+    this.cell?.write(model, this.pose, (status) => this.usable(status), this.grid, this.region, metrics);
     const result = this.withConstraints(metrics, resolved);
     return this.adaptive ? { ...result, estimatedErrors: this.errors } : result;
   }
@@ -198,6 +220,8 @@ export class ArchitectureEvaluator {
   /** As Evaluator.evaluateWithWorkspace: workspace metrics from an earlier evaluation, the rest recomputed. */
   evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation {
     if (!this.task) throw new Error('evaluateWithWorkspace needs a study with a task region');
+    // The cell metrics need the grid: evaluate in full.
+    if (this.cell) return this.evaluate(design);
     const resolved = this.resolve(design);
     const model = this.buildModel(resolved);
     this.prepare(resolved, model);
@@ -209,7 +233,7 @@ export class ArchitectureEvaluator {
     metrics[M.coverage] = workspace[2]!;
     metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, metrics);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
     return this.withConstraints(metrics, resolved);
   }
 
@@ -223,6 +247,7 @@ export class ArchitectureEvaluator {
     this.aggregate.reset();
     this.errors = { reachable_area: 0, workspace_area: 0 };
     this.lastSamples = 0;
+    this.region = -1;
     if (!box) {
       metrics[M.reachable] = 0;
       metrics[M.workspace] = 0;
@@ -241,12 +266,20 @@ export class ArchitectureEvaluator {
       this.errors = { reachable_area: sampled.reachableAreaError, workspace_area: sampled.workspaceAreaError };
       this.lastSamples = sampled.samples;
     } else {
-      region = sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+      const cell = this.cell?.restricts ? this.cell : null;
+      // With cell checks every node's margin also honours them (docs/cell.md); without, the grid is sampled as before.
+      region = cell
+        ? sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.study.evaluation.gridCells, (index, pose, status) => {
+            const m = cell.nodeMargin(pose, status);
+            if (m < grid.values[index]!) grid.values[index] = m;
+          })
+        : sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
       metrics[M.reachable] = grid.positiveArea(grid.secondary);
       metrics[M.workspace] = grid.regionArea(region);
       metrics[M.inscribed] = grid.inscribedRadius(region);
       this.lastSamples = grid.nx * grid.ny;
     }
+    this.region = region;
     if (this.task) {
       metrics[M.coverage] = this.aggregateTask(model, region);
     } else if (this.adaptive) {
@@ -340,6 +373,7 @@ export class ArchitectureEvaluator {
       agg.minStiffness = 0;
       agg.minFrequency = 0;
       agg.minAccel = 0;
+      agg.minAccelAtSpeed = 0;
       agg.peakEffort.fill(Infinity);
       agg.peakSpeed.fill(Infinity);
       agg.maxStep = Infinity;
@@ -366,6 +400,10 @@ export class ArchitectureEvaluator {
       if (drives) {
         const a = (drives[i]!.peakEffort - effort) / pose.inertiaRowNorm[i]!;
         if (a < agg.minAccel) agg.minAccel = a;
+      }
+      if (this.trains) {
+        const a = (jointPeakEffortAtSpeed(this.trains[i]!, speed) - effort) / pose.inertiaRowNorm[i]!;
+        if (a < agg.minAccelAtSpeed) agg.minAccelAtSpeed = a;
       }
     }
     if (drives && this.encodersKnown) {
@@ -423,6 +461,10 @@ export class ArchitectureEvaluator {
     if (this.study.task.speed > 0) metrics[M.peakSpeed] = peakSpeed;
     metrics[M.accel] = this.drives ? worst(agg.minAccel, 0) : Number.NaN;
     metrics[M.resolution] = this.drives && this.drives.every((d) => d.encoderStep > 0) ? worst(agg.maxStep, Infinity) : Number.NaN;
+    if (this.trains) {
+      metrics[M_ACCEL_AT_SPEED] = worst(agg.minAccelAtSpeed, 0);
+      writeStaticDriveMetrics(this.trains, this.study.driveTrains?.brakeFactor ?? 1.5, metrics);
+    }
     metrics[M.footprint] = this.architecture.footprint(model);
     metrics[M.movingMass] = this.architecture.movingMass(model);
     if (n === 3 && this.task) {

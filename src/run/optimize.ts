@@ -295,7 +295,23 @@ function continuedTermination(previous: Termination, lastGeneration: number, eva
   };
 }
 
-export async function runOptimization(studyIn: LoadedStudy, options: RunOptions): Promise<RunSummary> {
+/** What a run is set up with before its pool starts: the study, its problem, the store, the search plan and settings. */
+interface RunSetup {
+  readonly loaded: LoadedStudy;
+  readonly sp: ReturnType<typeof studyProblem>;
+  readonly seed: number;
+  readonly population: number;
+  readonly algorithm: LoadedStudy['study']['optimizer']['algorithm'];
+  readonly warm: ReturnType<typeof warmStartDesigns> | null;
+  readonly store: Store;
+  readonly studyId: number;
+  readonly continued: RunRow | undefined;
+  readonly plan: ReturnType<typeof searchPlan>;
+  readonly settings: Record<string, unknown>;
+}
+
+/** Opens the store and settles the run's settings; refuses a bad --from or --more before anything is created. */
+function setUpRun(studyIn: LoadedStudy, options: RunOptions): RunSetup {
   const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
   const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
@@ -316,55 +332,112 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
   // A continued run keeps its own kind of search (a fixed-count run stays the paper's NSGA-II).
   const continuedFixed = continued !== undefined && !('search' in (JSON.parse(continued.settingsJson) as object));
   const plan = searchPlan(loaded, population, seed, continuedFixed ? continued!.generationsDone : options.generations, algorithm);
-  const nsgaSettings = plan.nsga;
   const settings = {
     ...(algorithm === 'nsga3' ? { algorithm, population, seed, crossoverProbability: 1, crossoverEta: 30, mutationEta: 20 } : { algorithm, population, seed, crossoverProbability: 0.9, crossoverEta: 20, mutationEta: 20 }),
     ...(plan.search ? { search: plan.search } : {}),
     ...(warm ? { warmStart: { database: options.warmStart!.dbPath, run: warm.runId } } : {}),
   };
-  const settingsJson = canonicalJson(settings);
-  if (continued && continued.settingsJson !== settingsJson) {
+  if (continued && continued.settingsJson !== canonicalJson(settings)) {
     store.close();
     throw new ContinueError(`--more: run ${continued.id} was made with other search settings than this loopsmith uses for the study; start a new run instead`);
   }
+  return { loaded, sp, seed, population, algorithm, warm, store, studyId, continued, plan, settings };
+}
 
+/** The run's optimizer and termination: restored from the run claimed (resumed or continued), or new. */
+interface RunStart {
+  readonly runId: number;
+  readonly optimizer: AskTellOptimizer;
+  readonly frame: HypervolumeFrame | null;
+  readonly resumedFrom: number | null;
+  readonly termination: Termination;
+  readonly trackerState: TerminationState | undefined;
+  readonly evaluationsSoFar: number;
+}
+
+/**
+ * Takes the run to continue (--more), or the unfinished run of the same settings, or starts one;
+ * refused while another living process writes it. `onClaim` learns the run id as soon as it is owned.
+ */
+function startOrResume(setup: RunSetup, options: RunOptions, workers: number, onClaim: (runId: number) => void): RunStart {
+  const { store, studyId, seed, settings, continued, algorithm, sp, plan, population } = setup;
+  const claimed = store.claimRun({ studyId, kind: 'optimize', seed, settings, workers, command: options.command ?? null, ...(continued ? { runId: continued.id } : {}) });
+  const runId = claimed.run.id;
+  onClaim(runId);
+  const previous = claimed.resumed ? claimed.run : undefined;
+  if (!previous || !previous.optimizerState) {
+    return { runId, optimizer: createOptimizer(algorithm, sp.problem, plan.nsga), frame: null, resumedFrom: null, termination: plan.termination, trackerState: undefined, evaluationsSoFar: 0 };
+  }
+  const state = JSON.parse(previous.optimizerState) as RunState;
+  const optimizer = createOptimizer(algorithm, sp.problem, plan.nsga, state.nsga2);
+  const evaluationsSoFar = state.evaluations ?? previous.generationsDone * population;
+  let trackerState = state.termination;
+  let termination = plan.termination;
+  const recorded = previous.terminationJson ? (JSON.parse(previous.terminationJson) as Termination) : null;
+  if (options.more !== undefined) {
+    termination = continuedTermination(recorded ?? plan.termination, optimizer.generation, evaluationsSoFar, options.more, plan.termination);
+    if (trackerState) trackerState = { ...trackerState, convergedAt: null, refinementFrom: null };
+    if (options.more === 'converge' && optimizer instanceof Nsga2) optimizer.resumeSearch();
+  } else if (recorded) {
+    termination = recorded;
+  }
+  return { runId, optimizer, frame: state.hypervolumeFrame, resumedFrom: previous.generationsDone, termination, trackerState, evaluationsSoFar };
+}
+
+/** Never leave a run "running" behind an error: 'stopped' with generations stored (the same command resumes it), else 'failed'. */
+function markRunAfterError(store: Store, runId: number, error: unknown): void {
+  const reason = error instanceof Error ? error.message : String(error);
+  const done = store.getRun(runId)?.generationsDone ?? 0;
+  store.markRun(runId, done > 0 ? 'stopped' : 'failed', done > 0 ? `stopped by an error after ${done} generation(s): ${reason}` : `failed: ${reason}`);
+}
+
+/**
+ * What one generation leaves behind: the population's members, its feasible count and hypervolume, and
+ * the optimizer state to resume from. The frame grows with every generation's front, so the figure shown
+ * during the run is in the same normalisation as the record rewritten at the end (equal at the last generation).
+ */
+function generationRecord(
+  optimizer: AskTellOptimizer,
+  sp: ReturnType<typeof studyProblem>,
+  settingsHash: string,
+  frameBefore: HypervolumeFrame | null,
+  at: { readonly tracker: TerminationTracker; readonly evaluationsSoFar: number; readonly designs: number; readonly newRecords: number; readonly failed: number; readonly elapsed: number },
+) {
+  const members = optimizer.population();
+  const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
+  const feasibleCount = members.filter((m) => isFeasible(m.evaluation)).length;
+  const frame = widenFrame(frameBefore, feasibleFront);
+  const spread = spreadFrame(frame);
+  const hypervolume = spread ? frameHypervolume(feasibleFront, spread) : null;
+  const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame, termination: at.tracker.toJSON(), evaluations: at.evaluationsSoFar };
+  return {
+    frame,
+    members: members.map((m) => ({ key: evaluationKey(settingsHash, m.design), rank: m.rank, crowding: m.crowding })),
+    counts: { evaluations: at.designs, newEvaluations: at.newRecords, failed: at.failed, feasibleCount, hypervolume, evaluationsPerSecond: at.elapsed > 0 ? at.newRecords / at.elapsed : 0 },
+    optimizerState: JSON.stringify(state),
+  };
+}
+
+/** The run's summary: the loop's figures plus the convergence window, tolerance and whether it was still improving. */
+function runSummary(tracker: TerminationTracker, figures: Omit<RunSummary, 'window' | 'tolerance' | 'stillImproving' | 'convergedAt'>): RunSummary {
+  const { window, tolerance } = tracker.convergence;
+  const stillImproving = figures.endReason === 'budget' && (figures.hvImprovement === null || figures.hvImprovement >= tolerance);
+  return { ...figures, window, tolerance, stillImproving, convergedAt: tracker.convergedGeneration };
+}
+
+export async function runOptimization(studyIn: LoadedStudy, options: RunOptions): Promise<RunSummary> {
+  const setup = setUpRun(studyIn, options);
+  const { loaded, sp, population, algorithm, warm, store, plan } = setup;
+  const nsgaSettings = plan.nsga;
   const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
   let ownedRunId: number | undefined;
   try {
     store.ensureColumns(sp.columns);
-    let runId: number;
-    let optimizer: AskTellOptimizer;
-    let frame: HypervolumeFrame | null = null;
-    let resumedFrom: number | null = null;
-    let termination = plan.termination;
-    let trackerState: TerminationState | undefined;
-    let evaluationsSoFar = 0;
-    // Takes the run to continue (--more), or the unfinished run of the same settings, or starts one;
-    // refused while another living process writes it.
-    const claimed = store.claimRun({ studyId, kind: 'optimize', seed, settings, workers: pool.workers, command: options.command ?? null, ...(continued ? { runId: continued.id } : {}) });
-    runId = claimed.run.id;
-    ownedRunId = runId;
-    const previous = claimed.resumed ? claimed.run : undefined;
-    if (previous && previous.optimizerState) {
-      const state = JSON.parse(previous.optimizerState) as RunState;
-      optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings, state.nsga2);
-      frame = state.hypervolumeFrame;
-      resumedFrom = previous.generationsDone;
-      evaluationsSoFar = state.evaluations ?? previous.generationsDone * population;
-      trackerState = state.termination;
-      const recorded = previous.terminationJson ? (JSON.parse(previous.terminationJson) as Termination) : null;
-      if (options.more !== undefined) {
-        termination = continuedTermination(recorded ?? plan.termination, optimizer.generation, evaluationsSoFar, options.more, plan.termination);
-        if (trackerState) trackerState = { ...trackerState, convergedAt: null, refinementFrom: null };
-        if (options.more === 'converge' && optimizer instanceof Nsga2) optimizer.resumeSearch();
-      } else if (recorded) {
-        termination = recorded;
-      }
-    } else {
-      optimizer = createOptimizer(algorithm, sp.problem, nsgaSettings);
-    }
+    const start = startOrResume(setup, options, pool.workers, (id) => (ownedRunId = id));
+    const { runId, optimizer, resumedFrom, termination } = start;
+    let { frame, evaluationsSoFar } = start;
     store.setRunEnd(runId, null, termination);
-    const tracker = new TerminationTracker(termination, trackerState);
+    const tracker = new TerminationTracker(termination, start.trackerState);
     const initialCount = algorithm === 'nsga2' ? Math.round((nsgaSettings.initialOversampling ?? 1) * population) : population;
     const generations = generationBound(termination, population, initialCount);
 
@@ -404,34 +477,17 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       lastImprovement = decision.status.improvement;
       archiveSize = decision.status.archiveSize;
 
-      const members = optimizer.population();
-      const feasibleFront = members.filter((m) => m.rank === 0 && isFeasible(m.evaluation)).map((m) => minimised(sp, m.evaluation));
-      const feasibleCount = members.filter((m) => isFeasible(m.evaluation)).length;
-      // The frame grows with every generation's front, so the figure shown during the run is in the
-      // same normalisation as the record rewritten at the end (equal to it at the last generation).
-      frame = widenFrame(frame, feasibleFront);
-      const spread = spreadFrame(frame);
-      const hv = spread ? frameHypervolume(feasibleFront, spread) : null;
       const elapsed = (performance.now() - genStart) / 1000;
-      const memberKeys = members.map((m) => ({ key: evaluationKey(loaded.settingsHash, m.design), rank: m.rank, crowding: m.crowding }));
-      const state: RunState = { nsga2: optimizer.snapshot(), hypervolumeFrame: frame, termination: tracker.toJSON(), evaluations: evaluationsSoFar };
+      const record = generationRecord(optimizer, sp, loaded.settingsHash, frame, { tracker, evaluationsSoFar, designs: designs.length, newRecords: newRecords.length, failed, elapsed });
+      frame = record.frame;
+      const counts = record.counts;
       pendingWrite = {
         runId,
         generation,
         newEvaluations: newRecords,
-        members: memberKeys,
-        stats: {
-          evaluations: designs.length,
-          newEvaluations: newRecords.length,
-          failed,
-          feasibleCount,
-          hypervolume: hv,
-          elapsedSeconds: elapsed,
-          evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
-          archiveSize,
-          hvImprovement: lastImprovement,
-        },
-        optimizerState: JSON.stringify(state),
+        members: record.members,
+        stats: { ...counts, elapsedSeconds: elapsed, archiveSize, hvImprovement: lastImprovement },
+        optimizerState: record.optimizerState,
       };
       for (const record of newRecords) pendingRecords.set(record.key, record);
       totalEvaluations += designs.length;
@@ -443,12 +499,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         archiveSize,
         hvImprovement: lastImprovement,
         phase: optimizer instanceof Nsga2 ? optimizer.currentPhase : 'search',
-        evaluations: designs.length,
-        newEvaluations: newRecords.length,
-        failed,
-        feasibleCount,
-        hypervolume: hv,
-        evaluationsPerSecond: elapsed > 0 ? newRecords.length / elapsed : 0,
+        ...counts,
         elapsedSeconds: (performance.now() - started) / 1000,
         resumed: resumedFrom !== null,
       });
@@ -465,10 +516,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
     store.setRunEnd(runId, status === 'finished' ? endReason ?? 'budget' : null, termination);
     store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
-    const window = tracker.convergence.window;
-    const tolerance = tracker.convergence.tolerance;
-    const finalReason = status === 'finished' ? endReason ?? 'budget' : null;
-    return {
+    return runSummary(tracker, {
       runId,
       status,
       resumedFromGeneration: resumedFrom,
@@ -477,24 +525,14 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       newEvaluations: totalNew,
       elapsedSeconds: (performance.now() - started) / 1000,
       totalEvaluations: evaluationsSoFar,
-      endReason: finalReason,
+      endReason: status === 'finished' ? endReason ?? 'budget' : null,
       termination,
       hvImprovement: lastImprovement,
-      window,
-      tolerance,
-      stillImproving: finalReason === 'budget' && (lastImprovement === null || lastImprovement >= tolerance),
       archiveSize,
-      convergedAt: tracker.convergedGeneration,
-    };
+    });
   } catch (error) {
-    // Never leave a run "running" behind an error. With generations stored it is 'stopped' (the same
-    // command resumes it from the last one); without any it 'failed'. The reason goes with it. A run
-    // this process never claimed (another process writes it) is not touched.
-    if (ownedRunId !== undefined) {
-      const reason = error instanceof Error ? error.message : String(error);
-      const done = store.getRun(ownedRunId)?.generationsDone ?? 0;
-      store.markRun(ownedRunId, done > 0 ? 'stopped' : 'failed', done > 0 ? `stopped by an error after ${done} generation(s): ${reason}` : `failed: ${reason}`);
-    }
+    // The reason goes with the run. A run this process never claimed (another process writes it) is not touched.
+    if (ownedRunId !== undefined) markRunAfterError(store, ownedRunId, error);
     throw error;
   } finally {
     await pool.close();

@@ -118,13 +118,18 @@ export class CellChecker {
     this.seg = new Float64Array(8 * (2 * legs + 3));
   }
 
-  /** Fixed parts of a design: housings placed at the (mounted) pivots, slider pairs on a common rail. */
-  prepare(model: LeggedModel, mount?: Mount): void {
+  /**
+   * Fixed parts of a design: housings placed at the (mounted) pivots, slider pairs on a common rail.
+   * `driveHousings` (per actuator, from the design's motors) stand in at crank pivots when the study
+   * gives no housings (InterferenceSpec.housingsFromDrives).
+   */
+  prepare(model: LeggedModel, mount?: Mount, driveHousings?: readonly (Housing | null | undefined)[] | null): void {
     this.model = model;
     const inter = this.spec.interference;
     const turn = mount?.angle ?? 0;
     this.housings = model.legs.map((leg, i) => {
-      const h: Housing | null | undefined = inter?.housings[i];
+      const fromDrive = inter?.housingsFromDrives && leg.name === 'crank-rod' ? driveHousings?.[i] : null;
+      const h: Housing | null | undefined = inter?.housings[i] ?? fromDrive;
       if (!h || leg.name === 'slider-rod') return null;
       const x = model.baseX[i]!;
       const y = model.baseY[i]!;
@@ -153,6 +158,11 @@ export class CellChecker {
         }
       }
     }
+  }
+
+  /** The housings in place for the prepared design (study or drive data), per actuator, as shapes (for maps). */
+  housingShapes(): (CellShape | null)[] {
+    return this.housings.map((z) => (!z ? null : z.polygon ? { shape: 'polygon', vertices: Array.from(z.polygon) } : { shape: 'circle', centreX: z.cx, centreY: z.cy, radius: z.r }));
   }
 
   /** Gap between the carriages of sliders i and j on one rail at the pose, m (negative: they overlap). */

@@ -27,6 +27,11 @@ export interface InterferenceSpec {
   readonly rodWidth: readonly number[];
   /** Housing per actuator (null = none), centred on the pivot, in the base frame. */
   readonly housings: readonly (Housing | null)[];
+  /**
+   * The study gives no `housings`: each actuated pivot of a crank leg takes the housing of its drive
+   * train's motor from the motor catalogue (`housing_diameter` or `housing_width`/`housing_height`).
+   */
+  readonly housingsFromDrives: boolean;
   /** Smallest included angle at a passive joint, rad (null = no limit). */
   readonly passiveMinAngle: number | null;
   /** Slider carriage length along its rail, m (null = no slider-gap check). */

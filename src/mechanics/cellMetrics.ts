@@ -14,6 +14,7 @@ import type { MarginGrid } from './grid.js';
 import { CycleSamples, CycleTrajectory } from './dutyCycle.js';
 import { taskSamples } from './taskSamples.js';
 import type { Study } from '../study/types.js';
+import type { DriveTrain } from '../drives/types.js';
 import { CellChecker } from '../cell/clearance.js';
 import { pointInPolygon } from '../cell/geometry.js';
 import { RegularWorkspaceFinder, type PlacedRectangle } from '../cell/regularWorkspace.js';
@@ -115,9 +116,14 @@ export class CellAnalysis {
   }
 
   /** Per design, before any pose: housings, slider pairs; the footprint scales the node margin. */
-  prepare(model: ArchitectureModelBase, mount: Mount | undefined): void {
-    this.checker.prepare(model as LeggedModel, mount);
+  prepare(model: ArchitectureModelBase, mount: Mount | undefined, trains?: readonly DriveTrain[] | null): void {
+    this.checker.prepare(model as LeggedModel, mount, trains ? trains.map((t) => t.motor.housing) : null);
     this.scale = this.architecture.footprint(model);
+  }
+
+  /** The prepared design's housings (from the study or its motors), for maps. */
+  housingShapes(): (CellShape | null)[] {
+    return this.checker.housingShapes();
   }
 
   /** Usability margin contribution of a solved pose (dimensionless; ≥ 0 when clear). */

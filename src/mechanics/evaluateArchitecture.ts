@@ -180,7 +180,7 @@ export class ArchitectureEvaluator {
     this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
-    this.cell?.prepare(model, resolved.mount);
+    this.cell?.prepare(model, resolved.mount, this.trains);
   }
 
   private usable(status: PoseStatus): number {

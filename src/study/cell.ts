@@ -159,7 +159,7 @@ function parseInterference(raw: JsonObject, context: CellContext): InterferenceS
   const slider = raw['slider_length'];
   const sliderLength = slider === undefined ? null : positive(q(slider, 'length', 'cell.interference.slider_length'), 'cell.interference.slider_length', true);
   // Architectures without two sliders on one rail ignore it (a comparison study shares one cell section).
-  return { links: raw['links'] !== false, crankWidth, rodWidth, housings, passiveMinAngle, sliderLength };
+  return { links: raw['links'] !== false, crankWidth, rodWidth, housings, housingsFromDrives: housingsIn === undefined, passiveMinAngle, sliderLength };
 }
 
 function parseHousing(raw: JsonObject, where: string): Housing {

@@ -157,7 +157,7 @@ export function probeDesign(study: Study, x: number, y: number, overrides: reado
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives, d.resolved.mount) }, warnings: choice.warnings };
 }
 
 /**
@@ -174,7 +174,7 @@ export function probeArchitectureDesign(
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives, d.resolved.mount) }, warnings: choice.warnings };
 }
 
 export { DesignError };

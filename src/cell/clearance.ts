@@ -93,6 +93,13 @@ function zoneZoneClearance(a: Zone, b: Zone): number {
 /** Which check set the smallest clearance (for messages and tests). */
 export type ClearanceSource = 'none' | 'keep-out' | 'links' | 'housing' | 'slider-gap';
 
+/** Parts named in `closestPair` codes: kind × PART + index (a segment of the pose, a keep-out, a housing, a slider). */
+const PART = 10000;
+const SEGMENT = 1;
+const KEEP_OUT = 2;
+const HOUSING = 3;
+const SLIDER = 4;
+
 /** The checks of one study, prepared once per design (`prepare`), run per pose (`clearance`). */
 export class CellChecker {
   readonly spec: CellSpec;
@@ -108,8 +115,12 @@ export class CellChecker {
   /** Pairs of sliders on one rail (leg indices), and the rail direction of the first. */
   private sliderPairs: number[] = [];
   private model: LeggedModel | null = null;
+  private staticPair: [number, number] = [0, 0];
   /** Which check gave the last `clearance` result. */
   source: ClearanceSource = 'none';
+  /** The two parts that gave the last `clearance` result (codes; `closestPair()` names them). */
+  private closestA = 0;
+  private closestB = 0;
 
   constructor(spec: CellSpec, legs: number) {
     this.spec = spec;
@@ -137,13 +148,13 @@ export class CellChecker {
     });
     this.staticClearance = Infinity;
     this.staticSource = 'none';
-    const note = (value: number, source: ClearanceSource): void => {
-      if (value < this.staticClearance) { this.staticClearance = value; this.staticSource = source; }
+    const note = (value: number, source: ClearanceSource, a: number, b: number): void => {
+      if (value < this.staticClearance) { this.staticClearance = value; this.staticSource = source; this.staticPair = [a, b]; }
     };
     this.housings.forEach((a, i) => {
       if (!a) return;
-      for (let j = i + 1; j < this.n; j++) { const b = this.housings[j]; if (b) note(zoneZoneClearance(a, b), 'housing'); }
-      for (const k of this.keepOuts) note(zoneZoneClearance(a, k), 'keep-out');
+      for (let j = i + 1; j < this.n; j++) { const b = this.housings[j]; if (b) note(zoneZoneClearance(a, b), 'housing', HOUSING * PART + i, HOUSING * PART + j); }
+      this.keepOuts.forEach((k, kk) => note(zoneZoneClearance(a, k), 'keep-out', HOUSING * PART + i, KEEP_OUT * PART + kk));
     });
     this.sliderPairs = [];
     if (inter?.sliderLength !== null && inter?.sliderLength !== undefined) {
@@ -158,6 +169,29 @@ export class CellChecker {
         }
       }
     }
+  }
+
+  /**
+   * The two parts that gave the last `clearance` result, by name ("crank 1", "rod 2", "strut 3",
+   * "platform edge 1–2", "keep-out \"conveyor\"", "housing 1", "slider 2"); null when no check applies.
+   */
+  closestPair(): [string, string] | null {
+    if (this.source === 'none') return null;
+    return [this.partName(this.closestA), this.partName(this.closestB)];
+  }
+
+  private partName(code: number): string {
+    const kind = Math.floor(code / PART);
+    const index = code % PART;
+    if (kind === KEEP_OUT) return `keep-out "${this.spec.keepOuts[index]?.name ?? index + 1}"`;
+    if (kind === HOUSING) return `housing ${index + 1}`;
+    if (kind === SLIDER) return `slider ${index + 1}`;
+    const o = 8 * index;
+    const leg = this.seg[o + 5]!;
+    const segKind = this.seg[o + 6]!;
+    if (segKind === EDGE) return `platform edge ${leg + 1}–${this.seg[o + 7]! + 1}`;
+    if (segKind === CRANK) return `crank ${leg + 1}`;
+    return `${this.model!.legs[leg]!.name === 'strut' ? 'strut' : 'rod'} ${leg + 1}`;
   }
 
   /** The housings in place for the prepared design (study or drive data), per actuator, as shapes (for maps). */
@@ -223,6 +257,8 @@ export class CellChecker {
     const count = this.segCount;
     let best = this.staticClearance;
     let source = this.staticSource;
+    let pairA = this.staticPair[0];
+    let pairB = this.staticPair[1];
     for (let a = 0; a < count; a++) {
       const o = 8 * a;
       const ax = seg[o]!, ay = seg[o + 1]!, bx = seg[o + 2]!, by = seg[o + 3]!, w = seg[o + 4]!;
@@ -233,7 +269,7 @@ export class CellChecker {
         const gap = boxGap(ax, ay, bx, by, z);
         if (gap > 0 && gap - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, z);
-        if (v < best) { best = v; source = 'keep-out'; }
+        if (v < best) { best = v; source = 'keep-out'; pairA = SEGMENT * PART + a; pairB = KEEP_OUT * PART + k; }
       }
       for (let i = 0; i < this.housings.length; i++) {
         const hz = this.housings[i];
@@ -242,21 +278,23 @@ export class CellChecker {
         const gap = boxGap(ax, ay, bx, by, hz);
         if (gap > 0 && gap - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, hz);
-        if (v < best) { best = v; source = 'housing'; }
+        if (v < best) { best = v; source = 'housing'; pairA = SEGMENT * PART + a; pairB = HOUSING * PART + i; }
       }
       if (!this.spec.interference?.links) continue;
       for (let b = a + 1; b < count; b++) {
         if (this.shareJoint(a, b)) continue;
         const p = 8 * b;
         const v = signedSegmentDistance(ax, ay, bx, by, seg[p]!, seg[p + 1]!, seg[p + 2]!, seg[p + 3]!) - 0.5 * (w + seg[p + 4]!);
-        if (v < best) { best = v; source = 'links'; }
+        if (v < best) { best = v; source = 'links'; pairA = SEGMENT * PART + a; pairB = SEGMENT * PART + b; }
       }
     }
     for (let k = 0; k < this.sliderPairs.length; k += 2) {
       const v = this.sliderGap(pose, this.sliderPairs[k]!, this.sliderPairs[k + 1]!);
-      if (v < best) { best = v; source = 'slider-gap'; }
+      if (v < best) { best = v; source = 'slider-gap'; pairA = SLIDER * PART + this.sliderPairs[k]!; pairB = SLIDER * PART + this.sliderPairs[k + 1]!; }
     }
     this.source = source;
+    this.closestA = pairA;
+    this.closestB = pairB;
     return best - this.spec.allowance;
   }
 

@@ -15,7 +15,7 @@ import { CycleSamples, CycleTrajectory } from './dutyCycle.js';
 import { taskSamples } from './taskSamples.js';
 import type { Study } from '../study/types.js';
 import type { DriveTrain } from '../drives/types.js';
-import { CellChecker } from '../cell/clearance.js';
+import { CellChecker, type ClearanceSource } from '../cell/clearance.js';
 import { pointInPolygon } from '../cell/geometry.js';
 import { RegularWorkspaceFinder, type PlacedRectangle } from '../cell/regularWorkspace.js';
 import { cellRestrictsWorkspace, type CellShape, type CellSpec, type Mount } from '../cell/types.js';
@@ -79,6 +79,16 @@ export function shapeSamples(shape: CellShape, intervals: number): ShapeSamples 
   return { x: Float64Array.from(xs), y: Float64Array.from(ys), weight: Float64Array.from(ws, (w) => w / total) };
 }
 
+/** The cell checks at one pose (what `loopsmith probe` reports for a study with a cell section). */
+export interface CellPoseReport {
+  /** Smallest clearance over the study's checks after its required clearance, m (negative = collision; +∞ = nothing to check). */
+  readonly minClearance: number;
+  /** The check and the two parts that are closest (null when no check applies). */
+  readonly closest: { readonly check: ClearanceSource; readonly between: [string, string] } | null;
+  /** Smallest included angle at a passive joint minus its limit, rad (null without a limit). */
+  readonly passiveJointMargin: number | null;
+}
+
 /** Whether a pose may be checked: reachable with a finite solution. */
 function solved(status: PoseStatus): boolean {
   return status !== PoseStatus.Unreachable;
@@ -119,6 +129,18 @@ export class CellAnalysis {
   prepare(model: ArchitectureModelBase, mount: Mount | undefined, trains?: readonly DriveTrain[] | null): void {
     this.checker.prepare(model as LeggedModel, mount, trains ? trains.map((t) => t.motor.housing) : null);
     this.scale = this.architecture.footprint(model);
+  }
+
+  /** The cell checks at a solved pose of the prepared design. */
+  probe(pose: ArchitecturePose): CellPoseReport {
+    const minClearance = this.checker.clearance(pose);
+    const between = this.checker.closestPair();
+    const passive = this.checker.passiveMargin(pose);
+    return {
+      minClearance,
+      closest: between ? { check: this.checker.source, between } : null,
+      passiveJointMargin: this.spec.interference?.passiveMinAngle == null ? null : passive,
+    };
   }
 
   /** The prepared design's housings (from the study or its motors), for maps. */

@@ -66,6 +66,7 @@ describe('housings from the drives at the pivots (constructed)', () => {
     checker.prepare(model, undefined, [{ shape: 'circle', radius: 0.03 }, { shape: 'circle', radius: 0.05 }]);
     expect(checker.clearance(pose)).toBeCloseTo(-0.04, 12);
     expect(checker.source).toBe('housing');
+    expect(checker.closestPair()).toEqual(['housing 1', 'housing 2']);
     // Negative control: the study gave housings (even none), so the drive data stay unused.
     const given = new CellChecker(cellSpec(false), 2);
     given.prepare(model, undefined, [{ shape: 'circle', radius: 0.03 }, { shape: 'circle', radius: 0.05 }]);

@@ -26,7 +26,7 @@ import {
   signedPointPolygonDistance,
   signedSegmentDistance,
 } from './geometry.js';
-import type { CellShape, CellSpec, Housing, Mount } from './types.js';
+import { hasPassiveLimits, type CellShape, type CellSpec, type Housing, type Mount } from './types.js';
 
 /** Segment kinds in the pose's link list. */
 const CRANK = 0;
@@ -76,6 +76,11 @@ function includedAngle(ux: number, uy: number, vx: number, vy: number): number {
   return Math.atan2(Math.abs(ux * vy - uy * vx), ux * vx + uy * vy);
 }
 
+/** Signed distance of an angle inside the range [lo, hi], rad (negative = outside). */
+function within(a: number, lo: number, hi: number): number {
+  return Math.min(a - lo, hi - a);
+}
+
 /** Clearance of a thick segment from a zone, m. */
 function segmentZoneClearance(ax: number, ay: number, bx: number, by: number, w: number, z: Zone): number {
   if (z.polygon) return segmentPolygonClearance(ax, ay, bx, by, z.polygon) - w / 2;
@@ -122,11 +127,38 @@ export class CellChecker {
   private closestA = 0;
   private closestB = 0;
 
+  /** Included-angle range per passive joint, rad: slot i the joint on leg i, slot n + i the end point (2-DOF) or platform pin i. */
+  private readonly passiveLo: Float64Array;
+  private readonly passiveHi: Float64Array;
+  private readonly passive: boolean;
+
   constructor(spec: CellSpec, legs: number) {
     this.spec = spec;
     this.n = legs;
     this.keepOuts = spec.keepOuts.map(zoneOf);
     this.seg = new Float64Array(8 * (2 * legs + 3));
+    this.passiveLo = new Float64Array(2 * legs);
+    this.passiveHi = new Float64Array(2 * legs);
+    this.passive = hasPassiveLimits(spec.interference);
+  }
+
+  /**
+   * The passive-joint ranges of a design's legs: `passive_min_angle` everywhere (a slider's pin: the rod
+   * at least that far from either direction of the rail), then each `passive_limits` entry in its place.
+   */
+  private preparePassive(model: LeggedModel): void {
+    const g = this.spec.interference?.passiveMinAngle ?? null;
+    for (let k = 0; k < 2 * this.n; k++) {
+      const slider = k < this.n && model.legs[k]!.name === 'slider-rod';
+      this.passiveLo[k] = g ?? -Infinity;
+      this.passiveHi[k] = g !== null && slider ? Math.PI - g : Infinity;
+    }
+    for (const limit of this.spec.interference?.passiveLimits ?? []) {
+      const [kind, index] = limit.joint === 'end_point' ? ['end_point', 1] : [limit.joint.replace(/_\d+$/, ''), Number(limit.joint.slice(limit.joint.lastIndexOf('_') + 1))];
+      const slot = kind === 'elbow' || kind === 'slider' ? index - 1 : this.n + index - 1;
+      this.passiveLo[slot] = limit.min;
+      this.passiveHi[slot] = limit.max;
+    }
   }
 
   /**
@@ -136,6 +168,7 @@ export class CellChecker {
    */
   prepare(model: LeggedModel, mount?: Mount, driveHousings?: readonly (Housing | null | undefined)[] | null): void {
     this.model = model;
+    if (this.passive) this.preparePassive(model);
     const inter = this.spec.interference;
     const turn = mount?.angle ?? 0;
     this.housings = model.legs.map((leg, i) => {
@@ -299,29 +332,31 @@ export class CellChecker {
   }
 
   /**
-   * Smallest included angle at a passive joint minus the limit, rad (+∞ without a limit): the elbow
+   * Smallest distance of an included angle at a passive joint from its range, rad (+∞ without a
+   * limit; negative = outside): the elbow
    * of a crank leg (between C→A and C→B), a slider's pin (between the rod and its rail line), the
    * end point of a 2-DOF arm (between the two rods) and the platform pins (between B→proximal and B→P).
    */
   passiveMargin(pose: ArchitecturePose): number {
-    const limit = this.spec.interference?.passiveMinAngle;
-    if (limit === null || limit === undefined) return Infinity;
+    if (!this.passive) return Infinity;
     const m = this.model!;
+    const lo = this.passiveLo;
+    const hi = this.passiveHi;
     let worst = Infinity;
     const angle = includedAngle;
     for (let i = 0; i < this.n; i++) {
       const ux = pose.rodDirection[2 * i]!;
       const uy = pose.rodDirection[2 * i + 1]!;
       const kind = m.legs[i]!.name;
-      if (kind === 'crank-rod') worst = Math.min(worst, angle(-pose.actuatorDirection[2 * i]!, -pose.actuatorDirection[2 * i + 1]!, ux, uy));
-      else if (kind === 'slider-rod') { const a = angle(m.railX[i]!, m.railY[i]!, ux, uy); worst = Math.min(worst, a, Math.PI - a); }
+      if (kind === 'crank-rod') worst = Math.min(worst, within(angle(-pose.actuatorDirection[2 * i]!, -pose.actuatorDirection[2 * i + 1]!, ux, uy), lo[i]!, hi[i]!));
+      else if (kind === 'slider-rod') worst = Math.min(worst, within(angle(m.railX[i]!, m.railY[i]!, ux, uy), lo[i]!, hi[i]!));
       if (m.dof === 3) {
         const rx = pose.x - pose.distalJoint[2 * i]!;
         const ry = pose.y - pose.distalJoint[2 * i + 1]!;
-        if (rx !== 0 || ry !== 0) worst = Math.min(worst, angle(-ux, -uy, rx, ry));
+        if (rx !== 0 || ry !== 0) worst = Math.min(worst, within(angle(-ux, -uy, rx, ry), lo[this.n + i]!, hi[this.n + i]!));
       }
     }
-    if (m.dof === 2) worst = Math.min(worst, angle(pose.rodDirection[0]!, pose.rodDirection[1]!, pose.rodDirection[2]!, pose.rodDirection[3]!));
-    return worst - limit;
+    if (m.dof === 2) worst = Math.min(worst, within(angle(pose.rodDirection[0]!, pose.rodDirection[1]!, pose.rodDirection[2]!, pose.rodDirection[3]!), lo[this.n]!, hi[this.n]!));
+    return worst;
   }
 }

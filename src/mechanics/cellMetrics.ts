@@ -18,7 +18,7 @@ import type { DriveTrain } from '../drives/types.js';
 import { CellChecker, type ClearanceSource } from '../cell/clearance.js';
 import { pointInPolygon } from '../cell/geometry.js';
 import { RegularWorkspaceFinder, type PlacedRectangle } from '../cell/regularWorkspace.js';
-import { cellRestrictsWorkspace, type CellShape, type CellSpec, type Mount } from '../cell/types.js';
+import { cellRestrictsWorkspace, hasPassiveLimits, type CellShape, type CellSpec, type Mount } from '../cell/types.js';
 
 const M = {
   clearance: metricIndex('min_clearance'),
@@ -139,7 +139,7 @@ export class CellAnalysis {
     return {
       minClearance,
       closest: between ? { check: this.checker.source, between } : null,
-      passiveJointMargin: this.spec.interference?.passiveMinAngle == null ? null : passive,
+      passiveJointMargin: hasPassiveLimits(this.spec.interference) ? passive : null,
     };
   }
 
@@ -197,7 +197,7 @@ export class CellAnalysis {
     if (!this.region && this.zones.length === 0 && !this.cycle) this.visitRegion(grid, region, visit);
     const checks = this.restricts || this.spec.interference !== null;
     metrics[M.clearance] = !checks ? Number.NaN : worst.points > 0 ? worst.clearance : -Infinity;
-    metrics[M.passive] = this.spec.interference?.passiveMinAngle == null ? Number.NaN : worst.points > 0 ? worst.passive : -Infinity;
+    metrics[M.passive] = !hasPassiveLimits(this.spec.interference) ? Number.NaN : worst.points > 0 ? worst.passive : -Infinity;
     const rect = this.finder.find(grid, region, this.spec.regular.aspect, this.spec.regular.angle);
     this.lastRectangle = rect;
     metrics[M.regularArea] = rect ? rect.width * rect.height : 0;

@@ -26,7 +26,7 @@ afterAll(() => { for (const d of dirs) rmSync(d, { recursive: true, force: true 
 function cellSpec(housingsFromDrives: boolean): CellSpec {
   return {
     zones: [], cycleAsTask: false, keepOuts: [], allowance: 0, mounting: null, regular: { aspect: 1, angle: 0 },
-    interference: { links: false, crankWidth: [0, 0], rodWidth: [0, 0], housings: [null, null], housingsFromDrives, passiveMinAngle: null, sliderLength: null },
+    interference: { links: false, crankWidth: [0, 0], rodWidth: [0, 0], housings: [null, null], housingsFromDrives, passiveMinAngle: null, passiveLimits: [], sliderLength: null },
   };
 }
 

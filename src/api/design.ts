@@ -11,6 +11,7 @@ import { ARCHITECTURES } from '../architectures/index.js';
 import { parseQuantity, UnitError } from '../study/units.js';
 import type { Study } from '../study/types.js';
 import { WORKING_MODES } from '../core/pose.js';
+import { builtArmField, type BuiltArmPoseReport } from '../mechanics/builtArmDesign.js';
 
 export interface DesignChoice {
   /** The study, with fixed parameters replaced where an override named one. */
@@ -153,11 +154,11 @@ export function evaluateDesign(study: Study, overrides: readonly string[] = []):
 }
 
 /** Everything about one pose of one five-bar design, in the five-bar's report shape (a view of the one probe). */
-export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
+export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>>; builtArm?: BuiltArmPoseReport }; warnings: readonly string[] } {
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives, d.resolved.mount) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives, d.resolved.mount), ...builtArmField(d, x, y) }, warnings: choice.warnings };
 }
 
 /**
@@ -170,11 +171,11 @@ export function probeArchitectureDesign(
   y: number,
   phi?: number,
   overrides: readonly string[] = [],
-): { report: ArchitecturePoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
+): { report: ArchitecturePoseReport & { design: Readonly<Record<string, number | string>>; builtArm?: BuiltArmPoseReport }; warnings: readonly string[] } {
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives, d.resolved.mount) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives, d.resolved.mount), ...builtArmField(d, x, y, phi) }, warnings: choice.warnings };
 }
 
 export { DesignError };

@@ -7,6 +7,7 @@ import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup 
 import { writeSimulationOutputs } from '../simulate/plots.js';
 import { formatValue, table, toJson } from './format.js';
 import { checkOverrides } from './argChecks.js';
+import { variableKind } from '../mechanics/designSpace.js';
 import { compareFormulations, driveHooksOf, driveSimulationJson, driveSimulationLines, epsilonList, formulationReportLines } from '../simulate/driveSimulation.js';
 
 const out = (text: string): void => {
@@ -39,7 +40,7 @@ export function simulationJson(setup: StudySimulationSetup, summary: SimulationS
 
 function summaryText(setup: StudySimulationSetup, result: SimulationResult): string {
   const s = result.summary;
-  const design = Object.entries(setup.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, 'length') : v}`).join(', ');
+  const design = Object.entries(setup.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, variableKind(setup.study, k)) : v}`).join(', ');
   const lines = [
     `${setup.study.name} — design: ${design || '(no design variables)'}`,
     `controller: ${s.controller}${s.controller === 'none' ? '' : ` (natural frequency ${s.naturalFrequency} Hz, damping ratio ${s.dampingRatio})`}; simulated ${formatValue(s.duration, 'time')} (cycle ${formatValue(setup.cycleTime, 'time')})${s.extraEndMass > 0 ? `; plant carries ${formatValue(s.extraEndMass, 'mass')} the controller does not know` : ''}`,
@@ -54,13 +55,13 @@ function summaryText(setup: StudySimulationSetup, result: SimulationResult): str
     const speed: QuantityKind = slider ? 'speed' : 'angularSpeed';
     return [
       `joint ${i + 1}`,
-      `${(j.maxTrackingError * 1000).toPrecision(3)}${slider ? ' mm' : ''}`,
+      `${(j.maxTrackingError * 1000).toPrecision(3)} ${slider ? 'mm' : 'mrad'}`,
       formatValue(j.peakTorque, effort), limit(j.peakTorqueLimit, effort), ok(j.withinPeakTorque),
       formatValue(j.rmsTorque, effort), limit(j.ratedTorqueLimit, effort), ok(j.withinRatedTorque),
       formatValue(j.peakSpeed, speed), limit(j.speedLimit, speed), ok(j.withinSpeed),
     ];
   });
-  lines.push(table(['joint', 'max |e| (mrad)', 'peak τ', 'limit', 'ok', 'RMS τ', 'rated', 'ok', 'peak speed', 'limit', 'ok'], rows));
+  lines.push(table(['joint', 'max |e|', 'peak τ', 'limit', 'ok', 'RMS τ', 'rated', 'ok', 'peak speed', 'limit', 'ok'], rows));
   lines.push(
     '',
     `max end-point tracking error: ${formatValue(s.maxEndPointError, 'length')}`,

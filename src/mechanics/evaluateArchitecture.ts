@@ -12,7 +12,7 @@
  *   orientation ranges are scanned, `orientation_margin` is the worst margin of φ_0 ± Δφ and a task
  *   point counts as covered only when the requirement holds there;
  * - `accel_capability` and `peak_joint_speed` use J_h (an angular part counts as L·φ̈, L·φ̇);
- *   `resolution` is the largest step of P for one encoder count on each joint (orientation excluded).
+ *   `encoder_resolution` (formerly `resolution`) is the largest step of P for one encoder count on each joint (orientation excluded).
  */
 import { characteristicLengthForPoses } from '../architectures/conditioning.js';
 import type { LeggedModel } from '../architectures/legged.js';
@@ -29,6 +29,9 @@ import { taskSamples } from './taskSamples.js';
 import { architectureUsableMargin } from './usability.js';
 import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
+import { BuiltArmChecks, isLeggedModel } from '../accuracy/builtArm.js';
+import { withBearings } from '../accuracy/joints.js';
+import { builtArmDesign, cycleLoadPath } from './builtArmDesign.js';
 import { trainsOf, writeStaticDriveMetrics } from './driveMetrics.js';
 import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
 import type { DriveTrain } from '../drives/types.js';
@@ -49,11 +52,11 @@ const M = {
   minStiffness: metricIndex('min_stiffness'),
   peakTorque: metricIndex('peak_gravity_torque'),
   peakTorqueOf: [metricIndex('peak_gravity_torque_1'), metricIndex('peak_gravity_torque_2'), metricIndex('peak_gravity_torque_3')],
-  bandwidth: metricIndex('bandwidth'),
+  bandwidth: metricIndex('first_mode_in_plane'),
   accel: metricIndex('accel_capability'),
   peakSpeed: metricIndex('peak_joint_speed'),
   peakSpeedOf: [metricIndex('peak_joint_speed_1'), metricIndex('peak_joint_speed_2'), metricIndex('peak_joint_speed_3')],
-  resolution: metricIndex('resolution'),
+  resolution: metricIndex('encoder_resolution'),
   footprint: metricIndex('footprint'),
   movingMass: metricIndex('moving_mass'),
   orientationMargin: metricIndex('orientation_margin'),
@@ -130,6 +133,8 @@ export class ArchitectureEvaluator {
   readonly cell: CellAnalysis | null;
   /** Label of the evaluation region of the design in hand (−1 = none). */
   private region = -1;
+  /** Tolerances, out-of-plane mode and strength (docs/accuracy.md); inactive without those study sections. */
+  private readonly builtArm: BuiltArmChecks;
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -143,6 +148,8 @@ export class ArchitectureEvaluator {
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
     this.cycle = CycleMetrics.forStudy(study, this.architecture);
     this.cell = CellAnalysis.forStudy(study, this.architecture);
+    this.builtArm = new BuiltArmChecks(this.architecture.dof);
+    if (study.accuracy && study.dutyCycle) this.builtArm.setCycle(cycleLoadPath(study.dutyCycle), this.architecture.createPose());
   }
 
   resolve(design: ArrayLike<number>): ResolvedDesign {
@@ -156,7 +163,7 @@ export class ArchitectureEvaluator {
    */
   buildModel(resolved: ResolvedDesign): ArchitectureModelBase {
     const architecture = this.architecture;
-    const model = mountModel(architecture.buildModel(modelInput(this.study, resolved)), resolved.mount);
+    const model = mountModel(this.withJoints(architecture.buildModel(modelInput(this.study, resolved))), resolved.mount);
     if (this.study.orientation?.characteristicLength !== 'auto' || !this.task) return model;
     const task = this.task;
     const points = new Float64Array(3 * task.x.length);
@@ -167,7 +174,13 @@ export class ArchitectureEvaluator {
     }
     const scale = architecture.footprint(model);
     const best = characteristicLengthForPoses(architecture, model, this.pose, points, 1e-3 * scale, 10 * scale);
-    return best ? mountModel(architecture.buildModel(modelInput(this.study, resolved, best.length)), resolved.mount) : model;
+    return best ? mountModel(this.withJoints(architecture.buildModel(modelInput(this.study, resolved, best.length))), resolved.mount) : model;
+  }
+
+  /** The model with the bearings of the study's joints section (unchanged without it). */
+  private withJoints(model: ArchitectureModelBase): ArchitectureModelBase {
+    const joints = this.study.accuracy?.joints ?? null;
+    return joints && isLeggedModel(model) ? withBearings(model, joints) : model;
   }
 
   /** Model of a design vector. */
@@ -181,6 +194,8 @@ export class ArchitectureEvaluator {
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
     this.cell?.prepare(model, resolved.mount, this.trains);
+    this.builtArm.prepare(model, builtArmDesign(this.study, resolved, this.drives));
+    this.builtArm.reset();
   }
 
   private usable(status: PoseStatus): number {
@@ -320,9 +335,11 @@ export class ArchitectureEvaluator {
       agg.peakEffort.fill(Infinity);
       agg.peakSpeed.fill(Infinity);
       agg.maxStep = Infinity;
+      this.builtArm.singular();
       return;
     }
     this.architecture.poseDynamics(model, pose);
+    this.builtArm.atPose(model, pose);
     agg.invCondSum += weight * pose.inverseCondition;
     if (pose.inverseCondition < agg.minInvCond) agg.minInvCond = pose.inverseCondition;
     let ts = Math.abs(pose.mechanismSine);
@@ -404,6 +421,8 @@ export class ArchitectureEvaluator {
     if (this.study.task.speed > 0) metrics[M.peakSpeed] = peakSpeed;
     metrics[M.accel] = this.drives ? worst(agg.minAccel, 0) : Number.NaN;
     metrics[M.resolution] = this.drives && this.drives.every((d) => d.encoderStep > 0) ? worst(agg.maxStep, Infinity) : Number.NaN;
+    this.builtArm.runCycle(model, this.architecture);
+    this.builtArm.write(metrics);
     if (this.trains) {
       metrics[M_ACCEL_AT_SPEED] = worst(agg.minAccelAtSpeed, 0);
       writeStaticDriveMetrics(this.trains, this.study.driveTrains?.brakeFactor ?? 1.5, metrics);

@@ -18,6 +18,7 @@ import { shapeOutline } from '../cell/taskShapes.js';
 import type { Mount } from '../cell/types.js';
 import type { DriveTrain } from '../drives/types.js';
 import { trainsOf } from '../mechanics/driveMetrics.js';
+import { errorEllipseLayer } from './errorEllipses.js';
 
 /** Default smallest grid of a map (cells across the window). */
 export const MIN_MAP_CELLS = 120;
@@ -134,5 +135,13 @@ export function designMapSpec(
     ...(options.maxColourCells !== undefined ? { maxColourCells: options.maxColourCells } : {}),
     ...(member.cell ? { cell: cellLayer(member, architecture, model, built.resolved.mount, result.metrics, trainsOf(built.resolved.drives)) } : {}),
   });
+  // First-order error ellipses over the task region when the study gives tolerances (docs/accuracy.md).
+  const ellipses = errorEllipseLayer(built, map.layout);
+  if (ellipses) {
+    (map.spec as { layer: object[] }).layer.push(ellipses.layer);
+    const note = `error ellipses (${ellipses.coverage}σ, drawn ×${ellipses.magnification}): position_error_rss ${metricText('position_error_rss', result.metrics[metricIndex('position_error_rss')]!)}`;
+    const spec = map.spec as { title?: { text?: unknown; subtitle?: unknown } };
+    if (spec.title && Array.isArray(spec.title.subtitle)) spec.title.subtitle = [...(spec.title.subtitle as string[]), note];
+  }
   return { ...map, architecture: architecture.name, metrics: result.metrics, feasible: result.feasible };
 }

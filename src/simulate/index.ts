@@ -33,5 +33,5 @@ export {
 } from './freeChain.js';
 export { LegChain } from './legChain.js';
 export { cutChainState, simulateArchitecture, type ArchitectureSimulationOptions } from './simulateArchitecture.js';
-export { prepareStudySimulation, scaleCyclePath, simulateStudyDesign, type StudySimulationOptions, type StudySimulationSetup } from './study.js';
+export { pacedCycle, prepareStudySimulation, scaleCyclePath, simulateStudyDesign, type StudySimulationOptions, type StudySimulationSetup } from './study.js';
 export { simulationChartSpecs, simulationCsv, writeSimulationOutputs } from './plots.js';

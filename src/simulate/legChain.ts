@@ -32,8 +32,13 @@ function kindOf(leg: CutOpenLeg): number {
   return leg.actuator === 'revolute' ? CRANK : SLIDER;
 }
 
-/** Per-leg terms at one state (scratch, overwritten by `legTerms`). */
-const enum T { M11, M12, M22, HQ, HB, GQ, GB, TIPX, TIPY, JQX, JQY, JBX, JBY, VPX, VPY, SIZE }
+/**
+ * Indices of the per-leg terms `legTerms` writes: mass block (M11, M12, M22), velocity terms (HQ, HB),
+ * gravity gradient (GQ, GB), tip (TIPX, TIPY), tip Jacobian columns (JQX, JQY, JBX, JBY) and the tip's
+ * velocity products (VPX, VPY).
+ */
+export const LEG_TERM = { M11: 0, M12: 1, M22: 2, HQ: 3, HB: 4, GQ: 5, GB: 6, TIPX: 7, TIPY: 8, JQX: 9, JQY: 10, JBX: 11, JBY: 12, VPX: 13, VPY: 14, SIZE: 15 } as const;
+const T = LEG_TERM;
 
 export class LegChain {
   readonly chain: CutOpenChain;
@@ -52,7 +57,7 @@ export class LegChain {
   private readonly k: Float64Array;
   private readonly kkt: Float64Array;
   private readonly rhs: Float64Array;
-  private readonly terms = new Float64Array(T.SIZE);
+  private readonly terms = new Float64Array(LEG_TERM.SIZE);
 
   constructor(chain: CutOpenChain) {
     this.chain = chain;
@@ -85,7 +90,7 @@ export class LegChain {
    * velocity terms h, gravity gradient G (= ∂V/∂(q, β)), tip, tip Jacobian columns and the tip's
    * velocity products (derived, see the file comment).
    */
-  private legTerms(i: number, q: number, beta: number, qd: number, bd: number): Float64Array {
+  protected legTerms(i: number, q: number, beta: number, qd: number, bd: number): Float64Array {
     const leg = this.chain.legs[i]!;
     const out = this.terms;
     const [gx, gy] = this.chain.gravity;

@@ -17,7 +17,7 @@
  * legChain.ts's kinetic and potential energy terms (same derivation, same coordinates).
  */
 import type { CutOpenChain } from '../architectures/types.js';
-import { LegChain } from './legChain.js';
+import { LEG_TERM as T, LegChain } from './legChain.js';
 
 export class PerturbedLegChain extends LegChain {
   private readonly M: Float64Array;
@@ -28,9 +28,6 @@ export class PerturbedLegChain extends LegChain {
   private readonly MinvGt: Float64Array;
   private readonly W: Float64Array;
   private readonly lam: Float64Array;
-  private readonly ca: Float64Array;
-  private readonly cb: Float64Array;
-  private readonly ck: Float64Array;
 
   /** `epsilon`: time constant of the constraint-error dynamics, s. */
   constructor(chain: CutOpenChain, readonly epsilon: number) {
@@ -46,9 +43,6 @@ export class PerturbedLegChain extends LegChain {
     this.MinvGt = new Float64Array(N * m);
     this.W = new Float64Array(m * m);
     this.lam = new Float64Array(m);
-    this.ca = Float64Array.from(chain.legs, (l) => (l.actuator === 'revolute' ? l.proximalInertia + l.reflectedInertia + l.rodMass * l.crank * l.crank : l.proximalInertia + l.reflectedInertia + l.rodMass));
-    this.cb = Float64Array.from(chain.legs, (l) => l.rodMass * l.rodComDistance * l.rodComDistance + l.rodInertia);
-    this.ck = Float64Array.from(chain.legs, (l) => (l.actuator === 'revolute' ? l.rodMass * l.crank * l.rodComDistance : l.rodMass * l.rodComDistance));
   }
 
   /** z̈ under the perturbed closure law (the stabilisation rate is not used). False when M or W is singular. */
@@ -94,38 +88,22 @@ export class PerturbedLegChain extends LegChain {
     for (let i = 0; i < this.legs; i++) {
       const leg = this.chain.legs[i]!;
       const qi = 2 * i, bi = 2 * i + 1;
-      const q = state[qi]!, beta = state[bi]!, qd = state[N + qi]!, bd = state[N + bi]!;
-      const cb = Math.cos(beta), sb = Math.sin(beta);
-      const a = this.ca[i]!, b = this.cb[i]!, k = this.ck[i]!;
-      let m12: number, hq: number, hb: number, gq: number, tipX: number, tipY: number, dqx: number, dqy: number;
-      if (leg.actuator === 'revolute') {
-        const ct = Math.cos(q), st = Math.sin(q);
-        const c = cb * ct + sb * st, s = sb * ct - cb * st;
-        m12 = k * c; hq = -k * s * bd * bd; hb = k * s * qd * qd;
-        gq = -(leg.proximalFirstMoment + leg.rodMass * leg.crank) * (-gx * st + gy * ct);
-        tipX = leg.baseX + leg.crank * ct + leg.rod * cb; tipY = leg.baseY + leg.crank * st + leg.rod * sb;
-        dqx = -leg.crank * st; dqy = leg.crank * ct;
-      } else {
-        const g = -leg.railX * sb + leg.railY * cb;
-        m12 = k * g; hq = -k * (leg.railX * cb + leg.railY * sb) * bd * bd; hb = 0;
-        gq = -(leg.proximalFirstMoment + leg.rodMass) * (gx * leg.railX + gy * leg.railY);
-        tipX = leg.baseX + q * leg.railX + leg.rod * cb; tipY = leg.baseY + q * leg.railY + leg.rod * sb;
-        dqx = leg.railX; dqy = leg.railY;
-      }
-      const gb = -leg.rodMass * leg.rodComDistance * (-gx * sb + gy * cb);
-      M[qi * N + qi] = a; M[qi * N + bi] = m12; M[bi * N + qi] = m12; M[bi * N + bi] = b;
-      f[qi] = efforts[i]! - hq - gq;
-      f[bi] = -hb - gb;
+      const qd = state[N + qi]!, bd = state[N + bi]!;
+      // legChain.ts's terms of this leg (every leg kind: crank + rod, slider + rod, strut).
+      const t = this.legTerms(i, state[qi]!, state[bi]!, qd, bd);
+      M[qi * N + qi] = t[T.M11]!; M[qi * N + bi] = t[T.M12]!; M[bi * N + qi] = t[T.M12]!; M[bi * N + bi] = t[T.M22]!;
+      f[qi] = efforts[i]! - t[T.HQ]! - t[T.GQ]!;
+      f[bi] = -t[T.HB]! - t[T.GB]!;
       const rx = cphi * leg.pinX - sphi * leg.pinY, ry = sphi * leg.pinX + cphi * leg.pinY;
-      this.closure[2 * i] = tipX - state[P]! - rx;
-      this.closure[2 * i + 1] = tipY - state[P + 1]! - ry;
+      this.closure[2 * i] = t[T.TIPX]! - state[P]! - rx;
+      this.closure[2 * i + 1] = t[T.TIPY]! - state[P + 1]! - ry;
       const rowX = (2 * i) * N, rowY = (2 * i + 1) * N;
-      G[rowX + qi] = dqx; G[rowY + qi] = dqy;
-      G[rowX + bi] = -leg.rod * sb; G[rowY + bi] = leg.rod * cb;
+      G[rowX + qi] = t[T.JQX]!; G[rowY + qi] = t[T.JQY]!;
+      G[rowX + bi] = t[T.JBX]!; G[rowY + bi] = t[T.JBY]!;
       G[rowX + P] = -1; G[rowY + P + 1] = -1;
       if (three) { G[rowX + P + 2] = ry; G[rowY + P + 2] = -rx; }
-      let rateX = dqx * qd - leg.rod * sb * bd - state[N + P]!;
-      let rateY = dqy * qd + leg.rod * cb * bd - state[N + P + 1]!;
+      let rateX = t[T.JQX]! * qd + t[T.JBX]! * bd - state[N + P]!;
+      let rateY = t[T.JQY]! * qd + t[T.JBY]! * bd - state[N + P + 1]!;
       if (three) { rateX += ry * phiRate; rateY += -rx * phiRate; }
       this.phiDot[2 * i] = rateX; this.phiDot[2 * i + 1] = rateY;
     }

@@ -55,7 +55,24 @@ export interface StudySimulationOptions extends DriveSimulationHooks {
 
 /** The cycle path with every move and arc stretched by `scale` (dwells unchanged). */
 export function scaleCyclePath(path: CyclePath, scale: number): CyclePath {
-  return { start: path.start, steps: path.steps.map((step) => (step.kind === 'dwell' ? step : { ...step, time: step.time * scale })) };
+  return { ...path, steps: path.steps.map((step) => (step.kind === 'dwell' ? step : { ...step, time: step.time * scale })) };
+}
+
+/**
+ * The study's duty cycle at the pace the study evaluates it (cycle_time, else 1/required_rate, else
+ * the steps' own times; moves stretched, dwells kept), or null without a duty_cycle section.
+ */
+export function pacedCycle(study: Study): CycleTrajectory | null {
+  const duty = study.dutyCycle;
+  if (!duty) return null;
+  const reference = new CycleTrajectory(duty.path);
+  const target = evaluatedCycleTime(duty);
+  let scale = 1;
+  if (target !== null && reference.moveTime > 0) {
+    scale = (target - reference.dwellTime) / reference.moveTime;
+    if (!(scale > 0)) throw new SimulationError(`the cycle time ${target} s is not longer than the dwells (${reference.dwellTime} s)`);
+  }
+  return scale === 1 ? reference : new CycleTrajectory(scaleCyclePath(duty.path, scale));
 }
 
 /** Model, paced cycle, limits and friction of a study's baseline design with overrides. */
@@ -66,14 +83,7 @@ export function prepareStudySimulation(study: Study, overrides: readonly string[
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const { architecture, model: architectureModel, resolved } = evaluator.architectureDesign(choice.design);
-  const reference = new CycleTrajectory(duty.path);
-  const target = evaluatedCycleTime(duty);
-  let scale = 1;
-  if (target !== null && reference.moveTime > 0) {
-    scale = (target - reference.dwellTime) / reference.moveTime;
-    if (!(scale > 0)) throw new SimulationError(`the cycle time ${target} s is not longer than the dwells (${reference.dwellTime} s)`);
-  }
-  const trajectory = scale === 1 ? reference : new CycleTrajectory(scaleCyclePath(duty.path, scale));
+  const trajectory = pacedCycle(study)!;
   const check = new DutyCycleAnalysis(new CycleSamples(trajectory, duty.samples), null, architecture);
   if (!check.run(architectureModel)) {
     throw new SimulationError('this design cannot follow the duty cycle: some point of the cycle is unreachable, outside the joint limits, in the other assembly mode or singular');

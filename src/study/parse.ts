@@ -11,13 +11,14 @@ import { dirname, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import { parseAllDocuments, parseDocument, stringify } from 'yaml';
 import type { AssemblyMode, JointRange } from '../core/pose.js';
-import { metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
+import { currentMetricName, metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureModelBase, ArchitectureName, DriveAtJoint, PlanarArchitecture } from '../architectures/types.js';
 import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
 import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
+import { checkAccuracyMetricNeeds, parseAccuracySections } from './accuracySection.js';
 import { buildDriveTrainSetup, fixedDrives } from './driveTrains.js';
 import {
   ARCHITECTURE_PREFIX,
@@ -296,6 +297,7 @@ export function studySettingsHash(study: Study): string {
     orientation: study.orientation ?? undefined,
     cell: study.cell ?? undefined,
     members: study.members ? study.members.map(studySettingsHash) : undefined,
+    accuracy: study.accuracy ?? undefined,
   };
   return sha256(canonicalJson(relevant));
 }
@@ -458,6 +460,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
   const objectives = parseObjectives(data['objectives'] as JsonObject[]);
   const constraints = parseConstraints((data['constraints'] as JsonObject[] | undefined) ?? [], context);
   checkMetricNeeds(objectives, constraints, { hasDutyCycle: dutyCycle !== null, hasDrives: drivesIn !== undefined }, context);
+  checkAccuracyMetricNeeds([...objectives, ...constraints].map((m) => m.metric), data);
 
   const optimizer = parseOptimizer(isObject(data['optimizer']) ? data['optimizer'] : {});
 
@@ -490,6 +493,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     ...(platform ? { platform } : {}),
     ...(orientation ? { orientation } : {}),
     ...(cell ? { cell } : {}),
+    ...accuracyOf(data, context.architecture.actuators),
   };
   const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
   return { ...partial, baseline };
@@ -793,7 +797,9 @@ function parseObjectives(objectivesIn: readonly JsonObject[]): ObjectiveSpec[] {
     const metric = o['metric'] as string;
     const info = metricInfo(metric);
     if (!info) throw new StudyError(`objectives[${i}].metric: unknown metric "${metric}"`);
-    return { metric, sense: (o['sense'] as 'min' | 'max' | undefined) ?? info.better };
+    // A renamed metric's old name (bandwidth, resolution) is read as the new one: stored columns and
+    // front tables carry the current name (src/core/metrics.ts METRIC_ALIASES).
+    return { metric: currentMetricName(metric), sense: (o['sense'] as 'min' | 'max' | undefined) ?? info.better };
   });
   const seenObjectives = new Set<string>();
   for (const o of objectives) {
@@ -839,6 +845,12 @@ function checkMetricNeeds(
   }
 }
 
+/** The accuracy sections (tolerances, joints, strength, link_sections) as a partial study: empty when none is given. */
+function accuracyOf(data: JsonObject, actuators: readonly ActuatorKind[]): { accuracy?: Study['accuracy'] } {
+  const accuracy = parseAccuracySections(data, actuators);
+  return accuracy ? { accuracy } : {};
+}
+
 /**
  * `optimizer:` — a fixed `generations` count, or (the default) the convergence test of the
  * `convergence:` block: window, tolerance, max_evaluations.
@@ -873,6 +885,15 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     if (name === 'working_mode') {
       if (typeof value !== 'string' || !study.workingModes.includes(value)) {
         throw new StudyError(`${where}: must be one of the study's working modes ${JSON.stringify(study.workingModes)}`);
+      }
+      out[name] = value;
+      continue;
+    }
+    if (name === 'link_section') {
+      const tubes = study.accuracy?.sectionChoice;
+      if (!tubes) throw new StudyError(`${where}: "link_section" is a design variable only with a link_sections list`);
+      if (typeof value !== 'string' || !tubes.options.some((o) => o.label === value)) {
+        throw new StudyError(`${where}: must be one of the link_sections tubes ${JSON.stringify(tubes.options.map((o) => o.label))}`);
       }
       out[name] = value;
       continue;
@@ -918,6 +939,9 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     }
     out[name] = v;
   }
+  // The tube list's first entry is the baseline's link section unless the baseline names one.
+  const tubes = study.accuracy?.sectionChoice;
+  if (tubes && out['link_section'] === undefined) out['link_section'] = tubes.options[0]!.label;
   return out;
 }
 

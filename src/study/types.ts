@@ -6,6 +6,7 @@ import type { CyclePath, JointFriction } from '../core/cycle.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES, type ArchitectureName } from '../architectures/index.js';
 import type { DriveAtJoint } from '../architectures/types.js';
 import type { CellSpec } from '../cell/types.js';
+import type { AccuracySpec } from '../accuracy/spec.js';
 import type { DriveTrain, GearboxSpec, LinearStageSpec, MotorSpec } from '../drives/types.js';
 
 /** The study's mechanism architecture (see docs/architectures.md). */
@@ -232,6 +233,8 @@ export interface Study {
   readonly friction?: readonly JointFriction[] | null;
   readonly objectives: readonly ObjectiveSpec[];
   readonly constraints: readonly ConstraintSpec[];
+  /** Tolerances, real joints, strength data and tube list (docs/accuracy.md); absent = none of them given. */
+  readonly accuracy?: AccuracySpec | null;
   /** Baseline design: a value for every design variable. */
   readonly baseline: Readonly<Record<string, number | string>>;
   readonly optimizer: OptimizerSettings;

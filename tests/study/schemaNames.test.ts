@@ -15,7 +15,7 @@ import { MOTION_LAWS } from '../../src/core/cycle.js';
 import { ARCHITECTURES } from '../../src/architectures/index.js';
 import { MOUNT_VARIABLES } from '../../src/cell/types.js';
 import { loadStudyFile, MATERIALS, StudyError, studySchemaForRegistry } from '../../src/study/parse.js';
-import { schemaNameDrift, studyMetricNames, writeSchemaNames } from '../../src/study/schemaNames.js';
+import { candidateMetricDrift, schemaNameDrift, studyMetricNames, writeCandidateMetrics, writeSchemaNames } from '../../src/study/schemaNames.js';
 
 const ROOT = join(import.meta.dirname, '..', '..');
 const SCHEMA_FILE = join(ROOT, 'src', 'study', 'study.schema.json');
@@ -75,6 +75,22 @@ describe('the shipped study schema lists the catalogue metrics', () => {
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }
+  });
+});
+
+describe('the candidate-sheet schema lists the catalogue metrics', () => {
+  const file = join(ROOT, 'src', 'export', 'candidate.schema.json');
+  const text = readFileSync(file, 'utf8');
+  it('both sheets require and describe every metric of METRIC_NAMES, in order', () => {
+    expect(candidateMetricDrift(JSON.parse(text))).toEqual([]);
+    expect(writeCandidateMetrics(text)).toBe(text);
+  });
+  it('negative control: a sheet missing a metric is reported, and the writer puts it back', () => {
+    const stale = text.replace('            "inertia_ratio_2",\n', '');
+    expect(stale).not.toBe(text);
+    const drift = candidateMetricDrift(JSON.parse(stale));
+    expect(drift.some((d) => d.includes('.required: missing inertia_ratio_2'))).toBe(true);
+    expect(writeCandidateMetrics(stale)).toBe(text);
   });
 });
 

@@ -110,6 +110,11 @@ export interface EvaluationReport {
   readonly constraints: readonly ConstraintReport[];
   readonly violation: number;
   readonly feasible: boolean;
+  /**
+   * Estimated absolute error of the metrics computed to the study's tolerance (SI, by metric name:
+   * reachable_area and workspace_area in m²); absent on a fixed grid (grid_cells without a tolerance).
+   */
+  readonly estimated_errors?: Readonly<Record<string, number>>;
 }
 
 export function metricsRecord(metrics: Float64Array): Record<string, number | null> {
@@ -141,6 +146,7 @@ export function evaluationReport(evaluator: Evaluator, choice: DesignChoice, res
     }),
     violation: result.violation,
     feasible: result.feasible,
+    ...(result.estimatedErrors ? { estimated_errors: { ...result.estimatedErrors } } : {}),
   };
 }
 

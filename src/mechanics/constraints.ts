@@ -58,6 +58,8 @@ export interface DesignEvaluation {
   readonly margins: Float64Array;
   /** Total normalised violation Σ max(0, −margin); 0 when feasible. */
   readonly violation: number;
+  /** Estimated absolute error of metrics computed to the study's tolerance (SI, by metric name), when known. */
+  readonly estimatedErrors?: Readonly<Record<string, number>>;
   readonly feasible: boolean;
 }
 

@@ -26,8 +26,9 @@ import { MarginGrid } from './grid.js';
 import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import { applyConstraints, constraintDefinitions, type ConstraintDefinition, type DesignEvaluation } from './constraints.js';
 import { taskSamples } from './taskSamples.js';
-import { architectureUsableMargin } from './usability.js';
-import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
+import { architectureUsableMargin, UsabilityRule } from './usability.js';
+import { AdaptiveArea } from './adaptive.js';
+import { coarseCells, evaluationBox, modelJointScale, sampleAdaptive, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
 import { BuiltArmChecks, isLeggedModel } from '../accuracy/builtArm.js';
 import { withBearings } from '../accuracy/joints.js';
@@ -129,6 +130,15 @@ export class ArchitectureEvaluator {
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
   private readonly cycle: CycleMetrics | null;
+  /**
+   * Adaptive sampling at the study's tolerance, or null for a fixed grid (grid_cells without a
+   * tolerance, or a study with a cell section: its checks and metrics work on the fixed grid).
+   */
+  private readonly adaptive: AdaptiveArea | null;
+  /** Estimated absolute errors of the last evaluation's area metrics (m²), by metric name. */
+  private errors: Record<string, number> = {};
+  /** Points solved for the workspace of the last evaluation. */
+  lastSamples = 0;
   /** Cell checks and metrics (docs/cell.md), or null without a cell section. */
   readonly cell: CellAnalysis | null;
   /** Label of the evaluation region of the design in hand (−1 = none). */
@@ -143,11 +153,13 @@ export class ArchitectureEvaluator {
     this.variables = designVariables(study);
     this.constraints = constraintDefinitions(study);
     this.pose = this.architecture.createPose();
-    this.grid = new MarginGrid(study.evaluation.gridCells + 4);
+    this.cell = CellAnalysis.forStudy(study, this.architecture);
+    const tolerance = this.cell ? undefined : study.evaluation.tolerance;
+    this.adaptive = tolerance !== undefined ? new AdaptiveArea() : null;
+    this.grid = new MarginGrid((tolerance !== undefined ? coarseCells(tolerance) : study.evaluation.gridCells) + 4);
     this.task = study.task.region ? taskSamples(study.task.region, study.evaluation.taskSamples) : null;
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
     this.cycle = CycleMetrics.forStudy(study, this.architecture);
-    this.cell = CellAnalysis.forStudy(study, this.architecture);
     this.builtArm = new BuiltArmChecks(this.architecture.dof);
     if (study.accuracy && study.dutyCycle) this.builtArm.setCycle(cycleLoadPath(study.dutyCycle), this.architecture.createPose());
   }
@@ -193,13 +205,17 @@ export class ArchitectureEvaluator {
     this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
+    this.rule = new UsabilityRule(this.study, this.jointScale);
     this.cell?.prepare(model, resolved.mount, this.trains);
     this.builtArm.prepare(model, builtArmDesign(this.study, resolved, this.drives));
     this.builtArm.reset();
   }
 
+  /** The usability rule of the design in hand (constants hoisted). */
+  private rule: UsabilityRule | null = null;
+
   private usable(status: PoseStatus): number {
-    const u = architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+    const u = this.rule!.margin(this.pose, status);
     return this.cell?.restricts ? Math.min(u, this.cell.nodeMargin(this.pose, status)) : u;
   }
 
@@ -212,7 +228,8 @@ export class ArchitectureEvaluator {
     this.finishMetrics(model, metrics);
     this.cycle?.write(model, this.drives, metrics, this.trains);
     this.cell?.write(model, this.pose, (status) => this.usable(status), this.grid, this.region, metrics);
-    return this.withConstraints(metrics, resolved);
+    const result = this.withConstraints(metrics, resolved);
+    return this.adaptive ? { ...result, estimatedErrors: this.errors } : result;
   }
 
   /** As Evaluator.evaluateWithWorkspace: workspace metrics from an earlier evaluation, the rest recomputed. */
@@ -243,6 +260,8 @@ export class ArchitectureEvaluator {
     const grid = this.grid;
     const box = evaluationBox(this.study, this.architecture, model, this.phi0);
     this.aggregate.reset();
+    this.errors = { reachable_area: 0, workspace_area: 0 };
+    this.lastSamples = 0;
     this.region = -1;
     if (!box) {
       metrics[M.reachable] = 0;
@@ -252,22 +271,59 @@ export class ArchitectureEvaluator {
       if (this.task) this.aggregateTask(model, -1);
       return;
     }
-    const cell = this.cell?.restricts ? this.cell : null;
-    // With cell checks every node's margin also honours them (docs/cell.md); without, the grid is sampled as before.
-    const region = cell
-      ? sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.study.evaluation.gridCells, (index, pose, status) => {
-          const m = cell.nodeMargin(pose, status);
-          if (m < grid.values[index]!) grid.values[index] = m;
-        })
-      : sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+    let region: number;
+    if (this.adaptive) {
+      const sampled = sampleAdaptive(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.adaptive, this.study.evaluation.tolerance!);
+      region = sampled.region;
+      metrics[M.reachable] = sampled.reachableArea;
+      metrics[M.workspace] = sampled.workspaceArea;
+      metrics[M.inscribed] = sampled.inscribedRadius;
+      this.errors = { reachable_area: sampled.reachableAreaError, workspace_area: sampled.workspaceAreaError };
+      this.lastSamples = sampled.samples;
+    } else {
+      const cell = this.cell?.restricts ? this.cell : null;
+      // With cell checks every node's margin also honours them (docs/cell.md); without, the grid is sampled as before.
+      region = cell
+        ? sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.study.evaluation.gridCells, (index, pose, status) => {
+            const m = cell.nodeMargin(pose, status);
+            if (m < grid.values[index]!) grid.values[index] = m;
+          })
+        : sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+      metrics[M.reachable] = grid.positiveArea(grid.secondary);
+      metrics[M.workspace] = grid.regionArea(region);
+      metrics[M.inscribed] = grid.inscribedRadius(region);
+      this.lastSamples = grid.nx * grid.ny;
+    }
     this.region = region;
-    metrics[M.reachable] = grid.positiveArea(grid.secondary);
-    metrics[M.workspace] = grid.regionArea(region);
-    metrics[M.inscribed] = grid.inscribedRadius(region);
     if (this.task) {
       metrics[M.coverage] = this.aggregateTask(model, region);
+    } else if (this.adaptive) {
+      this.aggregateRegionLattice(model, region, box);
     } else {
       this.aggregateRegionNodes(model, region);
+    }
+  }
+
+  /**
+   * Adaptive sampling, no task region: the per-pose metrics over the usable nodes of the region on
+   * the lattice of evaluation.grid_cells over the box (the nodes a fixed grid would use), a node
+   * counting as the region's when the coarse grid places it there (MarginGrid.regionAt).
+   */
+  private aggregateRegionLattice(model: ArchitectureModelBase, region: number, box: { xmin: number; xmax: number; ymin: number; ymax: number }): void {
+    if (region < 0) return;
+    const cells = this.study.evaluation.gridCells;
+    const h = Math.max(box.xmax - box.xmin, box.ymax - box.ymin) / cells;
+    const nx = Math.ceil((box.xmax - box.xmin) / h - 1e-9) + 3;
+    const ny = Math.ceil((box.ymax - box.ymin) / h - 1e-9) + 3;
+    for (let j = 0; j < ny; j++) {
+      const y = box.ymin - h + j * h;
+      for (let i = 0; i < nx; i++) {
+        const x = box.xmin - h + i * h;
+        if (this.grid.regionAt(x, y) !== region) continue;
+        const status = this.architecture.solvePose(model, this.pose, x, y, this.phi0);
+        if (this.usable(status) < 0) continue;
+        this.accumulate(model, status, 1);
+      }
     }
   }
 
@@ -281,7 +337,8 @@ export class ArchitectureEvaluator {
     const pose = this.pose;
     const architecture = this.architecture;
     const orientation = architecture.dof === 3 ? this.study.orientation : null;
-    const accept = (p: ArchitecturePose, status: PoseStatus): boolean => architectureUsableMargin(p, status, this.study, this.jointScale) >= 0;
+    const rule = this.rule!;
+    const accept = (p: ArchitecturePose, status: PoseStatus): boolean => rule.margin(p, status) >= 0;
     let covered = 0;
     let coveredPoints = 0;
     for (let k = 0; k < task.x.length; k++) {

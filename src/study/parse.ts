@@ -59,6 +59,8 @@ export const DEFAULT_EVALUATION = {
   taskSamples: 12,
   minInverseCondition: 0.2,
   minTransmissionAngle: (30 * Math.PI) / 180,
+  /** Relative accuracy of area metrics (and region averages and extremes) when no fixed grid is given. */
+  tolerance: 0.005,
 } as const;
 
 export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;
@@ -782,12 +784,14 @@ function parseEvaluation(evalIn: JsonObject): EvaluationSettings {
     };
     if (!(window.xmax > window.xmin && window.ymax > window.ymin)) throw new StudyError('evaluation.window: each range must be [min, max] with max > min');
   }
+  const tolerance = evaluationTolerance(evalIn);
   return {
     gridCells: (evalIn['grid_cells'] as number | undefined) ?? DEFAULT_EVALUATION.gridCells,
     taskSamples: (evalIn['task_samples'] as number | undefined) ?? DEFAULT_EVALUATION.taskSamples,
     minInverseCondition: (evalIn['min_inverse_condition'] as number | undefined) ?? DEFAULT_EVALUATION.minInverseCondition,
     minTransmissionAngle,
     ...(window ? { window } : {}),
+    ...(tolerance !== undefined ? { tolerance } : {}),
   };
 }
 
@@ -1221,4 +1225,20 @@ function viscousCoefficient(value: Json | undefined, where: string, joint: Actua
     if (error instanceof UnitError) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example ${example})`);
     throw error;
   }
+}
+
+/**
+ * evaluation.tolerance (alias area_tolerance, the same relative number): present when it governs the
+ * sampling, that is when given, or when grid_cells is not given (default 0.005). A study that gives
+ * grid_cells without a tolerance keeps its fixed grid, as before the setting existed.
+ */
+function evaluationTolerance(evalIn: JsonObject): number | undefined {
+  const given = evalIn['tolerance'] as number | undefined;
+  const alias = evalIn['area_tolerance'] as number | undefined;
+  if (given !== undefined && alias !== undefined && given !== alias) {
+    throw new StudyError('evaluation: tolerance and area_tolerance are the same setting; give one of them (e.g. tolerance: 0.005 for 0.5 %)');
+  }
+  const value = given ?? alias;
+  if (value !== undefined) return value;
+  return evalIn['grid_cells'] === undefined ? DEFAULT_EVALUATION.tolerance : undefined;
 }

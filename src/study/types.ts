@@ -106,6 +106,12 @@ export interface EvaluationSettings {
   readonly minInverseCondition: number;
   /** Minimum transmission angle μ_min, rad. */
   readonly minTransmissionAngle: number;
+  /**
+   * Relative accuracy target (dimensionless, e.g. 0.005 = 0.5 %) of the area metrics, from which the
+   * engine picks its sampling (coarse grid plus boundary refinement, see mechanics/adaptive.ts).
+   * Absent when the study fixes grid_cells without giving a tolerance: the fixed grid is used then.
+   */
+  readonly tolerance?: number;
   /** Grid window, m: clips the reachable box (required for rails without strokes). Absent = none. */
   readonly window?: { readonly xmin: number; readonly xmax: number; readonly ymin: number; readonly ymax: number };
 }

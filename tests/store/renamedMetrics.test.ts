@@ -92,3 +92,21 @@ describe('store migration 3 → 4: renamed metrics', () => {
     expect(columnNames(path)).toEqual(before);
   });
 });
+
+describe('query with an old metric column name', () => {
+  it('reads m_bandwidth as m_first_mode_in_plane on a migrated store, with a note; a store that still has the old column keeps it', async () => {
+    const { queryEvaluations } = await import('../../src/store/query.js');
+    const path = versionThreeStore(false);
+    Store.open(path).close(); // migrates to the current schema
+    const result = queryEvaluations(path, { where: 'm_bandwidth > 40', orderBy: 'm_bandwidth desc' });
+    expect(result.rows.map((r) => r['m_first_mode_in_plane'])).toEqual([42.5]);
+    expect(result.notes?.[0]).toMatch(/m_bandwidth is now m_first_mode_in_plane/);
+    const none = queryEvaluations(path, { where: 'm_first_mode_in_plane > 40' });
+    expect(none.notes).toBeUndefined();
+    // Negative control: an unmigrated (read-only, version 3) store still has m_bandwidth, which is used as is.
+    const old = versionThreeStore(false);
+    const raw = queryEvaluations(old, { where: 'm_bandwidth > 40' });
+    expect(raw.rows.length).toBe(1);
+    expect(raw.notes).toBeUndefined();
+  });
+});

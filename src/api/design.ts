@@ -164,7 +164,7 @@ export function probeDesign(study: Study, x: number, y: number, overrides: reado
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives), ...builtArmField(d, x, y) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives, d.resolved.mount), ...builtArmField(d, x, y) }, warnings: choice.warnings };
 }
 
 /**
@@ -181,7 +181,7 @@ export function probeArchitectureDesign(
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives), ...builtArmField(d, x, y, phi) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives, d.resolved.mount), ...builtArmField(d, x, y, phi) }, warnings: choice.warnings };
 }
 
 export { DesignError };

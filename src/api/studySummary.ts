@@ -128,7 +128,7 @@ function cellLine(cell: NonNullable<Study['cell']>): string {
   if (cell.keepOuts.length > 0) parts.push(`keep-outs ${cell.keepOuts.map((z) => z.name).join(', ')}`);
   const i = cell.interference;
   if (i) {
-    const checks = [i.links ? 'links' : '', i.housings.some((h) => h) ? 'housings' : '', i.passiveMinAngle !== null ? `passive joints ≥ ${formatValue(i.passiveMinAngle, 'angle')}` : '', i.sliderLength !== null ? `slider gap (carriage ${formatValue(i.sliderLength, 'length')})` : ''];
+    const checks = [i.links ? 'links' : '', i.housings.some((h) => h) ? 'housings' : '', i.passiveMinAngle !== null ? `passive joints ≥ ${formatValue(i.passiveMinAngle, 'angle')}` : '', ...i.passiveLimits.map((l) => `${l.joint} ${formatValue(l.min, 'angle')}…${formatValue(l.max, 'angle')}`), i.sliderLength !== null ? `slider gap (carriage ${formatValue(i.sliderLength, 'length')})` : ''];
     parts.push(`interference: ${checks.filter((c) => c).join(', ') || 'none'}`);
   }
   if (cell.allowance > 0) parts.push(`clearance ${formatValue(cell.allowance, 'length')}`);

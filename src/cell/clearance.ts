@@ -26,7 +26,7 @@ import {
   signedPointPolygonDistance,
   signedSegmentDistance,
 } from './geometry.js';
-import type { CellShape, CellSpec, Housing, Mount } from './types.js';
+import { hasPassiveLimits, type CellShape, type CellSpec, type Housing, type Mount } from './types.js';
 
 /** Segment kinds in the pose's link list. */
 const CRANK = 0;
@@ -76,6 +76,11 @@ function includedAngle(ux: number, uy: number, vx: number, vy: number): number {
   return Math.atan2(Math.abs(ux * vy - uy * vx), ux * vx + uy * vy);
 }
 
+/** Signed distance of an angle inside the range [lo, hi], rad (negative = outside). */
+function within(a: number, lo: number, hi: number): number {
+  return Math.min(a - lo, hi - a);
+}
+
 /** Clearance of a thick segment from a zone, m. */
 function segmentZoneClearance(ax: number, ay: number, bx: number, by: number, w: number, z: Zone): number {
   if (z.polygon) return segmentPolygonClearance(ax, ay, bx, by, z.polygon) - w / 2;
@@ -93,6 +98,13 @@ function zoneZoneClearance(a: Zone, b: Zone): number {
 /** Which check set the smallest clearance (for messages and tests). */
 export type ClearanceSource = 'none' | 'keep-out' | 'links' | 'housing' | 'slider-gap';
 
+/** Parts named in `closestPair` codes: kind × PART + index (a segment of the pose, a keep-out, a housing, a slider). */
+const PART = 10000;
+const SEGMENT = 1;
+const KEEP_OUT = 2;
+const HOUSING = 3;
+const SLIDER = 4;
+
 /** The checks of one study, prepared once per design (`prepare`), run per pose (`clearance`). */
 export class CellChecker {
   readonly spec: CellSpec;
@@ -108,23 +120,60 @@ export class CellChecker {
   /** Pairs of sliders on one rail (leg indices), and the rail direction of the first. */
   private sliderPairs: number[] = [];
   private model: LeggedModel | null = null;
+  private staticPair: [number, number] = [0, 0];
   /** Which check gave the last `clearance` result. */
   source: ClearanceSource = 'none';
+  /** The two parts that gave the last `clearance` result (codes; `closestPair()` names them). */
+  private closestA = 0;
+  private closestB = 0;
+
+  /** Included-angle range per passive joint, rad: slot i the joint on leg i, slot n + i the end point (2-DOF) or platform pin i. */
+  private readonly passiveLo: Float64Array;
+  private readonly passiveHi: Float64Array;
+  private readonly passive: boolean;
 
   constructor(spec: CellSpec, legs: number) {
     this.spec = spec;
     this.n = legs;
     this.keepOuts = spec.keepOuts.map(zoneOf);
     this.seg = new Float64Array(8 * (2 * legs + 3));
+    this.passiveLo = new Float64Array(2 * legs);
+    this.passiveHi = new Float64Array(2 * legs);
+    this.passive = hasPassiveLimits(spec.interference);
   }
 
-  /** Fixed parts of a design: housings placed at the (mounted) pivots, slider pairs on a common rail. */
-  prepare(model: LeggedModel, mount?: Mount): void {
+  /**
+   * The passive-joint ranges of a design's legs: `passive_min_angle` everywhere (a slider's pin: the rod
+   * at least that far from either direction of the rail), then each `passive_limits` entry in its place.
+   */
+  private preparePassive(model: LeggedModel): void {
+    const g = this.spec.interference?.passiveMinAngle ?? null;
+    for (let k = 0; k < 2 * this.n; k++) {
+      const slider = k < this.n && model.legs[k]!.name === 'slider-rod';
+      this.passiveLo[k] = g ?? -Infinity;
+      this.passiveHi[k] = g !== null && slider ? Math.PI - g : Infinity;
+    }
+    for (const limit of this.spec.interference?.passiveLimits ?? []) {
+      const [kind, index] = limit.joint === 'end_point' ? ['end_point', 1] : [limit.joint.replace(/_\d+$/, ''), Number(limit.joint.slice(limit.joint.lastIndexOf('_') + 1))];
+      const slot = kind === 'elbow' || kind === 'slider' ? index - 1 : this.n + index - 1;
+      this.passiveLo[slot] = limit.min;
+      this.passiveHi[slot] = limit.max;
+    }
+  }
+
+  /**
+   * Fixed parts of a design: housings placed at the (mounted) pivots, slider pairs on a common rail.
+   * `driveHousings` (per actuator, from the design's motors) stand in at crank pivots when the study
+   * gives no housings (InterferenceSpec.housingsFromDrives).
+   */
+  prepare(model: LeggedModel, mount?: Mount, driveHousings?: readonly (Housing | null | undefined)[] | null): void {
     this.model = model;
+    if (this.passive) this.preparePassive(model);
     const inter = this.spec.interference;
     const turn = mount?.angle ?? 0;
     this.housings = model.legs.map((leg, i) => {
-      const h: Housing | null | undefined = inter?.housings[i];
+      const fromDrive = inter?.housingsFromDrives && leg.name === 'crank-rod' ? driveHousings?.[i] : null;
+      const h: Housing | null | undefined = inter?.housings[i] ?? fromDrive;
       if (!h || leg.name === 'slider-rod') return null;
       const x = model.baseX[i]!;
       const y = model.baseY[i]!;
@@ -132,13 +181,13 @@ export class CellChecker {
     });
     this.staticClearance = Infinity;
     this.staticSource = 'none';
-    const note = (value: number, source: ClearanceSource): void => {
-      if (value < this.staticClearance) { this.staticClearance = value; this.staticSource = source; }
+    const note = (value: number, source: ClearanceSource, a: number, b: number): void => {
+      if (value < this.staticClearance) { this.staticClearance = value; this.staticSource = source; this.staticPair = [a, b]; }
     };
     this.housings.forEach((a, i) => {
       if (!a) return;
-      for (let j = i + 1; j < this.n; j++) { const b = this.housings[j]; if (b) note(zoneZoneClearance(a, b), 'housing'); }
-      for (const k of this.keepOuts) note(zoneZoneClearance(a, k), 'keep-out');
+      for (let j = i + 1; j < this.n; j++) { const b = this.housings[j]; if (b) note(zoneZoneClearance(a, b), 'housing', HOUSING * PART + i, HOUSING * PART + j); }
+      this.keepOuts.forEach((k, kk) => note(zoneZoneClearance(a, k), 'keep-out', HOUSING * PART + i, KEEP_OUT * PART + kk));
     });
     this.sliderPairs = [];
     if (inter?.sliderLength !== null && inter?.sliderLength !== undefined) {
@@ -153,6 +202,34 @@ export class CellChecker {
         }
       }
     }
+  }
+
+  /**
+   * The two parts that gave the last `clearance` result, by name ("crank 1", "rod 2", "strut 3",
+   * "platform edge 1–2", "keep-out \"conveyor\"", "housing 1", "slider 2"); null when no check applies.
+   */
+  closestPair(): [string, string] | null {
+    if (this.source === 'none') return null;
+    return [this.partName(this.closestA), this.partName(this.closestB)];
+  }
+
+  private partName(code: number): string {
+    const kind = Math.floor(code / PART);
+    const index = code % PART;
+    if (kind === KEEP_OUT) return `keep-out "${this.spec.keepOuts[index]?.name ?? index + 1}"`;
+    if (kind === HOUSING) return `housing ${index + 1}`;
+    if (kind === SLIDER) return `slider ${index + 1}`;
+    const o = 8 * index;
+    const leg = this.seg[o + 5]!;
+    const segKind = this.seg[o + 6]!;
+    if (segKind === EDGE) return `platform edge ${leg + 1}–${this.seg[o + 7]! + 1}`;
+    if (segKind === CRANK) return `crank ${leg + 1}`;
+    return `${this.model!.legs[leg]!.name === 'strut' ? 'strut' : 'rod'} ${leg + 1}`;
+  }
+
+  /** The housings in place for the prepared design (study or drive data), per actuator, as shapes (for maps). */
+  housingShapes(): (CellShape | null)[] {
+    return this.housings.map((z) => (!z ? null : z.polygon ? { shape: 'polygon', vertices: Array.from(z.polygon) } : { shape: 'circle', centreX: z.cx, centreY: z.cy, radius: z.r }));
   }
 
   /** Gap between the carriages of sliders i and j on one rail at the pose, m (negative: they overlap). */
@@ -213,6 +290,8 @@ export class CellChecker {
     const count = this.segCount;
     let best = this.staticClearance;
     let source = this.staticSource;
+    let pairA = this.staticPair[0];
+    let pairB = this.staticPair[1];
     for (let a = 0; a < count; a++) {
       const o = 8 * a;
       const ax = seg[o]!, ay = seg[o + 1]!, bx = seg[o + 2]!, by = seg[o + 3]!, w = seg[o + 4]!;
@@ -223,7 +302,7 @@ export class CellChecker {
         const gap = boxGap(ax, ay, bx, by, z);
         if (gap > 0 && gap - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, z);
-        if (v < best) { best = v; source = 'keep-out'; }
+        if (v < best) { best = v; source = 'keep-out'; pairA = SEGMENT * PART + a; pairB = KEEP_OUT * PART + k; }
       }
       for (let i = 0; i < this.housings.length; i++) {
         const hz = this.housings[i];
@@ -232,48 +311,52 @@ export class CellChecker {
         const gap = boxGap(ax, ay, bx, by, hz);
         if (gap > 0 && gap - w / 2 >= best) continue;
         const v = segmentZoneClearance(ax, ay, bx, by, w, hz);
-        if (v < best) { best = v; source = 'housing'; }
+        if (v < best) { best = v; source = 'housing'; pairA = SEGMENT * PART + a; pairB = HOUSING * PART + i; }
       }
       if (!this.spec.interference?.links) continue;
       for (let b = a + 1; b < count; b++) {
         if (this.shareJoint(a, b)) continue;
         const p = 8 * b;
         const v = signedSegmentDistance(ax, ay, bx, by, seg[p]!, seg[p + 1]!, seg[p + 2]!, seg[p + 3]!) - 0.5 * (w + seg[p + 4]!);
-        if (v < best) { best = v; source = 'links'; }
+        if (v < best) { best = v; source = 'links'; pairA = SEGMENT * PART + a; pairB = SEGMENT * PART + b; }
       }
     }
     for (let k = 0; k < this.sliderPairs.length; k += 2) {
       const v = this.sliderGap(pose, this.sliderPairs[k]!, this.sliderPairs[k + 1]!);
-      if (v < best) { best = v; source = 'slider-gap'; }
+      if (v < best) { best = v; source = 'slider-gap'; pairA = SLIDER * PART + this.sliderPairs[k]!; pairB = SLIDER * PART + this.sliderPairs[k + 1]!; }
     }
     this.source = source;
+    this.closestA = pairA;
+    this.closestB = pairB;
     return best - this.spec.allowance;
   }
 
   /**
-   * Smallest included angle at a passive joint minus the limit, rad (+∞ without a limit): the elbow
+   * Smallest distance of an included angle at a passive joint from its range, rad (+∞ without a
+   * limit; negative = outside): the elbow
    * of a crank leg (between C→A and C→B), a slider's pin (between the rod and its rail line), the
    * end point of a 2-DOF arm (between the two rods) and the platform pins (between B→proximal and B→P).
    */
   passiveMargin(pose: ArchitecturePose): number {
-    const limit = this.spec.interference?.passiveMinAngle;
-    if (limit === null || limit === undefined) return Infinity;
+    if (!this.passive) return Infinity;
     const m = this.model!;
+    const lo = this.passiveLo;
+    const hi = this.passiveHi;
     let worst = Infinity;
     const angle = includedAngle;
     for (let i = 0; i < this.n; i++) {
       const ux = pose.rodDirection[2 * i]!;
       const uy = pose.rodDirection[2 * i + 1]!;
       const kind = m.legs[i]!.name;
-      if (kind === 'crank-rod') worst = Math.min(worst, angle(-pose.actuatorDirection[2 * i]!, -pose.actuatorDirection[2 * i + 1]!, ux, uy));
-      else if (kind === 'slider-rod') { const a = angle(m.railX[i]!, m.railY[i]!, ux, uy); worst = Math.min(worst, a, Math.PI - a); }
+      if (kind === 'crank-rod') worst = Math.min(worst, within(angle(-pose.actuatorDirection[2 * i]!, -pose.actuatorDirection[2 * i + 1]!, ux, uy), lo[i]!, hi[i]!));
+      else if (kind === 'slider-rod') worst = Math.min(worst, within(angle(m.railX[i]!, m.railY[i]!, ux, uy), lo[i]!, hi[i]!));
       if (m.dof === 3) {
         const rx = pose.x - pose.distalJoint[2 * i]!;
         const ry = pose.y - pose.distalJoint[2 * i + 1]!;
-        if (rx !== 0 || ry !== 0) worst = Math.min(worst, angle(-ux, -uy, rx, ry));
+        if (rx !== 0 || ry !== 0) worst = Math.min(worst, within(angle(-ux, -uy, rx, ry), lo[this.n + i]!, hi[this.n + i]!));
       }
     }
-    if (m.dof === 2) worst = Math.min(worst, angle(pose.rodDirection[0]!, pose.rodDirection[1]!, pose.rodDirection[2]!, pose.rodDirection[3]!));
-    return worst - limit;
+    if (m.dof === 2) worst = Math.min(worst, within(angle(pose.rodDirection[0]!, pose.rodDirection[1]!, pose.rodDirection[2]!, pose.rodDirection[3]!), lo[this.n]!, hi[this.n]!));
+    return worst;
   }
 }

@@ -27,10 +27,33 @@ export interface InterferenceSpec {
   readonly rodWidth: readonly number[];
   /** Housing per actuator (null = none), centred on the pivot, in the base frame. */
   readonly housings: readonly (Housing | null)[];
+  /**
+   * The study gives no `housings`: each actuated pivot of a crank leg takes the housing of its drive
+   * train's motor from the motor catalogue (`housing_diameter` or `housing_width`/`housing_height`).
+   */
+  readonly housingsFromDrives: boolean;
   /** Smallest included angle at a passive joint, rad (null = no limit). */
   readonly passiveMinAngle: number | null;
+  /**
+   * Included-angle range of single passive joints, rad, in place of `passiveMinAngle` there: `elbow_i`
+   * (crank leg i), `slider_i` (the pin on slider i: the angle between the rail direction and the rod),
+   * `end_point` (2-DOF: between the rods), `platform_i` (3-DOF: at platform pin i).
+   */
+  readonly passiveLimits: readonly PassiveLimit[];
   /** Slider carriage length along its rail, m (null = no slider-gap check). */
   readonly sliderLength: number | null;
+}
+
+/** The included-angle range [min, max] of one passive joint, rad in [0, π]. */
+export interface PassiveLimit {
+  readonly joint: string;
+  readonly min: number;
+  readonly max: number;
+}
+
+/** Whether the study limits any passive-joint angle (then `passive_joint_margin` is computed). */
+export function hasPassiveLimits(spec: InterferenceSpec | null | undefined): boolean {
+  return !!spec && (spec.passiveMinAngle !== null || spec.passiveLimits.length > 0);
 }
 
 /** Mounting of the base relative to the task frame: position (m) and angle (rad), each fixed or a design variable. */

@@ -153,6 +153,15 @@ function unassembledText(f: TaskPointFailures): string {
   );
 }
 
+/** The cell checks at the probed pose: clearance (after the study's required clearance), the closest pair, the passive margin. */
+function cellProbeRows(cell: NonNullable<ReturnType<typeof probeArchitectureDesign>['report']['cell']>): string[][] {
+  const clear = Number.isFinite(cell.minClearance) ? formatValue(cell.minClearance, 'length') : '— (nothing to check)';
+  const rows = [['min clearance (negative = collision)', clear]];
+  if (cell.closest) rows.push(['closest pair', `${cell.closest.between[0]} – ${cell.closest.between[1]} (${cell.closest.check})`]);
+  if (cell.passiveJointMargin !== null) rows.push(['passive joint margin', formatValue(cell.passiveJointMargin, 'angle')]);
+  return rows;
+}
+
 /** Plain-text probe of the five-bar (2 × 2 matrices, crank angles in degrees). */
 function formatFiveBarProbe(report: ReturnType<typeof probeDesign>['report'], x: number, y: number): string {
   const rows: string[][] = [['status', report.status]];
@@ -172,6 +181,7 @@ function formatFiveBarProbe(report: ReturnType<typeof probeDesign>['report'], x:
   if (report.naturalFrequencies) rows.push(['natural frequencies', report.naturalFrequencies.map((f) => formatValue(f, 'frequency')).join(', ')]);
   if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
   if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? report.requiredJointSpeeds.map((s) => formatValue(s, 'angularSpeed')).join(', ') : '— (no task speed)']);
+  if (report.cell) rows.push(...cellProbeRows(report.cell));
   rows.push(...builtArmRows(report.builtArm));
   return `probe at (${formatValue(x, 'length')}, ${formatValue(y, 'length')})\n\n${table(['quantity', 'value'], rows)}`;
 }
@@ -203,6 +213,7 @@ function formatArchitectureProbe(report: ReturnType<typeof probeArchitectureDesi
   if (report.naturalFrequencies) rows.push(['natural frequencies', report.naturalFrequencies.map((f) => formatValue(f, 'frequency')).join(', ')]);
   if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
   if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? withUnits(report.requiredJointSpeeds, 'speed') : '— (no task speed)']);
+  if (report.cell) rows.push(...cellProbeRows(report.cell));
   const at = `(${formatValue(report.point.x, 'length')}, ${formatValue(report.point.y, 'length')}${report.point.phi !== undefined ? `, ${formatValue(report.point.phi, 'angle')}` : ''})`;
   rows.push(...builtArmRows(report.builtArm));
   return `probe at ${at}\n\n${table(['quantity', 'value'], rows)}`;

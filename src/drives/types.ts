@@ -33,7 +33,18 @@ export interface MotorSpec {
   readonly mass: number;
   /** Cost in the catalogue's currency (NaN = not given). */
   readonly cost: number;
+  /**
+   * Outline of the motor (with its gearbox) about the joint axis in the plane of the arm, m: a round
+   * housing or a box (width along the base's x axis, height across; angle 0). Absent = not given.
+   * The cell checks put it at the actuated pivot when the study gives no housings (docs/cell.md).
+   */
+  readonly housing?: MotorHousing;
 }
+
+/** A motor's outline in the plane of the arm (same shape as the cell's Housing, src/cell/types.ts). */
+export type MotorHousing =
+  | { readonly shape: 'circle'; readonly radius: number }
+  | { readonly shape: 'box'; readonly width: number; readonly height: number; readonly angle: number };
 
 export interface GearboxSpec {
   readonly name: string;

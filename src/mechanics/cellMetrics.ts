@@ -14,10 +14,11 @@ import type { MarginGrid } from './grid.js';
 import { CycleSamples, CycleTrajectory } from './dutyCycle.js';
 import { taskSamples } from './taskSamples.js';
 import type { Study } from '../study/types.js';
-import { CellChecker } from '../cell/clearance.js';
+import type { DriveTrain } from '../drives/types.js';
+import { CellChecker, type ClearanceSource } from '../cell/clearance.js';
 import { pointInPolygon } from '../cell/geometry.js';
 import { RegularWorkspaceFinder, type PlacedRectangle } from '../cell/regularWorkspace.js';
-import { cellRestrictsWorkspace, type CellShape, type CellSpec, type Mount } from '../cell/types.js';
+import { cellRestrictsWorkspace, hasPassiveLimits, type CellShape, type CellSpec, type Mount } from '../cell/types.js';
 
 const M = {
   clearance: metricIndex('min_clearance'),
@@ -78,6 +79,16 @@ export function shapeSamples(shape: CellShape, intervals: number): ShapeSamples 
   return { x: Float64Array.from(xs), y: Float64Array.from(ys), weight: Float64Array.from(ws, (w) => w / total) };
 }
 
+/** The cell checks at one pose (what `loopsmith probe` reports for a study with a cell section). */
+export interface CellPoseReport {
+  /** Smallest clearance over the study's checks after its required clearance, m (negative = collision; +∞ = nothing to check). */
+  readonly minClearance: number;
+  /** The check and the two parts that are closest (null when no check applies). */
+  readonly closest: { readonly check: ClearanceSource; readonly between: [string, string] } | null;
+  /** Smallest included angle at a passive joint minus its limit, rad (null without a limit). */
+  readonly passiveJointMargin: number | null;
+}
+
 /** Whether a pose may be checked: reachable with a finite solution. */
 function solved(status: PoseStatus): boolean {
   return status !== PoseStatus.Unreachable;
@@ -115,9 +126,26 @@ export class CellAnalysis {
   }
 
   /** Per design, before any pose: housings, slider pairs; the footprint scales the node margin. */
-  prepare(model: ArchitectureModelBase, mount: Mount | undefined): void {
-    this.checker.prepare(model as LeggedModel, mount);
+  prepare(model: ArchitectureModelBase, mount: Mount | undefined, trains?: readonly DriveTrain[] | null): void {
+    this.checker.prepare(model as LeggedModel, mount, trains ? trains.map((t) => t.motor.housing) : null);
     this.scale = this.architecture.footprint(model);
+  }
+
+  /** The cell checks at a solved pose of the prepared design. */
+  probe(pose: ArchitecturePose): CellPoseReport {
+    const minClearance = this.checker.clearance(pose);
+    const between = this.checker.closestPair();
+    const passive = this.checker.passiveMargin(pose);
+    return {
+      minClearance,
+      closest: between ? { check: this.checker.source, between } : null,
+      passiveJointMargin: hasPassiveLimits(this.spec.interference) ? passive : null,
+    };
+  }
+
+  /** The prepared design's housings (from the study or its motors), for maps. */
+  housingShapes(): (CellShape | null)[] {
+    return this.checker.housingShapes();
   }
 
   /** Usability margin contribution of a solved pose (dimensionless; ≥ 0 when clear). */
@@ -169,7 +197,7 @@ export class CellAnalysis {
     if (!this.region && this.zones.length === 0 && !this.cycle) this.visitRegion(grid, region, visit);
     const checks = this.restricts || this.spec.interference !== null;
     metrics[M.clearance] = !checks ? Number.NaN : worst.points > 0 ? worst.clearance : -Infinity;
-    metrics[M.passive] = this.spec.interference?.passiveMinAngle == null ? Number.NaN : worst.points > 0 ? worst.passive : -Infinity;
+    metrics[M.passive] = !hasPassiveLimits(this.spec.interference) ? Number.NaN : worst.points > 0 ? worst.passive : -Infinity;
     const rect = this.finder.find(grid, region, this.spec.regular.aspect, this.spec.regular.angle);
     this.lastRectangle = rect;
     metrics[M.regularArea] = rect ? rect.width * rect.height : 0;

@@ -206,7 +206,7 @@ export class ArchitectureEvaluator {
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
     this.rule = new UsabilityRule(this.study, this.jointScale);
-    this.cell?.prepare(model, resolved.mount);
+    this.cell?.prepare(model, resolved.mount, this.trains);
     this.builtArm.prepare(model, builtArmDesign(this.study, resolved, this.drives));
     this.builtArm.reset();
   }

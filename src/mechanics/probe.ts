@@ -10,6 +10,11 @@ import { orientationRanges } from '../architectures/orientation.js';
 import { drivesAtJoint } from './designSpace.js';
 import { architectureUsableMargin } from './usability.js';
 import { modelJointScale } from './workspace.js';
+import { CellAnalysis, type CellPoseReport } from './cellMetrics.js';
+import { trainsOf } from './driveMetrics.js';
+import type { Mount } from '../cell/types.js';
+
+export type { CellPoseReport };
 
 export interface PoseReport {
   /** End point, m. */
@@ -41,6 +46,8 @@ export interface PoseReport {
   readonly accelCapability?: number | null;
   /** Joint speeds needed for the study's end-point speed in the worst direction, rad/s. */
   readonly requiredJointSpeeds?: [number, number] | null;
+  /** The cell checks at this pose (studies with a cell section). */
+  readonly cell?: CellPoseReport;
 }
 
 const STATUS_NAMES = ['assembled', 'unreachable', 'outside-joint-limits', 'wrong-assembly-mode'] as const;
@@ -49,8 +56,8 @@ const STATUS_NAMES = ['assembled', 'unreachable', 'outside-joint-limits', 'wrong
  * One pose of a five-bar design in the five-bar's own report shape (joint angles, elbows, det A,
  * transmission angles): a view of the one probe, `probeArchitecturePose`.
  */
-export function probePose(study: Study, model: ArchitectureModelBase, x: number, y: number, drives: readonly DriveSpec[] | null = study.drives): PoseReport {
-  const r = probeArchitecturePose(study, ARCHITECTURES['five-bar'], model, x, y, 0, drives);
+export function probePose(study: Study, model: ArchitectureModelBase, x: number, y: number, drives: readonly DriveSpec[] | null = study.drives, mount?: Mount): PoseReport {
+  const r = probeArchitecturePose(study, ARCHITECTURES['five-bar'], model, x, y, 0, drives, mount);
   const base = { point: { x, y }, status: r.status };
   if (r.status === 'unreachable') return base;
   const pair = (v: readonly number[]): [number, number] => [v[0]!, v[1]!];
@@ -66,6 +73,7 @@ export function probePose(study: Study, model: ArchitectureModelBase, x: number,
     inverseCondition: r.inverseCondition!,
     detA,
     transmissionAngles: { leg1: angle(s[0]!), leg2: angle(s[1]!), rods: angle(detA) },
+    ...(r.cell ? { cell: r.cell } : {}),
   };
   if (r.gravityEfforts === undefined) return kinematics;
   return {
@@ -125,6 +133,8 @@ export interface ArchitecturePoseReport {
   readonly requiredJointSpeeds?: number[] | null;
   /** 3-DOF: usable orientation ranges at the point, [lo, hi] rad. */
   readonly orientationRanges?: [number, number][];
+  /** The cell checks at this pose (studies with a cell section). */
+  readonly cell?: CellPoseReport;
 }
 
 function matrix(n: number, values: Float64Array): Matrix {
@@ -142,6 +152,7 @@ export function probeArchitecturePose(
   y: number,
   phiIn?: number,
   drives: readonly DriveSpec[] | null = study.drives,
+  mount?: Mount,
 ): ArchitecturePoseReport {
   const n = architecture.dof;
   const phi = n === 3 ? (phiIn ?? study.orientation?.phi0 ?? 0) : 0;
@@ -167,6 +178,7 @@ export function probeArchitecturePose(
     mechanismSine: pose.mechanismSine,
     legSines: Array.from(pose.legSine),
     usableMargin: architectureUsableMargin(pose, status, study, jointScale),
+    ...cellAtPose(study, architecture, model, pose, drives, mount),
   };
   let ranges: [number, number][] | undefined;
   if (n === 3) {
@@ -201,6 +213,21 @@ export function probeArchitecturePose(
     accelCapability: accel,
     requiredJointSpeeds: v > 0 ? Array.from(pose.inverseJacobianRowNorm, (r) => v * r) : null,
   };
+}
+
+/** The cell checks at the solved pose, for a study with a cell section (mount: for box housings' angle). */
+function cellAtPose(
+  study: Study,
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  pose: ReturnType<PlanarArchitecture<ArchitectureModelBase>['createPose']>,
+  drives: readonly DriveSpec[] | null,
+  mount: Mount | undefined,
+): { cell?: CellPoseReport } {
+  const analysis = CellAnalysis.forStudy(study, architecture);
+  if (!analysis) return {};
+  analysis.prepare(model, mount, trainsOf(drives));
+  return { cell: analysis.probe(pose) };
 }
 
 function pairs(values: Float64Array, n: number): [number, number][] {

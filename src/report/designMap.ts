@@ -16,6 +16,8 @@ import { CellAnalysis } from '../mechanics/cellMetrics.js';
 import { rectanglePolygon } from '../cell/geometry.js';
 import { shapeOutline } from '../cell/taskShapes.js';
 import type { Mount } from '../cell/types.js';
+import type { DriveTrain } from '../drives/types.js';
+import { trainsOf } from '../mechanics/driveMetrics.js';
 import { errorEllipseLayer } from './errorEllipses.js';
 
 /** Default smallest grid of a map (cells across the window). */
@@ -76,25 +78,16 @@ export interface DesignMapOptions {
   readonly maxColourCells?: number;
 }
 
-/** Outlines of the drive housings at the (mounted) pivots of a leg model. */
-function housingOutlines(cell: NonNullable<Study['cell']>, model: ArchitectureModelBase, mount: Mount | undefined): Float64Array[] {
-  const m = model as ArchitectureModelBase & { baseX?: readonly number[]; baseY?: readonly number[]; legs?: readonly { name: string }[] };
-  if (!cell.interference || !m.baseX || !m.baseY) return [];
-  const out: Float64Array[] = [];
-  cell.interference.housings.forEach((h, i) => {
-    if (!h || m.legs?.[i]?.name === 'slider-rod') return;
-    const x = m.baseX![i]!;
-    const y = m.baseY![i]!;
-    out.push(h.shape === 'circle' ? shapeOutline({ shape: 'circle', centreX: x, centreY: y, radius: h.radius }) : rectanglePolygon(x, y, h.width, h.height, h.angle + (mount?.angle ?? 0)));
-  });
-  return out;
+/** Outlines of the drive housings at the (mounted) pivots, as the clearance checks place them (study or motor data). */
+function housingOutlines(analysis: CellAnalysis): Float64Array[] {
+  return analysis.housingShapes().flatMap((h) => (h ? [shapeOutline(h)] : []));
 }
 
 /** The cell layer of a design's map: keep-outs, zones, its clearance checks and its regular rectangle (from the metrics). */
-function cellLayer(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, mount: Mount | undefined, metrics: Float64Array): MapCellLayer {
+function cellLayer(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, mount: Mount | undefined, metrics: Float64Array, trains: readonly DriveTrain[] | null): MapCellLayer {
   const cell = study.cell!;
   const analysis = CellAnalysis.forStudy(study, architecture)!;
-  analysis.prepare(model, mount);
+  analysis.prepare(model, mount, trains);
   const width = metrics[metricIndex('regular_workspace_width')]!;
   const x = metrics[metricIndex('regular_workspace_x')]!;
   const y = metrics[metricIndex('regular_workspace_y')]!;
@@ -103,7 +96,7 @@ function cellLayer(study: Study, architecture: PlanarArchitecture<ArchitectureMo
     ...(analysis.restricts ? { nodeMargin: (pose, status) => analysis.nodeMargin(pose, status), restricts: true } : {}),
     keepOuts: cell.keepOuts.map(shapeOutline),
     zones: cell.zones.map(shapeOutline),
-    housings: housingOutlines(cell, model, mount),
+    housings: housingOutlines(analysis),
     rectangle,
   };
 }
@@ -140,7 +133,7 @@ export function designMapSpec(
     ...(options.maxWidthPx !== undefined ? { maxWidthPx: options.maxWidthPx } : {}),
     ...(options.maxHeightPx !== undefined ? { maxHeightPx: options.maxHeightPx } : {}),
     ...(options.maxColourCells !== undefined ? { maxColourCells: options.maxColourCells } : {}),
-    ...(member.cell ? { cell: cellLayer(member, architecture, model, built.resolved.mount, result.metrics) } : {}),
+    ...(member.cell ? { cell: cellLayer(member, architecture, model, built.resolved.mount, result.metrics, trainsOf(built.resolved.drives)) } : {}),
   });
   // First-order error ellipses over the task region when the study gives tolerances (docs/accuracy.md).
   const ellipses = errorEllipseLayer(built, map.layout);

@@ -5,7 +5,7 @@
 import { LoopsmithUserError } from '../core/errors.js';
 import { parseQuantity, type QuantityKind } from './units.js';
 import { polygonSelfIntersects, polygonSignedArea } from '../cell/geometry.js';
-import { MOUNT_VARIABLES, type CellParameter, type CellShape, type CellSpec, type Housing, type InterferenceSpec, type MountingSpec, type NamedShape } from '../cell/types.js';
+import { hasPassiveLimits, MOUNT_VARIABLES, type PassiveLimit, type CellParameter, type CellShape, type CellSpec, type Housing, type InterferenceSpec, type MountingSpec, type NamedShape } from '../cell/types.js';
 
 type Json = unknown;
 type JsonObject = { readonly [key: string]: Json };
@@ -60,7 +60,7 @@ export function studyCell(data: JsonObject, context: CellContext): CellSpec | nu
   for (const { metric, where } of used) {
     const missing =
       (metric === 'min_clearance' && !(cell && (cell.keepOuts.length > 0 || cell.interference))) ? 'cell.keep_outs or cell.interference' :
-      (metric === 'passive_joint_margin' && cell?.interference?.passiveMinAngle == null) ? 'cell.interference.passive_min_angle' :
+      (metric === 'passive_joint_margin' && !hasPassiveLimits(cell?.interference)) ? 'cell.interference.passive_min_angle or passive_limits' :
       (metric === 'zone_coverage' && !(cell && cell.zones.length > 0)) ? 'cell.zones' :
       (metric === 'cycle_coverage' && !cell?.cycleAsTask) ? 'cell.cycle_as_task: true (and a duty_cycle)' : null;
     if (missing) throw new CellSettingsError(`${where}: "${metric}" needs ${missing}`);
@@ -156,10 +156,33 @@ function parseInterference(raw: JsonObject, context: CellContext): InterferenceS
   if (passiveMinAngle !== null && !(passiveMinAngle >= 0 && passiveMinAngle < Math.PI / 2)) {
     throw new CellSettingsError('cell.interference.passive_min_angle: between 0 and 90 deg');
   }
+  const passiveLimits = isObject(raw['passive_limits']) ? parsePassiveLimits(raw['passive_limits'], context) : [];
   const slider = raw['slider_length'];
   const sliderLength = slider === undefined ? null : positive(q(slider, 'length', 'cell.interference.slider_length'), 'cell.interference.slider_length', true);
   // Architectures without two sliders on one rail ignore it (a comparison study shares one cell section).
-  return { links: raw['links'] !== false, crankWidth, rodWidth, housings, passiveMinAngle, sliderLength };
+  return { links: raw['links'] !== false, crankWidth, rodWidth, housings, housingsFromDrives: housingsIn === undefined, passiveMinAngle, passiveLimits, sliderLength };
+}
+
+/** Passive joints an architecture with these actuators has, by the names `passive_limits` uses. */
+function passiveJointNames(actuators: readonly ('revolute' | 'prismatic')[]): string[] {
+  const names = actuators.map((a, i) => `${a === 'revolute' ? 'elbow' : 'slider'}_${i + 1}`);
+  if (actuators.length === 2) names.push('end_point');
+  else for (let i = 1; i <= actuators.length; i++) names.push(`platform_${i}`);
+  return names;
+}
+
+/** `passive_limits: { elbow_1: { min: 20 deg, max: 160 deg }, … }`: included-angle ranges per passive joint. */
+function parsePassiveLimits(raw: JsonObject, context: CellContext): PassiveLimit[] {
+  const known = passiveJointNames(context.actuators);
+  return Object.entries(raw).map(([joint, value]) => {
+    const where = `cell.interference.passive_limits.${joint}`;
+    if (!known.includes(joint)) throw new CellSettingsError(`${where}: not a passive joint of this architecture (${known.join(', ')})`);
+    if (!isObject(value)) throw new CellSettingsError(`${where}: give { min, max } (included angles, e.g. { min: 20 deg, max: 160 deg })`);
+    const min = q(value['min'], 'angle', `${where}.min`, 0);
+    const max = q(value['max'], 'angle', `${where}.max`, Math.PI);
+    if (!(min >= 0 && max <= Math.PI + 1e-12 && max > min)) throw new CellSettingsError(`${where}: need 0 ≤ min < max ≤ 180 deg (got ${min} to ${max} rad)`);
+    return { joint, min, max };
+  });
 }
 
 function parseHousing(raw: JsonObject, where: string): Housing {

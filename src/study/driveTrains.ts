@@ -9,7 +9,7 @@
 import { parse as parseYaml } from 'yaml';
 import type { ActuatorKind } from '../architectures/types.js';
 import { cornerEnvelopes } from '../drives/envelope.js';
-import { DIRECT_DRIVE, type DriveTrain, type GearboxSpec, type LinearStageSpec, type MotorSpec, type TorqueSpeedCurve } from '../drives/types.js';
+import { DIRECT_DRIVE, type DriveTrain, type GearboxSpec, type LinearStageSpec, type MotorHousing, type MotorSpec, type TorqueSpeedCurve } from '../drives/types.js';
 import { CatalogueError, parseCsv } from './catalogue.js';
 import type { DriveSpec, DriveTrainSetup } from './types.js';
 import { parseQuantity, type QuantityKind } from './units.js';
@@ -17,6 +17,7 @@ import { parseQuantity, type QuantityKind } from './units.js';
 export const MOTOR_FIELDS = [
   'name', 'rated_torque', 'peak_torque', 'max_speed', 'corner_speed', 'rated_torque_at_max_speed', 'peak_torque_at_max_speed',
   'continuous_curve', 'peak_curve', 'rotor_inertia', 'brake_torque', 'encoder_counts', 'mass', 'cost',
+  'housing_diameter', 'housing_width', 'housing_height',
 ] as const;
 export const GEARBOX_FIELDS = [
   'name', 'ratio', 'ratios', 'efficiency', 'inertia', 'rated_torque', 'acceleration_torque', 'emergency_stop_torque',
@@ -140,7 +141,29 @@ export function buildMotor(raw: Raw, where: string): MotorSpec {
     encoderCounts: counts,
     mass: positiveQuantity(raw, 'mass', 'mass', w, 0, true),
     cost: raw['cost'] === undefined ? Number.NaN : positiveQuantity(raw, 'cost', 'dimensionless', w, undefined, true),
+    ...motorHousing(raw, w),
   };
+}
+
+/**
+ * A motor's outline from `housing_diameter` (round) or `housing_width` and `housing_height` (a box,
+ * width along the base's x axis; a square when only the width is given), lengths; none when absent.
+ */
+function motorHousing(raw: Raw, w: string): { housing?: MotorHousing } {
+  const diameter = raw['housing_diameter'];
+  const width = raw['housing_width'];
+  const height = raw['housing_height'];
+  if (diameter !== undefined) {
+    if (width !== undefined || height !== undefined) throw new CatalogueError(`${w}: give housing_diameter or housing_width/housing_height, not both`);
+    return { housing: { shape: 'circle', radius: positiveQuantity(raw, 'housing_diameter', 'length', w) / 2 } };
+  }
+  if (width === undefined) {
+    if (height !== undefined) throw new CatalogueError(`${w}: housing_height needs housing_width`);
+    return {};
+  }
+  const boxWidth = positiveQuantity(raw, 'housing_width', 'length', w);
+  const boxHeight = height === undefined ? boxWidth : positiveQuantity(raw, 'housing_height', 'length', w);
+  return { housing: { shape: 'box', width: boxWidth, height: boxHeight, angle: 0 } };
 }
 
 /** Gearbox entries of one record: one per ratio when it lists `ratios` (named "name:ratio"). */

@@ -36,6 +36,7 @@ import {
   type TaskRegion,
 } from './types.js';
 import studySchema from './study.schema.json' with { type: 'json' };
+import { GENERATED_SCHEMA_LISTS } from './schemaNames.js';
 
 /** A problem with a study file that the user can fix. The message names the file and the field. */
 export class StudyError extends LoopsmithUserError {
@@ -82,6 +83,11 @@ export function studySchemaForRegistry(): Record<string, unknown> {
   single['enum'] = names;
   delete single['type'];
   list.items = { enum: names };
+  // Lists written from catalogues (src/study/schemaNames.ts): validate against the catalogue itself.
+  for (const generated of GENERATED_SCHEMA_LISTS) {
+    const parent = generated.path.slice(0, -1).reduce<Record<string | number, unknown>>((node, key) => node[key] as Record<string | number, unknown>, schema as unknown as Record<string, unknown>);
+    parent[generated.path[generated.path.length - 1]!] = [...generated.names()];
+  }
   return schema as unknown as Record<string, unknown>;
 }
 function validateShape(data: unknown): readonly ErrorObject[] {

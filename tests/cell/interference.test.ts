@@ -23,7 +23,7 @@ function spec(interference: Partial<InterferenceSpec> | null, extra: Partial<Cel
     zones: [],
     cycleAsTask: false,
     keepOuts: [],
-    interference: interference ? { links: true, crankWidth: zero, rodWidth: zero, housings: zero.map(() => null), passiveMinAngle: null, sliderLength: null, ...interference } : null,
+    interference: interference ? { links: true, crankWidth: zero, rodWidth: zero, housings: zero.map(() => null), housingsFromDrives: false, passiveMinAngle: null, passiveLimits: [], sliderLength: null, ...interference } : null,
     allowance: 0,
     mounting: null,
     regular: { aspect: 1, angle: 0 },

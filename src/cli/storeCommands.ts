@@ -86,6 +86,30 @@ export function registerStoreCommands(cli: Argv): Argv {
   return commands.reduce((c, register) => register(c), cli);
 }
 
+/**
+ * Runs work that writes a store, with Ctrl-C handling and a progress bar; a store that did not exist
+ * before and is left empty by a refused or failed run is removed again.
+ */
+async function withStoreWork<T>(
+  dbPath: string,
+  quiet: boolean,
+  label: string,
+  work: (progress: ReturnType<typeof progressReporter>, shouldStop: () => boolean) => Promise<T>,
+): Promise<T> {
+  const existed = existsSync(dbPath);
+  const interrupt = interruptFlag(quiet);
+  const progress = progressReporter(quiet, label);
+  try {
+    return await work(progress, interrupt.stop);
+  } catch (error) {
+    removeEmptyStore(dbPath, existed);
+    throw error;
+  } finally {
+    progress.stop();
+    interrupt.dispose();
+  }
+}
+
 export function registerRunCommand(cli: Argv): Argv {
   return cli.command(
     'run <study>',
@@ -117,10 +141,7 @@ export function registerRunCommand(cli: Argv): Argv {
       const problems = unreachableTaskProblems(loaded.study);
       if (problems.length > 0) throw new StudyError(`${args.study}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
       const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
-      const existed = existsSync(dbPath);
-      const interrupt = interruptFlag(args.quiet);
-      const progress = progressReporter(args.quiet, 'generation');
-      try {
+      await withStoreWork(dbPath, args.quiet, 'generation', async (progress, shouldStop) => {
         const summary = await runOptimization(loaded, {
           dbPath,
           command: resumableCommand(),
@@ -131,7 +152,7 @@ export function registerRunCommand(cli: Argv): Argv {
           ...(args.from !== undefined ? { warmStart: parseFrom(args.from) } : {}),
           ...(args.more !== undefined ? { more: args.more } : {}),
           ...(args.run !== undefined ? { runId: args.run } : {}),
-          shouldStop: interrupt.stop,
+          shouldStop,
           onGeneration: (p: GenerationProgress) =>
             progress.update(p.generation + 1, p.generations, {
               rate: p.evaluationsPerSecond,
@@ -150,13 +171,7 @@ export function registerRunCommand(cli: Argv): Argv {
         }
         if (front.designs.length === 0) process.stderr.write(noFeasibleText(dbPath, summary.runId, loaded.study));
         if (summary.status === 'stopped') process.exitCode = 130;
-      } catch (error) {
-        removeEmptyStore(dbPath, existed);
-        throw error;
-      } finally {
-        progress.stop();
-        interrupt.dispose();
-      }
+      });
     },
   );
 }
@@ -178,28 +193,19 @@ export function registerSweepCommand(cli: Argv): Argv {
     async (args) => {
       const loaded = loadStudyFile(args.study);
       const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
-      const existed = existsSync(dbPath);
-      const interrupt = interruptFlag(args.quiet);
-      const progress = progressReporter(args.quiet, 'designs');
-      try {
+      await withStoreWork(dbPath, args.quiet, 'designs', async (progress, shouldStop) => {
         const result = await runSweep(loaded, {
           dbPath,
           samples: args.samples!,
           method: args.method,
           ...(args.seed !== undefined ? { seed: args.seed } : {}),
           ...(args.workers !== undefined ? { workers: args.workers } : {}),
-          shouldStop: interrupt.stop,
+          shouldStop,
           onChunk: (p) => progress.update(p.done, p.total, { rate: p.evaluationsPerSecond, hv: '—', feasible: p.feasible, elapsed: p.elapsedSeconds }),
         });
         progress.stop();
         if (!args.quiet) out(`${result.status} sweep run ${result.runId}: ${result.evaluations} designs, ${result.feasible} feasible\ndatabase: ${dbPath}\nnext: ${commandLine(['front', dbPath])}`);
-      } catch (error) {
-        removeEmptyStore(dbPath, existed);
-        throw error;
-      } finally {
-        progress.stop();
-        interrupt.dispose();
-      }
+      });
     },
   );
 }

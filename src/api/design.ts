@@ -108,6 +108,22 @@ export interface EvaluationReport {
   readonly constraints: readonly ConstraintReport[];
   readonly violation: number;
   readonly feasible: boolean;
+  /**
+   * Estimated absolute error of the metrics that carry one (SI, the metric's unit), from the study's
+   * evaluation.tolerance: region averages and extremes. Metrics without an estimate are left out.
+   */
+  readonly errors: Readonly<Record<string, number>>;
+}
+
+/** The metrics that carry an error estimate, by name. */
+export function errorsRecord(errors: Float64Array | undefined): Record<string, number> {
+  const out: Record<string, number> = {};
+  if (!errors) return out;
+  METRICS.forEach((m, i) => {
+    const v = errors[i]!;
+    if (!Number.isNaN(v)) out[m.name] = v;
+  });
+  return out;
 }
 
 export function metricsRecord(metrics: Float64Array): Record<string, number | null> {
@@ -139,6 +155,7 @@ export function evaluationReport(evaluator: Evaluator, choice: DesignChoice, res
     }),
     violation: result.violation,
     feasible: result.feasible,
+    errors: errorsRecord(result.errors),
   };
 }
 

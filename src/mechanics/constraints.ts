@@ -59,6 +59,8 @@ export interface DesignEvaluation {
   /** Total normalised violation Σ max(0, −margin); 0 when feasible. */
   readonly violation: number;
   readonly feasible: boolean;
+  /** Estimated absolute error of each metric (METRICS order, SI, the metric's unit); NaN = not estimated. */
+  readonly errors?: Float64Array;
 }
 
 /** Constraint list of a study: its own constraints plus the drive limits of mechanics §6. */

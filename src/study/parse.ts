@@ -54,6 +54,7 @@ export const DEFAULT_EVALUATION = {
   taskSamples: 12,
   minInverseCondition: 0.2,
   minTransmissionAngle: (30 * Math.PI) / 180,
+  tolerance: 0.005,
 } as const;
 
 export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;
@@ -626,6 +627,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     taskSamples: (evalIn['task_samples'] as number | undefined) ?? DEFAULT_EVALUATION.taskSamples,
     minInverseCondition: (evalIn['min_inverse_condition'] as number | undefined) ?? DEFAULT_EVALUATION.minInverseCondition,
     minTransmissionAngle,
+    tolerance: (evalIn['tolerance'] as number | undefined) ?? (evalIn['area_tolerance'] as number | undefined) ?? DEFAULT_EVALUATION.tolerance,
     ...(window ? { window } : {}),
   };
   if (actuatorKind === 'prismatic' && !window && jointLimits.some((r) => r === null)) {

@@ -81,6 +81,8 @@ export interface EvaluationSettings {
   readonly minInverseCondition: number;
   /** Minimum transmission angle μ_min, rad. */
   readonly minTransmissionAngle: number;
+  /** Relative accuracy asked of areas, region averages and region extremes (default 0.005 = 0.5 %). */
+  readonly tolerance: number;
   /** Grid window, m: clips the reachable box (required for rails without strokes). Absent = none. */
   readonly window?: { readonly xmin: number; readonly xmax: number; readonly ymin: number; readonly ymax: number };
 }

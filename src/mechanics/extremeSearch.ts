@@ -69,7 +69,8 @@ export class ExtremeSearch {
         evaluations++;
         this.axis[d] = v;
         if (Number.isNaN(v)) continue;
-        if (sense * (v - bestTrial) > 0) {
+        // Differences of rounding (relative 1e-12) are no improvement.
+        if (sense * (v - bestTrial) > 1e-12 * Math.abs(bestTrial)) {
           bestTrial = v;
           tx = px;
           ty = py;

@@ -46,6 +46,8 @@ const SEARCH_EVALUATIONS = 60;
 const ORIENTATION_SEARCH_EVALUATIONS = 12;
 /** A second search starts at the worst sample away from the first when it is within this fraction of the worst. */
 const SECOND_START_GAP = 0.01;
+/** Relative differences below this are rounding, not a worse pose (searches). */
+const ROUNDING = 1e-12;
 
 const M = {
   gci: metricIndex('gci'),
@@ -170,12 +172,17 @@ class WorstValues {
     this.singular = false;
     this.count = 0;
   }
-  fold(values: Float64Array, x: number, y: number, from: number, to: number): void {
+  /**
+   * Takes the values of one point. `slack` (relative): a point the searches found must beat the worst
+   * by more than this to count (differences of rounding are not another pose's worst case).
+   */
+  fold(values: Float64Array, x: number, y: number, from: number, to: number, slack = 0): void {
     const sep2 = this.separation * this.separation;
     for (let k = from; k < to; k++) {
       const v = values[k]!;
       const sense = SENSE[k]!;
       if (sense * (v - this.second[k]!) <= 0) continue;
+      if (slack > 0 && sense * (v - this.value[k]!) <= slack * Math.abs(this.value[k]!) && sense * (v - this.value[k]!) > 0) continue;
       const far = (x - this.x[k]!) ** 2 + (y - this.y[k]!) ** 2 > sep2;
       if (sense * (v - this.value[k]!) > 0) {
         if (far) {
@@ -439,10 +446,10 @@ export class RegionMetrics {
     } else {
       this.solveValues(x, y);
     }
-    this.worst.fold(this.values, x, y, 0, 12);
+    this.worst.fold(this.values, x, y, 0, 12, ROUNDING);
     if (this.target >= Q.orientationMargin) {
       this.orientationValues(x, y);
-      this.worst.fold(this.values, x, y, 12, QUANTITIES);
+      this.worst.fold(this.values, x, y, 12, QUANTITIES, ROUNDING);
     }
     return this.values[this.target]!;
   }

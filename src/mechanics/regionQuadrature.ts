@@ -60,6 +60,10 @@ const BISECTION_STEPS = 8;
 const STRIDE = 3;
 /** Per depth: 3 × 3 points. */
 const LEVEL = 9 * STRIDE;
+/** Slots of the corners of a 3 × 3 block. */
+const CORNER_SLOTS = [0, 2, 6, 8] as const;
+/** A queued cell: u, v, hu, hv, budgets (2), rules (2), unused (2), error shares (2), its 3 × 3 block. */
+const RECORD = 12 + LEVEL;
 
 export class RegionQuadrature {
   readonly maxDepth: number;
@@ -81,12 +85,15 @@ export class RegionQuadrature {
   private cellMarks = new Uint8Array(0);
   private cellRuleI = new Float64Array(0);
   private cellRuleA = new Float64Array(0);
+  /** Cells waiting for refinement on this level and the next (RECORD floats each). */
+  private queue = new Float64Array(0);
+  private nextQueue = new Float64Array(0);
 
   constructor(maxDepth = 6) {
     this.maxDepth = maxDepth;
-    this.levels = new Float64Array((maxDepth + 2) * LEVEL);
-    this.childI = new Float64Array(4 * (maxDepth + 2));
-    this.childA = new Float64Array(4 * (maxDepth + 2));
+    this.levels = new Float64Array(2 * LEVEL);
+    this.childI = new Float64Array(4);
+    this.childA = new Float64Array(4);
   }
 
   /**
@@ -124,19 +131,15 @@ export class RegionQuadrature {
         area += this.ruleArea;
       }
     }
-    if (candidates === 'boundary') this.interiorErrorEstimate(lattice);
-    const budgetI = (tolerance * Math.abs(integral)) / Math.max(count, 1);
-    const budgetA = (tolerance * area) / Math.max(count, 1);
+    // Half the tolerance for the tested boundary cells (shared equally), half for the interior (by area).
+    const cellShare = (lattice.hu * lattice.hv) / Math.max(area, 1e-300);
+    const interiorBudget = 0.5 * tolerance * Math.abs(integral) * cellShare;
+    if (candidates === 'boundary') this.interiorErrorEstimate(lattice, interiorBudget);
+    const budgetI = (0.5 * tolerance * Math.abs(integral)) / Math.max(count, 1);
+    const budgetA = (0.5 * tolerance * area) / Math.max(count, 1);
     this.integralSum = integral;
     this.areaSum = area;
-    for (let j = 0; j + 1 < nv; j++) {
-      for (let i = 0; i + 1 < nu; i++) {
-        const c = j * (nu - 1) + i;
-        if (this.cellMarks[c] !== 2) continue;
-        this.loadCorners(lattice, i, j, 0);
-        this.refine(lattice.u0 + i * lattice.hu, lattice.v0 + j * lattice.hv, lattice.hu, lattice.hv, 0, this.cellRuleI[c]!, this.cellRuleA[c]!, budgetI, budgetA);
-      }
-    }
+    this.refineLevels(lattice, budgetI, budgetA, interiorBudget);
     return { integral: this.integralSum, area: this.areaSum, integralError: this.integralError, areaError: this.areaError, samples: this.samples };
   }
 
@@ -192,9 +195,10 @@ export class RegionQuadrature {
 
   /**
    * Error of the cells that are not tested: for 2 × 2 blocks of inside cells, the difference between
-   * the rule on the block and on its four cells, divided by 3 (Richardson, O(h²) rule).
+   * the rule on the block and on its four cells, divided by 3 (Richardson, O(h²) rule). A block whose
+   * estimate exceeds its cells' share of the budget is marked for testing instead.
    */
-  private interiorErrorEstimate(lattice: NodeLattice): void {
+  private interiorErrorEstimate(lattice: NodeLattice, cellBudget: number): void {
     const { nu, nv, values } = lattice;
     const cu = nu - 1;
     const area = lattice.hu * lattice.hv;
@@ -213,8 +217,17 @@ export class RegionQuadrature {
         fine *= area / 4;
         const f = (di: number, dj: number): number => values[((j + dj) * nu + i + di) * STRIDE + 1]!;
         const coarse = area * (f(0, 0) + f(2, 0) + f(0, 2) + f(2, 2));
-        this.integralError += Math.abs(fine - coarse) / 3;
+        const estimate = Math.abs(fine - coarse) / 3;
+        if (estimate > 4 * cellBudget) continue;
+        this.integralError += estimate;
+        for (let dj = 0; dj < 2; dj++) for (let di = 0; di < 2; di++) this.cellMarks[(j + dj) * cu + i + di] = 8;
       }
+    }
+    // Inside cells of steep blocks, and those in no whole block, are tested like boundary cells, each
+    // with its area's budget (mark 7); estimated ones go back to 1.
+    for (let c = 0; c < cu * (nv - 1); c++) {
+      if (this.cellMarks[c] === 1) this.cellMarks[c] = 7;
+      else if (this.cellMarks[c] === 8) this.cellMarks[c] = 1;
     }
   }
 
@@ -243,58 +256,119 @@ export class RegionQuadrature {
   }
 
   /**
-   * Tests one cell at depth d whose corners are in block d (slots 0, 2, 6, 8): samples the five other
-   * points, compares the children's sum with the cell's rule and refines further where needed.
+   * Breadth-first refinement: every queued cell (a candidate of the lattice, or a child of a cell
+   * refined on the level before) gets its five inner points and the rule on its four children; where
+   * the difference exceeds the cell's budget and the depth allows, the children are queued for the
+   * next level with a quarter of the budget each. Level by level, so that a sample cap, when it
+   * binds, leaves cells of the same depth everywhere rather than one cell refined to the bottom.
    */
-  private refine(u: number, v: number, hu: number, hv: number, d: number, coarseI: number, coarseA: number, budgetI: number, budgetA: number): void {
-    const base = d * LEVEL;
+  private refineLevels(lattice: NodeLattice, budgetI: number, budgetA: number, interiorBudget: number): void {
+    const { nu, nv, hu, hv } = lattice;
+    const cu = nu - 1;
+    let count = 0;
+    for (let c = 0; c < cu * (nv - 1); c++) {
+      const mark = this.cellMarks[c]!;
+      if (mark !== 2 && mark !== 7) continue;
+      const i = c % cu;
+      const j = (c - i) / cu;
+      this.loadCorners(lattice, i, j, 0);
+      const interior = mark === 7;
+      count = this.enqueue(0, count, lattice.u0 + i * hu, lattice.v0 + j * hv, hu, hv, interior ? interiorBudget : budgetI, interior ? Infinity : budgetA, this.cellRuleI[c]!, this.cellRuleA[c]!, 0.5 * Math.abs(this.cellRuleI[c]!), 0.5 * Math.abs(this.cellRuleA[c]!));
+    }
+    for (let depth = 0; count > 0; depth++) {
+      let next = 0;
+      for (let r = 0; r < count; r++) {
+        const at = r * RECORD;
+        const rec = this.queue;
+        if (this.samples + 5 > this.sampleCap) {
+          // Out of samples: the cell keeps the rule it was counted with, and its share of its parent's error.
+          this.integralError += rec[at + 10]!;
+          this.areaError += rec[at + 11]!;
+          continue;
+        }
+        for (let q = 0; q < LEVEL; q++) this.levels[q] = rec[at + 12 + q]!;
+        const u = rec[at]!, v = rec[at + 1]!, cellU = rec[at + 2]!, cellV = rec[at + 3]!;
+        const bI = rec[at + 4]!, bA = rec[at + 5]!, coarseI = rec[at + 6]!, coarseA = rec[at + 7]!;
+        this.sampleMidpoints(u, v, cellU, cellV);
+        this.childRules(u, v, cellU, cellV);
+        const fineI = this.childI[0]! + this.childI[1]! + this.childI[2]! + this.childI[3]!;
+        const fineA = this.childA[0]! + this.childA[1]! + this.childA[2]! + this.childA[3]!;
+        // Error of the finer sum: (coarse − fine)/(2^p − 1) for a rule of order p; p ≥ 1.5 near the
+        // square-root edges of singular boundaries and 2 elsewhere: half the difference.
+        const errI = 0.5 * Math.abs(fineI - coarseI);
+        const errA = 0.5 * Math.abs(fineA - coarseA);
+        this.integralSum += fineI - coarseI;
+        this.areaSum += fineA - coarseA;
+        if (!((errI > bI || errA > bA) && depth + 1 < this.maxDepth)) {
+          this.integralError += errI;
+          this.areaError += errA;
+          continue;
+        }
+        const hu2 = cellU / 2;
+        const hv2 = cellV / 2;
+        for (let c = 0; c < 4; c++) {
+          const ci = c & 1;
+          const cj = c >> 1;
+          for (let corner = 0; corner < 4; corner++) {
+            const from = ((cj + (corner >> 1)) * 3 + ci + (corner & 1)) * STRIDE;
+            const to = LEVEL + ((corner >> 1) * 6 + (corner & 1) * 2) * STRIDE;
+            for (let q = 0; q < STRIDE; q++) this.levels[to + q] = this.levels[from + q]!;
+          }
+          next = this.enqueue(1, next, u + ci * hu2, v + cj * hv2, hu2, hv2, bI / 4, bA / 4, this.childI[c]!, this.childA[c]!, errI / 4, errA / 4, true);
+        }
+      }
+      const swap = this.queue;
+      this.queue = this.nextQueue;
+      this.nextQueue = swap;
+      count = next;
+    }
+  }
+
+  /**
+   * Appends a cell whose corners are in block `block` (slots 0, 2, 6, 8) to the current queue, or to
+   * the next level's queue when `toNext`. Returns the new count of that queue.
+   */
+  private enqueue(block: number, count: number, u: number, v: number, hu: number, hv: number, budgetI: number, budgetA: number, ruleI: number, ruleA: number, shareI: number, shareA: number, toNext = false): number {
+    let q = toNext ? this.nextQueue : this.queue;
+    if ((count + 1) * RECORD > q.length) {
+      const grown = new Float64Array(Math.max(2 * q.length, 64 * RECORD));
+      grown.set(q);
+      q = grown;
+      if (toNext) this.nextQueue = grown;
+      else this.queue = grown;
+    }
+    const at = count * RECORD;
+    q[at] = u; q[at + 1] = v; q[at + 2] = hu; q[at + 3] = hv;
+    q[at + 4] = budgetI; q[at + 5] = budgetA; q[at + 6] = ruleI; q[at + 7] = ruleA;
+    q[at + 10] = shareI; q[at + 11] = shareA;
+    for (let k = 0; k < LEVEL; k++) q[at + 12 + k] = 0;
+    for (const slot of CORNER_SLOTS) {
+      for (let s = 0; s < STRIDE; s++) q[at + 12 + slot * STRIDE + s] = this.levels[block * LEVEL + slot * STRIDE + s]!;
+    }
+    return count + 1;
+  }
+
+  /** Samples the five inner points of the cell held in block 0 (slots 1, 3, 4, 5, 7). */
+  private sampleMidpoints(u: number, v: number, hu: number, hv: number): void {
     const hu2 = hu / 2;
     const hv2 = hv / 2;
-    this.sampleInto(u + hu2, v, base + 1 * STRIDE);
-    this.sampleInto(u, v + hv2, base + 3 * STRIDE);
-    this.sampleInto(u + hu2, v + hv2, base + 4 * STRIDE);
-    this.sampleInto(u + hu, v + hv2, base + 5 * STRIDE);
-    this.sampleInto(u + hu2, v + hv, base + 7 * STRIDE);
-    const childI = this.childI;
-    const childA = this.childA;
-    const cb = 4 * d;
-    let fineI = 0;
-    let fineA = 0;
+    this.sampleInto(u + hu2, v, 1 * STRIDE);
+    this.sampleInto(u, v + hv2, 3 * STRIDE);
+    this.sampleInto(u + hu2, v + hv2, 4 * STRIDE);
+    this.sampleInto(u + hu, v + hv2, 5 * STRIDE);
+    this.sampleInto(u + hu2, v + hv, 7 * STRIDE);
+  }
+
+  /** Rules of the four children of the cell held in block 0, into childI/childA[0 … 3]. */
+  private childRules(u: number, v: number, hu: number, hv: number): void {
+    const hu2 = hu / 2;
+    const hv2 = hv / 2;
     for (let c = 0; c < 4; c++) {
       const ci = c & 1;
       const cj = c >> 1;
-      this.cellRuleAt(u + ci * hu2, v + cj * hv2, hu2, hv2, base + (cj * 3 + ci) * STRIDE, 1, 3);
-      childI[cb + c] = this.ruleIntegral;
-      childA[cb + c] = this.ruleArea;
-      fineI += this.ruleIntegral;
-      fineA += this.ruleArea;
-    }
-    // Error of the finer sum: (coarse − fine)/(2^p − 1) for a rule of order p; p ≥ 1.5 near the square-root
-    // edges of singular boundaries and 2 elsewhere, so half the difference (a little low only for jumps, p = 1).
-    const errI = 0.5 * Math.abs(fineI - coarseI);
-    const errA = 0.5 * Math.abs(fineA - coarseA);
-    this.integralSum += fineI - coarseI;
-    this.areaSum += fineA - coarseA;
-    const deeper = (errI > budgetI || errA > budgetA) && d + 1 < this.maxDepth && this.samples + 5 <= this.sampleCap;
-    if (!deeper) {
-      this.integralError += errI;
-      this.areaError += errA;
-      return;
-    }
-    const next = (d + 1) * LEVEL;
-    for (let c = 0; c < 4; c++) {
-      const ci = c & 1;
-      const cj = c >> 1;
-      for (let corner = 0; corner < 4; corner++) {
-        const di = corner & 1;
-        const dj = corner >> 1;
-        const from = base + ((cj + dj) * 3 + ci + di) * STRIDE;
-        const to = next + (dj * 6 + di * 2) * STRIDE;
-        this.levels[to] = this.levels[from]!;
-        this.levels[to + 1] = this.levels[from + 1]!;
-        this.levels[to + 2] = this.levels[from + 2]!;
-      }
-      this.refine(u + ci * hu2, v + cj * hv2, hu2, hv2, d + 1, childI[cb + c]!, childA[cb + c]!, budgetI / 4, budgetA / 4);
+      this.cellRuleAt(u + ci * hu2, v + cj * hv2, hu2, hv2, (cj * 3 + ci) * STRIDE, 1, 3);
+      this.childI[c] = this.ruleIntegral;
+      this.childA[c] = this.ruleArea;
     }
   }
 

@@ -347,7 +347,7 @@ export class RegionMetrics {
       },
     };
     const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable };
-    const result = this.quadrature.integrate(nodeLattice, field, 0.5 * this.tolerance, 'all', 40 * nodes);
+    const result = this.quadrature.integrate(nodeLattice, field, 0.5 * this.tolerance, 'all', 200 * nodes);
     this.gci = result.integral / lattice.area;
     this.gciError = result.integralError / lattice.area;
   }
@@ -393,7 +393,7 @@ export class RegionMetrics {
     }
     const field: LevelField = { sample: (x, y, out) => this.workspaceSample(grid, x, y, out) };
     const lattice: NodeLattice = { nu: nx, nv: ny, u0: x0, v0: y0, hu: h, hv: h, values, refinable: this.nodeRefinable };
-    const result = this.quadrature.integrate(lattice, field, 0.5 * this.tolerance, 'boundary', 8 * nx * ny);
+    const result = this.quadrature.integrate(lattice, field, 0.5 * this.tolerance, 'boundary', 32 * nx * ny);
     this.gci = result.area > 0 ? result.integral / result.area : 0;
     this.gciError = result.area > 0 ? Math.abs(this.gci) * (result.integralError / Math.max(Math.abs(result.integral), 1e-300) + result.areaError / result.area) : 0;
     this.grid = grid;

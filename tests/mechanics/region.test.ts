@@ -164,13 +164,13 @@ describe('an extreme that lies between samples by construction', () => {
   // sine |s_1| = √(1 − ((r² − p² − d²)/(2pd))²) depends only on r = |P − A_1|, and the joint speed for
   // the end-point speed v is v ‖row_1(J⁻¹)‖ = v/(p |s_1|). For r² < p² + d² it grows as r falls, so over
   // a rectangle above A_1 whose r stays below √(p² + d²) its largest value is at the foot of the
-  // perpendicular from A_1 to the bottom edge. The rectangle is placed so that this foot lies halfway
-  // between two samples of the bottom edge (12 intervals over 0.24 m: samples every 20 mm, the foot at
-  // x = −75 mm, 10 mm from the nearest ones).
+  // perpendicular from A_1 to the bottom edge. The rectangle is placed so that this foot lies between
+  // two samples of the bottom edge, at no simple fraction of their spacing (12 intervals over 0.24 m:
+  // samples every 20 mm from x = −182.4 mm; the foot at x = −75 mm is 7.4 mm from the nearest one).
   const v = 1.0;
   const bottom = 0.11;
   const speedAt = (r: number): number => v / (P5 * Math.sqrt(1 - ((r * r - P5 * P5 - D5 * D5) / (2 * P5 * D5)) ** 2));
-  const text = `${FIVE_BAR}task: { region: { shape: rectangle, centre: [-0.065, ${bottom + 0.03}], width: 0.24, height: 0.06 }, speed: ${v} }\n`;
+  const text = `${FIVE_BAR}task: { region: { shape: rectangle, centre: [-0.0624, ${bottom + 0.03}], width: 0.24, height: 0.06 }, speed: ${v} }\n`;
 
   it('peak_joint_speed_1 is the closed form at the foot (within 0.5 %), the samples alone are not', () => {
     const exact = speedAt(bottom);
@@ -178,8 +178,8 @@ describe('an extreme that lies between samples by construction', () => {
     expect(Math.abs(r.value('peak_joint_speed_1') / exact - 1)).toBeLessThan(0.005);
     expect(r.value('peak_joint_speed_1')).toBeLessThanOrEqual(exact * (1 + 1e-9));
     expect(r.error('peak_joint_speed_1') / exact).toBeLessThan(0.005);
-    // Negative control: the nearest samples are 10 mm beside the foot.
-    const nearestSample = speedAt(Math.hypot(bottom, 0.01));
+    // Negative control: the nearest sample is 7.4 mm beside the foot.
+    const nearestSample = speedAt(Math.hypot(bottom, 0.0074));
     expect(1 - nearestSample / exact).toBeGreaterThan(0.01);
   });
 });

@@ -1,5 +1,5 @@
 // Region averages and extremes: convergence against closed forms, and the cost per evaluation.
-// Figures only, no pass/fail. Run with: npm run build && node bench/region.mjs [--cost]
+// Figures only, no pass/fail. Run with: npm run build && node bench/region.mjs [--cost | --cost-only]
 // The closed forms are derived in tests/mechanics/region.test.ts (invented scenarios).
 import { Evaluator, loadStudyFile, parseStudyText } from '../dist/index.js';
 import { metricIndex } from '../dist/core/metrics.js';
@@ -7,6 +7,7 @@ import { sampleWorkspace } from '../dist/mechanics/workspace.js';
 import { taskSamples } from '../dist/mechanics/taskSamples.js';
 
 const line = (s) => process.stdout.write(s + '\n');
+const tables = !process.argv.includes('--cost-only');
 const pct = (v) => `${(100 * v).toFixed(4)} %`.padStart(11);
 const study = (text) => parseStudyText(`study: region-bench\ndescription: invented scenario\n${text}objectives: [ { metric: gci } ]\n`, '<bench>').study;
 const evaluate = (s) => {
@@ -20,7 +21,7 @@ const PRR = `architecture: 2-prr\ngeometry: { rail_height: 0, rod_1: ${D}, rod_2
 const cotAnti = (y) => { const c = Math.sqrt(Math.max(D * D - y * y, 0)); return c - D * Math.log((D + c) / y); };
 const split = D / Math.SQRT2;
 
-{
+if (tables) {
   const exact = 1 - Math.SQRT2 + Math.log(1 + Math.SQRT2);
   line('Table 1 — gci over the usable workspace of a 2-PRR bounded by its two singularities (1/κ ≥ 0, no transmission');
   line(`limit, window 0.6 m wide): closed form 1 − √2 + ln(1 + √2) = ${exact.toFixed(6)}. Relative errors.`);
@@ -43,7 +44,7 @@ const split = D / Math.SQRT2;
   line('');
 }
 
-{
+if (tables) {
   const exact = (Math.sqrt(D * D - 0.09) - Math.sqrt(D * D - split * split) + cotAnti(D) - cotAnti(split)) / 0.2;
   line('Table 2 — gci over a task region whose top edge lies on the 2-PRR\'s leg singularity (square-root edge),');
   line(`x ∈ [−0.1, 0.1], y ∈ [0.3, 0.5] m: closed form ${exact.toFixed(6)}. Relative errors.`);
@@ -66,7 +67,7 @@ const split = D / Math.SQRT2;
   line('');
 }
 
-{
+if (tables) {
   // Five-bar, pivots (∓0.075, 0), cranks 0.2 m, rods 0.3 m: peak_joint_speed_1 = v/(p|s_1|) at the foot of
   // the perpendicular from A_1 to the region's bottom edge (r = 0.11 m), 7.4 mm from the nearest sample at 12.
   const [p, d, v, bottom] = [0.2, 0.3, 1, 0.11];
@@ -98,7 +99,7 @@ const split = D / Math.SQRT2;
   line('');
 }
 
-if (process.argv.includes('--cost')) {
+if (process.argv.includes('--cost') || !tables) {
   // Single-thread evaluations per second of each demo study's baseline and random designs.
   for (const file of ['parcel-sorter.yaml', 'rail-sorter-2prr.yaml', 'platform-3rrr.yaml', 'platform-3prr.yaml', 'platform-3rpr.yaml']) {
     const s = loadStudyFile(new URL(`../studies/${file}`, import.meta.url).pathname).study;

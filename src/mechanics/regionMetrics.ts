@@ -217,6 +217,9 @@ export class RegionMetrics {
   private readonly quadrature = new RegionQuadrature();
   private readonly search = new ExtremeSearch();
   private readonly taskInvCond: Float64Array;
+  private readonly taskMargin: Float64Array;
+  /** Footprint of the design in hand, m (scales the reach margin). */
+  private footprint = 1;
   private nodeValues = new Float64Array(0);
   private nodeSolved = new Uint8Array(0);
   private nodeRefinable = new Uint8Array(0);
@@ -238,6 +241,7 @@ export class RegionMetrics {
     this.phi0 = phi0;
     this.lattice = study.task.region ? taskLattice(study.task.region, study.evaluation.taskSamples) : null;
     this.taskInvCond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
+    this.taskMargin = new Float64Array(this.lattice ? this.lattice.x.length : 0);
     this.tolerance = study.evaluation.tolerance ?? 0.005;
   }
 
@@ -246,6 +250,7 @@ export class RegionMetrics {
     this.model = model;
     this.context = context;
     this.jointScale = jointScale;
+    this.footprint = this.architecture.footprint(model);
     this.worst.reset();
     this.gci = 0;
     this.gciError = 0;
@@ -297,7 +302,8 @@ export class RegionMetrics {
       const x = lattice.x[k]!;
       const y = lattice.y[k]!;
       const status = this.solveValues(x, y);
-      invCond[k] = status === PoseStatus.Assembled ? this.pose.inverseCondition : 0;
+      invCond[k] = status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition;
+      this.taskMargin[k] = this.assembledMargin(status);
       let ok = region >= 0 && grid !== null && architectureUsableMargin(this.pose, status, this.study, this.jointScale) >= 0 && grid.regionAt(x, y) === region;
       this.worst.fold(this.values, x, y, 0, 12);
       if (orientation) {
@@ -316,7 +322,11 @@ export class RegionMetrics {
     return coveredPoints === samples ? 1 : Math.min(covered, 1);
   }
 
-  /** gci over the task region: ∫ 1/κ dA / area on the lattice (u, v), refined to the tolerance. */
+  /**
+   * gci over the task region: ∫ 1/κ dA over its assembled part / its area, on the lattice (u, v) with
+   * the sub-cell geometry of the assembled part's edge (1/κ may jump there, at a joint limit), refined
+   * to the tolerance.
+   */
   private taskMean(lattice: TaskLattice, invCond: Float64Array): void {
     const nodes = lattice.nu * lattice.nv;
     const values = this.nodeBuffers(nodes);
@@ -326,13 +336,16 @@ export class RegionMetrics {
       const jacobian = taskPoint(region, (k % lattice.nu) / (lattice.nu - 1), j / (lattice.nv - 1), this.at);
       const sample = lattice.sampleOf[k]!;
       let f: number;
+      let margin: number;
       if (sample >= 0) {
         f = invCond[sample]!;
+        margin = this.taskMargin[sample]!;
       } else {
         const status = this.architecture.solvePose(this.model!, this.pose, this.at[0]!, this.at[1]!, this.phi0);
-        f = status === PoseStatus.Assembled ? this.pose.inverseCondition : 0;
+        f = status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition;
+        margin = this.assembledMargin(status);
       }
-      values[3 * k] = 1;
+      values[3 * k] = margin;
       values[3 * k + 1] = f * jacobian;
       values[3 * k + 2] = 1;
       this.nodeRefinable[k] = 1;
@@ -341,15 +354,30 @@ export class RegionMetrics {
       sample: (u, v, out) => {
         const jacobian = taskPoint(region, u, v, this.at);
         const status = this.architecture.solvePose(this.model!, this.pose, this.at[0]!, this.at[1]!, this.phi0);
-        out[0] = (status === PoseStatus.Assembled ? this.pose.inverseCondition : 0) * jacobian;
+        out[0] = (status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition) * jacobian;
         out[1] = 1;
-        return 1;
+        return this.assembledMargin(status);
       },
     };
     const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable };
     const result = this.quadrature.integrate(nodeLattice, field, 0.5 * this.tolerance, 'all', 200 * nodes);
     this.gci = result.integral / lattice.area;
     this.gciError = result.integralError / lattice.area;
+  }
+
+  /**
+   * Signed margin of "assembled" at the pose just solved (≥ 0 where it is), continuous across the
+   * boundaries that end it: the reach margin over the footprint, the joint-range margin over its
+   * scale, and the mechanism sine times the assembly sign (det A changes sign between assemblies).
+   */
+  private assembledMargin(status: PoseStatus): number {
+    const pose = this.pose;
+    const reach = pose.reachMargin / this.footprint;
+    if (status === PoseStatus.Unreachable) return Math.min(reach, -1e-300);
+    let m = Math.min(reach, pose.jointMargin / this.jointScale, this.model!.assembly * pose.mechanismSine);
+    if (status !== PoseStatus.Assembled && m >= 0) m = -1e-300;
+    if (status === PoseStatus.Assembled && m < 0) m = 0;
+    return m;
   }
 
   private nodeBuffers(nodes: number): Float64Array {

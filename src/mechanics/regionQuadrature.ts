@@ -62,8 +62,8 @@ const STRIDE = 3;
 const LEVEL = 9 * STRIDE;
 /** Slots of the corners of a 3 × 3 block. */
 const CORNER_SLOTS = [0, 2, 6, 8] as const;
-/** A queued cell: u, v, hu, hv, budgets (2), rules (2), unused (2), error shares (2), its 3 × 3 block. */
-const RECORD = 12 + LEVEL;
+/** A queued cell: u, v, hu, hv, rule (2), error (2), children's rules (8), its 3 × 3 block. */
+const RECORD = 16 + LEVEL;
 
 export class RegionQuadrature {
   readonly maxDepth: number;
@@ -85,6 +85,8 @@ export class RegionQuadrature {
   private cellMarks = new Uint8Array(0);
   private cellRuleI = new Float64Array(0);
   private cellRuleA = new Float64Array(0);
+  private order = new Int32Array(0);
+  private key = new Float64Array(0);
   /** Cells waiting for refinement on this level and the next (RECORD floats each). */
   private queue = new Float64Array(0);
   private nextQueue = new Float64Array(0);
@@ -115,7 +117,7 @@ export class RegionQuadrature {
       this.cellRuleI = new Float64Array(cells);
       this.cellRuleA = new Float64Array(cells);
     }
-    const count = this.markCells(lattice, candidates);
+    this.markCells(lattice, candidates);
     let integral = 0;
     let area = 0;
     const { nu, nv } = lattice;
@@ -131,15 +133,12 @@ export class RegionQuadrature {
         area += this.ruleArea;
       }
     }
-    // Half the tolerance for the tested boundary cells (shared equally), half for the interior (by area).
+    // The interior's estimate may use a share of the tolerance by area; steeper blocks are refined.
     const cellShare = (lattice.hu * lattice.hv) / Math.max(area, 1e-300);
-    const interiorBudget = 0.5 * tolerance * Math.abs(integral) * cellShare;
-    if (candidates === 'boundary') this.interiorErrorEstimate(lattice, interiorBudget);
-    const budgetI = (0.5 * tolerance * Math.abs(integral)) / Math.max(count, 1);
-    const budgetA = (0.5 * tolerance * area) / Math.max(count, 1);
+    if (candidates === 'boundary') this.interiorErrorEstimate(lattice, 0.5 * tolerance * Math.abs(integral) * cellShare);
     this.integralSum = integral;
     this.areaSum = area;
-    this.refineLevels(lattice, budgetI, budgetA, interiorBudget);
+    this.refineLevels(lattice, Math.max(tolerance * Math.abs(integral), 1e-300), Math.max(tolerance * area, 1e-300));
     return { integral: this.integralSum, area: this.areaSum, integralError: this.integralError, areaError: this.areaError, samples: this.samples };
   }
 
@@ -256,13 +255,13 @@ export class RegionQuadrature {
   }
 
   /**
-   * Breadth-first refinement: every queued cell (a candidate of the lattice, or a child of a cell
-   * refined on the level before) gets its five inner points and the rule on its four children; where
-   * the difference exceeds the cell's budget and the depth allows, the children are queued for the
-   * next level with a quarter of the budget each. Level by level, so that a sample cap, when it
-   * binds, leaves cells of the same depth everywhere rather than one cell refined to the bottom.
+   * Breadth-first, greedy refinement. Each level: every queued cell (a candidate of the lattice, or a
+   * child of a cell refined on the level before) gets its five inner points and the rule on its four
+   * children, the difference being its error; then the cells with the largest errors (relative to the
+   * targets) are split, until the errors left — those accepted so far plus this level's unsplit ones —
+   * fit the targets. Level by level, so that a sample cap, when it binds, leaves equal depths.
    */
-  private refineLevels(lattice: NodeLattice, budgetI: number, budgetA: number, interiorBudget: number): void {
+  private refineLevels(lattice: NodeLattice, targetI: number, targetA: number): void {
     const { nu, nv, hu, hv } = lattice;
     const cu = nu - 1;
     let count = 0;
@@ -272,50 +271,35 @@ export class RegionQuadrature {
       const i = c % cu;
       const j = (c - i) / cu;
       this.loadCorners(lattice, i, j, 0);
-      const interior = mark === 7;
-      count = this.enqueue(0, count, lattice.u0 + i * hu, lattice.v0 + j * hv, hu, hv, interior ? interiorBudget : budgetI, interior ? Infinity : budgetA, this.cellRuleI[c]!, this.cellRuleA[c]!, 0.5 * Math.abs(this.cellRuleI[c]!), 0.5 * Math.abs(this.cellRuleA[c]!));
+      count = this.enqueue(0, count, lattice.u0 + i * hu, lattice.v0 + j * hv, hu, hv, this.cellRuleI[c]!, this.cellRuleA[c]!, 0.5 * Math.abs(this.cellRuleI[c]!), 0.5 * Math.abs(this.cellRuleA[c]!), false);
     }
     for (let depth = 0; count > 0; depth++) {
+      const tested = this.testLevel(count, targetI, targetA);
+      const order = this.order.subarray(0, tested);
+      const key = this.key;
+      order.sort((a, b) => key[b]! - key[a]!);
+      // This level may use half of what is left of each target; the split cells' children get the rest.
+      const allowI = this.integralError + 0.5 * Math.max(targetI - this.integralError, 0);
+      const allowA = this.areaError + 0.5 * Math.max(targetA - this.areaError, 0);
+      let leftI = this.integralError;
+      let leftA = this.areaError;
+      for (let t = 0; t < tested; t++) {
+        leftI += this.queue[order[t]! * RECORD + 6]!;
+        leftA += this.queue[order[t]! * RECORD + 7]!;
+      }
       let next = 0;
-      for (let r = 0; r < count; r++) {
+      for (let t = 0; t < tested; t++) {
+        const r = order[t]!;
         const at = r * RECORD;
-        const rec = this.queue;
-        if (this.samples + 5 > this.sampleCap) {
-          // Out of samples: the cell keeps the rule it was counted with, and its share of its parent's error.
-          this.integralError += rec[at + 10]!;
-          this.areaError += rec[at + 11]!;
+        const q = this.queue;
+        if ((leftI > allowI || leftA > allowA) && depth + 1 < this.maxDepth) {
+          leftI -= q[at + 6]!;
+          leftA -= q[at + 7]!;
+          next = this.split(at, next);
           continue;
         }
-        for (let q = 0; q < LEVEL; q++) this.levels[q] = rec[at + 12 + q]!;
-        const u = rec[at]!, v = rec[at + 1]!, cellU = rec[at + 2]!, cellV = rec[at + 3]!;
-        const bI = rec[at + 4]!, bA = rec[at + 5]!, coarseI = rec[at + 6]!, coarseA = rec[at + 7]!;
-        this.sampleMidpoints(u, v, cellU, cellV);
-        this.childRules(u, v, cellU, cellV);
-        const fineI = this.childI[0]! + this.childI[1]! + this.childI[2]! + this.childI[3]!;
-        const fineA = this.childA[0]! + this.childA[1]! + this.childA[2]! + this.childA[3]!;
-        // Error of the finer sum: (coarse − fine)/(2^p − 1) for a rule of order p; p ≥ 1.5 near the
-        // square-root edges of singular boundaries and 2 elsewhere: half the difference.
-        const errI = 0.5 * Math.abs(fineI - coarseI);
-        const errA = 0.5 * Math.abs(fineA - coarseA);
-        this.integralSum += fineI - coarseI;
-        this.areaSum += fineA - coarseA;
-        if (!((errI > bI || errA > bA) && depth + 1 < this.maxDepth)) {
-          this.integralError += errI;
-          this.areaError += errA;
-          continue;
-        }
-        const hu2 = cellU / 2;
-        const hv2 = cellV / 2;
-        for (let c = 0; c < 4; c++) {
-          const ci = c & 1;
-          const cj = c >> 1;
-          for (let corner = 0; corner < 4; corner++) {
-            const from = ((cj + (corner >> 1)) * 3 + ci + (corner & 1)) * STRIDE;
-            const to = LEVEL + ((corner >> 1) * 6 + (corner & 1) * 2) * STRIDE;
-            for (let q = 0; q < STRIDE; q++) this.levels[to + q] = this.levels[from + q]!;
-          }
-          next = this.enqueue(1, next, u + ci * hu2, v + cj * hv2, hu2, hv2, bI / 4, bA / 4, this.childI[c]!, this.childA[c]!, errI / 4, errA / 4, true);
-        }
+        this.integralError += q[at + 6]!;
+        this.areaError += q[at + 7]!;
       }
       const swap = this.queue;
       this.queue = this.nextQueue;
@@ -325,10 +309,75 @@ export class RegionQuadrature {
   }
 
   /**
-   * Appends a cell whose corners are in block `block` (slots 0, 2, 6, 8) to the current queue, or to
-   * the next level's queue when `toNext`. Returns the new count of that queue.
+   * Tests the `count` queued cells: inner points, children's rules, errors (into the records), the
+   * sums moved to the finer rules. Cells beyond the sample cap keep their share of their parent's
+   * error. Returns the number tested (their record numbers in `order`, their weighted errors in `key`).
    */
-  private enqueue(block: number, count: number, u: number, v: number, hu: number, hv: number, budgetI: number, budgetA: number, ruleI: number, ruleA: number, shareI: number, shareA: number, toNext = false): number {
+  private testLevel(count: number, targetI: number, targetA: number): number {
+    if (this.order.length < count) {
+      this.order = new Int32Array(2 * count);
+      this.key = new Float64Array(2 * count);
+    }
+    let tested = 0;
+    for (let r = 0; r < count; r++) {
+      const at = r * RECORD;
+      const q = this.queue;
+      if (this.samples + 5 > this.sampleCap) {
+        this.integralError += q[at + 6]!;
+        this.areaError += q[at + 7]!;
+        continue;
+      }
+      for (let k = 0; k < LEVEL; k++) this.levels[k] = q[at + 16 + k]!;
+      const u = q[at]!, v = q[at + 1]!, cellU = q[at + 2]!, cellV = q[at + 3]!;
+      this.sampleMidpoints(u, v, cellU, cellV);
+      this.childRules(u, v, cellU, cellV);
+      const fineI = this.childI[0]! + this.childI[1]! + this.childI[2]! + this.childI[3]!;
+      const fineA = this.childA[0]! + this.childA[1]! + this.childA[2]! + this.childA[3]!;
+      this.integralSum += fineI - q[at + 4]!;
+      this.areaSum += fineA - q[at + 5]!;
+      // Error of the finer sum: (coarse − fine)/(2^p − 1) for a rule of order p; p ≥ 1.5 near the
+      // square-root edges of singular boundaries and 2 elsewhere: half the difference.
+      q[at + 6] = 0.5 * Math.abs(fineI - q[at + 4]!);
+      q[at + 7] = 0.5 * Math.abs(fineA - q[at + 5]!);
+      for (let c = 0; c < 4; c++) {
+        q[at + 8 + c] = this.childI[c]!;
+        q[at + 12 + c] = this.childA[c]!;
+      }
+      for (let k = 0; k < LEVEL; k++) q[at + 16 + k] = this.levels[k]!;
+      this.key[r] = Math.max(q[at + 6]! / targetI, q[at + 7]! / targetA);
+      this.order[tested++] = r;
+    }
+    return tested;
+  }
+
+  /** Queues the four children of the tested cell at record offset `at` for the next level. */
+  private split(at: number, next: number): number {
+    const q = this.queue;
+    for (let k = 0; k < LEVEL; k++) this.levels[k] = q[at + 16 + k]!;
+    const u = q[at]!, v = q[at + 1]!;
+    const hu2 = q[at + 2]! / 2;
+    const hv2 = q[at + 3]! / 2;
+    const shareI = q[at + 6]! / 4;
+    const shareA = q[at + 7]! / 4;
+    for (let c = 0; c < 4; c++) {
+      const ci = c & 1;
+      const cj = c >> 1;
+      for (let corner = 0; corner < 4; corner++) {
+        const from = ((cj + (corner >> 1)) * 3 + ci + (corner & 1)) * STRIDE;
+        const to = LEVEL + ((corner >> 1) * 6 + (corner & 1) * 2) * STRIDE;
+        for (let k = 0; k < STRIDE; k++) this.levels[to + k] = this.levels[from + k]!;
+      }
+      next = this.enqueue(1, next, u + ci * hu2, v + cj * hv2, hu2, hv2, this.queue[at + 8 + c]!, this.queue[at + 12 + c]!, shareI, shareA, true);
+    }
+    return next;
+  }
+
+  /**
+   * Appends a cell whose corners are in block `block` (slots 0, 2, 6, 8) to the current queue, or to
+   * the next level's queue when `toNext`: u, v, hu, hv, its rule (2), its error or share of its
+   * parent's (2), its children's rules (8), its 3 × 3 block. Returns the new count of that queue.
+   */
+  private enqueue(block: number, count: number, u: number, v: number, hu: number, hv: number, ruleI: number, ruleA: number, shareI: number, shareA: number, toNext: boolean): number {
     let q = toNext ? this.nextQueue : this.queue;
     if ((count + 1) * RECORD > q.length) {
       const grown = new Float64Array(Math.max(2 * q.length, 64 * RECORD));
@@ -339,11 +388,9 @@ export class RegionQuadrature {
     }
     const at = count * RECORD;
     q[at] = u; q[at + 1] = v; q[at + 2] = hu; q[at + 3] = hv;
-    q[at + 4] = budgetI; q[at + 5] = budgetA; q[at + 6] = ruleI; q[at + 7] = ruleA;
-    q[at + 10] = shareI; q[at + 11] = shareA;
-    for (let k = 0; k < LEVEL; k++) q[at + 12 + k] = 0;
+    q[at + 4] = ruleI; q[at + 5] = ruleA; q[at + 6] = shareI; q[at + 7] = shareA;
     for (const slot of CORNER_SLOTS) {
-      for (let s = 0; s < STRIDE; s++) q[at + 12 + slot * STRIDE + s] = this.levels[block * LEVEL + slot * STRIDE + s]!;
+      for (let k = 0; k < STRIDE; k++) q[at + 16 + slot * STRIDE + k] = this.levels[block * LEVEL + slot * STRIDE + k]!;
     }
     return count + 1;
   }

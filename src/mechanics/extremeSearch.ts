@@ -6,9 +6,9 @@
  * halved. Points outside the region are projected onto it when the caller
  * gives a projection (task rectangles and discs), otherwise rejected (the usable workspace).
  *
- * Stopping, at a relative tolerance τ of the value: after a halving, when the last level improved the
- * value by at most τ/4 of it and a parabola through the best point and its axis neighbours predicts
- * no larger gain; the larger of the two is the error estimate. Knows nothing about mechanisms.
+ * Stopping, at a relative tolerance τ of the value: after two halvings at least, when the last level
+ * improved the value by at most τ/4 of it and a parabola through the best point and its axis
+ * neighbours predicts no larger gain; the larger of the two is the error estimate. Knows nothing about mechanisms.
  */
 
 /** The function searched: value at (x, y), NaN when (x, y) is outside the region. */
@@ -60,7 +60,8 @@ export class ExtremeSearch {
           objective.project(px, py, this.at);
           px = this.at[0]!;
           py = this.at[1]!;
-          if (px === bx && py === by) {
+          // A projection back onto (or within rounding of) the current point is no neighbour.
+          if (Math.abs(px - bx) <= 1e-9 * s && Math.abs(py - by) <= 1e-9 * s) {
             this.axis[d] = Number.NaN;
             continue;
           }
@@ -86,7 +87,8 @@ export class ExtremeSearch {
       predicted = this.parabolicGain(best);
       lastGain = Math.abs(best - levelStart);
       const allowed = 0.25 * tolerance * Math.abs(best);
-      if ((s < step && lastGain <= allowed && predicted <= allowed) || s / 2 < minStep) break;
+      // At least two halvings: a first poll at the sample spacing may straddle a narrow rise.
+      if ((s <= step / 4 && lastGain <= allowed && predicted <= allowed) || s / 2 < minStep) break;
       levelStart = best;
       s /= 2;
     }

@@ -242,7 +242,7 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
     evaluation: '{ task_samples: 10 }',
   };
 
-  it('peak_gravity_torque is the largest |τ_g| over the task sample points (11 × 11 lattice, edges included)', () => {
+  it('peak_gravity_torque is the largest |τ_g| over the task region: at least the samples\' (11 × 11 lattice, edges included), within the tolerance of a dense lattice', () => {
     const { study, metrics } = evaluateParts(parts);
     expect(metric(metrics, 'task_coverage')).toBe(1);
     const model = modelOfStudy(study);
@@ -258,11 +258,12 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
       }
     }
     expect(peak1).toBeGreaterThan(0);
-    expect(Math.abs(metric(metrics, 'peak_gravity_torque_1') / peak1 - 1)).toBeLessThan(1e-12);
-    expect(Math.abs(metric(metrics, 'peak_gravity_torque_2') / peak2 - 1)).toBeLessThan(1e-12);
-    expect(metric(metrics, 'peak_gravity_torque')).toBe(Math.max(peak1, peak2));
-    // A 101 × 101 lattice contains those points, so its maximum is at least as large and, the field
-    // being smooth, not much larger (derived).
+    // The samples are points of the region: the region's peak is at least theirs.
+    expect(metric(metrics, 'peak_gravity_torque_1')).toBeGreaterThanOrEqual(peak1 * (1 - 1e-12));
+    expect(metric(metrics, 'peak_gravity_torque_2')).toBeGreaterThanOrEqual(peak2 * (1 - 1e-12));
+    expect(metric(metrics, 'peak_gravity_torque')).toBe(Math.max(metric(metrics, 'peak_gravity_torque_1'), metric(metrics, 'peak_gravity_torque_2')));
+    // A 101 × 101 lattice contains those points; the field being smooth, its maximum is within the
+    // study tolerance (0.5 %) of the region's (derived: spacing 1.6 mm).
     let densePeak = 0;
     for (let j = 0; j <= 100; j++) {
       for (let i = 0; i <= 100; i++) {
@@ -271,8 +272,8 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
         densePeak = Math.max(densePeak, Math.abs(pose.tauG1), Math.abs(pose.tauG2));
       }
     }
-    expect(densePeak).toBeGreaterThanOrEqual(metric(metrics, 'peak_gravity_torque'));
-    expect(metric(metrics, 'peak_gravity_torque')).toBeGreaterThan(0.97 * densePeak);
+    expect(Math.abs(metric(metrics, 'peak_gravity_torque') / densePeak - 1)).toBeLessThan(0.005);
+    expect(densePeak).toBeGreaterThanOrEqual(Math.max(peak1, peak2));
   });
 
   it('every other per-pose metric is the worst case over the task region: never better than over the samples, within the tolerance of a dense lattice (definitions in the README, "Metrics")', () => {

@@ -10,6 +10,8 @@ export {
   chooseDesign,
   evaluateDesign,
   probeDesign,
+  checkStudy,
+  studySummary,
   Evaluator,
   runOptimization,
   runSweep,
@@ -31,26 +33,16 @@ export type * from './study/types.js';
 export { parseQuantity, formatQuantity, UnitError, type QuantityKind } from './study/units.js';
 export { STUDY_TEMPLATE } from './study/template.js';
 
-// Five-bar engine
-export {
-  FiveBarPose,
-  PoseStatus,
-  solvePose,
-  poseDynamics,
-  forwardKinematics,
-  footprint,
-  WORKING_MODES,
-  type FiveBarModel,
-  type WorkingMode,
-  type AssemblyMode,
-  type JointRange,
-} from './mechanics/fivebar.js';
+// The five-bar (thin names on the one engine, see src/public/fiveBar.ts) and shared pose vocabulary
+export { FiveBarPose, solvePose, poseDynamics, forwardKinematics, footprint, buildFiveBarModel, type FiveBarModel } from './public/fiveBar.js';
+export { PoseStatus, WORKING_MODES, type WorkingMode, type AssemblyMode, type JointRange } from './core/pose.js';
 export { constraintDefinitions, taskSamples, type DesignEvaluation, type ConstraintDefinition } from './mechanics/evaluate.js';
 export { METRICS, metricInfo, type MetricInfo } from './mechanics/metrics.js';
-export { designFromValues, designToValues, resolveDesign, buildFiveBarModel, DesignError, type DesignVariable } from './mechanics/designSpace.js';
+export { designFromValues, designToValues, resolveDesign, DesignError, type DesignVariable } from './mechanics/designSpace.js';
 export { MarginGrid } from './mechanics/grid.js';
 export { probePose, type PoseReport } from './mechanics/probe.js';
 export type { EvaluationReport, ConstraintReport, DesignChoice } from './api/design.js';
+export type { StudyCheck, BaselineVerdict } from './api/studySummary.js';
 
 // Optimizer (generic; usable on its own)
 export * as optimizer from './optimizer/index.js';
@@ -100,3 +92,9 @@ export { probeArchitectureDesign } from './api/design.js';
 export { LoopsmithUserError } from './core/errors.js';
 export { candidateExport } from './export/candidate.js';
 export { renderArchitectureMap } from './report/architectureMap.js';
+
+// Drive trains: motor and gearbox catalogues, envelopes, checks along the cycle (docs/drives.md)
+export type { MotorSpec, GearboxSpec, LinearStageSpec, DriveTrain, TorqueSpeedCurve } from './drives/types.js';
+export { curveTorque, cornerEnvelopes, motorTorque, jointPeakEffortAtSpeed } from './drives/envelope.js';
+export { readMotors, readGearboxes, composeDrive } from './study/driveTrains.js';
+export { compareFormulations, type FormulationReport, type FormulationComparison } from './simulate/driveSimulation.js';

@@ -2,6 +2,7 @@
  * Programmatic API for single designs: baseline plus overrides, full evaluation report, one-pose probe,
  * study summary. The CLI commands `check`, `evaluate` and `probe` are thin wrappers over these.
  */
+import { staticSizingNote } from './driveNotes.js';
 import { DesignError, designFromValues, designToValues, designVariables, variableKind, type DesignVariable } from '../mechanics/designSpace.js';
 import { Evaluator, type DesignEvaluation } from '../mechanics/evaluate.js';
 import { METRICS } from '../mechanics/metrics.js';
@@ -164,7 +165,8 @@ export function evaluateDesign(study: Study, overrides: readonly string[] = []):
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const result = evaluator.evaluate(choice.design);
-  return { report: evaluationReport(evaluator, choice, result), warnings: choice.warnings };
+  const sizing = staticSizingNote(study);
+  return { report: evaluationReport(evaluator, choice, result), warnings: sizing ? [...choice.warnings, sizing] : choice.warnings };
 }
 
 /** Everything about one pose of one five-bar design, in the five-bar's report shape (a view of the one probe). */

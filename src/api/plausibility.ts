@@ -1,12 +1,12 @@
 /**
  * Checks that a valid study can lead anywhere: a task region that some design within the bounds can
- * reach, and joint limits that treat the two sides of a mirror-symmetric five-bar alike. They run at
+ * reach, and joint limits that treat the two sides of a mirror-symmetric five-bar or 2-PRR alike. They run at
  * study level through the public evaluation functions; the engine is not touched.
  */
 import { chooseDesign } from './design.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import { METRIC_NAMES } from '../mechanics/metrics.js';
-import type { JointRange } from '../mechanics/fivebar.js';
+import type { JointRange } from '../core/pose.js';
 import type { ParameterSpec, Study } from '../study/types.js';
 import { formatQuantity } from '../study/units.js';
 
@@ -94,23 +94,51 @@ export interface MirrorLimitWarning {
   readonly mirrored: JointRange;
 }
 
+/** How one actuator's range maps to its mirror image for an arm whose legs mirror each other. */
+interface MirrorRule {
+  readonly mirror: (r: JointRange) => JointRange;
+  readonly same: (a: JointRange, b: JointRange) => boolean;
+  readonly format: (v: number) => string;
+  /** The mirror line, in words. */
+  readonly axis: string;
+}
+
 /**
- * A five-bar whose legs mirror each other (rod and crank 2 tied to 1, pivots level, elbows on opposite
- * sides) but whose joint limits are the same numbers for both actuators: unless the range is symmetric
- * about the vertical, one side is clipped more than the other. Returns the warning with the baseline's
- * usable area both ways, or undefined.
+ * The mirror rule of a study whose second leg is tied to the first and mirrors it, or undefined:
+ * a five-bar with level pivots and elbows on opposite sides (θ → π − θ about the vertical between the
+ * pivots), or a 2-PRR with the sliders on opposite sides of P (x → −x about the rail origin; derived
+ * here: its rail is the line y = rail_height with origin x = 0, so the mirrored stroke of [a, b] is [−b, −a]).
  */
-export function mirrorLimitWarning(study: Study): MirrorLimitWarning | undefined {
-  if (study.members || study.architecture !== 'five-bar') return undefined;
+function mirrorRule(study: Study): MirrorRule | undefined {
   const g = study.geometry;
   const tied = (name: string, to: string): boolean => g[name]?.kind === 'tied' && (g[name] as { to: string }).to === to;
-  const rise = g['base_rise'];
-  const level = rise === undefined || (rise.kind === 'fixed' && rise.value === 0);
-  const oppositeElbows = study.workingModes.every((m) => m === '+-' || m === '-+');
+  const oppositeSides = study.workingModes.every((m) => m === '+-' || m === '-+');
+  if (study.members || !oppositeSides || !tied('rod_2', 'rod_1')) return undefined;
+  if (study.architecture === 'five-bar') {
+    const rise = g['base_rise'];
+    const level = rise === undefined || (rise.kind === 'fixed' && rise.value === 0);
+    if (!tied('crank_2', 'crank_1') || !level) return undefined;
+    return { mirror: mirroredRange, same: sameRangeModulo, format: deg, axis: 'the vertical' };
+  }
+  if (study.architecture === '2-prr') {
+    const same = (a: JointRange, b: JointRange): boolean => Math.abs(a.min - b.min) < 1e-12 && Math.abs(a.max - b.max) < 1e-12;
+    return { mirror: (r) => ({ min: -r.max, max: -r.min }), same, format: mm, axis: 'the rail origin (x = 0)' };
+  }
+  return undefined;
+}
+
+/**
+ * An arm whose legs mirror each other (see mirrorRule: a five-bar, or a 2-PRR) but whose joint limits
+ * are the same numbers for both actuators: unless the range is symmetric about the mirror line, one
+ * side is clipped more than the other. Returns the warning with the baseline's usable area both ways,
+ * or undefined.
+ */
+export function mirrorLimitWarning(study: Study): MirrorLimitWarning | undefined {
+  const rule = mirrorRule(study);
   const [first, second] = study.jointLimits;
-  if (!tied('crank_2', 'crank_1') || !tied('rod_2', 'rod_1') || !level || !oppositeElbows || !first || !second) return undefined;
-  if (!sameRangeModulo(first, second) || sameRangeModulo(mirroredRange(first), second)) return undefined;
-  const mirrored = mirroredRange(first);
+  if (!rule || !first || !second) return undefined;
+  if (!rule.same(first, second) || rule.same(rule.mirror(first), second)) return undefined;
+  const mirrored = rule.mirror(first);
   const areaIndex = METRIC_NAMES.indexOf('workspace_area');
   const area = (limits: readonly (JointRange | null)[]): number => {
     const choice = chooseDesign({ ...study, jointLimits: limits });
@@ -120,22 +148,24 @@ export function mirrorLimitWarning(study: Study): MirrorLimitWarning | undefined
   let areaAsGiven = Number.NaN;
   let areaMirrored = Number.NaN;
   try {
+    areaAsGiven = area([first, second]);
+    areaMirrored = area([first, mirrored]);
+    areas = `: on the baseline the usable workspace is ${areaAsGiven.toPrecision(3)} m² as given; with actuator 2 given the mirror image of actuator 1's range it would be ${areaMirrored.toPrecision(3)} m²`;
+    // Without limits (rails without strokes have no bounded workspace: then this part is left out).
     const free = area([null, null]);
     const onlyFirst = area([first, null]);
     const onlySecond = area([null, second]);
-    areaAsGiven = area([first, second]);
-    areaMirrored = area([first, mirrored]);
     const pct = (a: number): string => `${free > 0 ? (((free - a) / free) * 100).toFixed(0) : '?'} %`;
     areas =
       `: on the baseline, actuator 1's limit alone removes ${pct(onlyFirst)} of the usable workspace and actuator 2's alone ${pct(onlySecond)}; ` +
       `together ${pct(areaAsGiven)} (${areaAsGiven.toPrecision(3)} of ${free.toPrecision(3)} m²); with actuator 2 given the mirror image of actuator 1's range it would be ${areaMirrored.toPrecision(3)} m²`;
   } catch {
-    // A baseline that cannot be evaluated still gets the warning, without the areas.
+    // A baseline that cannot be evaluated still gets the warning, with what could be computed.
   }
   return {
     message:
-      `joint_limits: both actuators get ${deg(first.min)} … ${deg(first.max)}, but the arm is mirror-symmetric and that range is not symmetric about the vertical, so the two sides are clipped differently${areas}. ` +
-      `Give each actuator the range you mean, e.g. the mirror image for a symmetric arm: joint_limits: { actuator_1: { min: ${deg(first.min)}, max: ${deg(first.max)} }, actuator_2: { min: ${deg(mirrored.min)}, max: ${deg(mirrored.max)} } }`,
+      `joint_limits: both actuators get ${rule.format(first.min)} … ${rule.format(first.max)}, but the arm is mirror-symmetric and that range is not symmetric about ${rule.axis}, so the two sides are clipped differently${areas}. ` +
+      `Give each actuator the range you mean, e.g. the mirror image for a symmetric arm: joint_limits: { actuator_1: { min: ${rule.format(first.min)}, max: ${rule.format(first.max)} }, actuator_2: { min: ${rule.format(mirrored.min)}, max: ${rule.format(mirrored.max)} } }`,
     areaAsGiven,
     areaMirrored,
     mirrored,

@@ -562,13 +562,13 @@ export { determinant };
 
 /**
  * The cut-open chain of a legged model (PlanarArchitecture.cutOpenChain): its legs and the body at P,
- * payload included. Null when a leg is not a crank + rod or slider + rod leg (the strut is not described yet).
+ * payload included; every leg kind (crank + rod, slider + rod, strut) is described.
  */
 export function leggedCutOpenChain(model: LeggedModel): CutOpenChain | null {
-  if (model.legs.some((leg) => leg.name !== 'crank-rod' && leg.name !== 'slider-rod')) return null;
   return {
     legs: model.actuators.map((actuator, i) => ({
       actuator,
+      leg: model.legs[i]!.name,
       baseX: model.baseX[i]!,
       baseY: model.baseY[i]!,
       railX: model.railX[i]!,

@@ -13,6 +13,7 @@
  */
 import {
   buildLeggedModel,
+  leggedCutOpenChain,
   leggedFootprint,
   leggedForwardKinematics,
   leggedPoseDynamics,
@@ -60,6 +61,7 @@ export const rpr3: PlanarArchitecture<LeggedModel> = {
   reachableBox: leggedReachableBox,
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
+  cutOpenChain: leggedCutOpenChain,
   bodyTree: leggedBodyTree,
   bodyTreeJoints: leggedTreeJoints,
 };

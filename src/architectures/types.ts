@@ -256,6 +256,14 @@ export class ArchitecturePose {
 export interface CutOpenLeg {
   /** Revolute: crank turning about the pivot (q = θ); prismatic: slider along a rail (q = position along it). */
   readonly actuator: ActuatorKind;
+  /**
+   * Leg kind (default from `actuator`: crank + rod or slider + rod). 'strut': a housing hinged at the
+   * pivot (`base`) turning with the strut angle β and a tube sliding in it, q = strut length (m); then
+   * `proximalInertia` and `proximalFirstMoment` are the housing's about the pivot (kg·m², kg·m),
+   * `rodMass`/`rodInertia` the tube's, `rodComDistance` the tube's centre of mass measured from the
+   * distal pin back towards the pivot (m), and `crank`, `rod`, `railX`, `railY` are unused.
+   */
+  readonly leg?: 'crank-rod' | 'slider-rod' | 'strut';
   /** Pivot A (revolute) or rail origin O (prismatic), m; rail unit vector (prismatic; unused for revolute). */
   readonly baseX: number;
   readonly baseY: number;
@@ -392,7 +400,7 @@ export interface PlanarArchitecture<TModel extends ArchitectureModelBase = Archi
   movingMass(model: TModel): number;
   /**
    * The design's bodies as the cut-open chain of forward simulation (src/simulate), or null/absent
-   * when the architecture's legs are not revolute-crank or prismatic-slider legs with a rod.
+   * when the architecture does not describe its bodies that way.
    */
   cutOpenChain?(model: TModel): CutOpenChain | null;
   /** The design as a tree of rigid bodies plus loop-closing pins (see BodyTree). */

@@ -2,7 +2,7 @@
 import type { Argv } from 'yargs';
 import { positiveInteger } from './argChecks.js';
 import { ExportError } from '../export/candidate.js';
-import { EXPORT_FORMATS, exportCandidates, selectCandidates, type ExportFormat } from '../export/export.js';
+import { EXPORT_FORMATS, exportCandidates, exportCandidatesChecked, selectCandidates, type ExportFormat, type MjcfCheckSheet } from '../export/export.js';
 import { roundAndEvaluate, RoundingError, type RoundingResult } from '../run/roundDesigns.js';
 import { formatQuantity, parseQuantity } from '../study/units.js';
 import type { StoredEvaluation } from '../store/store.js';
@@ -37,6 +37,8 @@ export function registerExportCommands(cli: Argv): Argv {
         .option('out', { type: 'string', demandOption: true, describe: 'output folder (created when missing)' })
         .option('round', { type: 'string', describe: 'snap every length design variable to this step (e.g. 0.5mm), re-evaluate, store the rounded designs and export those' })
         .option('workers', { type: 'number', describe: 'worker threads for the re-evaluation of --round (default: available cores)' })
+        .option('verify', { type: 'boolean', describe: 'with --format mjcf: run each model in MuJoCo (npm package mujoco-js) against loopsmith\'s simulation on the duty cycle; writes candidate-<id>.check.json with the end-point error and loop gap (m); exit code 1 when a model misses 0.05 mm or 0.01 mm' })
+        .example('$0 export results/rail-sorter-2prr-cycle.db --front --format mjcf --verify --out models', 'MuJoCo models, each checked in motion against loopsmith\'s simulation')
         .example('$0 export results/parcel-sorter.db --front --round 0.5mm --format json --out sheets', 'buildable lengths: rounded, re-evaluated, stored, exported, with what changed')
         .conflicts('front', 'ids')
         .example('$0 export results/parcel-sorter.db --front --format csv --out results/front', 'the front as one CSV table'),
@@ -49,19 +51,26 @@ export function registerExportCommands(cli: Argv): Argv {
         ids = [...new Set(rounding.flatMap((r) => r.designs.map((d) => d.roundedId)))];
       }
       // ExportError is a user error for the command line (main.ts): one message, exit code 1.
-      const result = exportCandidates(args.db, {
+      const options = {
         format: args.format as ExportFormat,
         outDir: args.out,
         ...(args.front === true && !rounding ? { front: true } : {}),
         ...(ids !== undefined ? { ids } : {}),
         ...(args.run !== undefined && !rounding ? { runId: args.run } : {}),
-      });
+      };
+      const checked = args.verify === true ? await exportCandidatesChecked(args.db, options) : null;
+      const result = checked ?? exportCandidates(args.db, options);
       if (rounding) out(roundingReport(rounding));
       out(
         `exported ${result.sheets.length} candidate${result.sheets.length === 1 ? '' : 's'} (${result.sheets.map((s) => s.id).join(', ')}) as ${args.format}:\n` +
           result.files.map((f) => `  ${f}`).join('\n') +
           '\nEarly-design estimates from simplified models, not a safety analysis.',
       );
+      if (checked) {
+        out(checkReport(checked.checks));
+        const failed = checked.checks.filter((c) => !c.passed);
+        if (failed.length > 0) throw new ExportError(`the MuJoCo model of candidate ${failed.map((c) => c.id).join(', ')} does not follow loopsmith's simulation within 0.05 mm (end point) and 0.01 mm (loop gap); see the .check.json files`);
+      }
     },
   );
 }
@@ -115,6 +124,17 @@ function roundingReport(results: readonly RoundingResult[]): string {
       const broken = d.brokenConstraints.length > 0 ? ` (violates ${d.brokenConstraints.map((c) => `${c.name}, margin ${c.margin.toFixed(4)}`).join('; ')})` : '';
       lines.push(`  design ${d.sourceId} → ${d.roundedId}: ${variables}; ${objectives}; ${feasibility}${broken}`);
     }
+  }
+  return lines.join('\n');
+}
+
+/** The MuJoCo check of each model as a table (end-point error and loop gap in mm). */
+function checkReport(checks: readonly MjcfCheckSheet[]): string {
+  const mm = (v: number): string => (v * 1000).toExponential(2);
+  const lines = [`MuJoCo check in motion (${checks[0]?.settings.integrator ?? ''}, ${checks[0] ? checks[0].settings.timestep * 1000 : ''} ms step; bounds 0.05 mm end point, 0.01 mm loop gap):`];
+  for (const c of checks) {
+    const runs = c.runs.map((r) => `${r.name} ${mm(r.endPointError)} mm / gap ${mm(r.loopGap)} mm over ${r.duration.toFixed(3)} s`).join('; ');
+    lines.push(`  candidate ${c.id} (${c.motion}): ${runs}; ${c.passed ? 'ok' : 'FAILED'} (${c.simulatedTimePerWallSecond.toFixed(2)} simulated s per wall s)`);
   }
   return lines.join('\n');
 }

@@ -7,6 +7,8 @@ import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup 
 import { writeSimulationOutputs } from '../simulate/plots.js';
 import { formatValue, table, toJson } from './format.js';
 import { checkOverrides } from './argChecks.js';
+import { variableKind } from '../mechanics/designSpace.js';
+import { compareFormulations, driveHooksOf, driveSimulationJson, driveSimulationLines, epsilonList, formulationReportLines } from '../simulate/driveSimulation.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -38,7 +40,7 @@ export function simulationJson(setup: StudySimulationSetup, summary: SimulationS
 
 function summaryText(setup: StudySimulationSetup, result: SimulationResult): string {
   const s = result.summary;
-  const design = Object.entries(setup.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, 'length') : v}`).join(', ');
+  const design = Object.entries(setup.design).map(([k, v]) => `${k} ${typeof v === 'number' ? formatValue(v, variableKind(setup.study, k)) : v}`).join(', ');
   const lines = [
     `${setup.study.name} — design: ${design || '(no design variables)'}`,
     `controller: ${s.controller}${s.controller === 'none' ? '' : ` (natural frequency ${s.naturalFrequency} Hz, damping ratio ${s.dampingRatio})`}; simulated ${formatValue(s.duration, 'time')} (cycle ${formatValue(setup.cycleTime, 'time')})${s.extraEndMass > 0 ? `; plant carries ${formatValue(s.extraEndMass, 'mass')} the controller does not know` : ''}`,
@@ -53,13 +55,13 @@ function summaryText(setup: StudySimulationSetup, result: SimulationResult): str
     const speed: QuantityKind = slider ? 'speed' : 'angularSpeed';
     return [
       `joint ${i + 1}`,
-      `${(j.maxTrackingError * 1000).toPrecision(3)}${slider ? ' mm' : ''}`,
+      `${(j.maxTrackingError * 1000).toPrecision(3)} ${slider ? 'mm' : 'mrad'}`,
       formatValue(j.peakTorque, effort), limit(j.peakTorqueLimit, effort), ok(j.withinPeakTorque),
       formatValue(j.rmsTorque, effort), limit(j.ratedTorqueLimit, effort), ok(j.withinRatedTorque),
       formatValue(j.peakSpeed, speed), limit(j.speedLimit, speed), ok(j.withinSpeed),
     ];
   });
-  lines.push(table(['joint', 'max |e| (mrad)', 'peak τ', 'limit', 'ok', 'RMS τ', 'rated', 'ok', 'peak speed', 'limit', 'ok'], rows));
+  lines.push(table(['joint', 'max |e|', 'peak τ', 'limit', 'ok', 'RMS τ', 'rated', 'ok', 'peak speed', 'limit', 'ok'], rows));
   lines.push(
     '',
     `max end-point tracking error: ${formatValue(s.maxEndPointError, 'length')}`,
@@ -87,6 +89,11 @@ export function registerSimulateCommands(cli: Argv): Argv {
         .option('interval', { type: 'string', describe: 'spacing of the recorded samples (default 1 ms)' })
         .option('out', { type: 'string', describe: 'folder for the charts (SVG and PNG), timeseries.csv and summary.json' })
         .option('json', { type: 'boolean', default: false, describe: 'print the summary as JSON' })
+        .option('formulation', { type: 'string', choices: ['stabilised', 'perturbed'], default: 'stabilised', describe: 'how the loops are held closed: Lagrange multipliers with Baumgarte stabilisation, or the singularly perturbed closure with time constant --epsilon (docs/drives.md)' })
+        .option('epsilon', { type: 'string', describe: 'time constant ε of the perturbed closure (default 0.01 s), e.g. 5ms' })
+        .option('saturate', { type: 'boolean', default: false, describe: 'clip the drive efforts at the drives\' torque–speed envelopes (the tracking error shows the cost)' })
+        .option('compare-epsilon', { type: 'string', describe: 'also run the perturbed closure at these ε (s, comma-separated, e.g. 0.01,0.003,0.001) and report the difference to the stabilised run' })
+        .example('$0 simulate studies/parcel-sorter-drivetrains.yaml --formulation perturbed --epsilon 0.01', 'the singularly perturbed closure')
         .example('$0 simulate studies/parcel-sorter-cycle.yaml --extra-payload 0.2kg --out results/sim', 'track the duty cycle with an unmodelled payload'),
     async (args) => {
       const loaded = loadStudyFile(args.study);
@@ -100,7 +107,11 @@ export function registerSimulateCommands(cli: Argv): Argv {
       if (extraEndMass !== undefined && !(extraEndMass >= 0)) throw new SimulationError('--extra-payload must be zero or positive');
       if (interval !== undefined && !(interval > 0)) throw new SimulationError('--interval must be positive');
       checkOverrides(loaded.study, asStrings(args.set));
+      const epsilon = optionQuantity(args.epsilon, 'time', '--epsilon');
+      if (epsilon !== undefined && !(epsilon > 0 && epsilon <= 1)) throw new SimulationError('--epsilon must be positive and at most 1 s');
+      const compareList = args['compare-epsilon'] ? epsilonList(args['compare-epsilon']) : null;
       const setup = prepareStudySimulation(loaded.study, asStrings(args.set));
+      const hooks = driveHooksOf(setup, args.formulation as 'stabilised' | 'perturbed', epsilon, args.saturate);
       setup.warnings.forEach((w) => process.stderr.write(`loopsmith: warning: ${w}\n`));
       const effectiveDuration = duration ?? setup.cycleTime;
       const effectiveInterval = interval ?? 1e-3;
@@ -113,14 +124,16 @@ export function registerSimulateCommands(cli: Argv): Argv {
         ...(frequency !== undefined ? { naturalFrequency: frequency } : {}),
         ...(args.damping !== undefined ? { dampingRatio: args.damping } : {}),
         ...(extraEndMass !== undefined ? { extraEndMass } : {}),
+        ...hooks,
       });
-      const json = toJson(simulationJson(setup, result.summary));
+      const json = toJson({ ...simulationJson(setup, result.summary), ...driveSimulationJson(setup, result, hooks) });
       const written = args.out ? await writeSimulationOutputs(args.out, result, setup.limits, setup.study.name, json) : [];
       if (args.json) {
         out(json);
         return;
       }
-      out(summaryText(setup, result));
+      out([summaryText(setup, result), ...driveSimulationLines(setup, result, hooks)].join('\n'));
+      if (compareList) out(formulationReportLines(compareFormulations(setup, { controller: args.controller as ControllerKind, friction: args.friction, ...(frequency !== undefined ? { naturalFrequency: frequency } : {}) }, compareList)).join('\n'));
       if (written.length > 0) out(`\nwrote ${written.length} files to ${args.out}: ${written.map((p) => p.slice(args.out!.length).replace(/^[\\/]/, '')).join(', ')}`);
     },
   );

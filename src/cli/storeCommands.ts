@@ -1,27 +1,26 @@
 /** Commands that run studies and read the store: run, sweep, runs, front, query. */
-import { existsSync, rmSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import { basename, extname, join } from 'node:path';
 import cliProgress from 'cli-progress';
 import type { Argv } from 'yargs';
 import { METRICS } from '../mechanics/metrics.js';
 import { runFront } from '../run/front.js';
 import { analyseFront, type StoredFrontAnalysis } from '../run/frontTools.js';
-import { runOptimization, type GenerationProgress, type RunSummary } from '../run/optimize.js';
+import { runOptimization, type GenerationProgress } from '../run/optimize.js';
 import { runSweep } from '../run/sweep.js';
 import { rescoreRun } from '../run/rescore.js';
 import { parseVariation, sensitivity } from '../run/sensitivity.js';
 import { queryEvaluations } from '../store/query.js';
-import { runState, Store, StoreError, type RunRow, type RunState } from '../store/store.js';
+import { runState, Store, StoreError, type RunRow } from '../store/store.js';
 import { toCsv } from '../store/format.js';
-import { constraintDefinitions } from '../mechanics/evaluate.js';
-import type { Study } from '../study/types.js';
 import type { QuantityKind } from '../study/units.js';
 import { betterDirection, chooseColumns, csvHeader, describeColumn, displayCell, emptyColumns, parseSort, sortRows } from './columns.js';
 import { commandLine, programName, resumableCommand } from './invocation.js';
-import { loadStudyFile, parseStudyText, StudyError } from '../study/parse.js';
+import { loadStudyFile, StudyError } from '../study/parse.js';
 import { unreachableTaskProblems } from '../api/plausibility.js';
 import { formatMetric, formatValue, studyActuators, table, toJson, variableKind } from './format.js';
 import { integerOption, positiveInteger } from './argChecks.js';
+import { fmtTime, formatImprovement, hypervolumeTrajectory, latestStudy, noFeasibleText, removeEmptyStore, runNote, runStandingLines, runSummaryText } from '../api/runText.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -42,12 +41,6 @@ function interruptFlag(quiet: boolean): { stop: () => boolean; dispose: () => vo
   process.on('SIGINT', handler);
   process.on('SIGTERM', handler);
   return { stop: () => requested, dispose: () => { process.off('SIGINT', handler); process.off('SIGTERM', handler); } };
-}
-
-function fmtTime(seconds: number): string {
-  if (!Number.isFinite(seconds) || seconds < 0) return '—';
-  if (seconds < 60) return `${seconds.toFixed(0)} s`;
-  return `${Math.floor(seconds / 60)} min ${Math.round(seconds % 60)} s`;
 }
 
 /** Progress reporter: a bar on a terminal, a plain line every few seconds otherwise, nothing when quiet. */
@@ -89,354 +82,376 @@ function progressReporter(quiet: boolean, label: string) {
 const positiveInt = (name: string, minimum = 1) => positiveInteger(name, minimum);
 
 export function registerStoreCommands(cli: Argv): Argv {
-  return cli
-    .command(
-      'run <study>',
-      'optimize: NSGA-II over the design space into SQLite (resumes an unfinished run)',
-      (y) =>
-        y
-          .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
-          .option('db', { type: 'string', describe: 'database file (default results/<study>.db)' })
-          .option('seed', { type: 'string', describe: 'random seed, a whole number (default: the study\'s optimizer.seed)', coerce: integerOption('seed') })
-          .option('workers', { type: 'number', describe: 'worker threads (default: available cores)', coerce: positiveInt('workers') })
-          .option('generations', { type: 'number', describe: 'generations in all, the initial population included', coerce: positiveInt('generations') })
-          .option('population', { type: 'number', describe: 'designs per generation, at least 2 (default: the study\'s optimizer.population)', coerce: positiveInt('population', 2) })
-          .option('from', { type: 'string', describe: 'warm start from the final population of DB[:RUN]' })
-          .option('more', { type: 'string', describe: 'continue the finished run of this study and seed: N more generations, or "converge" (until the front stops improving again)', coerce: moreOption })
-          .option('run', { type: 'number', describe: 'with --more: the run to continue (default: the newest one)', coerce: positiveInt('run') })
-          .option('quiet', { type: 'boolean', default: false, describe: 'no progress and no summary (errors are still printed)' })
-          .check((a) => {
-            if (a.more !== undefined && a.generations !== undefined) throw usageError('--more and --generations do not go together: --more N adds N generations to a finished run');
-            if (a.more !== undefined && a.from !== undefined) throw usageError('--more continues a finished run; --from starts a new one: give one of them');
-            if (a.run !== undefined && a.more === undefined) throw usageError('--run only goes with --more (the run to continue)');
-            return true;
-          })
-          .example('$0 run studies/parcel-sorter.yaml', 'optimize until the front stops improving (or 10,000 evaluations)')
-          .example('$0 run studies/parcel-sorter.yaml --more 20', 'continue the finished run for 20 more generations')
-          .example('$0 run studies/parcel-sorter.yaml --more converge', 'continue it until the front stops improving again')
-          .example('$0 run studies/parcel-sorter.yaml --db trial.db --generations 10 --seed 3', 'a short trial run with another seed'),
-      async (args) => {
-        const loaded = loadStudyFile(args.study);
-        const problems = unreachableTaskProblems(loaded.study);
-        if (problems.length > 0) throw new StudyError(`${args.study}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
-        const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
-        const existed = existsSync(dbPath);
-        const interrupt = interruptFlag(args.quiet);
-        const progress = progressReporter(args.quiet, 'generation');
-        try {
-          const summary = await runOptimization(loaded, {
-            dbPath,
-            command: resumableCommand(),
-            ...(args.seed !== undefined ? { seed: args.seed } : {}),
-            ...(args.workers !== undefined ? { workers: args.workers } : {}),
-            ...(args.generations !== undefined ? { generations: args.generations } : {}),
-            ...(args.population !== undefined ? { population: args.population } : {}),
-            ...(args.from !== undefined ? { warmStart: parseFrom(args.from) } : {}),
-            ...(args.more !== undefined ? { more: args.more } : {}),
-            ...(args.run !== undefined ? { runId: args.run } : {}),
-            shouldStop: interrupt.stop,
-            onGeneration: (p: GenerationProgress) =>
-              progress.update(p.generation + 1, p.generations, {
-                rate: p.evaluationsPerSecond,
-                // The population's hypervolume is provisional (its frame is fixed at the end); the archive's gain over the window is what decides convergence.
-                hv: `${p.hypervolume === null ? '—' : `${p.hypervolume.toFixed(4)} (provisional)`}, front gain ${p.hvImprovement === null ? '—' : formatImprovement(p.hvImprovement)} per window${p.phase === 'refine' ? ', refining' : ''}`,
-                feasible: p.feasibleCount,
-                elapsed: p.elapsedSeconds,
-              }),
-          });
-          progress.stop();
-          const front = runFront(dbPath, summary.runId);
-          if (!args.quiet) {
-            const trajectory = hypervolumeTrajectory(dbPath, summary.runId);
-            const standing = runStandingLines({ ...summary, trajectory }, continueCommand(args.study, dbPath, args.db !== undefined, summary.runId, args.seed, args.population));
-            out(runSummaryText(dbPath, summary, front.designs.length, args.more !== undefined, standing));
-          }
-          if (front.designs.length === 0) process.stderr.write(noFeasibleText(dbPath, summary.runId, loaded.study));
-          if (summary.status === 'stopped') process.exitCode = 130;
-        } catch (error) {
-          removeEmptyStore(dbPath, existed);
-          throw error;
-        } finally {
-          progress.stop();
-          interrupt.dispose();
-        }
-      },
-    )
-    .command(
-      'sweep <study>',
-      'evaluate a space-filling sample of the design space into SQLite',
-      (y) =>
-        y
-          .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
-          .option('samples', { type: 'number', demandOption: true, coerce: positiveInt('samples'), describe: 'number of designs to evaluate' })
-          .option('method', { choices: ['lhs', 'grid'] as const, default: 'lhs' as const, describe: 'lhs: Latin hypercube; grid: a full factorial grid of about that many points' })
-          .option('db', { type: 'string', describe: 'database file (default results/<study>.db)' })
-          .option('seed', { type: 'string', describe: 'random seed of the sample, a whole number (default: the study\'s optimizer.seed)', coerce: integerOption('seed') })
-          .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
-          .option('quiet', { type: 'boolean', default: false, describe: 'no progress and no summary' })
-          .example('$0 sweep studies/parcel-sorter.yaml --samples 2000', 'a design atlas of 2000 Latin-hypercube designs'),
-      async (args) => {
-        const loaded = loadStudyFile(args.study);
-        const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
-        const existed = existsSync(dbPath);
-        const interrupt = interruptFlag(args.quiet);
-        const progress = progressReporter(args.quiet, 'designs');
-        try {
-          const result = await runSweep(loaded, {
-            dbPath,
-            samples: args.samples!,
-            method: args.method,
-            ...(args.seed !== undefined ? { seed: args.seed } : {}),
-            ...(args.workers !== undefined ? { workers: args.workers } : {}),
-            shouldStop: interrupt.stop,
-            onChunk: (p) => progress.update(p.done, p.total, { rate: p.evaluationsPerSecond, hv: '—', feasible: p.feasible, elapsed: p.elapsedSeconds }),
-          });
-          progress.stop();
-          if (!args.quiet) out(`${result.status} sweep run ${result.runId}: ${result.evaluations} designs, ${result.feasible} feasible\ndatabase: ${dbPath}\nnext: ${commandLine(['front', dbPath])}`);
-        } catch (error) {
-          removeEmptyStore(dbPath, existed);
-          throw error;
-        } finally {
-          progress.stop();
-          interrupt.dispose();
-        }
-      },
-    )
-    .command(
-      'rescore <db>',
-      'rescore the designs of a run under a changed study (drives, margins, constraints, objectives)',
-      (y) =>
-        y
-          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
-          .option('study', { type: 'string', demandOption: true, describe: 'the changed study file' })
-          .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run to rescore (default: the latest)' })
-          .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
-          .option('json', { type: 'boolean', default: false, describe: 'print the outcome as JSON' })
-          .option('quiet', { type: 'boolean', default: false, describe: 'no progress bar' })
-          .example('$0 rescore results/parcel-sorter.db --study studies/parcel-sorter-drives.yaml', 'the stored designs under other drives'),
-      async (args) => {
-        openExisting(args.db).close();
-        const loaded = loadStudyFile(args.study);
-        const progress = progressReporter(args.quiet || args.json, 'designs');
-        const started = performance.now();
-        const result = await rescoreRun(loaded, {
-          dbPath: args.db,
-          ...(args.run !== undefined ? { runId: args.run } : {}),
+  const commands = [registerRunCommand, registerSweepCommand, registerRescoreCommand, registerSensitivityCommand, registerRunsCommand, registerFrontCommand, registerQueryCommand];
+  return commands.reduce((c, register) => register(c), cli);
+}
+
+export function registerRunCommand(cli: Argv): Argv {
+  return cli.command(
+    'run <study>',
+    'optimize: NSGA-II over the design space into SQLite (resumes an unfinished run)',
+    (y) =>
+      y
+        .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
+        .option('db', { type: 'string', describe: 'database file (default results/<study>.db)' })
+        .option('seed', { type: 'string', describe: 'random seed, a whole number (default: the study\'s optimizer.seed)', coerce: integerOption('seed') })
+        .option('workers', { type: 'number', describe: 'worker threads (default: available cores)', coerce: positiveInt('workers') })
+        .option('generations', { type: 'number', describe: 'generations in all, the initial population included', coerce: positiveInt('generations') })
+        .option('population', { type: 'number', describe: 'designs per generation, at least 2 (default: the study\'s optimizer.population)', coerce: positiveInt('population', 2) })
+        .option('from', { type: 'string', describe: 'warm start from the final population of DB[:RUN]' })
+        .option('more', { type: 'string', describe: 'continue the finished run of this study and seed: N more generations, or "converge" (until the front stops improving again)', coerce: moreOption })
+        .option('run', { type: 'number', describe: 'with --more: the run to continue (default: the newest one)', coerce: positiveInt('run') })
+        .option('quiet', { type: 'boolean', default: false, describe: 'no progress and no summary (errors are still printed)' })
+        .check((a) => {
+          if (a.more !== undefined && a.generations !== undefined) throw usageError('--more and --generations do not go together: --more N adds N generations to a finished run');
+          if (a.more !== undefined && a.from !== undefined) throw usageError('--more continues a finished run; --from starts a new one: give one of them');
+          if (a.run !== undefined && a.more === undefined) throw usageError('--run only goes with --more (the run to continue)');
+          return true;
+        })
+        .example('$0 run studies/parcel-sorter.yaml', 'optimize until the front stops improving (or 10,000 evaluations)')
+        .example('$0 run studies/parcel-sorter.yaml --more 20', 'continue the finished run for 20 more generations')
+        .example('$0 run studies/parcel-sorter.yaml --more converge', 'continue it until the front stops improving again')
+        .example('$0 run studies/parcel-sorter.yaml --db trial.db --generations 10 --seed 3', 'a short trial run with another seed'),
+    async (args) => {
+      const loaded = loadStudyFile(args.study);
+      const problems = unreachableTaskProblems(loaded.study);
+      if (problems.length > 0) throw new StudyError(`${args.study}: the study cannot succeed:\n  - ${problems.join('\n  - ')}`);
+      const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
+      const existed = existsSync(dbPath);
+      const interrupt = interruptFlag(args.quiet);
+      const progress = progressReporter(args.quiet, 'generation');
+      try {
+        const summary = await runOptimization(loaded, {
+          dbPath,
+          command: resumableCommand(),
+          ...(args.seed !== undefined ? { seed: args.seed } : {}),
           ...(args.workers !== undefined ? { workers: args.workers } : {}),
-          onProgress: (done, total) => progress.update(done, total, { rate: done / ((performance.now() - started) / 1000), hv: '—', feasible: 0, elapsed: (performance.now() - started) / 1000 }),
+          ...(args.generations !== undefined ? { generations: args.generations } : {}),
+          ...(args.population !== undefined ? { population: args.population } : {}),
+          ...(args.from !== undefined ? { warmStart: parseFrom(args.from) } : {}),
+          ...(args.more !== undefined ? { more: args.more } : {}),
+          ...(args.run !== undefined ? { runId: args.run } : {}),
+          shouldStop: interrupt.stop,
+          onGeneration: (p: GenerationProgress) =>
+            progress.update(p.generation + 1, p.generations, {
+              rate: p.evaluationsPerSecond,
+              // The population's hypervolume is provisional (its frame is fixed at the end); the archive's gain over the window is what decides convergence.
+              hv: `${p.hypervolume === null ? '—' : `${p.hypervolume.toFixed(4)} (provisional)`}, front gain ${p.hvImprovement === null ? '—' : formatImprovement(p.hvImprovement)} per window${p.phase === 'refine' ? ', refining' : ''}`,
+              feasible: p.feasibleCount,
+              elapsed: p.elapsedSeconds,
+            }),
         });
         progress.stop();
-        if (args.json) {
-          const brief = (e: { id: number; variables: unknown; metrics: unknown }) => ({ id: e.id, variables: e.variables, metrics: e.metrics });
-          out(toJson({ run: result.runId, from: result.parentRunId, mode: result.mode, designs: result.designs, evaluated: result.evaluated, feasible: result.feasible, front: result.front.map(brief), left: result.left.map(brief), joined: result.joined.map(brief), constraints: result.constraints }));
-          return;
+        const front = runFront(dbPath, summary.runId);
+        if (!args.quiet) {
+          const trajectory = hypervolumeTrajectory(dbPath, summary.runId);
+          const standing = runStandingLines({ ...summary, trajectory }, continueCommand(args.study, dbPath, args.db !== undefined, summary.runId, args.seed, args.population));
+          out(runSummaryText(dbPath, summary, front.designs.length, args.more !== undefined, standing, commandLine(['front', dbPath])));
         }
-        const modeText = { cached: 'nothing to recompute (same evaluation settings)', 'per-pose': 'per-pose metrics recomputed, workspace reused', full: 'full evaluation' }[result.mode];
-        const lines = [
-          `rescore run ${result.runId} of run ${result.parentRunId}: ${result.designs} designs, ${result.evaluated} evaluated (${modeText}), ${result.feasible} feasible`,
-          `front: ${result.front.length} designs; ${result.left.length} left the front, ${result.joined.length} joined`,
-        ];
-        const binding = result.constraints.filter((c) => c.violatedByOldFront > 0 || c.activeOnNewFront > 0);
-        if (binding.length > 0) {
-          lines.push('', table(['constraint', 'old-front designs now violating', 'new-front designs within 1 %'], binding.map((c) => [c.name, String(c.violatedByOldFront), String(c.activeOnNewFront)])));
-        }
-        lines.push('', `see the new front: loopsmith front ${args.db} --run ${result.runId}`);
-        out(lines.join('\n'));
-      },
-    )
-    .command(
-      'sensitivity <db>',
-      'do the front\'s representatives stay non-dominated when a study assumption changes by ± a percentage?',
-      (y) =>
-        y
-          .positional('db', { type: 'string', demandOption: true })
-          .option('vary', { type: 'string', array: true, demandOption: true, describe: 'NAME=±PERCENT; NAME is payload, joint_stiffness, rated_torque, peak_torque, min_inverse_condition or a path in the study file (drives.both.joint_stiffness, constraints.1.min)' })
-          .option('run', { type: 'number', describe: 'run whose front is tested (default: the latest)' })
-          .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'representatives to follow (default 4)' })
-          .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
-          .option('json', { type: 'boolean', default: false, describe: 'print the outcome as JSON' })
-          .example('$0 sensitivity results/parcel-sorter.db --vary payload=20% --vary joint_stiffness=30%', 'payload ±20 %, drive stiffness ±30 %')
-          .example('$0 sensitivity results/parcel-sorter.db --vary constraints.1.min=10%', 'a constraint threshold ±10 %'),
-      async (args) => {
-        openExisting(args.db).close();
-        const variations = args.vary.map((v) => parseVariation(String(v)));
-        const result = await sensitivity({
-          dbPath: args.db,
-          variations,
-          ...(args.run !== undefined ? { runId: args.run } : {}),
-          ...(args.representatives !== undefined ? { representatives: args.representatives } : {}),
+        if (front.designs.length === 0) process.stderr.write(noFeasibleText(dbPath, summary.runId, loaded.study));
+        if (summary.status === 'stopped') process.exitCode = 130;
+      } catch (error) {
+        removeEmptyStore(dbPath, existed);
+        throw error;
+      } finally {
+        progress.stop();
+        interrupt.dispose();
+      }
+    },
+  );
+}
+
+export function registerSweepCommand(cli: Argv): Argv {
+  return cli.command(
+    'sweep <study>',
+    'evaluate a space-filling sample of the design space into SQLite',
+    (y) =>
+      y
+        .positional('study', { type: 'string', demandOption: true, describe: 'study file (YAML)' })
+        .option('samples', { type: 'number', demandOption: true, coerce: positiveInt('samples'), describe: 'number of designs to evaluate' })
+        .option('method', { choices: ['lhs', 'grid'] as const, default: 'lhs' as const, describe: 'lhs: Latin hypercube; grid: a full factorial grid of about that many points' })
+        .option('db', { type: 'string', describe: 'database file (default results/<study>.db)' })
+        .option('seed', { type: 'string', describe: 'random seed of the sample, a whole number (default: the study\'s optimizer.seed)', coerce: integerOption('seed') })
+        .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
+        .option('quiet', { type: 'boolean', default: false, describe: 'no progress and no summary' })
+        .example('$0 sweep studies/parcel-sorter.yaml --samples 2000', 'a design atlas of 2000 Latin-hypercube designs'),
+    async (args) => {
+      const loaded = loadStudyFile(args.study);
+      const dbPath = args.db ?? defaultDb(args.study, loaded.study.name);
+      const existed = existsSync(dbPath);
+      const interrupt = interruptFlag(args.quiet);
+      const progress = progressReporter(args.quiet, 'designs');
+      try {
+        const result = await runSweep(loaded, {
+          dbPath,
+          samples: args.samples!,
+          method: args.method,
+          ...(args.seed !== undefined ? { seed: args.seed } : {}),
           ...(args.workers !== undefined ? { workers: args.workers } : {}),
-          onCase: (done, total) => { if (!args.json) process.stderr.write(`rescored ${done} of ${total} changes\n`); },
+          shouldStop: interrupt.stop,
+          onChunk: (p) => progress.update(p.done, p.total, { rate: p.evaluationsPerSecond, hv: '—', feasible: p.feasible, elapsed: p.elapsedSeconds }),
         });
+        progress.stop();
+        if (!args.quiet) out(`${result.status} sweep run ${result.runId}: ${result.evaluations} designs, ${result.feasible} feasible\ndatabase: ${dbPath}\nnext: ${commandLine(['front', dbPath])}`);
+      } catch (error) {
+        removeEmptyStore(dbPath, existed);
+        throw error;
+      } finally {
+        progress.stop();
+        interrupt.dispose();
+      }
+    },
+  );
+}
+
+export function registerRescoreCommand(cli: Argv): Argv {
+  return cli.command(
+    'rescore <db>',
+    'rescore the designs of a run under a changed study (drives, margins, constraints, objectives)',
+    (y) =>
+      y
+        .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
+        .option('study', { type: 'string', demandOption: true, describe: 'the changed study file' })
+        .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run to rescore (default: the latest)' })
+        .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
+        .option('json', { type: 'boolean', default: false, describe: 'print the outcome as JSON' })
+        .option('quiet', { type: 'boolean', default: false, describe: 'no progress bar' })
+        .example('$0 rescore results/parcel-sorter.db --study studies/parcel-sorter-drives.yaml', 'the stored designs under other drives'),
+    async (args) => {
+      openExisting(args.db).close();
+      const loaded = loadStudyFile(args.study);
+      const progress = progressReporter(args.quiet || args.json, 'designs');
+      const started = performance.now();
+      const result = await rescoreRun(loaded, {
+        dbPath: args.db,
+        ...(args.run !== undefined ? { runId: args.run } : {}),
+        ...(args.workers !== undefined ? { workers: args.workers } : {}),
+        onProgress: (done, total) => progress.update(done, total, { rate: done / ((performance.now() - started) / 1000), hv: '—', feasible: 0, elapsed: (performance.now() - started) / 1000 }),
+      });
+      progress.stop();
+      if (args.json) {
+        const brief = (e: { id: number; variables: unknown; metrics: unknown }) => ({ id: e.id, variables: e.variables, metrics: e.metrics });
+        out(toJson({ run: result.runId, from: result.parentRunId, mode: result.mode, designs: result.designs, evaluated: result.evaluated, feasible: result.feasible, front: result.front.map(brief), left: result.left.map(brief), joined: result.joined.map(brief), constraints: result.constraints }));
+        return;
+      }
+      const modeText = { cached: 'nothing to recompute (same evaluation settings)', 'per-pose': 'per-pose metrics recomputed, workspace reused', full: 'full evaluation' }[result.mode];
+      const lines = [
+        `rescore run ${result.runId} of run ${result.parentRunId}: ${result.designs} designs, ${result.evaluated} evaluated (${modeText}), ${result.feasible} feasible`,
+        `front: ${result.front.length} designs; ${result.left.length} left the front, ${result.joined.length} joined`,
+      ];
+      const binding = result.constraints.filter((c) => c.violatedByOldFront > 0 || c.activeOnNewFront > 0);
+      if (binding.length > 0) {
+        lines.push('', table(['constraint', 'old-front designs now violating', 'new-front designs within 1 %'], binding.map((c) => [c.name, String(c.violatedByOldFront), String(c.activeOnNewFront)])));
+      }
+      lines.push('', `see the new front: loopsmith front ${args.db} --run ${result.runId}`);
+      out(lines.join('\n'));
+    },
+  );
+}
+
+export function registerSensitivityCommand(cli: Argv): Argv {
+  return cli.command(
+    'sensitivity <db>',
+    'do the front\'s representatives stay non-dominated when a study assumption changes by ± a percentage?',
+    (y) =>
+      y
+        .positional('db', { type: 'string', demandOption: true })
+        .option('vary', { type: 'string', array: true, demandOption: true, describe: 'NAME=±PERCENT; NAME is payload, joint_stiffness, rated_torque, peak_torque, min_inverse_condition or a path in the study file (drives.both.joint_stiffness, constraints.1.min)' })
+        .option('run', { type: 'number', describe: 'run whose front is tested (default: the latest)' })
+        .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'representatives to follow (default 4)' })
+        .option('workers', { type: 'number', coerce: positiveInt('workers'), describe: 'worker threads (default: available cores)' })
+        .option('json', { type: 'boolean', default: false, describe: 'print the outcome as JSON' })
+        .example('$0 sensitivity results/parcel-sorter.db --vary payload=20% --vary joint_stiffness=30%', 'payload ±20 %, drive stiffness ±30 %')
+        .example('$0 sensitivity results/parcel-sorter.db --vary constraints.1.min=10%', 'a constraint threshold ±10 %'),
+    async (args) => {
+      openExisting(args.db).close();
+      const variations = args.vary.map((v) => parseVariation(String(v)));
+      const result = await sensitivity({
+        dbPath: args.db,
+        variations,
+        ...(args.run !== undefined ? { runId: args.run } : {}),
+        ...(args.representatives !== undefined ? { representatives: args.representatives } : {}),
+        ...(args.workers !== undefined ? { workers: args.workers } : {}),
+        onCase: (done, total) => { if (!args.json) process.stderr.write(`rescored ${done} of ${total} changes\n`); },
+      });
+      if (args.json) {
+        out(toJson(result));
+        return;
+      }
+      const ids = result.representatives.map((r) => r.id);
+      const lines = [
+        `run ${result.runId}: ${result.frontSize} front designs rescored under each change; representatives ${result.representatives.map((r) => `${r.id} (${r.reasons.join(', ')})`).join('; ')}`,
+        '',
+        table(
+          ['assumption', 'change', 'value', 'front', ...ids.map((id) => `design ${id}`), 'rescore run'],
+          result.cases.map((c) => [c.path, `${c.change > 0 ? '+' : ''}${(100 * c.change).toFixed(0)} %`, `${c.from} → ${c.to}`, String(c.frontSize), ...ids.map((id) => c.representatives.find((x) => x.id === id)!.status), String(c.rescoreRunId)]),
+        ),
+        '',
+        result.robust.length > 0
+          ? `non-dominated under every change: ${result.robust.map((id) => `design ${id}`).join(', ')}`
+          : 'no representative stays non-dominated under every change',
+        'Early-design estimates from simplified models, not a safety analysis.',
+      ];
+      out(lines.join('\n'));
+    },
+  );
+}
+
+export function registerRunsCommand(cli: Argv): Argv {
+  return cli.command(
+    'runs <db>',
+    'list the runs in a database: state (running, interrupted, stopped, finished, failed), seed, generations, time',
+    (y) =>
+      y
+        .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
+        .option('json', { type: 'boolean', default: false, describe: 'print the runs as JSON' })
+        .example('$0 runs results/parcel-sorter.db', 'which runs the store holds and how to resume an interrupted one'),
+    (args) => {
+      const store = openExisting(args.db);
+      try {
+        const runs = store.listRuns();
+        const now = new Date();
         if (args.json) {
-          out(toJson(result));
+          out(toJson(runs.map(({ optimizerState: _state, ownerToken: _token, ...rest }) => ({ ...rest, state: runState(rest as RunRow, now), study: store.getStudy(rest.studyId)?.name }))));
           return;
         }
-        const ids = result.representatives.map((r) => r.id);
-        const lines = [
-          `run ${result.runId}: ${result.frontSize} front designs rescored under each change; representatives ${result.representatives.map((r) => `${r.id} (${r.reasons.join(', ')})`).join('; ')}`,
-          '',
+        if (runs.length === 0) {
+          out(`${args.db}: no runs yet (start one: ${programName()} run STUDY --db ${args.db})`);
+          return;
+        }
+        out(
           table(
-            ['assumption', 'change', 'value', 'front', ...ids.map((id) => `design ${id}`), 'rescore run'],
-            result.cases.map((c) => [c.path, `${c.change > 0 ? '+' : ''}${(100 * c.change).toFixed(0)} %`, `${c.from} → ${c.to}`, String(c.frontSize), ...ids.map((id) => c.representatives.find((x) => x.id === id)!.status), String(c.rescoreRunId)]),
+            ['run', 'study', 'kind', 'state', 'ended', 'seed', 'generations', 'last-window HV gain', 'workers', 'started', 'elapsed'],
+            runs.map((r) => {
+              const last = r.kind === 'optimize' ? store.generationStats(r.id).at(-1) : undefined;
+              const gain = last?.hvImprovement === null || last?.hvImprovement === undefined ? '—' : formatImprovement(last.hvImprovement);
+              return [String(r.id), store.getStudy(r.studyId)?.name ?? '?', r.kind, runState(r, now), r.endReason ?? '—', String(r.seed), String(r.generationsDone), gain, String(r.workers), r.startedAt.replace('T', ' ').replace(/\.\d+Z$/, 'Z'), fmtTime(r.elapsedSeconds)];
+            }),
           ),
-          '',
-          result.robust.length > 0
-            ? `non-dominated under every change: ${result.robust.map((id) => `design ${id}`).join(', ')}`
-            : 'no representative stays non-dominated under every change',
-          'Early-design estimates from simplified models, not a safety analysis.',
-        ];
-        out(lines.join('\n'));
-      },
-    )
-    .command(
-      'runs <db>',
-      'list the runs in a database: state (running, interrupted, stopped, finished, failed), seed, generations, time',
-      (y) =>
-        y
-          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
-          .option('json', { type: 'boolean', default: false, describe: 'print the runs as JSON' })
-          .example('$0 runs results/parcel-sorter.db', 'which runs the store holds and how to resume an interrupted one'),
-      (args) => {
-        const store = openExisting(args.db);
-        try {
-          const runs = store.listRuns();
-          const now = new Date();
-          if (args.json) {
-            out(toJson(runs.map(({ optimizerState: _state, ownerToken: _token, ...rest }) => ({ ...rest, state: runState(rest as RunRow, now), study: store.getStudy(rest.studyId)?.name }))));
-            return;
-          }
-          if (runs.length === 0) {
-            out(`${args.db}: no runs yet (start one: ${programName()} run STUDY --db ${args.db})`);
-            return;
-          }
-          out(
-            table(
-              ['run', 'study', 'kind', 'state', 'ended', 'seed', 'generations', 'last-window HV gain', 'workers', 'started', 'elapsed'],
-              runs.map((r) => {
-                const last = r.kind === 'optimize' ? store.generationStats(r.id).at(-1) : undefined;
-                const gain = last?.hvImprovement === null || last?.hvImprovement === undefined ? '—' : formatImprovement(last.hvImprovement);
-                return [String(r.id), store.getStudy(r.studyId)?.name ?? '?', r.kind, runState(r, now), r.endReason ?? '—', String(r.seed), String(r.generationsDone), gain, String(r.workers), r.startedAt.replace('T', ' ').replace(/\.\d+Z$/, 'Z'), fmtTime(r.elapsedSeconds)];
-              }),
-            ),
-          );
-          const notes = runs.flatMap((r) => runNote(r, runState(r, now)));
-          if (notes.length > 0) out('\n' + notes.join('\n'));
-        } finally {
-          store.close();
-        }
-      },
-    )
-    .command(
-      'front <db>',
-      'the feasible Pareto front of a run (default: the latest finished run)',
-      (y) =>
-        y
-          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
-          .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run id (default: the latest finished run; see loopsmith runs DB)' })
-          .option('sort', { type: 'string', describe: 'sort by a metric or variable, :asc or :desc (default on terminals: the first objective, best first)' })
-          .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'show at most N designs (after sorting)' })
-          .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default: id, design variables, objectives); names without prefix' })
-          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stable keys' })
-          .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'show K distinct designs: extremes and knees, then the farthest apart (normalised objective space)' })
-          .option('knees', { type: 'boolean', describe: 'list the knee designs (largest distance from the hyperplane through the extremes, Das 1999)' })
-          .option('redundancy', { type: 'boolean', describe: 'objectives that do not conflict on the front: correlations and principal components' })
-          .example('$0 front results/parcel-sorter.db --representatives 5', 'five genuinely different designs, with why each was chosen')
-          .example('$0 front results/parcel-sorter.db --sort bandwidth:desc --limit 10', 'the ten stiffest-dynamics designs of the latest finished run')
-          .example('$0 front results/parcel-sorter.db --format csv > front.csv', 'every metric, SI units, for a spreadsheet'),
-      (args) => {
-        requireDatabase(args.db);
-        const front = runFront(args.db, args.run);
-        if (args.representatives !== undefined || args.knees === true || args.redundancy === true) {
-          analysedFront(args, front);
-          return;
-        }
-        const designs = front.designs.map((d) => ({ id: d.id, ...d.variables, ...d.metrics } as Record<string, unknown>));
-        const variableNames = front.designs[0] ? Object.keys(front.designs[0].variables) : [];
-        const objectiveNames = front.objectives.map((o) => o.metric);
-        const metricNames = front.designs[0] ? Object.keys(front.designs[0].metrics) : METRICS.map((m) => m.name);
-        const keys = ['id', ...variableNames, ...metricNames];
-        const sort = args.sort !== undefined ? parseSort(args.sort, keys, betterDirection) : args.format === 'table' && objectiveNames[0] ? { key: objectiveNames[0], direction: front.objectives[0]!.sense === 'max' ? ('desc' as const) : ('asc' as const) } : undefined;
-        let rows = sort ? sortRows(designs, sort.key, sort.direction) : designs;
-        if (args.limit !== undefined) rows = rows.slice(0, args.limit);
-        const chosenIds = new Set(rows.map((r) => r['id']));
-        if (args.format === 'json') {
-          const byId = new Map(front.designs.map((d) => [d.id, d]));
-          out(toJson({ run: front.runId, objectives: front.objectives, designs: rows.map((r) => byId.get(r['id'] as number)!).filter((d) => chosenIds.has(d.id)).map((d) => ({ id: d.id, variables: d.variables, metrics: d.metrics, constraints: d.constraints })) }));
-          return;
-        }
-        const actuators = studyActuators(front.study, front.designs[0]?.variables);
-        const kindOf = (name: string): QuantityKind | null => (variableNames.includes(name) ? (typeof front.designs[0]?.variables[name] === 'number' ? variableKind(front.study, name) : null) : null);
-        const empty = emptyColumns(keys, designs);
-        const shown = args.columns !== undefined
-          ? chooseColumns(args.columns, keys)
-          : args.format === 'csv' ? keys.filter((k) => !empty.has(k)) : ['id', ...variableNames, ...objectiveNames];
-        const columns = shown.map((k) => (k === 'id' ? { key: 'id', title: 'id', kind: null } : describeColumn(k, kindOf, actuators)));
-        if (args.format === 'csv') {
-          out(toCsv(columns.map(csvHeader), rows.map((r) => Object.fromEntries(columns.map((c) => [csvHeader(c), r[c.key]])))));
-          return;
-        }
-        const which = front.reason ? `; ${front.reason} — another with --run N (see: ${programName()} runs ${args.db})` : '';
-        const state = front.run ? `, ${runState(front.run)}, ${front.run.generationsDone} generations` : '';
-        const limited = rows.length < front.designs.length ? ` (showing ${rows.length}${sort ? `, sorted by ${sort.key} ${sort.direction}` : ''})` : sort ? ` (sorted by ${sort.key} ${sort.direction})` : '';
-        out(`run ${front.runId} (${front.kind}${state}${which})\n${front.designs.length} designs on the feasible front${limited}; objectives ${front.objectives.map((o) => `${o.metric} (${o.sense})`).join(', ')}\n`);
-        if (rows.length > 0) out(table(columns.map((c) => c.title), rows.map((r) => columns.map((c) => displayCell(r[c.key], c)))));
-      },
-    )
-    .command(
-      'query <db>',
-      'select stored evaluations with an SQL expression (read-only)',
-      (y) =>
-        y
-          .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
-          .option('where', { type: 'string', describe: 'SQL expression over the columns, e.g. "feasible = 1 AND m_gci > 0.8"' })
-          .option('order-by', { type: 'string', describe: 'column [asc|desc], e.g. "m_bandwidth desc"' })
-          .option('sort', { type: 'string', describe: 'same as --order-by, with a metric name: gci:desc' })
-          .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'at most N rows' })
-          .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'only designs that were members of this run' })
-          .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default on terminals: id, feasible, variables, metrics with values)' })
-          .option('all-columns', { type: 'boolean', default: false, describe: 'every stored column, empty ones included (default for csv and json)' })
-          .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stored column names' })
-          .example('$0 query results/parcel-sorter.db --where "feasible = 1 AND m_gci > 0.85" --sort bandwidth:desc --limit 5', 'five feasible, well-conditioned designs with the highest natural frequency')
-          .example('$0 query results/parcel-sorter.db --format csv > all.csv', 'every stored evaluation as CSV'),
-      (args) => {
-        requireDatabase(args.db);
-        let orderBy = args.orderBy;
-        if (args.sort !== undefined) {
-          const all = queryEvaluations(args.db, { limit: 0 }).columns;
-          const sort = parseSort(args.sort, all, betterDirection);
-          orderBy = `${sort.key} ${sort.direction}`;
-        }
-        const result = queryEvaluations(args.db, {
-          ...(args.where !== undefined ? { where: args.where } : {}),
-          ...(orderBy !== undefined ? { orderBy } : {}),
-          ...(args.limit !== undefined ? { limit: args.limit } : {}),
-          ...(args.run !== undefined ? { runId: args.run } : {}),
-        });
-        const keys = result.columns;
-        const study = latestStudy(args.db);
-        const textVariable = (name: string): boolean => name === 'working_mode' || name === 'architecture' || /^drive(_\d)?$/.test(name);
-        const kindOf = (name: string): QuantityKind | null => (textVariable(name) ? null : study ? variableKind(study, name) : /angle|^phi/.test(name) ? 'angle' : 'length');
-        let shown: string[];
-        if (args.columns !== undefined) shown = chooseColumns(args.columns, keys);
-        else if (args.allColumns || args.format !== 'table') shown = keys;
-        else {
-          const empty = emptyColumns(keys, result.rows);
-          shown = keys.filter((k) => !empty.has(k) && (k === 'id' || k === 'feasible' || k === 'error' || k.startsWith('v_') || k.startsWith('m_')));
-        }
-        if (args.format === 'json') {
-          out(toJson(result.rows.map((r) => Object.fromEntries(shown.map((k) => [k, r[k]])))));
-          return;
-        }
-        const columns = shown.map((k) => (k.startsWith('v_') || k.startsWith('m_') || k.startsWith('c_') ? describeColumn(k, kindOf, study ? studyActuators(study) : undefined) : { key: k, title: k, kind: null }));
-        if (args.format === 'csv') {
-          out(toCsv(columns.map(csvHeader), result.rows.map((r) => Object.fromEntries(columns.map((c) => [csvHeader(c), r[c.key]])))));
-          return;
-        }
-        const hidden = keys.length - shown.length;
-        out(`${table(columns.map((c) => c.title), result.rows.map((r) => columns.map((c) => displayCell(r[c.key], c))))}\n(${result.rows.length} rows${hidden > 0 ? `; ${hidden} columns not shown — choose with --columns, or --all-columns` : ''})`);
-      },
-    );
+        );
+        const notes = runs.flatMap((r) => runNote(r, runState(r, now)));
+        if (notes.length > 0) out('\n' + notes.join('\n'));
+      } finally {
+        store.close();
+      }
+    },
+  );
+}
+
+export function registerFrontCommand(cli: Argv): Argv {
+  return cli.command(
+    'front <db>',
+    'the feasible Pareto front of a run (default: the latest finished run)',
+    (y) =>
+      y
+        .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
+        .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'run id (default: the latest finished run; see loopsmith runs DB)' })
+        .option('sort', { type: 'string', describe: 'sort by a metric or variable, :asc or :desc (default on terminals: the first objective, best first)' })
+        .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'show at most N designs (after sorting)' })
+        .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default: id, design variables, objectives); names without prefix' })
+        .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stable keys' })
+        .option('representatives', { type: 'number', coerce: positiveInt('representatives'), describe: 'show K distinct designs: extremes and knees, then the farthest apart (normalised objective space)' })
+        .option('knees', { type: 'boolean', describe: 'list the knee designs (largest distance from the hyperplane through the extremes, Das 1999)' })
+        .option('redundancy', { type: 'boolean', describe: 'objectives that do not conflict on the front: correlations and principal components' })
+        .example('$0 front results/parcel-sorter.db --representatives 5', 'five genuinely different designs, with why each was chosen')
+        .example('$0 front results/parcel-sorter.db --sort bandwidth:desc --limit 10', 'the ten stiffest-dynamics designs of the latest finished run')
+        .example('$0 front results/parcel-sorter.db --format csv > front.csv', 'every metric, SI units, for a spreadsheet'),
+    (args) => {
+      requireDatabase(args.db);
+      const front = runFront(args.db, args.run);
+      if (args.representatives !== undefined || args.knees === true || args.redundancy === true) {
+        analysedFront(args, front);
+        return;
+      }
+      const designs = front.designs.map((d) => ({ id: d.id, ...d.variables, ...d.metrics } as Record<string, unknown>));
+      const variableNames = front.designs[0] ? Object.keys(front.designs[0].variables) : [];
+      const objectiveNames = front.objectives.map((o) => o.metric);
+      const metricNames = front.designs[0] ? Object.keys(front.designs[0].metrics) : METRICS.map((m) => m.name);
+      const keys = ['id', ...variableNames, ...metricNames];
+      const sort = args.sort !== undefined ? parseSort(args.sort, keys, betterDirection) : args.format === 'table' && objectiveNames[0] ? { key: objectiveNames[0], direction: front.objectives[0]!.sense === 'max' ? ('desc' as const) : ('asc' as const) } : undefined;
+      let rows = sort ? sortRows(designs, sort.key, sort.direction) : designs;
+      if (args.limit !== undefined) rows = rows.slice(0, args.limit);
+      const chosenIds = new Set(rows.map((r) => r['id']));
+      if (args.format === 'json') {
+        const byId = new Map(front.designs.map((d) => [d.id, d]));
+        out(toJson({ run: front.runId, objectives: front.objectives, designs: rows.map((r) => byId.get(r['id'] as number)!).filter((d) => chosenIds.has(d.id)).map((d) => ({ id: d.id, variables: d.variables, metrics: d.metrics, constraints: d.constraints })) }));
+        return;
+      }
+      const actuators = studyActuators(front.study, front.designs[0]?.variables);
+      const kindOf = (name: string): QuantityKind | null => (variableNames.includes(name) ? (typeof front.designs[0]?.variables[name] === 'number' ? variableKind(front.study, name) : null) : null);
+      const empty = emptyColumns(keys, designs);
+      const shown = args.columns !== undefined
+        ? chooseColumns(args.columns, keys)
+        : args.format === 'csv' ? keys.filter((k) => !empty.has(k)) : ['id', ...variableNames, ...objectiveNames];
+      const columns = shown.map((k) => (k === 'id' ? { key: 'id', title: 'id', kind: null } : describeColumn(k, kindOf, actuators)));
+      if (args.format === 'csv') {
+        out(toCsv(columns.map(csvHeader), rows.map((r) => Object.fromEntries(columns.map((c) => [csvHeader(c), r[c.key]])))));
+        return;
+      }
+      const which = front.reason ? `; ${front.reason} — another with --run N (see: ${programName()} runs ${args.db})` : '';
+      const state = front.run ? `, ${runState(front.run)}, ${front.run.generationsDone} generations` : '';
+      const limited = rows.length < front.designs.length ? ` (showing ${rows.length}${sort ? `, sorted by ${sort.key} ${sort.direction}` : ''})` : sort ? ` (sorted by ${sort.key} ${sort.direction})` : '';
+      out(`run ${front.runId} (${front.kind}${state}${which})\n${front.designs.length} designs on the feasible front${limited}; objectives ${front.objectives.map((o) => `${o.metric} (${o.sense})`).join(', ')}\n`);
+      if (rows.length > 0) out(table(columns.map((c) => c.title), rows.map((r) => columns.map((c) => displayCell(r[c.key], c)))));
+    },
+  );
+}
+
+export function registerQueryCommand(cli: Argv): Argv {
+  return cli.command(
+    'query <db>',
+    'select stored evaluations with an SQL expression (read-only)',
+    (y) =>
+      y
+        .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
+        .option('where', { type: 'string', describe: 'SQL expression over the columns, e.g. "feasible = 1 AND m_gci > 0.8"' })
+        .option('order-by', { type: 'string', describe: 'column [asc|desc], e.g. "m_bandwidth desc"' })
+        .option('sort', { type: 'string', describe: 'same as --order-by, with a metric name: gci:desc' })
+        .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'at most N rows' })
+        .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'only designs that were members of this run' })
+        .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default on terminals: id, feasible, variables, metrics with values)' })
+        .option('all-columns', { type: 'boolean', default: false, describe: 'every stored column, empty ones included (default for csv and json)' })
+        .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stored column names' })
+        .example('$0 query results/parcel-sorter.db --where "feasible = 1 AND m_gci > 0.85" --sort bandwidth:desc --limit 5', 'five feasible, well-conditioned designs with the highest natural frequency')
+        .example('$0 query results/parcel-sorter.db --format csv > all.csv', 'every stored evaluation as CSV'),
+    (args) => {
+      requireDatabase(args.db);
+      let orderBy = args.orderBy;
+      if (args.sort !== undefined) {
+        const all = queryEvaluations(args.db, { limit: 0 }).columns;
+        const sort = parseSort(args.sort, all, betterDirection);
+        orderBy = `${sort.key} ${sort.direction}`;
+      }
+      const result = queryEvaluations(args.db, {
+        ...(args.where !== undefined ? { where: args.where } : {}),
+        ...(orderBy !== undefined ? { orderBy } : {}),
+        ...(args.limit !== undefined ? { limit: args.limit } : {}),
+        ...(args.run !== undefined ? { runId: args.run } : {}),
+      });
+      const keys = result.columns;
+      const study = latestStudy(args.db);
+      const textVariable = (name: string): boolean => name === 'working_mode' || name === 'architecture' || /^drive(_\d)?$/.test(name);
+      const kindOf = (name: string): QuantityKind | null => (textVariable(name) ? null : study ? variableKind(study, name) : /angle|^phi/.test(name) ? 'angle' : 'length');
+      let shown: string[];
+      if (args.columns !== undefined) shown = chooseColumns(args.columns, keys);
+      else if (args.allColumns || args.format !== 'table') shown = keys;
+      else {
+        const empty = emptyColumns(keys, result.rows);
+        shown = keys.filter((k) => !empty.has(k) && (k === 'id' || k === 'feasible' || k === 'error' || k.startsWith('v_') || k.startsWith('m_')));
+      }
+      if (args.format === 'json') {
+        out(toJson(result.rows.map((r) => Object.fromEntries(shown.map((k) => [k, r[k]])))));
+        return;
+      }
+      const columns = shown.map((k) => (k.startsWith('v_') || k.startsWith('m_') || k.startsWith('c_') ? describeColumn(k, kindOf, study ? studyActuators(study) : undefined) : { key: k, title: k, kind: null }));
+      if (args.format === 'csv') {
+        out(toCsv(columns.map(csvHeader), result.rows.map((r) => Object.fromEntries(columns.map((c) => [csvHeader(c), r[c.key]])))));
+        return;
+      }
+      const hidden = keys.length - shown.length;
+      out(`${table(columns.map((c) => c.title), result.rows.map((r) => columns.map((c) => displayCell(r[c.key], c))))}\n(${result.rows.length} rows${hidden > 0 ? `; ${hidden} columns not shown — choose with --columns, or --all-columns` : ''})`);
+    },
+  );
 }
 
 /** A command-line mistake found by a check: the CLI reports it like yargs' own (exit 2). */
@@ -456,150 +471,10 @@ function moreOption(value: unknown): number | 'converge' | undefined {
   return n;
 }
 
-/** A relative improvement as a percentage with sensible digits. */
-export function formatImprovement(value: number): string {
-  if (!Number.isFinite(value)) return 'new front';
-  const percent = value * 100;
-  return `${percent < 0.01 ? percent.toExponential(1) : percent < 10 ? percent.toFixed(2) : percent.toFixed(1)} %`;
-}
-
-/** Recorded population-front hypervolume per generation (one frame for the whole run). */
-function hypervolumeTrajectory(dbPath: string, runId: number): { generation: number; hypervolume: number | null }[] {
-  const store = Store.open(dbPath);
-  try {
-    return store.generationStats(runId).map((s) => ({ generation: s.generation, hypervolume: s.hypervolume }));
-  } finally {
-    store.close();
-  }
-}
-
-/** About eight evenly spaced points of a hypervolume trajectory, as text. */
-export function trajectoryText(trajectory: readonly { generation: number; hypervolume: number | null }[]): string {
-  const known = trajectory.filter((t) => t.hypervolume !== null);
-  if (known.length === 0) return '— (no feasible front yet)';
-  const step = Math.max(1, Math.ceil((known.length - 1) / 7));
-  const picked = known.filter((_, i) => i % step === 0 || i === known.length - 1);
-  return picked.map((t) => `g${t.generation} ${t.hypervolume!.toFixed(4)}`).join(' → ');
-}
-
-/** How the run ended, its hypervolume trajectory and last-window improvement, and how to continue it. */
-export function runStandingLines(
-  s: Pick<RunSummary, 'status' | 'endReason' | 'hvImprovement' | 'window' | 'tolerance' | 'stillImproving' | 'totalEvaluations' | 'archiveSize' | 'termination' | 'convergedAt' | 'generationsDone'> & { trajectory: readonly { generation: number; hypervolume: number | null }[] },
-  continueWith: (more: string) => string,
-): string[] {
-  const gain = s.hvImprovement === null ? `not known yet (fewer than ${s.window} generations)` : `${formatImprovement(s.hvImprovement)} over the last ${s.window} generations (tolerance ${formatImprovement(s.tolerance)})`;
-  const budget = s.termination.generations !== undefined ? `its generation count (${s.termination.generations + 1} in all)` : `its evaluation cap (${s.termination.maxEvaluations ?? '?'})`;
-  const lines: string[] = [];
-  if (s.status === 'stopped') lines.push('ended: stopped by the user; run the same command again to resume');
-  else if (s.endReason === 'converged') {
-    const refined = s.convergedAt !== null && s.convergedAt < s.generationsDone - 1 ? `, then ${s.generationsDone - 1 - s.convergedAt} generations of final local refinement` : '';
-    lines.push(`ended: converged — the best front found improved by less than ${formatImprovement(s.tolerance)} over ${s.window} generations at generation ${s.convergedAt ?? '?'}${refined} (${s.totalEvaluations} evaluations)`);
-  }
-  else lines.push(`ended: budget — reached ${budget} after ${s.totalEvaluations} evaluations`);
-  lines.push(`front hypervolume by generation (population front, normalised, reference 1.1): ${trajectoryText(s.trajectory)}`);
-  lines.push(`best front found: ${s.archiveSize} designs; its hypervolume improved by ${gain}`);
-  if (s.status === 'finished' && s.stillImproving) {
-    lines.push(`NOTE: the front was still improving when the run stopped; it is probably not the final answer. Continue with:`);
-    lines.push(`  ${continueWith('converge')}`);
-  }
-  return lines;
-}
-
 /** The exact command that continues this run. */
 function continueCommand(study: string, dbPath: string, dbGiven: boolean, runId: number, seed: number | undefined, population: number | undefined): (more: string) => string {
   const quote = (t: string): string => (/^[\w./:@%+=,-]+$/.test(t) ? t : `'${t.replace(/'/g, `'\\''`)}'`);
   return (more) => ['loopsmith run', quote(study), ...(dbGiven ? ['--db', quote(dbPath)] : []), ...(seed !== undefined ? ['--seed', String(seed)] : []), ...(population !== undefined ? ['--population', String(population)] : []), '--more', more, '--run', String(runId)].join(' ');
-}
-
-/** The summary line of a finished or stopped run, with the counts the report uses. */
-function runSummaryText(dbPath: string, summary: RunSummary, frontSize: number, continued: boolean, standing: readonly string[]): string {
-  const store = Store.open(dbPath, { access: 'read' });
-  try {
-    const stats = store.generationStats(summary.runId);
-    const asked = stats.reduce((n, s) => n + s.evaluations, 0);
-    const computed = stats.reduce((n, s) => n + s.newEvaluations, 0);
-    const distinct = queryEvaluations(dbPath, { runId: summary.runId, columns: ['id'] }).rows.length;
-    const hv = stats.at(-1)?.hypervolume;
-    const verb = summary.status === 'finished' ? 'finished' : 'stopped';
-    return (
-      `${verb} run ${summary.runId}${summary.resumedFromGeneration !== null ? ` (${continued ? 'continued' : 'resumed'} at generation ${summary.resumedFromGeneration})` : ''}: ` +
-      `${summary.generationsDone} generations in ${fmtTime(summary.elapsedSeconds)}; ${asked} designs asked for, ${computed} evaluated (${asked - computed} found in the store), ` +
-      `${distinct} distinct designs kept in a population; ${frontSize} on the feasible front` +
-      `${hv !== null && hv !== undefined ? `; hypervolume ${hv.toFixed(4)} (normalised, as in the report)` : ''}\n` +
-      standing.map((line) => `${line}\n`).join('') +
-      `database: ${dbPath}\nnext: ${commandLine(['front', dbPath])}`
-    );
-  } finally {
-    store.close();
-  }
-}
-
-/** Why a run found no feasible design: the constraints that fail most often, and by how much. */
-function noFeasibleText(dbPath: string, runId: number, study: Study): string {
-  const names = constraintDefinitions(study).map((c) => c.name);
-  const rows = queryEvaluations(dbPath, { runId, columns: ['id', ...names.map((n) => `c_${n}`).filter((c) => queryEvaluations(dbPath, { limit: 0 }).columns.includes(c))] }).rows;
-  const lines = [`loopsmith: warning: run ${runId} found NO feasible design among its ${rows.length} designs.`];
-  const failing = names
-    .map((name) => {
-      const margins = rows.map((r) => r[`c_${name}`]).filter((v): v is number => typeof v === 'number');
-      const violated = margins.filter((m) => m < 0).sort((a, b) => a - b);
-      return { name, count: violated.length, total: margins.length, median: violated[Math.floor(violated.length / 2)] ?? 0, worst: violated[0] ?? 0 };
-    })
-    .filter((f) => f.count > 0)
-    .sort((a, b) => b.count - a.count);
-  if (failing.length > 0) {
-    const pct = (v: number): string => `${(v * 100).toPrecision(3)} %`;
-    lines.push('Constraints that fail most often (margins are shortfalls as a fraction of the bound):');
-    lines.push(table(['constraint', 'designs failing', 'median shortfall', 'worst'], failing.map((f) => [f.name, `${f.count} of ${f.total}`, pct(-f.median), pct(-f.worst)])));
-    lines.push('Relax those bounds, widen the design bounds, or check the task region (loopsmith check STUDY).');
-  }
-  return lines.join('\n') + '\n';
-}
-
-/** The study of the store's latest run (for units of variable columns), or undefined. */
-function latestStudy(dbPath: string): Study | undefined {
-  try {
-    const store = Store.open(dbPath, { access: 'read' });
-    try {
-      const run = store.listRuns().at(-1);
-      const row = run ? store.getStudy(run.studyId) : undefined;
-      return row ? parseStudyText(row.fileText, dbPath).study : undefined;
-    } finally {
-      store.close();
-    }
-  } catch {
-    return undefined;
-  }
-}
-
-/** A note per run that needs one: who writes a running run, how to resume an interrupted one. */
-function runNote(run: RunRow, state: RunState): string[] {
-  if (state === 'interrupted') {
-    const who = run.ownerPid !== null ? `its process ${run.ownerPid} on ${run.ownerHost ?? '?'} is gone` : 'its process is gone';
-    const resume = run.kind === 'optimize' ? (run.command ? `; resume it with: ${run.command}` : '; the command that started it resumes it') : '; a sweep starts again from the beginning';
-    return [`run ${run.id} was interrupted after ${run.generationsDone} generation(s) (${who})${resume}`];
-  }
-  if (state === 'running') return [`run ${run.id} is being written by process ${run.ownerPid} on ${run.ownerHost ?? '?'} since ${run.ownerSince ?? run.startedAt}`];
-  if ((state === 'failed' || state === 'stopped') && run.message) return [`run ${run.id}: ${run.message}`];
-  return [];
-}
-
-/** After a refused or failed command: a store this command created that holds no generation is removed. */
-function removeEmptyStore(dbPath: string, existedBefore: boolean): void {
-  if (existedBefore || !existsSync(dbPath)) return;
-  try {
-    const store = Store.open(dbPath, { access: 'read' });
-    let stored = 0;
-    try {
-      stored = store.listRuns().reduce((n, r) => n + r.generationsDone, 0);
-    } finally {
-      store.close();
-    }
-    if (stored > 0) return;
-  } catch {
-    // Not even a readable store: nothing in it to keep.
-  }
-  for (const suffix of ['', '-wal', '-shm', '-journal']) rmSync(dbPath + suffix, { force: true });
 }
 
 /** `front --representatives/--knees/--redundancy`: the analysed front (issue of the front tools). */

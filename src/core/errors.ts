@@ -9,3 +9,11 @@ export class LoopsmithUserError extends Error {
     this.name = new.target.name;
   }
 }
+
+/** Errors of other libraries whose message is meant for the user (SQLite refusing a file or a query). */
+const FOREIGN_USER_ERROR_NAMES = new Set(['SqliteError', 'ReportError']);
+
+/** Errors a user can cause: every LoopsmithUserError, plus SQLite's own. */
+export function isUserError(error: unknown): error is Error {
+  return error instanceof LoopsmithUserError || (error instanceof Error && FOREIGN_USER_ERROR_NAMES.has(error.name));
+}

@@ -57,9 +57,41 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'cycle_rms_torque_3', kind: 'torque', better: 'min', description: 'RMS joint-3 effort over the duty cycle (3-DOF)' },
   { name: 'cycle_peak_speed_3', kind: 'angularSpeed', better: 'min', description: 'largest joint-3 speed along the duty cycle (3-DOF)' },
   { name: 'cycle_peak_power_3', kind: 'power', better: 'min', description: 'largest joint-3 power along the duty cycle (3-DOF)' },
+  // Drive trains from motor and gearbox catalogues (NaN without them); see docs/drives.md. A "use" is value / limit: ≤ 1 holds.
+  ...perActuatorMetrics('drive_peak_use', 'dimensionless', 'largest motor torque over the peak torque–speed envelope at its speed, along the duty cycle'),
+  ...perActuatorMetrics('drive_rms_use', 'dimensionless', 'RMS motor torque over the cycle divided by the continuous torque at the mean motor speed'),
+  ...perActuatorMetrics('gearbox_torque_use', 'dimensionless', 'gearbox output torque against its acceleration rating (peak) and rated torque (cubic mean), and a slider stage\'s thrust against its limit, along the cycle'),
+  ...perActuatorMetrics('drive_speed_use', 'dimensionless', 'largest motor (gearbox input) speed over the smallest of the motor, gearbox and stage speed limits, along the cycle'),
+  ...perActuatorMetrics('inertia_ratio', 'dimensionless', 'load inertia reflected to the motor (gearbox and screw included) over the rotor inertia, worst over the cycle'),
+  { name: 'gearbox_estop_use', kind: 'dimensionless', better: 'min', description: 'gearbox output torque at an emergency stop, N·max(peak motor torque, brake torque), over its emergency-stop rating (worst actuator)' },
+  { name: 'brake_use', kind: 'dimensionless', better: 'min', description: 'brake factor times the largest static holding torque, referred to the motor, over the brake holding torque (worst actuator)' },
+  { name: 'drive_cost', kind: 'dimensionless', better: 'min', description: 'sum of the chosen motors\' and gearboxes\' catalogue costs over the actuators (catalogue currency; NaN when a cost is not given)' },
+  { name: 'accel_capability_at_speed', kind: 'acceleration', better: 'max', description: 'end-point acceleration available in every direction while moving at the required speed (peak envelope at that motor speed), at the worst pose' },
+  // The machine in its cell (studies with a cell section; NaN otherwise); see docs/cell.md.
+  { name: 'min_clearance', kind: 'length', better: 'max', description: 'smallest clearance of the links from keep-outs, the other legs, the drive housings and between sliders, over the task region, zones and duty cycle, after the required clearance (negative = collision)' },
+  { name: 'passive_joint_margin', kind: 'angle', better: 'max', description: 'smallest included angle at a passive joint minus its limit, over the task region, zones and duty cycle (negative = beyond the limit)' },
+  { name: 'zone_coverage', kind: 'dimensionless', better: 'max', description: 'worst covered fraction of a task zone (pick, place, …) inside the usable workspace (1 = every zone whole)' },
+  { name: 'cycle_coverage', kind: 'dimensionless', better: 'max', description: 'fraction of the duty-cycle path inside the usable workspace (1 = all of it)' },
+  { name: 'regular_workspace_area', kind: 'area', better: 'max', description: 'area of the largest rectangle of the study aspect ratio and angle (a square by default) inside the usable workspace' },
+  { name: 'regular_workspace_width', kind: 'length', better: 'max', description: 'width of that largest rectangle (along its angle; height = width / aspect)' },
+  { name: 'regular_workspace_x', kind: 'length', better: 'max', description: 'x of the centre of that largest rectangle (its placement, not an objective)' },
+  { name: 'regular_workspace_y', kind: 'length', better: 'max', description: 'y of the centre of that largest rectangle (its placement, not an objective)' },
 ];
 
+/** The worst-over-actuators metric and one per actuator (drive-train checks). */
+function perActuatorMetrics(name: string, kind: MetricInfo['kind'], description: string): MetricInfo[] {
+  return [
+    { name, kind, better: 'min', description: `${description} (worst actuator)` },
+    ...[1, 2, 3].map((i) => ({ name: `${name}_${i}`, kind, better: 'min' as const, description: `${description}, actuator ${i}${i === 3 ? ' (3-DOF)' : ''}` })),
+  ];
+}
+
 export type MetricName = (typeof METRICS)[number]['name'];
+/** Metrics of the machine in its cell: computed only for a study with a cell section (NaN otherwise). */
+export const CELL_METRIC_NAMES: ReadonlySet<string> = new Set([
+  'min_clearance', 'passive_joint_margin', 'zone_coverage', 'cycle_coverage',
+  'regular_workspace_area', 'regular_workspace_width', 'regular_workspace_x', 'regular_workspace_y',
+]);
 export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
 const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
 

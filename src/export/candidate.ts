@@ -200,6 +200,9 @@ export interface CandidateRecord {
 export interface CandidateExport {
   readonly sheet: CandidateSheet;
   mjcf(): string;
+  /** What the sheet and the model were built from, and the home pose of the model's keyframe (for the MJCF check). */
+  readonly built?: BuiltDesign;
+  readonly home?: { readonly x: number; readonly y: number; readonly phi: number };
 }
 
 /** What a sheet is built from: the member study, architecture, model and resolved design. */
@@ -470,6 +473,8 @@ export function candidateExport(study: Study, record: CandidateRecord, provenanc
   const { sheet, home } = designSheet(study, record, provenance, built);
   return {
     sheet,
+    built,
+    home,
     mjcf: () =>
       architectureMjcf(built.architecture, built.model, home, {
         modelName: `loopsmith candidate ${sheet.id}`,

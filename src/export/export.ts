@@ -13,6 +13,9 @@ import type { Study } from '../study/types.js';
 import { ExportError, loopsmithVersion, sheetToJson } from './candidate.js';
 import { candidateExport, type CandidateExport, type CandidateSheet as AnyCandidateSheet } from './candidate.js';
 import { candidatesCsv } from './csv.js';
+import { MJCF_TIMESTEP } from './mjcf.js';
+import { mjcfCheckReference, runMjcfCheck, type MjcfCheckResult } from './mjcfCheck.js';
+import { pacedCycle } from '../simulate/study.js';
 import candidateSchema from './candidate.schema.json' with { type: 'json' };
 
 export type ExportFormat = 'json' | 'csv' | 'mjcf';
@@ -165,7 +168,11 @@ export function candidateSheets(dbPath: string, selection: ExportSelection): Any
 /** Selects, builds and writes; returns the sheets and the files written. */
 export function exportCandidates(dbPath: string, options: ExportOptions): ExportResult {
   if (!EXPORT_FORMATS.includes(options.format)) throw new ExportError(`--format ${String(options.format)}: expected one of ${EXPORT_FORMATS.join(', ')}`);
-  const exports = candidateExports(dbPath, options);
+  return writeExports(candidateExports(dbPath, options), options);
+}
+
+/** Writes built exports in the chosen format into the output folder. */
+function writeExports(exports: readonly CandidateExport[], options: ExportOptions): ExportResult {
   const sheets = exports.map((e) => e.sheet);
   const texts: { name: string; text: string }[] = [];
   if (options.format === 'csv') {
@@ -194,4 +201,54 @@ export function exportCandidates(dbPath: string, options: ExportOptions): Export
     return path;
   });
   return { sheets, files };
+}
+
+/** The check sheet of one exported model (`candidate-<id>.check.json`). */
+export interface MjcfCheckSheet extends MjcfCheckResult {
+  readonly format: 'loopsmith-mjcf-check/1';
+  readonly safetyNote: string;
+  readonly id: number;
+  readonly architecture: string;
+  /** The checked file (its name in the output folder). */
+  readonly model: string;
+  readonly provenance: AnyCandidateSheet['provenance'];
+}
+
+export interface CheckedExportResult extends ExportResult {
+  /** One check sheet per exported model, in candidate order. */
+  readonly checks: readonly MjcfCheckSheet[];
+}
+
+/**
+ * `export --format mjcf --verify`: writes the MJCF models as `exportCandidates` does, then runs each in
+ * MuJoCo with its own settings against loopsmith's rigid simulation (mjcfCheck.ts) on the study's duty
+ * cycle (or the standard motion around the home pose) and writes `candidate-<id>.check.json` beside it
+ * with the end-point error, the loop gap and the verdict. Needs the optional package mujoco-js.
+ */
+export async function exportCandidatesChecked(dbPath: string, options: ExportOptions): Promise<CheckedExportResult> {
+  if (options.format !== 'mjcf') throw new ExportError(`--verify checks MJCF models in MuJoCo: use it with --format mjcf (not ${String(options.format)})`);
+  const exports = candidateExports(dbPath, options);
+  const written = writeExports(exports, options);
+  const checks: MjcfCheckSheet[] = [];
+  const files = [...written.files];
+  for (const [k, e] of exports.entries()) {
+    if (!e.built || !e.home) throw new Error(`candidate ${e.sheet.id}: the export does not carry its design`);
+    const trajectory = pacedCycle(e.built.study);
+    const reference = mjcfCheckReference(e.built.architecture, e.built.model, trajectory, e.home, MJCF_TIMESTEP);
+    const result = await runMjcfCheck(reference, e.mjcf());
+    const sheet: MjcfCheckSheet = {
+      format: 'loopsmith-mjcf-check/1',
+      safetyNote: e.sheet.safetyNote,
+      id: e.sheet.id,
+      architecture: e.sheet.architecture,
+      model: `candidate-${e.sheet.id}.xml`,
+      ...result,
+      provenance: e.sheet.provenance,
+    };
+    checks.push(sheet);
+    const path = join(options.outDir, `candidate-${e.sheet.id}.check.json`);
+    writeFileSync(path, sheetToJson(sheet));
+    files.splice(2 * k + 1, 0, path);
+  }
+  return { sheets: written.sheets, files, checks };
 }

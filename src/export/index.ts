@@ -25,6 +25,7 @@ export { candidatesCsv, flattenSheet, type FlatValue } from './csv.js';
 export {
   architectureMjcf,
   treeMjcfJoints,
+  MJCF_INTEGRATOR,
   MJCF_TIMESTEP,
   LOOP_CLOSURE_SOLREF,
   LOOP_CLOSURE_SOLIMP,
@@ -35,7 +36,19 @@ export {
 } from './mjcf.js';
 export { bodyFrames, sitePositions, loopClosureGap, type PlaneFrame } from './bodyTree.js';
 export {
+  checkMjcfInMotion,
+  mjcfCheckReference,
+  runMjcfCheck,
+  standardMotion,
+  MJCF_CHECK_TOLERANCES,
+  type MjcfCheckReference,
+  type MjcfCheckResult,
+  type MjcfCheckRun,
+} from './mjcfCheck.js';
+export { MujocoCheckError } from './mujocoEngine.js';
+export {
   exportCandidates,
+  exportCandidatesChecked,
   candidateSheets,
   candidateExports,
   selectCandidates,
@@ -45,4 +58,6 @@ export {
   type ExportOptions,
   type ExportSelection,
   type ExportResult,
+  type CheckedExportResult,
+  type MjcfCheckSheet,
 } from './export.js';

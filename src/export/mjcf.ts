@@ -17,7 +17,8 @@
  *   (1e-6) of the design's total mass at its joint; a point body without mass is left out.
  * - Drives: a `<motor>` per actuated joint (gear 1: control = joint torque N·m or force N),
  *   `ctrlrange` ±peak effort of the model's drive.
- * - Loop closure: stiff soft-constraint settings (LOOP_CLOSURE_SOLREF/SOLIMP, 0.5 ms step; docs/export.md).
+ * - Integration and loop closure: RK4, 0.1 ms step, closure time constant 0.2 ms (MJCF_INTEGRATOR,
+ *   MJCF_TIMESTEP, LOOP_CLOSURE_SOLREF/SOLIMP; docs/export.md), checked in motion by mjcfCheck.ts.
  * - Keyframe `home`: the home pose (`bodyTreeJoints`) and the engine's holding efforts τ_g as controls.
  * Geoms are for looks only (no contacts, no mass).
  */
@@ -31,14 +32,20 @@ import {
 } from '../architectures/types.js';
 import { treeMass } from './bodyTree.js';
 
-/** Simulation time step, s. */
-export const MJCF_TIMESTEP = 0.0005;
 /**
- * Loop-closure constraint softness: time constant 2 ms (four time steps) with critical damping, and
- * impedance 0.9999 at every violation. MuJoCo's equality constraints are soft; these values make the
- * closure stiff enough that a held pose stays closed to well below a micrometre.
+ * Integration settings that keep the model true in motion, not only at rest (docs/export.md, "Settings
+ * that stay true in motion"): 4th-order Runge–Kutta with a 0.1 ms step.
  */
-export const LOOP_CLOSURE_SOLREF = '0.002 1';
+export const MJCF_INTEGRATOR = 'RK4';
+export const MJCF_TIMESTEP = 0.0001;
+/**
+ * Loop-closure constraint softness: time constant 0.2 ms (two time steps, the smallest MuJoCo accepts
+ * without raising it) with critical damping, and impedance 0.9999 at every violation. MuJoCo's
+ * equality constraints are soft and leave out the velocity product of the closure's acceleration;
+ * a loop then opens by about that acceleration times the time constant squared, so the time
+ * constant is what keeps a moving loop closed.
+ */
+export const LOOP_CLOSURE_SOLREF = '0.0002 1';
 export const LOOP_CLOSURE_SOLIMP = '0.9999 0.9999 0.001 0.5 2';
 /** Share of the design's total mass given to an actuated body the model has without mass. */
 export const MASSLESS_BODY_FILL = 1e-6;
@@ -266,7 +273,7 @@ export function architectureMjcf<TModel extends ArchitectureModelBase>(
 ${header.map((line) => `    ${commentText(line)}`).join('\n')}
   -->
   <compiler angle="radian" inertiafromgeom="false" autolimits="true"/>
-  <option timestep="${num(MJCF_TIMESTEP)}" gravity="${num(g[0])} 0 ${num(g[1])}"/>
+  <option integrator="${MJCF_INTEGRATOR}" timestep="${num(MJCF_TIMESTEP)}" gravity="${num(g[0])} 0 ${num(g[1])}"/>
   <default>
     <geom contype="0" conaffinity="0"/>
   </default>

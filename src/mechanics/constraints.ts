@@ -79,7 +79,7 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     if (c.max !== undefined) def.max = c.max;
     out.push(def);
   }
-  if (!study.drives && study.driveChoice.kind === 'fixed') return out;
+  if (!study.drives && study.driveChoice.kind === 'fixed' && !study.driveTrains) return out;
   // Drive limits over the n actuators, at the joint (N·m or N; rad/s or m/s).
   const n = ARCHITECTURES[study.architecture].dof;
   const limit = (name: string, metric: string, kind: NonNullable<ConstraintDefinition['driveLimit']>['kind'], actuator: number): ConstraintDefinition =>
@@ -92,9 +92,11 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
   if (study.task.acceleration > 0) {
     out.push({ name: 'drive_acceleration', metric: 'accel_capability', metricIndex: metricIndex('accel_capability'), min: study.task.acceleration, origin: 'drive' });
   }
+  if (study.driveTrains) out.push(...driveTrainConstraints(study, n));
   if (study.dutyCycle) {
     // Duty-cycle drive limits (docs/duty-cycle.md): peak ≤ η N τ_peak, RMS ≤ η N τ_rated, speed ≤ ω_max/N.
-    for (let i = 0; i < n; i++) {
+    // Drive trains replace them by the envelope checks (docs/drives.md).
+    for (let i = 0; i < n && !study.driveTrains; i++) {
       const k = i + 1;
       out.push(
         limit(`cycle_torque_${k}`, `cycle_peak_torque_${k}`, 'cyclePeakTorque', i),
@@ -106,6 +108,34 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
       out.push({ name: 'cycle_rate', metric: 'min_cycle_time', metricIndex: metricIndex('min_cycle_time'), max: 1 / study.dutyCycle.requiredRate, origin: 'drive' });
     }
   }
+  return out;
+}
+
+/**
+ * Constraints of drive trains (docs/drives.md), each a use ≤ 1 unless named otherwise: emergency-stop
+ * torque of the gearbox; brake holding (when every motor in play has a brake); acceleration while
+ * moving at the required speed ≥ task.acceleration; with a duty cycle, per actuator the peak envelope,
+ * RMS against the continuous curve, gearbox (and stage) ratings and input speed, and inertia_ratio
+ * ≤ drives.max_inertia_ratio when given.
+ */
+function driveTrainConstraints(study: Study, n: number): ConstraintDefinition[] {
+  const setup = study.driveTrains!;
+  const bound = (name: string, metric: string, limits: { min?: number; max?: number }): ConstraintDefinition =>
+    ({ name, metric, metricIndex: metricIndex(metric), origin: 'drive', ...limits });
+  const out = [bound('drive_estop', 'gearbox_estop_use', { max: 1 })];
+  if (setup.motors.every((m) => m.brakeTorque !== undefined)) out.push(bound('drive_brake', 'brake_use', { max: 1 }));
+  if (study.task.speed > 0 && study.task.acceleration > 0) out.push(bound('drive_acceleration_at_speed', 'accel_capability_at_speed', { min: study.task.acceleration }));
+  if (!study.dutyCycle) return out;
+  for (let i = 0; i < n; i++) {
+    const k = i + 1;
+    out.push(
+      bound(`drive_envelope_${k}`, `drive_peak_use_${k}`, { max: 1 }),
+      bound(`drive_rms_${k}`, `drive_rms_use_${k}`, { max: 1 }),
+      bound(`drive_gearbox_${k}`, `gearbox_torque_use_${k}`, { max: 1 }),
+      bound(`drive_input_speed_${k}`, `drive_speed_use_${k}`, { max: 1 }),
+    );
+  }
+  if (setup.maxInertiaRatio !== null) out.push(bound('drive_inertia_ratio', 'inertia_ratio', { max: setup.maxInertiaRatio }));
   return out;
 }
 

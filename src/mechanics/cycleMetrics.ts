@@ -6,12 +6,15 @@
  */
 import type { ArchitectureModelBase, DriveAtJoint, PlanarArchitecture } from '../architectures/types.js';
 import type { Study } from '../study/types.js';
-import { CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, writeCycleMetrics } from './dutyCycle.js';
+import { CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, evaluatedCycleTime, writeCycleMetrics } from './dutyCycle.js';
+import type { DriveTrain } from '../drives/types.js';
+import { CycleDriveMetrics } from './driveMetrics.js';
 
 /** Duty-cycle buffers of one study (made once per evaluator), or null without a duty cycle. */
 export class CycleMetrics {
   private readonly analysis: DutyCycleAnalysis;
   private readonly summary = new CycleSummary();
+  private readonly driveMetrics = new CycleDriveMetrics();
 
   private constructor(private readonly study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>) {
     const duty = study.dutyCycle!;
@@ -22,8 +25,17 @@ export class CycleMetrics {
     return study.dutyCycle ? new CycleMetrics(study, architecture) : null;
   }
 
-  /** Writes the cycle metrics of a design (its model and its drives at the joints) into `metrics`. */
-  write(model: ArchitectureModelBase, drives: readonly DriveAtJoint[] | null, metrics: Float64Array): void {
-    writeCycleMetrics(this.analysis, model, this.study.dutyCycle!, cycleDriveLimits(drives), this.summary, metrics);
+  /**
+   * Writes the cycle metrics of a design (its model and its drives at the joints) into `metrics`;
+   * with drive trains (docs/drives.md) also the envelope and rating checks, and min_cycle_time
+   * from the envelopes.
+   */
+  write(model: ArchitectureModelBase, drives: readonly DriveAtJoint[] | null, metrics: Float64Array, trains: readonly DriveTrain[] | null = null): void {
+    const duty = this.study.dutyCycle!;
+    writeCycleMetrics(this.analysis, model, duty, cycleDriveLimits(drives), this.summary, metrics);
+    if (!trains) return;
+    const cycleTime = evaluatedCycleTime(duty);
+    const scale = cycleTime === null ? 1 : this.analysis.timeScaleFor(cycleTime);
+    this.driveMetrics.write(this.analysis, this.analysis.assembled, trains, scale, metrics);
   }
 }

@@ -1,14 +1,15 @@
 /**
  * Design space of a study: which parameters the optimizer varies, how a design vector maps to a
  * full geometry (ties resolved), and how a geometry plus the study's masses and drives become the
- * architecture's model input (`modelInput`). Transitional: `buildFiveBarModel` builds the five-bar's
- * former model type for the duty-cycle analysis, simulation and five-bar sheets that still take it.
+ * architecture's model input (`modelInput`).
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import type { FiveBarModel } from './fivebar.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelInput } from '../architectures/types.js';
 import { driveAtJoint } from '../study/drives.js';
+import { takeMount } from '../cell/mounting.js';
+import { MOUNT_VARIABLES, type Mount } from '../cell/types.js';
+import { composeDrives, driveTrainVariables, type DriveTrainVariable } from './driveVariables.js';
 import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
 /**
@@ -16,7 +17,8 @@ import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '
  * `study.members`); their names carry the member's prefix (`fivebar_crank_1`, `prr2_rod_1`, …).
  */
 export type DesignVariable =
-  | { readonly name: string; readonly kind: 'real'; readonly min: number; readonly max: number; readonly member?: number }
+  | { readonly name: string; readonly kind: 'real'; readonly min: number; readonly max: number; readonly member?: number; readonly role?: undefined }
+  | DriveTrainVariable
   | { readonly name: string; readonly kind: 'categorical'; readonly role: 'working_mode'; readonly choices: readonly string[]; readonly member?: number }
   | {
       readonly name: string;
@@ -65,6 +67,15 @@ export function designVariables(study: Study): DesignVariable[] {
       for (let i = 0; i < n; i++) out.push({ name: `drive_${i + 1}`, kind: 'categorical', role: 'drive', actuators: [i], choices: labels, options: choice.options });
     }
   }
+  if (study.driveTrains) out.push(...driveTrainVariables(study.driveTrains, architecture.dof));
+  // Mounting of the base in the cell (docs/cell.md), last so earlier variables keep their places.
+  const mounting = study.cell?.mounting;
+  if (mounting) {
+    for (const name of MOUNT_VARIABLES) {
+      const spec = mounting[name];
+      if (spec.kind === 'variable') out.push({ name, kind: 'real', min: spec.min, max: spec.max });
+    }
+  }
   return out;
 }
 
@@ -74,6 +85,8 @@ export interface ResolvedDesign {
   readonly workingMode: string;
   /** Drives of this design (one per actuator), or null when the study gives none. */
   readonly drives: readonly DriveSpec[] | null;
+  /** Base pose in the task frame (studies with cell.mounting only). */
+  readonly mount?: Mount;
 }
 
 /** A comparison study's design resolved to its member: the member study, its variables and its design vector. */
@@ -113,13 +126,16 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
   let workingMode = study.workingModes[0]!;
   let drives: DriveSpec[] | null = study.drives ? [...study.drives] : null;
   const chosen: (DriveSpec | undefined)[] = [];
+  const trainValues: { variable: DriveTrainVariable; value: number }[] = [];
   variables.forEach((v, k) => {
     const index = Math.round(design[k]!);
-    if (v.kind === 'real') geometry[v.name] = design[k]!;
+    if (v.role === 'motor' || v.role === 'gearbox' || v.role === 'gear_ratio') trainValues.push({ variable: v, value: design[k]! });
+    else if (v.kind === 'real') geometry[v.name] = design[k]!;
     else if (v.role === 'working_mode') workingMode = v.choices[index]!;
     else if (v.role === 'drive') for (const a of v.actuators) chosen[a] = v.options[index]!;
   });
   if (chosen.length === architecture.dof && chosen.every((d) => d !== undefined)) drives = chosen as DriveSpec[];
+  if (study.driveTrains && trainValues.length > 0) drives = composeDrives(study.driveTrains, architecture.actuators, trainValues);
   for (const { name } of architecture.parameters) {
     const spec = study.geometry[name]!;
     if (spec.kind === 'fixed') geometry[name] = spec.value;
@@ -128,7 +144,8 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     const spec = study.geometry[name]!;
     if (spec.kind === 'tied') geometry[name] = geometry[spec.to]!;
   }
-  return { geometry, workingMode, drives };
+  const mount = takeMount(study.cell, geometry);
+  return { geometry, workingMode, drives, ...(mount ? { mount } : {}) };
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
@@ -195,54 +212,6 @@ export function movingMass(study: Study, geometry: Readonly<Record<string, numbe
   );
 }
 
-/** Build the immutable model of one design. */
-export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveBarModel {
-  if (study.architecture !== 'five-bar' || study.members) throw new Error(`buildFiveBarModel: the study's architecture is ${study.members ? 'a comparison' : study.architecture}; use buildArchitectureModel`);
-  const g = resolved.geometry;
-  const crank = [g.crank_1!, g.crank_2!] as const;
-  const rod = [g.rod_1!, g.rod_2!] as const;
-  const cranks = [study.links.cranks[0]!, study.links.cranks[1]!] as const;
-  const rods = [study.links.rods[0]!, study.links.rods[1]!] as const;
-  const hub = study.elbowHubMass;
-
-  // Uniform bar about one end: I = m L²/3, first moment m L/2; elbow hub is a point mass at the crank end.
-  const crankMass = [cranks[0].massPerLength * crank[0], cranks[1].massPerLength * crank[1]] as const;
-  const crankInertiaAboutPivot = [
-    (crankMass[0] * crank[0] ** 2) / 3 + hub * crank[0] ** 2,
-    (crankMass[1] * crank[1] ** 2) / 3 + hub * crank[1] ** 2,
-  ] as const;
-  const crankFirstMoment = [(crankMass[0] * crank[0]) / 2 + hub * crank[0], (crankMass[1] * crank[1]) / 2 + hub * crank[1]] as const;
-  const rodMass = [rods[0].massPerLength * rod[0], rods[1].massPerLength * rod[1]] as const;
-
-  const drives = resolved.drives;
-  const reflected = (i: 0 | 1): number => (drives ? drives[i]!.gearRatio ** 2 * drives[i]!.rotorInertia + drives[i]!.gearInertia : 0);
-  const jointStiffness = (i: 0 | 1): number => (drives ? drives[i]!.jointStiffness : Infinity);
-  const bending = (i: 0 | 1): number =>
-    crank[i] ** 2 / jointStiffness(i) + crank[i] ** 3 / (3 * cranks[i].youngsModulus * cranks[i].secondMoment);
-  const [s1, s2] = resolved.workingMode === '++' ? [1, 1] : resolved.workingMode === '+-' ? [1, -1] : resolved.workingMode === '-+' ? [-1, 1] : [-1, -1];
-
-  return {
-    pivotX: [-g.base_span! / 2, g.base_span! / 2],
-    pivotY: [0, g.base_rise!],
-    crank,
-    rod,
-    sigma: [s1, s2],
-    assembly: study.assemblyMode === '+' ? 1 : -1,
-    jointLimits: [study.jointLimits[0] ?? null, study.jointLimits[1] ?? null],
-    crankInertiaAboutPivot,
-    crankFirstMoment,
-    rodMass,
-    rodComDistance: [rod[0] / 2, rod[1] / 2],
-    rodInertiaAboutCom: [(rodMass[0] * rod[0] ** 2) / 12, (rodMass[1] * rod[1] ** 2) / 12],
-    endMass: study.endHubMass + study.payloadMass,
-    reflectedInertia: [reflected(0), reflected(1)],
-    gravity: study.gravity,
-    complianceBending: [bending(0), bending(1)],
-    complianceCrankAxial: [crank[0] / (cranks[0].youngsModulus * cranks[0].area), crank[1] / (cranks[1].youngsModulus * cranks[1].area)],
-    complianceRodAxial: [rod[0] / (rods[0].youngsModulus * rods[0].area), rod[1] / (rods[1].youngsModulus * rods[1].area)],
-  };
-}
-
 /** A link section of the study as the architecture models take it. */
 function section(link: LinkSpec): LinkSection {
   return { massPerLength: link.massPerLength, area: link.area, secondMoment: link.secondMoment, youngsModulus: link.youngsModulus };
@@ -292,7 +261,9 @@ export function studyActuators(study: Study, values?: Readonly<Record<string, un
 }
 
 /** Quantity kind of a design variable's value: angle for angle parameters, else length (categorical values are text). */
-export function variableKind(study: Study, name: string): 'angle' | 'length' {
+export function variableKind(study: Study, name: string): 'angle' | 'length' | 'dimensionless' {
+  if (/^(?:[a-z0-9]+_)?gear_ratio(_[123])?$/.test(name)) return 'dimensionless';
+  if (name === 'mount_angle' || name.endsWith('_mount_angle')) return 'angle';
   const architectures = study.members ? study.members.map((m) => m.architecture) : [study.architecture];
   for (const a of architectures) {
     const prefix = study.members ? `${ARCHITECTURE_PREFIX[a]}_` : '';

@@ -626,6 +626,9 @@ export class DutyCycleAnalysis {
   readonly effortConstant: Float64Array[];
   readonly effortViscous: Float64Array[];
   readonly effortInertial: Float64Array[];
+  /** Holding effort τ_g alone (N·m or N) and the diagonal D_ii of the joint-space inertia (drive inertia included), per node. */
+  readonly effortGravity: Float64Array[];
+  readonly inertiaDiagonal: Float64Array[];
   /** Efforts τ_i at the pace of the last `summarise`. */
   readonly torque: Float64Array[];
   /** False after `run` when some node could not be assembled (or was singular). */
@@ -648,6 +651,8 @@ export class DutyCycleAnalysis {
     this.effortConstant = perActuator(n, count);
     this.effortViscous = perActuator(n, count);
     this.effortInertial = perActuator(n, count);
+    this.effortGravity = perActuator(n, count);
+    this.inertiaDiagonal = perActuator(n, count);
     this.torque = perActuator(n, count);
     this.dynamics = new CycleDynamics(architecture);
   }
@@ -688,6 +693,8 @@ export class DutyCycleAnalysis {
         this.effortConstant[i]![k] = dyn.effortGravity[i]! + (rate > 0 ? coulomb : rate < 0 ? -coulomb : 0);
         this.effortViscous[i]![k] = (f ? f[i]!.viscous : 0) * rate;
         this.effortInertial[i]![k] = dyn.effortInertial[i]!;
+        this.effortGravity[i]![k] = dyn.effortGravity[i]!;
+        this.inertiaDiagonal[i]![k] = dyn.pose.D[i * n + i]!;
       }
     }
     this.assembled = true;

@@ -7,14 +7,11 @@
  * An Evaluator is made once per study and per worker; it owns every buffer, so evaluating a design
  * allocates only its small result object. Pure: no I/O.
  */
-import type { FiveBarModel, FiveBarPose } from './fivebar.js';
-import type { PoseStatus } from '../core/pose.js';
-import { buildFiveBarModel, designVariables, memberDesign, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
+import { designVariables, memberDesign, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import type { Study } from '../study/types.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from '../architectures/types.js';
 import { ArchitectureEvaluator } from './evaluateArchitecture.js';
 import { comparisonConstraints, type ConstraintDefinition, type DesignEvaluation } from './constraints.js';
-import { usabilityMargin, type UsabilitySettings } from './usability.js';
 
 export {
   applyConstraints,
@@ -30,14 +27,6 @@ export { architectureUsableMargin, usabilityMargin } from './usability.js';
 
 /** Metrics that `evaluateWithWorkspace` takes from an earlier evaluation, in its argument order. */
 export const WORKSPACE_METRICS = ['reachable_area', 'workspace_area', 'task_coverage', 'inscribed_radius'] as const;
-
-/**
- * Transitional: the usability rule on the five-bar's former pose type, for the callers that still
- * use it (src/export/candidate.ts, workspaceMap.ts); the same rule as every other caller.
- */
-export function usableMargin(pose: FiveBarPose, status: PoseStatus, study: UsabilitySettings): number {
-  return usabilityMargin(status, pose.inverseCondition, [pose.s1, pose.s2], pose.detA, pose.jointMargin, study);
-}
 
 /** What every evaluation path offers (five-bar engine, architecture interface, comparison). */
 interface EvaluationPath {
@@ -130,17 +119,6 @@ export class Evaluator {
   /** Geometry, working mode and drives of a design vector (a comparison study: of the selected member). */
   resolve(design: ArrayLike<number>): ResolvedDesign {
     return resolveDesign(this.study, this.variables, design);
-  }
-
-  /**
-   * Transitional: the five-bar's former model type of a design vector (five-bar studies only), for
-   * the duty-cycle analysis, simulation and five-bar sheets that still take it. Use `architectureDesign`.
-   */
-  model(design: ArrayLike<number>): FiveBarModel {
-    if (this.study.members || this.study.architecture !== 'five-bar') {
-      throw new Error(`Evaluator.model gives the five-bar's former model; the study's architecture is ${this.study.members ? 'a comparison' : this.study.architecture} (use architectureDesign)`);
-    }
-    return buildFiveBarModel(this.study, this.resolve(design));
   }
 
   /**

@@ -17,6 +17,7 @@
 import { characteristicLengthForPoses } from '../architectures/conditioning.js';
 import { type ArchitectureModelBase, type ArchitecturePose, type DriveAtJoint, type PlanarArchitecture } from '../architectures/types.js';
 import { ARCHITECTURES } from '../architectures/index.js';
+import { PoseStatus } from '../core/pose.js';
 import { METRICS, metricIndex } from '../core/metrics.js';
 import { MarginGrid } from './grid.js';
 import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
@@ -25,7 +26,11 @@ import { RegionMetrics } from './regionMetrics.js';
 import { architectureUsableMargin } from './usability.js';
 import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
+import { trainsOf, writeStaticDriveMetrics } from './driveMetrics.js';
+import type { DriveTrain } from '../drives/types.js';
 import type { Study } from '../study/types.js';
+import { mountModel } from '../cell/mounting.js';
+import { CellAnalysis } from './cellMetrics.js';
 
 export { architectureUsableMargin };
 export { rangeWidthAt } from './regionMetrics.js';
@@ -49,16 +54,22 @@ export class ArchitectureEvaluator {
   private readonly grid: MarginGrid;
   private readonly task: { x: Float64Array; y: Float64Array; weight: Float64Array } | null;
   /** Region averages and extremes (regionMetrics.ts). */
-  private readonly region: RegionMetrics;
+  private readonly regionMetrics: RegionMetrics;
   /** Study orientation φ_0, rad (0 for 2-DOF). */
   private readonly phi0: number;
   /** Joint-margin scale of the design in hand (1 or the longest rod, m). */
   private jointScale = 1;
   private drives: readonly DriveAtJoint[] | null = null;
+  /** Motor, gearbox and stage per actuator when the study builds drives from catalogues (docs/drives.md). */
+  private trains: readonly DriveTrain[] | null = null;
   /** Every drive of the design in hand has an encoder step (for `resolution`). */
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
   private readonly cycle: CycleMetrics | null;
+  /** Cell checks and metrics (docs/cell.md), or null without a cell section. */
+  readonly cell: CellAnalysis | null;
+  /** Label of the evaluation region of the design in hand (−1 = none). */
+  private region = -1;
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -69,9 +80,10 @@ export class ArchitectureEvaluator {
     this.pose = this.architecture.createPose();
     this.grid = new MarginGrid(study.evaluation.gridCells + 4);
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
-    this.region = new RegionMetrics(study, this.architecture, this.pose, this.phi0);
-    this.task = this.region.lattice;
+    this.regionMetrics = new RegionMetrics(study, this.architecture, this.pose, this.phi0, (status) => this.usable(status));
+    this.task = this.regionMetrics.lattice;
     this.cycle = CycleMetrics.forStudy(study, this.architecture);
+    this.cell = CellAnalysis.forStudy(study, this.architecture);
   }
 
   resolve(design: ArrayLike<number>): ResolvedDesign {
@@ -85,7 +97,7 @@ export class ArchitectureEvaluator {
    */
   buildModel(resolved: ResolvedDesign): ArchitectureModelBase {
     const architecture = this.architecture;
-    const model = architecture.buildModel(modelInput(this.study, resolved));
+    const model = mountModel(architecture.buildModel(modelInput(this.study, resolved)), resolved.mount);
     if (this.study.orientation?.characteristicLength !== 'auto' || !this.task) return model;
     const task = this.task;
     const points = new Float64Array(3 * task.x.length);
@@ -96,7 +108,7 @@ export class ArchitectureEvaluator {
     }
     const scale = architecture.footprint(model);
     const best = characteristicLengthForPoses(architecture, model, this.pose, points, 1e-3 * scale, 10 * scale);
-    return best ? architecture.buildModel(modelInput(this.study, resolved, best.length)) : model;
+    return best ? mountModel(architecture.buildModel(modelInput(this.study, resolved, best.length)), resolved.mount) : model;
   }
 
   /** Model of a design vector. */
@@ -106,9 +118,16 @@ export class ArchitectureEvaluator {
 
   private prepare(resolved: ResolvedDesign, model: ArchitectureModelBase): void {
     this.drives = drivesAtJoint(this.study, resolved.drives);
+    this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
-    this.region.begin(model, { drives: this.drives, encodersKnown: this.encodersKnown, speed: this.study.task.speed }, this.jointScale);
+    this.cell?.prepare(model, resolved.mount);
+    this.regionMetrics.begin(model, { drives: this.drives, encodersKnown: this.encodersKnown, speed: this.study.task.speed, trains: this.trains }, this.jointScale);
+  }
+
+  private usable(status: PoseStatus): number {
+    const u = architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+    return this.cell?.restricts ? Math.min(u, this.cell.nodeMargin(this.pose, status)) : u;
   }
 
   evaluate(design: ArrayLike<number>): DesignEvaluation {
@@ -119,25 +138,28 @@ export class ArchitectureEvaluator {
     const errors = new Float64Array(METRICS.length).fill(Number.NaN);
     this.analyseWorkspace(model, metrics);
     this.finishMetrics(model, metrics, errors);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
+    this.cell?.write(model, this.pose, (status) => this.usable(status), this.grid, this.region, metrics);
     return this.withConstraints(metrics, resolved, errors);
   }
 
   /** As Evaluator.evaluateWithWorkspace: workspace metrics from an earlier evaluation, the rest recomputed. */
   evaluateWithWorkspace(design: ArrayLike<number>, workspace: ArrayLike<number>): DesignEvaluation {
     if (!this.task) throw new Error('evaluateWithWorkspace needs a study with a task region');
+    // The cell metrics need the grid: evaluate in full.
+    if (this.cell) return this.evaluate(design);
     const resolved = this.resolve(design);
     const model = this.buildModel(resolved);
     this.prepare(resolved, model);
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     const errors = new Float64Array(METRICS.length).fill(Number.NaN);
-    this.region.taskPass(null, -1);
+    this.regionMetrics.taskPass(null, -1);
     metrics[M.reachable] = workspace[0]!;
     metrics[M.workspace] = workspace[1]!;
     metrics[M.coverage] = workspace[2]!;
     metrics[M.inscribed] = workspace[3]!;
     this.finishMetrics(model, metrics, errors);
-    this.cycle?.write(model, this.drives, metrics);
+    this.cycle?.write(model, this.drives, metrics, this.trains);
     return this.withConstraints(metrics, resolved, errors);
   }
 
@@ -148,27 +170,37 @@ export class ArchitectureEvaluator {
   private analyseWorkspace(model: ArchitectureModelBase, metrics: Float64Array): void {
     const grid = this.grid;
     const box = evaluationBox(this.study, this.architecture, model, this.phi0);
+    this.region = -1;
     if (!box) {
       metrics[M.reachable] = 0;
       metrics[M.workspace] = 0;
       metrics[M.inscribed] = 0;
       metrics[M.coverage] = this.task ? 0 : Number.NaN;
-      if (this.task) this.region.taskPass(null, -1);
+      if (this.task) this.regionMetrics.taskPass(null, -1);
       return;
     }
-    const region = sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+    const cell = this.cell?.restricts ? this.cell : null;
+    // With cell checks every node's margin also honours them (docs/cell.md); without, the grid is sampled as before.
+    const region = cell
+      ? sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.study.evaluation.gridCells, (index, pose, status) => {
+          const m = cell.nodeMargin(pose, status);
+          if (m < grid.values[index]!) grid.values[index] = m;
+        })
+      : sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+    this.region = region;
     metrics[M.reachable] = grid.positiveArea(grid.secondary);
     metrics[M.workspace] = grid.regionArea(region);
     metrics[M.inscribed] = grid.inscribedRadius(region);
     if (this.task) {
-      metrics[M.coverage] = this.region.taskPass(grid, region);
+      metrics[M.coverage] = this.regionMetrics.taskPass(grid, region);
     } else {
-      this.region.workspacePass(grid, region);
+      this.regionMetrics.workspacePass(grid, region);
     }
   }
 
   private finishMetrics(model: ArchitectureModelBase, metrics: Float64Array, errors: Float64Array): void {
-    this.region.finish(model, metrics, errors);
+    this.regionMetrics.finish(model, metrics, errors);
+    if (this.trains) writeStaticDriveMetrics(this.trains, this.study.driveTrains?.brakeFactor ?? 1.5, metrics);
     metrics[M.footprint] = this.architecture.footprint(model);
     metrics[M.movingMass] = this.architecture.movingMass(model);
   }

@@ -14,6 +14,8 @@ import { maxSingularValue2 } from '../architectures/linalg2.js';
 import { orientationRanges, orientationRequirementMargin } from '../architectures/orientation.js';
 import type { ArchitectureModelBase, ArchitecturePose, DriveAtJoint, PlanarArchitecture } from '../architectures/types.js';
 import { PoseStatus } from '../core/pose.js';
+import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
+import type { DriveTrain } from '../drives/types.js';
 import { metricIndex } from '../core/metrics.js';
 import type { Study } from '../study/types.js';
 import { ExtremeSearch, type ExtremeObjective } from './extremeSearch.js';
@@ -32,13 +34,16 @@ export const Q = {
   effort: 5,
   speed: 8,
   step: 11,
-  orientationMargin: 12,
-  orientationRange: 13,
+  accelAtSpeed: 12,
+  orientationMargin: 13,
+  orientationRange: 14,
 } as const;
-export const QUANTITIES = 14;
-const SENSE: readonly (1 | -1)[] = [-1, -1, -1, -1, -1, 1, 1, 1, 1, 1, 1, 1, -1, -1];
+export const QUANTITIES = 15;
+/** The quantities of a pose (the orientation ones follow, from a scan). */
+const POSE_QUANTITIES = 13;
+const SENSE: readonly (1 | -1)[] = [-1, -1, -1, -1, -1, 1, 1, 1, 1, 1, 1, 1, -1, -1, -1];
 /** Worst value of each quantity at a pose that is not assembled or is singular. */
-const SINGULAR_VALUE: readonly number[] = [0, 0, 0, 0, 0, Infinity, Infinity, Infinity, Infinity, Infinity, Infinity, Infinity, Number.NaN, Number.NaN];
+const SINGULAR_VALUE: readonly number[] = [0, 0, 0, 0, 0, Infinity, Infinity, Infinity, Infinity, Infinity, Infinity, Infinity, 0, Number.NaN, Number.NaN];
 /** Most orientation ranges kept per point (more are dropped by orientationRanges). */
 const MAX_RANGES = 16;
 /** Budgets of one local search (evaluations): pose quantities, orientation quantities (a scan each). */
@@ -58,6 +63,7 @@ const M = {
   peakTorqueOf: [metricIndex('peak_gravity_torque_1'), metricIndex('peak_gravity_torque_2'), metricIndex('peak_gravity_torque_3')],
   bandwidth: metricIndex('bandwidth'),
   accel: metricIndex('accel_capability'),
+  accelAtSpeed: metricIndex('accel_capability_at_speed'),
   peakSpeed: metricIndex('peak_joint_speed'),
   peakSpeedOf: [metricIndex('peak_joint_speed_1'), metricIndex('peak_joint_speed_2'), metricIndex('peak_joint_speed_3')],
   resolution: metricIndex('resolution'),
@@ -87,6 +93,8 @@ export interface PoseContext {
   encodersKnown: boolean;
   /** Required end-point speed, m/s. */
   speed: number;
+  /** Motor, gearbox and stage per actuator when the study builds drives from catalogues, else null. */
+  trains: readonly DriveTrain[] | null;
 }
 
 /**
@@ -98,7 +106,7 @@ export interface PoseContext {
 export function poseValues(architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, pose: ArchitecturePose, status: PoseStatus, context: PoseContext, out: Float64Array): void {
   const n = pose.dof;
   if (status !== PoseStatus.Assembled || pose.inverseCondition === 0) {
-    for (let k = 0; k < 12; k++) out[k] = SINGULAR_VALUE[k]!;
+    for (let k = 0; k < POSE_QUANTITIES; k++) out[k] = SINGULAR_VALUE[k]!;
     for (let i = n; i < 3; i++) { out[Q.effort + i] = 0; out[Q.speed + i] = 0; }
     if (!context.drives) out[Q.accel] = 0;
     if (!(context.drives && context.encodersKnown)) out[Q.step] = Infinity;
@@ -112,15 +120,21 @@ export function poseValues(architecture: PlanarArchitecture<ArchitectureModelBas
   out[Q.stiffness] = pose.minStiffness;
   out[Q.frequency] = pose.frequencies[0]!;
   const drives = context.drives;
+  const trains = context.trains;
   let accel = Infinity;
+  let accelAtSpeed = Infinity;
   for (let i = 0; i < 3; i++) {
     if (i >= n) { out[Q.effort + i] = 0; out[Q.speed + i] = 0; continue; }
     const effort = Math.abs(pose.tauG[i]!);
+    const speed = context.speed * pose.inverseJacobianRowNorm[i]!;
     out[Q.effort + i] = effort;
-    out[Q.speed + i] = context.speed * pose.inverseJacobianRowNorm[i]!;
+    out[Q.speed + i] = speed;
     if (drives) accel = Math.min(accel, (drives[i]!.peakEffort - effort) / pose.inertiaRowNorm[i]!);
+    // Drive trains: acceleration available while moving at the required speed (peak envelope).
+    if (trains) accelAtSpeed = Math.min(accelAtSpeed, (jointPeakEffortAtSpeed(trains[i]!, speed) - effort) / pose.inertiaRowNorm[i]!);
   }
   out[Q.accel] = accel;
+  out[Q.accelAtSpeed] = accelAtSpeed;
   out[Q.step] = drives && context.encodersKnown ? encoderStepAt(pose, drives) : 0;
 }
 
@@ -216,6 +230,7 @@ export class RegionMetrics {
   private readonly at = new Float64Array(2);
   private readonly quadrature = new RegionQuadrature();
   private readonly search = new ExtremeSearch();
+  private readonly usable: (status: PoseStatus) => number;
   private readonly taskInvCond: Float64Array;
   private readonly taskMargin: Float64Array;
   /** Footprint of the design in hand, m (scales the reach margin). */
@@ -224,7 +239,7 @@ export class RegionMetrics {
   private nodeSolved = new Uint8Array(0);
   private nodeRefinable = new Uint8Array(0);
   private model: ArchitectureModelBase | null = null;
-  private context: PoseContext = { drives: null, encodersKnown: false, speed: 0 };
+  private context: PoseContext = { drives: null, encodersKnown: false, speed: 0, trains: null };
   private jointScale = 1;
   private gci = 0;
   private gciError = 0;
@@ -234,8 +249,13 @@ export class RegionMetrics {
   private regionLabel = -1;
   private lastStatus: PoseStatus = PoseStatus.Unreachable;
 
-  constructor(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, pose: ArchitecturePose, phi0: number) {
+  /**
+   * `usable`: the usability margin of the pose just solved with the given status (the evaluator's
+   * rule, cell checks included); default the rule of usability.ts.
+   */
+  constructor(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, pose: ArchitecturePose, phi0: number, usable?: (status: PoseStatus) => number) {
     this.study = study;
+    this.usable = usable ?? ((status) => architectureUsableMargin(this.pose, status, this.study, this.jointScale));
     this.architecture = architecture;
     this.pose = pose;
     this.phi0 = phi0;
@@ -304,11 +324,11 @@ export class RegionMetrics {
       const status = this.solveValues(x, y);
       invCond[k] = status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition;
       this.taskMargin[k] = this.assembledMargin(status);
-      let ok = region >= 0 && grid !== null && architectureUsableMargin(this.pose, status, this.study, this.jointScale) >= 0 && grid.regionAt(x, y) === region;
-      this.worst.fold(this.values, x, y, 0, 12);
+      let ok = region >= 0 && grid !== null && this.usable(status) >= 0 && grid.regionAt(x, y) === region;
+      this.worst.fold(this.values, x, y, 0, POSE_QUANTITIES);
       if (orientation) {
         this.orientationValues(x, y);
-        this.worst.fold(this.values, x, y, 12, QUANTITIES);
+        this.worst.fold(this.values, x, y, POSE_QUANTITIES, QUANTITIES);
         if (this.values[Q.orientationMargin]! < 0) ok = false;
       }
       this.worst.count++;
@@ -444,7 +464,7 @@ export class RegionMetrics {
     if (label !== region) return;
     poseValues(this.architecture, this.model!, this.pose, status, this.context, this.values);
     if (status !== PoseStatus.Assembled || this.pose.inverseCondition === 0) this.worst.singular = true;
-    this.worst.fold(this.values, x, y, 0, 12);
+    this.worst.fold(this.values, x, y, 0, POSE_QUANTITIES);
     this.worst.count++;
   }
 
@@ -453,7 +473,7 @@ export class RegionMetrics {
     void grid;
     const status = this.architecture.solvePose(this.model!, this.pose, x, y, this.phi0);
     this.lastStatus = status;
-    let u = architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+    let u = this.usable(status);
     const w = this.study.evaluation.window;
     if (w) {
       const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y) / this.architecture.footprint(this.model!);
@@ -475,10 +495,10 @@ export class RegionMetrics {
     } else {
       this.solveValues(x, y);
     }
-    this.worst.fold(this.values, x, y, 0, 12, ROUNDING);
+    this.worst.fold(this.values, x, y, 0, POSE_QUANTITIES, ROUNDING);
     if (this.target >= Q.orientationMargin) {
       this.orientationValues(x, y);
-      this.worst.fold(this.values, x, y, 12, QUANTITIES, ROUNDING);
+      this.worst.fold(this.values, x, y, POSE_QUANTITIES, QUANTITIES, ROUNDING);
     }
     return this.values[this.target]!;
   }
@@ -492,7 +512,7 @@ export class RegionMetrics {
       value: (x, y) => this.searchValue(x, y),
       ...(this.grid || !region ? {} : { project: (x: number, y: number, out: Float64Array) => projectOntoTask(region, x, y, out) }),
     };
-    const last = this.orientationTask ? QUANTITIES : 12;
+    const last = this.orientationTask ? QUANTITIES : POSE_QUANTITIES;
     for (let k = 0; k < last; k++) {
       worst.error[k] = 0;
       if (!this.worth(k)) continue;
@@ -518,11 +538,12 @@ export class RegionMetrics {
   private worth(k: number): boolean {
     const v = this.worst.value[k]!;
     if (!Number.isFinite(v)) return false;
-    if (k < 12 && this.worst.singular) return false;
+    if (k < POSE_QUANTITIES && this.worst.singular) return false;
     const n = this.architecture.dof;
     if (k >= Q.effort && k < Q.effort + 3) return k - Q.effort < n && v > 0;
     if (k >= Q.speed && k < Q.speed + 3) return k - Q.speed < n && this.context.speed > 0;
     if (k === Q.accel) return this.context.drives !== null;
+    if (k === Q.accelAtSpeed) return this.context.trains !== null;
     if (k === Q.step) return this.context.drives !== null && this.context.encodersKnown;
     return true;
   }
@@ -555,6 +576,10 @@ export class RegionMetrics {
     const drives = this.context.drives;
     metrics[M.accel] = drives ? pick(Q.accel, 0) : Number.NaN;
     errors[M.accel] = drives ? err(Q.accel) : Number.NaN;
+    if (this.context.trains) {
+      metrics[M.accelAtSpeed] = pick(Q.accelAtSpeed, 0);
+      errors[M.accelAtSpeed] = err(Q.accelAtSpeed);
+    }
     const encoders = drives !== null && drives.every((d) => d.encoderStep > 0);
     metrics[M.resolution] = encoders ? pick(Q.step, Infinity) : Number.NaN;
     errors[M.resolution] = encoders ? err(Q.step) : Number.NaN;

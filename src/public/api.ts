@@ -6,6 +6,7 @@
  * calls the engine's functions directly.
  */
 import * as design from '../api/design.js';
+import * as summary from '../api/studySummary.js';
 import { designVariables as engineDesignVariables, type DesignVariable } from '../mechanics/designSpace.js';
 import { Evaluator as EngineEvaluator, type DesignEvaluation } from '../mechanics/evaluate.js';
 import type { PoolOptions } from '../pool/pool.js';
@@ -52,6 +53,17 @@ export function chooseDesign(study: StudyInput, overrides?: DesignOverrides): de
 
 export function evaluateDesign(study: StudyInput, overrides?: DesignOverrides): ReturnType<typeof design.evaluateDesign> {
   return design.evaluateDesign(studyArgument('evaluateDesign', study), overridesArgument('evaluateDesign', overrides));
+}
+
+/** What `loopsmith check` reports: throws a StudyError when the study cannot succeed, else warnings, baseline verdict and summary. */
+export function checkStudy(study: LoadedStudy, source?: string): summary.StudyCheck {
+  checkArguments('checkStudy', { study: [study, is.loadedStudy], source: [source, is.optional(is.text('a name for the text'))] });
+  return summary.checkStudy(study, source);
+}
+
+/** Plain-text summary of a study's sections, as `loopsmith check` prints it. */
+export function studySummary(study: StudyInput): string {
+  return summary.studySummary(studyArgument('studySummary', study));
 }
 
 export function probeDesign(study: StudyInput, x: number, y: number, overrides?: DesignOverrides): ReturnType<typeof design.probeDesign> {

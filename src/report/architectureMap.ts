@@ -18,7 +18,7 @@
  *   continued outside by leg i's own reach margin (negative), over cells whose corners the other legs
  *   reach: the curve lies within a grid cell of s_i = 0.
  */
-import { curveAndJointLayers, mapAxes } from './mapLayers.js';
+import { curveAndJointLayers, mapAxes, type MapLayer } from './mapLayers.js';
 import type { TopLevelSpec } from 'vega-lite';
 import {
   ArchitecturePose,
@@ -81,6 +81,22 @@ export interface ArchitectureMapOptions {
   readonly maxHeightPx?: number;
   /** Colour-map cells across the longer side at most (default 120). */
   readonly maxColourCells?: number;
+  /** The machine in its cell (docs/cell.md): keep-outs, task zones, the regular workspace and the clearance checks. */
+  readonly cell?: MapCellLayer;
+}
+
+/** Cell layer of a map: outlines (x, y interleaved, m) and the per-node clearance checks. */
+export interface MapCellLayer {
+  /** Cell margin of a solved node (≥ 0 clear); min()-ed into the usable margin when `restricts`, and its zero level is drawn. */
+  readonly nodeMargin?: (pose: ArchitecturePose, status: PoseStatus) => number;
+  /** Whether the usable workspace honours `nodeMargin` (as the evaluator does). */
+  readonly restricts?: boolean;
+  readonly keepOuts: readonly Float64Array[];
+  readonly zones: readonly Float64Array[];
+  /** Drive housings at the pivots (outlines). */
+  readonly housings?: readonly Float64Array[];
+  /** Corners of the regular-workspace rectangle, or null. */
+  readonly rectangle?: Float64Array | null;
 }
 
 /** Sampled fields of an architecture map (row-major, index j·nx + i). */
@@ -113,6 +129,8 @@ export interface ArchitectureMapFields {
   /** Label of the chosen usable region (−1 when none) and its area, m². */
   readonly region: number;
   readonly regionArea: number;
+  /** Cell margin per node (maps with a cell layer; NaN where unreachable). */
+  readonly cellMargin?: Float64Array;
 }
 
 /** The mechanism at its home pose, m. */
@@ -242,6 +260,8 @@ export function sampleArchitectureMapFields(
   const legSine = new Float64Array(n * nodes);
   const mechanismSine = new Float64Array(nodes);
   const inverseCondition = new Float64Array(nodes);
+  const cellCheck = options.cell?.nodeMargin;
+  const cellMargin = cellCheck ? new Float64Array(nodes).fill(Number.NaN) : undefined;
   const pose = architecture.createPose();
   for (let j = 0; j < ny; j++) {
     const y = y0 + j * h;
@@ -254,6 +274,10 @@ export function sampleArchitectureMapFields(
       status[k] = st;
       reachMargin[k] = pose.reachMargin;
       values[k] = architectureUsableMargin(pose, st, model.assembly, options.usable);
+      if (cellCheck && cellMargin && st !== PoseStatus.Unreachable) {
+        cellMargin[k] = cellCheck(pose, st);
+        if (options.cell?.restricts && cellMargin[k]! < values[k]!) values[k] = cellMargin[k]!;
+      }
       for (let leg = 0; leg < n; leg++) {
         const margin = pose.legReach[leg]!;
         legReachMargin[leg * nodes + k] = margin;
@@ -280,7 +304,7 @@ export function sampleArchitectureMapFields(
     regionMargin[k] = grid.labels[k] === region ? v : v >= 0 ? -v - 1e-300 : v;
   }
   const regionArea = grid.regionArea(region);
-  return { nx, ny, x0, y0, h, phi0, windowCut: window.cut, status, reachMargin, legReachMargin, legSine, mechanismSine, inverseCondition, usable, regionMargin, region, regionArea };
+  return { nx, ny, x0, y0, h, phi0, windowCut: window.cut, status, reachMargin, legReachMargin, legSine, mechanismSine, inverseCondition, usable, regionMargin, region, regionArea, ...(cellMargin ? { cellMargin } : {}) };
 }
 
 /**
@@ -548,6 +572,44 @@ function formatMm(value: number): string {
   return `${(value * MM).toFixed(0)} mm`;
 }
 
+/** A closed outline (x, y interleaved) as a polyline. */
+function closedOutline(poly: Float64Array): Polyline {
+  const x: number[] = [];
+  const y: number[] = [];
+  for (let k = 0; k <= poly.length; k += 2) {
+    x.push(poly[k % poly.length]!);
+    y.push(poly[(k + 1) % poly.length]!);
+  }
+  return { x, y };
+}
+
+/** Keep-outs, task zones, the regular workspace and the zero level of the cell margin (interference curves). */
+function addCellLines(cell: MapCellLayer, fields: ArchitectureMapFields | null, addLine: (feature: Feature, line: Polyline) => void): void {
+  for (const k of cell.keepOuts) addLine(ARCHITECTURE_MAP_FEATURES.keepOut, closedOutline(k));
+  for (const z of cell.zones) addLine(ARCHITECTURE_MAP_FEATURES.zone, closedOutline(z));
+  for (const h of cell.housings ?? []) addLine(ARCHITECTURE_MAP_FEATURES.housing, closedOutline(h));
+  if (fields?.cellMargin) {
+    const margin = fields.cellMargin;
+    zeroContours(fields, margin, (k) => !Number.isNaN(margin[k]!)).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.interference, l));
+  }
+  if (cell.rectangle) addLine(ARCHITECTURE_MAP_FEATURES.regular, closedOutline(cell.rectangle));
+}
+
+/** The drawing's window: the sampled grid (rails are clipped to it), m. */
+interface MapWindow { readonly x0: number; readonly y0: number; readonly x1: number; readonly y1: number }
+
+/** Rows of the curve layer, each polyline a part of its own. */
+class MapLines {
+  readonly rows: LineRow[] = [];
+  private partCount = 0;
+
+  add(feature: Feature, line: Polyline): void {
+    const part = `p${String(this.partCount++).padStart(5, '0')}`;
+    const widthPx = FEATURE_STYLE.find((f) => f.feature === feature)!.width;
+    for (let k = 0; k < line.x.length; k++) this.rows.push({ x: line.x[k]! * MM, y: line.y[k]! * MM, feature, part, order: k, widthPx });
+  }
+}
+
 /** The Vega-Lite spec of an architecture's workspace map, with its layout, fields and home pose. */
 export function architectureMapSpec(
   architecture: PlanarArchitecture<ArchitectureModelBase>,
@@ -557,22 +619,44 @@ export function architectureMapSpec(
   const n = model.dof;
   const fields = sampleArchitectureMapFields(architecture, model, options);
   const home = architectureMapHome(architecture, model, fields, options);
-  const tree = architecture.bodyTree(model);
+  const window: MapWindow = fields
+    ? { x0: fields.x0, y0: fields.y0, x1: fields.x0 + (fields.nx - 1) * fields.h, y1: fields.y0 + (fields.ny - 1) * fields.h }
+    : { x0: -0.1, y0: -0.1, x1: 0.1, y1: 0.1 };
+  const lines = new MapLines();
+  addRails(lines, architecture.bodyTree(model), window);
+  if (fields) {
+    architectureReachBoundary(fields).forEach((l) => lines.add(ARCHITECTURE_MAP_FEATURES.reach, l));
+    architectureLegSingularityCurves(fields, n, architecture, model).forEach((l) => lines.add(ARCHITECTURE_MAP_FEATURES.legSingularity, l));
+    architectureMechanismSingularityCurves(fields).forEach((l) => lines.add(ARCHITECTURE_MAP_FEATURES.mechanismSingularity, l));
+    architectureUsableBoundary(fields).forEach((l) => lines.add(ARCHITECTURE_MAP_FEATURES.usable, l));
+  }
+  const task = options.taskRegion ?? null;
+  if (task) lines.add(ARCHITECTURE_MAP_FEATURES.task, taskOutline(task));
+  if (options.cell) addCellLines(options.cell, fields, (feature, line) => lines.add(feature, line));
+  const joints = home ? addMechanism(lines, home, n) : [];
 
-  const lines: LineRow[] = [];
-  let partCount = 0;
-  const addLine = (feature: Feature, line: Polyline): void => {
-    const part = `p${String(partCount++).padStart(5, '0')}`;
-    const widthPx = FEATURE_STYLE.find((f) => f.feature === feature)!.width;
-    for (let k = 0; k < line.x.length; k++) lines.push({ x: line.x[k]! * MM, y: line.y[k]! * MM, feature, part, order: k, widthPx });
+  const { colour, polygons, dimmed } = fields ? colourMapRows(fields, options.maxColourCells ?? 120) : { colour: [], polygons: [], dimmed: false };
+  const layout = mapLayout(lines.rows, joints, window, options);
+  const subtitle = mapSubtitle(model, fields, home, dimmed, options);
+  const jointStyles = JOINT_STYLE.filter((j) => joints.some((row) => row.joint === j.joint));
+  const featureStyles = FEATURE_STYLE.filter((f) => lines.rows.some((row) => row.feature === f.feature));
+  const spec: TopLevelSpec = {
+    $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
+    title: { text: options.title ?? `Workspace of the ${architecture.name.toUpperCase()} design`, subtitle },
+    width: layout.widthPx,
+    height: layout.heightPx,
+    layer: [
+      ...colourLayers(colour, polygons, layout, n, options),
+      ...curveAndJointLayers(layout, lines.rows, joints, featureStyles, jointStyles),
+    ],
+    resolve: { scale: { color: 'independent', shape: 'independent', fill: 'independent', strokeDash: 'independent' }, legend: { color: 'independent' } },
   };
-  // Window of the drawing: the sampled grid (rails are clipped to it).
-  const gx0 = fields ? fields.x0 : -0.1;
-  const gy0 = fields ? fields.y0 : -0.1;
-  const gx1 = fields ? fields.x0 + (fields.nx - 1) * fields.h : 0.1;
-  const gy1 = fields ? fields.y0 + (fields.ny - 1) * fields.h : 0.1;
-  // Rails of the ground slides (body tree): the stroke when limited, else the rail line across the sampled window.
-  const across = Math.hypot(gx1 - gx0, gy1 - gy0);
+  return { spec, layout, fields, home };
+}
+
+/** Rails of the ground slides (body tree): the stroke when limited, else the rail line across the window. */
+function addRails(lines: MapLines, tree: BodyTree, window: MapWindow): void {
+  const across = Math.hypot(window.x1 - window.x0, window.y1 - window.y0);
   for (const body of tree.bodies) {
     const joint = body.joint;
     if (body.parent !== null || joint?.kind !== 'prismatic') continue;
@@ -582,56 +666,51 @@ export function architectureMapSpec(
     let qb: number;
     if (joint.range) { qa = joint.range.min; qb = joint.range.max; } else {
       // Parameter of the window centre's projection ± the window diagonal.
-      const t = ((gx0 + gx1) / 2 - ox) * ex + ((gy0 + gy1) / 2 - oy) * ey;
+      const t = ((window.x0 + window.x1) / 2 - ox) * ex + ((window.y0 + window.y1) / 2 - oy) * ey;
       qa = t - across; qb = t + across;
     }
-    addLine(ARCHITECTURE_MAP_FEATURES.rail, { x: [ox + qa * ex, ox + qb * ex], y: [oy + qa * ey, oy + qb * ey] });
+    lines.add(ARCHITECTURE_MAP_FEATURES.rail, { x: [ox + qa * ex, ox + qb * ex], y: [oy + qa * ey, oy + qb * ey] });
   }
-  if (fields) {
-    architectureReachBoundary(fields).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.reach, l));
-    architectureLegSingularityCurves(fields, n, architecture, model).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.legSingularity, l));
-    architectureMechanismSingularityCurves(fields).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.mechanismSingularity, l));
-    architectureUsableBoundary(fields).forEach((l) => addLine(ARCHITECTURE_MAP_FEATURES.usable, l));
-  }
-  const task = options.taskRegion ?? null;
-  if (task) addLine(ARCHITECTURE_MAP_FEATURES.task, taskOutline(task));
+}
 
+/** The mechanism at its home pose: leg lines (and the platform) into `lines`; its joints as rows. */
+function addMechanism(lines: MapLines, home: ArchitectureMapHome, n: number): JointRow[] {
   const joints: JointRow[] = [];
-  if (home) {
-    if (home.legs) {
-      for (const leg of home.legs) {
-        // The leg from its ground joint (body tree): a slider on its rail, or a pivot (actuated or passive) with an elbow when the proximal joint lies off the pivot.
-        const onRail = leg.baseKind === 'slider';
-        const elbow = !onRail && Math.hypot(leg.proximal[0] - leg.base[0], leg.proximal[1] - leg.base[1]) > 1e-9;
-        const path = elbow ? { x: [leg.base[0], leg.proximal[0], leg.distal[0]], y: [leg.base[1], leg.proximal[1], leg.distal[1]] }
-          : { x: [leg.base[0], leg.distal[0]], y: [leg.base[1], leg.distal[1]] };
-        addLine(ARCHITECTURE_MAP_FEATURES.mechanism, path);
-        const baseJoint = onRail ? 'slider Sᵢ (actuated)' : leg.baseKind === 'actuated pivot' ? 'actuated pivot Aᵢ' : 'base pivot (passive)';
-        joints.push({ x: leg.base[0] * MM, y: leg.base[1] * MM, joint: baseJoint });
-        if (elbow) joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'elbow Cᵢ' });
-      }
-      if (n === 3) {
-        const pins = home.legs.map((l) => l.distal);
-        addLine(ARCHITECTURE_MAP_FEATURES.platform, { x: [...pins.map((p) => p[0]), pins[0]![0]], y: [...pins.map((p) => p[1]), pins[0]![1]] });
-        for (const p of pins) joints.push({ x: p[0] * MM, y: p[1] * MM, joint: 'platform pin Bᵢ' });
-      }
-      joints.push({ x: home.x * MM, y: home.y * MM, joint: 'end point P (home)' });
-    } else {
-      joints.push({ x: home.x * MM, y: home.y * MM, joint: 'home point (not reachable)' });
-    }
+  if (!home.legs) {
+    joints.push({ x: home.x * MM, y: home.y * MM, joint: 'home point (not reachable)' });
+    return joints;
   }
+  for (const leg of home.legs) {
+    // The leg from its ground joint (body tree): a slider on its rail, or a pivot (actuated or passive) with an elbow when the proximal joint lies off the pivot.
+    const onRail = leg.baseKind === 'slider';
+    const elbow = !onRail && Math.hypot(leg.proximal[0] - leg.base[0], leg.proximal[1] - leg.base[1]) > 1e-9;
+    const path = elbow ? { x: [leg.base[0], leg.proximal[0], leg.distal[0]], y: [leg.base[1], leg.proximal[1], leg.distal[1]] }
+      : { x: [leg.base[0], leg.distal[0]], y: [leg.base[1], leg.distal[1]] };
+    lines.add(ARCHITECTURE_MAP_FEATURES.mechanism, path);
+    const baseJoint = onRail ? 'slider Sᵢ (actuated)' : leg.baseKind === 'actuated pivot' ? 'actuated pivot Aᵢ' : 'base pivot (passive)';
+    joints.push({ x: leg.base[0] * MM, y: leg.base[1] * MM, joint: baseJoint });
+    if (elbow) joints.push({ x: leg.proximal[0] * MM, y: leg.proximal[1] * MM, joint: 'elbow Cᵢ' });
+  }
+  if (n === 3) {
+    const pins = home.legs.map((l) => l.distal);
+    lines.add(ARCHITECTURE_MAP_FEATURES.platform, { x: [...pins.map((p) => p[0]), pins[0]![0]], y: [...pins.map((p) => p[1]), pins[0]![1]] });
+    for (const p of pins) joints.push({ x: p[0] * MM, y: p[1] * MM, joint: 'platform pin Bᵢ' });
+  }
+  joints.push({ x: home.x * MM, y: home.y * MM, joint: 'end point P (home)' });
+  return joints;
+}
 
-  const { colour, polygons, dimmed } = fields ? colourMapRows(fields, options.maxColourCells ?? 120) : { colour: [], polygons: [], dimmed: false };
-
-  // Axis domains: the reachable region, the task, the mechanism (not the unclipped rails), padded; equal mm per px.
+/** Axis domains: the reachable region, the task, the mechanism (not the unclipped rails), padded; equal mm per px. */
+function mapLayout(lines: readonly LineRow[], joints: readonly JointRow[], window: MapWindow, options: ArchitectureMapOptions): ArchitectureMapSpec['layout'] {
   let xmin = Infinity, xmax = -Infinity, ymin = Infinity, ymax = -Infinity;
   const include = (x: number, y: number): void => {
     if (x < xmin) xmin = x; if (x > xmax) xmax = x;
     if (y < ymin) ymin = y; if (y > ymax) ymax = y;
   };
-  for (const r of lines) if (r.feature !== ARCHITECTURE_MAP_FEATURES.rail) include(r.x, r.y);
+  // Rails and keep-outs (a conveyor may run far past the arm) are clipped to the drawing, not fitted.
+  for (const r of lines) if (r.feature !== ARCHITECTURE_MAP_FEATURES.rail && r.feature !== ARCHITECTURE_MAP_FEATURES.keepOut) include(r.x, r.y);
   for (const r of joints) include(r.x, r.y);
-  if (!Number.isFinite(xmin)) { xmin = gx0 * MM; xmax = gx1 * MM; ymin = gy0 * MM; ymax = gy1 * MM; }
+  if (!Number.isFinite(xmin)) { xmin = window.x0 * MM; xmax = window.x1 * MM; ymin = window.y0 * MM; ymax = window.y1 * MM; }
   const pad = 0.04 * Math.max(xmax - xmin, ymax - ymin);
   const xDomainMm: [number, number] = [xmin - pad, xmax + pad];
   const yDomainMm: [number, number] = [ymin - pad, ymax + pad];
@@ -646,9 +725,14 @@ export function architectureMapSpec(
   const yMid = (yDomainMm[0] + yDomainMm[1]) / 2;
   xDomainMm[0] = xMid - (widthPx * mmPerPx) / 2; xDomainMm[1] = xMid + (widthPx * mmPerPx) / 2;
   yDomainMm[0] = yMid - (heightPx * mmPerPx) / 2; yDomainMm[1] = yMid + (heightPx * mmPerPx) / 2;
+  return { xDomainMm, yDomainMm, widthPx, heightPx };
+}
 
+/** One kind of information per line: feasibility, design (label–value pairs), modes, metrics, workspace, home pose, notes. */
+function mapSubtitle(model: ArchitectureModelBase, fields: ArchitectureMapFields | null, home: ArchitectureMapHome | null, dimmed: boolean, options: ArchitectureMapOptions): string[] {
+  const task = options.taskRegion ?? null;
   const modeText = options.workingMode ? `working mode ${options.workingMode}, ` : '';
-  const modes = `${modeText}assembly sign ${model.assembly > 0 ? '+' : '−'}` + (n === 3 ? `, platform at φ₀ = ${(((options.phi0 ?? 0) * 180) / Math.PI).toFixed(1)}°` : '');
+  const modes = `${modeText}assembly sign ${model.assembly > 0 ? '+' : '−'}` + (model.dof === 3 ? `, platform at φ₀ = ${(((options.phi0 ?? 0) * 180) / Math.PI).toFixed(1)}°` : '');
   const areaCm2 = fields ? fields.regionArea * 1e4 : 0;
   const summary = fields && fields.region >= 0
     ? `usable workspace ${areaCm2.toFixed(areaCm2 < 100 ? 1 : 0)} cm² (usable: 1/κ ≥ ${options.usable.minInverseCondition}, transmission angles ≥ ${((options.usable.minTransmissionAngle * 180) / Math.PI).toFixed(0)}°)`
@@ -660,8 +744,7 @@ export function architectureMapSpec(
   const notes: string[] = [];
   if (dimmed) notes.push('dimmed colours: the legs reach, but the pose is not usable (conditioning, transmission angle, joint range, or outside the chosen region)');
   if (fields?.windowCut) notes.push('the reach continues beyond the drawn window (rails without stroke limits)');
-  // One kind of information per line: feasibility, design (label–value pairs), modes, metrics, workspace, home pose, notes.
-  const subtitle = [
+  return [
     ...(options.feasibility ? [options.feasibility] : []),
     ...(options.designLabel ? [options.designLabel] : []),
     modes,
@@ -670,54 +753,45 @@ export function architectureMapSpec(
     homeText,
     ...notes,
   ];
+}
 
-  const jointStyles = JOINT_STYLE.filter((j) => joints.some((row) => row.joint === j.joint));
-  const featureStyles = FEATURE_STYLE.filter((f) => lines.some((row) => row.feature === f.feature));
-  const { xScale, yScale, xAxis, yAxis } = mapAxes({ xDomainMm, yDomainMm, widthPx, heightPx });
+/** The conditioning colour map: whole cells as rectangles, cut cells as filled polygons. */
+function colourLayers(colour: readonly ColourRow[], polygons: readonly ColourPolygonRow[], layout: ArchitectureMapSpec['layout'], n: number, options: ArchitectureMapOptions): MapLayer[] {
+  const { xScale, yScale, xAxis, yAxis } = mapAxes(layout);
   const conditioning = n === 3 ? '1/κ(Jₕ), conditioning' : '1/κ(J), conditioning';
-
-  const spec: TopLevelSpec = {
-    $schema: 'https://vega.github.io/schema/vega-lite/v6.json',
-    title: { text: options.title ?? `Workspace of the ${architecture.name.toUpperCase()} design`, subtitle },
-    width: widthPx,
-    height: heightPx,
-    layer: [
-      {
-        name: 'colour_map',
-        data: { values: colour },
-        mark: { type: 'rect', strokeWidth: 0, clip: true },
-        encoding: {
-          x: { field: 'x0', type: 'quantitative', scale: xScale, axis: xAxis },
-          x2: { field: 'x1' },
-          y: { field: 'y0', type: 'quantitative', scale: yScale, axis: yAxis },
-          y2: { field: 'y1' },
-          opacity: { field: 'opacity', type: 'quantitative', scale: null, legend: null },
-          color: {
-            field: 'inverseCondition',
-            type: 'quantitative',
-            scale: { scheme: MAP_COLOUR_SCHEME, domain: [0, 1] },
-            legend: { title: [conditioning, `(usable needs ≥ ${options.usable.minInverseCondition})`], titleLimit: 320, orient: 'right', gradientLength: Math.min(200, heightPx - 40), direction: 'vertical' },
-          },
+  return [
+    {
+      name: 'colour_map',
+      data: { values: [...colour] },
+      mark: { type: 'rect', strokeWidth: 0, clip: true },
+      encoding: {
+        x: { field: 'x0', type: 'quantitative', scale: xScale, axis: xAxis },
+        x2: { field: 'x1' },
+        y: { field: 'y0', type: 'quantitative', scale: yScale, axis: yAxis },
+        y2: { field: 'y1' },
+        opacity: { field: 'opacity', type: 'quantitative', scale: null, legend: null },
+        color: {
+          field: 'inverseCondition',
+          type: 'quantitative',
+          scale: { scheme: MAP_COLOUR_SCHEME, domain: [0, 1] },
+          legend: { title: [conditioning, `(usable needs ≥ ${options.usable.minInverseCondition})`], titleLimit: 320, orient: 'right', gradientLength: Math.min(200, layout.heightPx - 40), direction: 'vertical' },
         },
       },
-      {
-        name: 'colour_edges',
-        data: { values: polygons },
-        mark: { type: 'line', filled: true, interpolate: 'linear-closed', strokeWidth: 0, clip: true },
-        encoding: {
-          x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
-          y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
-          detail: { field: 'part', type: 'nominal' },
-          order: { field: 'order', type: 'quantitative' },
-          opacity: { field: 'opacity', type: 'quantitative', scale: null, legend: null },
-          fill: { field: 'inverseCondition', type: 'quantitative', scale: { scheme: MAP_COLOUR_SCHEME, domain: [0, 1] }, legend: null },
-        },
+    },
+    {
+      name: 'colour_edges',
+      data: { values: [...polygons] },
+      mark: { type: 'line', filled: true, interpolate: 'linear-closed', strokeWidth: 0, clip: true },
+      encoding: {
+        x: { field: 'x', type: 'quantitative', scale: xScale, axis: xAxis },
+        y: { field: 'y', type: 'quantitative', scale: yScale, axis: yAxis },
+        detail: { field: 'part', type: 'nominal' },
+        order: { field: 'order', type: 'quantitative' },
+        opacity: { field: 'opacity', type: 'quantitative', scale: null, legend: null },
+        fill: { field: 'inverseCondition', type: 'quantitative', scale: { scheme: MAP_COLOUR_SCHEME, domain: [0, 1] }, legend: null },
       },
-      ...curveAndJointLayers({ xDomainMm, yDomainMm, widthPx, heightPx }, lines, joints, featureStyles, jointStyles),
-    ],
-    resolve: { scale: { color: 'independent', shape: 'independent', fill: 'independent', strokeDash: 'independent' }, legend: { color: 'independent' } },
-  };
-  return { spec, layout: { xDomainMm, yDomainMm, widthPx, heightPx }, fields, home };
+    },
+  ];
 }
 
 /** SVG of the workspace map of one design of an architecture. */

@@ -26,6 +26,63 @@ export interface Polyline {
  */
 export function zeroContours(layout: GridLayout, field: Float64Array, nodeUsable: (k: number) => boolean = () => true): Polyline[] {
   const { nx, ny, x0, y0, h } = layout;
+  const vertical = nx * ny;
+  const { segA, segB, segmentsAt } = contourSegments(layout, field, nodeUsable);
+  const point = (edge: number): [number, number] => {
+    const isVertical = edge >= vertical;
+    const k = isVertical ? edge - vertical : edge;
+    const i = k % nx;
+    const j = (k - i) / nx;
+    const a = field[k]!;
+    const b = field[isVertical ? k + nx : k + 1]!;
+    const t = a === b ? 0.5 : a / (a - b);
+    return isVertical ? [x0 + i * h, y0 + (j + t) * h] : [x0 + (i + t) * h, y0 + j * h];
+  };
+  const used = new Uint8Array(segA.length);
+  const lines: Polyline[] = [];
+  const nextSegment = (edge: number): number => {
+    for (const s of segmentsAt.get(edge) ?? []) if (!used[s]) return s;
+    return -1;
+  };
+  for (let start = 0; start < segA.length; start++) {
+    if (used[start]) continue;
+    used[start] = 1;
+    // Grow forward from segB, then backward from segA.
+    const forward: number[] = [segA[start]!, segB[start]!];
+    for (let edge = segB[start]!, s = nextSegment(edge); s >= 0; s = nextSegment(edge)) {
+      used[s] = 1;
+      edge = segA[s] === edge ? segB[s]! : segA[s]!;
+      forward.push(edge);
+    }
+    const backward: number[] = [];
+    for (let edge = segA[start]!, s = nextSegment(edge); s >= 0; s = nextSegment(edge)) {
+      used[s] = 1;
+      edge = segA[s] === edge ? segB[s]! : segA[s]!;
+      backward.push(edge);
+    }
+    const edges = [...backward.reverse(), ...forward];
+    const x: number[] = [];
+    const y: number[] = [];
+    for (const e of edges) {
+      const [px, py] = point(e);
+      x.push(px);
+      y.push(py);
+    }
+    lines.push({ x, y });
+  }
+  return lines;
+}
+
+/** Marching-squares segments between cell edges; segmentsAt lists the segments that touch each edge. */
+interface Segments {
+  readonly segA: number[];
+  readonly segB: number[];
+  readonly segmentsAt: Map<number, number[]>;
+}
+
+/** The segments of every usable cell the zero level crosses (edge ids as in zeroContours). */
+function contourSegments(layout: GridLayout, field: Float64Array, nodeUsable: (k: number) => boolean): Segments {
+  const { nx, ny } = layout;
   // Edge ids: horizontal edge (i, j)–(i+1, j) = j·nx + i; vertical edge (i, j)–(i, j+1) = nx·ny + j·nx + i.
   const vertical = nx * ny;
   const segmentsAt = new Map<number, number[]>();
@@ -83,47 +140,5 @@ export function zeroContours(layout: GridLayout, field: Float64Array, nodeUsable
       }
     }
   }
-  const point = (edge: number): [number, number] => {
-    const isVertical = edge >= vertical;
-    const k = isVertical ? edge - vertical : edge;
-    const i = k % nx;
-    const j = (k - i) / nx;
-    const a = field[k]!;
-    const b = field[isVertical ? k + nx : k + 1]!;
-    const t = a === b ? 0.5 : a / (a - b);
-    return isVertical ? [x0 + i * h, y0 + (j + t) * h] : [x0 + (i + t) * h, y0 + j * h];
-  };
-  const used = new Uint8Array(segA.length);
-  const lines: Polyline[] = [];
-  const nextSegment = (edge: number): number => {
-    for (const s of segmentsAt.get(edge) ?? []) if (!used[s]) return s;
-    return -1;
-  };
-  for (let start = 0; start < segA.length; start++) {
-    if (used[start]) continue;
-    used[start] = 1;
-    // Grow forward from segB, then backward from segA.
-    const forward: number[] = [segA[start]!, segB[start]!];
-    for (let edge = segB[start]!, s = nextSegment(edge); s >= 0; s = nextSegment(edge)) {
-      used[s] = 1;
-      edge = segA[s] === edge ? segB[s]! : segA[s]!;
-      forward.push(edge);
-    }
-    const backward: number[] = [];
-    for (let edge = segA[start]!, s = nextSegment(edge); s >= 0; s = nextSegment(edge)) {
-      used[s] = 1;
-      edge = segA[s] === edge ? segB[s]! : segA[s]!;
-      backward.push(edge);
-    }
-    const edges = [...backward.reverse(), ...forward];
-    const x: number[] = [];
-    const y: number[] = [];
-    for (const e of edges) {
-      const [px, py] = point(e);
-      x.push(px);
-      y.push(py);
-    }
-    lines.push({ x, y });
-  }
-  return lines;
+  return { segA, segB, segmentsAt };
 }

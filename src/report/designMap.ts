@@ -11,7 +11,11 @@ import { constraintDefinitions, Evaluator, type DesignEvaluation } from '../mech
 import { METRICS, metricIndex } from '../mechanics/metrics.js';
 import type { Study } from '../study/types.js';
 import { formatQuantity } from '../study/units.js';
-import { architectureMapSpec, type ArchitectureMapSpec } from './architectureMap.js';
+import { architectureMapSpec, type ArchitectureMapSpec, type MapCellLayer } from './architectureMap.js';
+import { CellAnalysis } from '../mechanics/cellMetrics.js';
+import { rectanglePolygon } from '../cell/geometry.js';
+import { shapeOutline } from '../cell/taskShapes.js';
+import type { Mount } from '../cell/types.js';
 
 /** Default smallest grid of a map (cells across the window). */
 export const MIN_MAP_CELLS = 120;
@@ -40,7 +44,7 @@ export function feasibilityLine(study: Study, result: DesignEvaluation): string 
 
 /** Label–value pairs of the metrics a designer reads first. */
 function metricsLine(study: Study, result: DesignEvaluation): string {
-  const names = ['workspace_area', 'inscribed_radius', ...(study.task.region ? ['task_coverage'] : []), 'gci', 'min_inv_condition'];
+  const names = ['workspace_area', 'inscribed_radius', ...(study.task.region ? ['task_coverage'] : []), 'gci', 'min_inv_condition', ...(study.cell ? ['regular_workspace_area', 'min_clearance'] : [])];
   return names.map((name) => `${name}: ${metricText(name, result.metrics[metricIndex(name)]!)}`).join('   ');
 }
 
@@ -69,6 +73,38 @@ export interface DesignMapOptions {
   readonly maxWidthPx?: number;
   readonly maxHeightPx?: number;
   readonly maxColourCells?: number;
+}
+
+/** Outlines of the drive housings at the (mounted) pivots of a leg model. */
+function housingOutlines(cell: NonNullable<Study['cell']>, model: ArchitectureModelBase, mount: Mount | undefined): Float64Array[] {
+  const m = model as ArchitectureModelBase & { baseX?: readonly number[]; baseY?: readonly number[]; legs?: readonly { name: string }[] };
+  if (!cell.interference || !m.baseX || !m.baseY) return [];
+  const out: Float64Array[] = [];
+  cell.interference.housings.forEach((h, i) => {
+    if (!h || m.legs?.[i]?.name === 'slider-rod') return;
+    const x = m.baseX![i]!;
+    const y = m.baseY![i]!;
+    out.push(h.shape === 'circle' ? shapeOutline({ shape: 'circle', centreX: x, centreY: y, radius: h.radius }) : rectanglePolygon(x, y, h.width, h.height, h.angle + (mount?.angle ?? 0)));
+  });
+  return out;
+}
+
+/** The cell layer of a design's map: keep-outs, zones, its clearance checks and its regular rectangle (from the metrics). */
+function cellLayer(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, mount: Mount | undefined, metrics: Float64Array): MapCellLayer {
+  const cell = study.cell!;
+  const analysis = CellAnalysis.forStudy(study, architecture)!;
+  analysis.prepare(model, mount);
+  const width = metrics[metricIndex('regular_workspace_width')]!;
+  const x = metrics[metricIndex('regular_workspace_x')]!;
+  const y = metrics[metricIndex('regular_workspace_y')]!;
+  const rectangle = width > 0 && Number.isFinite(x) ? rectanglePolygon(x, y, width, width / cell.regular.aspect, cell.regular.angle) : null;
+  return {
+    ...(analysis.restricts ? { nodeMargin: (pose, status) => analysis.nodeMargin(pose, status), restricts: true } : {}),
+    keepOuts: cell.keepOuts.map(shapeOutline),
+    zones: cell.zones.map(shapeOutline),
+    housings: housingOutlines(cell, model, mount),
+    rectangle,
+  };
 }
 
 /** The workspace-map spec of one design vector of a study (any architecture, comparison included). */
@@ -103,6 +139,7 @@ export function designMapSpec(
     ...(options.maxWidthPx !== undefined ? { maxWidthPx: options.maxWidthPx } : {}),
     ...(options.maxHeightPx !== undefined ? { maxHeightPx: options.maxHeightPx } : {}),
     ...(options.maxColourCells !== undefined ? { maxColourCells: options.maxColourCells } : {}),
+    ...(member.cell ? { cell: cellLayer(member, architecture, model, built.resolved.mount, result.metrics) } : {}),
   });
   return { ...map, architecture: architecture.name, metrics: result.metrics, feasible: result.feasible };
 }

@@ -1,7 +1,7 @@
 import type { TopLevelSpec } from 'vega-lite';
 
 /** One layer of a layered Vega-Lite spec. */
-type MapLayer = NonNullable<Extract<TopLevelSpec, { layer: unknown }>['layer']>[number];
+export type MapLayer = NonNullable<Extract<TopLevelSpec, { layer: unknown }>['layer']>[number];
 
 /**
  * Vega-Lite layers shared by every workspace map (five-bar and the other architectures): the curve

@@ -28,6 +28,11 @@ export const MAP_FEATURES = {
   rail: 'slider rail',
   mechanism: 'mechanism at home pose',
   platform: 'platform at home pose',
+  keepOut: 'keep-out zone',
+  zone: 'task zone',
+  interference: 'interference (clearance = 0)',
+  regular: 'regular workspace',
+  housing: 'drive housing',
 } as const;
 export type MapFeature = (typeof MAP_FEATURES)[keyof typeof MAP_FEATURES];
 
@@ -48,6 +53,11 @@ export const MAP_CURVE_STYLES: readonly MapCurveStyle[] = [
   { feature: MAP_FEATURES.task, colour: '#8c2d04', dash: [6, 3], width: 2.5 },
   { feature: MAP_FEATURES.mechanism, colour: '#1a1a1a', dash: [1, 0], width: 4.5 },
   { feature: MAP_FEATURES.platform, colour: '#c0392b', dash: [1, 0], width: 3.5 },
+  { feature: MAP_FEATURES.keepOut, colour: '#7f0000', dash: [1, 0], width: 3.5 },
+  { feature: MAP_FEATURES.zone, colour: '#8c2d04', dash: [2, 2], width: 2.5 },
+  { feature: MAP_FEATURES.interference, colour: '#e31a1c', dash: [5, 2, 1, 2], width: 2.5 },
+  { feature: MAP_FEATURES.regular, colour: '#ffffff', dash: [10, 4], width: 2.5 },
+  { feature: MAP_FEATURES.housing, colour: '#1a1a1a', dash: [3, 1.5], width: 2 },
 ];
 
 /** Stroke colour of each curve feature (what the SVG paths carry). */

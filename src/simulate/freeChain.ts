@@ -3,7 +3,9 @@
  * (crank angles θ_i, absolute rod angles β_i, rad), the end-point mass carried by arm 1's tip, and the
  * loop closure Φ(q) = T_1(q) − T_2(q) = 0 (T_i the tip of arm i, m) enforced by Lagrange multipliers.
  *
- * The body data are the model's (fivebar.ts): crank inertia about its pivot (elbow hub included) plus
+ * The five-bar's own formulation, kept as an independent cross-check of the general cut-open chain
+ * (legChain.ts), through which `simulate` integrates every architecture, the five-bar included.
+ * The body data are the model's (FiveBarBodies): crank inertia about its pivot (elbow hub included) plus
  * the reflected drive inertia, crank first moment, rod mass, centre-of-mass distance and inertia about
  * the centre of mass, end mass, gravity. Per arm, with φ = β − θ (derived from the kinetic energy
  * T = ½ a θ̇² + ½ b β̇² + k cos φ θ̇ β̇ of a 2R arm whose bodies sit along crank and rod):
@@ -20,9 +22,11 @@
  * solved through the 2×2 Schur complement S = Φ_q M⁻¹ Φ_qᵀ (M is block diagonal, one 2×2 block per arm).
  * Q = (τ_1 − f_1, 0, τ_2 − f_2, 0) holds the drive and friction torques. Everything is allocation-free.
  */
-import type { FiveBarModel } from '../mechanics/fivebar.js';
-import { FiveBarMotion, endPointAcceleration, poseFromJointAngles } from '../mechanics/dutyCycleFiveBar.js';
-import { FiveBarPose, PoseStatus } from '../mechanics/fivebar.js';
+import { fiveBar } from '../architectures/fivebar.js';
+import { PoseStatus, type ArchitectureModelBase, type PlanarArchitecture } from '../architectures/types.js';
+import { CycleDynamics } from '../mechanics/dutyCycle.js';
+import { fiveBarLegModel, type FiveBarBodies } from './fiveBarBodies.js';
+export { DEFAULT_STABILISATION_RATE } from './shared.js';
 
 /** Constant coefficients of the free (cut-open) chain, built once per model. */
 export interface FreeChain {
@@ -45,7 +49,7 @@ export interface FreeChain {
 }
 
 /** Free-chain coefficients of a five-bar model; the end mass rides on arm 1's tip. */
-export function freeChain(model: FiveBarModel): FreeChain {
+export function freeChain(model: FiveBarBodies): FreeChain {
   const p = model.crank;
   const d = model.rod;
   const m = model.rodMass;
@@ -92,9 +96,6 @@ export class FreeChainAcceleration {
   /** Scratch: M⁻¹ F and M⁻¹ Φ_qᵀ columns. */
   readonly scratch = new Float64Array(12);
 }
-
-/** Baumgarte stabilisation rate α, 1/s: Φ̈ + 2αΦ̇ + α²Φ = 0 (critically damped). */
-export const DEFAULT_STABILISATION_RATE = 200;
 
 /**
  * Accelerations of the free chain under the loop closure at state (q, q̇) with drive-side generalised
@@ -226,21 +227,22 @@ export function tipPosition(chain: FreeChain, state: ArrayLike<number>, out: Flo
 /**
  * A state (q, q̇) on the constraint manifold for actuated angles θ and rates θ̇ (rad, rad/s): the
  * pose by forward kinematics in the model's assembly mode, β_i from the rod directions, β̇_i from the
- * rod-rate rows. Writes 8 values into `out`; returns false when the chain cannot close there.
+ * rod-rate rows (through the five-bar's leg model). Writes 8 values into `out`; returns false when
+ * the chain cannot close there.
  */
-export function consistentState(model: FiveBarModel, theta1: number, theta2: number, dtheta1: number, dtheta2: number, out: Float64Array): boolean {
-  const pose = new FiveBarPose();
-  const motion = new FiveBarMotion();
-  const status = poseFromJointAngles(model, pose, theta1, theta2, new Float64Array(2));
+export function consistentState(model: FiveBarBodies, theta1: number, theta2: number, dtheta1: number, dtheta2: number, out: Float64Array): boolean {
+  const dynamics = new CycleDynamics(fiveBar as unknown as PlanarArchitecture<ArchitectureModelBase>);
+  const status = dynamics.solveAtJoints(fiveBarLegModel(model), [theta1, theta2], [0, 0]);
+  const pose = dynamics.pose;
   if (status === PoseStatus.Unreachable || pose.detA === 0) return false;
-  endPointAcceleration(model, pose, dtheta1, dtheta2, 0, 0, motion);
+  dynamics.fromJointMotion([dtheta1, dtheta2], [0, 0]);
   out[0] = theta1;
-  out[1] = Math.atan2(pose.u1y, pose.u1x);
+  out[1] = Math.atan2(pose.rodDirection[1]!, pose.rodDirection[0]!);
   out[2] = theta2;
-  out[3] = Math.atan2(pose.u2y, pose.u2x);
+  out[3] = Math.atan2(pose.rodDirection[3]!, pose.rodDirection[2]!);
   out[4] = dtheta1;
-  out[5] = motion.drod1;
+  out[5] = dynamics.rodRate[0]!;
   out[6] = dtheta2;
-  out[7] = motion.drod2;
+  out[7] = dynamics.rodRate[1]!;
   return true;
 }

@@ -16,7 +16,9 @@ export {
   type SimulationResult,
   type SimulationSeries,
   type SimulationSummary,
+  type FiveBarBodies,
 } from './simulate.js';
+export { fiveBarBodiesOf, fiveBarLegModel } from './fiveBarBodies.js';
 export {
   DEFAULT_STABILISATION_RATE,
   FreeChainAcceleration,
@@ -31,5 +33,5 @@ export {
 } from './freeChain.js';
 export { LegChain } from './legChain.js';
 export { cutChainState, simulateArchitecture, type ArchitectureSimulationOptions } from './simulateArchitecture.js';
-export { prepareStudySimulation, scaleCyclePath, simulateStudyDesign, type StudySimulationOptions, type StudySimulationSetup } from './study.js';
+export { pacedCycle, prepareStudySimulation, scaleCyclePath, simulateStudyDesign, type StudySimulationOptions, type StudySimulationSetup } from './study.js';
 export { simulationChartSpecs, simulationCsv, writeSimulationOutputs } from './plots.js';

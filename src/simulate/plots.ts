@@ -9,7 +9,7 @@ import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { TopLevelSpec } from 'vega-lite';
 import { OKABE_ITO, renderVegaLiteSvg, svgToPng } from '../report/render.js';
-import type { SimulationDriveLimits, SimulationResult, SimulationSeries } from './simulate.js';
+import type { SimulationDriveLimits, SimulationResult, SimulationSeries } from './shared.js';
 
 const SCHEMA = 'https://vega.github.io/schema/vega-lite/v6.json';
 const JOINTS = ['joint 1', 'joint 2', 'joint 3'] as const;

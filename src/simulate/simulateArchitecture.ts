@@ -2,7 +2,8 @@
  * Forward simulation of one design of any architecture that describes its bodies
  * (PlanarArchitecture.cutOpenChain) along a duty cycle: the cut-open chain of legChain.ts with the
  * loop closures held by Lagrange multipliers and Baumgarte stabilisation, integrated by ODEX between
- * the instants where the desired motion is not smooth, as simulate.ts does for the five-bar. The
+ * the instants where the desired motion is not smooth (the five-bar included; simulate.ts is its
+ * entry by body data). The
  * actuated joints follow the cycle's q_d(t), q̇_d, q̈_d (inverse kinematics and the acceleration
  * analysis of dutyCycle.ts) under the same controllers:
  *
@@ -34,11 +35,13 @@ import {
   type SimulationOptions,
   type SimulationResult,
   type SimulationSeries,
-} from './simulate.js';
-import { DEFAULT_STABILISATION_RATE } from './freeChain.js';
+  DEFAULT_STABILISATION_RATE,
+} from './shared.js';
+import { PerturbedLegChain } from './perturbedChain.js';
+import type { DriveSimulationHooks } from './driveHooks.js';
 
 /** Options of `simulateArchitecture`: as `simulate`, with the initial state in cut-chain coordinates (z then ż). */
-export type ArchitectureSimulationOptions = Omit<SimulationOptions, 'initialState'> & { readonly initialState?: ArrayLike<number> };
+export type ArchitectureSimulationOptions = Omit<SimulationOptions, 'initialState'> & { readonly initialState?: ArrayLike<number> } & DriveSimulationHooks;
 
 /** Desired joint motion along the cycle at one instant. */
 class DesiredJointMotion {
@@ -91,10 +94,11 @@ export function cutChainState(
 }
 
 /** The plant's chain: the architecture's bodies with an extra mass at P. */
-function plantChain(architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, extraMass: number): LegChain {
+function plantChain(architecture: PlanarArchitecture<ArchitectureModelBase>, model: ArchitectureModelBase, extraMass: number, hooks: DriveSimulationHooks = {}): LegChain {
   const chain: CutOpenChain | null | undefined = architecture.cutOpenChain?.(model);
   if (!chain) throw new SimulationError(`simulate: the ${architecture.name} does not describe its bodies as a cut-open chain yet, so it cannot be simulated`);
-  return new LegChain(extraMass > 0 ? { ...chain, platformMass: chain.platformMass + extraMass } : chain);
+  const plant = extraMass > 0 ? { ...chain, platformMass: chain.platformMass + extraMass } : chain;
+  return hooks.formulation === 'perturbed' ? new PerturbedLegChain(plant, hooks.epsilon ?? 0.01) : new LegChain(plant);
 }
 
 /** Duration, controller settings and Baumgarte rate of the options, checked (SimulationError on a bad value). */
@@ -144,7 +148,7 @@ export function simulateArchitecture(
   const { duration, naturalFrequency, dampingRatio, extraEndMass, alpha } = checkedSettings(options);
   const trajectory = options.trajectory;
   const n = architecture.dof;
-  const chain = plantChain(architecture, model, extraEndMass);
+  const chain = plantChain(architecture, model, extraEndMass, options);
   const N = chain.size;
   const P = chain.platformIndex;
   const friction = options.friction ?? null;
@@ -209,6 +213,7 @@ export function simulateArchitecture(
     } else {
       for (let i = 0; i < n; i++) torque[i] = pdScale[i]! * (kp * v[i]! + kd * (want.qd[i]! - qd[i]!)) + measured.pose.tauG[i]!;
     }
+    options.saturate?.(torque, qd);
     return true;
   };
 

@@ -9,10 +9,12 @@ import type { ActuatorKind, ArchitectureModelBase, PlanarArchitecture } from '..
 import { drivesAtJoint } from '../mechanics/designSpace.js';
 import { CycleSamples, CycleTrajectory, DutyCycleAnalysis, cycleDriveLimits, evaluatedCycleTime, type CyclePath, type JointFriction } from '../mechanics/dutyCycle.js';
 import { Evaluator } from '../mechanics/evaluate.js';
-import type { FiveBarModel } from '../mechanics/fivebar.js';
+import type { LeggedModel } from '../architectures/legged.js';
 import type { Study } from '../study/types.js';
-import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './simulate.js';
+import { fiveBarBodiesOf, type FiveBarBodies } from './fiveBarBodies.js';
+import { SimulationError, type ControllerKind, type SimulationDriveLimits, type SimulationResult } from './shared.js';
 import { simulateArchitecture } from './simulateArchitecture.js';
+import type { DriveSimulationHooks } from './driveHooks.js';
 
 /** Everything a simulation of one study design needs. */
 export interface StudySimulationSetup {
@@ -24,8 +26,8 @@ export interface StudySimulationSetup {
   readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
   readonly architectureModel: ArchitectureModelBase;
   readonly actuators: readonly ActuatorKind[];
-  /** Five-bar studies: the former five-bar engine model (for simulate.ts and the closed-form checks); null for other architectures. */
-  readonly model: FiveBarModel | null;
+  /** Five-bar studies: the design's bodies in the five-bar layout (what `simulate` takes); null for other architectures. */
+  readonly model: FiveBarBodies | null;
   /** The duty cycle at the evaluated pace. */
   readonly trajectory: CycleTrajectory;
   readonly cycleTime: number;
@@ -35,7 +37,9 @@ export interface StudySimulationSetup {
   readonly driveLabels: readonly string[] | null;
 }
 
-export interface StudySimulationOptions {
+/** `DriveSimulationHooks`: formulation, ε and effort saturation (docs/drives.md); `initialState` as simulateArchitecture takes it. */
+export interface StudySimulationOptions extends DriveSimulationHooks {
+  readonly initialState?: ArrayLike<number>;
   readonly controller: ControllerKind;
   /** Simulated time, s (default one cycle). */
   readonly duration?: number;
@@ -51,7 +55,24 @@ export interface StudySimulationOptions {
 
 /** The cycle path with every move and arc stretched by `scale` (dwells unchanged). */
 export function scaleCyclePath(path: CyclePath, scale: number): CyclePath {
-  return { start: path.start, steps: path.steps.map((step) => (step.kind === 'dwell' ? step : { ...step, time: step.time * scale })) };
+  return { ...path, steps: path.steps.map((step) => (step.kind === 'dwell' ? step : { ...step, time: step.time * scale })) };
+}
+
+/**
+ * The study's duty cycle at the pace the study evaluates it (cycle_time, else 1/required_rate, else
+ * the steps' own times; moves stretched, dwells kept), or null without a duty_cycle section.
+ */
+export function pacedCycle(study: Study): CycleTrajectory | null {
+  const duty = study.dutyCycle;
+  if (!duty) return null;
+  const reference = new CycleTrajectory(duty.path);
+  const target = evaluatedCycleTime(duty);
+  let scale = 1;
+  if (target !== null && reference.moveTime > 0) {
+    scale = (target - reference.dwellTime) / reference.moveTime;
+    if (!(scale > 0)) throw new SimulationError(`the cycle time ${target} s is not longer than the dwells (${reference.dwellTime} s)`);
+  }
+  return scale === 1 ? reference : new CycleTrajectory(scaleCyclePath(duty.path, scale));
 }
 
 /** Model, paced cycle, limits and friction of a study's baseline design with overrides. */
@@ -62,14 +83,7 @@ export function prepareStudySimulation(study: Study, overrides: readonly string[
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const { architecture, model: architectureModel, resolved } = evaluator.architectureDesign(choice.design);
-  const reference = new CycleTrajectory(duty.path);
-  const target = evaluatedCycleTime(duty);
-  let scale = 1;
-  if (target !== null && reference.moveTime > 0) {
-    scale = (target - reference.dwellTime) / reference.moveTime;
-    if (!(scale > 0)) throw new SimulationError(`the cycle time ${target} s is not longer than the dwells (${reference.dwellTime} s)`);
-  }
-  const trajectory = scale === 1 ? reference : new CycleTrajectory(scaleCyclePath(duty.path, scale));
+  const trajectory = pacedCycle(study)!;
   const check = new DutyCycleAnalysis(new CycleSamples(trajectory, duty.samples), null, architecture);
   if (!check.run(architectureModel)) {
     throw new SimulationError('this design cannot follow the duty cycle: some point of the cycle is unreachable, outside the joint limits, in the other assembly mode or singular');
@@ -90,7 +104,7 @@ export function prepareStudySimulation(study: Study, overrides: readonly string[
     architecture,
     architectureModel,
     actuators: architecture.actuators,
-    model: isFiveBar ? evaluator.model(choice.design) : null,
+    model: isFiveBar ? fiveBarBodiesOf(architectureModel as LeggedModel) : null,
     trajectory,
     cycleTime: trajectory.cycleTime,
     limits,
@@ -111,6 +125,10 @@ export function simulateStudyDesign(setup: StudySimulationSetup, options: StudyS
     ...(options.outputInterval !== undefined ? { outputInterval: options.outputInterval } : {}),
     friction: options.friction === false ? null : setup.friction,
     limits: setup.limits,
+    ...(options.formulation !== undefined ? { formulation: options.formulation } : {}),
+    ...(options.epsilon !== undefined ? { epsilon: options.epsilon } : {}),
+    ...(options.saturate !== undefined ? { saturate: options.saturate } : {}),
+    ...(options.initialState !== undefined ? { initialState: options.initialState } : {}),
   };
   // One path for every architecture: the cut-open chain of legChain.ts on the architecture interface.
   return simulateArchitecture(setup.architecture, setup.architectureModel, common);

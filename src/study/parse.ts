@@ -4,6 +4,7 @@
  * editors can use the same file), then the unit conversion and cross-field checks here.
  */
 import { LoopsmithUserError } from '../core/errors.js';
+import { mountBaseline, studyCell } from './cell.js';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
@@ -12,15 +13,17 @@ import { parseAllDocuments, parseDocument, stringify } from 'yaml';
 import type { AssemblyMode, JointRange } from '../core/pose.js';
 import { metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
-import type { ActuatorKind, ArchitectureName, DriveAtJoint } from '../architectures/types.js';
+import type { ActuatorKind, ArchitectureModelBase, ArchitectureName, DriveAtJoint, PlanarArchitecture } from '../architectures/types.js';
 import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
 import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
+import { buildDriveTrainSetup, fixedDrives } from './driveTrains.js';
 import {
   ARCHITECTURE_PREFIX,
   type ConstraintSpec,
   type DriveSpec,
+  type DriveTrainSetup,
   type DutyCycleSpec,
   type EvaluationSettings,
   type LinkSpec,
@@ -167,17 +170,27 @@ const ATTACHMENT_KEY = 'loopsmith_attachment';
 export function bundleAttachments(text: string, studyPath: string): string {
   const doc = parseDocument(text);
   if (doc.errors.length > 0) return text; // parseStudyText reports it
-  const catalogue = doc.getIn(['drives', 'catalogue']);
-  if (typeof catalogue !== 'string' || hasAttachments(text)) return text;
-  const file = resolve(dirname(studyPath), catalogue);
-  let content: string;
-  try {
-    content = readFileSync(file, 'utf8');
-  } catch (error) {
-    const code = (error as NodeJS.ErrnoException).code;
-    throw new StudyError(`${studyPath}: drives.catalogue: cannot read "${catalogue}" (${code ?? String(error)}; the path is relative to the study file)`);
+  if (hasAttachments(text)) return text;
+  let out = text;
+  const seen = new Set<string>();
+  const members = doc.getIn(['members']) as { items?: { key?: { value?: unknown } }[] } | undefined;
+  const memberNames = (members?.items ?? []).map((item) => item.key?.value).filter((v): v is string => typeof v === 'string');
+  const places = [['drives'], ...memberNames.map((m) => ['members', m, 'drives'])];
+  for (const [place, key] of places.flatMap((p) => ['catalogue', 'motors', 'gearboxes'].map((k) => [p, k] as const))) {
+    const catalogue = doc.getIn([...place, key]);
+    if (typeof catalogue !== 'string' || seen.has(catalogue)) continue;
+    seen.add(catalogue);
+    const file = resolve(dirname(studyPath), catalogue);
+    let content: string;
+    try {
+      content = readFileSync(file, 'utf8');
+    } catch (error) {
+      const code = (error as NodeJS.ErrnoException).code;
+      throw new StudyError(`${studyPath}: drives.${key}: cannot read "${catalogue}" (${code ?? String(error)}; the path is relative to the study file)`);
+    }
+    out = `${out.endsWith('\n') ? out : out + '\n'}---\n${stringify({ [ATTACHMENT_KEY]: catalogue, content })}`;
   }
-  return `${text.endsWith('\n') ? text : text + '\n'}---\n${stringify({ [ATTACHMENT_KEY]: catalogue, content })}`;
+  return out;
 }
 
 function hasAttachments(text: string): boolean {
@@ -272,9 +285,11 @@ export function studySettingsHash(study: Study): string {
     // Added only when present, so studies without them keep their earlier hashes.
     dutyCycle: study.dutyCycle ?? undefined,
     friction: study.friction ?? undefined,
+    driveTrains: study.driveTrains ?? undefined,
     sliderMass: study.sliderMass,
     platform: study.platform ?? undefined,
     orientation: study.orientation ?? undefined,
+    cell: study.cell ?? undefined,
     members: study.members ? study.members.map(studySettingsHash) : undefined,
   };
   return sha256(canonicalJson(relevant));
@@ -298,6 +313,7 @@ export function workspaceSettingsHash(study: Study): string {
       evaluation: study.evaluation,
       // Absent for 2-DOF studies, so their hashes stay as they were.
       orientation: study.orientation ?? undefined,
+      cell: study.cell ?? undefined,
       members: study.members ? study.members.map(workspaceSettingsHash) : undefined,
     }),
   );
@@ -386,14 +402,98 @@ function buildComparisonStudy(data: JsonObject, names: readonly string[], attach
   return { ...first, members, baseline };
 }
 
-function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, string>): Study {
-  const architectureName = data['architecture'] as ArchitectureName;
+/** What every section parser needs to know about the study's architecture. */
+interface SectionContext {
+  readonly architectureName: ArchitectureName;
+  readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
+  readonly isFiveBar: boolean;
+  /** Number of actuators (legs). */
+  readonly n: number;
+  /** Kind of the first actuator (every registered architecture has one kind for all legs). */
+  readonly actuatorKind: ActuatorKind;
+}
+
+function sectionContext(architectureName: ArchitectureName): SectionContext {
   const architecture = ARCHITECTURES[architectureName];
-  const isFiveBar = architectureName === 'five-bar';
-  const n = architecture.dof;
-  const actuatorKind: ActuatorKind = architecture.actuators[0]!;
+  return { architectureName, architecture, isFiveBar: architectureName === 'five-bar', n: architecture.dof, actuatorKind: architecture.actuators[0]! };
+}
+
+/** One study of one architecture: each section is read by its own function, in this order. */
+function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, string>): Study {
+  const context = sectionContext(data['architecture'] as ArchitectureName);
+  const { architectureName, n, actuatorKind } = context;
+  const geometry = parseGeometry(data['geometry'] as JsonObject, context);
+  const workingModes = parseWorkingModes(data['working_mode'], context);
+  const assemblyMode = (data['assembly_mode'] ?? '+') as AssemblyMode;
+  const jointLimits = parseJointLimits(isObject(data['joint_limits']) ? data['joint_limits'] : {}, context);
+  const { links, elbowHubMass, endHubMass, payloadMass, sliderMass, platform } = parseMass(isObject(data['mass']) ? data['mass'] : {}, context);
+  const gravity = parseGravity(data['gravity'] ?? 'vertical');
+  const drivesIn = isObject(data['drives']) ? data['drives'] : undefined;
+  const { drives, torqueSafetyFactor, driveCatalogue, driveChoice, driveTrains } = parseDrives(drivesIn, attachments, context);
+  const orientation = parseOrientation(data['orientation'], context);
+  const task = parseTask(isObject(data['task']) ? data['task'] : {});
+  const region = task.region;
+  const evaluation = parseEvaluation(isObject(data['evaluation']) ? data['evaluation'] : {});
+  const window = evaluation.window;
+  if (actuatorKind === 'prismatic' && !window && jointLimits.some((r) => r === null)) {
+    throw new StudyError(
+      `joint_limits: the ${architectureName} has rails without an end: give a stroke for every slider (joint_limits.actuator_i {min, max} in m along the rail) or a grid window (evaluation.window {x: [min, max], y: [min, max]})`,
+    );
+  }
+  if (orientation?.characteristicLength === 'auto' && !region) {
+    throw new StudyError('orientation.characteristic_length: "auto" chooses L over the task points; give task.region');
+  }
+
+  const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle'], { architecture: architectureName, dof: n, phi0: orientation?.phi0 ?? 0 }) : null;
+  const friction = isObject(data['friction']) ? buildFriction(data['friction'], n, actuatorKind) : null;
+  if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
+  const massIn = isObject(data['mass']) ? data['mass'] : {};
+  const cell = studyCell(data, { actuators: ARCHITECTURES[architectureName].actuators, massIn, hasDutyCycle: dutyCycle !== null });
+
+  const objectives = parseObjectives(data['objectives'] as JsonObject[]);
+  const constraints = parseConstraints((data['constraints'] as JsonObject[] | undefined) ?? [], context);
+  checkMetricNeeds(objectives, constraints, { hasDutyCycle: dutyCycle !== null, hasDrives: drivesIn !== undefined }, context);
+
+  const optimizer = parseOptimizer(isObject(data['optimizer']) ? data['optimizer'] : {});
+
+  const partial = {
+    name: data['study'] as string,
+    description: (data['description'] as string | undefined) ?? '',
+    architecture: architectureName,
+    geometry,
+    workingModes,
+    assemblyMode,
+    jointLimits,
+    links,
+    elbowHubMass,
+    endHubMass,
+    payloadMass,
+    gravity,
+    drives,
+    driveChoice,
+    driveCatalogue,
+    ...(driveTrains ? { driveTrains } : {}),
+    torqueSafetyFactor,
+    task,
+    evaluation,
+    dutyCycle,
+    friction,
+    objectives,
+    constraints,
+    optimizer,
+    ...(sliderMass !== undefined ? { sliderMass } : {}),
+    ...(platform ? { platform } : {}),
+    ...(orientation ? { orientation } : {}),
+    ...(cell ? { cell } : {}),
+  };
+  const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
+  return { ...partial, baseline };
+}
+
+/** `geometry:` — every parameter of the architecture fixed, variable ({min, max}) or tied ({same_as}). */
+function parseGeometry(geometryIn: JsonObject, context: SectionContext): Record<string, ParameterSpec> {
+  const { architecture, architectureName, isFiveBar } = context;
   const parameterNames = architecture.parameters.map((p) => p.name);
-  const geometryIn = data['geometry'] as JsonObject;
   for (const key of Object.keys(geometryIn)) {
     if (!parameterNames.includes(key)) {
       throw new StudyError(`geometry.${key}: not a parameter of the ${architectureName} (its parameters: ${parameterNames.join(', ')})`);
@@ -428,7 +528,13 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
       geometry[name] = { kind: 'fixed', value };
     }
   }
-  for (const name of parameterNames) {
+  checkTies(geometry, context);
+  return geometry;
+}
+
+/** A tie points at an untied parameter of the same kind. */
+function checkTies(geometry: Readonly<Record<string, ParameterSpec>>, { architecture }: SectionContext): void {
+  for (const { name } of architecture.parameters) {
     const spec = geometry[name]!;
     if (spec.kind === 'tied') {
       if (geometry[spec.to]!.kind === 'tied') throw new StudyError(`geometry.${name}.same_as: "${spec.to}" is itself tied; tie to the parameter it follows instead`);
@@ -437,8 +543,10 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
       if (fromKind !== toKind) throw new StudyError(`geometry.${name}.same_as: "${spec.to}" is an ${toKind}, "${name}" a ${fromKind}`);
     }
   }
+}
 
-  const wm = data['working_mode'];
+/** `working_mode:` — one mode name or a list (the optimizer chooses); the default depends on the architecture. */
+function parseWorkingModes(wm: Json | undefined, { architecture, architectureName, isFiveBar, n }: SectionContext): string[] {
   const defaultMode = isFiveBar ? '+-' : n === 2 ? '-+' : '+'.repeat(n);
   const workingModes: string[] = wm === undefined ? [defaultMode] : Array.isArray(wm) ? (wm as string[]) : [wm as string];
   for (const mode of workingModes) {
@@ -446,9 +554,11 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
       throw new StudyError(`working_mode: "${mode}" is not a working mode of the ${architectureName} (one sign per leg: ${architecture.workingModes.join(', ')})`);
     }
   }
-  const assemblyMode = (data['assembly_mode'] ?? '+') as AssemblyMode;
+  return workingModes;
+}
 
-  const limitsIn = isObject(data['joint_limits']) ? data['joint_limits'] : {};
+/** `joint_limits:` — `both` and/or `actuator_i` ranges (rad for cranks, m for sliders); a full turn or more = unlimited. */
+function parseJointLimits(limitsIn: JsonObject, { architecture, architectureName, n, actuatorKind }: SectionContext): (JointRange | null)[] {
   const range = (raw: Json | undefined, where: string, kind: ActuatorKind): JointRange | null => {
     if (!isObject(raw)) return null;
     const quantity: QuantityKind = kind === 'revolute' ? 'angle' : 'length';
@@ -466,16 +576,22 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
   for (let i = 0; i < n; i++) {
     jointLimits.push(range(limitsIn[`actuator_${i + 1}`], `joint_limits.actuator_${i + 1}`, architecture.actuators[i]!) ?? bothLimits);
   }
+  return jointLimits;
+}
 
-  const massIn = isObject(data['mass']) ? data['mass'] : {};
-  for (const key of Object.keys(massIn)) {
-    const leg = /_(\d)$/.exec(key);
-    if (leg && Number(leg[1]) > n) throw new StudyError(`mass.${key}: the ${architectureName} has ${n} legs`);
-    if ((key.startsWith('crank') || key === 'elbow_hubs') && actuatorKind === 'prismatic') throw new StudyError(`mass.${key}: the ${architectureName} has sliders, not cranks (use sliders and rods)`);
-    if (key === 'sliders' && actuatorKind === 'revolute') throw new StudyError(`mass.sliders: the ${architectureName} has no sliders`);
-    if (key === 'platform' && n !== 3) throw new StudyError('mass.platform: only 3-DOF architectures carry a platform (use end_hub)');
-    if (key === 'end_hub' && n === 3) throw new StudyError('mass.end_hub: a 3-DOF architecture carries a platform; give mass.platform {mass, inertia}');
-  }
+interface MassSection {
+  readonly links: Study['links'];
+  readonly elbowHubMass: number;
+  readonly endHubMass: number;
+  readonly payloadMass: number;
+  readonly sliderMass: number | undefined;
+  readonly platform: { mass: number; inertia: number } | undefined;
+}
+
+/** `mass:` — link sections per leg, lumped masses, slider carriages, the platform of a 3-DOF architecture. */
+function parseMass(massIn: JsonObject, context: SectionContext): MassSection {
+  const { architecture, n, actuatorKind } = context;
+  checkMassKeys(massIn, context);
   const link = (specific: string, shared: string): LinkSpec => {
     const raw = massIn[specific] ?? massIn[shared];
     return buildLink(raw, `mass.${massIn[specific] !== undefined ? specific : shared}`);
@@ -486,11 +602,11 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     cranks.push(architecture.actuators[i] === 'revolute' ? link(`crank_${i + 1}`, 'cranks') : buildLink(undefined, `mass.crank_${i + 1}`));
     rods.push(link(`rod_${i + 1}`, 'rods'));
   }
-  const links = { cranks, rods };
-  const elbowHubMass = positive(q(massIn['elbow_hubs'], 'mass', 'mass.elbow_hubs', 0), 'mass.elbow_hubs', true);
-  const endHubMass = positive(q(massIn['end_hub'], 'mass', 'mass.end_hub', 0), 'mass.end_hub', true);
-  const payloadMass = positive(q(massIn['payload'], 'mass', 'mass.payload', 0), 'mass.payload', true);
-  const sliderMass = actuatorKind === 'prismatic' ? positive(q(massIn['sliders'], 'mass', 'mass.sliders', 0), 'mass.sliders', true) : undefined;
+  const lumped = (key: string): number => positive(q(massIn[key], 'mass', `mass.${key}`, 0), `mass.${key}`, true);
+  const elbowHubMass = lumped('elbow_hubs');
+  const endHubMass = lumped('end_hub');
+  const payloadMass = lumped('payload');
+  const sliderMass = actuatorKind === 'prismatic' ? lumped('sliders') : undefined;
   let platform: { mass: number; inertia: number } | undefined;
   if (n === 3) {
     const p = isObject(massIn['platform']) ? massIn['platform'] : {};
@@ -499,87 +615,120 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
       inertia: positive(q(p['inertia'], 'inertia', 'mass.platform.inertia', 0), 'mass.platform.inertia', true),
     };
   }
+  return { links: { cranks, rods }, elbowHubMass, endHubMass, payloadMass, sliderMass, platform };
+}
 
-  const gravityIn = data['gravity'] ?? 'vertical';
-  let gravity: [number, number];
-  if (gravityIn === 'vertical') gravity = [0, -STANDARD_GRAVITY];
-  else if (gravityIn === 'horizontal') gravity = [0, 0];
-  else {
-    const g = gravityIn as JsonObject;
-    gravity = [q(g['x'], 'acceleration', 'gravity.x'), q(g['y'], 'acceleration', 'gravity.y')];
+/** Keys of `mass:` that the architecture does not have (a leg beyond its count, cranks on sliders, …). */
+function checkMassKeys(massIn: JsonObject, { architectureName, n, actuatorKind }: SectionContext): void {
+  for (const key of Object.keys(massIn)) {
+    const leg = /_(\d)$/.exec(key);
+    if (leg && Number(leg[1]) > n) throw new StudyError(`mass.${key}: the ${architectureName} has ${n} legs`);
+    if ((key.startsWith('crank') || key === 'elbow_hubs') && actuatorKind === 'prismatic') throw new StudyError(`mass.${key}: the ${architectureName} has sliders, not cranks (use sliders and rods)`);
+    if (key === 'sliders' && actuatorKind === 'revolute') throw new StudyError(`mass.sliders: the ${architectureName} has no sliders`);
+    if (key === 'platform' && n !== 3) throw new StudyError('mass.platform: only 3-DOF architectures carry a platform (use end_hub)');
+    if (key === 'end_hub' && n === 3) throw new StudyError('mass.end_hub: a 3-DOF architecture carries a platform; give mass.platform {mass, inertia}');
   }
+}
 
-  const drivesIn = isObject(data['drives']) ? data['drives'] : undefined;
+/** `gravity:` — vertical (standard gravity along −y), horizontal (none in the plane) or {x, y}. */
+function parseGravity(gravityIn: Json): [number, number] {
+  if (gravityIn === 'vertical') return [0, -STANDARD_GRAVITY];
+  if (gravityIn === 'horizontal') return [0, 0];
+  const g = gravityIn as JsonObject;
+  return [q(g['x'], 'acceleration', 'gravity.x'), q(g['y'], 'acceleration', 'gravity.y')];
+}
+
+interface DrivesSection {
+  readonly drives: DriveSpec[] | null;
+  readonly torqueSafetyFactor: number;
+  readonly driveCatalogue: Study['driveCatalogue'];
+  readonly driveChoice: Study['driveChoice'];
+  readonly driveTrains: DriveTrainSetup | null;
+}
+
+/** `drives:` — fixed drives (`both` / `actuator_i`, inline or by catalogue name), or `choose` among catalogue options. */
+function parseDrives(drivesIn: JsonObject | undefined, attachments: ReadonlyMap<string, string>, context: SectionContext): DrivesSection {
+  const { architectureName, n } = context;
+  if (!drivesIn) return { drives: null, torqueSafetyFactor: 1.5, driveCatalogue: null, driveChoice: { kind: 'fixed' }, driveTrains: null };
+  if (drivesIn['actuator_3'] !== undefined && n < 3) throw new StudyError(`drives.actuator_3: the ${architectureName} has ${n} actuators`);
+  const driveCatalogue = typeof drivesIn['catalogue'] === 'string' ? parseDriveCatalogue(drivesIn['catalogue'], attachments, context) : null;
   let drives: DriveSpec[] | null = null;
-  let torqueSafetyFactor = 1.5;
-  let driveCatalogue: Study['driveCatalogue'] = null;
   let driveChoice: Study['driveChoice'] = { kind: 'fixed' };
-  if (drivesIn) {
-    if (drivesIn['actuator_3'] !== undefined && n < 3) throw new StudyError(`drives.actuator_3: the ${architectureName} has ${n} actuators`);
-    if (typeof drivesIn['catalogue'] === 'string') {
-      const path = drivesIn['catalogue'];
-      const content = attachments.get(path);
-      if (content === undefined) throw new StudyError(`drives.catalogue: "${path}" is not attached (load the study with loadStudyFile so the file is read)`);
-      const options = catalogueRecords(content, path).map((record, i) => {
-        if (typeof record['name'] !== 'string' || record['name'] === '') throw new StudyError(`drives.catalogue ${path}: option ${i + 1} has no name`);
-        return buildDrive(record as JsonObject, `drives.catalogue ${path}: option "${record['name']}"`, actuatorKind);
-      });
-      const names = new Set<string>();
-      for (const o of options) {
-        if (names.has(o.label)) throw new StudyError(`drives.catalogue ${path}: option "${o.label}" appears twice`);
-        names.add(o.label);
-      }
-      driveCatalogue = { path, options };
-    }
-    const choose = drivesIn['choose'] as 'shared' | 'per-actuator' | undefined;
-    if (choose) {
-      if (!driveCatalogue) throw new StudyError('drives.choose: needs drives.catalogue (the options to choose from)');
-      const choices = drivesIn['choices'] as string[] | undefined;
-      const options = choices ? choices.map((name) => findOption(driveCatalogue!.options, name, 'drives.choices')) : driveCatalogue.options;
-      if (options.length < 2) throw new StudyError('drives.choose: needs at least two options to choose from');
-      driveChoice = { kind: choose, options };
-    } else {
-      const pick = (name: string): DriveSpec => {
-        const raw = drivesIn[name] ?? drivesIn['both'];
-        const where = `drives.${drivesIn[name] !== undefined ? name : 'both'}`;
-        if (typeof raw === 'string') {
-          if (!driveCatalogue) throw new StudyError(`${where}: "${raw}" names a catalogue option, but drives.catalogue is not given`);
-          return findOption(driveCatalogue.options, raw, where);
-        }
-        if (!isObject(raw)) {
-          const list = Array.from({ length: n }, (_, i) => `"actuator_${i + 1}"`).join(', ');
-          throw new StudyError(`drives: give "both" or ${isFiveBar ? '"actuator_1" and "actuator_2"' : list} (missing a drive for ${name}), or "choose" with a catalogue`);
-        }
-        return buildDrive(raw, where, actuatorKind);
-      };
-      drives = [];
-      for (let i = 0; i < n; i++) drives.push(pick(`actuator_${i + 1}`));
-    }
-    if (typeof drivesIn['torque_safety_factor'] === 'number') torqueSafetyFactor = drivesIn['torque_safety_factor'];
+  const driveTrains: DriveTrainSetup | null = buildDriveTrainSetup(drivesIn, attachments, context.architecture.actuators);
+  const choose = drivesIn['choose'] as 'shared' | 'per-actuator' | undefined;
+  if (driveTrains) {
+    drives = fixedDrives(driveTrains, context.architecture.actuators);
+  } else if (choose) {
+    if (!driveCatalogue) throw new StudyError('drives.choose: needs drives.catalogue (the options to choose from)');
+    const choices = drivesIn['choices'] as string[] | undefined;
+    const options = choices ? choices.map((name) => findOption(driveCatalogue.options, name, 'drives.choices')) : driveCatalogue.options;
+    if (options.length < 2) throw new StudyError('drives.choose: needs at least two options to choose from');
+    driveChoice = { kind: choose, options };
+  } else {
+    drives = [];
+    for (let i = 0; i < n; i++) drives.push(pickDrive(drivesIn, `actuator_${i + 1}`, driveCatalogue, context));
   }
+  const torqueSafetyFactor = typeof drivesIn['torque_safety_factor'] === 'number' ? drivesIn['torque_safety_factor'] : 1.5;
+  return { drives, torqueSafetyFactor, driveCatalogue, driveChoice, driveTrains };
+}
 
-  let orientation: OrientationSpec | undefined;
-  const orientationIn = data['orientation'];
-  if (n === 3) {
-    const o = isObject(orientationIn) ? orientationIn : {};
-    const lengthIn = o['characteristic_length'];
-    const characteristicLength: OrientationSpec['characteristicLength'] =
-      lengthIn === undefined ? 'platform' : lengthIn === 'auto' ? 'auto' : positive(q(lengthIn, 'length', 'orientation.characteristic_length'), 'orientation.characteristic_length');
-    const step = positive(q(o['step'], 'angle', 'orientation.step', (2 * Math.PI) / 180), 'orientation.step');
-    if (step > Math.PI / 4) throw new StudyError('orientation.step: at most 45 deg (ranges narrower than the step may be missed)');
-    const rangeValue = positive(q(o['range'], 'angle', 'orientation.range', 0), 'orientation.range', true);
-    if (rangeValue >= Math.PI) throw new StudyError('orientation.range: Δφ must be below 180 deg');
-    orientation = {
-      phi0: q(o['phi0'], 'angle', 'orientation.phi0', 0),
-      range: rangeValue,
-      characteristicLength,
-      step,
-    };
-  } else if (orientationIn !== undefined) {
-    throw new StudyError(`orientation: only 3-DOF architectures (${ARCHITECTURE_NAMES.filter((a) => ARCHITECTURES[a].dof === 3).join(', ')}) have an orientation; the ${architectureName} is 2-DOF`);
+/** `drives.catalogue:` — the attached catalogue file's options, each a drive with a unique name. */
+function parseDriveCatalogue(path: string, attachments: ReadonlyMap<string, string>, { actuatorKind }: SectionContext): NonNullable<Study['driveCatalogue']> {
+  const content = attachments.get(path);
+  if (content === undefined) throw new StudyError(`drives.catalogue: "${path}" is not attached (load the study with loadStudyFile so the file is read)`);
+  const options = catalogueRecords(content, path).map((record, i) => {
+    if (typeof record['name'] !== 'string' || record['name'] === '') throw new StudyError(`drives.catalogue ${path}: option ${i + 1} has no name`);
+    return buildDrive(record as JsonObject, `drives.catalogue ${path}: option "${record['name']}"`, actuatorKind);
+  });
+  const names = new Set<string>();
+  for (const o of options) {
+    if (names.has(o.label)) throw new StudyError(`drives.catalogue ${path}: option "${o.label}" appears twice`);
+    names.add(o.label);
   }
+  return { path, options };
+}
 
-  const taskIn = isObject(data['task']) ? data['task'] : {};
+/** The fixed drive of one actuator: its own entry or `both`, inline or a catalogue option's name. */
+function pickDrive(drivesIn: JsonObject, name: string, driveCatalogue: Study['driveCatalogue'], { isFiveBar, n, actuatorKind }: SectionContext): DriveSpec {
+  const raw = drivesIn[name] ?? drivesIn['both'];
+  const where = `drives.${drivesIn[name] !== undefined ? name : 'both'}`;
+  if (typeof raw === 'string') {
+    if (!driveCatalogue) throw new StudyError(`${where}: "${raw}" names a catalogue option, but drives.catalogue is not given`);
+    return findOption(driveCatalogue.options, raw, where);
+  }
+  if (!isObject(raw)) {
+    const list = Array.from({ length: n }, (_, i) => `"actuator_${i + 1}"`).join(', ');
+    throw new StudyError(`drives: give "both" or ${isFiveBar ? '"actuator_1" and "actuator_2"' : list} (missing a drive for ${name}), or "choose" with a catalogue`);
+  }
+  return buildDrive(raw, where, actuatorKind);
+}
+
+/** `orientation:` — 3-DOF only: nominal angle, required range, characteristic length and step. */
+function parseOrientation(orientationIn: Json | undefined, { architectureName, n }: SectionContext): OrientationSpec | undefined {
+  if (n !== 3) {
+    if (orientationIn !== undefined) {
+      throw new StudyError(`orientation: only 3-DOF architectures (${ARCHITECTURE_NAMES.filter((a) => ARCHITECTURES[a].dof === 3).join(', ')}) have an orientation; the ${architectureName} is 2-DOF`);
+    }
+    return undefined;
+  }
+  const o = isObject(orientationIn) ? orientationIn : {};
+  const lengthIn = o['characteristic_length'];
+  const characteristicLength: OrientationSpec['characteristicLength'] =
+    lengthIn === undefined ? 'platform' : lengthIn === 'auto' ? 'auto' : positive(q(lengthIn, 'length', 'orientation.characteristic_length'), 'orientation.characteristic_length');
+  const step = positive(q(o['step'], 'angle', 'orientation.step', (2 * Math.PI) / 180), 'orientation.step');
+  if (step > Math.PI / 4) throw new StudyError('orientation.step: at most 45 deg (ranges narrower than the step may be missed)');
+  const rangeValue = positive(q(o['range'], 'angle', 'orientation.range', 0), 'orientation.range', true);
+  if (rangeValue >= Math.PI) throw new StudyError('orientation.range: Δφ must be below 180 deg');
+  return {
+    phi0: q(o['phi0'], 'angle', 'orientation.phi0', 0),
+    range: rangeValue,
+    characteristicLength,
+    step,
+  };
+}
+
+/** `task:` — the task region (rectangle or circle) and the required speed and acceleration. */
+function parseTask(taskIn: JsonObject): Study['task'] {
   let region: TaskRegion | null = null;
   if (isObject(taskIn['region'])) {
     const r = taskIn['region'];
@@ -598,13 +747,15 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
       region = { shape: 'circle', centreX, centreY, radius: positive(q(r['radius'], 'length', 'task.region.radius'), 'task.region.radius') };
     }
   }
-  const task = {
+  return {
     region,
     speed: positive(q(taskIn['speed'], 'speed', 'task.speed', 0), 'task.speed', true),
     acceleration: positive(q(taskIn['acceleration'], 'acceleration', 'task.acceleration', 0), 'task.acceleration', true),
   };
+}
 
-  const evalIn = isObject(data['evaluation']) ? data['evaluation'] : {};
+/** `evaluation:` — grid, task samples, usability thresholds and the optional grid window. */
+function parseEvaluation(evalIn: JsonObject): EvaluationSettings {
   const minTransmissionAngle = q(evalIn['min_transmission_angle'], 'angle', 'evaluation.min_transmission_angle', DEFAULT_EVALUATION.minTransmissionAngle);
   if (minTransmissionAngle < 0 || minTransmissionAngle >= Math.PI / 2) {
     throw new StudyError('evaluation.min_transmission_angle: must be between 0 and 90 deg');
@@ -622,7 +773,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     };
     if (!(window.xmax > window.xmin && window.ymax > window.ymin)) throw new StudyError('evaluation.window: each range must be [min, max] with max > min');
   }
-  const evaluation: EvaluationSettings = {
+  return {
     gridCells: (evalIn['grid_cells'] as number | undefined) ?? DEFAULT_EVALUATION.gridCells,
     taskSamples: (evalIn['task_samples'] as number | undefined) ?? DEFAULT_EVALUATION.taskSamples,
     minInverseCondition: (evalIn['min_inverse_condition'] as number | undefined) ?? DEFAULT_EVALUATION.minInverseCondition,
@@ -630,20 +781,11 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     tolerance: (evalIn['tolerance'] as number | undefined) ?? (evalIn['area_tolerance'] as number | undefined) ?? DEFAULT_EVALUATION.tolerance,
     ...(window ? { window } : {}),
   };
-  if (actuatorKind === 'prismatic' && !window && jointLimits.some((r) => r === null)) {
-    throw new StudyError(
-      `joint_limits: the ${architectureName} has rails without an end: give a stroke for every slider (joint_limits.actuator_i {min, max} in m along the rail) or a grid window (evaluation.window {x: [min, max], y: [min, max]})`,
-    );
-  }
-  if (orientation?.characteristicLength === 'auto' && !region) {
-    throw new StudyError('orientation.characteristic_length: "auto" chooses L over the task points; give task.region');
-  }
+}
 
-  const dutyCycle = isObject(data['duty_cycle']) ? buildDutyCycle(data['duty_cycle'], { architecture: architectureName, dof: n, phi0: orientation?.phi0 ?? 0 }) : null;
-  const friction = isObject(data['friction']) ? buildFriction(data['friction'], n, actuatorKind) : null;
-  if (dutyCycle?.requiredRate && !drivesIn) throw new StudyError('duty_cycle.required_rate: needs drives (the limits that set the shortest cycle time)');
-
-  const objectives: ObjectiveSpec[] = (data['objectives'] as JsonObject[]).map((o, i) => {
+/** `objectives:` — known metrics, each once, with the catalogue's sense unless given. */
+function parseObjectives(objectivesIn: readonly JsonObject[]): ObjectiveSpec[] {
+  const objectives: ObjectiveSpec[] = objectivesIn.map((o, i) => {
     const metric = o['metric'] as string;
     const info = metricInfo(metric);
     if (!info) throw new StudyError(`objectives[${i}].metric: unknown metric "${metric}"`);
@@ -654,7 +796,12 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     if (seenObjectives.has(o.metric)) throw new StudyError(`objectives: "${o.metric}" is listed twice`);
     seenObjectives.add(o.metric);
   }
-  const constraints: ConstraintSpec[] = ((data['constraints'] as JsonObject[] | undefined) ?? []).map((c, i) => {
+  return objectives;
+}
+
+/** `constraints:` — known metrics with min and/or max in the metric's unit. */
+function parseConstraints(constraintsIn: readonly JsonObject[], { architecture }: SectionContext): ConstraintSpec[] {
+  return constraintsIn.map((c, i) => {
     const metric = c['metric'] as string;
     if (!metricInfo(metric)) throw new StudyError(`constraints[${i}].metric: unknown metric "${metric}"`);
     const where = `constraints[${i}]`;
@@ -666,47 +813,26 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     if (spec.min !== undefined && spec.max !== undefined && spec.max < spec.min) throw new StudyError(`${where}: max is below min`);
     return spec;
   });
+}
 
+/** Metrics of objectives and constraints that need a section the study lacks, or an actuator count it lacks. */
+function checkMetricNeeds(
+  objectives: readonly ObjectiveSpec[],
+  constraints: readonly ConstraintSpec[],
+  has: { readonly hasDutyCycle: boolean; readonly hasDrives: boolean },
+  { architectureName, n }: SectionContext,
+): void {
   const cycleMetric = (metric: string): boolean => metric.startsWith('cycle_') || metric === 'min_cycle_time';
-  [...objectives.map((o, i) => ({ metric: o.metric, where: `objectives[${i}].metric` })), ...constraints.map((c, i) => ({ metric: c.metric, where: `constraints[${i}].metric` }))].forEach(({ metric, where }) => {
-    if (cycleMetric(metric) && !dutyCycle) throw new StudyError(`${where}: "${metric}" needs a duty_cycle section`);
+  const used = [
+    ...objectives.map((o, i) => ({ metric: o.metric, where: `objectives[${i}].metric` })),
+    ...constraints.map((c, i) => ({ metric: c.metric, where: `constraints[${i}].metric` })),
+  ];
+  for (const { metric, where } of used) {
+    if (cycleMetric(metric) && !has.hasDutyCycle) throw new StudyError(`${where}: "${metric}" needs a duty_cycle section`);
     const unavailable = metricUnavailable(metric, n);
     if (unavailable) throw new StudyError(`${where}: "${metric}" ${unavailable} (the ${architectureName} has ${n} actuators)`);
-    if (metric === 'min_cycle_time' && !drivesIn) throw new StudyError(`${where}: "min_cycle_time" needs drives (their limits set the shortest cycle time)`);
-  });
-
-  const optimizer = parseOptimizer(isObject(data['optimizer']) ? data['optimizer'] : {});
-
-  const partial = {
-    name: data['study'] as string,
-    description: (data['description'] as string | undefined) ?? '',
-    architecture: architectureName,
-    geometry,
-    workingModes,
-    assemblyMode,
-    jointLimits,
-    links,
-    elbowHubMass,
-    endHubMass,
-    payloadMass,
-    gravity,
-    drives,
-    driveChoice,
-    driveCatalogue,
-    torqueSafetyFactor,
-    task,
-    evaluation,
-    dutyCycle,
-    friction,
-    objectives,
-    constraints,
-    optimizer,
-    ...(sliderMass !== undefined ? { sliderMass } : {}),
-    ...(platform ? { platform } : {}),
-    ...(orientation ? { orientation } : {}),
-  };
-  const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
-  return { ...partial, baseline };
+    if (metric === 'min_cycle_time' && !has.hasDrives) throw new StudyError(`${where}: "min_cycle_time" needs drives (their limits set the shortest cycle time)`);
+  }
 }
 
 /**
@@ -760,6 +886,15 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
       out[name] = value;
       continue;
     }
+    const mount = mountBaseline(study.cell, name, value);
+    if (mount !== undefined) {
+      out[name] = mount;
+      continue;
+    }
+    if (/^(motor|gearbox|gear_ratio)(_[123])?$/.test(name)) {
+      out[name] = driveTrainBaseline(name, value, study, where);
+      continue;
+    }
     const parameters = ARCHITECTURES[study.architecture].parameters;
     const info = parameters.find((p) => p.name === name);
     if (!info) {
@@ -780,6 +915,24 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     out[name] = v;
   }
   return out;
+}
+
+/** A baseline value of a drive-train variable (motor, gearbox, gear_ratio; docs/drives.md). */
+function driveTrainBaseline(name: string, value: Json, study: Omit<Study, 'baseline'>, where: string): string | number {
+  const setup = study.driveTrains;
+  const n = ARCHITECTURES[study.architecture].dof;
+  const base = name.replace(/_[123]$/, '');
+  const perActuator = name !== base;
+  const list = base === 'motor' ? setup?.motors : base === 'gearbox' ? setup?.gearboxes : undefined;
+  const active = setup && (base === 'gear_ratio' ? setup.ratio !== null : (list?.length ?? 0) > 1) && perActuator === (setup.choose === 'per-actuator') && (!perActuator || Number(name.slice(-1)) <= n);
+  if (!active) throw new StudyError(`${where}: "${name}" is not a design variable in this study (see drives.motors, drives.gearboxes, drives.gear_ratio and drives.choose)`);
+  if (base === 'gear_ratio') {
+    const v = q(value, 'dimensionless', where);
+    if (v < setup!.ratio!.min || v > setup!.ratio!.max) throw new StudyError(`${where}: ${v} lies outside drives.gear_ratio [${setup!.ratio!.min}, ${setup!.ratio!.max}]`);
+    return v;
+  }
+  if (typeof value !== 'string' || !list!.some((o) => o.name === value)) throw new StudyError(`${where}: must be one of ${JSON.stringify(list!.map((o) => o.name))}`);
+  return value;
 }
 
 function buildLink(raw: Json | undefined, where: string): LinkSpec {

@@ -50,6 +50,11 @@ drives:                               # per actuator (actuator_1, actuator_2) or
     joint_stiffness: 2e4 N*m/rad      # servo plus transmission, at the joint
     encoder_counts: 131072            # per motor revolution
   torque_safety_factor: 1.5
+  # Or motors and gearboxes from catalogues, chosen by the optimizer and checked along a duty cycle
+  # against torque-speed envelopes and gearbox ratings (docs/drives.md), instead of "both" above:
+  # motors: motors.csv                # name, rated_torque, peak_torque, max_speed, corner_speed, rotor_inertia, ...
+  # gearboxes: gearboxes.csv          # name, ratios, efficiency, inertia, rated_torque, acceleration_torque, ...
+  # choose: per-actuator              # design variables motor_1, gearbox_1, ... (shared: motor, gearbox)
 
 task:
   region: { shape: rectangle, centre: [0 mm, 350 mm], width: 250 mm, height: 150 mm }

@@ -5,6 +5,8 @@ import type { AssemblyMode, JointRange } from '../core/pose.js';
 import type { CyclePath, JointFriction } from '../core/cycle.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES, type ArchitectureName } from '../architectures/index.js';
 import type { DriveAtJoint } from '../architectures/types.js';
+import type { CellSpec } from '../cell/types.js';
+import type { DriveTrain, GearboxSpec, LinearStageSpec, MotorSpec } from '../drives/types.js';
 
 /** The study's mechanism architecture (see docs/architectures.md). */
 export type Architecture = ArchitectureName;
@@ -66,6 +68,28 @@ export interface DriveSpec {
   readonly lead?: number;
   /** Prismatic joints only: a linear drive given directly in joint units (N, m/s, kg, N/m, m); the motor-side fields are then unused. */
   readonly linear?: DriveAtJoint;
+  /** The motor, gearbox and stage this drive was built from (catalogue drive trains, docs/drives.md); absent for a plain drive. */
+  readonly train?: DriveTrain;
+}
+
+/** Drive trains chosen from separate motor and gearbox catalogues (docs/drives.md). */
+export interface DriveTrainSetup {
+  /** Catalogue files as written in the study. */
+  readonly motorsPath: string;
+  readonly gearboxesPath: string | null;
+  /** The options in play (the study's subsets, else every catalogue entry). */
+  readonly motors: readonly MotorSpec[];
+  readonly gearboxes: readonly GearboxSpec[];
+  /** One choice for all actuators (variables motor, gearbox, gear_ratio) or one per actuator (motor_1, …). */
+  readonly choose: 'shared' | 'per-actuator';
+  /** Continuous gear ratio bounds (the design variable gear_ratio[_i]); null = the gearbox's own ratio. */
+  readonly ratio: { readonly min: number; readonly max: number } | null;
+  /** The sliders' screw or belt (prismatic architectures), else null. */
+  readonly stage: LinearStageSpec | null;
+  /** The brake must hold this factor times the largest static holding torque. */
+  readonly brakeFactor: number;
+  /** Upper bound on inertia_ratio (a constraint), or null. */
+  readonly maxInertiaRatio: number | null;
 }
 
 export type TaskRegion =
@@ -192,6 +216,8 @@ export interface Study {
     | { readonly kind: 'shared' | 'per-actuator'; readonly options: readonly DriveSpec[] };
   /** The referenced drive catalogue, if any (path as written in the study). */
   readonly driveCatalogue: { readonly path: string; readonly options: readonly DriveSpec[] } | null;
+  /** Drive trains from motor and gearbox catalogues, or absent/null (docs/drives.md). */
+  readonly driveTrains?: DriveTrainSetup | null;
   /** Safety factor on the rated torque for the static-torque drive limit. */
   readonly torqueSafetyFactor: number;
   readonly task: {
@@ -211,4 +237,6 @@ export interface Study {
   /** Baseline design: a value for every design variable. */
   readonly baseline: Readonly<Record<string, number | string>>;
   readonly optimizer: OptimizerSettings;
+  /** The machine in its cell: task zones, keep-outs, interference, mounting, regular workspace (docs/cell.md); absent = none. */
+  readonly cell?: CellSpec | null;
 }

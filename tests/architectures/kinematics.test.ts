@@ -5,7 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import { fiveBar } from '../../src/architectures/fivebar.js';
 import { PoseStatus, type ModelInput } from '../../src/architectures/types.js';
-import { FiveBarPose, poseDynamics as formerPoseDynamics, solvePose as formerSolvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, poseDynamics as formerPoseDynamics, solvePose as formerSolvePose, type FiveBarModel } from '../helpers/fiveBarClosedForm.js';
 import { CASES, findPoses, TUBE, LIGHT_TUBE, withMode } from './models.js';
 
 function relativeError(a: ArrayLike<number>, b: ArrayLike<number>): number {
@@ -148,7 +148,7 @@ describe('five-bar behind the interface', () => {
     drives: [0, 1].map(() => ({ reflectedInertia: 0.004, jointStiffness: 3e4, peakEffort: 20, ratedEffort: 8, maxSpeed: 6, encoderStep: 1e-4 })),
   };
 
-  /** The five-bar's former engine model of the same input (the lumping of src/mechanics/designSpace.ts buildFiveBarModel). */
+  /** The five-bar's former engine model of the same input (the lumping of buildFiveBarModel in tests/helpers/fiveBarClosedForm.ts). */
   function formerEngineModel(mode: string, assembly: 1 | -1): FiveBarModel {
     const crank = [0.2, 0.16] as const;
     const rod = [0.28, 0.32] as const;
@@ -204,7 +204,7 @@ describe('five-bar behind the interface', () => {
         }
       }
     }
-    measured.push(`five-bar: leg layer vs the former engine src/mechanics/fivebar.ts, worst relative difference ${worst.toExponential(2)} over ${checked} poses`);
+    measured.push(`five-bar: leg layer vs the former engine (tests/helpers/fiveBarClosedForm.ts), worst relative difference ${worst.toExponential(2)} over ${checked} poses`);
     expect(checked).toBeGreaterThan(100);
     // Two codings of the same formulas (README "The five-bar model"): rounding only.
     expect(worst).toBeLessThan(1e-12);

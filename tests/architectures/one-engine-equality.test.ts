@@ -1,7 +1,7 @@
 /**
  * Golden regression of the five-bar demo studies: every metric, constraint bound, constraint margin
  * and the violation of the baseline and of seeded random designs equal, to 1e-12 relative, the
- * values the five-bar's former engine path gave (its own FiveBarEvaluator on src/mechanics/fivebar.ts,
+ * values the five-bar's former engine path gave (its own FiveBarEvaluator on the former src/mechanics/fivebar.ts, now tests/helpers/fiveBarClosedForm.ts,
  * before the five-bar joined the leg layer of src/architectures). The values were written by that
  * path into tests/fixtures/golden/fivebar-demo-studies.json; NaN equals NaN and ±∞ equal themselves.
  *

@@ -135,7 +135,7 @@ describe.each(CASES)('$label MJCF export in MuJoCo', (c) => {
         expect(held).toBeLessThan(HELD_SHARE_OF_OPEN_TREE * openTree);
         expect(unheld).toBeGreaterThan(1);
       }
-      // The home keyframe is the first pose with its holding efforts; 1 s (2000 steps of 0.5 ms) from it.
+      // The home keyframe is the first pose with its holding efforts; 1 s (10000 steps of 0.1 ms) from it.
       sim.resetToKeyframe('home');
       expect(c.architecture.solvePose(model, pose, home.x, home.y, home.phi)).toBe(PoseStatus.Assembled);
       c.architecture.poseDynamics(model, pose);

@@ -4,8 +4,9 @@
  * the home pose and at three other task-region poses; and 1 s of simulation from the home pose under
  * the home holding torques keeps the loop closed. Returns what it measured, for the report.
  */
+import { MJCF_TIMESTEP } from '../../src/export/mjcf.js';
 import { expect } from 'vitest';
-import { FiveBarPose, PoseStatus, poseDynamics, solvePose } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, PoseStatus, poseDynamics, solvePose } from '../helpers/fiveBarClosedForm.js';
 import type { CandidateSheet } from '../../src/export/candidate.js';
 import { chainJointAngles, fiveBarModelOf, mjcfOfSheet } from './sheetsFromStudy.js';
 import type { Study } from '../../src/study/types.js';
@@ -78,7 +79,8 @@ export async function checkExportedModel(study: Study, sheet: CandidateSheet, op
     expect(sim.sizes).toEqual({ nq: 4, nv: 4, nu: 2, nkey: 1, neq: 1 });
     // Gravity mapping (x, y) ↦ (x, 0, z) — derived from the plane convention.
     expect(sim.gravity()).toEqual([model.gravity[0], 0, model.gravity[1]]);
-    expect(sim.timestep).toBe(0.0005);
+    // The writer's own time step (src/export/mjcf.ts; chosen so the model stays true in motion, docs/export.md).
+    expect(sim.timestep).toBe(MJCF_TIMESTEP);
 
     // The home keyframe is the sheet's home pose, with the holding torques as controls.
     sim.resetToKeyframe('home');

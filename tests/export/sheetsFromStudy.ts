@@ -2,8 +2,9 @@
  * Candidate sheets built directly from a study file (no database): the design's metrics and
  * constraint margins come from the engine's Evaluator, as a stored evaluation would carry them.
  */
-import { buildFiveBarModel, designFromValues, designVariables, resolveDesign } from '../../src/mechanics/designSpace.js';
-import type { FiveBarModel, FiveBarPose } from '../../src/mechanics/fivebar.js';
+import { designFromValues, designVariables, resolveDesign } from '../../src/mechanics/designSpace.js';
+import { buildFiveBarModel } from '../helpers/fiveBarClosedForm.js';
+import type { FiveBarModel, FiveBarPose } from '../helpers/fiveBarClosedForm.js';
 import type { Study } from '../../src/study/types.js';
 import { architectureMjcf } from '../../src/export/mjcf.js';
 import { Evaluator, constraintDefinitions } from '../../src/mechanics/evaluate.js';

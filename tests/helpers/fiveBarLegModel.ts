@@ -1,12 +1,12 @@
 /**
  * The five-bar's leg model (src/architectures/fivebar.ts) with the lumped inertia fields of a
- * five-bar engine model (src/mechanics/fivebar.ts), so the tests can run the same invented design
- * through the closed forms of dutyCycleFiveBar.ts and through the architecture interface.
+ * five-bar closed-form model (fiveBarClosedForm.ts), so the tests can run the same invented design
+ * through the closed forms of fiveBarClosedFormCycle.ts and through the architecture interface.
  */
 import { fiveBar } from '../../src/architectures/fivebar.js';
 import type { LeggedModel } from '../../src/architectures/legged.js';
 import { RIGID_MASSLESS } from '../../src/architectures/types.js';
-import type { FiveBarModel } from '../../src/mechanics/fivebar.js';
+import type { FiveBarModel } from './fiveBarClosedForm.js';
 
 export function legModelOf(m: FiveBarModel): LeggedModel {
   const base = fiveBar.buildModel({

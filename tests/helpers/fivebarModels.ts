@@ -3,9 +3,10 @@
  * studies from YAML text, the closed-form reachable area, a seeded random generator and the
  * positions of every body for finite-difference checks. Test support only; SI units throughout.
  */
-import type { FiveBarModel, JointRange, WorkingMode } from '../../src/mechanics/fivebar.js';
-import { forwardKinematics } from '../../src/mechanics/fivebar.js';
-import { buildFiveBarModel, designFromValues, designVariables, resolveDesign } from '../../src/mechanics/designSpace.js';
+import type { FiveBarModel, JointRange, WorkingMode } from './fiveBarClosedForm.js';
+import { forwardKinematics } from './fiveBarClosedForm.js';
+import { designFromValues, designVariables, resolveDesign } from '../../src/mechanics/designSpace.js';
+import { buildFiveBarModel } from './fiveBarClosedForm.js';
 import { parseStudyText } from '../../src/study/parse.js';
 import type { Study } from '../../src/study/types.js';
 

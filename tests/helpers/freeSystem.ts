@@ -8,7 +8,11 @@
  *
  * Free system: every rod cut at its distal pin except leg 1's, which keeps the platform (3-DOF: a
  * hinge φ − β_1 at the tip of rod 1) or the end-point masses (2-DOF: point masses at the tip).
- * Leg i revolute: crank hinge θ_i, rod hinge β_i − θ_i; prismatic: slide q_i, rod hinge β_i.
+ * Leg i revolute: crank hinge θ_i, rod hinge β_i − θ_i; prismatic: slide q_i, rod hinge β_i;
+ * strut (3-RPR): housing hinge β_i at the base pivot, then the tube's slide q_i (the strut length) along
+ * the housing, the tube's frame at its distal pin (so the order is β_i, q_i). Strut parts: the housing a
+ * uniform bar (`sliderMass`, length h = the model's retracted length) from the pivot, the tube a uniform
+ * bar (`rodTubeMass`, length h) running back from the pin with the fitting mass at its inner end.
  */
 import type { LeggedModel } from '../../src/architectures/legged.js';
 
@@ -34,19 +38,31 @@ export const PLATFORM_INERTIA = 0.0021;
 export const PAYLOAD_MASS = 0.35;
 export const GRAVITY: readonly [number, number] = [1.2, -9.81];
 
+const isStrut = (model: LeggedModel, i: number): boolean => model.legs[i]!.name === 'strut';
+
 /** Engine model with the lumped fields of the parts (parallel-axis theorem, derived). */
 export function modelFromParts(base: LeggedModel): LeggedModel {
   const n = base.dof;
   const pick = <T>(f: (parts: LegParts, i: number) => T): T[] => Array.from({ length: n }, (_, i) => f(PARTS[i]!, i));
+  // Strut tube: the fitting sits at the inner end, h from the pin; the centre of mass is measured from the pin (as rodComDistance of a strut).
+  const tubeCom = (parts: LegParts, h: number): number => (parts.rodTubeMass * h / 2 + parts.rodFittingMass * h) / (parts.rodTubeMass + parts.rodFittingMass);
   return {
     ...base,
+    proximalMass: pick((parts, i) => (isStrut(base, i) ? parts.sliderMass : base.proximalMass[i]!)),
     proximalInertia: pick((parts, i) =>
-      base.actuators[i] === 'revolute' ? (parts.crankBarMass * base.crank[i]! ** 2) / 3 + parts.elbowHubMass * base.crank[i]! ** 2 : parts.sliderMass),
+      isStrut(base, i) ? (parts.sliderMass * base.rod[i]! ** 2) / 3
+        : base.actuators[i] === 'revolute' ? (parts.crankBarMass * base.crank[i]! ** 2) / 3 + parts.elbowHubMass * base.crank[i]! ** 2 : parts.sliderMass),
     proximalFirstMoment: pick((parts, i) =>
-      base.actuators[i] === 'revolute' ? (parts.crankBarMass * base.crank[i]!) / 2 + parts.elbowHubMass * base.crank[i]! : parts.sliderMass),
+      isStrut(base, i) ? (parts.sliderMass * base.rod[i]!) / 2
+        : base.actuators[i] === 'revolute' ? (parts.crankBarMass * base.crank[i]!) / 2 + parts.elbowHubMass * base.crank[i]! : parts.sliderMass),
     rodMass: pick((parts) => parts.rodTubeMass + parts.rodFittingMass),
-    rodComDistance: pick((parts, i) => (parts.rodTubeMass * base.rod[i]!) / 2 / (parts.rodTubeMass + parts.rodFittingMass)),
+    rodComDistance: pick((parts, i) => (isStrut(base, i) ? tubeCom(parts, base.rod[i]!) : (parts.rodTubeMass * base.rod[i]!) / 2 / (parts.rodTubeMass + parts.rodFittingMass))),
     rodInertiaAboutCom: pick((parts, i) => {
+      if (isStrut(base, i)) {
+        const h = base.rod[i]!;
+        const c = tubeCom(parts, h);
+        return (parts.rodTubeMass * h * h) / 12 + parts.rodTubeMass * (h / 2 - c) ** 2 + parts.rodFittingMass * (h - c) ** 2;
+      }
       const d = base.rod[i]!;
       const b = (parts.rodTubeMass * d) / 2 / (parts.rodTubeMass + parts.rodFittingMass);
       return (parts.rodTubeMass * d * d) / 12 + parts.rodTubeMass * (d / 2 - b) ** 2 + parts.rodFittingMass * b * b;
@@ -59,9 +75,10 @@ export function modelFromParts(base: LeggedModel): LeggedModel {
   };
 }
 
-function slenderBar(mass: number, length: number): string {
+/** Uniform bar along x, its centre at `centre` (default: from the frame origin to +length). */
+function slenderBar(mass: number, length: number, centre = length / 2): string {
   const transverse = (mass * length * length) / 12;
-  return `<inertial pos="${length / 2} 0 0" mass="${mass}" diaginertia="${transverse * 1e-3} ${transverse} ${transverse}"/>`;
+  return `<inertial pos="${centre} 0 0" mass="${mass}" diaginertia="${transverse * 1e-3} ${transverse} ${transverse}"/>`;
 }
 function pointMass(name: string, x: number, z: number, mass: number): string {
   return `<body name="${name}" pos="${x} 0 ${z}"><inertial pos="0 0 0" mass="${mass}" diaginertia="0 0 0"/></body>`;
@@ -100,7 +117,21 @@ export function freeSystemMjcf(model: LeggedModel): string {
         <site name="tip${i + 1}" pos="${d} 0 0"/>
         ${tipContent}
       </body>`;
-    if (model.actuators[i] === 'revolute') {
+    if (isStrut(model, i)) {
+      const h = model.rod[i]!;
+      const tube = `<body name="tube${i + 1}" pos="0 0 0">
+        <joint name="q${i + 1}" type="slide" axis="1 0 0" armature="${parts.reflectedInertia}"/>
+        ${slenderBar(parts.rodTubeMass, h, -h / 2)}
+        ${pointMass(`fitting${i + 1}`, -h, 0, parts.rodFittingMass)}
+        <site name="tip${i + 1}" pos="0 0 0"/>
+        ${tipContent.replace(`pos="${d} 0 0"`, 'pos="0 0 0"')}
+      </body>`;
+      legs.push(`<body name="housing${i + 1}" pos="${model.baseX[i]} 0 ${model.baseY[i]}">
+      <joint name="beta${i + 1}" type="hinge" axis="0 -1 0"/>
+      ${slenderBar(parts.sliderMass, h)}
+      ${tube}
+    </body>`);
+    } else if (model.actuators[i] === 'revolute') {
       const p = model.crank[i]!;
       legs.push(`<body name="crank${i + 1}" pos="${model.baseX[i]} 0 ${model.baseY[i]}">
       <joint name="q${i + 1}" type="hinge" axis="0 -1 0" armature="${parts.reflectedInertia}"/>
@@ -149,13 +180,19 @@ export function freeState(model: LeggedModel, s: InstantState): { qpos: number[]
   const unit = (i: number): number[] => Array.from({ length: n }, (_, k) => (k === i ? 1 : 0));
   const rodRow = (i: number): number[] => Array.from({ length: n }, (_, k) => s.rodRows[i * n + k]!);
   for (let i = 0; i < n; i++) {
-    qpos.push(s.q[i]!); qvel.push(s.qd[i]!); qacc.push(s.qdd[i]!);
-    rho.push(unit(i));
-    if (model.actuators[i] === 'revolute') {
+    if (isStrut(model, i)) {
+      // Housing hinge β_i first, then the slide q_i (tree order).
+      qpos.push(s.rodAngle[i]!, s.q[i]!); qvel.push(s.rodRate[i]!, s.qd[i]!); qacc.push(s.rodAccel[i]!, s.qdd[i]!);
+      rho.push(rodRow(i), unit(i));
+    } else if (model.actuators[i] === 'revolute') {
+      qpos.push(s.q[i]!); qvel.push(s.qd[i]!); qacc.push(s.qdd[i]!);
+      rho.push(unit(i));
       // hinge = β_i − θ_i, rate W_i − e_i.
       qpos.push(s.rodAngle[i]! - s.q[i]!); qvel.push(s.rodRate[i]! - s.qd[i]!); qacc.push(s.rodAccel[i]! - s.qdd[i]!);
       rho.push(rodRow(i).map((v, k) => v - (k === i ? 1 : 0)));
     } else {
+      qpos.push(s.q[i]!); qvel.push(s.qd[i]!); qacc.push(s.qdd[i]!);
+      rho.push(unit(i));
       qpos.push(s.rodAngle[i]!); qvel.push(s.rodRate[i]!); qacc.push(s.rodAccel[i]!);
       rho.push(rodRow(i));
     }

@@ -6,7 +6,7 @@
  * reference-mujoco-dynamics.test.ts.
  */
 import { describe, expect, it } from 'vitest';
-import { FiveBarPose, PoseStatus, poseDynamics, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, PoseStatus, poseDynamics, solvePose, type FiveBarModel } from '../helpers/fiveBarClosedForm.js';
 import {
   CycleSamples,
   CycleSummary,
@@ -28,7 +28,7 @@ import {
   jointRatesFromPath,
   jointSpaceDynamics,
   poseFromJointAngles,
-} from '../../src/mechanics/dutyCycleFiveBar.js';
+} from '../helpers/fiveBarClosedFormCycle.js';
 import { fiveBar } from '../../src/architectures/fivebar.js';
 import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import type { ArchitectureModelBase, PlanarArchitecture } from '../../src/architectures/types.js';

@@ -13,9 +13,9 @@ import { rpr3 } from '../../src/architectures/rpr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ArchitectureModelBase, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import { CycleDynamics, CycleSamples, CycleSummary, CycleTrajectory, DutyCycleAnalysis, type CyclePath, type EndPointState } from '../../src/mechanics/dutyCycle.js';
-import { FiveBarMotion, inverseDynamics, jointRatesFromPath } from '../../src/mechanics/dutyCycleFiveBar.js';
+import { FiveBarMotion, inverseDynamics, jointRatesFromPath } from '../helpers/fiveBarClosedFormCycle.js';
 import { Evaluator, constraintDefinitions } from '../../src/mechanics/evaluate.js';
-import { FiveBarPose, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, solvePose, type FiveBarModel } from '../helpers/fiveBarClosedForm.js';
 import { metricIndex, metricKind } from '../../src/mechanics/metrics.js';
 import { loadStudyFile, parseStudyText, StudyError } from '../../src/study/parse.js';
 import { findPoses, PRR2_INPUT, PRR3_INPUT, RPR3_INPUT, RRR3_INPUT } from '../architectures/models.js';
@@ -108,7 +108,7 @@ function solveAtTime(d: CycleDynamics, model: ArchitectureModelBase, trajectory:
 }
 
 describe('the generic path on the five-bar', () => {
-  it('gives the closed-form θ̇, θ̈, β̇, β̈ and torques of dutyCycleFiveBar.ts along a cycle (1e-10 relative)', () => {
+  it('gives the closed-form θ̇, θ̈, β̇, β̈ and torques of the closed forms (tests/helpers/fiveBarClosedFormCycle.ts) along a cycle (1e-10 relative)', () => {
     const trajectory = new CycleTrajectory(FIVE_BAR_PATH);
     const samples = new CycleSamples(trajectory, 200);
     const d = new CycleDynamics(generic(fiveBar));

@@ -1,6 +1,6 @@
 /**
- * Five-bar pose kinematics, dynamics and stiffness (src/mechanics/fivebar.ts, with the model built by
- * src/mechanics/designSpace.ts where a study is involved) against closed forms, published results
+ * Five-bar pose kinematics, dynamics and stiffness (the closed forms of the former five-bar engine,
+ * tests/helpers/fiveBarClosedForm.ts, with its model built there from a study where one is involved) against closed forms, published results
  * and finite differences. Every expected value names its source beside the assertion.
  */
 import { describe, expect, it } from 'vitest';
@@ -14,7 +14,7 @@ import {
   solvePose,
   type FiveBarModel,
   type WorkingMode,
-} from '../../src/mechanics/fivebar.js';
+} from '../helpers/fiveBarClosedForm.js';
 import {
   linkageState,
   makeFiveBarModel,

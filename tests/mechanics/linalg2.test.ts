@@ -1,5 +1,5 @@
 /**
- * Closed-form 2×2 helpers (src/mechanics/linalg2.ts) against ml-matrix's general SVD and eigenvalue
+ * Closed-form 2×2 helpers (src/architectures/linalg2.ts) against ml-matrix's general SVD and eigenvalue
  * decompositions on random matrices, including badly conditioned and singular ones.
  */
 import { describe, expect, it } from 'vitest';
@@ -10,7 +10,7 @@ import {
   maxEigenSymmetric2,
   maxSingularValue2,
   minEigenSymmetric2,
-} from '../../src/mechanics/linalg2.js';
+} from '../../src/architectures/linalg2.js';
 import { seededRandom } from '../helpers/fivebarModels.js';
 
 type Entries = readonly [number, number, number, number];

@@ -23,10 +23,11 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { LeggedModel } from '../../src/architectures/legged.js';
 import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
+import { rpr3 } from '../../src/architectures/rpr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import type { ArchitectureModelBase, ModelInput, PlanarArchitecture } from '../../src/architectures/types.js';
 import { CycleDynamics, CycleSamples, CycleTrajectory, DutyCycleAnalysis, type CyclePath, type EndPointState } from '../../src/mechanics/dutyCycle.js';
-import { findPoses, PRR2_INPUT, PRR3_INPUT, RRR3_INPUT, type ArchitectureCase } from '../architectures/models.js';
+import { findPoses, PRR2_INPUT, PRR3_INPUT, RPR3_INPUT, RRR3_INPUT, type ArchitectureCase } from '../architectures/models.js';
 import { freeState, freeSystemMjcf, modelFromParts } from '../helpers/freeSystem.js';
 import { loadMujoco } from '../helpers/mujoco.js';
 
@@ -56,11 +57,12 @@ interface CycleCase {
   readonly box: ArchitectureCase['box'];
 }
 
-/** Every leg-based architecture with revolute or prismatic legs (add a case when a leg kind joins the free-system builder). */
+/** Every leg-based architecture: crank + rod, slider + rod and strut legs (add a case when a leg kind joins the free-system builder). */
 const CASES: readonly CycleCase[] = [
   { label: '2-PRR', architecture: prr2, input: PRR2_INPUT, box: { x: 0, y: 0.05, half: 0.3, phiHalf: 0 } },
   { label: '3-RRR', architecture: rrr3, input: RRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
   { label: '3-PRR', architecture: prr3, input: PRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
+  { label: '3-RPR', architecture: rpr3, input: RPR3_INPUT, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.6 } },
 ];
 
 /** A closed cycle around (x, y, φ) with radius r: every motion law, an arc, a dwell and a turn (3-DOF). */

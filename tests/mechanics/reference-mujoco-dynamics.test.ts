@@ -23,9 +23,9 @@
  * show up here, not only in the torque).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../helpers/fiveBarClosedForm.js';
 import { CycleSamples, CycleTrajectory, type CyclePath, type EndPointState } from '../../src/mechanics/dutyCycle.js';
-import { FiveBarMotion, inverseDynamics, jointRatesFromPath } from '../../src/mechanics/dutyCycleFiveBar.js';
+import { FiveBarMotion, inverseDynamics, jointRatesFromPath } from '../helpers/fiveBarClosedFormCycle.js';
 import { CycleDynamics } from '../../src/mechanics/dutyCycle.js';
 import { fiveBar } from '../../src/architectures/fivebar.js';
 import { legModelOf } from '../helpers/fiveBarLegModel.js';

@@ -1,5 +1,5 @@
 /**
- * Reference check of the five-bar reduced dynamics (src/mechanics/fivebar.ts) against MuJoCo.
+ * Reference check of the five-bar reduced dynamics (the closed forms of tests/helpers/fiveBarClosedForm.ts) against MuJoCo.
  *
  * Sources:
  * - Reduced model of a closed chain: Ghorbel, Chételat, Gunawardana & Longchamp, "Modeling and set
@@ -28,7 +28,7 @@ import {
   solvePose,
   type FiveBarModel,
   type WorkingMode,
-} from '../../src/mechanics/fivebar.js';
+} from '../helpers/fiveBarClosedForm.js';
 import { loadMujoco, MujocoSystem, type MujocoModule } from '../helpers/mujoco.js';
 
 /** Physical parts of one leg, SI. */

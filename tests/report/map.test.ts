@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import { renderWorkspaceMap, workspaceMapSpec, MAP_FEATURES, MAP_FEATURE_COLOURS } from '../../src/report/map.js';
 import { renderVegaLiteSvg, svgToPng } from '../../src/report/render.js';
-import { FiveBarPose, solvePose } from '../../src/mechanics/fivebar.js';
+import { FiveBarPose, solvePose } from '../helpers/fiveBarClosedForm.js';
 import { makeFiveBarModel, studyFromParts } from '../helpers/fivebarModels.js';
 import { svgPaths } from './svgPaths.js';
 

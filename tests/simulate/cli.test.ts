@@ -56,6 +56,15 @@ describe('loopsmith simulate', () => {
     expect(summary.joints[0]!.maxTrackingError).toBeGreaterThan(0);
   });
 
+  it('prints each design variable and tracking error in its own unit (an angle in deg, a slider error in mm)', async () => {
+    const result = await run(['simulate', join(REPO, 'studies', 'platform-3rpr-cycle.yaml'), '--duration', '0.2 s']);
+    expect(result.code, result.stderr).toBe(0);
+    expect(result.stdout).toMatch(/platform_twist 45 deg/);
+    expect(result.stdout).toMatch(/joint 1 +\S+ mm /);
+    const crank = await run(['simulate', CYCLE_STUDY, '--duration', '0.2 s']);
+    expect(crank.stdout).toMatch(/joint 1 +\S+ mrad /);
+  });
+
   it('prints the summary as JSON with --json', async () => {
     const result = await run(['simulate', CYCLE_STUDY, '--json', '--duration', '0.3 s', '--no-friction']);
     expect(result.code, result.stderr).toBe(0);

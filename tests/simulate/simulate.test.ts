@@ -8,8 +8,8 @@ import { describe, expect, it } from 'vitest';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { CycleTrajectory, type CyclePath, type EndPointState } from '../../src/mechanics/dutyCycle.js';
-import { FiveBarMotion, JointSpaceDynamics, inverseDynamics, jointRatesFromPath, jointSpaceDynamics } from '../../src/mechanics/dutyCycleFiveBar.js';
-import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../../src/mechanics/fivebar.js';
+import { FiveBarMotion, JointSpaceDynamics, inverseDynamics, jointRatesFromPath, jointSpaceDynamics } from '../helpers/fiveBarClosedFormCycle.js';
+import { FiveBarPose, PoseStatus, solvePose, type FiveBarModel } from '../helpers/fiveBarClosedForm.js';
 import {
   FreeChainAcceleration,
   closureError,

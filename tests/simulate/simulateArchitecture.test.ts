@@ -1,23 +1,24 @@
 /**
  * Forward simulation of the leg-based architectures (src/simulate/legChain.ts, simulateArchitecture.ts):
  * the cut-open chain against the reduced model, energy conservation and loop closure of the unforced
- * chain, and tracking of the 2-PRR and 3-RRR demo duty cycles. Figures are printed for the notes.
+ * chain, and tracking of the 2-PRR, 3-RRR and 3-RPR demo duty cycles. Figures are printed for the notes.
  */
 import { describe, expect, it } from 'vitest';
 import { fiveBar } from '../../src/architectures/fivebar.js';
 import { prr2 } from '../../src/architectures/prr2.js';
 import { prr3 } from '../../src/architectures/prr3.js';
+import { rpr3 } from '../../src/architectures/rpr3.js';
 import { rrr3 } from '../../src/architectures/rrr3.js';
 import { PoseStatus, type ArchitectureModelBase, type ModelInput, type PlanarArchitecture } from '../../src/architectures/types.js';
 import { CycleDynamics, CycleTrajectory, type CyclePath } from '../../src/mechanics/dutyCycle.js';
-import type { FiveBarModel } from '../../src/mechanics/fivebar.js';
-import { simulate } from '../../src/simulate/simulate.js';
+import type { FiveBarModel } from '../helpers/fiveBarClosedForm.js';
+import { simulateFreeChain } from '../helpers/fiveBarFreeChainSimulation.js';
 import { legModelOf } from '../helpers/fiveBarLegModel.js';
 import { LegChain } from '../../src/simulate/legChain.js';
 import { cutChainState, simulateArchitecture } from '../../src/simulate/simulateArchitecture.js';
 import { prepareStudySimulation, simulateStudyDesign } from '../../src/simulate/study.js';
 import { loadStudyFile } from '../../src/study/parse.js';
-import { findPoses, PRR2_INPUT, PRR3_INPUT, RRR3_INPUT, seededRandom } from '../architectures/models.js';
+import { findPoses, PRR2_INPUT, PRR3_INPUT, RPR3_INPUT, RRR3_INPUT, seededRandom } from '../architectures/models.js';
 
 const generic = (a: unknown): PlanarArchitecture<ArchitectureModelBase> => a as PlanarArchitecture<ArchitectureModelBase>;
 
@@ -31,6 +32,7 @@ const CASES: readonly Case[] = [
   { label: '2-PRR', architecture: generic(prr2), input: PRR2_INPUT, box: { x: 0, y: 0.05, half: 0.3, phiHalf: 0 } },
   { label: '3-RRR', architecture: generic(rrr3), input: RRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
   { label: '3-PRR', architecture: generic(prr3), input: PRR3_INPUT, box: { x: 0, y: 0, half: 0.25, phiHalf: 0.6 } },
+  { label: '3-RPR', architecture: generic(rpr3), input: RPR3_INPUT, box: { x: 0, y: 0, half: 0.2, phiHalf: 0.6 } },
 ];
 
 /** Well-conditioned poses of a case with the model in the matching assembly sign. */
@@ -105,12 +107,13 @@ describe.each(CASES)('$label cut-open chain', (c) => {
   });
 });
 
-describe('simulate on the 2-PRR and 3-RRR demo duty cycles', () => {
+describe('simulate on the 2-PRR, 3-RRR and 3-RPR demo duty cycles', () => {
   const studyPath = (name: string): string => new URL(`../../studies/${name}.yaml`, import.meta.url).pathname;
 
   it.each([
     ['rail-sorter-2prr-cycle', 2],
     ['platform-3rrr-cycle', 3],
+    ['platform-3rpr-cycle', 3],
   ] as const)('%s: computed torque tracks the cycle, the loops stay closed and the energy balances', (name, joints) => {
     const setup = prepareStudySimulation(loadStudyFile(studyPath(name)).study);
     expect(setup.model).toBeNull();
@@ -169,7 +172,8 @@ describe('simulate on the 2-PRR and 3-RRR demo duty cycles', () => {
 describe('the cut-open chain of the legs against the five-bar\'s own free chain', () => {
   it('gives the same efforts, errors and energies on an asymmetric five-bar (computed torque and PD)', () => {
     // Two formulations of the same closed chain (derived): the five-bar cut at P into two arms with P on
-    // arm 1 (freeChain.ts) and every rod cut at P with P a free body (legChain.ts) must move alike.
+    // arm 1 (freeChain.ts, integrated by the former five-bar path kept in tests/helpers) and every rod
+    // cut at P with P a free body (legChain.ts) must move alike.
     const model: FiveBarModel = {
       pivotX: [-0.12, 0.1], pivotY: [0.0, 0.05], crank: [0.2, 0.16], rod: [0.28, 0.32], sigma: [1, -1], assembly: 1,
       jointLimits: [null, null], crankInertiaAboutPivot: [0.0108, 0.0065], crankFirstMoment: [0.069, 0.044], rodMass: [0.4, 0.5],
@@ -191,7 +195,7 @@ describe('the cut-open chain of the legs against the five-bar\'s own free chain'
     for (const controller of ['computed-torque', 'pd'] as const) {
       const options = { controller, trajectory: new CycleTrajectory(path), duration: 0.77, friction, extraEndMass: 0.2 };
       const mine = simulateArchitecture(generic(fiveBar), legModelOf(model), options);
-      const theirs = simulate(model, options);
+      const theirs = simulateFreeChain(model, options);
       expect(mine.series.count).toBe(theirs.series.count);
       for (let k = 0; k < mine.series.count; k += 7) {
         for (let i = 0; i < 2; i++) {
@@ -206,5 +210,26 @@ describe('the cut-open chain of the legs against the five-bar\'s own free chain'
       expect(mine.summary.joints[0]!.maxTrackingError).toBeCloseTo(theirs.summary.joints[0]!.maxTrackingError, 8);
     }
     console.info(`five-bar: cut chain of the legs vs the five-bar free chain, worst relative effort gap ${worst.toExponential(2)}`);
+  });
+});
+
+describe('the singularly perturbed closure on strut legs', () => {
+  it('3-RPR demo: the perturbed chain (legChain.ts terms) tends to the stabilised one as ε shrinks', () => {
+    // Derived (src/simulate/perturbedChain.ts): ε²Φ̈ + 2εΦ̇ + Φ = ε²Φ̈_free, so the loop error and the
+    // departure from the constrained motion shrink with ε; a leg assembled with the wrong terms would not.
+    const studyPath = new URL('../../studies/platform-3rpr-cycle.yaml', import.meta.url).pathname;
+    const setup = prepareStudySimulation(loadStudyFile(studyPath).study);
+    const options = { controller: 'computed-torque' as const, duration: 0.3, outputInterval: 2e-3 };
+    const exact = simulateStudyDesign(setup, options);
+    const gaps = [4e-3, 1e-3].map((epsilon) => {
+      const r = simulateStudyDesign(setup, { ...options, formulation: 'perturbed', epsilon });
+      let worst = 0;
+      for (let k = 0; k < r.series.count; k++) worst = Math.max(worst, Math.hypot(r.series.x[k]! - exact.series.x[k]!, r.series.y[k]! - exact.series.y[k]!));
+      return { epsilon, endPoint: worst, closure: r.summary.maxClosureError };
+    });
+    console.info(`3-RPR demo (0.3 s): perturbed vs stabilised end point ${gaps.map((g) => `ε ${g.epsilon} s: ${(g.endPoint * 1e3).toExponential(2)} mm, max |Φ| ${(g.closure * 1e3).toExponential(2)} mm`).join('; ')}`);
+    expect(gaps[1]!.endPoint).toBeLessThan(gaps[0]!.endPoint / 4);
+    expect(gaps[1]!.closure).toBeLessThan(gaps[0]!.closure / 4);
+    expect(gaps[1]!.endPoint).toBeLessThan(1e-4);
   });
 });

@@ -98,6 +98,7 @@ export interface LegModelView {
 }
 
 export interface LegKind {
+  /** The kind's name; the cut-open chain of forward simulation (src/simulate/legChain.ts) dispatches on it. */
   readonly name: 'crank-rod' | 'slider-rod' | 'strut';
   readonly actuator: ActuatorKind;
   lump(geometry: LegGeometry, input: LegInput): LegLumped;

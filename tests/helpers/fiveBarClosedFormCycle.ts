@@ -1,9 +1,8 @@
 /**
- * The five-bar's closed-form cycle kinematics and inverse dynamics, written on the old five-bar engine
- * (src/mechanics/fivebar.ts): the analytic formulas of docs/duty-cycle.md for two revolute legs.
- * The pipeline no longer uses them (src/mechanics/dutyCycle.ts works on every architecture through
- * the PlanarArchitecture interface); they stay as the five-bar's analytic cross-check in the tests
- * and for the five-bar free chain of src/simulate/freeChain.ts, and go with the old engine.
+ * The five-bar's closed-form cycle kinematics and inverse dynamics, on the closed-form five-bar of
+ * fiveBarClosedForm.ts: the analytic formulas of docs/duty-cycle.md for two revolute legs. The
+ * pipeline does not use them (src/mechanics/dutyCycle.ts works on every architecture through the
+ * PlanarArchitecture interface); they are the tests' analytic cross-check of it. Test support only.
  *
  * Kinematics along the path (derived by differentiating the leg closure |P − C_i|² = d_i² twice,
  * C_i = A_i + p_i e_i):
@@ -15,8 +14,8 @@
  * Inverse dynamics (virtual power, body by body, the same bodies as poseDynamics):
  *   τ = Σ_k V_kᵀ m_k (a_k − γ) + w_k I_k α_k + J_refl θ̈  =  D(θ) θ̈ + C(θ, θ̇) θ̇ + g(θ)
  */
-import { FiveBarPose, PoseStatus, forwardKinematics, jointRangeMargin, type FiveBarModel } from './fivebar.js';
-import { inverseCondition2 } from './linalg2.js';
+import { FiveBarPose, PoseStatus, forwardKinematics, jointRangeMargin, type FiveBarModel } from './fiveBarClosedForm.js';
+import { inverseCondition2 } from '../../src/architectures/linalg2.js';
 
 /**
  * Rates and torques at one instant (reusable scratch; every field is overwritten). Filled by

@@ -1,18 +1,25 @@
 /**
- * Planar five-bar (5R) parallel mechanism: the immutable model, the reusable per-pose data and the
- * free functions that fill the data for one end-point position (inverse kinematics, velocity
- * matrices, transmission, conditioning, reduced dynamics and stiffness).
+ * The five-bar's closed forms, kept as the tests' analytic cross-check of the one engine (the leg
+ * layer in src/architectures, which the pipeline uses for every architecture). This was the five-bar's
+ * own engine (src/mechanics/fivebar.ts) before the five-bar joined the leg layer; it is test support
+ * only and no code in src/ uses it.
  *
- * Conventions (see the project README, "The five-bar model"): SI units throughout; leg i has an
- * actuated base pivot A_i, a crank of length p_i to the elbow C_i, a rod of length d_i to the common
- * end point P. e(θ) = (cos θ, sin θ), e⊥(θ) = (−sin θ, cos θ), cross(a, b) = a_x b_y − a_y b_x.
+ * Planar five-bar (5R): the immutable model, the reusable per-pose data and the free functions that
+ * fill the data for one end-point position (inverse kinematics, velocity matrices, transmission,
+ * conditioning, reduced dynamics and stiffness).
+ *
+ * Conventions (see docs/architectures.md and ../shared/design/mechanics.md): SI units throughout; leg i
+ * has an actuated base pivot A_i, a crank of length p_i to the elbow C_i, a rod of length d_i to the
+ * common end point P. e(θ) = (cos θ, sin θ), e⊥(θ) = (−sin θ, cos θ), cross(a, b) = a_x b_y − a_y b_x.
  * Velocity: A Ṗ = B θ̇ with A = [u_1ᵀ; u_2ᵀ], B = diag(p_1 s_1, p_2 s_2), u_i the rod unit vector and
  * s_i = cross(e(θ_i), u_i) the leg transmission sine. J = A⁻¹B, J⁻¹ rows u_iᵀ/(p_i s_i).
  */
-import { generalizedEigen2, inverseCondition2, maxSingularValue2, minEigenSymmetric2 } from './linalg2.js';
-
-import { PoseStatus, jointRangeMargin, type JointRange } from '../core/pose.js';
-export { PoseStatus, jointRangeMargin, WORKING_MODES, type JointRange, type WorkingMode, type AssemblyMode } from '../core/pose.js';
+import { generalizedEigen2, inverseCondition2, maxSingularValue2, minEigenSymmetric2 } from '../../src/architectures/linalg2.js';
+import { PoseStatus, jointRangeMargin, type JointRange } from '../../src/core/pose.js';
+import { usabilityMargin, type UsabilitySettings } from '../../src/mechanics/usability.js';
+import type { ResolvedDesign } from '../../src/mechanics/designSpace.js';
+import type { Study } from '../../src/study/types.js';
+export { PoseStatus, jointRangeMargin, WORKING_MODES, type JointRange, type WorkingMode, type AssemblyMode } from '../../src/core/pose.js';
 
 /** Everything constant about one candidate design. Built once per design; never written to. */
 export interface FiveBarModel {
@@ -355,4 +362,60 @@ export function reachableBox(model: FiveBarModel): { xmin: number; xmax: number;
 export function footprint(model: FiveBarModel): number {
   const span = Math.hypot(model.pivotX[1] - model.pivotX[0], model.pivotY[1] - model.pivotY[0]);
   return span + Math.max(model.crank[0] + model.rod[0], model.crank[1] + model.rod[1]);
+}
+
+/**
+ * The closed-form model of a five-bar design of a study: the lumping the five-bar engine used (uniform
+ * bars, elbow hub as a point mass at the crank end, drive inertia reflected to the joint).
+ */
+export function buildFiveBarModel(study: Study, resolved: ResolvedDesign): FiveBarModel {
+  if (study.architecture !== 'five-bar' || study.members) throw new Error(`buildFiveBarModel: the study's architecture is ${study.members ? 'a comparison' : study.architecture}; use buildArchitectureModel`);
+  const g = resolved.geometry;
+  const crank = [g.crank_1!, g.crank_2!] as const;
+  const rod = [g.rod_1!, g.rod_2!] as const;
+  const cranks = [study.links.cranks[0]!, study.links.cranks[1]!] as const;
+  const rods = [study.links.rods[0]!, study.links.rods[1]!] as const;
+  const hub = study.elbowHubMass;
+
+  // Uniform bar about one end: I = m L²/3, first moment m L/2; elbow hub is a point mass at the crank end.
+  const crankMass = [cranks[0].massPerLength * crank[0], cranks[1].massPerLength * crank[1]] as const;
+  const crankInertiaAboutPivot = [
+    (crankMass[0] * crank[0] ** 2) / 3 + hub * crank[0] ** 2,
+    (crankMass[1] * crank[1] ** 2) / 3 + hub * crank[1] ** 2,
+  ] as const;
+  const crankFirstMoment = [(crankMass[0] * crank[0]) / 2 + hub * crank[0], (crankMass[1] * crank[1]) / 2 + hub * crank[1]] as const;
+  const rodMass = [rods[0].massPerLength * rod[0], rods[1].massPerLength * rod[1]] as const;
+
+  const drives = resolved.drives;
+  const reflected = (i: 0 | 1): number => (drives ? drives[i]!.gearRatio ** 2 * drives[i]!.rotorInertia + drives[i]!.gearInertia : 0);
+  const jointStiffness = (i: 0 | 1): number => (drives ? drives[i]!.jointStiffness : Infinity);
+  const bending = (i: 0 | 1): number =>
+    crank[i] ** 2 / jointStiffness(i) + crank[i] ** 3 / (3 * cranks[i].youngsModulus * cranks[i].secondMoment);
+  const [s1, s2] = resolved.workingMode === '++' ? [1, 1] : resolved.workingMode === '+-' ? [1, -1] : resolved.workingMode === '-+' ? [-1, 1] : [-1, -1];
+
+  return {
+    pivotX: [-g.base_span! / 2, g.base_span! / 2],
+    pivotY: [0, g.base_rise!],
+    crank,
+    rod,
+    sigma: [s1, s2],
+    assembly: study.assemblyMode === '+' ? 1 : -1,
+    jointLimits: [study.jointLimits[0] ?? null, study.jointLimits[1] ?? null],
+    crankInertiaAboutPivot,
+    crankFirstMoment,
+    rodMass,
+    rodComDistance: [rod[0] / 2, rod[1] / 2],
+    rodInertiaAboutCom: [(rodMass[0] * rod[0] ** 2) / 12, (rodMass[1] * rod[1] ** 2) / 12],
+    endMass: study.endHubMass + study.payloadMass,
+    reflectedInertia: [reflected(0), reflected(1)],
+    gravity: study.gravity,
+    complianceBending: [bending(0), bending(1)],
+    complianceCrankAxial: [crank[0] / (cranks[0].youngsModulus * cranks[0].area), crank[1] / (cranks[1].youngsModulus * cranks[1].area)],
+    complianceRodAxial: [rod[0] / (rods[0].youngsModulus * rods[0].area), rod[1] / (rods[1].youngsModulus * rods[1].area)],
+  };
+}
+
+/** The usability rule (src/mechanics/usability.ts) on a closed-form pose. */
+export function usableMargin(pose: FiveBarPose, status: PoseStatus, study: UsabilitySettings): number {
+  return usabilityMargin(status, pose.inverseCondition, [pose.s1, pose.s2], pose.detA, pose.jointMargin, study);
 }

@@ -10,7 +10,7 @@ import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { createHash } from 'node:crypto';
-import { hypervolume, runFront, runOptimization, Store } from '../dist/index.js';
+import { hypervolume, parseStudyText, runFront, runOptimization, Store } from '../dist/index.js';
 
 export const REFERENCE_SETTINGS = { population: 100, generations: 1000, seed: 1 };
 
@@ -80,4 +80,61 @@ export function hypervolumeShare(front, reference) {
   const scale = (points) => points.map((p) => p.map((v, k) => (v - ideal[k]) / (nadir[k] - ideal[k])));
   const ref = new Array(m).fill(1.1);
   return hypervolume(scale(front), ref) / hypervolume(scale(union), ref);
+}
+
+/** Seeds of the bench's front-share runs (each a full default-termination run of the demo study). */
+export const FRONT_SHARE_SEEDS = [1, 2, 3, 4, 5];
+
+/** The issue's target: at least this share of the reference hypervolume ... */
+export const TARGET_SHARE = 0.99;
+/** ... in at most this many evaluations (the default evaluation cap). */
+export const TARGET_EVALUATIONS = 10000;
+
+/**
+ * Bench section 6: runs the study without its generation count (the default termination: stop on
+ * convergence, at most 10,000 evaluations) once per seed and measures the share of the reference
+ * front's hypervolume each reaches. Returns plain data (for printing or JSON):
+ * { reference: {...}, runs: [{ seed, share, evaluations, endReason, generations, frontDesigns, seconds, met }], target }.
+ */
+export async function measureFrontShare(loaded, { cacheDir, seeds = FRONT_SHARE_SEEDS, workers = 2, log = () => {} }) {
+  // The demo study gives a fixed generation count; without it, the study's default termination applies.
+  const text = loaded.text.replace(/^\s*generations:.*$/m, '');
+  if (text === loaded.text) throw new Error('bench: could not remove the generation count of the study');
+  const defaultStudy = parseStudyText(text, `${loaded.study.name}, default termination`);
+  const reference = await referenceFront(loaded, { cacheDir, workers, log });
+  const runs = [];
+  for (const seed of seeds) {
+    const dir = mkdtempSync(join(tmpdir(), 'loopsmith-bench-front-'));
+    try {
+      const dbPath = join(dir, 'front.db');
+      const t0 = performance.now();
+      const summary = await runOptimization(defaultStudy, { dbPath, workers, seed });
+      const seconds = (performance.now() - t0) / 1000;
+      const front = runFrontPoints(dbPath, summary.runId);
+      const share = hypervolumeShare(front, reference.points);
+      const evaluations = summary.totalEvaluations;
+      const run = { seed, share, evaluations, endReason: summary.endReason, generations: summary.generationsDone, frontDesigns: front.length, seconds, met: share >= TARGET_SHARE && evaluations <= TARGET_EVALUATIONS };
+      runs.push(run);
+      log(run);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  }
+  const { points, ...about } = reference;
+  return { reference: { ...about, designs: points.length }, runs, target: { share: TARGET_SHARE, evaluations: TARGET_EVALUATIONS } };
+}
+
+/** One line per seed for the bench's text output. */
+export function describeFrontShareRun(run) {
+  return `demo study, default termination, seed ${run.seed}: ${(run.share * 100).toFixed(2)} % of the reference front's hypervolume with ${run.evaluations} evaluations (${run.endReason}, ${run.generations} generations, ${run.frontDesigns} front designs, ${run.seconds.toFixed(0)} s)  [target ≥ 99 % in ≤ 10,000: ${run.met ? 'met' : 'NOT met'}]`;
+}
+
+export function describeFrontShareReference(r) {
+  return `reference front: ${r.designs} designs from one run of ${r.evaluations} evaluations (population ${r.population} × ${r.generations} generations, seed ${r.seed}, fixed count)${r.cached ? `, cached in ${r.file} (made ${r.madeAt}; delete it to recompute)` : `, computed in ${r.seconds.toFixed(0)} s and cached in ${r.file}`}`;
+}
+
+export function describeFrontShareSummary({ runs }) {
+  const shares = runs.map((run) => run.share * 100);
+  const mean = shares.reduce((a, b) => a + b, 0) / shares.length;
+  return `demo study, default termination: share ${Math.min(...shares).toFixed(2)}–${Math.max(...shares).toFixed(2)} % (mean ${mean.toFixed(2)} %) over seeds ${runs.map((run) => run.seed).join(', ')}; at most ${Math.max(...runs.map((run) => run.evaluations))} evaluations; target met by ${runs.filter((run) => run.met).length} of ${runs.length}`;
 }

@@ -147,29 +147,13 @@ line(`scaling 1 → 2 workers: ${(efficiency * 100).toFixed(0)} % parallel effic
 
 // 6. Front quality of the default termination (convergence, at most 10,000 evaluations) on the demo
 // study: share of the hypervolume of a reference front from a run ten times longer (see frontShare.mjs).
-{
-  const { hypervolumeShare, referenceFront, runFrontPoints } = await import('./frontShare.mjs');
-  const { parseStudyText } = await import('../dist/index.js');
-  // The demo study gives a fixed generation count; without it, the study's default termination applies.
-  const text = study.text.replace(/^\s*generations:.*$/m, '');
-  if (text === study.text) throw new Error('bench: could not remove the generation count of the demo study');
-  const defaultStudy = parseStudyText(text, 'demo study, default termination');
-  const cacheDir = new URL('../results/', import.meta.url).pathname;
-  const reference = await referenceFront(study, { cacheDir, workers: 2, log: line });
-  line(`reference front: ${reference.points.length} designs from one run of ${reference.evaluations} evaluations (population ${reference.population} × ${reference.generations} generations, seed ${reference.seed}, fixed count)${reference.cached ? `, cached in ${reference.file} (made ${reference.madeAt}; delete it to recompute)` : `, computed in ${reference.seconds.toFixed(0)} s and cached in ${reference.file}`}`);
-  const seeds = quick ? [1] : [1, 2, 3];
-  for (const seed of seeds) {
-    const dir = mkdtempSync(join(tmpdir(), 'loopsmith-bench-front-'));
-    try {
-      const dbPath = join(dir, 'front.db');
-      const t0 = performance.now();
-      const summary = await runOptimization(defaultStudy, { dbPath, workers: 2, seed });
-      const seconds = (performance.now() - t0) / 1000;
-      const front = runFrontPoints(dbPath, summary.runId);
-      const share = hypervolumeShare(front, reference.points);
-      line(`demo study, default termination, seed ${seed}: ${(share * 100).toFixed(2)} % of the reference front's hypervolume with ${summary.totalEvaluations} evaluations (${summary.endReason}, generation ${summary.generationsDone - 1}, ${front.length} front designs, ${seconds.toFixed(0)} s)  [target ≥ 99 % in ≤ 10,000]`);
-    } finally {
-      rmSync(dir, { recursive: true, force: true });
-    }
-  }
-}
+// `frontShare` is plain data (reference, per-seed share and evaluations, target) for a JSON report.
+const { measureFrontShare, describeFrontShareRun, describeFrontShareReference, describeFrontShareSummary } = await import('./frontShare.mjs');
+const frontShare = await measureFrontShare(study, {
+  cacheDir: new URL('../results/', import.meta.url).pathname,
+  workers: 2,
+  seeds: quick ? [1] : undefined,
+  log: (entry) => line(typeof entry === 'string' ? entry : describeFrontShareRun(entry)),
+});
+line(describeFrontShareReference(frontShare.reference));
+line(describeFrontShareSummary(frontShare));

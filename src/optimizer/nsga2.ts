@@ -31,26 +31,24 @@
  *
  * Not in the paper: every told design is also offered to an external archive
  * (archive.ts) of the non-dominated feasible designs found so far, which is
- * the run's real result (`archive()`). The search never reads it.
+ * the run's real result (`archive()`). The paper's search never reads it.
+ *
+ * Options, all off by default (see docs/optimizer.md, "Reaching a narrow
+ * feasible region"): an oversampled initial Latin hypercube, ε-constraint
+ * handling (Takahama & Sakai 2006), differential-evolution variation
+ * (NSGA-II-DE, Li & Zhang 2009), and a final local refinement phase that
+ * makes its offspring around archive members (Pareto local search).
+ *
+ * What NSGA-II shares with NSGA-III (ask/tell cycle, archive, snapshot,
+ * sort, initial sample, SBX variation) lives in population.ts.
  */
 
-import {
-  crossover,
-  crowdedTournament,
-  designLayout,
-  DesignSet,
-  KIND_CATEGORICAL,
-  latinHypercube,
-  mutate,
-  mutateVariable,
-  repair,
-  uniformDesign,
-  type DesignLayout,
-} from './operators.js';
-import { deserializeEvaluation, ParetoArchive, serializeEvaluation, type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
-import { SeededRandom, type RandomState } from './random.js';
-import { crowdingDistance, NonDominatedSorter } from './sorting.js';
-import { sanitizeEvaluation, validateProblem, type BatchEvaluate, type Evaluation, type ProblemSpec } from './types.js';
+import { crowdedTournament, DesignSet, differentialMove, KIND_CATEGORICAL, mutate, mutateVariable, repair, type DesignLayout } from './operators.js';
+import { type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
+import { MAX_DUPLICATE_ATTEMPTS, PopulationOptimizer, type Individual } from './population.js';
+import type { SeededRandom, RandomState } from './random.js';
+import { crowdingDistance } from './sorting.js';
+import { validateProblem, type BatchEvaluate, type Evaluation, type ProblemSpec } from './types.js';
 import { TerminationTracker, type EndReason, type Termination } from './termination.js';
 import type { ConvergenceStatus } from './convergence.js';
 
@@ -79,6 +77,22 @@ export interface Nsga2Settings {
   epsilonConstraint?: EpsilonConstraintSettings;
   /** Distribution index of the polynomial moves of the final local refinement (default 100). */
   refinementEta?: number;
+  /**
+   * Variation of the search generations: 'sbx' (the paper's SBX crossover and polynomial mutation,
+   * default) or 'de' (differential evolution DE/rand/1 with polynomial mutation, as in NSGA-II-DE of
+   * Li & Zhang 2009; see operators.ts differentialMove).
+   */
+  variation?: 'sbx' | 'de';
+  /** F of the differential moves (default 0.5). */
+  differentialWeight?: number;
+  /**
+   * Moves of the final local refinement: 'mutation' (polynomial mutation of an archive member,
+   * default) or 'differential' (an archive member plus a scaled difference of two of its nearest
+   * archive neighbours, followed by polynomial mutation; see makeRefinementPopulation).
+   */
+  refinementMove?: 'mutation' | 'differential';
+  /** Refinement children per objective spent on anchor moves (default 0; see anchorMoves). */
+  refinementAnchors?: number;
 }
 
 /**
@@ -141,10 +155,11 @@ export interface ResolvedNsga2Settings {
   initialOversampling: number;
   epsilonConstraint: Required<EpsilonConstraintSettings> | null;
   refinementEta: number;
+  variation: 'sbx' | 'de';
+  differentialWeight: number;
+  refinementMove: 'mutation' | 'differential';
+  refinementAnchors: number;
 }
-
-/** Maximum re-mutations of an offspring that duplicates an existing design. */
-const MAX_DUPLICATE_ATTEMPTS = 20;
 
 export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): ResolvedNsga2Settings {
   const resolved: ResolvedNsga2Settings = {
@@ -159,6 +174,10 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
       ? { generations: settings.epsilonConstraint.generations, exponent: settings.epsilonConstraint.exponent ?? 5, quantile: settings.epsilonConstraint.quantile ?? 0.2 }
       : null,
     refinementEta: settings.refinementEta ?? 100,
+    variation: settings.variation ?? 'sbx',
+    differentialWeight: settings.differentialWeight ?? 0.5,
+    refinementMove: settings.refinementMove ?? 'mutation',
+    refinementAnchors: settings.refinementAnchors ?? 0,
   };
   if (!(resolved.initialOversampling >= 1 && Number.isFinite(resolved.initialOversampling))) {
     throw new RangeError(`initialOversampling must be a finite number >= 1, got ${resolved.initialOversampling}`);
@@ -167,6 +186,10 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
   if (epsilon && !(Number.isInteger(epsilon.generations) && epsilon.generations >= 1 && epsilon.exponent >= 0 && epsilon.quantile >= 0 && epsilon.quantile <= 1)) {
     throw new RangeError('epsilonConstraint: generations must be an integer >= 1, exponent >= 0, quantile in [0, 1]');
   }
+  if (resolved.variation !== 'sbx' && resolved.variation !== 'de') throw new RangeError(`variation must be 'sbx' or 'de', got ${String(resolved.variation)}`);
+  if (resolved.refinementMove !== 'mutation' && resolved.refinementMove !== 'differential') throw new RangeError(`refinementMove must be 'mutation' or 'differential', got ${String(resolved.refinementMove)}`);
+  if (!(Number.isInteger(resolved.refinementAnchors) && resolved.refinementAnchors >= 0)) throw new RangeError(`refinementAnchors must be an integer >= 0, got ${resolved.refinementAnchors}`);
+  if (!(resolved.differentialWeight > 0 && resolved.differentialWeight <= 2)) throw new RangeError(`differentialWeight must be in (0, 2], got ${resolved.differentialWeight}`);
   if (!(resolved.refinementEta >= 0 && Number.isFinite(resolved.refinementEta))) throw new RangeError(`refinementEta must be a finite number >= 0, got ${resolved.refinementEta}`);
   if (!Number.isInteger(resolved.populationSize) || resolved.populationSize < 2) {
     throw new RangeError(`populationSize must be an integer >= 2, got ${resolved.populationSize}`);
@@ -183,34 +206,7 @@ export function resolveSettings(problem: ProblemSpec, settings: Nsga2Settings): 
   return resolved;
 }
 
-/** A told design with its evaluation and its objectives in minimisation form. */
-interface Individual {
-  design: Float64Array;
-  evaluation: Evaluation;
-  minimized: Float64Array;
-}
-
-export class Nsga2 {
-  readonly problem: ProblemSpec;
-  readonly settings: ResolvedNsga2Settings;
-  private readonly layout: DesignLayout;
-  private readonly objectiveCount: number;
-  private readonly maximize: boolean[];
-  private readonly sorter = new NonDominatedSorter();
-  /** Scratch for the sort: minimised objectives (row-major), violations, crowding distances. */
-  private objectiveScratch = new Float64Array(0);
-  private violationScratch = new Float64Array(0);
-  private distanceScratch = new Float64Array(0);
-
-  /** Random state at the start of the next step; ask()/initialDesigns() draw from a copy. */
-  private random: SeededRandom;
-  private generationNumber = -1;
-  private individuals: Individual[] = [];
-  private members: Member[] = [];
-  /** Every told design is offered here; only read by the search, never used by it. */
-  private paretoArchive: ParetoArchive;
-  /** Designs of the next step and the random state after making them (cache of ask()). */
-  private pending: { designs: Float64Array[]; randomAfter: SeededRandom } | undefined;
+export class Nsga2 extends PopulationOptimizer {
   /** ε(0) of the ε-constraint handling (0 without it or before the initial population). */
   private epsilonZero = 0;
   /** ε used by the sort of the generation being formed. */
@@ -219,111 +215,14 @@ export class Nsga2 {
 
   constructor(problem: ProblemSpec, settings: Nsga2Settings) {
     validateProblem(problem);
-    this.problem = problem;
-    this.settings = resolveSettings(problem, settings);
-    this.layout = designLayout(problem);
-    this.objectiveCount = problem.objectives.length;
-    this.maximize = problem.objectives.map((objective) => objective.sense === 'max');
-    this.random = new SeededRandom(this.settings.seed);
-    this.paretoArchive = new ParetoArchive(problem.objectives);
+    super(problem, resolveSettings(problem, settings));
   }
 
   /** Continues from a snapshot() of an optimizer with the same problem and settings. */
   static restore(problem: ProblemSpec, settings: Nsga2Settings, state: Nsga2State): Nsga2 {
     const optimizer = new Nsga2(problem, settings);
-    if (!Number.isInteger(state.generation) || state.generation < -1) throw new RangeError(`bad generation ${state.generation}`);
-    if ((state.generation === -1) !== (state.population.length === 0)) {
-      throw new RangeError('state: the population must be empty exactly when generation is -1');
-    }
-    optimizer.random = SeededRandom.fromState(state.random);
-    optimizer.generationNumber = state.generation;
-    optimizer.epsilonZero = state.epsilonZero ?? 0;
-    optimizer.phase = state.phase ?? 'search';
-    optimizer.epsilon = optimizer.epsilonLevel(state.generation);
-    const individuals = state.population.map((entry, j) => {
-      if (entry.design.length !== optimizer.layout.count) {
-        throw new RangeError(`state: design ${j} has ${entry.design.length} variables, expected ${optimizer.layout.count}`);
-      }
-      return optimizer.individual(Float64Array.from(entry.design), deserializeEvaluation(entry.evaluation));
-    });
-    optimizer.adoptPopulation(individuals);
-    if (state.archive === undefined) {
-      // Older snapshot without an archive: the best that can be rebuilt is its population.
-      for (const individual of individuals) optimizer.paretoArchive.offer(individual.design, individual.evaluation);
-    } else {
-      optimizer.paretoArchive = ParetoArchive.fromJSON(problem.objectives, state.archive);
-    }
+    optimizer.restoreState(state);
     return optimizer;
-  }
-
-  /** -1 before the initial population is told, 0 after, then +1 per tell(). */
-  get generation(): number {
-    return this.generationNumber;
-  }
-
-  /**
-   * N designs for the initial population: Latin hypercube sampling for real
-   * and integer variables, uniform for categoricals; a design equal to an
-   * earlier one is replaced by a uniformly random one (bounded attempts).
-   * Calling it again before tell() returns the same designs.
-   */
-  initialDesigns(): Float64Array[] {
-    if (this.generationNumber !== -1) throw new Error('initialDesigns(): the initial population has already been told');
-    return this.pendingDesigns().map((design) => design.slice());
-  }
-
-  /**
-   * Q_{t+1} = make-new-pop(P_{t+1}): N offspring by binary tournament on the
-   * crowded comparison, SBX crossover with probability p_c, polynomial
-   * mutation with probability p_m per variable; integers rounded and
-   * clamped. An offspring equal to a population member or an earlier
-   * offspring is mutated again (up to 20 times; if a round of mutation
-   * changes nothing, one random variable is mutated for sure).
-   * Calling it again before tell() returns the same designs.
-   */
-  ask(): Float64Array[] {
-    if (this.generationNumber < 0) throw new Error('ask(): tell the initial population first (see initialDesigns())');
-    return this.pendingDesigns().map((design) => design.slice());
-  }
-
-  /**
-   * The first call gives the initial population P_0 (any number of designs;
-   * more than N are reduced to N by the survival rule). Every later call
-   * gives the evaluated offspring Q_t, and P_{t+1} is chosen from
-   * R_t = P_t ∪ Q_t by the (mu + lambda) survival of the paper.
-   */
-  tell(designs: readonly Float64Array[], evaluations: readonly Evaluation[]): void {
-    if (designs.length !== evaluations.length) {
-      throw new RangeError(`tell(): ${designs.length} designs but ${evaluations.length} evaluations`);
-    }
-    if (designs.length === 0) throw new RangeError('tell(): no designs');
-    const offspring = designs.map((design, j) => {
-      if (design.length !== this.layout.count) {
-        throw new RangeError(`tell(): design ${j} has ${design.length} variables, expected ${this.layout.count}`);
-      }
-      const copy = new Float64Array(design.length);
-      for (let i = 0; i < design.length; i++) copy[i] = design[i]! + 0;
-      return this.individual(copy, sanitizeEvaluation(evaluations[j]!, this.objectiveCount));
-    });
-    const randomAfter = this.pendingRandomAfter();
-    for (const individual of offspring) this.paretoArchive.offer(individual.design, individual.evaluation);
-    if (this.generationNumber === -1) this.epsilonZero = this.initialEpsilon(offspring);
-    this.epsilon = this.epsilonLevel(this.generationNumber + 1);
-
-    // R_t = P_t ∪ Q_t
-    const combined = this.individuals.concat(offspring);
-    // P_{t+1}: fill by fronts, the last front by crowding distance.
-    const survivors = this.selectSurvivors(combined, this.settings.populationSize);
-
-    this.adoptPopulation(survivors);
-    this.random = randomAfter;
-    this.pending = undefined;
-    this.generationNumber++;
-  }
-
-  /** Current population P_t with rank and crowding distance (computed within P_t). */
-  population(): readonly Member[] {
-    return this.members;
   }
 
   /** 'search' (NSGA-II generations) or 'refine' (final local refinement, see startRefinement()). */
@@ -345,49 +244,44 @@ export class Nsga2 {
     if (this.generationNumber < 0) throw new Error('startRefinement(): tell the initial population first');
     if (this.phase === 'refine') return;
     this.phase = 'refine';
-    this.pending = undefined;
+    this.discardPending();
   }
 
   /** Back to NSGA-II's make-new-pop after a refinement (used to continue a converged run). */
   resumeSearch(): void {
     if (this.phase === 'search') return;
     this.phase = 'search';
-    this.pending = undefined;
+    this.discardPending();
   }
 
-  /** Rank-0 feasible members of the current population. */
-  front(): readonly Member[] {
-    return this.members.filter((member) => member.rank === 0 && member.evaluation.failed === undefined && member.evaluation.violation === 0);
+  // ---------------------------------------------------------------- hooks of PopulationOptimizer
+
+  /** Feasibility-seeking start: round(k · N) designs (k = initialOversampling). */
+  protected override initialCount(): number {
+    return Math.round(this.settings.initialOversampling * this.settings.populationSize);
   }
 
-  /**
-   * External archive: every feasible design told so far (initial and
-   * offspring) that no other told design weakly dominates, in the order it
-   * was admitted; of equal objective vectors the first told design. This is
-   * the best front found, usually far larger and better than front().
-   */
-  archive(): readonly ArchiveMember[] {
-    return this.paretoArchive.members();
+  /** ε-constraint handling: a violation up to ε(t) counts as feasible in the sort. */
+  protected override sortViolation(violation: number): number {
+    return violation <= this.epsilon ? 0 : violation;
   }
 
-  /** Plain-JSON state including the archive; take it after tell() to persist a generation. */
-  snapshot(): Nsga2State {
+  protected override beforeSurvival(told: readonly Individual[]): void {
+    if (this.generationNumber === -1) this.epsilonZero = this.initialEpsilon(told);
+    this.epsilon = this.epsilonLevel(this.generationNumber + 1);
+  }
+
+  protected override restoreExtra(state: Nsga2State): void {
+    this.epsilonZero = state.epsilonZero ?? 0;
+    this.phase = state.phase ?? 'search';
+    this.epsilon = this.epsilonLevel(state.generation);
+  }
+
+  protected override snapshotExtra(): Partial<Nsga2State> {
     return {
-      generation: this.generationNumber,
-      random: this.random.state(),
-      population: this.individuals.map((individual) => ({
-        design: Array.from(individual.design),
-        evaluation: serializeEvaluation(individual.evaluation),
-      })),
-      archive: this.paretoArchive.toJSON(),
       ...(this.settings.epsilonConstraint ? { epsilonZero: this.epsilonZero } : {}),
       ...(this.phase === 'refine' ? { phase: this.phase } : {}),
     };
-  }
-
-  /** Objectives of the archive members in minimisation form (for convergence tests). */
-  archivePoints(): Float64Array[] {
-    return this.paretoArchive.points();
   }
 
   /** ε(0): the violation at the θ quantile of the initial population (failed designs excluded). */
@@ -414,7 +308,7 @@ export class Nsga2 {
    * longer fits; the last front is sorted by the crowded comparison (larger
    * crowding distance first, ties by index) and cut to fill N.
    */
-  private selectSurvivors(combined: Individual[], populationSize: number): Individual[] {
+  protected selectSurvivors(combined: Individual[], populationSize: number): Individual[] {
     const { fronts } = this.sortFronts(combined);
     const survivors: Individual[] = [];
     for (const front of fronts) {
@@ -432,98 +326,20 @@ export class Nsga2 {
     return survivors;
   }
 
-  /** Makes `individuals` the population and recomputes rank and crowding within it. */
-  private adoptPopulation(individuals: Individual[]): void {
-    this.individuals = individuals;
-    if (individuals.length === 0) {
-      this.members = [];
-      return;
-    }
-    const { fronts, rank } = this.sortFronts(individuals);
-    const distance = this.crowdingScratch(individuals.length);
-    for (const front of fronts) crowdingDistance(this.objectiveScratch, this.objectiveCount, front, distance);
-    this.members = individuals.map((individual, p) => ({
-      design: individual.design,
-      evaluation: individual.evaluation,
-      rank: rank[p]!,
-      crowding: distance[p]!,
-    }));
-  }
-
-  private sortFronts(individuals: Individual[]): { fronts: Int32Array[]; rank: Int32Array } {
-    const count = individuals.length;
-    const objectiveCount = this.objectiveCount;
-    if (this.objectiveScratch.length < count * objectiveCount) {
-      this.objectiveScratch = new Float64Array(count * objectiveCount);
-      this.violationScratch = new Float64Array(count);
-    }
-    for (let p = 0; p < count; p++) {
-      const individual = individuals[p]!;
-      this.objectiveScratch.set(individual.minimized, p * objectiveCount);
-      const violation = individual.evaluation.violation;
-      this.violationScratch[p] = violation <= this.epsilon ? 0 : violation;
-    }
-    return this.sorter.sort({ count, objectiveCount, objectives: this.objectiveScratch, violations: this.violationScratch });
-  }
-
-  private crowdingScratch(count: number): Float64Array {
-    if (this.distanceScratch.length < count) this.distanceScratch = new Float64Array(count);
-    return this.distanceScratch;
-  }
-
-  private individual(design: Float64Array, evaluation: Evaluation): Individual {
-    const minimized = new Float64Array(this.objectiveCount);
-    for (let m = 0; m < this.objectiveCount; m++) {
-      const value = evaluation.objectives[m] ?? Number.NaN;
-      minimized[m] = this.maximize[m] ? -value : value;
-    }
-    return { design, evaluation, minimized };
-  }
-
   // ---------------------------------------------------------------- variation
 
-  private pendingDesigns(): Float64Array[] {
-    this.pending ??= this.makeDesigns();
-    return this.pending.designs;
+  protected makeOffspring(random: SeededRandom): Float64Array[] {
+    return this.phase === 'refine' ? this.makeRefinementPopulation(random) : this.makeNewPopulation(random);
   }
 
-  private pendingRandomAfter(): SeededRandom {
-    this.pending ??= this.makeDesigns();
-    return this.pending.randomAfter;
-  }
-
-  /** Designs of the next step, drawn from a copy of the committed random state. */
-  private makeDesigns(): { designs: Float64Array[]; randomAfter: SeededRandom } {
-    const random = this.random.clone();
-    const designs =
-      this.generationNumber < 0 ? this.makeInitialPopulation(random) : this.phase === 'refine' ? this.makeRefinementPopulation(random) : this.makeNewPopulation(random);
-    return { designs, randomAfter: random };
-  }
-
-  private makeInitialPopulation(random: SeededRandom): Float64Array[] {
-    const count = Math.round(this.settings.initialOversampling * this.settings.populationSize);
-    const designs = latinHypercube(count, this.layout, random);
-    const seen = new DesignSet();
-    for (const design of designs) {
-      for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(design); attempt++) {
-        uniformDesign(this.layout, random, design);
-      }
-      seen.add(design);
-    }
-    return designs;
-  }
-
-  /** make-new-pop (Deb et al. 2002, Section III-C): selection, crossover, mutation. */
+  /**
+   * make-new-pop (Deb et al. 2002, Section III-C): N offspring by binary tournament on the crowded
+   * comparison, then the shared variation step (SBX, polynomial mutation, see population.ts).
+   */
   private makeNewPopulation(random: SeededRandom): Float64Array[] {
-    const { populationSize, crossoverProbability, crossoverEta, mutationEta, mutationProbability } = this.settings;
-    const layout = this.layout;
     const parents = this.members;
     const rank = Int32Array.from(parents, (member) => member.rank);
     const crowding = Float64Array.from(parents, (member) => member.crowding);
-
-    const seen = new DesignSet();
-    for (const member of parents) seen.add(member.design);
-
     // Tournament entrants come from successive random permutations of P_t
     // (each member enters two tournaments per N offspring, as in Deb's code).
     const entrants = new Int32Array(parents.length);
@@ -535,28 +351,37 @@ export class Nsga2 {
       }
       return entrants[nextEntrant++]!;
     };
+    const tournament = (): number => crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random);
+    // DE/rand/1 needs three distinct members; a smaller population uses the paper's variation.
+    if (this.settings.variation === 'de' && parents.length >= 3) return this.differentialVariation(random, tournament);
+    return this.variation(random, tournament);
+  }
 
-    const scratchPair = new Float64Array(2);
+  /**
+   * NSGA-II-DE (Li & Zhang 2009): each child is base + F (a - b) (DE/rand/1, crossover rate 1) with
+   * the base chosen by the crowded tournament and a, b two other members drawn uniformly, then
+   * polynomial mutation; duplicates are re-mutated as in the shared variation step.
+   */
+  private differentialVariation(random: SeededRandom, selectBase: () => number): Float64Array[] {
+    const { populationSize, mutationEta, mutationProbability, differentialWeight } = this.settings;
+    const layout = this.layout;
+    const parents = this.individuals;
+    const seen = new DesignSet();
+    for (const individual of parents) seen.add(individual.design);
     const offspring: Float64Array[] = [];
     while (offspring.length < populationSize) {
-      const first = crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random);
-      const second = crowdedTournament(drawEntrant(), drawEntrant(), rank, crowding, random);
-      const child1 = new Float64Array(layout.count);
-      const child2 = new Float64Array(layout.count);
-      crossover(parents[first]!.design, parents[second]!.design, child1, child2, layout, crossoverProbability, crossoverEta, random, scratchPair);
-      for (const child of [child1, child2]) {
-        if (offspring.length === populationSize) break;
-        mutate(child, layout, mutationProbability, mutationEta, random);
+      const base = selectBase();
+      const [a, b] = distinctPair(parents.length, base, random);
+      const child = new Float64Array(layout.count);
+      differentialMove(parents[base]!.design, parents[a]!.design, parents[b]!.design, differentialWeight, child, layout, random);
+      mutate(child, layout, mutationProbability, mutationEta, random);
+      repair(child, layout);
+      for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
+        if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
         repair(child, layout);
-        for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
-          if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) {
-            mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
-          }
-          repair(child, layout);
-        }
-        seen.add(child);
-        offspring.push(child);
       }
+      seen.add(child);
+      offspring.push(child);
     }
     return offspring;
   }
@@ -565,13 +390,18 @@ export class Nsga2 {
    * Final local refinement: N neighbours of archive members. A parent is the winner of a binary
    * tournament between two random archive members on their crowding distance within the archive
    * (objective space; the sparser region wins, boundary members first), so the moves fill the gaps
-   * of the front; its child changes each real or integer variable with probability min(1, 2 / n)
-   * (at least one) by polynomial mutation with the large distribution index `refinementEta` (steps
-   * of about 1 / (eta + 1) of the range). Categorical variables are kept. This is a Pareto local
-   * search (Paquete, Chiarandini & Stützle 2004, "Pareto local optimum sets in the biobjective
-   * traveling salesman problem: an experimental study") around the archive with a continuous
-   * neighbourhood, used as the final stage of a hybrid search as proposed by Deb & Goel 2001 ("A
-   * hybrid multi-objective evolutionary approach to engineering shape design", EMO 2001).
+   * of the front. With `refinementMove: 'differential'` the child first takes a differential move
+   * parent + F (a - b), a and b two distinct members among the parent's 10 nearest archive
+   * neighbours (normalised objective distance): the difference of two neighbouring Pareto-optimal
+   * designs points along the Pareto set, so the move lands near the front between existing
+   * members even where the set is curved or runs along a constraint boundary (neighbourhood mating
+   * as in MOEA/D-DE, Li & Zhang 2009). Then each real or integer variable changes with probability
+   * min(1, 2 / n) (at least one) by polynomial mutation with the large distribution index
+   * `refinementEta` (steps of about 1 / (eta + 1) of the range). Categorical variables are kept.
+   * This is a Pareto local search (Paquete, Chiarandini & Stützle 2004, "Pareto local optimum sets
+   * in the biobjective traveling salesman problem: an experimental study") around the archive with
+   * a continuous neighbourhood, used as the final stage of a hybrid search as proposed by Deb &
+   * Goel 2001 ("A hybrid multi-objective evolutionary approach to engineering shape design", EMO 2001).
    */
   private makeRefinementPopulation(random: SeededRandom): Float64Array[] {
     const members = this.paretoArchive.members();
@@ -583,39 +413,130 @@ export class Nsga2 {
     const indices = Int32Array.from(points, (_, i) => i);
     const crowding = new Float64Array(points.length);
     crowdingDistance(flat, this.objectiveCount, indices, crowding);
+    const scale = objectiveScale(flat, this.objectiveCount);
     const seen = new DesignSet();
     for (const member of this.members) seen.add(member.design);
     for (const member of members) seen.add(member.design);
     const movable: number[] = [];
     for (let i = 0; i < layout.count; i++) if (layout.kinds[i] !== KIND_CATEGORICAL) movable.push(i);
     const probability = Math.min(1, 2 / Math.max(1, movable.length));
-    const eta = this.settings.refinementEta;
-    const offspring: Float64Array[] = [];
+    const step = (child: Float64Array, eta: number): void => {
+      for (let attempt = 0; attempt <= MAX_DUPLICATE_ATTEMPTS && (attempt === 0 || seen.has(child)); attempt++) {
+        localStep(child, layout, movable, probability, eta, random);
+        repair(child, layout);
+      }
+      seen.add(child);
+    };
+    const offspring = this.anchorMoves(points, step);
     while (offspring.length < this.settings.populationSize) {
       const a = random.int(members.length);
       const b = random.int(members.length);
       const parent = crowding[a]! > crowding[b]! ? a : crowding[b]! > crowding[a]! ? b : random.next() <= 0.5 ? a : b;
       const child = members[parent]!.design.slice();
-      for (let attempt = 0; attempt <= MAX_DUPLICATE_ATTEMPTS && (attempt === 0 || seen.has(child)); attempt++) {
-        if (movable.length === 0) {
-          mutate(child, layout, 1 / layout.count, eta, random);
-        } else {
-          let changed = 0;
-          for (const i of movable) {
-            if (random.next() <= probability) {
-              mutateVariable(child, i, layout, eta, random);
-              changed++;
-            }
-          }
-          if (changed === 0) mutateVariable(child, movable[random.int(movable.length)]!, layout, eta, random);
-        }
-        repair(child, layout);
+      if (this.settings.refinementMove === 'differential' && members.length >= 3) {
+        const [a, b] = nearestPair(flat, this.objectiveCount, parent, REFINEMENT_NEIGHBOURS, random, scale);
+        differentialMove(members[parent]!.design, members[a]!.design, members[b]!.design, this.settings.differentialWeight, child, layout, random);
       }
-      seen.add(child);
+      step(child, this.settings.refinementEta);
       offspring.push(child);
     }
     return offspring;
   }
+
+  /**
+   * Anchor moves of the refinement: `refinementAnchors` children per objective from the archive
+   * member that is best in that objective (its anchor point, the individual minimum of the Normal
+   * Boundary Intersection method, Das & Dennis 1998, SIAM J. Optim. 8(3), 631-657). Alternate
+   * children take coarse steps (the search's mutation index) and ten times finer ones, a (1 + λ)
+   * search per anchor: any child that betters the anchor's objective enters the archive as the new
+   * anchor, so the ends of the front keep moving outward while the other moves fill it in.
+   */
+  private anchorMoves(points: readonly Float64Array[], step: (child: Float64Array, eta: number) => void): Float64Array[] {
+    const children: Float64Array[] = [];
+    const members = this.paretoArchive.members();
+    const count = this.settings.refinementAnchors;
+    for (let m = 0; m < this.objectiveCount && count > 0; m++) {
+      let best = 0;
+      for (let i = 1; i < points.length; i++) if (points[i]![m]! < points[best]![m]!) best = i;
+      for (let j = 0; j < count && children.length < this.settings.populationSize; j++) {
+        const child = members[best]!.design.slice();
+        step(child, j % 2 === 0 ? this.settings.mutationEta : this.settings.mutationEta * 10);
+        children.push(child);
+      }
+    }
+    return children;
+  }
+}
+
+/**
+ * A local move: each movable (real or integer) variable changes with probability `probability` by
+ * polynomial mutation of index `eta`, at least one of them; without movable variables, the usual
+ * mutation of every variable with probability 1 / n.
+ */
+function localStep(child: Float64Array, layout: DesignLayout, movable: readonly number[], probability: number, eta: number, random: SeededRandom): void {
+  if (movable.length === 0) {
+    mutate(child, layout, 1 / layout.count, eta, random);
+    return;
+  }
+  let changed = 0;
+  for (const i of movable) {
+    if (random.next() <= probability) {
+      mutateVariable(child, i, layout, eta, random);
+      changed++;
+    }
+  }
+  if (changed === 0) mutateVariable(child, movable[random.int(movable.length)]!, layout, eta, random);
+}
+
+/** Neighbours of an archive member among which the differential refinement draws its pair. */
+const REFINEMENT_NEIGHBOURS = 10;
+
+/** Two distinct indices in [0, n), both other than `exclude` (needs n >= 3). */
+function distinctPair(n: number, exclude: number, random: SeededRandom): [number, number] {
+  let a = random.int(n - 1);
+  if (a >= exclude) a++;
+  let b = random.int(n - 2);
+  const low = Math.min(a, exclude);
+  const high = Math.max(a, exclude);
+  if (b >= low) b++;
+  if (b >= high) b++;
+  return [a, b];
+}
+
+/** 1 / range of each objective over the rows (1 where there is no spread). */
+function objectiveScale(flat: Float64Array, m: number): Float64Array {
+  const lo = new Float64Array(m).fill(Infinity);
+  const hi = new Float64Array(m).fill(-Infinity);
+  for (let i = 0; i < flat.length; i++) {
+    const k = i % m;
+    if (flat[i]! < lo[k]!) lo[k] = flat[i]!;
+    if (flat[i]! > hi[k]!) hi[k] = flat[i]!;
+  }
+  return lo.map((l, k) => (hi[k]! > l ? 1 / (hi[k]! - l) : 1));
+}
+
+/**
+ * Two distinct members among the `k` nearest to `centre` (normalised objective distance, ties by
+ * index), drawn uniformly; the centre itself is never drawn. Needs at least 3 rows.
+ */
+function nearestPair(flat: Float64Array, m: number, centre: number, k: number, random: SeededRandom, scale: Float64Array): [number, number] {
+  const n = flat.length / m;
+  const distance = new Float64Array(n);
+  for (let j = 0; j < n; j++) {
+    let d = 0;
+    for (let q = 0; q < m; q++) {
+      const diff = (flat[j * m + q]! - flat[centre * m + q]!) * scale[q]!;
+      d += diff * diff;
+    }
+    distance[j] = d;
+  }
+  const order = Array.from({ length: n }, (_, j) => j).filter((j) => j !== centre);
+  order.sort((x, y) => distance[x]! - distance[y]! || x - y);
+  const near = order.slice(0, Math.max(2, Math.min(k, order.length)));
+  const a = random.int(near.length);
+  let b = random.int(near.length - 1);
+  if (b >= a) b++;
+  return [near[a]!, near[b]!];
 }
 
 /** Larger crowding distance first; +Infinity ties with +Infinity. */

@@ -29,14 +29,12 @@
  * draws after the offspring's), ties are broken by index, and a snapshot restores exactly.
  */
 
-import { deserializeEvaluation, ParetoArchive, serializeEvaluation, type ArchiveMember } from './archive.js';
-import type { Member, Nsga2Settings, Nsga2State, ResolvedNsga2Settings } from './nsga2.js';
+import type { Nsga2Settings, Nsga2State, ResolvedNsga2Settings } from './nsga2.js';
 import { resolveSettings } from './nsga2.js';
-import { crossover, designLayout, DesignSet, latinHypercube, mutate, mutateVariable, repair, uniformDesign, type DesignLayout } from './operators.js';
-import { SeededRandom } from './random.js';
+import { PopulationOptimizer, type Individual } from './population.js';
+import type { SeededRandom } from './random.js';
 import { defaultReferenceLayers, referenceDirections, type ReferenceLayers } from './referenceDirections.js';
-import { crowdingDistance, NonDominatedSorter } from './sorting.js';
-import { sanitizeEvaluation, validateProblem, type Evaluation, type ProblemSpec } from './types.js';
+import { validateProblem, type ProblemSpec } from './types.js';
 
 export interface Nsga3Settings extends Nsga2Settings {
   /** Das-Dennis divisions of the reference points (default: the most that fit in the population, see defaultReferenceLayers). */
@@ -52,7 +50,6 @@ export interface Nsga3Settings extends Nsga2Settings {
 /** Same plain-JSON shape as Nsga2State: NSGA-III keeps nothing between generations but P_t and the random state. */
 export type Nsga3State = Nsga2State;
 
-const MAX_DUPLICATE_ATTEMPTS = 20;
 /** Weight of the other axes in the achievement scalarising function that finds extreme points (paper: 10^-6). */
 const ASF_EPSILON = 1e-6;
 /** Intercepts smaller than this (in objective units after translation) are treated as degenerate. */
@@ -63,43 +60,18 @@ export function resolveNsga3Settings(problem: ProblemSpec, settings: Nsga3Settin
   return resolveSettings(problem, { crossoverProbability: 1, crossoverEta: 30, mutationEta: 20, ...settings });
 }
 
-interface Individual {
-  design: Float64Array;
-  evaluation: Evaluation;
-  minimized: Float64Array;
-}
-
-export class Nsga3 {
-  readonly problem: ProblemSpec;
-  readonly settings: ResolvedNsga2Settings;
+export class Nsga3 extends PopulationOptimizer {
   readonly referenceLayers: ReferenceLayers;
   /** Reference points Z_r on the unit simplex (sum 1 each). */
   readonly referencePoints: readonly Float64Array[];
-  private readonly layout: DesignLayout;
-  private readonly objectiveCount: number;
-  private readonly maximize: boolean[];
-  private readonly sorter = new NonDominatedSorter();
-  private random: SeededRandom;
-  private generationNumber = -1;
-  private individuals: Individual[] = [];
-  private members: Member[] = [];
-  private paretoArchive: ParetoArchive;
-  private pending: { designs: Float64Array[]; randomAfter: SeededRandom } | undefined;
-  private readonly keepArchive: boolean;
   /** Reference directions scaled to unit length, row-major. */
   private readonly unitDirections: Float64Array;
 
   constructor(problem: ProblemSpec, settings: Nsga3Settings) {
     validateProblem(problem);
-    this.problem = problem;
-    this.settings = resolveNsga3Settings(problem, settings);
-    this.layout = designLayout(problem);
-    this.objectiveCount = problem.objectives.length;
-    this.maximize = problem.objectives.map((objective) => objective.sense === 'max');
+    super(problem, resolveNsga3Settings(problem, settings));
     this.referenceLayers = settings.referenceLayers ?? defaultReferenceLayers(this.objectiveCount, this.settings.populationSize);
     this.referencePoints = referenceDirections(this.objectiveCount, this.referenceLayers).map((w) => Float64Array.from(w));
-    this.random = new SeededRandom(this.settings.seed);
-    this.paretoArchive = new ParetoArchive(problem.objectives);
     this.keepArchive = settings.keepArchive ?? true;
     this.unitDirections = new Float64Array(this.referencePoints.length * this.objectiveCount);
     this.referencePoints.forEach((w, j) => {
@@ -111,91 +83,14 @@ export class Nsga3 {
   /** Continues from a snapshot() of an optimizer with the same problem and settings. */
   static restore(problem: ProblemSpec, settings: Nsga3Settings, state: Nsga3State): Nsga3 {
     const optimizer = new Nsga3(problem, settings);
-    if (!Number.isInteger(state.generation) || state.generation < -1) throw new RangeError(`bad generation ${state.generation}`);
-    if ((state.generation === -1) !== (state.population.length === 0)) {
-      throw new RangeError('state: the population must be empty exactly when generation is -1');
-    }
-    optimizer.random = SeededRandom.fromState(state.random);
-    optimizer.generationNumber = state.generation;
-    const individuals = state.population.map((entry, j) => {
-      if (entry.design.length !== optimizer.layout.count) {
-        throw new RangeError(`state: design ${j} has ${entry.design.length} variables, expected ${optimizer.layout.count}`);
-      }
-      return optimizer.individual(Float64Array.from(entry.design), deserializeEvaluation(entry.evaluation));
-    });
-    optimizer.adoptPopulation(individuals);
-    if (state.archive === undefined) {
-      for (const individual of individuals) optimizer.paretoArchive.offer(individual.design, individual.evaluation);
-    } else {
-      optimizer.paretoArchive = ParetoArchive.fromJSON(problem.objectives, state.archive);
-    }
+    optimizer.restoreState(state);
     return optimizer;
-  }
-
-  get generation(): number {
-    return this.generationNumber;
-  }
-
-  /** N designs of the initial population (Latin hypercube, as Nsga2). Same designs until tell(). */
-  initialDesigns(): Float64Array[] {
-    if (this.generationNumber !== -1) throw new Error('initialDesigns(): the initial population has already been told');
-    return this.pendingDesigns().map((design) => design.slice());
-  }
-
-  /** Q_{t+1}: N offspring of P_t. Same designs until tell(). */
-  ask(): Float64Array[] {
-    if (this.generationNumber < 0) throw new Error('ask(): tell the initial population first (see initialDesigns())');
-    return this.pendingDesigns().map((design) => design.slice());
-  }
-
-  /** The initial population, then every evaluated offspring batch: P_{t+1} from R_t = P_t ∪ Q_t. */
-  tell(designs: readonly Float64Array[], evaluations: readonly Evaluation[]): void {
-    if (designs.length !== evaluations.length) throw new RangeError(`tell(): ${designs.length} designs but ${evaluations.length} evaluations`);
-    if (designs.length === 0) throw new RangeError('tell(): no designs');
-    const offspring = designs.map((design, j) => {
-      if (design.length !== this.layout.count) throw new RangeError(`tell(): design ${j} has ${design.length} variables, expected ${this.layout.count}`);
-      const copy = new Float64Array(design.length);
-      for (let i = 0; i < design.length; i++) copy[i] = design[i]! + 0;
-      return this.individual(copy, sanitizeEvaluation(evaluations[j]!, this.objectiveCount));
-    });
-    // The niching draws from the random state that follows the offspring's draws.
-    const random = this.pendingRandomAfter().clone();
-    if (this.keepArchive) for (const individual of offspring) this.paretoArchive.offer(individual.design, individual.evaluation);
-    const survivors = this.selectSurvivors(this.individuals.concat(offspring), this.settings.populationSize, random);
-    this.adoptPopulation(survivors);
-    this.random = random;
-    this.pending = undefined;
-    this.generationNumber++;
-  }
-
-  /** P_t with rank (within P_t) and, for information only, crowding distance (NSGA-III does not use it). */
-  population(): readonly Member[] {
-    return this.members;
-  }
-
-  /** Rank-0 feasible members of P_t. */
-  front(): readonly Member[] {
-    return this.members.filter((member) => member.rank === 0 && member.evaluation.failed === undefined && member.evaluation.violation === 0);
-  }
-
-  /** External archive of every non-dominated feasible design told so far (see archive.ts). */
-  archive(): readonly ArchiveMember[] {
-    return this.paretoArchive.members();
-  }
-
-  snapshot(): Nsga3State {
-    return {
-      generation: this.generationNumber,
-      random: this.random.state(),
-      population: this.individuals.map((individual) => ({ design: Array.from(individual.design), evaluation: serializeEvaluation(individual.evaluation) })),
-      archive: this.paretoArchive.toJSON(),
-    };
   }
 
   // ---------------------------------------------------------------- survival (Algorithm 1)
 
-  private selectSurvivors(combined: Individual[], populationSize: number, random: SeededRandom): Individual[] {
-    const { fronts } = this.sort(combined);
+  protected selectSurvivors(combined: Individual[], populationSize: number, random: SeededRandom): Individual[] {
+    const { fronts } = this.sortFronts(combined);
     const chosen: number[] = [];
     let lastFront: Int32Array | undefined;
     for (const front of fronts) {
@@ -354,67 +249,7 @@ export class Nsga3 {
     return picked;
   }
 
-  private sort(individuals: Individual[]): { fronts: Int32Array[]; rank: Int32Array } {
-    const count = individuals.length;
-    const objectives = new Float64Array(count * this.objectiveCount);
-    const violations = new Float64Array(count);
-    individuals.forEach((individual, p) => {
-      objectives.set(individual.minimized, p * this.objectiveCount);
-      violations[p] = individual.evaluation.violation;
-    });
-    return this.sorter.sort({ count, objectiveCount: this.objectiveCount, objectives, violations });
-  }
-
-  private adoptPopulation(individuals: Individual[]): void {
-    this.individuals = individuals;
-    if (individuals.length === 0) {
-      this.members = [];
-      return;
-    }
-    const { fronts, rank } = this.sort(individuals);
-    const objectives = new Float64Array(individuals.length * this.objectiveCount);
-    individuals.forEach((individual, p) => objectives.set(individual.minimized, p * this.objectiveCount));
-    const distance = new Float64Array(individuals.length);
-    for (const front of fronts) crowdingDistance(objectives, this.objectiveCount, front, distance);
-    this.members = individuals.map((individual, p) => ({ design: individual.design, evaluation: individual.evaluation, rank: rank[p]!, crowding: distance[p]! }));
-  }
-
-  private individual(design: Float64Array, evaluation: Evaluation): Individual {
-    const minimized = new Float64Array(this.objectiveCount);
-    for (let m = 0; m < this.objectiveCount; m++) {
-      const value = evaluation.objectives[m] ?? Number.NaN;
-      minimized[m] = this.maximize[m] ? -value : value;
-    }
-    return { design, evaluation, minimized };
-  }
-
   // ---------------------------------------------------------------- variation
-
-  private pendingDesigns(): Float64Array[] {
-    this.pending ??= this.makeDesigns();
-    return this.pending.designs;
-  }
-
-  private pendingRandomAfter(): SeededRandom {
-    this.pending ??= this.makeDesigns();
-    return this.pending.randomAfter;
-  }
-
-  private makeDesigns(): { designs: Float64Array[]; randomAfter: SeededRandom } {
-    const random = this.random.clone();
-    const designs = this.generationNumber < 0 ? this.makeInitialPopulation(random) : this.makeOffspring(random);
-    return { designs, randomAfter: random };
-  }
-
-  private makeInitialPopulation(random: SeededRandom): Float64Array[] {
-    const designs = latinHypercube(this.settings.populationSize, this.layout, random);
-    const seen = new DesignSet();
-    for (const design of designs) {
-      for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(design); attempt++) uniformDesign(this.layout, random, design);
-      seen.add(design);
-    }
-    return designs;
-  }
 
   /** Binary tournament of Part II: feasible beats infeasible, then smaller violation; otherwise a random pick. */
   private pickParent(random: SeededRandom): number {
@@ -428,33 +263,9 @@ export class Nsga3 {
     return random.next() < 0.5 ? a : b;
   }
 
-  /** Recombination and mutation of P_{t+1}: SBX and polynomial mutation; duplicates re-mutated as in Nsga2. */
-  private makeOffspring(random: SeededRandom): Float64Array[] {
-    const { populationSize, crossoverProbability, crossoverEta, mutationEta, mutationProbability } = this.settings;
-    const layout = this.layout;
-    const seen = new DesignSet();
-    for (const individual of this.individuals) seen.add(individual.design);
-    const scratchPair = new Float64Array(2);
-    const offspring: Float64Array[] = [];
-    while (offspring.length < populationSize) {
-      const first = this.individuals[this.pickParent(random)]!.design;
-      const second = this.individuals[this.pickParent(random)]!.design;
-      const child1 = new Float64Array(layout.count);
-      const child2 = new Float64Array(layout.count);
-      crossover(first, second, child1, child2, layout, crossoverProbability, crossoverEta, random, scratchPair);
-      for (const child of [child1, child2]) {
-        if (offspring.length === populationSize) break;
-        mutate(child, layout, mutationProbability, mutationEta, random);
-        repair(child, layout);
-        for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
-          if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
-          repair(child, layout);
-        }
-        seen.add(child);
-        offspring.push(child);
-      }
-    }
-    return offspring;
+  /** Recombination and mutation of P_{t+1}: the shared variation step (population.ts) with the tournament above. */
+  protected makeOffspring(random: SeededRandom): Float64Array[] {
+    return this.variation(random, () => this.pickParent(random));
   }
 }
 

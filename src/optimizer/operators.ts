@@ -330,3 +330,29 @@ export function sameDesign(a: ArrayLike<number>, b: ArrayLike<number>): boolean 
   for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
   return true;
 }
+
+/**
+ * Differential-evolution move (Storn & Price 1997, "Differential evolution: a simple and efficient
+ * heuristic for global optimization over continuous spaces", J. Global Optimization 11, 341-359),
+ * DE/rand/1 with crossover rate 1 as used in NSGA-II-DE and MOEA/D-DE by Li & Zhang 2009
+ * ("Multiobjective optimization problems with complicated Pareto sets, MOEA/D and NSGA-II", IEEE
+ * TEC 13(2), 284-302): child = base + F (a - b) for real and integer variables. A value beyond a
+ * bound is put at a random point between the base's value and that bound (Li & Zhang's repair);
+ * categorical variables keep the base's choice. One draw per variable that leaves its bounds.
+ * Round integers with `repair()` afterwards.
+ */
+export function differentialMove(base: ArrayLike<number>, a: ArrayLike<number>, b: ArrayLike<number>, weight: number, child: Float64Array, layout: DesignLayout, random: SeededRandom): void {
+  for (let i = 0; i < layout.count; i++) {
+    const origin = base[i]!;
+    if (layout.kinds[i] === KIND_CATEGORICAL) {
+      child[i] = origin;
+      continue;
+    }
+    const lower = layout.variationLower[i]!;
+    const upper = layout.variationUpper[i]!;
+    let value = origin + weight * (a[i]! - b[i]!);
+    if (value < lower) value = lower + random.next() * (origin - lower);
+    else if (value > upper) value = upper - random.next() * (upper - origin);
+    child[i] = value;
+  }
+}

@@ -134,3 +134,62 @@ describe('termination on convergence with NSGA-II', () => {
     expect(resumed.snapshot()).toEqual(whole.snapshot());
   }, 120_000);
 });
+
+describe('the search of runs that stop on convergence (DE variation, differential refinement)', () => {
+  // Same guarantee as above for the settings `loopsmith run` uses when a study stops on convergence
+  // (src/run/optimize.ts CONVERGENCE_SEARCH): NSGA-II-DE variation (Li & Zhang 2009) and the
+  // differential final refinement. derived here: a snapshot holds everything the next step reads.
+  const settings = { populationSize: 20, seed: 11, initialOversampling: 4, variation: 'de' as const, refinementMove: 'differential' as const, refinementEta: 1000 };
+  const termination = { maxEvaluations: 20 * 60, convergence: { window: 10, tolerance: 1e-3 }, refinementGenerations: 15 };
+
+  async function drive(optimizer: Nsga2, tracker: TerminationTracker, told: number, until?: number): Promise<{ told: number; stopped: boolean; refined: boolean }> {
+    const { evaluate } = zdt1(10);
+    let refined = false;
+    for (;;) {
+      const designs = optimizer.generation < 0 ? optimizer.initialDesigns() : optimizer.ask();
+      optimizer.tell(designs, await evaluate(designs));
+      told += designs.length;
+      const decision = tracker.afterGeneration(optimizer.generation, told, 20, optimizer.archivePoints());
+      if (decision.startRefinement) optimizer.startRefinement();
+      refined ||= optimizer.currentPhase === 'refine';
+      if (decision.stop) return { told, stopped: true, refined };
+      if (until !== undefined && optimizer.generation >= until) return { told, stopped: false, refined };
+    }
+  }
+
+  it('a run resumed from a snapshot in the search and in the refinement ends in the same state', async () => {
+    const { problem } = zdt1(10);
+    const whole = new Nsga2(problem, settings);
+    const wholeEnd = await drive(whole, new TerminationTracker(termination), 0);
+    expect(wholeEnd.stopped).toBe(true);
+    expect(wholeEnd.refined).toBe(true);
+    for (const cut of [5, whole.generation - 5]) {
+      const first = new Nsga2(problem, settings);
+      const tracker = new TerminationTracker(termination);
+      const part = await drive(first, tracker, 0, cut);
+      const resumed = Nsga2.restore(problem, settings, JSON.parse(JSON.stringify(first.snapshot())) as Nsga2State);
+      const end = await drive(resumed, new TerminationTracker(termination, JSON.parse(JSON.stringify(tracker.toJSON())) as TerminationState), part.told);
+      expect(end.told).toBe(wholeEnd.told);
+      expect(resumed.snapshot()).toEqual(whole.snapshot());
+    }
+  }, 120_000);
+
+  it('offspring stay in bounds and differ from the paper variation; the same seed gives the same designs', async () => {
+    const { problem, evaluate } = zdt1(10);
+    const make = (variation: 'sbx' | 'de'): Nsga2 => new Nsga2(problem, { populationSize: 20, seed: 3, variation });
+    const de = make('de');
+    const sbx = make('sbx');
+    for (const o of [de, sbx]) {
+      const initial = o.initialDesigns();
+      o.tell(initial, await evaluate(initial));
+    }
+    const children = de.ask();
+    expect(children.every((d) => d.every((v) => v >= 0 && v <= 1))).toBe(true);
+    expect(children).not.toEqual(sbx.ask()); // negative control: the option changes the search
+    const again = make('de');
+    const initial = again.initialDesigns();
+    again.tell(initial, await evaluate(initial));
+    expect(again.ask()).toEqual(children);
+    expect(() => new Nsga2(problem, { populationSize: 20, seed: 3, variation: 'pso' as 'de' })).toThrow(/variation/);
+  });
+});

@@ -5,6 +5,7 @@ import {
   crowdedTournament,
   designLayout,
   DesignSet,
+  differentialMove,
   latinHypercube,
   polynomialMutationValue,
   repair,
@@ -156,6 +157,50 @@ describe('Latin hypercube start', () => {
     const integerCounts = [1, 2, 3, 4, 5].map((value) => designs.filter((design) => design[2] === value).length);
     expect(integerCounts).toEqual([5, 5, 5, 5, 5]);
     for (const design of designs) expect([0, 1]).toContain(design[3]);
+  });
+});
+
+describe('differential move (DE/rand/1, Storn & Price 1997; bound repair of Li & Zhang 2009)', () => {
+  const problem: ProblemSpec = {
+    variables: [
+      { name: 'x', kind: 'real', lower: 0, upper: 1 },
+      { name: 'n', kind: 'integer', lower: 0, upper: 9 },
+      { name: 'c', kind: 'categorical', choices: ['a', 'b', 'c'] },
+    ],
+    objectives: [{ name: 'f', sense: 'min' }],
+  };
+  const layout = designLayout(problem);
+
+  it('inside the bounds: child = base + F (a - b) exactly; categoricals keep the base choice; no draw', () => {
+    // derived here: DE/rand/1 with crossover rate 1 changes every real and integer variable by F (a - b).
+    const random = new SeededRandom(3);
+    const before = random.state();
+    const child = new Float64Array(3);
+    differentialMove([0.5, 4, 2], [0.7, 6, 0], [0.3, 5, 1], 0.5, child, layout, random);
+    expect(child[0]).toBeCloseTo(0.5 + 0.5 * 0.4, 15);
+    expect(child[1]).toBeCloseTo(4.5, 15);
+    expect(child[2]).toBe(2);
+    expect(random.state()).toEqual(before);
+    repair(child, layout);
+    expect(child[1]).toBe(5); // rounded by repair (Math.round(4.5) = 5)
+  });
+
+  it('beyond a bound: the value lies between the base value and that bound', () => {
+    // Li & Zhang 2009, MOEA/D-DE (from memory): a component below the lower bound becomes
+    // lower + rand (base - lower), above the upper bound upper - rand (upper - base).
+    const random = new SeededRandom(4);
+    const child = new Float64Array(3);
+    let low = 0;
+    let high = 0;
+    for (let trial = 0; trial < 2000; trial++) {
+      const base = 0.1 + 0.8 * random.next();
+      differentialMove([base, 0, 0], [0, 0, 0], [1, 0, 0], 1, child, layout, random); // base - 1 < 0
+      if (child[0]! >= 0 && child[0]! <= base) low++;
+      differentialMove([base, 0, 0], [1, 0, 0], [0, 0, 0], 1, child, layout, random); // base + 1 > 1
+      if (child[0]! >= base && child[0]! <= 1) high++;
+    }
+    expect(low).toBe(2000);
+    expect(high).toBe(2000);
   });
 });
 

@@ -78,6 +78,32 @@ describe('run --more', () => {
   }, 300_000);
 });
 
+describe('runs that stop on convergence (NSGA-II-DE search, differential refinement)', () => {
+  it('1 and 2 workers write the same store; the run goes through search and refinement within its cap', async () => {
+    // derived here: the search draws only from the run's seeded source and evaluations do not depend
+    // on which worker made them, so the worker count cannot change any stored value.
+    const dir = makeTemporaryDirectory('converge-workers');
+    const text = readFileSync(SMALL_STUDY, 'utf8').replace(/^\s*generations:.*$/m, '  convergence: { window: 3, tolerance: 0, max_evaluations: 400 }');
+    const studyPath = join(dir, 'small-converge.yaml');
+    writeFileSync(studyPath, text);
+    const dumps: ReturnType<typeof dumpDatabase>[] = [];
+    for (const workers of ['1', '2']) {
+      const db = join(dir, `w${workers}.db`);
+      const result = await runCli(['run', studyPath, '--db', db, '--workers', workers, '--quiet']);
+      expect(result.code, result.stderr).toBe(0);
+      dumps.push(dumpDatabase(db, { runs: ['workers', 'command'] }));
+    }
+    expect(dumps[0]).toEqual(dumps[1]);
+    const run = readDatabase(join(dir, 'w1.db'), (d) => d.prepare<[], { termination_json: string; settings_json: string; end_reason: string }>('SELECT termination_json, settings_json, end_reason FROM runs').get()!);
+    // 30 % of the cap of 400 for the refinement with population 16: round(0.3 · 400 / 16) = 8 generations.
+    expect(JSON.parse(run.termination_json)).toMatchObject({ maxEvaluations: 400, refinementGenerations: 8 });
+    expect(JSON.parse(run.settings_json)).toMatchObject({ search: { variation: 'de', refinementMove: 'differential' } });
+    expect(run.end_reason).toBe('budget'); // tolerance 0: never converges
+    const stats = readDatabase(join(dir, 'w1.db'), (d) => d.prepare<[], { evaluations: number }>('SELECT evaluations FROM generation_stats ORDER BY generation').all());
+    expect(stats.reduce((sum, s) => sum + s.evaluations, 0)).toBe(64 + 21 * 16); // 4 × 16 at the start, then 21 generations fit in 400
+  }, 300_000);
+});
+
 describe('study termination settings', () => {
   const base = (optimizer: string): string =>
     readFileSync(SMALL_STUDY, 'utf8').replace(/optimizer:[\s\S]*$/, `optimizer:\n${optimizer}\n`);

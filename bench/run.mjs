@@ -1,9 +1,16 @@
 // loopsmith benchmarks: figures only, no pass/fail (targets are printed beside the figures).
-// Run with: npm run bench   (builds first). Options: --quick (smaller sizes, for a smoke check).
+// Run with: npm run bench   (builds first). Options: --quick (smaller sizes, for a smoke check),
+// --json (speed and accuracy figures as one JSON object, see bench/speed.mjs).
 import { mkdtempSync, rmSync } from 'node:fs';
 import { availableParallelism, cpus, tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Evaluator, loadStudyFile, runOptimization } from '../dist/index.js';
+
+// --json: only the speed and accuracy figures, as one JSON object (bench/speed.mjs).
+if (process.argv.includes('--json')) {
+  await import('./speed.mjs');
+  process.exit(0);
+}
 
 const quick = process.argv.includes('--quick');
 /** --front-only: only section 6 (front quality of the default termination), e.g. after changing the search. */

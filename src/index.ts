@@ -98,3 +98,13 @@ export type { MotorSpec, GearboxSpec, LinearStageSpec, DriveTrain, TorqueSpeedCu
 export { curveTorque, cornerEnvelopes, motorTorque, jointPeakEffortAtSpeed } from './drives/envelope.js';
 export { readMotors, readGearboxes, composeDrive } from './study/driveTrains.js';
 export { compareFormulations, type FormulationReport, type FormulationComparison } from './simulate/driveSimulation.js';
+
+// The built arm: tolerances, real joints, out-of-plane mode, strength (docs/accuracy.md)
+export { toleranceScatter } from './public/accuracyApi.js';
+export { ToleranceCheckError, type ToleranceScatterReport } from './api/accuracy.js';
+export { FirstOrderAccuracy, type PoseAccuracy } from './accuracy/firstOrder.js';
+export { monteCarloAtPose, type MonteCarloResult, type MonteCarloOptions } from './accuracy/monteCarlo.js';
+export { sectionProperties, eulerLoad, cantilever, simplySupportedUniform, type SectionProperties, type SectionShape } from './accuracy/sections.js';
+export { builtArmAtPose, type BuiltArmPoseReport } from './mechanics/builtArmDesign.js';
+export type { AccuracySpec, ToleranceSpec, JointStiffnessSpec, StrengthSpec, SectionChoiceSpec } from './accuracy/spec.js';
+export { METRIC_ALIASES, currentMetricName } from './core/metrics.js';

@@ -11,6 +11,7 @@ import { ARCHITECTURES } from '../architectures/index.js';
 import { parseQuantity, UnitError } from '../study/units.js';
 import type { Study } from '../study/types.js';
 import { WORKING_MODES } from '../core/pose.js';
+import { builtArmField, type BuiltArmPoseReport } from '../mechanics/builtArmDesign.js';
 
 export interface DesignChoice {
   /** The study, with fixed parameters replaced where an override named one. */
@@ -111,7 +112,9 @@ export interface EvaluationReport {
   readonly feasible: boolean;
   /**
    * Estimated absolute error of the metrics that carry one (SI, the metric's unit), from the study's
-   * evaluation.tolerance: region averages and extremes. Metrics without an estimate are left out.
+   * evaluation.tolerance: region averages and extremes, and reachable_area and workspace_area (m²)
+   * when the areas are computed to the tolerance (absent from here on a fixed grid: grid_cells
+   * without a tolerance). Metrics without an estimate are left out.
    */
   readonly errors: Readonly<Record<string, number>>;
 }
@@ -170,11 +173,11 @@ export function evaluateDesign(study: Study, overrides: readonly string[] = []):
 }
 
 /** Everything about one pose of one five-bar design, in the five-bar's report shape (a view of the one probe). */
-export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
+export function probeDesign(study: Study, x: number, y: number, overrides: readonly string[] = []): { report: PoseReport & { design: Readonly<Record<string, number | string>>; builtArm?: BuiltArmPoseReport }; warnings: readonly string[] } {
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probePose(d.study, d.model, x, y, d.resolved.drives), ...builtArmField(d, x, y) }, warnings: choice.warnings };
 }
 
 /**
@@ -187,11 +190,11 @@ export function probeArchitectureDesign(
   y: number,
   phi?: number,
   overrides: readonly string[] = [],
-): { report: ArchitecturePoseReport & { design: Readonly<Record<string, number | string>> }; warnings: readonly string[] } {
+): { report: ArchitecturePoseReport & { design: Readonly<Record<string, number | string>>; builtArm?: BuiltArmPoseReport }; warnings: readonly string[] } {
   const choice = chooseDesign(study, overrides);
   const evaluator = new Evaluator(choice.study);
   const d = evaluator.architectureDesign(choice.design);
-  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives) }, warnings: choice.warnings };
+  return { report: { design: choice.values, ...probeArchitecturePose(d.study, d.architecture, d.model, x, y, phi, d.resolved.drives), ...builtArmField(d, x, y, phi) }, warnings: choice.warnings };
 }
 
 export { DesignError };

@@ -7,6 +7,7 @@ import { chooseDesign } from './design.js';
 import { Evaluator } from '../mechanics/evaluate.js';
 import { METRIC_NAMES } from '../mechanics/metrics.js';
 import type { JointRange } from '../core/pose.js';
+import { ARCHITECTURES } from '../architectures/index.js';
 import type { ParameterSpec, Study } from '../study/types.js';
 import { formatQuantity } from '../study/units.js';
 
@@ -120,7 +121,9 @@ function mirrorRule(study: Study): MirrorRule | undefined {
     if (!tied('crank_2', 'crank_1') || !level) return undefined;
     return { mirror: mirroredRange, same: sameRangeModulo, format: deg, axis: 'the vertical' };
   }
-  if (study.architecture === '2-prr') {
+  const architecture = ARCHITECTURES[study.architecture];
+  // Two sliders on one rail (the 2-PRR): told apart by its actuators, not its name (one registry, no name lists).
+  if (architecture.dof === 2 && architecture.actuators.every((a) => a === 'prismatic')) {
     const same = (a: JointRange, b: JointRange): boolean => Math.abs(a.min - b.min) < 1e-12 && Math.abs(a.max - b.max) < 1e-12;
     return { mirror: (r) => ({ min: -r.max, max: -r.min }), same, format: mm, axis: 'the rail origin (x = 0)' };
   }

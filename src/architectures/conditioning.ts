@@ -3,7 +3,7 @@
  * 1/κ(J_h) for a given L, and the L that makes the Jacobian best conditioned at one pose (minimum
  * κ) or over a set of poses (maximum mean of 1/κ, i.e. the best global conditioning index).
  */
-import { inverseCondition } from './dense.js';
+import { inverseCondition3 } from './dense.js';
 import { PoseStatus, type ArchitectureModelBase, type ArchitecturePose, type PlanarArchitecture } from './types.js';
 
 /**
@@ -18,7 +18,8 @@ export function inverseConditionAtLength(
   work: Float64Array,
 ): number {
   for (let k = 0; k < 9; k++) matrix[k] = k >= 6 ? length * jacobian[offset + k]! : jacobian[offset + k]!;
-  return inverseCondition(3, matrix, work);
+  void work;
+  return inverseCondition3(matrix);
 }
 
 export interface CharacteristicLengthResult {

@@ -153,6 +153,62 @@ export function inverseCondition(n: number, m: Float64Array, work: Float64Array)
 }
 
 /**
+ * Inverse condition number σ_min/σ_max (2-norm) of a 3×3 matrix M in closed form (no rotation
+ * sweeps): the eigenvalues λ_1 ≥ λ_2 ≥ λ_3 of S = MᵀM by the trigonometric solution of the
+ * symmetric 3×3 eigenproblem on the deviator S − (tr S/3) I (Smith 1961, "Eigenvalues of a
+ * symmetric 3 × 3 matrix", Communications of the ACM 4(4):168), accurate to a few ulps of λ_1.
+ * When λ_3 is below 10⁻⁴ λ_1 (near a singularity) it is taken from det(S) = λ_1 λ_2 λ_3 with det M
+ * from cofactors instead, which keeps its relative accuracy. 0 for a singular or zero matrix.
+ */
+export function inverseCondition3(m: Float64Array): number {
+  const det = determinant(3, m);
+  if (det === 0 || !Number.isFinite(det)) return 0;
+  gramExtremes3(m, det);
+  const inv = Math.sqrt(Math.max(gram[1]!, 0) / gram[0]!);
+  return inv > 1 ? 1 : inv;
+}
+
+/** Largest singular value of a 3×3 matrix (closed form, as inverseCondition3). */
+export function maxSingularValue3(m: Float64Array): number {
+  gramExtremes3(m, determinant(3, m));
+  return Math.sqrt(Math.max(gram[0]!, 0));
+}
+
+/** λ_max and λ_min of MᵀM into gram[0], gram[1] (see inverseCondition3). */
+const gram = new Float64Array(2);
+function gramExtremes3(m: Float64Array, det: number): void {
+  const m0 = m[0]!, m1 = m[1]!, m2 = m[2]!, m3 = m[3]!, m4 = m[4]!, m5 = m[5]!, m6 = m[6]!, m7 = m[7]!, m8 = m[8]!;
+  // S = MᵀM (columns' dot products).
+  const s00 = m0 * m0 + m3 * m3 + m6 * m6;
+  const s11 = m1 * m1 + m4 * m4 + m7 * m7;
+  const s22 = m2 * m2 + m5 * m5 + m8 * m8;
+  const s01 = m0 * m1 + m3 * m4 + m6 * m7;
+  const s02 = m0 * m2 + m3 * m5 + m6 * m8;
+  const s12 = m1 * m2 + m4 * m5 + m7 * m8;
+  const q = (s00 + s11 + s22) / 3;
+  const d0 = s00 - q;
+  const d1 = s11 - q;
+  const d2 = s22 - q;
+  const p2 = (d0 * d0 + d1 * d1 + d2 * d2 + 2 * (s01 * s01 + s02 * s02 + s12 * s12)) / 6;
+  if (!(p2 > 0)) {
+    gram[0] = q;
+    gram[1] = q;
+    return;
+  }
+  const p = Math.sqrt(p2);
+  // r = det((S − qI)/p)/2 ∈ [−1, 1].
+  const detDev = d0 * (d1 * d2 - s12 * s12) - s01 * (s01 * d2 - s12 * s02) + s02 * (s01 * s12 - d1 * s02);
+  let r = detDev / (2 * p2 * p);
+  r = r > 1 ? 1 : r < -1 ? -1 : r;
+  const phi = Math.acos(r) / 3;
+  const l1 = q + 2 * p * Math.cos(phi);
+  let l3 = q + 2 * p * Math.cos(phi + (2 * Math.PI) / 3);
+  if (l3 < 1e-4 * l1) l3 = (det * det) / (l1 * (3 * q - l1 - l3));
+  gram[0] = l1;
+  gram[1] = l3;
+}
+
+/**
  * Eigenvalues of a symmetric n×n matrix, ascending, into out[0..n) (cyclic Jacobi). Only the upper
  * triangle is read (of the matrix starting at s[sOffset]). Uses work[0..n²).
  */

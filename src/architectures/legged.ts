@@ -21,7 +21,9 @@ import {
   determinant,
   generalizedEigenvalues,
   inverseCondition,
+  inverseCondition3,
   invert,
+  maxSingularValue3,
   rowNorm,
   singularValues,
   solveInPlace,
@@ -278,7 +280,7 @@ export function finishKinematics(model: ArchitectureModelBase, pose: Architectur
     }
     rowProduct *= Math.sqrt(norm);
   }
-  pose.inverseCondition = inverseCondition(n, m, work);
+  pose.inverseCondition = n === 3 ? inverseCondition3(m) : inverseCondition(n, m, work);
   const detHomogenised = n === 3 ? det / L : det;
   pose.mechanismSine = rowProduct > 0 ? detHomogenised / rowProduct : 0;
 }
@@ -388,8 +390,12 @@ export function finishDynamics(model: LeggedModel, pose: ArchitecturePose): void
     finishDynamics2(pose);
     return;
   }
-  singularValues(n, pose.Jh, work, t);
-  pose.maxSingularValue = t[0]!;
+  if (n === 3) {
+    pose.maxSingularValue = maxSingularValue3(pose.Jh);
+  } else {
+    singularValues(n, pose.Jh, work, t);
+    pose.maxSingularValue = t[0]!;
+  }
   // K_x = Aᵀ diag(1/c) A.
   for (let a = 0; a < n; a++) {
     for (let b = 0; b < n; b++) {

@@ -2,7 +2,7 @@
  * Readable result tables for `front` and `query`: engineering units on terminals, column choice,
  * sorting by a metric, empty columns hidden; CSV with SI values and the unit in each header.
  */
-import { metricInfo, metricKind } from '../mechanics/metrics.js';
+import { currentMetricName, metricInfo, metricKind } from '../mechanics/metrics.js';
 import type { QuantityKind } from '../study/units.js';
 import type { ActuatorKind } from '../architectures/types.js';
 import { formatValue } from './format.js';
@@ -64,7 +64,7 @@ export function parseSort(text: string, keys: readonly string[], defaultDirectio
   const match = /^\s*([A-Za-z_][A-Za-z0-9_]*)(?:\s*[: ]\s*(asc|desc))?\s*$/i.exec(text);
   if (!match) throw new UsageError(`--sort ${text}: expected a metric or column name, optionally with :asc or :desc (for example --sort gci:desc)`);
   const name = match[1]!;
-  const key = [name, `m_${name}`, `v_${name}`, `c_${name}`].find((k) => keys.includes(k));
+  const key = [name, `m_${name}`, `m_${currentMetricName(name)}`, `v_${name}`, `c_${name}`].find((k) => keys.includes(k));
   if (!key) throw new UsageError(`--sort ${text}: no column "${name}"; columns: ${keys.map((k) => k.replace(/^[vmc]_/, '')).join(', ')}`);
   const direction = match[2] ? (match[2].toLowerCase() as 'asc' | 'desc') : defaultDirection(key);
   return { key, direction };
@@ -89,7 +89,7 @@ export function chooseColumns(text: string, keys: readonly string[]): string[] {
   const names = text.split(',').map((s) => s.trim()).filter((s) => s !== '');
   if (names.length === 0) throw new UsageError('--columns: give column names separated by commas, for example --columns id,crank_1,gci');
   return names.map((name) => {
-    const key = [name, `m_${name}`, `v_${name}`, `c_${name}`].find((k) => keys.includes(k));
+    const key = [name, `m_${name}`, `m_${currentMetricName(name)}`, `v_${name}`, `c_${name}`].find((k) => keys.includes(k));
     if (!key) throw new UsageError(`--columns: no column "${name}"; columns: ${keys.map((k) => k.replace(/^[vmc]_/, '')).join(', ')}`);
     return key;
   });

@@ -14,6 +14,7 @@ import { registerSimulateCommands } from './simulateCommands.js';
 import { joinNegativeValues, UsageError, UserError } from './argChecks.js';
 import { programName, setInvocationArguments } from './invocation.js';
 import { registerScaleCommands } from './scaleCommands.js';
+import { registerAccuracyCommands } from './accuracyCommands.js';
 
 export { UserError, UsageError, isUserError };
 
@@ -27,6 +28,7 @@ export function buildCli(argv: readonly string[]): Argv {
   cli = registerExportCommands(cli);
   cli = registerSimulateCommands(cli);
   cli = registerScaleCommands(cli);
+  cli = registerAccuracyCommands(cli);
   return cli
     .demandCommand(1, 'give a command; see loopsmith --help')
     .strict()

@@ -354,7 +354,7 @@ export function registerFrontCommand(cli: Argv): Argv {
         .option('knees', { type: 'boolean', describe: 'list the knee designs (largest distance from the hyperplane through the extremes, Das 1999)' })
         .option('redundancy', { type: 'boolean', describe: 'objectives that do not conflict on the front: correlations and principal components' })
         .example('$0 front results/parcel-sorter.db --representatives 5', 'five genuinely different designs, with why each was chosen')
-        .example('$0 front results/parcel-sorter.db --sort bandwidth:desc --limit 10', 'the ten stiffest-dynamics designs of the latest finished run')
+        .example('$0 front results/parcel-sorter.db --sort first_mode_in_plane:desc --limit 10', 'the ten stiffest-dynamics designs of the latest finished run')
         .example('$0 front results/parcel-sorter.db --format csv > front.csv', 'every metric, SI units, for a spreadsheet'),
     (args) => {
       requireDatabase(args.db);
@@ -405,14 +405,14 @@ export function registerQueryCommand(cli: Argv): Argv {
       y
         .positional('db', { type: 'string', demandOption: true, describe: 'database file' })
         .option('where', { type: 'string', describe: 'SQL expression over the columns, e.g. "feasible = 1 AND m_gci > 0.8"' })
-        .option('order-by', { type: 'string', describe: 'column [asc|desc], e.g. "m_bandwidth desc"' })
+        .option('order-by', { type: 'string', describe: 'column [asc|desc], e.g. "m_first_mode_in_plane desc"' })
         .option('sort', { type: 'string', describe: 'same as --order-by, with a metric name: gci:desc' })
         .option('limit', { type: 'number', coerce: positiveInt('limit'), describe: 'at most N rows' })
         .option('run', { type: 'number', coerce: positiveInteger('run'), describe: 'only designs that were members of this run' })
         .option('columns', { type: 'string', describe: 'columns to show, comma-separated (default on terminals: id, feasible, variables, metrics with values)' })
         .option('all-columns', { type: 'boolean', default: false, describe: 'every stored column, empty ones included (default for csv and json)' })
         .option('format', { choices: ['table', 'csv', 'json'] as const, default: 'table' as const, describe: 'table: engineering units; csv: SI values, units in the header; json: SI values, stored column names' })
-        .example('$0 query results/parcel-sorter.db --where "feasible = 1 AND m_gci > 0.85" --sort bandwidth:desc --limit 5', 'five feasible, well-conditioned designs with the highest natural frequency')
+        .example('$0 query results/parcel-sorter.db --where "feasible = 1 AND m_gci > 0.85" --sort first_mode_in_plane:desc --limit 5', 'five feasible, well-conditioned designs with the highest natural frequency')
         .example('$0 query results/parcel-sorter.db --format csv > all.csv', 'every stored evaluation as CSV'),
     (args) => {
       requireDatabase(args.db);
@@ -428,6 +428,7 @@ export function registerQueryCommand(cli: Argv): Argv {
         ...(args.limit !== undefined ? { limit: args.limit } : {}),
         ...(args.run !== undefined ? { runId: args.run } : {}),
       });
+      result.notes?.forEach((note) => process.stderr.write(`loopsmith: warning: ${note}\n`));
       const keys = result.columns;
       const study = latestStudy(args.db);
       const textVariable = (name: string): boolean => name === 'working_mode' || name === 'architecture' || /^drive(_\d)?$/.test(name);

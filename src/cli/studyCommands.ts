@@ -13,6 +13,7 @@ import { parseQuantity } from '../study/units.js';
 import { formatMetric, formatValue, table, toJson } from './format.js';
 import { checkOverrides, checkPointText, UserError } from './argChecks.js';
 import { programName } from './invocation.js';
+import { builtArmRows } from './accuracyCommands.js';
 
 const out = (text: string): void => {
   process.stdout.write(text.endsWith('\n') ? text : text + '\n');
@@ -171,6 +172,7 @@ function formatFiveBarProbe(report: ReturnType<typeof probeDesign>['report'], x:
   if (report.naturalFrequencies) rows.push(['natural frequencies', report.naturalFrequencies.map((f) => formatValue(f, 'frequency')).join(', ')]);
   if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
   if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? report.requiredJointSpeeds.map((s) => formatValue(s, 'angularSpeed')).join(', ') : '— (no task speed)']);
+  rows.push(...builtArmRows(report.builtArm));
   return `probe at (${formatValue(x, 'length')}, ${formatValue(y, 'length')})\n\n${table(['quantity', 'value'], rows)}`;
 }
 
@@ -202,6 +204,7 @@ function formatArchitectureProbe(report: ReturnType<typeof probeArchitectureDesi
   if (report.accelCapability !== undefined) rows.push(['acceleration capability', formatValue(report.accelCapability, 'acceleration')]);
   if (report.requiredJointSpeeds !== undefined) rows.push(['joint speeds for the required speed', report.requiredJointSpeeds ? withUnits(report.requiredJointSpeeds, 'speed') : '— (no task speed)']);
   const at = `(${formatValue(report.point.x, 'length')}, ${formatValue(report.point.y, 'length')}${report.point.phi !== undefined ? `, ${formatValue(report.point.phi, 'angle')}` : ''})`;
+  rows.push(...builtArmRows(report.builtArm));
   return `probe at ${at}\n\n${table(['quantity', 'value'], rows)}`;
 }
 

@@ -25,12 +25,14 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'peak_gravity_torque', kind: 'torque', better: 'min', description: 'largest static holding torque at any actuator joint, payload included' },
   { name: 'peak_gravity_torque_1', kind: 'torque', better: 'min', description: 'largest static holding torque at joint 1' },
   { name: 'peak_gravity_torque_2', kind: 'torque', better: 'min', description: 'largest static holding torque at joint 2' },
-  { name: 'bandwidth', kind: 'frequency', better: 'max', description: 'lowest natural frequency of the end point over the evaluation region' },
+  // Renamed from `bandwidth` (the old name is still read, see METRIC_ALIASES): the stored column keeps its meaning.
+  { name: 'first_mode_in_plane', kind: 'frequency', better: 'max', description: 'lowest in-plane natural frequency of the end point over the evaluation region (drives locked, lumped masses); formerly bandwidth' },
   { name: 'accel_capability', kind: 'acceleration', better: 'max', description: 'end-point acceleration available in every direction from standstill, at the worst pose' },
   { name: 'peak_joint_speed', kind: 'angularSpeed', better: 'min', description: 'largest actuator joint speed needed to move the end point at the required speed' },
   { name: 'peak_joint_speed_1', kind: 'angularSpeed', better: 'min', description: 'largest joint-1 speed for the required end-point speed' },
   { name: 'peak_joint_speed_2', kind: 'angularSpeed', better: 'min', description: 'largest joint-2 speed for the required end-point speed' },
-  { name: 'resolution', kind: 'length', better: 'min', description: 'largest end-point step caused by one encoder count' },
+  // Renamed from `resolution` (the old name is still read, see METRIC_ALIASES): the stored column keeps its meaning.
+  { name: 'encoder_resolution', kind: 'length', better: 'min', description: 'largest end-point step caused by one encoder count on each joint; formerly resolution' },
   { name: 'footprint', kind: 'length', better: 'min', description: 'size proxy: pivot distance plus the longer leg reach' },
   { name: 'moving_mass', kind: 'mass', better: 'min', description: 'mass of cranks, rods and hubs (payload not included)' },
   // Duty cycle (NaN when the study gives no duty_cycle); see docs/duty-cycle.md.
@@ -76,6 +78,21 @@ export const METRICS: readonly MetricInfo[] = [
   { name: 'regular_workspace_width', kind: 'length', better: 'max', description: 'width of that largest rectangle (along its angle; height = width / aspect)' },
   { name: 'regular_workspace_x', kind: 'length', better: 'max', description: 'x of the centre of that largest rectangle (its placement, not an objective)' },
   { name: 'regular_workspace_y', kind: 'length', better: 'max', description: 'y of the centre of that largest rectangle (its placement, not an objective)' },
+  // Accuracy under tolerances, real joints, out-of-plane mode and strength (NaN unless the study gives the
+  // section they need); see docs/accuracy.md.
+  { name: 'position_error_worst', kind: 'length', better: 'min', description: 'largest first-order worst-case end-point error over the region from the study tolerances (lengths, pivots, clearances, backlash, encoder)' },
+  { name: 'position_error_rss', kind: 'length', better: 'min', description: 'largest statistical end-point error over the region: coverage factor × σ along the worst direction (root-sum-square of independent sources)' },
+  { name: 'orientation_error_worst', kind: 'angle', better: 'min', description: 'largest first-order worst-case platform orientation error over the region (3-DOF)' },
+  { name: 'orientation_error_rss', kind: 'angle', better: 'min', description: 'largest statistical platform orientation error over the region, coverage factor × σ (3-DOF)' },
+  { name: 'first_mode_out_of_plane', kind: 'frequency', better: 'max', description: 'lowest out-of-plane natural frequency over the region (links as beams in bending and torsion, see docs/accuracy.md)' },
+  { name: 'peak_link_axial_force', kind: 'force', better: 'min', description: 'largest axial force in any link over the region (payload weight and the study end load)' },
+  { name: 'peak_link_bending_moment', kind: 'torque', better: 'min', description: 'largest bending moment in any link over the region (cranks carry the rod force across their length)' },
+  { name: 'peak_link_stress', kind: 'modulus', better: 'min', description: 'largest normal stress (axial plus bending) in any link over the region, Pa' },
+  { name: 'buckling_margin', kind: 'dimensionless', better: 'max', description: 'smallest ratio of Euler load π²EI/L² to compressive force over the compressed rods and struts (≥ 1: no buckling)' },
+  { name: 'peak_joint_force', kind: 'force', better: 'min', description: 'largest force at any pin joint over the region, for bearing selection' },
+  { name: 'peak_joint_force_1', kind: 'force', better: 'min', description: 'largest force at the pins of leg 1 over the region' },
+  { name: 'peak_joint_force_2', kind: 'force', better: 'min', description: 'largest force at the pins of leg 2 over the region' },
+  { name: 'peak_joint_force_3', kind: 'force', better: 'min', description: 'largest force at the pins of leg 3 over the region (3-DOF)' },
 ];
 
 /** The worst-over-actuators metric and one per actuator (drive-train checks). */
@@ -86,6 +103,20 @@ function perActuatorMetrics(name: string, kind: MetricInfo['kind'], description:
   ];
 }
 
+/**
+ * Former metric names, still read from studies, stores and command lines: old name → current name.
+ * The stored column keeps its meaning (the store migrates the column names, src/store/migrations.ts).
+ */
+export const METRIC_ALIASES: Readonly<Record<string, string>> = {
+  bandwidth: 'first_mode_in_plane',
+  resolution: 'encoder_resolution',
+};
+
+/** The current name of a metric (an old name maps to its new one; other names are returned as they are). */
+export function currentMetricName(name: string): string {
+  return METRIC_ALIASES[name] ?? name;
+}
+
 export type MetricName = (typeof METRICS)[number]['name'];
 /** Metrics of the machine in its cell: computed only for a study with a cell section (NaN otherwise). */
 export const CELL_METRIC_NAMES: ReadonlySet<string> = new Set([
@@ -94,6 +125,7 @@ export const CELL_METRIC_NAMES: ReadonlySet<string> = new Set([
 ]);
 export const METRIC_NAMES: readonly string[] = METRICS.map((m) => m.name);
 const BY_NAME = new Map(METRICS.map((m, i) => [m.name, { info: m, index: i }]));
+for (const [old, now] of Object.entries(METRIC_ALIASES)) BY_NAME.set(old, BY_NAME.get(now)!);
 
 /** Metrics of one actuator's effort: N·m for a crank, N for a slider (the names stay). */
 const EFFORT_METRICS: ReadonlySet<string> = new Set([
@@ -121,6 +153,17 @@ export function metricKind(name: string, actuators?: readonly ('revolute' | 'pri
   }
   return info.kind;
 }
+
+/**
+ * Metrics of the built arm (docs/accuracy.md): NaN unless the study gives the sections they need
+ * (tolerances for the errors; tolerances, joints, strength or link_sections for the others; section
+ * shapes for stress, buckling and the out-of-plane mode).
+ */
+export const BUILT_ARM_METRICS: ReadonlySet<string> = new Set([
+  'position_error_worst', 'position_error_rss', 'orientation_error_worst', 'orientation_error_rss', 'first_mode_out_of_plane',
+  'peak_link_axial_force', 'peak_link_bending_moment', 'peak_link_stress', 'buckling_margin',
+  'peak_joint_force', 'peak_joint_force_1', 'peak_joint_force_2', 'peak_joint_force_3',
+]);
 
 /** Why a metric is not available for an architecture with `dof` actuators, or null when it is. */
 export function metricUnavailable(name: string, dof: number): string | null {

@@ -79,6 +79,12 @@ export function constraintDefinitions(study: Study): ConstraintDefinition[] {
     if (c.max !== undefined) def.max = c.max;
     out.push(def);
   }
+  // Strength limits of the study's strength section (docs/accuracy.md): yield / factor, Euler factor.
+  const strength = study.accuracy?.strength;
+  if (strength?.yieldStrength) {
+    out.push({ name: 'link_yield', metric: 'peak_link_stress', metricIndex: metricIndex('peak_link_stress'), max: strength.yieldStrength / strength.safetyFactor, origin: 'study' });
+    out.push({ name: 'link_buckling', metric: 'buckling_margin', metricIndex: metricIndex('buckling_margin'), min: strength.bucklingFactor, origin: 'study' });
+  }
   if (!study.drives && study.driveChoice.kind === 'fixed' && !study.driveTrains) return out;
   // Drive limits over the n actuators, at the joint (N·m or N; rad/s or m/s).
   const n = ARCHITECTURES[study.architecture].dof;

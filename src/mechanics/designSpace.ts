@@ -9,6 +9,8 @@ import type { ActuatorKind, ArchitectureName, DriveAtJoint, LinkSection, ModelIn
 import { driveAtJoint } from '../study/drives.js';
 import { takeMount } from '../cell/mounting.js';
 import { MOUNT_VARIABLES, type Mount } from '../cell/types.js';
+import { motorPerJointUnit, withDriveStiffness } from '../accuracy/joints.js';
+import { tubeSection } from '../accuracy/sectionChoice.js';
 import { composeDrives, driveTrainVariables, type DriveTrainVariable } from './driveVariables.js';
 import { ARCHITECTURE_PREFIX, type DriveSpec, type LinkSpec, type Study } from '../study/types.js';
 
@@ -30,7 +32,9 @@ export type DesignVariable =
       readonly options: readonly DriveSpec[];
       readonly member?: number;
     }
-  | { readonly name: 'architecture'; readonly kind: 'categorical'; readonly role: 'architecture'; readonly choices: readonly ArchitectureName[] };
+  | { readonly name: 'architecture'; readonly kind: 'categorical'; readonly role: 'architecture'; readonly choices: readonly ArchitectureName[] }
+  /** Link section from the study's tube list (docs/accuracy.md). */
+  | { readonly name: string; readonly kind: 'categorical'; readonly role: 'section'; readonly choices: readonly string[]; readonly member?: number };
 
 /**
  * The study's design variables, in design-vector order: geometry variables (the architecture's
@@ -67,6 +71,8 @@ export function designVariables(study: Study): DesignVariable[] {
       for (let i = 0; i < n; i++) out.push({ name: `drive_${i + 1}`, kind: 'categorical', role: 'drive', actuators: [i], choices: labels, options: choice.options });
     }
   }
+  const tubes = study.accuracy?.sectionChoice;
+  if (tubes) out.push({ name: 'link_section', kind: 'categorical', role: 'section', choices: tubes.options.map((o) => o.label) });
   if (study.driveTrains) out.push(...driveTrainVariables(study.driveTrains, architecture.dof));
   // Mounting of the base in the cell (docs/cell.md), last so earlier variables keep their places.
   const mounting = study.cell?.mounting;
@@ -87,6 +93,8 @@ export interface ResolvedDesign {
   readonly drives: readonly DriveSpec[] | null;
   /** Base pose in the task frame (studies with cell.mounting only). */
   readonly mount?: Mount;
+  /** Index of the chosen tube of the study's link_sections list (absent: the study's own sections). */
+  readonly linkSection?: number;
 }
 
 /** A comparison study's design resolved to its member: the member study, its variables and its design vector. */
@@ -126,6 +134,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
   let workingMode = study.workingModes[0]!;
   let drives: DriveSpec[] | null = study.drives ? [...study.drives] : null;
   const chosen: (DriveSpec | undefined)[] = [];
+  let linkSection: number | undefined;
   const trainValues: { variable: DriveTrainVariable; value: number }[] = [];
   variables.forEach((v, k) => {
     const index = Math.round(design[k]!);
@@ -133,6 +142,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     else if (v.kind === 'real') geometry[v.name] = design[k]!;
     else if (v.role === 'working_mode') workingMode = v.choices[index]!;
     else if (v.role === 'drive') for (const a of v.actuators) chosen[a] = v.options[index]!;
+    else if (v.role === 'section') linkSection = index;
   });
   if (chosen.length === architecture.dof && chosen.every((d) => d !== undefined)) drives = chosen as DriveSpec[];
   if (study.driveTrains && trainValues.length > 0) drives = composeDrives(study.driveTrains, architecture.actuators, trainValues);
@@ -145,7 +155,7 @@ export function resolveDesign(study: Study, variables: readonly DesignVariable[]
     if (spec.kind === 'tied') geometry[name] = geometry[spec.to]!;
   }
   const mount = takeMount(study.cell, geometry);
-  return { geometry, workingMode, drives, ...(mount ? { mount } : {}) };
+  return { geometry, workingMode, drives, ...(mount ? { mount } : {}), ...(linkSection !== undefined ? { linkSection } : {}) };
 }
 
 /** Error a user can cause with a design value (--set, baseline). */
@@ -232,13 +242,13 @@ export function drivesAtJoint(study: Study, drives: readonly DriveSpec[] | null)
 export function modelInput(study: Study, resolved: ResolvedDesign, characteristicLength?: number): ModelInput {
   const o = study.orientation;
   const length = characteristicLength ?? (o && typeof o.characteristicLength === 'number' ? o.characteristicLength : undefined);
-  return {
+  const input: ModelInput = {
     parameters: resolved.geometry,
     workingMode: resolved.workingMode,
     assembly: study.assemblyMode === '+' ? 1 : -1,
     jointLimits: study.jointLimits,
-    cranks: study.links.cranks.map(section),
-    rods: study.links.rods.map(section),
+    cranks: study.links.cranks.map((link) => tubeSection(study.accuracy?.sectionChoice, resolved.linkSection, 'cranks') ?? section(link)),
+    rods: study.links.rods.map((link) => tubeSection(study.accuracy?.sectionChoice, resolved.linkSection, 'rods') ?? section(link)),
     elbowHubMass: study.elbowHubMass,
     sliderMass: study.sliderMass ?? 0,
     endHubMass: study.endHubMass,
@@ -248,6 +258,8 @@ export function modelInput(study: Study, resolved: ResolvedDesign, characteristi
     drives: drivesAtJoint(study, resolved.drives),
     ...(length !== undefined ? { characteristicLength: length } : {}),
   };
+  // Gearbox and servo stiffness of the study's joints section (docs/accuracy.md); unchanged without it.
+  return withDriveStiffness(input, study.accuracy?.joints ?? null, resolved.drives ? resolved.drives.map(motorPerJointUnit) : null);
 }
 
 /**

@@ -116,6 +116,11 @@ export class Evaluator {
     return this.path.evaluateWithWorkspace(design, workspace);
   }
 
+  /** Points solved for the workspace of the last evaluation (single-architecture studies; 0 otherwise). */
+  lastWorkspaceSamples(): number {
+    return this.path instanceof ArchitectureEvaluator ? this.path.lastSamples : 0;
+  }
+
   /** Geometry, working mode and drives of a design vector (a comparison study: of the selected member). */
   resolve(design: ArrayLike<number>): ResolvedDesign {
     return resolveDesign(this.study, this.variables, design);

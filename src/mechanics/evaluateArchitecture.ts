@@ -12,10 +12,10 @@
  *   orientation ranges are scanned, `orientation_margin` is the worst margin of φ_0 ± Δφ and a task
  *   point counts as covered only when the requirement holds there;
  * - `accel_capability` and `peak_joint_speed` use J_h (an angular part counts as L·φ̈, L·φ̇);
- *   `resolution` is the largest step of P for one encoder count on each joint (orientation excluded).
+ *   `encoder_resolution` (formerly `resolution`) is the largest step of P for one encoder count on each joint (orientation excluded).
  */
 import { characteristicLengthForPoses } from '../architectures/conditioning.js';
-import { type ArchitectureModelBase, type ArchitecturePose, type DriveAtJoint, type PlanarArchitecture } from '../architectures/types.js';
+import { type ArchitectureModelBase, type ArchitecturePose, type DriveAtJoint, type PlanarArchitecture, type PlaneBox } from '../architectures/types.js';
 import { ARCHITECTURES } from '../architectures/index.js';
 import { PoseStatus } from '../core/pose.js';
 import { METRICS, metricIndex } from '../core/metrics.js';
@@ -23,9 +23,13 @@ import { MarginGrid } from './grid.js';
 import { designVariables, drivesAtJoint, modelInput, resolveDesign, type DesignVariable, type ResolvedDesign } from './designSpace.js';
 import { applyConstraints, constraintDefinitions, type ConstraintDefinition, type DesignEvaluation } from './constraints.js';
 import { RegionMetrics } from './regionMetrics.js';
-import { architectureUsableMargin } from './usability.js';
-import { evaluationBox, modelJointScale, sampleGrid } from './workspace.js';
+import { architectureUsableMargin, UsabilityRule } from './usability.js';
+import { AdaptiveArea } from './adaptive.js';
+import { coarseCells, evaluationBox, modelJointScale, sampleAdaptive, sampleGrid } from './workspace.js';
 import { CycleMetrics } from './cycleMetrics.js';
+import { BuiltArmChecks, isLeggedModel } from '../accuracy/builtArm.js';
+import { withBearings } from '../accuracy/joints.js';
+import { builtArmDesign, cycleLoadPath } from './builtArmDesign.js';
 import { trainsOf, writeStaticDriveMetrics } from './driveMetrics.js';
 import type { DriveTrain } from '../drives/types.js';
 import type { Study } from '../study/types.js';
@@ -66,10 +70,24 @@ export class ArchitectureEvaluator {
   private encodersKnown = false;
   /** Duty-cycle buffers, or null without a duty cycle. */
   private readonly cycle: CycleMetrics | null;
+  /**
+   * Adaptive sampling at the study's tolerance, or null for a fixed grid (grid_cells without a
+   * tolerance, or a study with a cell section: its checks and metrics work on the fixed grid).
+   */
+  private readonly adaptive: AdaptiveArea | null;
+  /**
+   * Adaptive areas without a task region: the lattice of evaluation.grid_cells on which the region
+   * averages and extremes start (regionMetrics.workspacePass needs a node lattice); else null.
+   */
+  private readonly regionGrid: MarginGrid | null;
+  /** Points solved for the workspace of the last evaluation. */
+  lastSamples = 0;
   /** Cell checks and metrics (docs/cell.md), or null without a cell section. */
   readonly cell: CellAnalysis | null;
   /** Label of the evaluation region of the design in hand (−1 = none). */
   private region = -1;
+  /** Tolerances, out-of-plane mode and strength (docs/accuracy.md); inactive without those study sections. */
+  private readonly builtArm: BuiltArmChecks;
 
   constructor(study: Study) {
     if (study.members) throw new Error('ArchitectureEvaluator: a comparison study is evaluated by its members');
@@ -78,12 +96,19 @@ export class ArchitectureEvaluator {
     this.variables = designVariables(study);
     this.constraints = constraintDefinitions(study);
     this.pose = this.architecture.createPose();
-    this.grid = new MarginGrid(study.evaluation.gridCells + 4);
+    this.cell = CellAnalysis.forStudy(study, this.architecture);
+    const tolerance = this.cell ? undefined : study.evaluation.tolerance;
+    this.adaptive = tolerance !== undefined ? new AdaptiveArea() : null;
+    this.grid = new MarginGrid((tolerance !== undefined ? coarseCells(tolerance) : study.evaluation.gridCells) + 4);
+    // Adaptive areas without a task region: the region averages and extremes run on a lattice of
+    // evaluation.grid_cells (the nodes a fixed grid would use), see analyseWorkspace.
+    this.regionGrid = this.adaptive && !study.task.region ? new MarginGrid(study.evaluation.gridCells + 4) : null;
     this.phi0 = this.architecture.dof === 3 ? (study.orientation?.phi0 ?? 0) : 0;
-    this.regionMetrics = new RegionMetrics(study, this.architecture, this.pose, this.phi0, (status) => this.usable(status));
+    this.builtArm = new BuiltArmChecks(this.architecture.dof);
+    this.regionMetrics = new RegionMetrics(study, this.architecture, this.pose, this.phi0, (status) => this.usable(status), this.builtArm);
     this.task = this.regionMetrics.lattice;
     this.cycle = CycleMetrics.forStudy(study, this.architecture);
-    this.cell = CellAnalysis.forStudy(study, this.architecture);
+    if (study.accuracy && study.dutyCycle) this.builtArm.setCycle(cycleLoadPath(study.dutyCycle), this.architecture.createPose());
   }
 
   resolve(design: ArrayLike<number>): ResolvedDesign {
@@ -97,7 +122,7 @@ export class ArchitectureEvaluator {
    */
   buildModel(resolved: ResolvedDesign): ArchitectureModelBase {
     const architecture = this.architecture;
-    const model = mountModel(architecture.buildModel(modelInput(this.study, resolved)), resolved.mount);
+    const model = mountModel(this.withJoints(architecture.buildModel(modelInput(this.study, resolved))), resolved.mount);
     if (this.study.orientation?.characteristicLength !== 'auto' || !this.task) return model;
     const task = this.task;
     const points = new Float64Array(3 * task.x.length);
@@ -108,7 +133,13 @@ export class ArchitectureEvaluator {
     }
     const scale = architecture.footprint(model);
     const best = characteristicLengthForPoses(architecture, model, this.pose, points, 1e-3 * scale, 10 * scale);
-    return best ? mountModel(architecture.buildModel(modelInput(this.study, resolved, best.length)), resolved.mount) : model;
+    return best ? mountModel(this.withJoints(architecture.buildModel(modelInput(this.study, resolved, best.length))), resolved.mount) : model;
+  }
+
+  /** The model with the bearings of the study's joints section (unchanged without it). */
+  private withJoints(model: ArchitectureModelBase): ArchitectureModelBase {
+    const joints = this.study.accuracy?.joints ?? null;
+    return joints && isLeggedModel(model) ? withBearings(model, joints) : model;
   }
 
   /** Model of a design vector. */
@@ -121,12 +152,18 @@ export class ArchitectureEvaluator {
     this.trains = trainsOf(resolved.drives);
     this.encodersKnown = this.drives !== null && this.drives.every((d) => d.encoderStep > 0);
     this.jointScale = modelJointScale(model);
+    this.rule = new UsabilityRule(this.study, this.jointScale);
     this.cell?.prepare(model, resolved.mount);
+    this.builtArm.prepare(model, builtArmDesign(this.study, resolved, this.drives));
+    this.builtArm.reset();
     this.regionMetrics.begin(model, { drives: this.drives, encodersKnown: this.encodersKnown, speed: this.study.task.speed, trains: this.trains }, this.jointScale);
   }
 
+  /** The usability rule of the design in hand (constants hoisted). */
+  private rule: UsabilityRule | null = null;
+
   private usable(status: PoseStatus): number {
-    const u = architectureUsableMargin(this.pose, status, this.study, this.jointScale);
+    const u = this.rule!.margin(this.pose, status);
     return this.cell?.restricts ? Math.min(u, this.cell.nodeMargin(this.pose, status)) : u;
   }
 
@@ -136,7 +173,7 @@ export class ArchitectureEvaluator {
     this.prepare(resolved, model);
     const metrics = new Float64Array(METRICS.length).fill(Number.NaN);
     const errors = new Float64Array(METRICS.length).fill(Number.NaN);
-    this.analyseWorkspace(model, metrics);
+    this.analyseWorkspace(model, metrics, errors);
     this.finishMetrics(model, metrics, errors);
     this.cycle?.write(model, this.drives, metrics, this.trains);
     this.cell?.write(model, this.pose, (status) => this.usable(status), this.grid, this.region, metrics);
@@ -167,40 +204,78 @@ export class ArchitectureEvaluator {
     return { ...applyConstraints(this.constraints, this.study, resolved.drives, metrics), errors };
   }
 
-  private analyseWorkspace(model: ArchitectureModelBase, metrics: Float64Array): void {
+  /** Areas, inscribed radius and coverage, then the region pass; `errors` gets the area estimates (adaptive). */
+  private analyseWorkspace(model: ArchitectureModelBase, metrics: Float64Array, errors: Float64Array): void {
     const grid = this.grid;
     const box = evaluationBox(this.study, this.architecture, model, this.phi0);
+    this.lastSamples = 0;
     this.region = -1;
     if (!box) {
       metrics[M.reachable] = 0;
       metrics[M.workspace] = 0;
       metrics[M.inscribed] = 0;
       metrics[M.coverage] = this.task ? 0 : Number.NaN;
+      if (this.adaptive) {
+        errors[M.reachable] = 0;
+        errors[M.workspace] = 0;
+      }
       if (this.task) this.regionMetrics.taskPass(null, -1);
       return;
     }
-    const cell = this.cell?.restricts ? this.cell : null;
-    // With cell checks every node's margin also honours them (docs/cell.md); without, the grid is sampled as before.
-    const region = cell
-      ? sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.study.evaluation.gridCells, (index, pose, status) => {
-          const m = cell.nodeMargin(pose, status);
-          if (m < grid.values[index]!) grid.values[index] = m;
-        })
-      : sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+    let region: number;
+    if (this.adaptive) {
+      const sampled = sampleAdaptive(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.adaptive, this.study.evaluation.tolerance!);
+      region = sampled.region;
+      metrics[M.reachable] = sampled.reachableArea;
+      metrics[M.workspace] = sampled.workspaceArea;
+      metrics[M.inscribed] = sampled.inscribedRadius;
+      errors[M.reachable] = sampled.reachableAreaError;
+      errors[M.workspace] = sampled.workspaceAreaError;
+      this.lastSamples = sampled.samples;
+    } else {
+      const cell = this.cell?.restricts ? this.cell : null;
+      // With cell checks every node's margin also honours them (docs/cell.md); without, the grid is sampled as before.
+      region = cell
+        ? sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.study.evaluation.gridCells, (index, pose, status) => {
+            const m = cell.nodeMargin(pose, status);
+            if (m < grid.values[index]!) grid.values[index] = m;
+          })
+        : sampleGrid(this.study, this.architecture, model, this.pose, grid, box, this.phi0);
+      metrics[M.reachable] = grid.positiveArea(grid.secondary);
+      metrics[M.workspace] = grid.regionArea(region);
+      metrics[M.inscribed] = grid.inscribedRadius(region);
+      this.lastSamples = grid.nx * grid.ny;
+    }
     this.region = region;
-    metrics[M.reachable] = grid.positiveArea(grid.secondary);
-    metrics[M.workspace] = grid.regionArea(region);
-    metrics[M.inscribed] = grid.inscribedRadius(region);
     if (this.task) {
       metrics[M.coverage] = this.regionMetrics.taskPass(grid, region);
+    } else if (this.adaptive) {
+      this.regionLatticePass(model, region, box);
     } else {
       this.regionMetrics.workspacePass(grid, region);
     }
   }
 
+  /**
+   * Adaptive areas, no task region: the region averages and extremes need a node lattice, and the
+   * adaptive grid is coarse (coarseCells). They run on the lattice of evaluation.grid_cells over the
+   * box, sampled as a fixed grid is (the nodes the fixed grid of grid_cells uses, so the extremes start
+   * from the same samples and the built-arm checks see the same poses); the areas keep the adaptive
+   * values. Costs one fixed-grid sampling per design on this path (correctness first).
+   */
+  private regionLatticePass(model: ArchitectureModelBase, region: number, box: PlaneBox): void {
+    if (region < 0) return;
+    const lattice = this.regionGrid!;
+    const fineRegion = sampleGrid(this.study, this.architecture, model, this.pose, lattice, box, this.phi0);
+    this.lastSamples += lattice.nx * lattice.ny;
+    this.regionMetrics.workspacePass(lattice, fineRegion);
+  }
+
   private finishMetrics(model: ArchitectureModelBase, metrics: Float64Array, errors: Float64Array): void {
     this.regionMetrics.finish(model, metrics, errors);
     if (this.trains) writeStaticDriveMetrics(this.trains, this.study.driveTrains?.brakeFactor ?? 1.5, metrics);
+    this.builtArm.runCycle(model, this.architecture);
+    this.builtArm.write(metrics);
     metrics[M.footprint] = this.architecture.footprint(model);
     metrics[M.movingMass] = this.architecture.movingMass(model);
   }

@@ -202,30 +202,10 @@ export class MarginGrid {
    * interpolated along cell edges.
    */
   inscribedRadius(region: number): number {
-    if (region < 0) return 0;
+    const nc = this.deepCandidates(region);
+    if (nc === 0) return 0;
     const { nx, ny, h } = this;
-    const n = nx * ny;
-    const masked = this.maskRegion(region);
-    const dist = this.distance;
-    for (let k = 0; k < n; k++) dist[k] = masked[k]! >= 0 ? FAR : 0;
-    // Columns, then rows.
-    for (let i = 0; i < nx; i++) {
-      for (let j = 0; j < ny; j++) this.lineIn[j] = dist[j * nx + i]!;
-      this.distanceTransform1d(ny);
-      for (let j = 0; j < ny; j++) dist[j * nx + i] = this.lineOut[j]!;
-    }
-    let maxSq = 0;
-    for (let j = 0; j < ny; j++) {
-      const row = j * nx;
-      for (let i = 0; i < nx; i++) this.lineIn[i] = dist[row + i]!;
-      this.distanceTransform1d(nx);
-      for (let i = 0; i < nx; i++) {
-        const d = this.lineOut[i]!;
-        dist[row + i] = d;
-        if (d > maxSq && d < FAR) maxSq = d;
-      }
-    }
-    if (maxSq === 0) return 0;
+    const masked = this.masked;
     // Boundary points: crossings along edges between inside and outside nodes.
     let nb = 0;
     const bx = this.boundaryX;
@@ -250,8 +230,69 @@ export class MarginGrid {
         }
       }
     }
-    // Candidate centres: nodes whose grid distance is within 1.5 cells of the best; when there are
-    // more than MAX_CANDIDATES (a long ridge of equal distances), an even subsample of them.
+    let best = 0;
+    for (let c = 0; c < nc; c++) {
+      const k = this.candidates[c]!;
+      const cx = this.x0 + (k % nx) * h;
+      const cy = this.y0 + Math.floor(k / nx) * h;
+      let minSq = Infinity;
+      for (let b = 0; b < nb; b++) {
+        const dx = bx[b]! - cx;
+        const dy = by[b]! - cy;
+        const d = dx * dx + dy * dy;
+        if (d < minSq) {
+          minSq = d;
+          // This centre can no longer beat the best one found: stop scanning it.
+          if (minSq <= best) break;
+        }
+      }
+      if (minSq > best) best = minSq;
+    }
+    return Math.sqrt(best);
+  }
+
+  /** Squared distance (in cells²) of node k to the nearest node outside the region of the last deepCandidates call. */
+  depth(k: number): number {
+    return this.distance[k]!;
+  }
+
+  /** Candidate centres of the last deepCandidates call (node indices), deepest first. */
+  get candidateNodes(): Int32Array {
+    return this.candidates;
+  }
+
+  /**
+   * Candidate centres of the largest circle inside one region: the nodes whose distance to the
+   * nearest node outside it (exact Euclidean distance transform of the node mask, Felzenszwalb &
+   * Huttenlocher 2012, "Distance transforms of sampled functions", Theory of Computing 8) is within
+   * 1.5 cells of the largest; an even subsample of them when there are more than MAX_CANDIDATES
+   * (a long ridge of equal distances), the deepest first. Returns their count (see candidateNodes).
+   */
+  deepCandidates(region: number): number {
+    if (region < 0) return 0;
+    const { nx, ny } = this;
+    const n = nx * ny;
+    const masked = this.maskRegion(region);
+    const dist = this.distance;
+    for (let k = 0; k < n; k++) dist[k] = masked[k]! >= 0 ? FAR : 0;
+    // Columns, then rows.
+    for (let i = 0; i < nx; i++) {
+      for (let j = 0; j < ny; j++) this.lineIn[j] = dist[j * nx + i]!;
+      this.distanceTransform1d(ny);
+      for (let j = 0; j < ny; j++) dist[j * nx + i] = this.lineOut[j]!;
+    }
+    let maxSq = 0;
+    for (let j = 0; j < ny; j++) {
+      const row = j * nx;
+      for (let i = 0; i < nx; i++) this.lineIn[i] = dist[row + i]!;
+      this.distanceTransform1d(nx);
+      for (let i = 0; i < nx; i++) {
+        const d = this.lineOut[i]!;
+        dist[row + i] = d;
+        if (d > maxSq && d < FAR) maxSq = d;
+      }
+    }
+    if (maxSq === 0) return 0;
     const threshold = Math.max(Math.sqrt(maxSq) - 1.5, 0) ** 2;
     let qualifying = 0;
     let deepest = -1;
@@ -275,25 +316,7 @@ export class MarginGrid {
       }
       seen++;
     }
-    let best = 0;
-    for (let c = 0; c < nc; c++) {
-      const k = this.candidates[c]!;
-      const cx = this.x0 + (k % nx) * h;
-      const cy = this.y0 + Math.floor(k / nx) * h;
-      let minSq = Infinity;
-      for (let b = 0; b < nb; b++) {
-        const dx = bx[b]! - cx;
-        const dy = by[b]! - cy;
-        const d = dx * dx + dy * dy;
-        if (d < minSq) {
-          minSq = d;
-          // This centre can no longer beat the best one found: stop scanning it.
-          if (minSq <= best) break;
-        }
-      }
-      if (minSq > best) best = minSq;
-    }
-    return Math.sqrt(best);
+    return nc;
   }
 
   /** One-dimensional squared distance transform of lineIn into lineOut (lower envelope of parabolas). */

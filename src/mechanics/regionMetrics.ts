@@ -17,7 +17,8 @@ import { PoseStatus } from '../core/pose.js';
 import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
 import type { DriveTrain } from '../drives/types.js';
 import { metricIndex } from '../core/metrics.js';
-import type { Study } from '../study/types.js';
+import { DEFAULT_EVALUATION_TOLERANCE, type Study } from '../study/types.js';
+import type { BuiltArmChecks } from '../accuracy/builtArm.js';
 import { ExtremeSearch, type ExtremeObjective } from './extremeSearch.js';
 import type { MarginGrid } from './grid.js';
 import { RegionQuadrature, type LevelField, type NodeLattice } from './regionQuadrature.js';
@@ -61,12 +62,12 @@ const M = {
   minStiffness: metricIndex('min_stiffness'),
   peakTorque: metricIndex('peak_gravity_torque'),
   peakTorqueOf: [metricIndex('peak_gravity_torque_1'), metricIndex('peak_gravity_torque_2'), metricIndex('peak_gravity_torque_3')],
-  bandwidth: metricIndex('bandwidth'),
+  bandwidth: metricIndex('first_mode_in_plane'),
   accel: metricIndex('accel_capability'),
   accelAtSpeed: metricIndex('accel_capability_at_speed'),
   peakSpeed: metricIndex('peak_joint_speed'),
   peakSpeedOf: [metricIndex('peak_joint_speed_1'), metricIndex('peak_joint_speed_2'), metricIndex('peak_joint_speed_3')],
-  resolution: metricIndex('resolution'),
+  resolution: metricIndex('encoder_resolution'),
   orientationMargin: metricIndex('orientation_margin'),
   orientationRange: metricIndex('orientation_range'),
 } as const;
@@ -248,13 +249,23 @@ export class RegionMetrics {
   private grid: MarginGrid | null = null;
   private regionLabel = -1;
   private lastStatus: PoseStatus = PoseStatus.Unreachable;
+  /** Built-arm checks (docs/accuracy.md), fed at the region's samples only (not at search points). */
+  private readonly builtArm: BuiltArmChecks | null;
 
   /**
    * `usable`: the usability margin of the pose just solved with the given status (the evaluator's
    * rule, cell checks included); default the rule of usability.ts.
    */
-  constructor(study: Study, architecture: PlanarArchitecture<ArchitectureModelBase>, pose: ArchitecturePose, phi0: number, usable?: (status: PoseStatus) => number) {
+  constructor(
+    study: Study,
+    architecture: PlanarArchitecture<ArchitectureModelBase>,
+    pose: ArchitecturePose,
+    phi0: number,
+    usable?: (status: PoseStatus) => number,
+    builtArm: BuiltArmChecks | null = null,
+  ) {
     this.study = study;
+    this.builtArm = builtArm;
     this.usable = usable ?? ((status) => architectureUsableMargin(this.pose, status, this.study, this.jointScale));
     this.architecture = architecture;
     this.pose = pose;
@@ -262,7 +273,8 @@ export class RegionMetrics {
     this.lattice = study.task.region ? taskLattice(study.task.region, study.evaluation.taskSamples) : null;
     this.taskInvCond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
     this.taskMargin = new Float64Array(this.lattice ? this.lattice.x.length : 0);
-    this.tolerance = study.evaluation.tolerance ?? 0.005;
+    // One setting: absent (a fixed area grid) still refines averages and extremes to the default.
+    this.tolerance = study.evaluation.tolerance ?? DEFAULT_EVALUATION_TOLERANCE;
   }
 
   /** Starts a design. */
@@ -282,6 +294,18 @@ export class RegionMetrics {
     poseValues(this.architecture, this.model!, this.pose, status, this.context, this.values);
     if (status !== PoseStatus.Assembled || this.pose.inverseCondition === 0) this.worst.singular = true;
     return status;
+  }
+
+  /**
+   * The built-arm checks at a region sample just solved (poseValues has run poseDynamics on a regular
+   * pose): the same samples as the evaluator's per-pose pass before the region refinement (task
+   * samples, or the region's grid nodes), so the accuracy and strength figures keep their points.
+   */
+  private sampleBuiltArm(status: PoseStatus): void {
+    const arm = this.builtArm;
+    if (!arm) return;
+    if (status !== PoseStatus.Assembled || this.pose.inverseCondition === 0) arm.singular();
+    else arm.atPose(this.model!, this.pose);
   }
 
   /**
@@ -322,6 +346,7 @@ export class RegionMetrics {
       const x = lattice.x[k]!;
       const y = lattice.y[k]!;
       const status = this.solveValues(x, y);
+      this.sampleBuiltArm(status);
       invCond[k] = status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition;
       this.taskMargin[k] = this.assembledMargin(status);
       let ok = region >= 0 && grid !== null && this.usable(status) >= 0 && grid.regionAt(x, y) === region;
@@ -464,6 +489,7 @@ export class RegionMetrics {
     if (label !== region) return;
     poseValues(this.architecture, this.model!, this.pose, status, this.context, this.values);
     if (status !== PoseStatus.Assembled || this.pose.inverseCondition === 0) this.worst.singular = true;
+    this.sampleBuiltArm(status);
     this.worst.fold(this.values, x, y, 0, POSE_QUANTITIES);
     this.worst.count++;
   }

@@ -41,6 +41,41 @@ export function usabilityMargin(
   return m;
 }
 
+/**
+ * The usability rule of one study and design with its constants hoisted (sin μ_min, the assembly
+ * sign, the joint-margin scale): `margin` gives exactly usabilityMargin's value for a solved pose,
+ * without trigonometry or property look-ups per point.
+ */
+export class UsabilityRule {
+  private readonly sinMin: number;
+  private readonly assembly: number;
+  private readonly minInverseCondition: number;
+  constructor(study: UsabilitySettings, private readonly jointScale: number) {
+    this.sinMin = Math.sin(study.evaluation.minTransmissionAngle);
+    this.assembly = study.assemblyMode === '+' ? 1 : -1;
+    this.minInverseCondition = study.evaluation.minInverseCondition;
+  }
+
+  margin(pose: ArchitecturePose, status: PoseStatus): number {
+    if (status === PoseStatus.Unreachable) return -1;
+    const sinMin = this.sinMin;
+    const inverseCondition = pose.inverseCondition;
+    let m = inverseCondition - this.minInverseCondition;
+    const legSines = pose.legSine;
+    for (let i = 0; i < legSines.length; i++) {
+      const t = Math.abs(legSines[i]!) - sinMin;
+      if (t < m) m = t;
+    }
+    const mechanismSine = pose.mechanismSine;
+    const tm = this.assembly * mechanismSine - sinMin;
+    if (tm < m) m = tm;
+    const jm = pose.jointMargin / this.jointScale;
+    if (jm < m) m = jm;
+    if (m === 0 && (inverseCondition === 0 || this.assembly * mechanismSine <= 0)) m = -1e-12;
+    return m;
+  }
+}
+
 /** The usability margin of a solved pose of any architecture (see usabilityMargin). */
 export function architectureUsableMargin(pose: ArchitecturePose, status: PoseStatus, study: UsabilitySettings, jointScale: number): number {
   return usabilityMargin(status, pose.inverseCondition, pose.legSine, pose.mechanismSine, pose.jointMargin, study, jointScale);

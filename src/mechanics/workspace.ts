@@ -6,10 +6,12 @@
  * exports call `sampleWorkspace` to draw exactly what the metrics measured.
  */
 import { PoseStatus } from '../core/pose.js';
+import type { LeggedModel } from '../architectures/legged.js';
 import type { ArchitectureModelBase, ArchitecturePose, PlanarArchitecture, PlaneBox } from '../architectures/types.js';
 import type { Study } from '../study/types.js';
+import type { AdaptiveArea } from './adaptive.js';
 import { MarginGrid } from './grid.js';
-import { architectureUsableMargin, jointMarginScale } from './usability.js';
+import { architectureUsableMargin, jointMarginScale, UsabilityRule } from './usability.js';
 
 /** Called for every grid node after it is solved (the pose holds the node's solution). */
 export type NodeVisitor = (index: number, pose: ArchitecturePose, status: PoseStatus) => void;
@@ -51,34 +53,193 @@ export function sampleGrid(
   phi: number,
   cells: number = study.evaluation.gridCells,
   visit?: NodeVisitor,
+  continuous = false,
 ): number {
   const jointScale = modelJointScale(model);
   grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
   const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
-  const w = study.evaluation.window;
-  const scale = w ? architecture.footprint(model) : 1;
+  const kernel = new PointKernel(study, architecture, model, pose, phi);
+  kernel.continuous = continuous;
   for (let j = 0; j < ny; j++) {
     const y = y0 + j * h;
     for (let i = 0; i < nx; i++) {
       const x = x0 + i * h;
-      const status = architecture.solvePose(model, pose, x, y, phi);
-      let r = pose.reachMargin;
-      let u = architectureUsableMargin(pose, status, study, jointScale);
-      if (w) {
-        const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
-        if (inside < r) r = inside;
-        if (inside / scale < u) u = inside / scale;
-      }
-      reach[j * nx + i] = r;
-      values[j * nx + i] = u;
+      const status = kernel.sample(x, y);
+      reach[j * nx + i] = kernel.reach;
+      values[j * nx + i] = kernel.usable;
       if (visit) visit(j * nx + i, pose, status);
     }
   }
   grid.labelRegions();
+  return evaluationRegion(study, architecture, model, pose, grid, phi, jointScale);
+}
+
+/**
+ * One design's per-point work with its constants hoisted: solve the pose, then the usability margin
+ * (UsabilityRule) and the reach margin, both bounded by the study's window when it has one (the
+ * signed distance to its edge, divided by the footprint for the dimensionless margin). Writes
+ * `usable` and `reach` (no number returned but the status, so nothing is boxed per point).
+ */
+export class PointKernel {
+  usable = 0;
+  reach = 0;
+  /**
+   * Continuous margin outside the reach (adaptive sampling): an unreachable point's usability margin
+   * is its reach margin divided by the joint scale (negative) instead of −1, so that the margin has
+   * no jump where the usable set ends at a leg's reach (a strut's stroke): its zero crossing along a
+   * cell edge is then interpolated between comparable values.
+   */
+  continuous = false;
+  private readonly jointScale: number;
+  private readonly rule: UsabilityRule;
+  private readonly window: Study['evaluation']['window'];
+  private readonly scale: number;
+  constructor(
+    study: Study,
+    private readonly architecture: PlanarArchitecture<ArchitectureModelBase>,
+    private readonly model: ArchitectureModelBase,
+    private readonly pose: ArchitecturePose,
+    private readonly phi: number,
+  ) {
+    this.jointScale = modelJointScale(model);
+    this.rule = new UsabilityRule(study, this.jointScale);
+    this.window = study.evaluation.window;
+    this.scale = this.window ? architecture.footprint(model) : 1;
+  }
+
+  sample(x: number, y: number): PoseStatus {
+    const status = this.architecture.solvePose(this.model, this.pose, x, y, this.phi);
+    let r = this.pose.reachMargin;
+    let u = this.continuous && status === PoseStatus.Unreachable ? Math.min(r / this.jointScale, -1e-12) : this.rule.margin(this.pose, status);
+    const w = this.window;
+    if (w) {
+      const inside = Math.min(x - w.xmin, w.xmax - x, y - w.ymin, w.ymax - y);
+      if (inside < r) r = inside;
+      if (inside / this.scale < u) u = inside / this.scale;
+    }
+    this.usable = u;
+    this.reach = r;
+    return status;
+  }
+}
+
+/** The label of the evaluation region on a labelled grid (see sampleGrid). */
+function evaluationRegion(
+  study: Study,
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  pose: ArchitecturePose,
+  grid: MarginGrid,
+  phi: number,
+  jointScale: number,
+): number {
   const taskRegion = study.task.region;
   if (!taskRegion) return grid.workspaceRegion(null, false);
   const centreStatus = architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi);
   return grid.workspaceRegion({ x: taskRegion.centreX, y: taskRegion.centreY }, architectureUsableMargin(pose, centreStatus, study, jointScale) >= 0);
+}
+
+/** Bounds the reach margins of a sampled grid by the signed distance to the box (m). */
+function clipReachToBox(grid: MarginGrid, box: PlaneBox): void {
+  const { nx, ny, x0, y0, h, secondary } = grid;
+  for (let j = 0; j < ny; j++) {
+    const y = y0 + j * h;
+    for (let i = 0; i < nx; i++) {
+      const x = x0 + i * h;
+      const inside = Math.min(x - box.xmin, box.xmax - x, y - box.ymin, box.ymax - y);
+      if (inside < secondary[j * nx + i]!) secondary[j * nx + i] = inside;
+    }
+  }
+}
+
+/** Area of the intersection of two discs of radii r1, r2 whose centres are d apart (m²; the lens formula). */
+export function discIntersectionArea(r1: number, r2: number, d: number): number {
+  if (r1 <= 0 || r2 <= 0) return 0;
+  if (d >= r1 + r2) return 0;
+  if (d <= Math.abs(r1 - r2)) return Math.PI * Math.min(r1, r2) ** 2;
+  const a1 = Math.acos(Math.min(Math.max((d * d + r1 * r1 - r2 * r2) / (2 * d * r1), -1), 1));
+  const a2 = Math.acos(Math.min(Math.max((d * d + r2 * r2 - r1 * r1) / (2 * d * r2), -1), 1));
+  const kite = 0.5 * Math.sqrt(Math.max((-d + r1 + r2) * (d + r1 - r2) * (d - r1 + r2) * (d + r1 + r2), 0));
+  return r1 * r1 * a1 + r2 * r2 * a2 - kite;
+}
+
+/**
+ * Closed-form reachable area of a design with two crank + rod legs and no window (the five-bar):
+ * the intersection of the annuli |p_i − d_i| ≤ |P − A_i| ≤ p_i + d_i, by inclusion–exclusion over
+ * the four disc pairs (derived here: annulus = outer disc minus inner disc, inner ⊂ outer). Null for
+ * any other design, whose reachable area is sampled.
+ */
+export function twoCrankReachableArea(model: ArchitectureModelBase): number | null {
+  if (model.dof !== 2 || !('legs' in model)) return null;
+  const legged = model as LeggedModel;
+  if (legged.legs[0]!.name !== 'crank-rod' || legged.legs[1]!.name !== 'crank-rod') return null;
+  const d = Math.hypot(legged.baseX[1]! - legged.baseX[0]!, legged.baseY[1]! - legged.baseY[0]!);
+  const outer1 = legged.crank[0]! + legged.rod[0]!;
+  const inner1 = Math.abs(legged.crank[0]! - legged.rod[0]!);
+  const outer2 = legged.crank[1]! + legged.rod[1]!;
+  const inner2 = Math.abs(legged.crank[1]! - legged.rod[1]!);
+  return discIntersectionArea(outer1, outer2, d) - discIntersectionArea(outer1, inner2, d) - discIntersectionArea(inner1, outer2, d) + discIntersectionArea(inner1, inner2, d);
+}
+
+/** Coarse grid cells across the longer side of the box for a relative tolerance (adaptive sampling). */
+export function coarseCells(tolerance: number): number {
+  return Math.round(Math.min(Math.max(24 * Math.sqrt(0.005 / tolerance), 16), 64));
+}
+
+/** Workspace measures of one design from adaptive sampling (m², m), with the area error estimates (m²). */
+export interface AdaptiveWorkspace {
+  readonly region: number;
+  readonly reachableArea: number;
+  readonly reachableAreaError: number;
+  readonly workspaceArea: number;
+  readonly workspaceAreaError: number;
+  readonly inscribedRadius: number;
+  /** Points solved: coarse nodes plus sub-samples. */
+  readonly samples: number;
+}
+
+/**
+ * The evaluator's workspace at the study's tolerance: the coarse grid (coarseCells) sampled and
+ * labelled as sampleGrid does, then the reachable set and the evaluation region refined near their
+ * boundaries (adaptive.ts) until the estimated error of each area is within the tolerance, and the
+ * inscribed radius found against the refined boundary.
+ */
+export function sampleAdaptive(
+  study: Study,
+  architecture: PlanarArchitecture<ArchitectureModelBase>,
+  model: ArchitectureModelBase,
+  pose: ArchitecturePose,
+  grid: MarginGrid,
+  box: PlaneBox,
+  phi: number,
+  adaptive: AdaptiveArea,
+  tolerance: number,
+): AdaptiveWorkspace {
+  const region = sampleGrid(study, architecture, model, pose, grid, box, phi, coarseCells(tolerance), undefined, true);
+  clipReachToBox(grid, box);
+  const w = study.evaluation.window;
+  const kernel = new PointKernel(study, architecture, model, pose, phi);
+  kernel.continuous = true;
+  const sampler = (x: number, y: number, out: Float64Array): void => {
+    kernel.sample(x, y);
+    out[0] = kernel.usable;
+    // The reach margin is bounded by the box, as on the fixed grid when its cells shrink.
+    out[1] = Math.min(kernel.reach, x - box.xmin, box.xmax - x, y - box.ymin, box.ymax - y);
+  };
+  adaptive.begin(grid, sampler, region);
+  const exact = w ? null : twoCrankReachableArea(model);
+  const reachable = exact !== null ? { area: exact, error: 0, levels: 0 } : adaptive.area(1, tolerance);
+  const workspace = region >= 0 ? adaptive.area(0, tolerance) : { area: 0, error: 0, levels: 0 };
+  const inscribedRadius = region >= 0 ? adaptive.inscribedRadius(region) : 0;
+  return {
+    region,
+    reachableArea: reachable.area,
+    reachableAreaError: reachable.error,
+    workspaceArea: workspace.area,
+    workspaceAreaError: workspace.error,
+    inscribedRadius,
+    samples: grid.nx * grid.ny + adaptive.samples,
+  };
 }
 
 /** Grid fields of one design for maps and exports (any architecture). */

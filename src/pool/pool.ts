@@ -8,7 +8,8 @@ import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
 import { METRICS } from '../mechanics/metrics.js';
-import type { EvaluationTask, EvaluationTaskResult } from './worker.js';
+import { parseStudyText } from '../study/parse.js';
+import type { EvaluationTask, EvaluationTaskResult, WorkerSetup } from './worker.js';
 
 export interface PoolOptions {
   /** Worker threads; default: the machine's available parallelism. */
@@ -40,25 +41,39 @@ function workerFile(): string {
   throw new Error('compiled worker not found: run "npm run build" first');
 }
 
+/**
+ * Designs per task for a batch: about four tasks per worker (few messages, and a worker that
+ * finishes early still finds work), at most 256 designs per task.
+ */
+export function batchSizeFor(designs: number, workers: number): number {
+  return Math.max(1, Math.min(256, Math.ceil(designs / (workers * 4))));
+}
+
 export class EvaluationPool {
   readonly workers: number;
   private readonly piscina: Piscina;
   private readonly options: PoolOptions;
 
   constructor(
-    private readonly studyText: string,
-    private readonly source: string,
+    studyText: string,
+    source: string,
     private readonly variableCount: number,
     private readonly constraintCount: number,
     options: PoolOptions = {},
   ) {
     this.options = options;
     this.workers = Math.max(1, Math.floor(options.workers ?? defaultWorkerCount()));
+    // The study reaches each worker once, already parsed (no schema compilation or parsing there).
+    const setup: WorkerSetup = {
+      study: parseStudyText(studyText, source).study,
+      ...(options.evaluatorModule ? { evaluatorModule: options.evaluatorModule } : {}),
+    };
     this.piscina = new Piscina({
       filename: workerFile(),
       minThreads: this.workers,
       maxThreads: this.workers,
       idleTimeout: 60_000,
+      workerData: setup,
       // The whole batch is queued at once (unbounded queue); results are collected in order.
     });
   }
@@ -69,7 +84,7 @@ export class EvaluationPool {
    */
   async evaluate(designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<DesignOutcome[]> {
     if (designs.length === 0) return [];
-    const size = this.options.batchSize ?? Math.max(1, Math.min(256, Math.ceil(designs.length / (this.workers * 16))));
+    const size = this.options.batchSize ?? batchSizeFor(designs.length, this.workers);
     const chunks: number[][] = [];
     for (let start = 0; start < designs.length; start += size) {
       chunks.push(Array.from({ length: Math.min(size, designs.length - start) }, (_, k) => start + k));
@@ -123,12 +138,9 @@ export class EvaluationPool {
       transfer.push(reuse.buffer as ArrayBuffer);
     }
     const task: EvaluationTask = {
-      studyText: this.studyText,
-      source: this.source,
       designs: flat,
       count: chunk.length,
       ...(reuse ? { workspace: reuse } : {}),
-      ...(this.options.evaluatorModule ? { evaluatorModule: this.options.evaluatorModule } : {}),
     };
     return this.piscina.run(task, { transferList: transfer }) as Promise<EvaluationTaskResult>;
   }

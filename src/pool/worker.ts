@@ -1,22 +1,28 @@
 /**
- * Worker-thread side of the evaluation pool. Each task carries the study text and a batch of design
- * vectors (flat); the worker keeps one Evaluator per study text, so its buffers are reused across
- * every design it ever sees. A design whose evaluation throws is returned with the error text.
+ * Worker-thread side of the evaluation pool. The parsed study reaches the worker once, as its
+ * workerData (WorkerSetup); each task carries a batch of design vectors (flat). The worker keeps
+ * one Evaluator, so its buffers are reused across every design it ever sees. A design whose
+ * evaluation throws is returned with the error text.
  */
+import { workerData } from 'node:worker_threads';
 import { Evaluator } from '../mechanics/evaluate.js';
 import { METRICS } from '../mechanics/metrics.js';
-import { parseStudyText } from '../study/parse.js';
+import type { Study } from '../study/types.js';
+
+/** What every worker receives once, when it starts. */
+export interface WorkerSetup {
+  /** The parsed study (structured clone of the main thread's). */
+  readonly study: Study;
+  /** Optional module (file URL) exporting `createEvaluator(study)`; default: the built-in engine. */
+  readonly evaluatorModule?: string;
+}
 
 export interface EvaluationTask {
-  readonly studyText: string;
-  readonly source: string;
   /** count × variableCount design values, row-major. */
   readonly designs: Float64Array;
   readonly count: number;
   /** Optional: count × 4 stored workspace metrics per design (see Evaluator.evaluateWithWorkspace); a NaN row means a full evaluation. */
   readonly workspace?: Float64Array;
-  /** Optional module (file URL) exporting `createEvaluator(study)`; default: the built-in engine. */
-  readonly evaluatorModule?: string;
 }
 
 export interface EvaluationTaskResult {
@@ -38,26 +44,22 @@ export interface DesignEvaluatorLike {
   evaluateWithWorkspace?(design: Float64Array, workspace: Float64Array): { metrics: Float64Array; margins: Float64Array; violation: number };
 }
 
-const evaluators = new Map<string, DesignEvaluatorLike>();
+let evaluator: DesignEvaluatorLike | null = null;
 
-async function evaluatorFor(task: EvaluationTask): Promise<DesignEvaluatorLike> {
-  const key = `${task.evaluatorModule ?? ''}\u0000${task.studyText}`;
-  let evaluator = evaluators.get(key);
-  if (!evaluator) {
-    const { study } = parseStudyText(task.studyText, task.source);
-    if (task.evaluatorModule) {
-      const mod = (await import(task.evaluatorModule)) as { createEvaluator(study: unknown): DesignEvaluatorLike };
-      evaluator = mod.createEvaluator(study);
-    } else {
-      evaluator = new Evaluator(study);
-    }
-    evaluators.set(key, evaluator);
+async function evaluatorOfWorker(): Promise<DesignEvaluatorLike> {
+  if (evaluator) return evaluator;
+  const setup = workerData as WorkerSetup;
+  if (setup.evaluatorModule) {
+    const mod = (await import(setup.evaluatorModule)) as { createEvaluator(study: unknown): DesignEvaluatorLike };
+    evaluator = mod.createEvaluator(setup.study);
+  } else {
+    evaluator = new Evaluator(setup.study);
   }
   return evaluator;
 }
 
 export default async function evaluateBatch(task: EvaluationTask): Promise<EvaluationTaskResult> {
-  const evaluator = await evaluatorFor(task);
+  const evaluator = await evaluatorOfWorker();
   const nv = evaluator.variables.length;
   const nm = METRICS.length;
   const nc = evaluator.constraints.length;

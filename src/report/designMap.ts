@@ -16,6 +16,7 @@ import { CellAnalysis } from '../mechanics/cellMetrics.js';
 import { rectanglePolygon } from '../cell/geometry.js';
 import { shapeOutline } from '../cell/taskShapes.js';
 import type { Mount } from '../cell/types.js';
+import { errorEllipseLayer } from './errorEllipses.js';
 
 /** Default smallest grid of a map (cells across the window). */
 export const MIN_MAP_CELLS = 120;
@@ -141,5 +142,13 @@ export function designMapSpec(
     ...(options.maxColourCells !== undefined ? { maxColourCells: options.maxColourCells } : {}),
     ...(member.cell ? { cell: cellLayer(member, architecture, model, built.resolved.mount, result.metrics) } : {}),
   });
+  // First-order error ellipses over the task region when the study gives tolerances (docs/accuracy.md).
+  const ellipses = errorEllipseLayer(built, map.layout);
+  if (ellipses) {
+    (map.spec as { layer: object[] }).layer.push(ellipses.layer);
+    const note = `error ellipses (${ellipses.coverage}σ, drawn ×${ellipses.magnification}): position_error_rss ${metricText('position_error_rss', result.metrics[metricIndex('position_error_rss')]!)}`;
+    const spec = map.spec as { title?: { text?: unknown; subtitle?: unknown } };
+    if (spec.title && Array.isArray(spec.title.subtitle)) spec.title.subtitle = [...(spec.title.subtitle as string[]), note];
+  }
   return { ...map, architecture: architecture.name, metrics: result.metrics, feasible: result.feasible };
 }

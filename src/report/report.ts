@@ -20,6 +20,7 @@ import { displayUnit, formatQuantity } from '../study/units.js';
 import { designMapSpec } from './designMap.js';
 import { OKABE_ITO, renderVegaLiteSvg } from './render.js';
 import { PARALLEL_SCRIPT } from './parallel.js';
+import { BUILT_ARM_LIMITS } from '../accuracy/limits.js';
 
 /** The caution every user-facing report carries (README, "Safety"). */
 export const SAFETY_CAUTION =
@@ -695,6 +696,7 @@ export async function buildReportHtml(data: ReportData): Promise<string> {
 <body>
 <header><h1>${escapeHtml(title)}</h1><p class="lead">${escapeHtml(data.study.description || '')}</p></header>
 ${caution}
+${data.study.accuracy ? `<aside class="caution" role="note"><strong>What the built-arm models leave out.</strong> ${escapeHtml(BUILT_ARM_LIMITS)}</aside>` : ''}
 ${studySection(data)}
 <section id="convergence"><h2>Convergence</h2>${data.standing ? `<p class="lead" data-standing>${escapeHtml(data.standing)}</p>` : ''}${convergence}</section>
 <section id="objectives"><h2>Objectives and the Pareto front</h2>${scatter}</section>

@@ -11,11 +11,12 @@
  * create the schema.
  */
 import { LoopsmithUserError } from '../core/errors.js';
+import { METRIC_ALIASES } from '../core/metrics.js';
 import { readFileSync } from 'node:fs';
 import type Database from 'better-sqlite3';
 
 /** Schema version this code reads and writes; equals the `PRAGMA user_version` set by schema.sql. */
-export const SCHEMA_VERSION = 3;
+export const SCHEMA_VERSION = 4;
 
 /** Raised when a database cannot be used at this schema version. */
 export class SchemaVersionError extends LoopsmithUserError {
@@ -69,10 +70,80 @@ export const MIGRATION_RUN_OWNER: Migration = {
 };
 
 /**
+ * Renamed metrics (src/core/metrics.ts METRIC_ALIASES: bandwidth → first_mode_in_plane, resolution →
+ * encoder_resolution): the metric columns `m_<old>` are renamed to `m_<new>` (their values keep their
+ * meaning), the names in `column_sets.metrics` follow, and the `results` view is rebuilt. A store that
+ * already has both columns keeps the new one and fills its empty cells from the old one, which is then
+ * dropped. Constraint columns (`c_…`) keep the names the study gave its constraints.
+ */
+export const MIGRATION_RENAMED_METRICS: Migration = {
+  from: 3,
+  description: 'renamed metrics: m_bandwidth → m_first_mode_in_plane, m_resolution → m_encoder_resolution (columns, column sets, results view)',
+  apply(db) {
+    const columns = (): Set<string> => new Set((db.prepare("SELECT name FROM pragma_table_info('evaluations')").all() as { name: string }[]).map((r) => r.name));
+    db.exec('DROP VIEW IF EXISTS results');
+    for (const [old, now] of Object.entries(METRIC_ALIASES)) {
+      const have = columns();
+      if (!have.has(`m_${old}`)) continue;
+      if (!have.has(`m_${now}`)) {
+        db.exec(`ALTER TABLE evaluations RENAME COLUMN "m_${old}" TO "m_${now}"`);
+      } else {
+        db.exec(`UPDATE evaluations SET "m_${now}" = "m_${old}" WHERE "m_${now}" IS NULL`);
+        db.exec(`ALTER TABLE evaluations DROP COLUMN "m_${old}"`);
+      }
+    }
+    renameColumnSetMetrics(db);
+    rebuildResultsView(db);
+  },
+};
+
+/** column_sets.metrics with the current metric names (sorted again); a set that becomes equal to an existing one is merged into it. */
+function renameColumnSetMetrics(db: Database.Database): void {
+  const rows = db.prepare('SELECT id, variables, metrics, constraints FROM column_sets').all() as { id: number; variables: string; metrics: string; constraints: string }[];
+  for (const row of rows) {
+    const names = JSON.parse(row.metrics) as string[];
+    if (!names.some((n) => n in METRIC_ALIASES)) continue;
+    const renamed = JSON.stringify([...new Set(names.map((n) => METRIC_ALIASES[n] ?? n))].sort());
+    const same = db.prepare('SELECT id FROM column_sets WHERE variables = ? AND metrics = ? AND constraints = ?').get(row.variables, renamed, row.constraints) as { id: number } | undefined;
+    if (same) {
+      db.prepare('UPDATE evaluations SET column_set_id = ? WHERE column_set_id = ?').run(same.id, row.id);
+      db.prepare('DELETE FROM column_sets WHERE id = ?').run(row.id);
+    } else {
+      db.prepare('UPDATE column_sets SET metrics = ? WHERE id = ?').run(renamed, row.id);
+    }
+  }
+}
+
+/**
+ * The `results` view over every evaluations column, v_/m_/c_ columns named without their prefix
+ * unless that clashes (the rule of Store.ensureColumns, docs/store.md).
+ */
+export function rebuildResultsView(db: Database.Database): void {
+  const info = db.prepare("SELECT name FROM pragma_table_info('evaluations') ORDER BY cid").all() as { name: string }[];
+  const real = new Set(info.map((r) => r.name));
+  const used = new Set<string>();
+  const items: string[] = [];
+  const quote = (name: string): string => `"${name.replace(/"/g, '""')}"`;
+  for (const { name } of info) {
+    if (name === 'column_set_id') continue;
+    let friendly = name;
+    const prefix = ['v_', 'm_', 'c_'].find((p) => name.startsWith(p));
+    if (prefix !== undefined) {
+      const stripped = name.slice(prefix.length);
+      if (!real.has(stripped) && !used.has(stripped)) friendly = stripped;
+    }
+    used.add(friendly);
+    items.push(friendly === name ? quote(name) : `${quote(name)} AS ${quote(friendly)}`);
+  }
+  db.exec('DROP VIEW IF EXISTS results');
+  db.exec(`CREATE VIEW results AS SELECT ${items.join(', ')} FROM evaluations`);
+}
+
+/**
  * Steps from older schema versions, in order. A new version N adds `{ from: N - 1, ... }` here and
  * sets `PRAGMA user_version = N` in schema.sql.
  */
-export const MIGRATIONS: readonly Migration[] = [MIGRATION_RUN_END_REASON_AND_CONVERGENCE, MIGRATION_RUN_OWNER];
+export const MIGRATIONS: readonly Migration[] = [MIGRATION_RUN_END_REASON_AND_CONVERGENCE, MIGRATION_RUN_OWNER, MIGRATION_RENAMED_METRICS];
 
 /** Full text of schema.sql, read next to this module (src/store in tests, dist/store when built). */
 export function readSchemaSql(): string {

@@ -14,6 +14,7 @@
  *     are never pasted in as free SQL.
  */
 import { LoopsmithUserError } from '../core/errors.js';
+import { METRIC_ALIASES } from '../core/metrics.js';
 import Database from 'better-sqlite3';
 import { existsSync } from 'node:fs';
 import { quoteIdentifier, readOnlyNames } from './store.js';
@@ -34,6 +35,26 @@ export interface QueryOptions {
 export interface QueryResult {
   columns: string[];
   rows: Record<string, unknown>[];
+  /** Notes for the user, e.g. a renamed metric's old column name read as the new one. */
+  notes?: string[];
+}
+
+/**
+ * A renamed metric's old column (m_bandwidth, m_resolution; METRIC_ALIASES) in a where or order-by text is
+ * read as the new column when the store has only the new one (stores of schema 4 and later), with a note.
+ */
+function renameOldColumns(text: string, tableColumns: readonly string[], notes: string[]): string {
+  let out = text;
+  for (const [old, now] of Object.entries(METRIC_ALIASES)) {
+    const oldColumn = `m_${old}`;
+    const newColumn = `m_${now}`;
+    const pattern = new RegExp(`\\b${oldColumn}\\b`, 'g');
+    if (!pattern.test(out) || tableColumns.includes(oldColumn) || !tableColumns.includes(newColumn)) continue;
+    out = out.replace(pattern, newColumn);
+    const note = `${oldColumn} is now ${newColumn} (metric ${old} was renamed ${now}; same values); read as ${newColumn}`;
+    if (!notes.includes(note)) notes.push(note);
+  }
+  return out;
 }
 
 /** A refused or failed user query; the message says why. */
@@ -181,7 +202,7 @@ function openReadOnly(dbPath: string): Database.Database {
  * ORDER BY <column> <direction>, id LIMIT ?` on a read-only connection.
  */
 export function queryEvaluations(dbPath: string, opts: QueryOptions): QueryResult {
-  const where = opts.where?.trim() ?? '';
+  let where = opts.where?.trim() ?? '';
   if (where !== '') checkWhereExpression(where);
   if (opts.limit !== undefined && (!Number.isSafeInteger(opts.limit) || opts.limit < 0)) {
     throw new QueryError(`limit must be a whole number >= 0, got ${opts.limit}`);
@@ -214,7 +235,9 @@ export function queryEvaluations(dbPath: string, opts: QueryOptions): QueryResul
       }
       selected = [...opts.columns];
     }
-    const order = parseOrderBy(opts.orderBy ?? 'id', tableColumns);
+    const notes: string[] = [];
+    where = renameOldColumns(where, tableColumns, notes);
+    const order = parseOrderBy(renameOldColumns(opts.orderBy ?? 'id', tableColumns, notes), tableColumns);
 
     const conditions: string[] = [];
     const parameters: unknown[] = [];
@@ -240,7 +263,7 @@ export function queryEvaluations(dbPath: string, opts: QueryOptions): QueryResul
     assertReadOnlyStatement(statement);
     try {
       const rows = statement.all(...parameters);
-      return { columns: statement.columns().map((c) => c.name), rows };
+      return { columns: statement.columns().map((c) => c.name), rows, ...(notes.length > 0 ? { notes } : {}) };
     } catch (error) {
       throw new QueryError(`query failed: ${(error as Error).message}`);
     }

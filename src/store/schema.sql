@@ -1,4 +1,4 @@
--- loopsmith result store: full schema of version 3.
+-- loopsmith result store: full schema of version 4 (version 4 renamed two metric columns, see migrations.ts).
 --
 -- This file creates a fresh database in one transaction (see migrations.ts).
 -- Databases written by older code are brought up to date by the numbered
@@ -119,4 +119,4 @@ CREATE VIEW results AS
 SELECT id, eval_key, settings_hash, first_run_id, violation, feasible, error, eval_seconds
 FROM evaluations;
 
-PRAGMA user_version = 3;
+PRAGMA user_version = 4;

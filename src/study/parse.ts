@@ -11,16 +11,18 @@ import { dirname, resolve } from 'node:path';
 import { Ajv, type ErrorObject } from 'ajv';
 import { parseAllDocuments, parseDocument, stringify } from 'yaml';
 import type { AssemblyMode, JointRange } from '../core/pose.js';
-import { metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
+import { currentMetricName, metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES } from '../architectures/index.js';
 import type { ActuatorKind, ArchitectureModelBase, ArchitectureName, DriveAtJoint, PlanarArchitecture } from '../architectures/types.js';
 import { pathEnd, pathEndPhi, type CyclePath, type CycleStep, type JointFriction, type MotionLaw } from '../core/cycle.js';
 import { formatQuantity, parseQuantity, UnitError, type QuantityKind } from './units.js';
 import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
+import { checkAccuracyMetricNeeds, parseAccuracySections } from './accuracySection.js';
 import { buildDriveTrainSetup, fixedDrives } from './driveTrains.js';
 import {
   ARCHITECTURE_PREFIX,
+  DEFAULT_EVALUATION_TOLERANCE,
   type ConstraintSpec,
   type DriveSpec,
   type DriveTrainSetup,
@@ -57,7 +59,11 @@ export const DEFAULT_EVALUATION = {
   taskSamples: 12,
   minInverseCondition: 0.2,
   minTransmissionAngle: (30 * Math.PI) / 180,
-  tolerance: 0.005,
+  /**
+   * Relative accuracy of the areas, region averages and region extremes. Areas use it when no fixed
+   * grid is given (see evaluationTolerance); averages and extremes always (this value when absent).
+   */
+  tolerance: DEFAULT_EVALUATION_TOLERANCE,
 } as const;
 
 export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;
@@ -291,6 +297,7 @@ export function studySettingsHash(study: Study): string {
     orientation: study.orientation ?? undefined,
     cell: study.cell ?? undefined,
     members: study.members ? study.members.map(studySettingsHash) : undefined,
+    accuracy: study.accuracy ?? undefined,
   };
   return sha256(canonicalJson(relevant));
 }
@@ -453,6 +460,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
   const objectives = parseObjectives(data['objectives'] as JsonObject[]);
   const constraints = parseConstraints((data['constraints'] as JsonObject[] | undefined) ?? [], context);
   checkMetricNeeds(objectives, constraints, { hasDutyCycle: dutyCycle !== null, hasDrives: drivesIn !== undefined }, context);
+  checkAccuracyMetricNeeds([...objectives, ...constraints].map((m) => m.metric), data);
 
   const optimizer = parseOptimizer(isObject(data['optimizer']) ? data['optimizer'] : {});
 
@@ -485,6 +493,7 @@ function buildSingleStudy(data: JsonObject, attachments: ReadonlyMap<string, str
     ...(platform ? { platform } : {}),
     ...(orientation ? { orientation } : {}),
     ...(cell ? { cell } : {}),
+    ...accuracyOf(data, context.architecture.actuators),
   };
   const baseline = buildBaseline(isObject(data['baseline']) ? data['baseline'] : {}, partial);
   return { ...partial, baseline };
@@ -773,13 +782,14 @@ function parseEvaluation(evalIn: JsonObject): EvaluationSettings {
     };
     if (!(window.xmax > window.xmin && window.ymax > window.ymin)) throw new StudyError('evaluation.window: each range must be [min, max] with max > min');
   }
+  const tolerance = evaluationTolerance(evalIn);
   return {
     gridCells: (evalIn['grid_cells'] as number | undefined) ?? DEFAULT_EVALUATION.gridCells,
     taskSamples: (evalIn['task_samples'] as number | undefined) ?? DEFAULT_EVALUATION.taskSamples,
     minInverseCondition: (evalIn['min_inverse_condition'] as number | undefined) ?? DEFAULT_EVALUATION.minInverseCondition,
     minTransmissionAngle,
-    tolerance: (evalIn['tolerance'] as number | undefined) ?? (evalIn['area_tolerance'] as number | undefined) ?? DEFAULT_EVALUATION.tolerance,
     ...(window ? { window } : {}),
+    ...(tolerance !== undefined ? { tolerance } : {}),
   };
 }
 
@@ -789,7 +799,9 @@ function parseObjectives(objectivesIn: readonly JsonObject[]): ObjectiveSpec[] {
     const metric = o['metric'] as string;
     const info = metricInfo(metric);
     if (!info) throw new StudyError(`objectives[${i}].metric: unknown metric "${metric}"`);
-    return { metric, sense: (o['sense'] as 'min' | 'max' | undefined) ?? info.better };
+    // A renamed metric's old name (bandwidth, resolution) is read as the new one: stored columns and
+    // front tables carry the current name (src/core/metrics.ts METRIC_ALIASES).
+    return { metric: currentMetricName(metric), sense: (o['sense'] as 'min' | 'max' | undefined) ?? info.better };
   });
   const seenObjectives = new Set<string>();
   for (const o of objectives) {
@@ -835,6 +847,12 @@ function checkMetricNeeds(
   }
 }
 
+/** The accuracy sections (tolerances, joints, strength, link_sections) as a partial study: empty when none is given. */
+function accuracyOf(data: JsonObject, actuators: readonly ActuatorKind[]): { accuracy?: Study['accuracy'] } {
+  const accuracy = parseAccuracySections(data, actuators);
+  return accuracy ? { accuracy } : {};
+}
+
 /**
  * `optimizer:` — a fixed `generations` count, or (the default) the convergence test of the
  * `convergence:` block: window, tolerance, max_evaluations.
@@ -869,6 +887,15 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     if (name === 'working_mode') {
       if (typeof value !== 'string' || !study.workingModes.includes(value)) {
         throw new StudyError(`${where}: must be one of the study's working modes ${JSON.stringify(study.workingModes)}`);
+      }
+      out[name] = value;
+      continue;
+    }
+    if (name === 'link_section') {
+      const tubes = study.accuracy?.sectionChoice;
+      if (!tubes) throw new StudyError(`${where}: "link_section" is a design variable only with a link_sections list`);
+      if (typeof value !== 'string' || !tubes.options.some((o) => o.label === value)) {
+        throw new StudyError(`${where}: must be one of the link_sections tubes ${JSON.stringify(tubes.options.map((o) => o.label))}`);
       }
       out[name] = value;
       continue;
@@ -914,6 +941,9 @@ function buildBaseline(raw: JsonObject, study: Omit<Study, 'baseline'>): Record<
     }
     out[name] = v;
   }
+  // The tube list's first entry is the baseline's link section unless the baseline names one.
+  const tubes = study.accuracy?.sectionChoice;
+  if (tubes && out['link_section'] === undefined) out['link_section'] = tubes.options[0]!.label;
   return out;
 }
 
@@ -1193,4 +1223,20 @@ function viscousCoefficient(value: Json | undefined, where: string, joint: Actua
     if (error instanceof UnitError) throw new StudyError(`${where}: "${String(value)}" is not a viscous coefficient (for example ${example})`);
     throw error;
   }
+}
+
+/**
+ * evaluation.tolerance (alias area_tolerance, the same relative number): present when it governs the
+ * sampling, that is when given, or when grid_cells is not given (default 0.005). A study that gives
+ * grid_cells without a tolerance keeps its fixed grid, as before the setting existed.
+ */
+function evaluationTolerance(evalIn: JsonObject): number | undefined {
+  const given = evalIn['tolerance'] as number | undefined;
+  const alias = evalIn['area_tolerance'] as number | undefined;
+  if (given !== undefined && alias !== undefined && given !== alias) {
+    throw new StudyError('evaluation: tolerance and area_tolerance are the same setting; give one of them (e.g. tolerance: 0.005 for 0.5 %)');
+  }
+  const value = given ?? alias;
+  if (value !== undefined) return value;
+  return evalIn['grid_cells'] === undefined ? DEFAULT_EVALUATION.tolerance : undefined;
 }

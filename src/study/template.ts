@@ -63,7 +63,7 @@ task:
   acceleration: 10 m/s^2              # required end-point acceleration from standstill
 
 evaluation:
-  grid_cells: 120                     # workspace grid cells across the reachable box
+  tolerance: 0.005                    # relative accuracy of the area metrics (0.5 %); grid_cells: N instead fixes a grid
   task_samples: 12                    # task-region samples across its longer side
   min_inverse_condition: 0.2          # usable poses need 1/kappa(J) at least this
   min_transmission_angle: 30 deg      # and crank-rod and rod-rod angles at least this from 0/180 deg

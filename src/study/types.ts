@@ -6,6 +6,7 @@ import type { CyclePath, JointFriction } from '../core/cycle.js';
 import { ARCHITECTURES, ARCHITECTURE_NAMES, type ArchitectureName } from '../architectures/index.js';
 import type { DriveAtJoint } from '../architectures/types.js';
 import type { CellSpec } from '../cell/types.js';
+import type { AccuracySpec } from '../accuracy/spec.js';
 import type { DriveTrain, GearboxSpec, LinearStageSpec, MotorSpec } from '../drives/types.js';
 
 /** The study's mechanism architecture (see docs/architectures.md). */
@@ -96,6 +97,12 @@ export type TaskRegion =
   | { readonly shape: 'rectangle'; readonly centreX: number; readonly centreY: number; readonly width: number; readonly height: number }
   | { readonly shape: 'circle'; readonly centreX: number; readonly centreY: number; readonly radius: number };
 
+/**
+ * Default relative tolerance (0.5 %) of the areas, region averages and region extremes; defined here,
+ * without parse.ts's dependencies, so that the evaluator's modules can read it (DEFAULT_EVALUATION uses it).
+ */
+export const DEFAULT_EVALUATION_TOLERANCE = 0.005;
+
 export interface EvaluationSettings {
   /** Grid cells across the longer side of the reachable bounding box. */
   readonly gridCells: number;
@@ -105,8 +112,14 @@ export interface EvaluationSettings {
   readonly minInverseCondition: number;
   /** Minimum transmission angle μ_min, rad. */
   readonly minTransmissionAngle: number;
-  /** Relative accuracy asked of areas, region averages and region extremes (default 0.005 = 0.5 %). */
-  readonly tolerance: number;
+  /**
+   * Relative accuracy target (dimensionless, e.g. 0.005 = 0.5 %). Areas: the engine picks its sampling
+   * from it (coarse grid plus boundary refinement, see mechanics/adaptive.ts); absent when the study
+   * fixes grid_cells without giving a tolerance, and the fixed grid is used for the areas then (their
+   * numbers unchanged). Region averages and extremes (regionMetrics.ts) are refined to this value, or
+   * to DEFAULT_EVALUATION.tolerance when it is absent: one setting governs all three.
+   */
+  readonly tolerance?: number;
   /** Grid window, m: clips the reachable box (required for rails without strokes). Absent = none. */
   readonly window?: { readonly xmin: number; readonly xmax: number; readonly ymin: number; readonly ymax: number };
 }
@@ -234,6 +247,8 @@ export interface Study {
   readonly friction?: readonly JointFriction[] | null;
   readonly objectives: readonly ObjectiveSpec[];
   readonly constraints: readonly ConstraintSpec[];
+  /** Tolerances, real joints, strength data and tube list (docs/accuracy.md); absent = none of them given. */
+  readonly accuracy?: AccuracySpec | null;
   /** Baseline design: a value for every design variable. */
   readonly baseline: Readonly<Record<string, number | string>>;
   readonly optimizer: OptimizerSettings;

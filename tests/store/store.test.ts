@@ -115,7 +115,7 @@ describe('schema creation and version', () => {
     expect(existsSync(path)).toBe(true);
     const db = rawConnection(path, { readonly: true });
     expect(db.pragma('user_version', { simple: true })).toBe(SCHEMA_VERSION);
-    expect(SCHEMA_VERSION).toBe(3);
+    expect(SCHEMA_VERSION).toBe(4);
     const names = (db.prepare("SELECT name, type FROM sqlite_schema WHERE name NOT LIKE 'sqlite_%' ORDER BY name").all() as {
       name: string;
       type: string;
@@ -189,7 +189,7 @@ describe('schema creation and version', () => {
   });
 
   it('applies numbered migrations in order, each in a transaction, and refuses a gap', () => {
-    expect(MIGRATIONS.map((m) => m.from)).toEqual([1, 2]); // 1 → 2: convergence record; 2 → 3: run-ownership lock
+    expect(MIGRATIONS.map((m) => m.from)).toEqual([1, 2, 3]); // 1 → 2: convergence record; 2 → 3: run-ownership lock; 3 → 4: renamed metrics
     const path = flatDbPath();
     const db = rawConnection(path);
     migrate(db, { targetVersion: 1, schemaSql: SCHEMA_V1 }); // a store written by the first schema

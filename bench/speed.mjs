@@ -1,0 +1,138 @@
+// `npm run bench -- --json`: one JSON object of speed and accuracy figures (no pass/fail; the targets
+// of the speed work are printed beside them under "targets"). Single-thread figures use the demo
+// studies with their evaluation defaults (the grid_cells line removed: the default tolerance
+// governs). Options: --quick (smaller counts).
+import { readFileSync, mkdtempSync, rmSync } from 'node:fs';
+import { availableParallelism, cpus, loadavg, tmpdir } from 'node:os';
+import { join } from 'node:path';
+
+const root = new URL('../', import.meta.url);
+const { Evaluator, parseStudyText, runOptimization } = await import(new URL('dist/index.js', root).href);
+const { designFromValues } = await import(new URL('dist/mechanics/designSpace.js', root).href);
+const { METRICS } = await import(new URL('dist/core/metrics.js', root).href);
+
+const quick = process.argv.includes('--quick');
+const read = (file) => readFileSync(new URL(file, root), 'utf8');
+/** A demo study with its evaluation defaults: the fixed grid_cells line removed. */
+export function withDefaults(text) {
+  return text.replace(/^\s*grid_cells:.*$/m, '');
+}
+const samplesOf = (evaluator) =>
+  typeof evaluator.lastWorkspaceSamples === 'function' ? evaluator.lastWorkspaceSamples() : evaluator.path.grid.nx * evaluator.path.grid.ny;
+const lcg = (seed) => () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+
+/** Single-thread evaluations of random designs over the study's ranges. */
+function singleThread(text, count) {
+  const evaluator = new Evaluator(parseStudyText(text, 'bench').study);
+  const rand = lcg(12345);
+  const designs = Array.from({ length: 200 }, () => Float64Array.from(evaluator.variables, (v) => (v.kind === 'real' ? v.min + rand() * (v.max - v.min) : v.min)));
+  for (let k = 0; k < 100; k++) evaluator.evaluate(designs[k % 200]);
+  let samples = 0;
+  const t0 = performance.now();
+  const c0 = process.cpuUsage();
+  for (let k = 0; k < count; k++) {
+    evaluator.evaluate(designs[k % 200]);
+    samples += samplesOf(evaluator);
+  }
+  const seconds = (performance.now() - t0) / 1000;
+  const cpu = process.cpuUsage(c0);
+  const cpuSeconds = (cpu.user + cpu.system) / 1e6;
+  return { evaluationsPerSecond: count / seconds, evaluationsPerCpuSecond: count / cpuSeconds, samplesPerCandidate: samples / count, nsPerSample: (seconds * 1e9) / samples, nsPerSampleCpu: (cpuSeconds * 1e9) / samples };
+}
+
+/** Evaluations per second of designs within ±5 % of a study's baseline (as section 5 of bench/run.mjs). */
+function baselineRate(text, count) {
+  const s = parseStudyText(text, 'bench').study;
+  const evaluator = new Evaluator(s);
+  const baseline = designFromValues(evaluator.variables, s.baseline);
+  const rand = lcg(4242);
+  const designs = Array.from({ length: 32 }, () => Float64Array.from(baseline, (v, k) => (evaluator.variables[k].kind === 'real' ? v * (0.95 + 0.1 * rand()) : v)));
+  for (let k = 0; k < 8; k++) evaluator.evaluate(designs[k % 32]);
+  const c0 = process.cpuUsage();
+  for (let k = 0; k < count; k++) evaluator.evaluate(designs[k % 32]);
+  const cpu = process.cpuUsage(c0);
+  // CPU time of this thread's process: on a shared machine wall time mostly measures the neighbours.
+  return count / ((cpu.user + cpu.system) / 1e6);
+}
+
+/** Worst relative errors against the stored 1000-cell references (tests/fixtures/area-reference.json). */
+async function accuracy() {
+  const { ACCURACY_CASES, caseText } = await import(new URL('scripts/area-reference.mjs', root).href);
+  const reference = JSON.parse(read('tests/fixtures/area-reference.json'));
+  const index = (name) => METRICS.findIndex((m) => m.name === name);
+  const out = {};
+  for (const c of ACCURACY_CASES) {
+    const evaluator = new Evaluator(parseStudyText(caseText(read(c.file), c, ''), c.name).study);
+    const worst = { workspace_area: 0, inscribed_radius: 0, reachable_area: 0 };
+    const designs = reference.cases.find((x) => x.name === c.name).designs;
+    for (const d of designs) {
+      const m = evaluator.evaluate(Float64Array.from(d.design)).metrics;
+      for (const key of Object.keys(worst)) worst[key] = Math.max(worst[key], Math.abs(m[index(key)] / d[key] - 1));
+    }
+    out[c.name] = { designs: designs.length, ...worst };
+  }
+  return out;
+}
+
+async function endToEnd(text, workers, population, generations) {
+  const dir = mkdtempSync(join(tmpdir(), 'loopsmith-bench-'));
+  try {
+    const t0 = performance.now();
+    const summary = await runOptimization(parseStudyText(text, 'bench'), { dbPath: join(dir, 'bench.db'), workers, population, generations, seed: 1 });
+    return { seconds: (performance.now() - t0) / 1000, evaluations: summary.newEvaluations };
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+const demo = withDefaults(read('studies/parcel-sorter.yaml'));
+const load = loadavg()[0];
+const single = singleThread(demo, quick ? 300 : 2000);
+const accuracyFigures = await accuracy();
+const byArchitecture = {};
+const asWritten = {};
+for (const [name, file] of [['five-bar', 'parcel-sorter.yaml'], ['2-prr', 'rail-sorter-2prr.yaml'], ['3-rrr', 'platform-3rrr.yaml'], ['3-prr', 'platform-3prr.yaml'], ['3-rpr', 'platform-3rpr.yaml']]) {
+  const text = read(`studies/${file}`);
+  byArchitecture[name] = baselineRate(withDefaults(text), quick ? 40 : 200);
+  asWritten[name] = baselineRate(text, quick ? 40 : 200);
+}
+// Parallel efficiency: the same run on 1 and 2 workers, alternated, fastest of each.
+const generations = quick ? 5 : 20;
+const ones = [];
+const twos = [];
+for (let r = 0; r < (quick ? 1 : 2); r++) {
+  twos.push(await endToEnd(demo, 2, 100, generations));
+  ones.push(await endToEnd(demo, 1, 100, generations));
+}
+const fastest = (runs) => runs.reduce((a, b) => (b.seconds < a.seconds ? b : a));
+const one = fastest(ones);
+const two = fastest(twos);
+// Start-up: a whole run of 4 designs × 1 generation on 2 workers (store, pool, study; almost no evaluation).
+const startups = [];
+for (let r = 0; r < 3; r++) startups.push((await endToEnd(demo, 2, 4, 1)).seconds);
+const workspaceWorst = accuracyFigures['five-bar'].workspace_area;
+const result = {
+  node: process.version,
+  cores: availableParallelism(),
+  cpu: cpus()[0]?.model ?? 'unknown',
+  load_average_1min_at_start: load,
+  load_average_1min_at_end: loadavg()[0],
+  quick,
+  ns_per_sample: single.nsPerSample,
+  ns_per_sample_cpu_time: single.nsPerSampleCpu,
+  evaluations_per_cpu_second: single.evaluationsPerCpuSecond,
+  samples_per_candidate: single.samplesPerCandidate,
+  evaluations_per_second: single.evaluationsPerSecond,
+  workspace_area_worst_error: workspaceWorst,
+  workspace_area_worst_error_note: 'worst |relative error| against a fixed 1000-cell grid over 20 random asymmetric demo (five-bar) designs, tests/fixtures/area-reference.json',
+  accuracy_by_architecture: accuracyFigures,
+  evaluations_per_second_by_architecture: byArchitecture,
+  evaluations_per_second_by_architecture_note: 'designs within ±5 % of each demo baseline, evaluations per CPU second of this process (as section 5 of the text bench); _as_written: the demo study with its own grid_cells',
+  evaluations_per_second_by_architecture_as_written: asWritten,
+  parallel_efficiency: (one.seconds / one.evaluations) / (2 * (two.seconds / two.evaluations)),
+  parallel_runs: { one_worker_seconds: ones.map((r) => r.seconds), two_worker_seconds: twos.map((r) => r.seconds), evaluations: one.evaluations },
+  startup_seconds: Math.min(...startups),
+  startup_runs_seconds: startups,
+  targets: { evaluations_per_second: 3000, workspace_area_worst_error: 0.005, parallel_efficiency: 0.85, startup_seconds: 0.3 },
+};
+process.stdout.write(JSON.stringify(result, null, 1) + '\n');

@@ -1,0 +1,759 @@
+/**
+ * Adaptive workspace sampling at a stated accuracy (study setting `evaluation.tolerance`, relative).
+ *
+ * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). A cell whose
+ * corners disagree in sign (or whose smallest corner margin is small against the spread of its
+ * corners, so that the zero level may pass through it) is split into four, level after level; only
+ * the sub-cells whose corners still disagree are split again. The area of each field's positive set
+ * at level k is the sum of the cells known to be wholly inside plus, for the undecided sub-cells of
+ * level k, the sub-cell estimate on two triangles (linear interpolation, as MarginGrid.positiveArea).
+ * This boundary estimate converges with the square of the sub-cell size, so successive levels
+ * A_k are extrapolated (L. F. Richardson 1911, "The approximate arithmetical solution by finite
+ * differences of physical problems", Phil. Trans. R. Soc. A 210; from memory) when their differences
+ * fall by about four, A ≈ A_k + (A_k − A_{k−1})/3, and the size of that correction, |A_k − A_{k−1}|/3,
+ * is the reported error estimate (the larger of |A_k − A_{k−1}| and a quarter of the difference
+ * before it when the differences do not fall as h²). Refinement stops when the estimate is below
+ * half the tolerance (or at the deepest level). Outside the coarse nodes' reach the method is blind:
+ * a part of the region thinner than the sub-cells and away from every split cell is missed.
+ *
+ * Sub-samples are cached by their position on the finest lattice (open addressing, no allocation
+ * per point), so neighbouring cells share their edge samples. Two fields are refined from one pass:
+ * the reach margin (reachable area) and the usability margin restricted to the evaluation region
+ * (workspace area; positive sub-samples inside a cell that touches the region count as the region).
+ */
+import type { MarginGrid } from './grid.js';
+import { trianglePositiveFraction } from './grid.js';
+
+/** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
+export const MAX_LEVEL = 6;
+/** Fewest levels before the error estimate may stop refinement (three estimates for the h² check). */
+const MIN_LEVEL = 2;
+const CACHE_BITS = 17;
+const CACHE_SIZE = 1 << CACHE_BITS;
+/** Stop adding sub-samples beyond this many (half the cache): the estimate then stays at the last full level. */
+const MAX_SUBSAMPLES = CACHE_SIZE >> 1;
+
+/** Samples one point: writes the usability margin and the reach margin into out[0], out[1]. */
+export type PointSampler = (x: number, y: number, out: Float64Array) => void;
+
+/** An area with its estimated error (both m²) and the refinement it took. */
+export interface AreaEstimate {
+  area: number;
+  error: number;
+  /** Refinement levels used below the coarse grid. */
+  levels: number;
+}
+
+/** Sixteen unit directions of the compass search. */
+const COMPASS_X = Float64Array.from({ length: 16 }, (_, k) => Math.cos((k * Math.PI) / 8));
+const COMPASS_Y = Float64Array.from({ length: 16 }, (_, k) => Math.sin((k * Math.PI) / 8));
+
+/** Lattice refinement of a neck probe (per coarse cell; divides 2^MAX_LEVEL) and the most probes per design. */
+const PROBE_SPLIT = 16;
+/** A uniform coarse cell is refined when its corner nearest the zero level is within this share of its corner spread. */
+const NEAR_FACTOR = 0.5;
+/** Compass searches per inscribed radius (from the starts nearest to the best). */
+const SEARCHES = 8;
+const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
+const MAX_PROBES = 64;
+
+/** Growable list of cells (fine-lattice corner coordinates and the four corner values), reused across designs. */
+class CellList {
+  at = new Int32Array(4096);
+  corners = new Float64Array(8192);
+  count = 0;
+  push(i: number, j: number, a: number, b: number, c: number, d: number): void {
+    if (2 * this.count + 2 > this.at.length) {
+      const at = new Int32Array(this.at.length * 2);
+      at.set(this.at);
+      this.at = at;
+      const corners = new Float64Array(this.corners.length * 2);
+      corners.set(this.corners);
+      this.corners = corners;
+    }
+    const n = this.count;
+    this.at[2 * n] = i;
+    this.at[2 * n + 1] = j;
+    this.corners[4 * n] = a;
+    this.corners[4 * n + 1] = b;
+    this.corners[4 * n + 2] = c;
+    this.corners[4 * n + 3] = d;
+    this.count = n + 1;
+  }
+}
+
+/** The area of a field's positive set by adaptive refinement; one per evaluator (owns its buffers). */
+export class AdaptiveArea {
+  private readonly keys = new Int32Array(CACHE_SIZE);
+  private readonly stamps = new Int32Array(CACHE_SIZE);
+  private readonly usable = new Float64Array(CACHE_SIZE);
+  private readonly reach = new Float64Array(CACHE_SIZE);
+  private epoch = 0;
+  private subsamples = 0;
+  private readonly point = new Float64Array(2);
+  private current = new CellList();
+  private next = new CellList();
+  private readonly estimates = new Float64Array(MAX_LEVEL + 1);
+  /** Region-masked usability margins of the coarse nodes. */
+  private masked = new Float64Array(0);
+  private grid: MarginGrid | null = null;
+  private sampler: PointSampler | null = null;
+  /** Fine-lattice spacing (m) and nodes per fine row. */
+  private hf = 0;
+  private fineWidth = 0;
+  /** Boundary points of the last workspace field (finest level): x, y interleaved; see boundaryCount. */
+  boundary = new Float64Array(4096);
+  boundaryCount = 0;
+  /** Sub-samples taken in the last `begin` … calls. */
+  get samples(): number {
+    return this.subsamples;
+  }
+
+  /** Starts a design: the coarse grid (sampled, labelled) and the sampler for sub-samples. */
+  begin(grid: MarginGrid, sampler: PointSampler, region: number): void {
+    this.grid = grid;
+    this.sampler = sampler;
+    this.epoch++;
+    if (this.epoch > 0x3fffffff) {
+      this.stamps.fill(0);
+      this.epoch = 1;
+    }
+    this.subsamples = 0;
+    this.hf = grid.h / (1 << MAX_LEVEL);
+    this.fineWidth = (grid.nx - 1) * (1 << MAX_LEVEL) + 1;
+    const n = grid.nx * grid.ny;
+    if (this.masked.length < n) this.masked = new Float64Array(grid.capacity);
+    if (this.merged.length < grid.capacity) this.merged = new Uint8Array(grid.capacity);
+    this.merged.fill(0, 0, grid.regionCount);
+    if (region >= 0) {
+      this.merged[region] = 1;
+      this.connectNecks();
+    }
+    const { values, labels } = grid;
+    for (let k = 0; k < n; k++) {
+      const v = values[k]!;
+      const label = labels[k]!;
+      this.masked[k] = label >= 0 && this.merged[label] === 1 ? v : v >= 0 ? -v - 1e-300 : v;
+    }
+  }
+
+  /** Per coarse region label: 1 when it belongs to the evaluation region (itself or joined through a neck). */
+  private merged = new Uint8Array(0);
+  private readonly probeQueue = new Int32Array(PROBE_NODES);
+  private readonly probeSeen = new Uint8Array(PROBE_NODES);
+
+  /**
+   * Joins to the evaluation region the coarse regions connected to it through necks narrower than a
+   * coarse cell: around every outside node that has a node of the region and a node of another
+   * region among its eight neighbours, the usable set is flood-filled on a lattice PROBE_SPLIT times
+   * finer over the 2 × 2 cells about that node; regions reached are joined (repeated until none is).
+   */
+  private connectNecks(): void {
+    const grid = this.grid!;
+    const { nx, ny, labels } = grid;
+    let probes = 0;
+    for (let changed = true; changed && probes < MAX_PROBES; ) {
+      changed = false;
+      for (let j = 1; j + 1 < ny && probes < MAX_PROBES; j++) {
+        for (let i = 1; i + 1 < nx && probes < MAX_PROBES; i++) {
+          const s = j * nx + i;
+          if (labels[s]! >= 0) continue;
+          let inside = false;
+          let other = false;
+          for (let dj = -1; dj <= 1; dj++) {
+            for (let di = -1; di <= 1; di++) {
+              const label = labels[s + dj * nx + di]!;
+              if (label < 0) continue;
+              if (this.merged[label] === 1) inside = true;
+              else other = true;
+            }
+          }
+          if (!inside || !other) continue;
+          probes++;
+          if (this.probe(i, j)) changed = true;
+        }
+      }
+    }
+  }
+
+  /** Flood fill of the usable set over the 2 × 2 coarse cells about node (i, j); joins the regions reached. */
+  private probe(i: number, j: number): boolean {
+    const grid = this.grid!;
+    const { nx, labels } = grid;
+    const side = 2 * PROBE_SPLIT + 1;
+    const step = (1 << MAX_LEVEL) / PROBE_SPLIT;
+    const fi0 = (i - 1) << MAX_LEVEL;
+    const fj0 = (j - 1) << MAX_LEVEL;
+    const queue = this.probeQueue;
+    const seen = this.probeSeen;
+    seen.fill(0);
+    let head = 0;
+    let tail = 0;
+    for (let dj = 0; dj <= 2; dj++) {
+      for (let di = 0; di <= 2; di++) {
+        const label = labels[(j - 1 + dj) * nx + i - 1 + di]!;
+        if (label < 0 || this.merged[label] !== 1) continue;
+        const q = dj * PROBE_SPLIT * side + di * PROBE_SPLIT;
+        seen[q] = 1;
+        queue[tail++] = q;
+      }
+    }
+    let joined = false;
+    while (head < tail) {
+      const q = queue[head++]!;
+      const qi = q % side;
+      const qj = (q - qi) / side;
+      if (qi % PROBE_SPLIT === 0 && qj % PROBE_SPLIT === 0) {
+        const label = labels[(j - 1 + qj / PROBE_SPLIT) * nx + i - 1 + qi / PROBE_SPLIT]!;
+        if (label >= 0 && this.merged[label] !== 1) {
+          this.merged[label] = 1;
+          joined = true;
+        }
+      }
+      for (let d = 0; d < 4; d++) {
+        const ni = qi + (d === 0 ? 1 : d === 1 ? -1 : 0);
+        const nj = qj + (d === 2 ? 1 : d === 3 ? -1 : 0);
+        if (ni < 0 || nj < 0 || ni >= side || nj >= side) continue;
+        const nq = nj * side + ni;
+        if (seen[nq] === 1) continue;
+        seen[nq] = 1;
+        if (this.value(2, fi0 + ni * step, fj0 + nj * step) >= 0) queue[tail++] = nq;
+      }
+    }
+    return joined;
+  }
+
+  /** Field value (0: region-masked usability, 1: reach, 2: usability) at fine-lattice node (fi, fj). */
+  private value(field: number, fi: number, fj: number): number {
+    const mask = (1 << MAX_LEVEL) - 1;
+    const grid = this.grid!;
+    if ((fi & mask) === 0 && (fj & mask) === 0) {
+      const k = (fj >> MAX_LEVEL) * grid.nx + (fi >> MAX_LEVEL);
+      return field === 0 ? this.masked[k]! : field === 1 ? grid.secondary[k]! : grid.values[k]!;
+    }
+    const key = fj * this.fineWidth + fi;
+    let slot = Math.imul(key, 0x9e3779b1) >>> (32 - CACHE_BITS);
+    for (;;) {
+      if (this.stamps[slot] !== this.epoch) break;
+      if (this.keys[slot] === key) return field === 1 ? this.reach[slot]! : this.usable[slot]!;
+      slot = (slot + 1) & (CACHE_SIZE - 1);
+    }
+    this.stamps[slot] = this.epoch;
+    this.keys[slot] = key;
+    this.subsamples++;
+    const point = this.point;
+    this.sampler!(grid.x0 + fi * this.hf, grid.y0 + fj * this.hf, point);
+    this.usable[slot] = point[0]!;
+    this.reach[slot] = point[1]!;
+    return field === 1 ? point[1]! : point[0]!;
+  }
+
+  /**
+   * Area of a field's positive set (0: the evaluation region's usable workspace, 1: the reachable
+   * set) to a relative tolerance; records the workspace boundary points when field = 0.
+   */
+  area(field: number, tolerance: number): AreaEstimate {
+    const grid = this.grid!;
+    const { nx, ny } = grid;
+    const h = grid.h;
+    const coarse = field === 0 ? this.masked : grid.secondary;
+    const S = 1 << MAX_LEVEL;
+    let full = 0;
+    let partial = 0;
+    this.current.count = 0;
+    for (let j = 0; j + 1 < ny; j++) {
+      for (let i = 0; i + 1 < nx; i++) {
+        const k = j * nx + i;
+        const a = coarse[k]!;
+        const b = coarse[k + 1]!;
+        const c = coarse[k + nx]!;
+        const d = coarse[k + nx + 1]!;
+        const inside = (a >= 0 ? 1 : 0) + (b >= 0 ? 1 : 0) + (c >= 0 ? 1 : 0) + (d >= 0 ? 1 : 0);
+        if (inside === 4 || inside === 0) {
+          // The zero level may still cross the cell when a corner is close to it.
+          const lo = Math.min(a, b, c, d);
+          const hi = Math.max(a, b, c, d);
+          const near = inside === 4 ? lo : -hi;
+          if (!(near < NEAR_FACTOR * (hi - lo))) {
+            if (inside === 4) {
+              full += 1;
+            }
+            continue;
+          }
+          if (field === 0 && inside === 0 && !this.nearRegion(i, j)) continue;
+        }
+        this.current.push(i * S, j * S, a, b, c, d);
+        partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
+      }
+    }
+    const est = this.estimates;
+    let cellArea = h * h;
+    full *= cellArea;
+    est[0] = full + partial * cellArea;
+    let level = 0;
+    let result = est[0]!;
+    let error = Infinity;
+    while (level < MAX_LEVEL && this.current.count > 0) {
+      if (this.subsamples + 5 * this.current.count > MAX_SUBSAMPLES) break;
+      level++;
+      cellArea /= 4;
+      const step = S >> level;
+      const list = this.current;
+      const out = this.next;
+      out.count = 0;
+      partial = 0;
+      let fullCells = 0;
+      const at = list.at;
+      const corners = list.corners;
+      for (let c = 0; c < list.count; c++) {
+        const i0 = at[2 * c]!;
+        const j0 = at[2 * c + 1]!;
+        // The 3 × 3 nodes of the split cell: corners known, five new (or cached) values.
+        const v00 = corners[4 * c]!;
+        const v20 = corners[4 * c + 1]!;
+        const v02 = corners[4 * c + 2]!;
+        const v22 = corners[4 * c + 3]!;
+        const v10 = this.value(field, i0 + step, j0);
+        const v01 = this.value(field, i0, j0 + step);
+        const v11 = this.value(field, i0 + step, j0 + step);
+        const v21 = this.value(field, i0 + 2 * step, j0 + step);
+        const v12 = this.value(field, i0 + step, j0 + 2 * step);
+        partial += this.child(out, i0, j0, v00, v10, v01, v11);
+        partial += this.child(out, i0 + step, j0, v10, v20, v11, v21);
+        partial += this.child(out, i0, j0 + step, v01, v11, v02, v12);
+        partial += this.child(out, i0 + step, j0 + step, v11, v21, v12, v22);
+      }
+      fullCells = this.fullChildren;
+      this.fullChildren = 0;
+      full += fullCells * cellArea;
+      est[level] = full + partial * cellArea;
+      this.current = out;
+      this.next = list;
+      this.extrapolate(level);
+      result = this.resultArea;
+      error = this.resultError;
+      if (level >= MIN_LEVEL && error <= 0.5 * tolerance * Math.abs(result)) break;
+    }
+    if (level === 0) error = this.current.count === 0 ? 0 : est[0]!;
+    if (field === 0) this.collectBoundary(level);
+    return { area: result, error, levels: level };
+  }
+
+  /**
+   * Radius of the largest circle inside the evaluation region (m), without a distance transform of
+   * a fine grid: the coarse grid's deepest nodes (MarginGrid.deepCandidates) are the starting
+   * centres; each is scored against the boundary points of the finest level (bucketed by coarse
+   * cell, nearest point by rings of cells), and the best few are moved by a compass search (sixteen
+   * directions, step halved when no move helps) that maximises the distance to the boundary.
+   * Call after area(0, …).
+   */
+  inscribedRadius(region: number): number {
+    const grid = this.grid!;
+    if (region < 0 || this.boundaryCount === 0) return 0;
+    this.bucketBoundary();
+    const { nx, h } = grid;
+    // The deepest candidate nodes (coarse distance transform) of every coarse region joined to the
+    // evaluation region are the starting centres.
+    const starts = this.starts;
+    starts.fill(-1);
+    const scores = this.startScores;
+    scores.fill(-1);
+    for (let label = 0; label < grid.regionCount; label++) {
+      if (this.merged[label] !== 1) continue;
+      const nc = grid.deepCandidates(label);
+      const nodes = grid.candidateNodes;
+      for (let c = 0; c < nc; c++) {
+        const k = nodes[c]!;
+        const depth = grid.depth(k);
+        for (let s = 0; s < starts.length; s++) {
+          if (depth > scores[s]!) {
+            for (let t = starts.length - 1; t > s; t--) { scores[t] = scores[t - 1]!; starts[t] = starts[t - 1]!; }
+            scores[s] = depth;
+            starts[s] = k;
+            break;
+          }
+        }
+      }
+    }
+    // Exact distances of the starts; only those within half a cell of the best are searched from,
+    let best = 0;
+    let first = 0;
+    for (let s = 0; s < starts.length && starts[s]! >= 0; s++) {
+      const k = starts[s]!;
+      scores[s] = this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h);
+      if (scores[s]! > first) first = scores[s]!;
+    }
+    // At most the SEARCHES best of them, in order of their distance.
+    for (let searched = 0; searched < SEARCHES; searched++) {
+      let pick = -1;
+      for (let s = 0; s < starts.length && starts[s]! >= 0; s++) {
+        if (scores[s]! >= first - 0.5 * h && (pick < 0 || scores[s]! > scores[pick]!)) pick = s;
+      }
+      if (pick < 0) break;
+      const k = starts[pick]!;
+      scores[pick] = -1;
+      // A start next to one already searched climbs the same hill.
+      let near = false;
+      for (let t = 0; t < searched; t++) {
+        const q = this.searchedFrom[t]!;
+        if (Math.abs((q % nx) - (k % nx)) <= 1 && Math.abs(Math.floor(q / nx) - Math.floor(k / nx)) <= 1) near = true;
+      }
+      this.searchedFrom[searched] = k;
+      if (near) continue;
+      const value = this.compassSearch(k, this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h));
+      if (value > best) best = value;
+    }
+    return best;
+  }
+
+  /**
+   * Compass search from node k (distance `value` to the boundary): sixteen directions, the step
+   * halved when no move helps, down to 10⁻³ of the radius. Trial points within `step` of the centre
+   * can only have a nearest boundary point within value + 2·step of it, so the local list is
+   * re-gathered (or filtered) to that radius as the centre moves and the step shrinks.
+   */
+  private compassSearch(k: number, value: number): number {
+    const grid = this.grid!;
+    const { nx, h } = grid;
+    let cx = grid.x0 + (k % nx) * h;
+    let cy = grid.y0 + Math.floor(k / nx) * h;
+    // Two lists of boundary points: `wide` holds every point within value_g + 3h of (gx, gy) (from
+    // the buckets), `local` every point within value_l + slack of (lx, ly) (filtered from `wide`).
+    // A trial point within `step` of centre c is served by a list about (ox, oy) with value v_o and
+    // margin m while |c − o| ≤ (m − 2 step)/2 (its nearest point is within v_o + |c − o| + step).
+    let gx = cx;
+    let gy = cy;
+    this.gatherLocal(cx, cy, value + 3 * h);
+    this.keepWide();
+    let step = 0.5 * h;
+    let lx = cx;
+    let ly = cy;
+    let slack = 6 * step;
+    this.filterFromWide(cx, cy, value + slack);
+    const stop = 1e-3 * Math.max(value, h);
+    let bestDir = 0;
+    while (step > stop) {
+      // Moves stay inside the circle already known to be free of boundary, so inside the region.
+      if (step >= value) { step *= 0.5; continue; }
+      // The eight even directions first, the eight between them only when those fail.
+      let moved = false;
+      for (let dir = 0; dir < 16; dir += 2) {
+        const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
+        if (d > value) { value = d; bestDir = dir; moved = true; }
+      }
+      if (!moved) {
+        for (let dir = 1; dir < 16; dir += 2) {
+          const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
+          if (d > value) { value = d; bestDir = dir; moved = true; }
+        }
+      }
+      if (moved) {
+        cx += step * COMPASS_X[bestDir]!;
+        cy += step * COMPASS_Y[bestDir]!;
+      } else if (this.ridgeStep(cx, cy, step, value)) {
+        // On a ridge between two boundary points the distance rises along it: follow it.
+        value = this.ridgeValue;
+        cx = this.ridgeX;
+        cy = this.ridgeY;
+        moved = true;
+      } else {
+        step *= 0.5;
+      }
+      if (!moved || Math.abs(cx - lx) + Math.abs(cy - ly) > 0.5 * (slack - 2 * step)) {
+        if (Math.abs(cx - gx) + Math.abs(cy - gy) > 0.5 * (3 * h - 2 * step) - 6 * step) {
+          gx = cx;
+          gy = cy;
+          this.gatherLocal(cx, cy, value + 3 * h);
+          this.keepWide();
+        }
+        lx = cx;
+        ly = cy;
+        slack = 6 * step;
+        this.filterFromWide(cx, cy, value + slack);
+      }
+    }
+    return value;
+  }
+
+  private ridgeX = 0;
+  private ridgeY = 0;
+  private ridgeValue = 0;
+
+  /**
+   * Tries a step along the ridge at (x, y): perpendicular to the line through its two nearest
+   * boundary points that lie apart (more than a step), both ways; true (with ridgeX, ridgeY,
+   * ridgeValue) when one raises the distance above `value`.
+   */
+  private ridgeStep(x: number, y: number, step: number, value: number): boolean {
+    const l = this.local;
+    let b1 = -1;
+    let d1 = Infinity;
+    for (let p = 0; p < this.localCount; p++) {
+      const d = (l[2 * p]! - x) ** 2 + (l[2 * p + 1]! - y) ** 2;
+      if (d < d1) { d1 = d; b1 = p; }
+    }
+    if (b1 < 0) return false;
+    const x1 = l[2 * b1]!;
+    const y1 = l[2 * b1 + 1]!;
+    let b2 = -1;
+    let d2 = Infinity;
+    for (let p = 0; p < this.localCount; p++) {
+      const px = l[2 * p]!;
+      const py = l[2 * p + 1]!;
+      if ((px - x1) ** 2 + (py - y1) ** 2 <= 4 * step * step) continue;
+      const d = (px - x) ** 2 + (py - y) ** 2;
+      if (d < d2) { d2 = d; b2 = p; }
+    }
+    if (b2 < 0) return false;
+    let tx = -(l[2 * b2 + 1]! - y1);
+    let ty = l[2 * b2]! - x1;
+    const norm = Math.hypot(tx, ty);
+    if (!(norm > 0)) return false;
+    tx /= norm;
+    ty /= norm;
+    for (let sign = -1; sign <= 1; sign += 2) {
+      const px = x + sign * step * tx;
+      const py = y + sign * step * ty;
+      const d = this.nearestLocal(px, py);
+      if (d > value) {
+        this.ridgeX = px;
+        this.ridgeY = py;
+        this.ridgeValue = d;
+        return true;
+      }
+    }
+    return false;
+  }
+
+  private wide = new Float64Array(1024);
+  private wideCount = 0;
+
+  /** Copies the local list into the wide one. */
+  private keepWide(): void {
+    if (this.wide.length < this.local.length) this.wide = new Float64Array(this.local.length);
+    this.wide.set(this.local.subarray(0, 2 * this.localCount));
+    this.wideCount = this.localCount;
+  }
+
+  /** The local list: the wide list's points within `radius` of (x, y). */
+  private filterFromWide(x: number, y: number, radius: number): void {
+    const w = this.wide;
+    const l = this.local;
+    const r2 = radius * radius;
+    let kept = 0;
+    for (let p = 0; p < this.wideCount; p++) {
+      const px = w[2 * p]!;
+      const py = w[2 * p + 1]!;
+      if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
+      l[2 * kept] = px;
+      l[2 * kept + 1] = py;
+      kept++;
+    }
+    this.localCount = kept;
+  }
+
+  private local = new Float64Array(1024);
+  private localCount = 0;
+
+  /** Boundary points within `radius` of (x, y), into the local list (every point when the radius covers the grid). */
+  private gatherLocal(x: number, y: number, radius: number): void {
+    const grid = this.grid!;
+    const { nx, ny, h } = grid;
+    const b = this.boundary;
+    const start = this.bucketStart;
+    const order = this.bucketOrder;
+    const r2 = radius * radius;
+    const i0 = Math.max(Math.floor((x - radius - grid.x0) / h), 0);
+    const i1 = Math.min(Math.floor((x + radius - grid.x0) / h), nx - 1);
+    const j0 = Math.max(Math.floor((y - radius - grid.y0) / h), 0);
+    const j1 = Math.min(Math.floor((y + radius - grid.y0) / h), ny - 1);
+    this.localCount = 0;
+    for (let j = j0; j <= j1; j++) {
+      for (let i = i0; i <= i1; i++) {
+        const c = j * nx + i;
+        for (let q = start[c]!; q < start[c + 1]!; q++) {
+          const p = order[q]!;
+          const px = b[2 * p]!;
+          const py = b[2 * p + 1]!;
+          if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
+          if (2 * this.localCount + 2 > this.local.length) {
+            const grown = new Float64Array(this.local.length * 2);
+            grown.set(this.local);
+            this.local = grown;
+          }
+          this.local[2 * this.localCount] = px;
+          this.local[2 * this.localCount + 1] = py;
+          this.localCount++;
+        }
+      }
+    }
+  }
+
+  /** Distance (m) from (x, y) to the nearest point of the local list (Infinity when it is empty). */
+  private nearestLocal(x: number, y: number): number {
+    const l = this.local;
+    let bestSq = Infinity;
+    for (let p = 0; p < this.localCount; p++) {
+      const dx = l[2 * p]! - x;
+      const dy = l[2 * p + 1]! - y;
+      const d = dx * dx + dy * dy;
+      if (d < bestSq) bestSq = d;
+    }
+    return Math.sqrt(bestSq);
+  }
+
+  private readonly starts = new Int32Array(8);
+  private readonly searchedFrom = new Int32Array(8);
+  private readonly startScores = new Float64Array(8);
+  private bucketStart = new Int32Array(0);
+  private bucketOrder = new Int32Array(0);
+
+  /** Sorts the boundary points into coarse cells (counting sort). */
+  private bucketBoundary(): void {
+    const grid = this.grid!;
+    const cells = grid.nx * grid.ny;
+    if (this.bucketStart.length < cells + 1) this.bucketStart = new Int32Array(grid.capacity + 1);
+    if (this.bucketOrder.length < this.boundaryCount) this.bucketOrder = new Int32Array(this.boundary.length >> 1);
+    const start = this.bucketStart;
+    start.fill(0, 0, cells + 1);
+    const b = this.boundary;
+    for (let p = 0; p < this.boundaryCount; p++) start[this.cellOf(b[2 * p]!, b[2 * p + 1]!) + 1]!++;
+    for (let c = 0; c < cells; c++) start[c + 1]! += start[c]!;
+    for (let p = 0; p < this.boundaryCount; p++) {
+      const c = this.cellOf(b[2 * p]!, b[2 * p + 1]!);
+      this.bucketOrder[start[c]!++] = p;
+    }
+    // start[c] now holds the end of cell c: shift back to starts.
+    for (let c = cells; c > 0; c--) start[c] = start[c - 1]!;
+    start[0] = 0;
+  }
+
+  private cellOf(x: number, y: number): number {
+    const grid = this.grid!;
+    const i = Math.min(Math.max(Math.floor((x - grid.x0) / grid.h), 0), grid.nx - 1);
+    const j = Math.min(Math.max(Math.floor((y - grid.y0) / grid.h), 0), grid.ny - 1);
+    return j * grid.nx + i;
+  }
+
+  /** Distance (m) from (x, y) to the nearest boundary point: rings of cells until no closer one can exist. */
+  private nearest(x: number, y: number): number {
+    const grid = this.grid!;
+    const { nx, ny, h } = grid;
+    const fi = (x - grid.x0) / h;
+    const fj = (y - grid.y0) / h;
+    const ci = Math.floor(fi);
+    const cj = Math.floor(fj);
+    // Distance from (x, y) to the edge of its own cell: ring r holds no point closer than (r − 1) h + edge.
+    const edge = Math.min(fi - ci, ci + 1 - fi, fj - cj, cj + 1 - fj) * h;
+    const b = this.boundary;
+    const start = this.bucketStart;
+    const order = this.bucketOrder;
+    let bestSq = Infinity;
+    const maxRing = Math.max(nx, ny);
+    for (let r = 0; r <= maxRing; r++) {
+      const reach = r === 0 ? 0 : (r - 1) * h + edge;
+      if (reach * reach >= bestSq) break;
+      for (let j = cj - r; j <= cj + r; j++) {
+        if (j < 0 || j >= ny) continue;
+        const onRow = j === cj - r || j === cj + r;
+        for (let i = ci - r; i <= ci + r; i += onRow || r === 0 ? 1 : 2 * r) {
+          if (i < 0 || i >= nx) continue;
+          const c = j * nx + i;
+          for (let q = start[c]!; q < start[c + 1]!; q++) {
+            const p = order[q]!;
+            const dx = b[2 * p]! - x;
+            const dy = b[2 * p + 1]! - y;
+            const d = dx * dx + dy * dy;
+            if (d < bestSq) bestSq = d;
+          }
+        }
+      }
+    }
+    return Math.sqrt(bestSq);
+  }
+
+  private fullChildren = 0;
+
+  /** One child sub-cell: counts it when wholly inside, lists it when undecided; returns its partial share. */
+  private child(out: CellList, i: number, j: number, a: number, b: number, c: number, d: number): number {
+    if (a >= 0 && b >= 0 && c >= 0 && d >= 0) {
+      this.fullChildren++;
+      return 0;
+    }
+    if (a < 0 && b < 0 && c < 0 && d < 0) return 0;
+    out.push(i, j, a, b, c, d);
+    return 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
+  }
+
+  /** Whether a node of the ring around coarse cell (i, j) lies in the region (masked ≥ 0 there). */
+  private nearRegion(i: number, j: number): boolean {
+    const { nx, ny } = this.grid!;
+    const m = this.masked;
+    for (let jj = Math.max(j - 1, 0); jj <= Math.min(j + 2, ny - 1); jj++) {
+      for (let ii = Math.max(i - 1, 0); ii <= Math.min(i + 2, nx - 1); ii++) if (m[jj * nx + ii]! >= 0) return true;
+    }
+    return false;
+  }
+
+  /**
+   * Area and error from the estimates of levels 0 … level (see the file comment): Richardson's
+   * correction when the last two differences fall by about four (then its size is the error);
+   * otherwise the last estimate, with the larger of the last difference and a quarter of the one before as its error (an
+   * erratic sequence whose last step happens to be small is not taken as converged).
+   */
+  private extrapolate(level: number): void {
+    const est = this.estimates;
+    const last = est[level]!;
+    const d2 = last - est[level - 1]!;
+    this.resultArea = last;
+    if (level >= 2) {
+      const d1 = est[level - 1]! - est[level - 2]!;
+      const ratio = d1 / d2;
+      if (d2 !== 0 && ratio > 2.5 && ratio < 6.5) {
+        this.resultArea = last + d2 / 3;
+        this.resultError = Math.abs(d2) / 3;
+        return;
+      }
+      this.resultError = Math.max(Math.abs(d2), Math.abs(d1) / 4);
+      return;
+    }
+    this.resultError = Math.abs(d2);
+  }
+
+  private resultArea = 0;
+  private resultError = 0;
+
+  /** Zero crossings along the edges of the finest undecided sub-cells of the workspace field. */
+  private collectBoundary(level: number): void {
+    const step = (1 << MAX_LEVEL) >> level;
+    const list = this.current;
+    const grid = this.grid!;
+    this.boundaryCount = 0;
+    for (let c = 0; c < list.count; c++) {
+      const fi = list.at[2 * c]!;
+      const fj = list.at[2 * c + 1]!;
+      const a = list.corners[4 * c]!;
+      const b = list.corners[4 * c + 1]!;
+      const cc = list.corners[4 * c + 2]!;
+      const d = list.corners[4 * c + 3]!;
+      // Bottom and left edges of every cell, plus top and right (shared edges give repeated points; harmless).
+      this.crossing(a, b, fi, fj, step, 0, grid);
+      this.crossing(a, cc, fi, fj, 0, step, grid);
+      this.crossing(cc, d, fi, fj + step, step, 0, grid);
+      this.crossing(b, d, fi + step, fj, 0, step, grid);
+    }
+  }
+
+  private crossing(v: number, w: number, fi: number, fj: number, di: number, dj: number, grid: MarginGrid): void {
+    if ((v >= 0) === (w >= 0)) return;
+    const t = v / (v - w);
+    if (2 * this.boundaryCount + 2 > this.boundary.length) {
+      const grown = new Float64Array(this.boundary.length * 2);
+      grown.set(this.boundary);
+      this.boundary = grown;
+    }
+    this.boundary[2 * this.boundaryCount] = grid.x0 + (fi + t * di) * this.hf;
+    this.boundary[2 * this.boundaryCount + 1] = grid.y0 + (fj + t * dj) * this.hf;
+    this.boundaryCount++;
+  }
+}

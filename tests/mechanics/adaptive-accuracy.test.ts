@@ -12,6 +12,7 @@ import { describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { Evaluator } from '../../src/mechanics/evaluate.js';
+import { errorsRecord } from '../../src/api/design.js';
 import { metricIndex } from '../../src/mechanics/metrics.js';
 import { parseStudyText } from '../../src/study/parse.js';
 import { REPO_ROOT } from '../fixtures/harness.js';
@@ -100,6 +101,15 @@ describe('workspace at the default tolerance against 1000-cell grids', () => {
     // NaN = not estimated (region averages and extremes still carry theirs: regionMetrics.ts).
     expect(fixed.evaluate(d.design).errors?.[metricIndex('workspace_area')]).toBeNaN();
     expect(fixed.evaluate(d.design).errors?.[metricIndex('reachable_area')]).toBeNaN();
+    // evaluate --json: one errors object (errorsRecord). On the fixed grid it holds the region
+    // average's estimate but no area estimate; at a tolerance it holds both (derived here: the
+    // areas carry an estimate only when they are computed to the tolerance, docs/evaluation.md).
+    const atTolerance = evaluatorFor(c, 'tolerance: 0.005');
+    const fixedErrors = errorsRecord(fixed.evaluate(d.design).errors);
+    const adaptiveErrors = errorsRecord(atTolerance.evaluate(d.design).errors);
+    expect(Object.keys(fixedErrors)).toContain('gci');
+    expect(Object.keys(fixedErrors)).not.toContain('workspace_area');
+    for (const name of ['gci', 'reachable_area', 'workspace_area']) expect(adaptiveErrors[name], name).toBeGreaterThanOrEqual(0);
     const alias = evaluatorFor(c, 'area_tolerance: 0.002');
     const named = evaluatorFor(c, 'tolerance: 0.002');
     expect(alias.study.evaluation.tolerance).toBe(0.002);

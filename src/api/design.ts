@@ -111,10 +111,23 @@ export interface EvaluationReport {
   readonly violation: number;
   readonly feasible: boolean;
   /**
-   * Estimated absolute error of the metrics computed to the study's tolerance (SI, by metric name:
-   * reachable_area and workspace_area in m²); absent on a fixed grid (grid_cells without a tolerance).
+   * Estimated absolute error of the metrics that carry one (SI, the metric's unit), from the study's
+   * evaluation.tolerance: region averages and extremes, and reachable_area and workspace_area (m²)
+   * when the areas are computed to the tolerance (absent from here on a fixed grid: grid_cells
+   * without a tolerance). Metrics without an estimate are left out.
    */
-  readonly estimated_errors?: Readonly<Record<string, number>>;
+  readonly errors: Readonly<Record<string, number>>;
+}
+
+/** The metrics that carry an error estimate, by name. */
+export function errorsRecord(errors: Float64Array | undefined): Record<string, number> {
+  const out: Record<string, number> = {};
+  if (!errors) return out;
+  METRICS.forEach((m, i) => {
+    const v = errors[i]!;
+    if (!Number.isNaN(v)) out[m.name] = v;
+  });
+  return out;
 }
 
 export function metricsRecord(metrics: Float64Array): Record<string, number | null> {
@@ -146,7 +159,7 @@ export function evaluationReport(evaluator: Evaluator, choice: DesignChoice, res
     }),
     violation: result.violation,
     feasible: result.feasible,
-    ...(result.estimatedErrors ? { estimated_errors: { ...result.estimatedErrors } } : {}),
+    errors: errorsRecord(result.errors),
   };
 }
 

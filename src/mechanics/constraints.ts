@@ -58,9 +58,9 @@ export interface DesignEvaluation {
   readonly margins: Float64Array;
   /** Total normalised violation Σ max(0, −margin); 0 when feasible. */
   readonly violation: number;
-  /** Estimated absolute error of metrics computed to the study's tolerance (SI, by metric name), when known. */
-  readonly estimatedErrors?: Readonly<Record<string, number>>;
   readonly feasible: boolean;
+  /** Estimated absolute error of each metric (METRICS order, SI, the metric's unit); NaN = not estimated. */
+  readonly errors?: Float64Array;
 }
 
 /** Constraint list of a study: its own constraints plus the drive limits of mechanics §6. */

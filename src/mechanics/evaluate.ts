@@ -77,7 +77,7 @@ class ComparisonEvaluator implements EvaluationPath {
       constraintMin[column] = inner.constraintMin[k]!;
       constraintMax[column] = inner.constraintMax[k]!;
     });
-    return { metrics: inner.metrics, margins, constraintMin, constraintMax, violation: inner.violation, feasible: inner.feasible };
+    return { metrics: inner.metrics, margins, constraintMin, constraintMax, violation: inner.violation, feasible: inner.feasible, ...(inner.errors ? { errors: inner.errors } : {}) };
   }
 
   evaluate(design: ArrayLike<number>): DesignEvaluation {

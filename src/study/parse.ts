@@ -22,6 +22,7 @@ import { checkAccuracyMetricNeeds, parseAccuracySections } from './accuracySecti
 import { buildDriveTrainSetup, fixedDrives } from './driveTrains.js';
 import {
   ARCHITECTURE_PREFIX,
+  DEFAULT_EVALUATION_TOLERANCE,
   type ConstraintSpec,
   type DriveSpec,
   type DriveTrainSetup,
@@ -59,8 +60,11 @@ export const DEFAULT_EVALUATION = {
   taskSamples: 12,
   minInverseCondition: 0.2,
   minTransmissionAngle: (30 * Math.PI) / 180,
-  /** Relative accuracy of area metrics (and region averages and extremes) when no fixed grid is given. */
-  tolerance: 0.005,
+  /**
+   * Relative accuracy of the areas, region averages and region extremes. Areas use it when no fixed
+   * grid is given (see evaluationTolerance); averages and extremes always (this value when absent).
+   */
+  tolerance: DEFAULT_EVALUATION_TOLERANCE,
 } as const;
 
 export const DEFAULT_OPTIMIZER = { algorithm: 'nsga2', population: 100, generations: 100, seed: 1 } as const;

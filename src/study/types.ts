@@ -97,6 +97,12 @@ export type TaskRegion =
   | { readonly shape: 'rectangle'; readonly centreX: number; readonly centreY: number; readonly width: number; readonly height: number }
   | { readonly shape: 'circle'; readonly centreX: number; readonly centreY: number; readonly radius: number };
 
+/**
+ * Default relative tolerance (0.5 %) of the areas, region averages and region extremes; defined here,
+ * without parse.ts's dependencies, so that the evaluator's modules can read it (DEFAULT_EVALUATION uses it).
+ */
+export const DEFAULT_EVALUATION_TOLERANCE = 0.005;
+
 export interface EvaluationSettings {
   /** Grid cells across the longer side of the reachable bounding box. */
   readonly gridCells: number;
@@ -107,9 +113,11 @@ export interface EvaluationSettings {
   /** Minimum transmission angle μ_min, rad. */
   readonly minTransmissionAngle: number;
   /**
-   * Relative accuracy target (dimensionless, e.g. 0.005 = 0.5 %) of the area metrics, from which the
-   * engine picks its sampling (coarse grid plus boundary refinement, see mechanics/adaptive.ts).
-   * Absent when the study fixes grid_cells without giving a tolerance: the fixed grid is used then.
+   * Relative accuracy target (dimensionless, e.g. 0.005 = 0.5 %). Areas: the engine picks its sampling
+   * from it (coarse grid plus boundary refinement, see mechanics/adaptive.ts); absent when the study
+   * fixes grid_cells without giving a tolerance, and the fixed grid is used for the areas then (their
+   * numbers unchanged). Region averages and extremes (regionMetrics.ts) are refined to this value, or
+   * to DEFAULT_EVALUATION.tolerance when it is absent: one setting governs all three.
    */
   readonly tolerance?: number;
   /** Grid window, m: clips the reachable box (required for rails without strokes). Absent = none. */

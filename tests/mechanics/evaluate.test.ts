@@ -247,7 +247,7 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
     evaluation: '{ task_samples: 10 }',
   };
 
-  it('peak_gravity_torque is the largest |τ_g| over the task sample points (11 × 11 lattice, edges included)', () => {
+  it('peak_gravity_torque is the largest |τ_g| over the task region: at least the samples\' (11 × 11 lattice, edges included), within the tolerance of a dense lattice', () => {
     const { study, metrics } = evaluateParts(parts);
     expect(metric(metrics, 'task_coverage')).toBe(1);
     const model = modelOfStudy(study);
@@ -263,11 +263,12 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
       }
     }
     expect(peak1).toBeGreaterThan(0);
-    expect(Math.abs(metric(metrics, 'peak_gravity_torque_1') / peak1 - 1)).toBeLessThan(1e-12);
-    expect(Math.abs(metric(metrics, 'peak_gravity_torque_2') / peak2 - 1)).toBeLessThan(1e-12);
-    expect(metric(metrics, 'peak_gravity_torque')).toBe(Math.max(peak1, peak2));
-    // A 101 × 101 lattice contains those points, so its maximum is at least as large and, the field
-    // being smooth, not much larger (derived).
+    // The samples are points of the region: the region's peak is at least theirs.
+    expect(metric(metrics, 'peak_gravity_torque_1')).toBeGreaterThanOrEqual(peak1 * (1 - 1e-12));
+    expect(metric(metrics, 'peak_gravity_torque_2')).toBeGreaterThanOrEqual(peak2 * (1 - 1e-12));
+    expect(metric(metrics, 'peak_gravity_torque')).toBe(Math.max(metric(metrics, 'peak_gravity_torque_1'), metric(metrics, 'peak_gravity_torque_2')));
+    // A 101 × 101 lattice contains those points; the field being smooth, its maximum is within the
+    // study tolerance (0.5 %) of the region's (derived: spacing 1.6 mm).
     let densePeak = 0;
     for (let j = 0; j <= 100; j++) {
       for (let i = 0; i <= 100; i++) {
@@ -276,11 +277,11 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
         densePeak = Math.max(densePeak, Math.abs(pose.tauG1), Math.abs(pose.tauG2));
       }
     }
-    expect(densePeak).toBeGreaterThanOrEqual(metric(metrics, 'peak_gravity_torque'));
-    expect(metric(metrics, 'peak_gravity_torque')).toBeGreaterThan(0.97 * densePeak);
+    expect(Math.abs(metric(metrics, 'peak_gravity_torque') / densePeak - 1)).toBeLessThan(0.005);
+    expect(densePeak).toBeGreaterThanOrEqual(Math.max(peak1, peak2));
   });
 
-  it('every other per-pose metric is the worst case over the same task samples (definitions in the README, "Metrics")', () => {
+  it('every other per-pose metric is the worst case over the task region: never better than over the samples, within the tolerance of a dense lattice (definitions in the README, "Metrics")', () => {
     const speed = 1.3; // m/s
     const { study, metrics } = evaluateParts({
       ...parts,
@@ -291,10 +292,11 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
     const pose = new FiveBarPose();
     const peakJointTorque = 0.9 * 10 * 3.6; // η N τ_peak of the drive above, N·m
     const encoderStep = (2 * Math.PI) / (4096 * 10); // one count at the joint, rad
+    const worstOn = (n: number): Record<string, number> => {
     const worst = { invCond: Infinity, sine: Infinity, stiffness: Infinity, frequency: Infinity, accel: Infinity, speed1: 0, speed2: 0, step: 0 };
-    for (let j = 0; j <= 10; j++) {
-      for (let i = 0; i <= 10; i++) {
-        expect(solvePose(model, pose, cx - side / 2 + (side * i) / 10, cy - side / 2 + (side * j) / 10)).toBe(PoseStatus.Assembled);
+    for (let j = 0; j <= n; j++) {
+      for (let i = 0; i <= n; i++) {
+        expect(solvePose(model, pose, cx - side / 2 + (side * i) / n, cy - side / 2 + (side * j) / n)).toBe(PoseStatus.Assembled);
         poseDynamics(model, pose);
         worst.invCond = Math.min(worst.invCond, pose.inverseCondition);
         worst.sine = Math.min(worst.sine, Math.abs(pose.s1), Math.abs(pose.s2), Math.abs(pose.detA));
@@ -313,18 +315,20 @@ describe('aggregated per-pose metrics, recomputed directly', () => {
         worst.step = Math.max(worst.step, ...stepSingular);
       }
     }
-    const close = (name: string, expected: number): void => {
-      expect(Math.abs(metric(metrics, name) / expected - 1), `${name}: ${metric(metrics, name)} vs ${expected}`).toBeLessThan(1e-9);
+    return { min_inv_condition: worst.invCond, min_transmission_angle: Math.asin(worst.sine), min_stiffness: worst.stiffness, bandwidth: worst.frequency, accel_capability: worst.accel, peak_joint_speed_1: worst.speed1, peak_joint_speed_2: worst.speed2, peak_joint_speed: Math.max(worst.speed1, worst.speed2), resolution: worst.step };
     };
-    close('min_inv_condition', worst.invCond);
-    close('min_transmission_angle', Math.asin(worst.sine));
-    close('min_stiffness', worst.stiffness);
-    close('bandwidth', worst.frequency);
-    close('accel_capability', worst.accel);
-    close('peak_joint_speed_1', worst.speed1);
-    close('peak_joint_speed_2', worst.speed2);
-    close('peak_joint_speed', Math.max(worst.speed1, worst.speed2));
-    close('resolution', worst.step);
+    // The samples (11 × 11, edges included) are points of the region, so the region's worst is at least
+    // as bad; a 201 × 201 lattice is within a small fraction of the true worst for these smooth fields
+    // (derived: spacing 0.8 mm), and the refined worst agrees with it to the study tolerance (0.5 %).
+    const onSamples = worstOn(10);
+    const dense = worstOn(200);
+    for (const [name, sampled] of Object.entries(onSamples)) {
+      const got = metric(metrics, name);
+      const larger = name.startsWith('peak_') || name === 'resolution';
+      if (larger) expect(got, name).toBeGreaterThanOrEqual(sampled * (1 - 1e-12));
+      else expect(got, name).toBeLessThanOrEqual(sampled * (1 + 1e-12));
+      expect(Math.abs(got / dense[name]! - 1), `${name}: ${got} vs ${dense[name]}`).toBeLessThan(0.005);
+    }
   });
 
   it('gci is the area mean of 1/κ over a rectangular task region', () => {

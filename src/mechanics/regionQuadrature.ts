@@ -1,0 +1,535 @@
+/**
+ * Area integrals over a region given by a level function on a lattice of nodes, refined where the
+ * integrand or the boundary is not resolved. Knows nothing about mechanisms: a `LevelField` answers
+ * for one point of the parameter plane (its level margin, ≥ 0 inside; the integrand there).
+ *
+ * Rule on one cell (as the workspace area does): two triangles split along the (0,0)–(1,1) diagonal;
+ * in each, the level margin and the integrand are linear between the vertices, so the inside part is
+ * a triangle or a quadrilateral cut at the margin's zero crossings on the edges, and the integral of
+ * the linear integrand over it is exact (fan of triangles, area × mean of the vertex values). A
+ * crossing between two points where the margin is continuous is interpolated; where one end is
+ * outside the reach of the mechanism (the margin there is only a code), it is found by bisection
+ * along the edge with the field itself.
+ *
+ * Adaptivity (classical local refinement): a candidate cell's rule is compared with the sum of its
+ * four children's rules (five new points); when the difference exceeds the cell's share of the
+ * error budget the children are refined in turn, each with a quarter of the share. The accepted
+ * value is the finer sum; half the differences, summed, is the error estimate (Richardson: the finer
+ * sum's error is the difference over 2^p − 1 for a rule of order p; p = 2 for smooth cells, about
+ * 1.5 at the square-root edges of singular boundaries).
+ */
+
+/** One point of the parameter plane, answered by the caller. */
+export interface LevelField {
+  /**
+   * Solves the point (u, v) and returns its level margin (≥ 0 inside). Writes the integrand into
+   * out[0] (finite wherever the margin is continuous) and into out[1] 1 when the margin is a
+   * continuous function at this point, 0 when it is only a code (nothing reachable there).
+   */
+  sample(u: number, v: number, out: Float64Array): number;
+}
+
+/** Values at the nodes of a lattice: stride 3 per node (margin, integrand, continuous flag). */
+export interface NodeLattice {
+  readonly nu: number;
+  readonly nv: number;
+  readonly u0: number;
+  readonly v0: number;
+  readonly hu: number;
+  readonly hv: number;
+  /** (margin, integrand, continuous) per node, row-major (index = j * nu + i). */
+  readonly values: Float64Array;
+  /** Per node: 0 when a cell at this node must not be refined (another region's node), else 1. */
+  readonly refinable: Uint8Array;
+}
+
+export interface RegionIntegral {
+  /** ∫ f over the inside part. */
+  integral: number;
+  /** Area of the inside part (parameter plane units²). */
+  area: number;
+  /** Estimated absolute errors of both. */
+  integralError: number;
+  areaError: number;
+  /** Points the refinement solved. */
+  samples: number;
+}
+
+/** Bisection steps along an edge whose outer end is outside the reach (the crossing to 1/2⁸ of the edge). */
+const BISECTION_STEPS = 8;
+const STRIDE = 3;
+/** Per depth: 3 × 3 points. */
+const LEVEL = 9 * STRIDE;
+/** Slots of the corners of a 3 × 3 block. */
+const CORNER_SLOTS = [0, 2, 6, 8] as const;
+/** A queued cell: u, v, hu, hv, rule (2), error (2), children's rules (8), its 3 × 3 block. */
+const RECORD = 16 + LEVEL;
+
+export class RegionQuadrature {
+  readonly maxDepth: number;
+  private readonly levels: Float64Array;
+  private readonly out = new Float64Array(2);
+  private readonly childI: Float64Array;
+  private readonly childA: Float64Array;
+  /** Polygon scratch: up to 4 vertices (u, v, f). */
+  private readonly poly = new Float64Array(12);
+  private field: LevelField | null = null;
+  private ruleIntegral = 0;
+  private ruleArea = 0;
+  private samples = 0;
+  private sampleCap = 0;
+  private integralError = 0;
+  private areaError = 0;
+  private integralSum = 0;
+  private areaSum = 0;
+  private cellMarks = new Uint8Array(0);
+  private cellRuleI = new Float64Array(0);
+  private cellRuleA = new Float64Array(0);
+  private order = new Int32Array(0);
+  private key = new Float64Array(0);
+  /** Cells waiting for refinement on this level and the next (RECORD floats each). */
+  private queue = new Float64Array(0);
+  private nextQueue = new Float64Array(0);
+
+  constructor(maxDepth = 6) {
+    this.maxDepth = maxDepth;
+    this.levels = new Float64Array(2 * LEVEL);
+    this.childI = new Float64Array(4);
+    this.childA = new Float64Array(4);
+  }
+
+  /**
+   * Integral of the field's integrand over {margin ≥ 0} on the lattice's cells, refined to a
+   * relative tolerance (of the integral and of the area). `candidates`: 'all' tests every cell with
+   * an inside corner (smooth integrands on a fixed domain); 'boundary' tests cells cut by the
+   * boundary and their neighbours, and estimates the other cells' error from the lattice itself.
+   * `sampleCap`: most points the refinement may solve.
+   */
+  integrate(lattice: NodeLattice, field: LevelField, tolerance: number, candidates: 'all' | 'boundary', sampleCap: number): RegionIntegral {
+    this.field = field;
+    this.samples = 0;
+    this.sampleCap = sampleCap;
+    this.integralError = 0;
+    this.areaError = 0;
+    const cells = (lattice.nu - 1) * (lattice.nv - 1);
+    if (this.cellMarks.length < cells) {
+      this.cellMarks = new Uint8Array(cells);
+      this.cellRuleI = new Float64Array(cells);
+      this.cellRuleA = new Float64Array(cells);
+    }
+    this.markCells(lattice, candidates);
+    let integral = 0;
+    let area = 0;
+    const { nu, nv } = lattice;
+    for (let j = 0; j + 1 < nv; j++) {
+      for (let i = 0; i + 1 < nu; i++) {
+        const c = j * (nu - 1) + i;
+        if (this.cellMarks[c] === 0) continue;
+        this.loadCorners(lattice, i, j, 0);
+        this.cellRule(lattice.u0 + i * lattice.hu, lattice.v0 + j * lattice.hv, lattice.hu, lattice.hv, 0, 2);
+        this.cellRuleI[c] = this.ruleIntegral;
+        this.cellRuleA[c] = this.ruleArea;
+        integral += this.ruleIntegral;
+        area += this.ruleArea;
+      }
+    }
+    // The interior's estimate may use a share of the tolerance by area; steeper blocks are refined.
+    const cellShare = (lattice.hu * lattice.hv) / Math.max(area, 1e-300);
+    if (candidates === 'boundary') this.interiorErrorEstimate(lattice, 0.5 * tolerance * Math.abs(integral) * cellShare);
+    this.integralSum = integral;
+    this.areaSum = area;
+    this.refineLevels(lattice, Math.max(tolerance * Math.abs(integral), 1e-300), Math.max(tolerance * area, 1e-300));
+    return { integral: this.integralSum, area: this.areaSum, integralError: this.integralError, areaError: this.areaError, samples: this.samples };
+  }
+
+  /** Marks: 0 nothing inside, 1 counted by its rule only, 2 also tested by refinement. Returns the tested count. */
+  private markCells(lattice: NodeLattice, candidates: 'all' | 'boundary'): number {
+    const { nu, nv, values, refinable } = lattice;
+    const marks = this.cellMarks;
+    const cu = nu - 1;
+    marks.fill(0, 0, cu * (nv - 1));
+    for (let j = 0; j + 1 < nv; j++) {
+      for (let i = 0; i + 1 < nu; i++) {
+        const k = j * nu + i;
+        let inside = 0;
+        if (values[k * STRIDE]! >= 0) inside++;
+        if (values[(k + 1) * STRIDE]! >= 0) inside++;
+        if (values[(k + nu) * STRIDE]! >= 0) inside++;
+        if (values[(k + nu + 1) * STRIDE]! >= 0) inside++;
+        if (inside === 0) continue;
+        marks[j * cu + i] = candidates === 'all' || inside < 4 ? 3 : 1;
+      }
+    }
+    // Cut cells are 3; a cell next to a cut cell (8-neighbourhood) is tested too when the boundary rule is asked for.
+    let count = 0;
+    for (let j = 0; j + 1 < nv; j++) {
+      for (let i = 0; i + 1 < nu; i++) {
+        const c = j * cu + i;
+        if (marks[c] === 0) continue;
+        let near = marks[c] === 3 || marks[c] === 5;
+        if (near) marks[c] = 5;
+        for (let dj = -1; dj <= 1 && !near; dj++) {
+          for (let di = -1; di <= 1; di++) {
+            const ii = i + di;
+            const jj = j + dj;
+            if (ii >= 0 && jj >= 0 && ii < cu && jj + 1 < nv && (marks[jj * cu + ii] === 3 || marks[jj * cu + ii] === 5)) { near = true; break; }
+          }
+        }
+        const k = j * nu + i;
+        const canRefine = refinable[k]! && refinable[k + 1]! && refinable[k + nu]! && refinable[k + nu + 1]!;
+        if (marks[c] === 5) {
+          if (!canRefine) marks[c] = 6;
+        } else {
+          marks[c] = near && canRefine ? 4 : 1;
+        }
+      }
+    }
+    for (let c = 0; c < cu * (nv - 1); c++) {
+      const m = marks[c]!;
+      if (m === 4 || m === 5) { marks[c] = 2; count++; }
+      else if (m === 6) marks[c] = 1;
+    }
+    return count;
+  }
+
+  /**
+   * Error of the cells that are not tested: for 2 × 2 blocks of inside cells, the difference between
+   * the rule on the block and on its four cells, divided by 3 (Richardson, O(h²) rule). A block whose
+   * estimate exceeds its cells' share of the budget is marked for testing instead.
+   */
+  private interiorErrorEstimate(lattice: NodeLattice, cellBudget: number): void {
+    const { nu, nv, values } = lattice;
+    const cu = nu - 1;
+    const area = lattice.hu * lattice.hv;
+    for (let j = 0; j + 2 < nv; j += 2) {
+      for (let i = 0; i + 2 < nu; i += 2) {
+        let ok = true;
+        for (let dj = 0; dj < 2 && ok; dj++) for (let di = 0; di < 2; di++) if (this.cellMarks[(j + dj) * cu + i + di] !== 1) { ok = false; break; }
+        if (!ok) continue;
+        let fine = 0;
+        for (let dj = 0; dj <= 2; dj++) {
+          for (let di = 0; di <= 2; di++) {
+            const w = (di === 1 ? 2 : 1) * (dj === 1 ? 2 : 1);
+            fine += w * values[((j + dj) * nu + i + di) * STRIDE + 1]!;
+          }
+        }
+        fine *= area / 4;
+        const f = (di: number, dj: number): number => values[((j + dj) * nu + i + di) * STRIDE + 1]!;
+        const coarse = area * (f(0, 0) + f(2, 0) + f(0, 2) + f(2, 2));
+        const estimate = Math.abs(fine - coarse) / 3;
+        if (estimate > 4 * cellBudget) continue;
+        this.integralError += estimate;
+        for (let dj = 0; dj < 2; dj++) for (let di = 0; di < 2; di++) this.cellMarks[(j + dj) * cu + i + di] = 8;
+      }
+    }
+    // Inside cells of steep blocks, and those in no whole block, are tested like boundary cells, each
+    // with its area's budget (mark 7); estimated ones go back to 1.
+    for (let c = 0; c < cu * (nv - 1); c++) {
+      if (this.cellMarks[c] === 1) this.cellMarks[c] = 7;
+      else if (this.cellMarks[c] === 8) this.cellMarks[c] = 1;
+    }
+  }
+
+  /** Copies the lattice node values of cell (i, j) into the corners of depth `d`'s 3 × 3 block. */
+  private loadCorners(lattice: NodeLattice, i: number, j: number, d: number): void {
+    const { nu, values } = lattice;
+    const base = d * LEVEL;
+    const put = (slot: number, node: number): void => {
+      this.levels[base + slot * STRIDE] = values[node * STRIDE]!;
+      this.levels[base + slot * STRIDE + 1] = values[node * STRIDE + 1]!;
+      this.levels[base + slot * STRIDE + 2] = values[node * STRIDE + 2]!;
+    };
+    const k = j * nu + i;
+    put(0, k);
+    put(2, k + 1);
+    put(6, k + nu);
+    put(8, k + nu + 1);
+  }
+
+  private sampleInto(u: number, v: number, offset: number): void {
+    const m = this.field!.sample(u, v, this.out);
+    this.samples++;
+    this.levels[offset] = m;
+    this.levels[offset + 1] = this.out[0]!;
+    this.levels[offset + 2] = this.out[1]!;
+  }
+
+  /**
+   * Breadth-first, greedy refinement. Each level: every queued cell (a candidate of the lattice, or a
+   * child of a cell refined on the level before) gets its five inner points and the rule on its four
+   * children, the difference being its error; then the cells with the largest errors (relative to the
+   * targets) are split, until the errors left — those accepted so far plus this level's unsplit ones —
+   * fit the targets. Level by level, so that a sample cap, when it binds, leaves equal depths.
+   */
+  private refineLevels(lattice: NodeLattice, targetI: number, targetA: number): void {
+    const { nu, nv, hu, hv } = lattice;
+    const cu = nu - 1;
+    let count = 0;
+    for (let c = 0; c < cu * (nv - 1); c++) {
+      const mark = this.cellMarks[c]!;
+      if (mark !== 2 && mark !== 7) continue;
+      const i = c % cu;
+      const j = (c - i) / cu;
+      this.loadCorners(lattice, i, j, 0);
+      count = this.enqueue(0, count, lattice.u0 + i * hu, lattice.v0 + j * hv, hu, hv, this.cellRuleI[c]!, this.cellRuleA[c]!, 0.5 * Math.abs(this.cellRuleI[c]!), 0.5 * Math.abs(this.cellRuleA[c]!), false);
+    }
+    for (let depth = 0; count > 0; depth++) {
+      const tested = this.testLevel(count, targetI, targetA);
+      const order = this.order.subarray(0, tested);
+      const key = this.key;
+      order.sort((a, b) => key[b]! - key[a]!);
+      // This level may use half of what is left of each target; the split cells' children get the rest.
+      const allowI = this.integralError + 0.5 * Math.max(targetI - this.integralError, 0);
+      const allowA = this.areaError + 0.5 * Math.max(targetA - this.areaError, 0);
+      let leftI = this.integralError;
+      let leftA = this.areaError;
+      for (let t = 0; t < tested; t++) {
+        leftI += this.queue[order[t]! * RECORD + 6]!;
+        leftA += this.queue[order[t]! * RECORD + 7]!;
+      }
+      let next = 0;
+      for (let t = 0; t < tested; t++) {
+        const r = order[t]!;
+        const at = r * RECORD;
+        const q = this.queue;
+        if ((leftI > allowI || leftA > allowA) && depth + 1 < this.maxDepth) {
+          leftI -= q[at + 6]!;
+          leftA -= q[at + 7]!;
+          next = this.split(at, next);
+          continue;
+        }
+        this.integralError += q[at + 6]!;
+        this.areaError += q[at + 7]!;
+      }
+      const swap = this.queue;
+      this.queue = this.nextQueue;
+      this.nextQueue = swap;
+      count = next;
+    }
+  }
+
+  /**
+   * Tests the `count` queued cells: inner points, children's rules, errors (into the records), the
+   * sums moved to the finer rules. Cells beyond the sample cap keep their share of their parent's
+   * error. Returns the number tested (their record numbers in `order`, their weighted errors in `key`).
+   */
+  private testLevel(count: number, targetI: number, targetA: number): number {
+    if (this.order.length < count) {
+      this.order = new Int32Array(2 * count);
+      this.key = new Float64Array(2 * count);
+    }
+    let tested = 0;
+    for (let r = 0; r < count; r++) {
+      const at = r * RECORD;
+      const q = this.queue;
+      if (this.samples + 5 > this.sampleCap) {
+        this.integralError += q[at + 6]!;
+        this.areaError += q[at + 7]!;
+        continue;
+      }
+      for (let k = 0; k < LEVEL; k++) this.levels[k] = q[at + 16 + k]!;
+      const u = q[at]!, v = q[at + 1]!, cellU = q[at + 2]!, cellV = q[at + 3]!;
+      this.sampleMidpoints(u, v, cellU, cellV);
+      this.childRules(u, v, cellU, cellV);
+      const fineI = this.childI[0]! + this.childI[1]! + this.childI[2]! + this.childI[3]!;
+      const fineA = this.childA[0]! + this.childA[1]! + this.childA[2]! + this.childA[3]!;
+      this.integralSum += fineI - q[at + 4]!;
+      this.areaSum += fineA - q[at + 5]!;
+      // Error of the finer sum: (coarse − fine)/(2^p − 1) for a rule of order p; p ≥ 1.5 near the
+      // square-root edges of singular boundaries and 2 elsewhere: half the difference.
+      q[at + 6] = 0.5 * Math.abs(fineI - q[at + 4]!);
+      q[at + 7] = 0.5 * Math.abs(fineA - q[at + 5]!);
+      for (let c = 0; c < 4; c++) {
+        q[at + 8 + c] = this.childI[c]!;
+        q[at + 12 + c] = this.childA[c]!;
+      }
+      for (let k = 0; k < LEVEL; k++) q[at + 16 + k] = this.levels[k]!;
+      this.key[r] = Math.max(q[at + 6]! / targetI, q[at + 7]! / targetA);
+      this.order[tested++] = r;
+    }
+    return tested;
+  }
+
+  /** Queues the four children of the tested cell at record offset `at` for the next level. */
+  private split(at: number, next: number): number {
+    const q = this.queue;
+    for (let k = 0; k < LEVEL; k++) this.levels[k] = q[at + 16 + k]!;
+    const u = q[at]!, v = q[at + 1]!;
+    const hu2 = q[at + 2]! / 2;
+    const hv2 = q[at + 3]! / 2;
+    const shareI = q[at + 6]! / 4;
+    const shareA = q[at + 7]! / 4;
+    for (let c = 0; c < 4; c++) {
+      const ci = c & 1;
+      const cj = c >> 1;
+      for (let corner = 0; corner < 4; corner++) {
+        const from = ((cj + (corner >> 1)) * 3 + ci + (corner & 1)) * STRIDE;
+        const to = LEVEL + ((corner >> 1) * 6 + (corner & 1) * 2) * STRIDE;
+        for (let k = 0; k < STRIDE; k++) this.levels[to + k] = this.levels[from + k]!;
+      }
+      next = this.enqueue(1, next, u + ci * hu2, v + cj * hv2, hu2, hv2, this.queue[at + 8 + c]!, this.queue[at + 12 + c]!, shareI, shareA, true);
+    }
+    return next;
+  }
+
+  /**
+   * Appends a cell whose corners are in block `block` (slots 0, 2, 6, 8) to the current queue, or to
+   * the next level's queue when `toNext`: u, v, hu, hv, its rule (2), its error or share of its
+   * parent's (2), its children's rules (8), its 3 × 3 block. Returns the new count of that queue.
+   */
+  private enqueue(block: number, count: number, u: number, v: number, hu: number, hv: number, ruleI: number, ruleA: number, shareI: number, shareA: number, toNext: boolean): number {
+    let q = toNext ? this.nextQueue : this.queue;
+    if ((count + 1) * RECORD > q.length) {
+      const grown = new Float64Array(Math.max(2 * q.length, 64 * RECORD));
+      grown.set(q);
+      q = grown;
+      if (toNext) this.nextQueue = grown;
+      else this.queue = grown;
+    }
+    const at = count * RECORD;
+    q[at] = u; q[at + 1] = v; q[at + 2] = hu; q[at + 3] = hv;
+    q[at + 4] = ruleI; q[at + 5] = ruleA; q[at + 6] = shareI; q[at + 7] = shareA;
+    for (const slot of CORNER_SLOTS) {
+      for (let k = 0; k < STRIDE; k++) q[at + 16 + slot * STRIDE + k] = this.levels[block * LEVEL + slot * STRIDE + k]!;
+    }
+    return count + 1;
+  }
+
+  /** Samples the five inner points of the cell held in block 0 (slots 1, 3, 4, 5, 7). */
+  private sampleMidpoints(u: number, v: number, hu: number, hv: number): void {
+    const hu2 = hu / 2;
+    const hv2 = hv / 2;
+    this.sampleInto(u + hu2, v, 1 * STRIDE);
+    this.sampleInto(u, v + hv2, 3 * STRIDE);
+    this.sampleInto(u + hu2, v + hv2, 4 * STRIDE);
+    this.sampleInto(u + hu, v + hv2, 5 * STRIDE);
+    this.sampleInto(u + hu2, v + hv, 7 * STRIDE);
+  }
+
+  /** Rules of the four children of the cell held in block 0, into childI/childA[0 … 3]. */
+  private childRules(u: number, v: number, hu: number, hv: number): void {
+    const hu2 = hu / 2;
+    const hv2 = hv / 2;
+    for (let c = 0; c < 4; c++) {
+      const ci = c & 1;
+      const cj = c >> 1;
+      this.cellRuleAt(u + ci * hu2, v + cj * hv2, hu2, hv2, (cj * 3 + ci) * STRIDE, 1, 3);
+      this.childI[c] = this.ruleIntegral;
+      this.childA[c] = this.ruleArea;
+    }
+  }
+
+  /** Rule of the cell whose corners are slots 0, 2, 6, 8 of block d (`step` 2 between them). */
+  private cellRule(u: number, v: number, hu: number, hv: number, d: number, step: number): void {
+    this.cellRuleAt(u, v, hu, hv, d * LEVEL, step, step * 3);
+  }
+
+  /**
+   * Rule of a cell with corners at `at` (lower left), `at + right·STRIDE` and `at + up·STRIDE` in a
+   * 3 × 3 block (right: 1 or 2 slots; up: 3 or 6 slots).
+   */
+  private cellRuleAt(u: number, v: number, hu: number, hv: number, at: number, right: number, up: number): void {
+    const p00 = at;
+    const p10 = at + right * STRIDE;
+    const p01 = at + up * STRIDE;
+    const p11 = p01 + right * STRIDE;
+    const L = this.levels;
+    const inside = (p: number): boolean => L[p]! >= 0;
+    const a = inside(p00), b = inside(p10), c = inside(p01), e = inside(p11);
+    if (a && b && c && e) {
+      this.ruleIntegral = 0.25 * hu * hv * (L[p00 + 1]! + L[p10 + 1]! + L[p01 + 1]! + L[p11 + 1]!);
+      this.ruleArea = hu * hv;
+      return;
+    }
+    if (!a && !b && !c && !e) {
+      this.ruleIntegral = 0;
+      this.ruleArea = 0;
+      return;
+    }
+    let integral = 0;
+    let area = 0;
+    this.triangle(u, v, p00, u + hu, v, p10, u + hu, v + hv, p11);
+    integral += this.ruleIntegral;
+    area += this.ruleArea;
+    this.triangle(u, v, p00, u + hu, v + hv, p11, u, v + hv, p01);
+    this.ruleIntegral += integral;
+    this.ruleArea += area;
+  }
+
+  /** Inside part of one triangle (vertices with their block offsets), exact for linear margin and integrand. */
+  private triangle(u1: number, v1: number, p1: number, u2: number, v2: number, p2: number, u3: number, v3: number, p3: number): void {
+    let n = this.edge(u1, v1, p1, u2, v2, p2, 0);
+    n = this.edge(u2, v2, p2, u3, v3, p3, n);
+    n = this.edge(u3, v3, p3, u1, v1, p1, n);
+    const poly = this.poly;
+    let integral = 0;
+    let area = 0;
+    for (let k = 1; k + 1 < n; k++) {
+      const ax = poly[3 * k]! - poly[0]!;
+      const ay = poly[3 * k + 1]! - poly[1]!;
+      const bx = poly[3 * k + 3]! - poly[0]!;
+      const by = poly[3 * k + 4]! - poly[1]!;
+      const t = 0.5 * Math.abs(ax * by - ay * bx);
+      area += t;
+      integral += (t * (poly[2]! + poly[3 * k + 2]! + poly[3 * k + 5]!)) / 3;
+    }
+    this.ruleIntegral = integral;
+    this.ruleArea = area;
+  }
+
+  /** Walks one edge a → b of a triangle: adds a when inside, then the crossing when the sign changes. Returns the vertex count. */
+  private edge(ua: number, va: number, pa: number, ub: number, vb: number, pb: number, n: number): number {
+    const L = this.levels;
+    const poly = this.poly;
+    const ina = L[pa]! >= 0;
+    const inb = L[pb]! >= 0;
+    if (ina) {
+      poly[3 * n] = ua;
+      poly[3 * n + 1] = va;
+      poly[3 * n + 2] = L[pa + 1]!;
+      n++;
+    }
+    if (ina !== inb) {
+      if (ina) this.crossing(pa, pb, ua, va, ub, vb, 3 * n);
+      else this.crossing(pb, pa, ub, vb, ua, va, 3 * n);
+      n++;
+    }
+    return n;
+  }
+
+  /** Zero crossing of the margin on the edge from an inside point to an outside one: (u, v, f) into poly at `slot`. */
+  private crossing(pin: number, pout: number, uin: number, vin: number, uout: number, vout: number, slot: number): void {
+    const L = this.levels;
+    const poly = this.poly;
+    const mIn = L[pin]!;
+    const mOut = L[pout]!;
+    const fIn = L[pin + 1]!;
+    const fOut = L[pout + 1]!;
+    if (L[pin + 2]! > 0 && L[pout + 2]! > 0) {
+      const t = mIn / (mIn - mOut);
+      poly[slot] = uin + t * (uout - uin);
+      poly[slot + 1] = vin + t * (vout - vin);
+      poly[slot + 2] = Number.isFinite(fOut) ? fIn + t * (fOut - fIn) : fIn;
+      return;
+    }
+    // The outer end is a code, not a margin: bisection with the field (the inside end's integrand is kept).
+    let lo = 0;
+    let hi = 1;
+    let f = fIn;
+    for (let s = 0; s < BISECTION_STEPS && this.samples < this.sampleCap; s++) {
+      const t = 0.5 * (lo + hi);
+      const m = this.field!.sample(uin + t * (uout - uin), vin + t * (vout - vin), this.out);
+      this.samples++;
+      if (m >= 0) {
+        lo = t;
+        f = this.out[0]!;
+      } else {
+        hi = t;
+      }
+    }
+    const t = 0.5 * (lo + hi);
+    poly[slot] = uin + t * (uout - uin);
+    poly[slot + 1] = vin + t * (vout - vin);
+    poly[slot + 2] = f;
+  }
+}

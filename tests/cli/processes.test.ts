@@ -147,6 +147,12 @@ describe('a store in a read-only folder', () => {
       console.log(`skipped: needs root and runuser to act as user nobody (${probe.error?.message ?? probe.stderr ?? 'not root'})`);
       context.skip();
     }
+    // The checkout itself must be readable by nobody (a clone inside a private 0700 temporary folder is not).
+    const reach = spawnSync('runuser', ['-u', 'nobody', '--', process.execPath, CLI_ENTRY, '--version'], { cwd: '/', encoding: 'utf8' });
+    if (reach.status !== 0) {
+      console.log(`skipped: user nobody cannot run ${CLI_ENTRY} (a folder above the checkout is private): ${reach.stderr.split('\n').find((l) => l.startsWith('Error')) ?? reach.stderr.trim()}`);
+      context.skip();
+    }
     const folder = join(directory, 'readonly');
     mkdirSync(folder);
     const db = join(folder, 'small.db');

@@ -45,7 +45,7 @@
 
 import { crowdedTournament, DesignSet, differentialMove, KIND_CATEGORICAL, mutate, mutateVariable, repair, type DesignLayout } from './operators.js';
 import { type ArchiveMember, type SerializedArchive, type SerializedEvaluation } from './archive.js';
-import { MAX_DUPLICATE_ATTEMPTS, PopulationOptimizer, type Individual } from './population.js';
+import { MAX_DUPLICATE_ATTEMPTS, mutateDistinct, PopulationOptimizer, type Individual } from './population.js';
 import type { SeededRandom, RandomState } from './random.js';
 import { crowdingDistance } from './sorting.js';
 import { validateProblem, type BatchEvaluate, type Evaluation, type ProblemSpec } from './types.js';
@@ -374,14 +374,7 @@ export class Nsga2 extends PopulationOptimizer {
       const [a, b] = distinctPair(parents.length, base, random);
       const child = new Float64Array(layout.count);
       differentialMove(parents[base]!.design, parents[a]!.design, parents[b]!.design, differentialWeight, child, layout, random);
-      mutate(child, layout, mutationProbability, mutationEta, random);
-      repair(child, layout);
-      for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
-        if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
-        repair(child, layout);
-      }
-      seen.add(child);
-      offspring.push(child);
+      offspring.push(mutateDistinct(child, layout, seen, mutationProbability, mutationEta, random));
     }
     return offspring;
   }

@@ -27,6 +27,21 @@ import { sanitizeEvaluation, validateProblem, type Evaluation, type ProblemSpec 
 /** Maximum re-mutations of an offspring that duplicates an existing design. */
 export const MAX_DUPLICATE_ATTEMPTS = 20;
 
+/**
+ * Polynomial mutation and repair of a new child, mutated again (at least one variable each time) while
+ * it repeats a design already in `seen`, up to MAX_DUPLICATE_ATTEMPTS; the child joins `seen`.
+ */
+export function mutateDistinct(child: Float64Array, layout: DesignLayout, seen: DesignSet, mutationProbability: number, mutationEta: number, random: SeededRandom): Float64Array {
+  mutate(child, layout, mutationProbability, mutationEta, random);
+  repair(child, layout);
+  for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
+    if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
+    repair(child, layout);
+  }
+  seen.add(child);
+  return child;
+}
+
 /** A told design with its evaluation and its objectives in minimisation form. */
 export interface Individual {
   design: Float64Array;
@@ -303,14 +318,7 @@ export abstract class PopulationOptimizer {
       crossover(first, second, child1, child2, layout, crossoverProbability, crossoverEta, random, scratchPair);
       for (const child of [child1, child2]) {
         if (offspring.length === populationSize) break;
-        mutate(child, layout, mutationProbability, mutationEta, random);
-        repair(child, layout);
-        for (let attempt = 0; attempt < MAX_DUPLICATE_ATTEMPTS && seen.has(child); attempt++) {
-          if (mutate(child, layout, mutationProbability, mutationEta, random) === 0) mutateVariable(child, random.int(layout.count), layout, mutationEta, random);
-          repair(child, layout);
-        }
-        seen.add(child);
-        offspring.push(child);
+        offspring.push(mutateDistinct(child, layout, seen, mutationProbability, mutationEta, random));
       }
     }
     return offspring;

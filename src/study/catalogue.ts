@@ -59,7 +59,7 @@ export function parseCsv(text: string): string[][] {
  * Raw option records of a catalogue (values still unparsed), keyed by field name.
  * `buildDrive` in parse.ts turns each into a DriveSpec with units checked.
  */
-export function catalogueRecords(text: string, path: string): Record<string, unknown>[] {
+export function catalogueRecords(text: string, path: string, fields: readonly string[] = CATALOGUE_FIELDS): Record<string, unknown>[] {
   if (/\.csv$/i.test(path)) {
     let rows: string[][];
     try {
@@ -71,8 +71,8 @@ export function catalogueRecords(text: string, path: string): Record<string, unk
     if (rows.length < 2) throw new CatalogueError(`${path}: a CSV catalogue needs a header row and at least one option`);
     const header = rows[0]!.map((h) => h.trim());
     for (const h of header) {
-      if (!(CATALOGUE_FIELDS as readonly string[]).includes(h)) {
-        throw new CatalogueError(`${path}: unknown column "${h}" (columns: ${CATALOGUE_FIELDS.join(', ')})`);
+      if (!fields.includes(h)) {
+        throw new CatalogueError(`${path}: unknown column "${h}" (columns: ${fields.join(', ')})`);
       }
     }
     return rows.slice(1).map((r, i) => {
@@ -97,7 +97,7 @@ export function catalogueRecords(text: string, path: string): Record<string, unk
     if (typeof o !== 'object' || o === null || Array.isArray(o)) throw new CatalogueError(`${path}: options[${i}] is not a mapping`);
     for (const key of Object.keys(o)) {
       const label = typeof (o as Record<string, unknown>)['name'] === 'string' ? `option "${String((o as Record<string, unknown>)['name'])}"` : `options[${i}]`;
-      if (!(CATALOGUE_FIELDS as readonly string[]).includes(key)) throw new CatalogueError(`${path}: ${label}: unknown field "${key}" (fields: ${CATALOGUE_FIELDS.join(', ')})`);
+      if (!fields.includes(key)) throw new CatalogueError(`${path}: ${label}: unknown field "${key}" (fields: ${fields.join(', ')})`);
     }
     return o as Record<string, unknown>;
   });

@@ -6,11 +6,10 @@
  * Catalogue files: CSV with a header row (cells may carry units, "#" lines are comments), or YAML
  * with a list `options:` of mappings with the same field names.
  */
-import { parse as parseYaml } from 'yaml';
 import type { ActuatorKind } from '../architectures/types.js';
 import { cornerEnvelopes } from '../drives/envelope.js';
 import { DIRECT_DRIVE, type DriveTrain, type GearboxSpec, type LinearStageSpec, type MotorHousing, type MotorSpec, type TorqueSpeedCurve } from '../drives/types.js';
-import { CatalogueError, parseCsv } from './catalogue.js';
+import { CatalogueError, catalogueRecords } from './catalogue.js';
 import type { DriveSpec, DriveTrainSetup } from './types.js';
 import { parseQuantity, type QuantityKind } from './units.js';
 
@@ -26,40 +25,9 @@ export const GEARBOX_FIELDS = [
 
 type Raw = Record<string, unknown>;
 
-/** Records of a motor or gearbox catalogue file, fields checked against `fields`. */
+/** Records of a motor or gearbox catalogue file, fields checked against `fields` (the drive catalogue's reader). */
 export function tableRecords(text: string, path: string, fields: readonly string[]): Raw[] {
-  if (/\.csv$/i.test(path)) {
-    let rows: string[][];
-    try {
-      rows = parseCsv(text);
-    } catch (error) {
-      throw new CatalogueError(`${path}: ${error instanceof Error ? error.message : String(error)}`);
-    }
-    if (rows.length < 2) throw new CatalogueError(`${path}: a CSV catalogue needs a header row and at least one entry`);
-    const header = rows[0]!.map((h) => h.trim());
-    for (const h of header) if (!fields.includes(h)) throw new CatalogueError(`${path}: unknown column "${h}" (columns: ${fields.join(', ')})`);
-    return rows.slice(1).map((row, i) => {
-      if (row.length !== header.length) throw new CatalogueError(`${path}: row ${i + 2} has ${row.length} cells, the header has ${header.length}`);
-      const record: Raw = {};
-      header.forEach((h, c) => {
-        const cell = row[c]!.trim();
-        if (cell !== '') record[h] = h === 'name' ? cell : /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/.test(cell) ? Number(cell) : cell;
-      });
-      return record;
-    });
-  }
-  let data: { options?: unknown } | null;
-  try {
-    data = parseYaml(text, { maxAliasCount: 100 }) as { options?: unknown } | null;
-  } catch (error) {
-    throw new CatalogueError(`${path}: not valid YAML (${error instanceof Error ? error.message.split('\n')[0] : String(error)})`);
-  }
-  if (!data || !Array.isArray(data.options)) throw new CatalogueError(`${path}: a YAML catalogue needs a list "options:"`);
-  return data.options.map((o, i) => {
-    if (typeof o !== 'object' || o === null || Array.isArray(o)) throw new CatalogueError(`${path}: options[${i}] is not a mapping`);
-    for (const key of Object.keys(o)) if (!fields.includes(key)) throw new CatalogueError(`${path}: options[${i}]: unknown field "${key}" (fields: ${fields.join(', ')})`);
-    return o as Raw;
-  });
+  return catalogueRecords(text, path, fields);
 }
 
 function quantity(raw: Raw, key: string, kind: QuantityKind, where: string, fallback?: number): number {

@@ -23,6 +23,7 @@
  */
 import type { MarginGrid } from './grid.js';
 import { trianglePositiveFraction } from './grid.js';
+import { ThinParts } from './thinParts.js';
 
 /** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
 export const MAX_LEVEL = 6;
@@ -104,6 +105,8 @@ export class AdaptiveArea {
   /** Boundary points of the last workspace field (finest level): x, y interleaved; see boundaryCount. */
   boundary = new Float64Array(4096);
   boundaryCount = 0;
+  /** Arms thinner than a coarse cell and cells shared with another region, measured densely (thinParts.ts). */
+  private readonly thin = new ThinParts({ sample: (fi, fj) => this.value(2, fi, fj), addBoundaryPoint: (x, y) => this.pushBoundary(x, y) });
   /** Sub-samples taken in the last `begin` … calls. */
   get samples(): number {
     return this.subsamples;
@@ -261,9 +264,12 @@ export class AdaptiveArea {
     let full = 0;
     let partial = 0;
     this.current.count = 0;
+    const thin = field === 0 ? this.thin : null;
+    thin?.mark(grid, this.masked);
     for (let j = 0; j + 1 < ny; j++) {
       for (let i = 0; i + 1 < nx; i++) {
         const k = j * nx + i;
+        if (thin?.marked(k)) continue;
         const a = coarse[k]!;
         const b = coarse[k + 1]!;
         const c = coarse[k + nx]!;
@@ -336,7 +342,9 @@ export class AdaptiveArea {
     }
     if (level === 0) error = this.current.count === 0 ? 0 : est[0]!;
     if (field === 0) this.collectBoundary(level);
-    return { area: result, error, levels: level };
+    if (!thin) return { area: result, error, levels: level };
+    thin.measure(grid, this.masked, S);
+    return { area: result + thin.area, error: error + thin.error, levels: level };
   }
 
   /**
@@ -747,13 +755,17 @@ export class AdaptiveArea {
   private crossing(v: number, w: number, fi: number, fj: number, di: number, dj: number, grid: MarginGrid): void {
     if ((v >= 0) === (w >= 0)) return;
     const t = v / (v - w);
+    this.pushBoundary(grid.x0 + (fi + t * di) * this.hf, grid.y0 + (fj + t * dj) * this.hf);
+  }
+
+  private pushBoundary(x: number, y: number): void {
     if (2 * this.boundaryCount + 2 > this.boundary.length) {
       const grown = new Float64Array(this.boundary.length * 2);
       grown.set(this.boundary);
       this.boundary = grown;
     }
-    this.boundary[2 * this.boundaryCount] = grid.x0 + (fi + t * di) * this.hf;
-    this.boundary[2 * this.boundaryCount + 1] = grid.y0 + (fj + t * dj) * this.hf;
+    this.boundary[2 * this.boundaryCount] = x;
+    this.boundary[2 * this.boundaryCount + 1] = y;
     this.boundaryCount++;
   }
 }

@@ -126,15 +126,8 @@ export class ThinParts {
     this.area = 0;
     this.error = 0;
     if (this.count === 0) return;
-    const { nx } = grid;
-    const step = fineStep / SPLIT;
-    const values = this.values;
-    for (let s = 0; s < this.count; s++) {
-      const k = this.cells[s]!;
-      const fi0 = (k % nx) * fineStep;
-      const fj0 = Math.floor(k / nx) * fineStep;
-      for (let b = 0; b < SIDE; b++) for (let a = 0; a < SIDE; a++) values[s * NODES + b * SIDE + a] = this.host.sample(fi0 + a * step, fj0 + b * step);
-    }
+    this.fineStep = fineStep;
+    this.values.fill(Number.NaN, 0, this.count * NODES);
     this.flood(grid, masked);
     const h = grid.h;
     let fine = 0;
@@ -142,18 +135,39 @@ export class ThinParts {
     for (let s = 0; s < this.count; s++) {
       fine += this.cellArea(s, 1);
       coarse += this.cellArea(s, 2);
-      this.boundary(grid, s, step / fineStep);
+      this.boundary(grid, s, 1 / SPLIT);
     }
     const sub = (h / SPLIT) ** 2;
     this.area = fine * sub;
     this.error = (Math.abs(fine - coarse) * sub) / 3;
   }
 
-  /** Value of node (a, b) of slot s with unconnected usable nodes counted as outside. */
-  private connected(s: number, a: number, b: number): number {
+  private fineStep = 0;
+
+  /** Margin at node (a, b) of slot s, sampled when first asked for (only nodes near the flooded set are). */
+  private value(s: number, a: number, b: number): number {
     const q = s * NODES + b * SIDE + a;
     const v = this.values[q]!;
-    return v >= 0 && this.reached[q] !== 1 ? -v - 1e-300 : v;
+    if (v === v) return v;
+    const k = this.cells[s]!;
+    const nx = this.nx;
+    const step = this.fineStep / SPLIT;
+    const w = this.host.sample((k % nx) * this.fineStep + a * step, Math.floor(k / nx) * this.fineStep + b * step);
+    this.values[q] = w;
+    return w;
+  }
+
+  /** Value of node (a, b) of slot s with unconnected usable nodes counted as outside. */
+  private connected(s: number, a: number, b: number): number {
+    const v = this.value(s, a, b);
+    return v >= 0 && this.reached[s * NODES + b * SIDE + a] !== 1 ? -v - 1e-300 : v;
+  }
+
+  /** Whether a node of the sub-cell (a, b)–(a + stride, b + stride) of slot s was reached by the flood. */
+  private touched(s: number, a: number, b: number, stride: number): boolean {
+    const r = this.reached;
+    const q = s * NODES + b * SIDE + a;
+    return r[q] === 1 || r[q + stride] === 1 || r[q + stride * SIDE] === 1 || r[q + stride * SIDE + stride] === 1;
   }
 
   /** Sub-cell estimate of slot s in sub-cells of `stride` lattice steps (in sub-cell units of stride 1). */
@@ -161,6 +175,8 @@ export class ThinParts {
     let sum = 0;
     for (let b = 0; b < SPLIT; b += stride) {
       for (let a = 0; a < SPLIT; a += stride) {
+        // A sub-cell with no flooded corner has no connected part.
+        if (!this.touched(s, a, b, stride)) continue;
         const v00 = this.connected(s, a, b);
         const v10 = this.connected(s, a + stride, b);
         const v01 = this.connected(s, a, b + stride);
@@ -183,7 +199,7 @@ export class ThinParts {
     let tail = 0;
     const push = (s: number, a: number, b: number): void => {
       const q = s * NODES + b * SIDE + a;
-      if (reached[q] === 1 || !(this.values[q]! >= 0)) return;
+      if (reached[q] === 1 || !(this.value(s, a, b) >= 0)) return;
       reached[q] = 1;
       this.queue[tail++] = q;
     };
@@ -242,8 +258,12 @@ export class ThinParts {
     const x0 = grid.x0 + (k % grid.nx) * grid.h;
     const y0 = grid.y0 + Math.floor(k / grid.nx) * grid.h;
     const d = frac * grid.h;
+    const r = this.reached;
     for (let b = 0; b <= SPLIT; b++) {
       for (let a = 0; a <= SPLIT; a++) {
+        const q = s * NODES + b * SIDE + a;
+        // A crossing has a flooded end.
+        if (r[q] !== 1 && !(a < SPLIT && r[q + 1] === 1) && !(b < SPLIT && r[q + SIDE] === 1)) continue;
         const v = this.connected(s, a, b);
         if (a < SPLIT) {
           const w = this.connected(s, a + 1, b);

@@ -32,6 +32,7 @@ import {
 import { generalizedEigen2, inverseCondition2, maxSingularValue2, minEigenSymmetric2 } from './linalg2.js';
 import { addBody, VBX, VBY, VX, VY, W } from './legs/bodies.js';
 import { crankRod } from './legs/crankRod.js';
+import { finishKinematics3 } from './legs/platform3.js';
 import { sliderRod } from './legs/sliderRod.js';
 import type { LegGeometry, LegKind, LegModelView } from './legs/types.js';
 import {
@@ -242,6 +243,10 @@ export function finishKinematics(model: ArchitectureModelBase, pose: Architectur
   const n = model.dof;
   if (n === 2) {
     finishKinematics2(pose);
+    return;
+  }
+  if (n === 3) {
+    finishKinematics3(model, pose);
     return;
   }
   const L = model.characteristicLength;

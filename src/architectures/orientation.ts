@@ -45,16 +45,7 @@ export function orientationRanges<M extends ArchitectureModelBase>(
   const firstIn = test(-Math.PI);
   let previousIn = firstIn;
   let start = firstIn ? -Math.PI : Number.NaN;
-  const refine = (outside: number, inside: number): number => {
-    let a = outside;
-    let b = inside;
-    while (Math.abs(b - a) > tolerance) {
-      const mid = 0.5 * (a + b);
-      if (test(mid)) b = mid;
-      else a = mid;
-    }
-    return b;
-  };
+  const refine = (outside: number, inside: number): number => bisectBoundary(architecture, model, pose, x, y, accept, tolerance, outside, inside);
   for (let k = 1; k <= samples; k++) {
     const phi = -Math.PI + k * h;
     const inside = k === samples ? firstIn : test(phi);
@@ -87,6 +78,86 @@ export function orientationRanges<M extends ArchitectureModelBase>(
     }
   }
   return Math.min(count, capacity);
+}
+
+/**
+ * The range of φ that holds φ_0 at (x, y), exactly as `orientationRanges` reports it (same scan
+ * lattice −π + k·h, same bisections, the same ±π join), found by walking the lattice both ways from
+ * the two lattice angles around φ_0 instead of scanning the whole turn: written as (lo, hi) into
+ * out[0], out[1] (−π, π for a full turn). Returns false, out untouched, when either lattice angle
+ * around φ_0 is not reachable or φ_0 does not lie in the range found: the caller then scans the
+ * whole turn. (The full scan keeps at most out.length / 2 ranges; with more ranges than that at one
+ * point the two could differ.) Derived here.
+ */
+export function orientationRangeAt<M extends ArchitectureModelBase>(
+  architecture: PlanarArchitecture<M>,
+  model: M,
+  pose: ArchitecturePose,
+  x: number,
+  y: number,
+  phi0: number,
+  out: Float64Array,
+  options: OrientationScanOptions = {},
+): boolean {
+  const step = options.step ?? (2 * Math.PI) / 180;
+  const tolerance = options.tolerance ?? 1e-9;
+  const accept = options.accept ?? ASSEMBLED_AND_REGULAR;
+  const samples = Math.max(3, Math.ceil((2 * Math.PI) / step));
+  const h = (2 * Math.PI) / samples;
+  // Lattice index k (any integer) stands for angle −π + (k mod samples)·h, as the scan tests it.
+  const inside = (k: number): boolean => {
+    const m = ((k % samples) + samples) % samples;
+    return accept(pose, architecture.solvePose(model, pose, x, y, m === 0 ? -Math.PI : -Math.PI + m * h));
+  };
+  const wrapped = phi0 - 2 * Math.PI * Math.floor((phi0 + Math.PI) / (2 * Math.PI));
+  let k0 = Math.floor((wrapped + Math.PI) / h);
+  if (-Math.PI + k0 * h > wrapped) k0--;
+  if (!inside(k0) || !inside(k0 + 1)) return false;
+  let up = k0 + 2;
+  while (up < k0 + samples && inside(up)) up++;
+  if (up >= k0 + samples) {
+    out[0] = -Math.PI;
+    out[1] = Math.PI;
+    return true;
+  }
+  let down = k0 - 1;
+  while (inside(down)) down--;
+  // The scan meets the start at index kS ∈ [1, samples] and the end at kE ∈ [1, samples].
+  const kS = (((down % samples) + samples) % samples) + 1;
+  const kE = ((((up - 1) % samples) + samples) % samples) + 1;
+  const phiS = -Math.PI + kS * h;
+  const phiE = -Math.PI + kE * h;
+  const lo = bisectBoundary(architecture, model, pose, x, y, accept, tolerance, phiS - h, phiS);
+  let hi = bisectBoundary(architecture, model, pose, x, y, accept, tolerance, phiE, phiE - h);
+  // A range through index 0 is the scan's first range joined with its last one across ±π.
+  if (Math.floor((up - 1) / samples) !== Math.floor(down / samples)) hi += 2 * Math.PI;
+  const shifted = phi0 + 2 * Math.PI * Math.round((0.5 * (lo + hi) - phi0) / (2 * Math.PI));
+  if (!(shifted >= lo && shifted <= hi)) return false;
+  out[0] = lo;
+  out[1] = hi;
+  return true;
+}
+
+/** The bisection of `orientationRanges` between an outside and an inside angle: the inside end when bracketed to `tolerance`. */
+function bisectBoundary<M extends ArchitectureModelBase>(
+  architecture: PlanarArchitecture<M>,
+  model: M,
+  pose: ArchitecturePose,
+  x: number,
+  y: number,
+  accept: PoseAcceptance,
+  tolerance: number,
+  outside: number,
+  inside: number,
+): number {
+  let a = outside;
+  let b = inside;
+  while (Math.abs(b - a) > tolerance) {
+    const mid = 0.5 * (a + b);
+    if (accept(pose, architecture.solvePose(model, pose, x, y, mid))) b = mid;
+    else a = mid;
+  }
+  return b;
 }
 
 /**

@@ -11,7 +11,7 @@
  */
 import type { LeggedModel } from '../architectures/legged.js';
 import { maxSingularValue2 } from '../architectures/linalg2.js';
-import { orientationRanges, orientationRequirementMargin } from '../architectures/orientation.js';
+import { orientationRangeAt, orientationRanges, orientationRequirementMargin, type OrientationScanOptions } from '../architectures/orientation.js';
 import type { ArchitectureModelBase, ArchitecturePose, DriveAtJoint, PlanarArchitecture } from '../architectures/types.js';
 import { PoseStatus } from '../core/pose.js';
 import { jointPeakEffortAtSpeed } from '../drives/envelope.js';
@@ -265,6 +265,7 @@ export class RegionMetrics {
     builtArm: BuiltArmChecks | null = null,
   ) {
     this.study = study;
+    this.orientationScan = { step: study.orientation?.step, tolerance: 1e-7, accept: (p, status) => architectureUsableMargin(p, status, study, this.jointScale) >= 0 };
     this.builtArm = builtArm;
     this.usable = usable ?? ((status) => architectureUsableMargin(this.pose, status, this.study, this.jointScale));
     this.architecture = architecture;
@@ -314,16 +315,17 @@ export class RegionMetrics {
    */
   private orientationValues(x: number, y: number): void {
     const orientation = this.study.orientation!;
-    const study = this.study;
-    const scale = this.jointScale;
-    const count = orientationRanges(this.architecture, this.model!, this.pose, x, y, this.ranges, {
-      step: orientation.step,
-      tolerance: 1e-7,
-      accept: (p, status) => architectureUsableMargin(p, status, study, scale) >= 0,
-    });
+    const options = this.orientationScan;
+    // The range holding φ_0 decides both values when there is one (orientationRangeAt): walked from φ_0.
+    const count = orientationRangeAt(this.architecture, this.model!, this.pose, x, y, orientation.phi0, this.ranges, options)
+      ? 1
+      : orientationRanges(this.architecture, this.model!, this.pose, x, y, this.ranges, options);
     this.values[Q.orientationMargin] = Math.max(orientationRequirementMargin(this.ranges, count, orientation.phi0, orientation.range), -Math.PI);
     this.values[Q.orientationRange] = rangeWidthAt(this.ranges, count, orientation.phi0);
   }
+
+  /** Orientation scan settings: the study's step, bisection to 1e-7 rad, usable poses (the study's rule). */
+  private readonly orientationScan: OrientationScanOptions;
 
   private get orientationTask(): boolean {
     return this.architecture.dof === 3 && !!this.study.orientation && !!this.lattice;

@@ -23,7 +23,7 @@ import { ExtremeSearch, type ExtremeObjective } from './extremeSearch.js';
 import type { MarginGrid } from './grid.js';
 import { RegionQuadrature, type LevelField, type NodeLattice } from './regionQuadrature.js';
 import { projectOntoTask, taskLattice, taskPoint, type TaskLattice } from './taskSamples.js';
-import { architectureUsableMargin } from './usability.js';
+import { architectureUsableMargin, UsabilityRule } from './usability.js';
 
 /** Per-pose quantities, in this order; `SENSE` says which end is the worst (−1 smallest, +1 largest). */
 export const Q = {
@@ -265,7 +265,7 @@ export class RegionMetrics {
     builtArm: BuiltArmChecks | null = null,
   ) {
     this.study = study;
-    this.orientationScan = { step: study.orientation?.step, tolerance: 1e-7, accept: (p, status) => architectureUsableMargin(p, status, study, this.jointScale) >= 0 };
+    this.orientationScan = { step: study.orientation?.step, tolerance: 1e-7, accept: (p, status) => this.scanRule!.margin(p, status) >= 0 };
     this.builtArm = builtArm;
     this.usable = usable ?? ((status) => architectureUsableMargin(this.pose, status, this.study, this.jointScale));
     this.architecture = architecture;
@@ -283,6 +283,7 @@ export class RegionMetrics {
     this.model = model;
     this.context = context;
     this.jointScale = jointScale;
+    this.scanRule = new UsabilityRule(this.study, jointScale);
     this.footprint = this.architecture.footprint(model);
     this.worst.reset();
     this.gci = 0;
@@ -326,6 +327,8 @@ export class RegionMetrics {
 
   /** Orientation scan settings: the study's step, bisection to 1e-7 rad, usable poses (the study's rule). */
   private readonly orientationScan: OrientationScanOptions;
+  /** The study's usability rule for the design in hand (the orientation scans' acceptance; the same values as usabilityMargin). */
+  private scanRule: UsabilityRule | null = null;
 
   private get orientationTask(): boolean {
     return this.architecture.dof === 3 && !!this.study.orientation && !!this.lattice;

@@ -176,6 +176,13 @@ export class ArchitecturePose {
   mechanismSine = 0;
   /** 1/κ(J_h) (1 = isotropic, 0 singular). */
   inverseCondition = 0;
+  /**
+   * A sampling pose: `solvePose` fills only what the margins read (status, reach, joint margin, leg
+   * sines, A, B, det A, 1/κ, mechanism sine). A 3-DOF platform then leaves J, J⁻¹, J_h, J_h⁻¹ unwritten, and a
+   * crank without joint limits its angle q_i (legs/platform3.ts, legs/crankRod.ts). Set once, on
+   * a pose of its own (never toggled on a shared one).
+   */
+  marginsOnly = false;
   /** A (rows per leg, columns x, y[, φ]) and B (diagonal, stored full). */
   readonly A: Float64Array;
   readonly B: Float64Array;

@@ -222,6 +222,8 @@ export class RegionMetrics {
   private readonly study: Study;
   private readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
   private readonly pose: ArchitecturePose;
+  /** The pose of the orientation scans and the task quadrature's points: margins only (ArchitecturePose.marginsOnly). */
+  private readonly samplingPose: ArchitecturePose;
   private readonly phi0: number;
   readonly lattice: TaskLattice | null;
   private readonly tolerance: number;
@@ -270,6 +272,8 @@ export class RegionMetrics {
     this.usable = usable ?? ((status) => architectureUsableMargin(this.pose, status, this.study, this.jointScale));
     this.architecture = architecture;
     this.pose = pose;
+    this.samplingPose = architecture.createPose();
+    this.samplingPose.marginsOnly = true;
     this.phi0 = phi0;
     this.lattice = study.task.region ? taskLattice(study.task.region, study.evaluation.taskSamples) : null;
     this.taskInvCond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
@@ -312,15 +316,16 @@ export class RegionMetrics {
 
   /**
    * Orientation quantities at (x, y) into `values` (3-DOF with a requirement): the requirement margin
-   * of φ_0 ± Δφ and the width of the usable range holding φ_0. Leaves the pose at some other φ.
+   * of φ_0 ± Δφ and the width of the usable range holding φ_0. Solves on the sampling pose.
    */
   private orientationValues(x: number, y: number): void {
     const orientation = this.study.orientation!;
     const options = this.orientationScan;
     // The range holding φ_0 decides both values when there is one (orientationRangeAt): walked from φ_0.
-    const count = orientationRangeAt(this.architecture, this.model!, this.pose, x, y, orientation.phi0, this.ranges, options)
+    const pose = this.samplingPose;
+    const count = orientationRangeAt(this.architecture, this.model!, pose, x, y, orientation.phi0, this.ranges, options)
       ? 1
-      : orientationRanges(this.architecture, this.model!, this.pose, x, y, this.ranges, options);
+      : orientationRanges(this.architecture, this.model!, pose, x, y, this.ranges, options);
     this.values[Q.orientationMargin] = Math.max(orientationRequirementMargin(this.ranges, count, orientation.phi0, orientation.range), -Math.PI);
     this.values[Q.orientationRange] = rangeWidthAt(this.ranges, count, orientation.phi0);
   }
@@ -391,9 +396,9 @@ export class RegionMetrics {
         f = invCond[sample]!;
         margin = this.taskMargin[sample]!;
       } else {
-        const status = this.architecture.solvePose(this.model!, this.pose, this.at[0]!, this.at[1]!, this.phi0);
-        f = status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition;
-        margin = this.assembledMargin(status);
+        const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
+        f = status === PoseStatus.Unreachable ? 0 : this.samplingPose.inverseCondition;
+        margin = this.assembledMargin(status, this.samplingPose);
       }
       values[3 * k] = margin;
       values[3 * k + 1] = f * jacobian;
@@ -403,10 +408,10 @@ export class RegionMetrics {
     const field: LevelField = {
       sample: (u, v, out) => {
         const jacobian = taskPoint(region, u, v, this.at);
-        const status = this.architecture.solvePose(this.model!, this.pose, this.at[0]!, this.at[1]!, this.phi0);
-        out[0] = (status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition) * jacobian;
+        const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
+        out[0] = (status === PoseStatus.Unreachable ? 0 : this.samplingPose.inverseCondition) * jacobian;
         out[1] = 1;
-        return this.assembledMargin(status);
+        return this.assembledMargin(status, this.samplingPose);
       },
     };
     const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable };
@@ -421,8 +426,7 @@ export class RegionMetrics {
    * boundaries that end it: the reach margin over the footprint, the joint-range margin over its
    * scale, and the mechanism sine times the assembly sign (det A changes sign between assemblies).
    */
-  private assembledMargin(status: PoseStatus): number {
-    const pose = this.pose;
+  private assembledMargin(status: PoseStatus, pose: ArchitecturePose = this.pose): number {
     const reach = pose.reachMargin / this.footprint;
     if (status === PoseStatus.Unreachable) return Math.min(reach, -1e-300);
     let m = Math.min(reach, pose.jointMargin / this.jointScale, this.model!.assembly * pose.mechanismSine);

@@ -56,8 +56,14 @@ export const crankRod: LegKind = {
     const ny = wy / rho;
     const dirX = nx * cosAlpha - ny * sinAlpha;
     const dirY = ny * cosAlpha + nx * sinAlpha;
-    const theta = Math.atan2(dirY, dirX);
-    pose.q[i] = theta;
+    const limits = model.jointLimits[i] ?? null;
+    let joint = Infinity;
+    // A sampling pose needs the angle only for a joint-range margin (see ArchitecturePose.marginsOnly).
+    if (!pose.marginsOnly || limits !== null) {
+      const theta = Math.atan2(dirY, dirX);
+      pose.q[i] = theta;
+      joint = jointRangeMargin(theta, limits);
+    }
     const proxX = model.baseX[i]! + p * dirX;
     const proxY = model.baseY[i]! + p * dirY;
     pose.actuatorDirection[2 * i] = dirX;
@@ -73,7 +79,7 @@ export const crankRod: LegKind = {
     pose.B[i * n + i] = p * legSine;
     pose.A[i * n] = ux;
     pose.A[i * n + 1] = uy;
-    return jointRangeMargin(theta, model.jointLimits[i] ?? null);
+    return joint;
   },
 
   addBodies(model: LegModelView, i: number, pose: ArchitecturePose, gx: number, gy: number): void {

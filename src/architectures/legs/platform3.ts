@@ -11,6 +11,28 @@ import type { ArchitectureModelBase, ArchitecturePose } from '../types.js';
 
 export function finishKinematics3(model: ArchitectureModelBase, pose: ArchitecturePose): void {
   const L = model.characteristicLength;
+  const { A, B } = pose;
+  const a0 = A[0]!, a1 = A[1]!, a2 = A[2]!, a3 = A[3]!, a4 = A[4]!, a5 = A[5]!, a6 = A[6]!, a7 = A[7]!, a8 = A[8]!;
+  const b0 = B[0]!, b1 = B[4]!, b2 = B[8]!;
+  const c0 = a4 * a8 - a5 * a7;
+  const det = a0 * c0 - a1 * (a3 * a8 - a5 * a6) + a2 * (a3 * a7 - a4 * a6);
+  pose.detA = det;
+  // A sampling pose (ArchitecturePose.marginsOnly) leaves J, J⁻¹, J_h, J_h⁻¹ unwritten.
+  if (!pose.marginsOnly) writeJacobians3(model.characteristicLength, pose, det, c0);
+  // M rows (Π_{j≠i} B_jj) row_i(A_h); the row norms of A_h.
+  const m = pose.work2;
+  const h2 = a2 / L, h5 = a5 / L, h8 = a8 / L;
+  const s0 = b1 * b2, s1 = b0 * b2, s2 = b0 * b1;
+  m[0] = s0 * a0; m[1] = s0 * a1; m[2] = s0 * h2;
+  m[3] = s1 * a3; m[4] = s1 * a4; m[5] = s1 * h5;
+  m[6] = s2 * a6; m[7] = s2 * a7; m[8] = s2 * h8;
+  const rowProduct = Math.sqrt(a0 * a0 + a1 * a1 + h2 * h2) * Math.sqrt(a3 * a3 + a4 * a4 + h5 * h5) * Math.sqrt(a6 * a6 + a7 * a7 + h8 * h8);
+  pose.inverseCondition = inverseCondition3(m);
+  pose.mechanismSine = rowProduct > 0 ? det / L / rowProduct : 0;
+}
+
+/** J⁻¹, J_h⁻¹, A⁻¹ (into work), J and J_h from A, B, det A and its first cofactor c0. */
+function writeJacobians3(L: number, pose: ArchitecturePose, det: number, c0: number): void {
   const { A, B, J, Jinv, Jh, Jhinv, work } = pose;
   const a0 = A[0]!, a1 = A[1]!, a2 = A[2]!, a3 = A[3]!, a4 = A[4]!, a5 = A[5]!, a6 = A[6]!, a7 = A[7]!, a8 = A[8]!;
   const b0 = B[0]!, b1 = B[4]!, b2 = B[8]!;
@@ -24,10 +46,7 @@ export function finishKinematics3(model: ArchitectureModelBase, pose: Architectu
   v = a6 / b2; Jinv[6] = v; Jhinv[6] = v;
   v = a7 / b2; Jinv[7] = v; Jhinv[7] = v;
   v = a8 / b2; Jinv[8] = v; Jhinv[8] = v / L;
-  // det A by cofactors of the first row, A⁻¹ by the adjugate (dense.ts invert), J = A⁻¹B.
-  const c0 = a4 * a8 - a5 * a7;
-  const det = a0 * c0 - a1 * (a3 * a8 - a5 * a6) + a2 * (a3 * a7 - a4 * a6);
-  pose.detA = det;
+  // A⁻¹ by the adjugate (dense.ts invert), J = A⁻¹B.
   if (det === 0) {
     J.fill(Number.NaN);
     Jh.fill(Number.NaN);
@@ -47,14 +66,4 @@ export function finishKinematics3(model: ArchitectureModelBase, pose: Architectu
     v = i7 * b1; J[7] = v; Jh[7] = v * L;
     v = i8 * b2; J[8] = v; Jh[8] = v * L;
   }
-  // M rows (Π_{j≠i} B_jj) row_i(A_h); the row norms of A_h.
-  const m = pose.work2;
-  const h2 = a2 / L, h5 = a5 / L, h8 = a8 / L;
-  const s0 = b1 * b2, s1 = b0 * b2, s2 = b0 * b1;
-  m[0] = s0 * a0; m[1] = s0 * a1; m[2] = s0 * h2;
-  m[3] = s1 * a3; m[4] = s1 * a4; m[5] = s1 * h5;
-  m[6] = s2 * a6; m[7] = s2 * a7; m[8] = s2 * h8;
-  const rowProduct = Math.sqrt(a0 * a0 + a1 * a1 + h2 * h2) * Math.sqrt(a3 * a3 + a4 * a4 + h5 * h5) * Math.sqrt(a6 * a6 + a7 * a7 + h8 * h8);
-  pose.inverseCondition = inverseCondition3(m);
-  pose.mechanismSine = rowProduct > 0 ? det / L / rowProduct : 0;
 }

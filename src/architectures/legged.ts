@@ -187,10 +187,6 @@ export function buildLeggedModel(
   };
 }
 
-let lastAngle = Number.NaN;
-let lastCos = 1;
-let lastSin = 0;
-
 /** Inverse kinematics and velocity matrices; fills pose and returns its status. */
 export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: number, y: number, phi = 0): PoseStatus {
   const n = model.dof;
@@ -198,15 +194,9 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
   pose.x = x;
   pose.y = y;
   pose.phi = angle;
-  // Sampling runs at one φ for many points: no trigonometry at φ = ±0 (cos = 1, sin = φ exactly),
-  // and otherwise the cosine and sine of the last φ are kept.
-  if (angle !== lastAngle && angle !== 0) {
-    lastAngle = angle;
-    lastCos = Math.cos(angle);
-    lastSin = Math.sin(angle);
-  }
-  const cphi = angle === 0 ? 1 : lastCos;
-  const sphi = angle === 0 ? angle : lastSin;
+  // No trigonometry at φ = ±0 (every 2-DOF pose, and sampling at φ_0 = 0): cos = 1, sin = φ exactly.
+  const cphi = angle === 0 ? 1 : Math.cos(angle);
+  const sphi = angle === 0 ? angle : Math.sin(angle);
   let reach = Infinity;
   let joint = Infinity;
   let reachable = true;

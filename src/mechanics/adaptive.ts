@@ -23,6 +23,7 @@
  */
 import type { MarginGrid } from './grid.js';
 import { trianglePositiveFraction } from './grid.js';
+import { BoundaryCells } from './crossings.js';
 
 /** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
 export const MAX_LEVEL = 6;
@@ -289,6 +290,10 @@ export class AdaptiveArea {
     const est = this.estimates;
     let cellArea = h * h;
     full *= cellArea;
+    // Cells the boundary crosses simply are measured from their boundary (crossings.ts) and leave the list.
+    const simple = this.simpleCells(field, tolerance, full + partial * cellArea);
+    full += simple.area;
+    partial = simple.partialLeft;
     est[0] = full + partial * cellArea;
     let level = 0;
     let result = est[0]!;
@@ -335,8 +340,87 @@ export class AdaptiveArea {
       if (level >= MIN_LEVEL && error <= 0.5 * tolerance * Math.abs(result)) break;
     }
     if (level === 0) error = this.current.count === 0 ? 0 : est[0]!;
-    if (field === 0) this.collectBoundary(level);
+    error += simple.error;
+    if (field === 0) {
+      this.collectBoundary(level);
+      this.appendBoundary(this.cells.points, this.cells.pointCount);
+    }
     return { area: result, error, levels: level };
+  }
+
+  private readonly cells = new BoundaryCells();
+  private readonly simpleResult = { area: 0, error: 0, partialLeft: 0 };
+
+  /**
+   * The listed level-0 cells that the boundary crosses simply (two crossings, every corner a value of
+   * the field itself, not a node of another region masked out) are measured by BoundaryCells and
+   * removed from the list, when their error estimate is within an equal share of a quarter of the
+   * tolerance (of the level-0 area estimate `rough`); the others stay for refinement. Returns their
+   * area and summed error estimate (m²) and the triangle estimate of the cells left (in cells).
+   */
+  private simpleCells(field: number, tolerance: number, rough: number): { area: number; error: number; partialLeft: number } {
+    const grid = this.grid!;
+    const { nx } = grid;
+    const list = this.current;
+    const cells = this.cells;
+    cells.begin(grid, this.sampler!, field === 1 ? 1 : 0);
+    const share = (0.25 * tolerance * Math.abs(rough)) / Math.max(list.count, 1);
+    const S = 1 << MAX_LEVEL;
+    let area = 0;
+    let error = 0;
+    let partialLeft = 0;
+    let kept = 0;
+    const { at, corners } = list;
+    for (let c = 0; c < list.count; c++) {
+      const i = at[2 * c]! / S;
+      const j = at[2 * c + 1]! / S;
+      const a = corners[4 * c]!;
+      const b = corners[4 * c + 1]!;
+      const cc = corners[4 * c + 2]!;
+      const d = corners[4 * c + 3]!;
+      const k = j * nx + i;
+      const plain = field === 1 || (this.isTrue(k, a) && this.isTrue(k + 1, b) && this.isTrue(k + nx, cc) && this.isTrue(k + nx + 1, d));
+      const inside = (a >= 0 ? 1 : 0) + (b >= 0 ? 1 : 0) + (cc >= 0 ? 1 : 0) + (d >= 0 ? 1 : 0);
+      if (plain && inside > 0 && inside < 4) {
+        const value = cells.cellArea(i, j, a, b, cc, d);
+        if (!Number.isNaN(value) && cells.cellError <= share) {
+          area += value;
+          error += cells.cellError;
+          continue;
+        }
+      }
+      partialLeft += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, cc));
+      if (kept !== c) {
+        at[2 * kept] = at[2 * c]!;
+        at[2 * kept + 1] = at[2 * c + 1]!;
+        for (let q = 0; q < 4; q++) corners[4 * kept + q] = corners[4 * c + q]!;
+      }
+      kept++;
+    }
+    list.count = kept;
+    this.subsamples += cells.samples;
+    const r = this.simpleResult;
+    r.area = area;
+    r.error = error;
+    r.partialLeft = partialLeft;
+    return r;
+  }
+
+  /** Whether the masked value of coarse node k is the usability margin itself (not a usable node of another region). */
+  private isTrue(k: number, masked: number): boolean {
+    return masked === this.grid!.values[k]!;
+  }
+
+  /** Appends points to the boundary list. */
+  private appendBoundary(points: Float64Array, count: number): void {
+    const need = 2 * (this.boundaryCount + count);
+    if (need > this.boundary.length) {
+      const grown = new Float64Array(Math.max(2 * this.boundary.length, need));
+      grown.set(this.boundary.subarray(0, 2 * this.boundaryCount));
+      this.boundary = grown;
+    }
+    this.boundary.set(points.subarray(0, 2 * count), 2 * this.boundaryCount);
+    this.boundaryCount += count;
   }
 
   /**

@@ -1,8 +1,9 @@
 /**
  * Adaptive workspace sampling at a stated accuracy (study setting `evaluation.tolerance`, relative).
  *
- * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). A cell whose
- * corners disagree in sign (or whose smallest corner margin is small against the spread of its
+ * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). A coarse
+ * cell the boundary crosses simply is measured from its boundary (crossings.ts: edge crossings, the
+ * arc's bulge, a check sample for its error). Any other cell whose corners disagree in sign (or whose smallest corner margin is small against the spread of its
  * corners, so that the zero level may pass through it) is split into four, level after level; only
  * the sub-cells whose corners still disagree are split again. The area of each field's positive set
  * at level k is the sum of the cells known to be wholly inside plus, for the undecided sub-cells of
@@ -24,6 +25,7 @@
 import type { MarginGrid } from './grid.js';
 import { trianglePositiveFraction } from './grid.js';
 import { BoundaryCells } from './crossings.js';
+import { EmptyCircle } from './emptyCircle.js';
 
 /** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
 export const MAX_LEVEL = 6;
@@ -45,15 +47,15 @@ export interface AreaEstimate {
   levels: number;
 }
 
-/** Sixteen unit directions of the compass search. */
-const COMPASS_X = Float64Array.from({ length: 16 }, (_, k) => Math.cos((k * Math.PI) / 8));
-const COMPASS_Y = Float64Array.from({ length: 16 }, (_, k) => Math.sin((k * Math.PI) / 8));
 
 /** Lattice refinement of a neck probe (per coarse cell; divides 2^MAX_LEVEL) and the most probes per design. */
 const PROBE_SPLIT = 16;
 /** A uniform coarse cell is refined when its corner nearest the zero level is within this share of its corner spread. */
 const NEAR_FACTOR = 0.5;
-/** Compass searches per inscribed radius (from the starts nearest to the best). */
+/** Eight unit directions of the hops between ascents (see climb). */
+const HOP_X = Float64Array.from({ length: 8 }, (_, k) => Math.cos((k * Math.PI) / 4));
+const HOP_Y = Float64Array.from({ length: 8 }, (_, k) => Math.sin((k * Math.PI) / 4));
+/** Ascents per inscribed radius (from the starts nearest to the best). */
 const SEARCHES = 8;
 const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
 const MAX_PROBES = 64;
@@ -427,8 +429,8 @@ export class AdaptiveArea {
    * Radius of the largest circle inside the evaluation region (m), without a distance transform of
    * a fine grid: the coarse grid's deepest nodes (MarginGrid.deepCandidates) are the starting
    * centres; each is scored against the boundary points of the finest level (bucketed by coarse
-   * cell, nearest point by rings of cells), and the best few are moved by a compass search (sixteen
-   * directions, step halved when no move helps) that maximises the distance to the boundary.
+   * cell, nearest point by rings of cells), and the best few climb the medial axis of the boundary
+   * points to the largest empty circle (climb, emptyCircle.ts).
    * Call after area(0, …).
    */
   inscribedRadius(region: number): number {
@@ -484,208 +486,45 @@ export class AdaptiveArea {
       }
       this.searchedFrom[searched] = k;
       if (near) continue;
-      const value = this.compassSearch(k, this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h));
+      const value = this.climb(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h, h);
       if (value > best) best = value;
     }
     return best;
   }
 
   /**
-   * Compass search from node k (distance `value` to the boundary): sixteen directions, the step
-   * halved when no move helps, down to 10⁻³ of the radius. Trial points within `step` of the centre
-   * can only have a nearest boundary point within value + 2·step of it, so the local list is
-   * re-gathered (or filtered) to that radius as the centre moves and the step shrinks.
+   * The empty circle grown from (x, y) (emptyCircle.ts), then hops: the medial axis of a long or
+   * uneven region has shallow local maxima, so around each one the distance is polled at eight
+   * points at h/2, h/4, h/8 (inside the circle, so inside the region); a better one starts a new
+   * ascent. Returns the largest radius reached (m).
    */
-  private compassSearch(k: number, value: number): number {
-    const grid = this.grid!;
-    const { nx, h } = grid;
-    let cx = grid.x0 + (k % nx) * h;
-    let cy = grid.y0 + Math.floor(k / nx) * h;
-    // Two lists of boundary points: `wide` holds every point within value_g + 3h of (gx, gy) (from
-    // the buckets), `local` every point within value_l + slack of (lx, ly) (filtered from `wide`).
-    // A trial point within `step` of centre c is served by a list about (ox, oy) with value v_o and
-    // margin m while |c − o| ≤ (m − 2 step)/2 (its nearest point is within v_o + |c − o| + step).
-    let gx = cx;
-    let gy = cy;
-    this.gatherLocal(cx, cy, value + 3 * h);
-    this.keepWide();
-    let step = 0.5 * h;
-    let lx = cx;
-    let ly = cy;
-    let slack = 6 * step;
-    this.filterFromWide(cx, cy, value + slack);
-    const stop = 1e-3 * Math.max(value, h);
-    let bestDir = 0;
-    while (step > stop) {
-      // Moves stay inside the circle already known to be free of boundary, so inside the region.
-      if (step >= value) { step *= 0.5; continue; }
-      // The eight even directions first, the eight between them only when those fail.
+  private climb(x: number, y: number, h: number): number {
+    const circle = this.circle;
+    let value = circle.grow(this.boundary, this.boundaryCount, x, y);
+    let cx = circle.x;
+    let cy = circle.y;
+    for (let hop = 0.5 * h; hop > 0.1 * h; ) {
       let moved = false;
-      for (let dir = 0; dir < 16; dir += 2) {
-        const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
-        if (d > value) { value = d; bestDir = dir; moved = true; }
-      }
-      if (!moved) {
-        for (let dir = 1; dir < 16; dir += 2) {
-          const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
-          if (d > value) { value = d; bestDir = dir; moved = true; }
+      if (hop < value) {
+        for (let dir = 0; dir < 8 && !moved; dir++) {
+          const px = cx + hop * HOP_X[dir]!;
+          const py = cy + hop * HOP_Y[dir]!;
+          if (!(this.nearest(px, py) > value * (1 + 1e-9))) continue;
+          const next = circle.grow(this.boundary, this.boundaryCount, px, py);
+          if (next > value) {
+            value = next;
+            cx = circle.x;
+            cy = circle.y;
+            moved = true;
+          }
         }
       }
-      if (moved) {
-        cx += step * COMPASS_X[bestDir]!;
-        cy += step * COMPASS_Y[bestDir]!;
-      } else if (this.ridgeStep(cx, cy, step, value)) {
-        // On a ridge between two boundary points the distance rises along it: follow it.
-        value = this.ridgeValue;
-        cx = this.ridgeX;
-        cy = this.ridgeY;
-        moved = true;
-      } else {
-        step *= 0.5;
-      }
-      if (!moved || Math.abs(cx - lx) + Math.abs(cy - ly) > 0.5 * (slack - 2 * step)) {
-        if (Math.abs(cx - gx) + Math.abs(cy - gy) > 0.5 * (3 * h - 2 * step) - 6 * step) {
-          gx = cx;
-          gy = cy;
-          this.gatherLocal(cx, cy, value + 3 * h);
-          this.keepWide();
-        }
-        lx = cx;
-        ly = cy;
-        slack = 6 * step;
-        this.filterFromWide(cx, cy, value + slack);
-      }
+      hop = moved ? 0.5 * h : 0.5 * hop;
     }
     return value;
   }
 
-  private ridgeX = 0;
-  private ridgeY = 0;
-  private ridgeValue = 0;
-
-  /**
-   * Tries a step along the ridge at (x, y): perpendicular to the line through its two nearest
-   * boundary points that lie apart (more than a step), both ways; true (with ridgeX, ridgeY,
-   * ridgeValue) when one raises the distance above `value`.
-   */
-  private ridgeStep(x: number, y: number, step: number, value: number): boolean {
-    const l = this.local;
-    let b1 = -1;
-    let d1 = Infinity;
-    for (let p = 0; p < this.localCount; p++) {
-      const d = (l[2 * p]! - x) ** 2 + (l[2 * p + 1]! - y) ** 2;
-      if (d < d1) { d1 = d; b1 = p; }
-    }
-    if (b1 < 0) return false;
-    const x1 = l[2 * b1]!;
-    const y1 = l[2 * b1 + 1]!;
-    let b2 = -1;
-    let d2 = Infinity;
-    for (let p = 0; p < this.localCount; p++) {
-      const px = l[2 * p]!;
-      const py = l[2 * p + 1]!;
-      if ((px - x1) ** 2 + (py - y1) ** 2 <= 4 * step * step) continue;
-      const d = (px - x) ** 2 + (py - y) ** 2;
-      if (d < d2) { d2 = d; b2 = p; }
-    }
-    if (b2 < 0) return false;
-    let tx = -(l[2 * b2 + 1]! - y1);
-    let ty = l[2 * b2]! - x1;
-    const norm = Math.hypot(tx, ty);
-    if (!(norm > 0)) return false;
-    tx /= norm;
-    ty /= norm;
-    for (let sign = -1; sign <= 1; sign += 2) {
-      const px = x + sign * step * tx;
-      const py = y + sign * step * ty;
-      const d = this.nearestLocal(px, py);
-      if (d > value) {
-        this.ridgeX = px;
-        this.ridgeY = py;
-        this.ridgeValue = d;
-        return true;
-      }
-    }
-    return false;
-  }
-
-  private wide = new Float64Array(1024);
-  private wideCount = 0;
-
-  /** Copies the local list into the wide one. */
-  private keepWide(): void {
-    if (this.wide.length < this.local.length) this.wide = new Float64Array(this.local.length);
-    this.wide.set(this.local.subarray(0, 2 * this.localCount));
-    this.wideCount = this.localCount;
-  }
-
-  /** The local list: the wide list's points within `radius` of (x, y). */
-  private filterFromWide(x: number, y: number, radius: number): void {
-    const w = this.wide;
-    const l = this.local;
-    const r2 = radius * radius;
-    let kept = 0;
-    for (let p = 0; p < this.wideCount; p++) {
-      const px = w[2 * p]!;
-      const py = w[2 * p + 1]!;
-      if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
-      l[2 * kept] = px;
-      l[2 * kept + 1] = py;
-      kept++;
-    }
-    this.localCount = kept;
-  }
-
-  private local = new Float64Array(1024);
-  private localCount = 0;
-
-  /** Boundary points within `radius` of (x, y), into the local list (every point when the radius covers the grid). */
-  private gatherLocal(x: number, y: number, radius: number): void {
-    const grid = this.grid!;
-    const { nx, ny, h } = grid;
-    const b = this.boundary;
-    const start = this.bucketStart;
-    const order = this.bucketOrder;
-    const r2 = radius * radius;
-    const i0 = Math.max(Math.floor((x - radius - grid.x0) / h), 0);
-    const i1 = Math.min(Math.floor((x + radius - grid.x0) / h), nx - 1);
-    const j0 = Math.max(Math.floor((y - radius - grid.y0) / h), 0);
-    const j1 = Math.min(Math.floor((y + radius - grid.y0) / h), ny - 1);
-    this.localCount = 0;
-    for (let j = j0; j <= j1; j++) {
-      for (let i = i0; i <= i1; i++) {
-        const c = j * nx + i;
-        for (let q = start[c]!; q < start[c + 1]!; q++) {
-          const p = order[q]!;
-          const px = b[2 * p]!;
-          const py = b[2 * p + 1]!;
-          if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
-          if (2 * this.localCount + 2 > this.local.length) {
-            const grown = new Float64Array(this.local.length * 2);
-            grown.set(this.local);
-            this.local = grown;
-          }
-          this.local[2 * this.localCount] = px;
-          this.local[2 * this.localCount + 1] = py;
-          this.localCount++;
-        }
-      }
-    }
-  }
-
-  /** Distance (m) from (x, y) to the nearest point of the local list (Infinity when it is empty). */
-  private nearestLocal(x: number, y: number): number {
-    const l = this.local;
-    let bestSq = Infinity;
-    for (let p = 0; p < this.localCount; p++) {
-      const dx = l[2 * p]! - x;
-      const dy = l[2 * p + 1]! - y;
-      const d = dx * dx + dy * dy;
-      if (d < bestSq) bestSq = d;
-    }
-    return Math.sqrt(bestSq);
-  }
-
+  private readonly circle = new EmptyCircle();
   private readonly starts = new Int32Array(8);
   private readonly searchedFrom = new Int32Array(8);
   private readonly startScores = new Float64Array(8);

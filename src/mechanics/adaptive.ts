@@ -1,21 +1,15 @@
 /**
  * Adaptive workspace sampling at a stated accuracy (study setting `evaluation.tolerance`, relative).
  *
- * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). A coarse
- * cell the boundary crosses simply is measured from its boundary (crossings.ts: edge crossings, the
- * arc's bulge, a check sample for its error). Any other cell whose corners disagree in sign (or whose smallest corner margin is small against the spread of its
- * corners, so that the zero level may pass through it) is split into four, level after level; only
- * the sub-cells whose corners still disagree are split again. The area of each field's positive set
- * at level k is the sum of the cells known to be wholly inside plus, for the undecided sub-cells of
- * level k, the sub-cell estimate on two triangles (linear interpolation, as MarginGrid.positiveArea).
- * This boundary estimate converges with the square of the sub-cell size, so successive levels
- * A_k are extrapolated (L. F. Richardson 1911, "The approximate arithmetical solution by finite
- * differences of physical problems", Phil. Trans. R. Soc. A 210; from memory) when their differences
- * fall by about four, A ≈ A_k + (A_k − A_{k−1})/3, and the size of that correction, |A_k − A_{k−1}|/3,
- * is the reported error estimate (the larger of |A_k − A_{k−1}| and a quarter of the difference
- * before it when the differences do not fall as h²). Refinement stops when the estimate is below
- * half the tolerance (or at the deepest level). Outside the coarse nodes' reach the method is blind:
- * a part of the region thinner than the sub-cells and away from every split cell is missed.
+ * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). The cells
+ * whose corners disagree in sign, or whose corner nearest the zero level is close against the spread
+ * of its corners (the zero level may pass through them), are listed. Level by level, a listed cell
+ * the boundary crosses simply is measured from its boundary (crossings.ts: the edge crossings, the
+ * arc's bulge, and a check sample whose miss is the cell's error estimate); any other listed cell is
+ * split into four and its undecided children are listed for the next level, down to MAX_LEVEL. The
+ * area is the cells known to be inside plus the measured ones; the error estimate is the sum of the
+ * cells' estimates. Outside the coarse nodes' reach the method is blind: a part of the region
+ * thinner than a coarse cell and away from every listed cell is missed.
  *
  * Sub-samples are cached by their position on the finest lattice (open addressing, no allocation
  * per point), so neighbouring cells share their edge samples. Two fields are refined from one pass:
@@ -29,8 +23,17 @@ import { EmptyCircle } from './emptyCircle.js';
 
 /** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
 export const MAX_LEVEL = 6;
-/** Fewest levels before the error estimate may stop refinement (three estimates for the h² check). */
-const MIN_LEVEL = 2;
+/**
+ * Share of the tolerance (of the coarse area estimate) for the boundary cells' error estimates: each
+ * listed coarse cell may use an equal part of it, each child half of its parent's.
+ */
+const SIMPLE_BUDGET = 0.5;
+/**
+ * From this level on a simply crossed cell is measured whatever its error estimate (which is still
+ * added to the reported error): where two boundaries meet in a cell (a kink) the estimate falls only
+ * with the cell's area, and splitting it down to the deepest level costs more than it gains.
+ */
+const ACCEPT_LEVEL = 2;
 const CACHE_BITS = 17;
 const CACHE_SIZE = 1 << CACHE_BITS;
 /** Stop adding sub-samples beyond this many (half the cache): the estimate then stays at the last full level. */
@@ -96,7 +99,6 @@ export class AdaptiveArea {
   private readonly point = new Float64Array(2);
   private current = new CellList();
   private next = new CellList();
-  private readonly estimates = new Float64Array(MAX_LEVEL + 1);
   /** Region-masked usability margins of the coarse nodes. */
   private masked = new Float64Array(0);
   private grid: MarginGrid | null = null;
@@ -289,103 +291,120 @@ export class AdaptiveArea {
         partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
       }
     }
-    const est = this.estimates;
     let cellArea = h * h;
     full *= cellArea;
-    // Cells the boundary crosses simply are measured from their boundary (crossings.ts) and leave the list.
-    const simple = this.simpleCells(field, tolerance, full + partial * cellArea);
-    full += simple.area;
-    partial = simple.partialLeft;
-    est[0] = full + partial * cellArea;
+    // Level by level: the listed cells the boundary crosses simply are measured from their boundary
+    // (crossings.ts); the others are split, their undecided children listed for the next level.
+    const cells = this.cells;
+    cells.begin(this.sampler!, field === 1 ? 1 : 0);
+    let share = (SIMPLE_BUDGET * tolerance * Math.abs(full + partial * cellArea)) / Math.max(this.current.count, 1);
+    let area = full;
+    let error = 0;
     let level = 0;
-    let result = est[0]!;
-    let error = Infinity;
-    while (level < MAX_LEVEL && this.current.count > 0) {
-      if (this.subsamples + 5 * this.current.count > MAX_SUBSAMPLES) break;
+    for (;;) {
+      this.measureSimple(field, level, share);
+      area += this.simpleArea;
+      error += this.simpleError;
+      if (this.current.count === 0) break;
+      if (level === MAX_LEVEL || this.subsamples + cells.samples + 5 * this.current.count > MAX_SUBSAMPLES) {
+        // Unresolved: the triangle estimate, with half of each cell as its error.
+        area += this.simplePartialLeft * cellArea;
+        error += 0.5 * this.current.count * cellArea;
+        break;
+      }
       level++;
       cellArea /= 4;
-      const step = S >> level;
-      const list = this.current;
-      const out = this.next;
-      out.count = 0;
-      partial = 0;
-      let fullCells = 0;
-      const at = list.at;
-      const corners = list.corners;
-      for (let c = 0; c < list.count; c++) {
-        const i0 = at[2 * c]!;
-        const j0 = at[2 * c + 1]!;
-        // The 3 × 3 nodes of the split cell: corners known, five new (or cached) values.
-        const v00 = corners[4 * c]!;
-        const v20 = corners[4 * c + 1]!;
-        const v02 = corners[4 * c + 2]!;
-        const v22 = corners[4 * c + 3]!;
-        const v10 = this.value(field, i0 + step, j0);
-        const v01 = this.value(field, i0, j0 + step);
-        const v11 = this.value(field, i0 + step, j0 + step);
-        const v21 = this.value(field, i0 + 2 * step, j0 + step);
-        const v12 = this.value(field, i0 + step, j0 + 2 * step);
-        partial += this.child(out, i0, j0, v00, v10, v01, v11);
-        partial += this.child(out, i0 + step, j0, v10, v20, v11, v21);
-        partial += this.child(out, i0, j0 + step, v01, v11, v02, v12);
-        partial += this.child(out, i0 + step, j0 + step, v11, v21, v12, v22);
-      }
-      fullCells = this.fullChildren;
-      this.fullChildren = 0;
-      full += fullCells * cellArea;
-      est[level] = full + partial * cellArea;
-      this.current = out;
-      this.next = list;
-      this.extrapolate(level);
-      result = this.resultArea;
-      error = this.resultError;
-      if (level >= MIN_LEVEL && error <= 0.5 * tolerance * Math.abs(result)) break;
+      share /= 2;
+      area += this.split(field, S >> level) * cellArea;
     }
-    if (level === 0) error = this.current.count === 0 ? 0 : est[0]!;
-    error += simple.error;
+    this.subsamples += cells.samples;
     if (field === 0) {
       this.collectBoundary(level);
-      this.appendBoundary(this.cells.points, this.cells.pointCount);
+      this.appendBoundary(cells.points, cells.pointCount);
     }
-    return { area: result, error, levels: level };
+    return { area, error, levels: level };
+  }
+
+  /**
+   * Splits every listed cell (fine-lattice corner, four corner values) into four: five new (or
+   * cached) values; the undecided children become the list. Returns the count of children wholly
+   * inside.
+   */
+  private split(field: number, step: number): number {
+    const list = this.current;
+    const out = this.next;
+    out.count = 0;
+    const at = list.at;
+    const corners = list.corners;
+    for (let c = 0; c < list.count; c++) {
+      const i0 = at[2 * c]!;
+      const j0 = at[2 * c + 1]!;
+      const v00 = corners[4 * c]!;
+      const v20 = corners[4 * c + 1]!;
+      const v02 = corners[4 * c + 2]!;
+      const v22 = corners[4 * c + 3]!;
+      const v10 = this.value(field, i0 + step, j0);
+      const v01 = this.value(field, i0, j0 + step);
+      const v11 = this.value(field, i0 + step, j0 + step);
+      const v21 = this.value(field, i0 + 2 * step, j0 + step);
+      const v12 = this.value(field, i0 + step, j0 + 2 * step);
+      this.child(out, i0, j0, v00, v10, v01, v11);
+      this.child(out, i0 + step, j0, v10, v20, v11, v21);
+      this.child(out, i0, j0 + step, v01, v11, v02, v12);
+      this.child(out, i0 + step, j0 + step, v11, v21, v12, v22);
+    }
+    const inside = this.fullChildren;
+    this.fullChildren = 0;
+    this.current = out;
+    this.next = list;
+    return inside;
   }
 
   private readonly cells = new BoundaryCells();
-  private readonly simpleResult = { area: 0, error: 0, partialLeft: 0 };
+  private readonly edgeKeys = new Int32Array(4);
+  private simpleArea = 0;
+  private simpleError = 0;
+  private simplePartialLeft = 0;
 
   /**
-   * The listed level-0 cells that the boundary crosses simply (two crossings, every corner a value of
-   * the field itself, not a node of another region masked out) are measured by BoundaryCells and
-   * removed from the list, when their error estimate is within an equal share of a quarter of the
-   * tolerance (of the level-0 area estimate `rough`); the others stay for refinement. Returns their
-   * area and summed error estimate (m²) and the triangle estimate of the cells left (in cells).
+   * The listed cells of `level` that the boundary crosses simply (two crossings, every corner a value
+   * of the field itself, not a coarse node of another region masked out) are measured by
+   * BoundaryCells and leave the list when their error estimate is within `share`; the others stay.
+   * Sets simpleArea and simpleError (m²) and simplePartialLeft (the triangle estimate of the cells
+   * left, in cells of this level).
    */
-  private simpleCells(field: number, tolerance: number, rough: number): { area: number; error: number; partialLeft: number } {
+  private measureSimple(field: number, level: number, share: number): void {
     const grid = this.grid!;
-    const { nx } = grid;
     const list = this.current;
     const cells = this.cells;
-    cells.begin(grid, this.sampler!, field === 1 ? 1 : 0);
-    const share = (0.25 * tolerance * Math.abs(rough)) / Math.max(list.count, 1);
-    const S = 1 << MAX_LEVEL;
+    const step = (1 << MAX_LEVEL) >> level;
+    const size = step * this.hf;
+    const keys = this.edgeKeys;
+    // Edge keys: (level, orientation, fine-lattice start), unique while they fit 31 bits.
+    const width = this.fineWidth;
+    const keyed = (2 * MAX_LEVEL + 2) * width * width < 2 ** 31;
     let area = 0;
     let error = 0;
     let partialLeft = 0;
     let kept = 0;
     const { at, corners } = list;
     for (let c = 0; c < list.count; c++) {
-      const i = at[2 * c]! / S;
-      const j = at[2 * c + 1]! / S;
+      const fi = at[2 * c]!;
+      const fj = at[2 * c + 1]!;
       const a = corners[4 * c]!;
       const b = corners[4 * c + 1]!;
       const cc = corners[4 * c + 2]!;
       const d = corners[4 * c + 3]!;
-      const k = j * nx + i;
-      const plain = field === 1 || (this.isTrue(k, a) && this.isTrue(k + 1, b) && this.isTrue(k + nx, cc) && this.isTrue(k + nx + 1, d));
+      const plain = field === 1 || (this.isTrue(fi, fj, a) && this.isTrue(fi + step, fj, b) && this.isTrue(fi, fj + step, cc) && this.isTrue(fi + step, fj + step, d));
       const inside = (a >= 0 ? 1 : 0) + (b >= 0 ? 1 : 0) + (cc >= 0 ? 1 : 0) + (d >= 0 ? 1 : 0);
       if (plain && inside > 0 && inside < 4) {
-        const value = cells.cellArea(i, j, a, b, cc, d);
-        if (!Number.isNaN(value) && cells.cellError <= share) {
+        const base = 2 * level;
+        keys[0] = keyed ? (base * width + fj) * width + fi : -1;
+        keys[1] = keyed ? ((base + 1) * width + fj) * width + fi + step : -1;
+        keys[2] = keyed ? (base * width + fj + step) * width + fi : -1;
+        keys[3] = keyed ? ((base + 1) * width + fj) * width + fi : -1;
+        const value = cells.cellArea(grid.x0 + fi * this.hf, grid.y0 + fj * this.hf, size, a, b, cc, d, keys);
+        if (!Number.isNaN(value) && (cells.cellError <= share || level >= ACCEPT_LEVEL)) {
           area += value;
           error += cells.cellError;
           continue;
@@ -393,24 +412,26 @@ export class AdaptiveArea {
       }
       partialLeft += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, cc));
       if (kept !== c) {
-        at[2 * kept] = at[2 * c]!;
-        at[2 * kept + 1] = at[2 * c + 1]!;
+        at[2 * kept] = fi;
+        at[2 * kept + 1] = fj;
         for (let q = 0; q < 4; q++) corners[4 * kept + q] = corners[4 * c + q]!;
       }
       kept++;
     }
     list.count = kept;
-    this.subsamples += cells.samples;
-    const r = this.simpleResult;
-    r.area = area;
-    r.error = error;
-    r.partialLeft = partialLeft;
-    return r;
+    this.simpleArea = area;
+    this.simpleError = error;
+    this.simplePartialLeft = partialLeft;
   }
 
-  /** Whether the masked value of coarse node k is the usability margin itself (not a usable node of another region). */
-  private isTrue(k: number, masked: number): boolean {
-    return masked === this.grid!.values[k]!;
+  /**
+   * Whether a corner value at fine-lattice node (fi, fj) is the usability margin itself: true for
+   * sub-samples, and for coarse nodes unless masked out as a usable node of another region.
+   */
+  private isTrue(fi: number, fj: number, value: number): boolean {
+    const mask = (1 << MAX_LEVEL) - 1;
+    if ((fi & mask) !== 0 || (fj & mask) !== 0) return true;
+    return value === this.grid!.values[(fj >> MAX_LEVEL) * this.grid!.nx + (fi >> MAX_LEVEL)]!;
   }
 
   /** Appends points to the boundary list. */
@@ -597,15 +618,14 @@ export class AdaptiveArea {
 
   private fullChildren = 0;
 
-  /** One child sub-cell: counts it when wholly inside, lists it when undecided; returns its partial share. */
-  private child(out: CellList, i: number, j: number, a: number, b: number, c: number, d: number): number {
+  /** One child sub-cell: counts it when wholly inside, lists it when undecided. */
+  private child(out: CellList, i: number, j: number, a: number, b: number, c: number, d: number): void {
     if (a >= 0 && b >= 0 && c >= 0 && d >= 0) {
       this.fullChildren++;
-      return 0;
+      return;
     }
-    if (a < 0 && b < 0 && c < 0 && d < 0) return 0;
+    if (a < 0 && b < 0 && c < 0 && d < 0) return;
     out.push(i, j, a, b, c, d);
-    return 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
   }
 
   /** Whether a node of the ring around coarse cell (i, j) lies in the region (masked ≥ 0 there). */
@@ -617,34 +637,6 @@ export class AdaptiveArea {
     }
     return false;
   }
-
-  /**
-   * Area and error from the estimates of levels 0 … level (see the file comment): Richardson's
-   * correction when the last two differences fall by about four (then its size is the error);
-   * otherwise the last estimate, with the larger of the last difference and a quarter of the one before as its error (an
-   * erratic sequence whose last step happens to be small is not taken as converged).
-   */
-  private extrapolate(level: number): void {
-    const est = this.estimates;
-    const last = est[level]!;
-    const d2 = last - est[level - 1]!;
-    this.resultArea = last;
-    if (level >= 2) {
-      const d1 = est[level - 1]! - est[level - 2]!;
-      const ratio = d1 / d2;
-      if (d2 !== 0 && ratio > 2.5 && ratio < 6.5) {
-        this.resultArea = last + d2 / 3;
-        this.resultError = Math.abs(d2) / 3;
-        return;
-      }
-      this.resultError = Math.max(Math.abs(d2), Math.abs(d1) / 4);
-      return;
-    }
-    this.resultError = Math.abs(d2);
-  }
-
-  private resultArea = 0;
-  private resultError = 0;
 
   /** Zero crossings along the edges of the finest undecided sub-cells of the workspace field. */
   private collectBoundary(level: number): void {

@@ -19,26 +19,29 @@
  * Crossings are cached per coarse edge, so neighbouring cells share them. Every solved point is a
  * sample of the field through the caller's sampler (no allocation per point).
  */
-import type { MarginGrid } from './grid.js';
-
 /** Samples one point: writes the usability margin and the reach margin into out[0], out[1]. */
 export type FieldSampler = (x: number, y: number, out: Float64Array) => void;
 
 /** Illinois steps per root at most, and the relative bracket width at which a root is taken as found. */
 const MAX_STEPS = 12;
 const ROOT_TOLERANCE = 1e-4;
+/** Slots of the crossing cache. */
+const EDGE_BITS = 14;
+const EDGE_CACHE = 1 << EDGE_BITS;
 /** Boundary points written per simple cell for the inscribed radius: the crossings and this many along the parabola between them. */
 const POINTS_BETWEEN = 7;
 
 /** Per-cell results of BoundaryCells.cellArea. */
 export class BoundaryCells {
-  private grid: MarginGrid | null = null;
   private sampler: FieldSampler | null = null;
   private field = 0;
   private readonly out = new Float64Array(2);
-  private edgeStamp = new Int32Array(0);
-  private edgeX = new Float64Array(0);
-  private edgeY = new Float64Array(0);
+  /** Crossings by edge key (open addressing; see cellArea), valid for one begin. */
+  private readonly edgeStamp = new Int32Array(EDGE_CACHE);
+  private readonly edgeKey = new Int32Array(EDGE_CACHE);
+  private readonly edgeX = new Float64Array(EDGE_CACHE);
+  private readonly edgeY = new Float64Array(EDGE_CACHE);
+  private edgesCached = 0;
   private epoch = 0;
   /** Samples taken since begin. */
   samples = 0;
@@ -48,20 +51,13 @@ export class BoundaryCells {
   points = new Float64Array(2048);
   pointCount = 0;
 
-  /** Starts a field (0: usability margin, 1: reach margin) on a sampled coarse grid. */
-  begin(grid: MarginGrid, sampler: FieldSampler, field: number): void {
-    this.grid = grid;
+  /** Starts a field (0: usability margin, 1: reach margin). */
+  begin(sampler: FieldSampler, field: number): void {
     this.sampler = sampler;
     this.field = field;
     this.samples = 0;
     this.pointCount = 0;
-    const edges = 2 * grid.capacity;
-    if (this.edgeStamp.length < edges) {
-      this.edgeStamp = new Int32Array(edges);
-      this.edgeX = new Float64Array(edges);
-      this.edgeY = new Float64Array(edges);
-      this.epoch = 0;
-    }
+    this.edgesCached = 0;
     this.epoch++;
     if (this.epoch > 0x3fffffff) {
       this.edgeStamp.fill(0);
@@ -76,21 +72,31 @@ export class BoundaryCells {
   }
 
   /**
-   * The crossing on the edge from node k0 (value v0, at x0, y0) along (dx, dy) to the next node
-   * (value v1), cached by edge index `edge`; written to crossX, crossY.
+   * The crossing on the edge from (x0, y0) (value v0) along (dx, dy) to the next corner (value v1),
+   * cached by `edge` (a key unique to the edge, or −1 for none); written to crossX, crossY.
    */
   private crossing(edge: number, x0: number, y0: number, dx: number, dy: number, v0: number, v1: number): void {
-    if (this.edgeStamp[edge] === this.epoch) {
-      this.crossX = this.edgeX[edge]!;
-      this.crossY = this.edgeY[edge]!;
-      return;
+    let slot = edge < 0 ? -1 : Math.imul(edge, 0x9e3779b1) >>> (32 - EDGE_BITS);
+    if (slot >= 0) {
+      for (;;) {
+        if (this.edgeStamp[slot] !== this.epoch) break;
+        if (this.edgeKey[slot] === edge) {
+          this.crossX = this.edgeX[slot]!;
+          this.crossY = this.edgeY[slot]!;
+          return;
+        }
+        slot = (slot + 1) & (EDGE_CACHE - 1);
+      }
     }
     const t = this.root(x0, y0, dx, dy, 0, v0, 1, v1);
     this.crossX = x0 + t * dx;
     this.crossY = y0 + t * dy;
-    this.edgeStamp[edge] = this.epoch;
-    this.edgeX[edge] = this.crossX;
-    this.edgeY[edge] = this.crossY;
+    if (slot < 0 || this.edgesCached + 1 > EDGE_CACHE >> 1) return;
+    this.edgesCached++;
+    this.edgeStamp[slot] = this.epoch;
+    this.edgeKey[slot] = edge;
+    this.edgeX[slot] = this.crossX;
+    this.edgeY[slot] = this.crossY;
   }
 
   private crossX = 0;
@@ -124,48 +130,44 @@ export class BoundaryCells {
   }
 
   /**
-   * Area (m²) of the positive set in coarse cell (i, j) with corner values a = (i, j), b = (i+1, j),
-   * c = (i, j+1), d = (i+1, j+1), when the boundary crosses it simply; NaN otherwise (a saddle, no
-   * or four crossings, or an arc whose bisector root is not found within half a chord). Sets cellError.
+   * Area (m²) of the positive set in the square cell of side h with lower-left corner (x0, y0) and
+   * corner values a = (x0, y0), b = (x0 + h, y0), c = (x0, y0 + h), d = (x0 + h, y0 + h), when the
+   * boundary crosses it simply; NaN otherwise (a saddle, no or four crossings, or an arc whose
+   * bisector root is not found within half a chord). Sets cellError. `edges` keys the cell's bottom,
+   * right, top and left edges (keys[0 … 3], −1 for none) so that neighbours share their crossings.
    */
-  cellArea(i: number, j: number, a: number, b: number, c: number, d: number): number {
-    const grid = this.grid!;
-    const { nx, h } = grid;
+  cellArea(x0: number, y0: number, h: number, a: number, b: number, c: number, d: number, keys: Int32Array): number {
     const pa = a >= 0;
     const pb = b >= 0;
     const pc = c >= 0;
     const pd = d >= 0;
     // A saddle (diagonal corners alike, neighbours unlike) has four crossings: not simple.
     if (pa === pd && pb === pc && pa !== pb) return Number.NaN;
-    const x0 = grid.x0 + i * h;
-    const y0 = grid.y0 + j * h;
-    const k = j * nx + i;
-    const vertical = grid.capacity;
     // Walk the cell counter-clockwise: a → b → d → c, writing the inside corners and the crossings.
     const poly = this.poly;
     let n = 0;
     let crossings = 0;
     if (pa) { poly[n++] = x0; poly[n++] = y0; }
     if (pa !== pb) {
-      this.crossing(k, x0, y0, h, 0, a, b);
+      this.crossing(keys[0]!, x0, y0, h, 0, a, b);
       poly[n++] = this.crossX; poly[n++] = this.crossY;
       this.recordCrossing(crossings++);
     }
     if (pb) { poly[n++] = x0 + h; poly[n++] = y0; }
     if (pb !== pd) {
-      this.crossing(vertical + k + 1, x0 + h, y0, 0, h, b, d);
+      this.crossing(keys[1]!, x0 + h, y0, 0, h, b, d);
       poly[n++] = this.crossX; poly[n++] = this.crossY;
       this.recordCrossing(crossings++);
     }
     if (pd) { poly[n++] = x0 + h; poly[n++] = y0 + h; }
     if (pd !== pc) {
-      this.crossing(k + nx, x0, y0 + h, h, 0, c, d);
+      this.crossing(keys[2]!, x0, y0 + h, h, 0, c, d);
       poly[n++] = this.crossX; poly[n++] = this.crossY;
       this.recordCrossing(crossings++);
     }
     if (pc) { poly[n++] = x0; poly[n++] = y0 + h; }
     if (pc !== pa) {
-      this.crossing(vertical + k, x0, y0, 0, h, a, c);
+      this.crossing(keys[3]!, x0, y0, 0, h, a, c);
       poly[n++] = this.crossX; poly[n++] = this.crossY;
       this.recordCrossing(crossings++);
     }

@@ -44,7 +44,7 @@ const BOUND = 0.005;
  * quarter) so that it cannot get worse unnoticed. See docs/evaluation.md.
  */
 const KNOWN_SHORT: Readonly<Record<string, Readonly<Record<number, number>>>> = {
-  '3-prr': { 1: 0.0073, 7: 0.0098 },
+  '3-prr': { 1: 0.0071, 7: 0.0097 },
 };
 
 function relative(value: number, expected: number): number {

@@ -110,7 +110,14 @@ export class AdaptiveArea {
   /** Boundary points of the last workspace field (finest level): x, y interleaved; see boundaryCount. */
   boundary = new Float64Array(4096);
   boundaryCount = 0;
-  /** Arms thinner than a coarse cell and cells shared with another region, measured densely (thinParts.ts). */
+  /**
+   * Whether arms thinner than a coarse cell are looked for and measured densely (thinParts.ts). The
+   * evaluator turns it off for 2-DOF designs: on the 20 + 10 reference designs of those the corner
+   * refinement alone is within 0.5 % (tests/mechanics/adaptive-accuracy.test.ts), and the pass would
+   * cost the five-bar demo about 6 % more samples.
+   */
+  thinArms = true;
+  /** Arms thinner than a coarse cell, measured densely (thinParts.ts). */
   private readonly thin = new ThinParts({ sample: (fi, fj) => this.value(2, fi, fj), addBoundaryPoint: (x, y) => this.pushBoundary(x, y) });
   /** Sub-samples taken in the last `begin` … calls. */
   get samples(): number {
@@ -269,7 +276,7 @@ export class AdaptiveArea {
     let full = 0;
     let partial = 0;
     this.current.count = 0;
-    const thin = field === 0 ? this.thin : null;
+    const thin = field === 0 && this.thinArms ? this.thin : null;
     thin?.mark(grid, this.masked);
     for (let j = 0; j + 1 < ny; j++) {
       for (let i = 0; i + 1 < nx; i++) {

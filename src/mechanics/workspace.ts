@@ -226,6 +226,7 @@ export function sampleAdaptive(
     // The reach margin is bounded by the box, as on the fixed grid when its cells shrink.
     out[1] = Math.min(kernel.reach, x - box.xmin, box.xmax - x, y - box.ymin, box.ymax - y);
   };
+  adaptive.thinArms = architecture.dof === 3;
   adaptive.begin(grid, sampler, region);
   const exact = w ? null : twoCrankReachableArea(model);
   const reachable = exact !== null ? { area: exact, error: 0, levels: 0 } : adaptive.area(1, tolerance);

@@ -224,6 +224,7 @@ class WorstValues {
  * exact for polynomials of degree 9 and 15 in each parameter.
  */
 const SMOOTH_RULES = [gaussLegendre(5), gaussLegendre(8)] as const;
+const SMOOTH_ERROR_FACTOR = 3;
 
 export class RegionMetrics {
   private readonly study: Study;
@@ -431,9 +432,9 @@ export class RegionMetrics {
 
   /**
    * gci over a task region assembled at every lattice node, by tensor Gauss–Legendre rules of
-   * SMOOTH_ORDERS (gaussRule.ts) in the region's parameters: accepted when every rule point is
-   * assembled too and the two rules agree within a quarter of the tolerance (the higher one's value,
-   * their difference as its error estimate). False (nothing written) otherwise: an edge of the
+   * SMOOTH_RULES (gaussRule.ts) in the region's parameters: accepted when every rule point is
+   * assembled too and three times the two rules' difference (the error estimate of the higher one's
+   * value) is within half the tolerance. False (nothing written) otherwise: an edge of the
    * assembled part or a sharp feature inside the region, left to the refined lattice quadrature.
    */
   private smoothTaskMean(lattice: TaskLattice, values: Float64Array, nodes: number): boolean {
@@ -450,8 +451,12 @@ export class RegionMetrics {
     if (low === null) return false;
     const high = tensorIntegral(SMOOTH_RULES[1], integrand);
     if (high === null) return false;
-    const error = Math.abs(high - low);
-    if (!(error <= 0.25 * this.tolerance * Math.abs(high))) return false;
+    // The difference of the two rules overstates the error of the higher one for a smooth integrand,
+    // but where 1/κ has a kink in the region (an isotropic point, a switch of the smaller singular
+    // value) both converge slowly: three times the difference, measured to cover the error of the
+    // 8 × 8 rule on random demo designs against the converged quadrature.
+    const error = SMOOTH_ERROR_FACTOR * Math.abs(high - low);
+    if (!(error <= 0.5 * this.tolerance * Math.abs(high))) return false;
     this.gci = high / lattice.area;
     this.gciError = error / lattice.area;
     return true;

@@ -104,24 +104,19 @@ export function orientationRangeAt<M extends ArchitectureModelBase>(
   const accept = options.accept ?? ASSEMBLED_AND_REGULAR;
   const samples = Math.max(3, Math.ceil((2 * Math.PI) / step));
   const h = (2 * Math.PI) / samples;
-  // Lattice index k (any integer) stands for angle −π + (k mod samples)·h, as the scan tests it.
-  const inside = (k: number): boolean => {
-    const m = ((k % samples) + samples) % samples;
-    return accept(pose, architecture.solvePose(model, pose, x, y, m === 0 ? -Math.PI : -Math.PI + m * h));
-  };
   const wrapped = phi0 - 2 * Math.PI * Math.floor((phi0 + Math.PI) / (2 * Math.PI));
   let k0 = Math.floor((wrapped + Math.PI) / h);
   if (-Math.PI + k0 * h > wrapped) k0--;
-  if (!inside(k0) || !inside(k0 + 1)) return false;
+  if (!latticeInside(architecture, model, pose, x, y, accept, samples, k0) || !latticeInside(architecture, model, pose, x, y, accept, samples, k0 + 1)) return false;
   let up = k0 + 2;
-  while (up < k0 + samples && inside(up)) up++;
+  while (up < k0 + samples && latticeInside(architecture, model, pose, x, y, accept, samples, up)) up++;
   if (up >= k0 + samples) {
     out[0] = -Math.PI;
     out[1] = Math.PI;
     return true;
   }
   let down = k0 - 1;
-  while (inside(down)) down--;
+  while (latticeInside(architecture, model, pose, x, y, accept, samples, down)) down--;
   // The scan meets the start at index kS ∈ [1, samples] and the end at kE ∈ [1, samples].
   const kS = (((down % samples) + samples) % samples) + 1;
   const kE = ((((up - 1) % samples) + samples) % samples) + 1;
@@ -136,6 +131,21 @@ export function orientationRangeAt<M extends ArchitectureModelBase>(
   out[0] = lo;
   out[1] = hi;
   return true;
+}
+
+/** Whether lattice index k (any integer: angle −π + (k mod samples)·h, as the scan tests it) is accepted. */
+function latticeInside<M extends ArchitectureModelBase>(
+  architecture: PlanarArchitecture<M>,
+  model: M,
+  pose: ArchitecturePose,
+  x: number,
+  y: number,
+  accept: PoseAcceptance,
+  samples: number,
+  k: number,
+): boolean {
+  const m = ((k % samples) + samples) % samples;
+  return accept(pose, architecture.solvePose(model, pose, x, y, m === 0 ? -Math.PI : -Math.PI + m * ((2 * Math.PI) / samples)));
 }
 
 /** The bisection of `orientationRanges` between an outside and an inside angle: the inside end when bracketed to `tolerance`. */

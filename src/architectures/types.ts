@@ -218,6 +218,15 @@ export class ArchitecturePose {
   /** Largest singular value of J_h. */
   maxSingularValue = 0;
 
+  /**
+   * Set by a caller that reads only the margins of the next solve (src/mechanics/workspace.ts
+   * PointKernel): a revolute leg whose joint is certainly more than 1 rad inside its range (by the
+   * sign test of `jointTest`) then skips its angle, writing 1 rad as its joint margin and NaN as q.
+   */
+  marginOnly = false;
+  /** Per leg: the unit direction of the middle of its joint range and cos(half span − 1 rad) (> 1: never skip). */
+  readonly jointTest: Float64Array;
+
   /** Scratch for the routines (not data). */
   readonly work = new Float64Array(WORK_LENGTH);
   readonly work2 = new Float64Array(WORK_LENGTH);
@@ -229,6 +238,7 @@ export class ArchitecturePose {
     this.q = new Float64Array(n);
     this.legReach = new Float64Array(n);
     this.legJoint = new Float64Array(n);
+    this.jointTest = new Float64Array(3 * n).fill(2);
     this.actuatorDirection = new Float64Array(2 * n);
     this.proximalJoint = new Float64Array(2 * n);
     this.distalJoint = new Float64Array(2 * n);

@@ -44,17 +44,18 @@ export interface DesignEvaluatorLike {
   evaluateWithWorkspace?(design: Float64Array, workspace: Float64Array): { metrics: Float64Array; margins: Float64Array; violation: number };
 }
 
-let evaluator: DesignEvaluatorLike | null = null;
+/** The worker's one evaluator, made on its first task (two tasks may be in hand at once: made once). */
+let evaluator: Promise<DesignEvaluatorLike> | null = null;
 
-async function evaluatorOfWorker(): Promise<DesignEvaluatorLike> {
-  if (evaluator) return evaluator;
+async function makeEvaluator(): Promise<DesignEvaluatorLike> {
   const setup = workerData as WorkerSetup;
-  if (setup.evaluatorModule) {
-    const mod = (await import(setup.evaluatorModule)) as { createEvaluator(study: unknown): DesignEvaluatorLike };
-    evaluator = mod.createEvaluator(setup.study);
-  } else {
-    evaluator = new Evaluator(setup.study);
-  }
+  if (!setup.evaluatorModule) return new Evaluator(setup.study);
+  const mod = (await import(setup.evaluatorModule)) as { createEvaluator(study: unknown): DesignEvaluatorLike };
+  return mod.createEvaluator(setup.study);
+}
+
+function evaluatorOfWorker(): Promise<DesignEvaluatorLike> {
+  evaluator ??= makeEvaluator();
   return evaluator;
 }
 

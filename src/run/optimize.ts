@@ -196,21 +196,15 @@ function spreadFrame(frame: HypervolumeFrame | null): HypervolumeFrame | null {
  * a spread in every objective).
  */
 export function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
-  const last = store.lastGeneration(runId);
-  if (last === undefined) return;
-  const fronts: number[][][] = [];
-  for (let g = 0; g <= last; g++) {
-    fronts.push(
-      store
-        .generationMembers(runId, g)
-        .filter((m) => m.rank === 0 && m.feasible && m.error === null)
-        .map((m) => sp.study.objectives.map((o) => {
-          const v = m.metrics[o.metric] ?? Number.NaN;
-          const finite = v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v;
-          return o.sense === 'max' ? -finite : finite;
-        })),
-    );
-  }
+  const objectives = sp.study.objectives;
+  const fronts = store.rankZeroFeasibleMetrics(runId, objectives.map((o) => o.metric)).map((members) =>
+    members.map((values) => objectives.map((o, k) => {
+      const v = values[k] ?? Number.NaN;
+      const finite = v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v;
+      return o.sense === 'max' ? -finite : finite;
+    })),
+  );
+  if (fronts.length === 0) return;
   const frame = frameFrom(fronts.flat());
   const values = new Map<number, number | null>();
   fronts.forEach((front, g) => values.set(g, frame ? frameHypervolume(front, frame) : null));
@@ -311,9 +305,8 @@ interface RunSetup {
 }
 
 /** Opens the store and settles the run's settings; refuses a bad --from or --more before anything is created. */
-function setUpRun(studyIn: LoadedStudy, options: RunOptions): RunSetup {
+function setUpRun(studyIn: LoadedStudy, sp: StudyProblem, options: RunOptions): RunSetup {
   const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
-  const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const population = options.population ?? loaded.study.optimizer.population;
   const algorithm = loaded.study.optimizer.algorithm;
@@ -426,10 +419,18 @@ function runSummary(tracker: TerminationTracker, figures: Omit<RunSummary, 'wind
 }
 
 export async function runOptimization(studyIn: LoadedStudy, options: RunOptions): Promise<RunSummary> {
-  const setup = setUpRun(studyIn, options);
-  const { loaded, sp, population, algorithm, warm, store, plan } = setup;
+  const sp = studyProblem(studyIn.study);
+  // The workers start first: they load their modules while this thread opens the store and settles the run.
+  const pool = new EvaluationPool(studyIn.study, sp.variables.length, sp.constraints.length, options);
+  let setup: RunSetup;
+  try {
+    setup = setUpRun(studyIn, sp, options);
+  } catch (error) {
+    await pool.close();
+    throw error;
+  }
+  const { loaded, population, algorithm, warm, store, plan } = setup;
   const nsgaSettings = plan.nsga;
-  const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
   let ownedRunId: number | undefined;
   try {
     store.ensureColumns(sp.columns);
@@ -512,6 +513,8 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         break;
       }
     }
+    // No more evaluations: the threads end while the last generation and the final record are written.
+    void pool.close();
     flush();
     if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
     store.setRunEnd(runId, status === 'finished' ? endReason ?? 'budget' : null, termination);

@@ -63,7 +63,7 @@ export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Pro
   const layout = designLayout(sp.problem);
   const designs = options.method === 'grid' ? gridDesigns(layout, options.samples) : latinHypercube(options.samples, layout, new SeededRandom(seed));
   const store = Store.open(options.dbPath, { access: 'write' });
-  const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
+  const pool = new EvaluationPool(loaded.study, sp.variables.length, sp.constraints.length, options);
   try {
     const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
     store.ensureColumns(sp.columns);

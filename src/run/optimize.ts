@@ -407,7 +407,8 @@ function generationRecord(
     frame,
     members: members.map((m) => ({ key: evaluationKey(settingsHash, m.design), rank: m.rank, crowding: m.crowding })),
     counts: { evaluations: at.designs, newEvaluations: at.newRecords, failed: at.failed, feasibleCount, hypervolume, evaluationsPerSecond: at.elapsed > 0 ? at.newRecords / at.elapsed : 0 },
-    optimizerState: JSON.stringify(state),
+    // A fresh plain object (snapshot), made into text when the generation is written, off the critical path.
+    optimizerState: state,
   };
 }
 
@@ -454,11 +455,11 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     // The store write of generation g runs on the main thread while the workers evaluate generation
     // g + 1; its records are served from memory until then, so the database ends up exactly as if
     // every generation had been written before the next was asked for.
-    let pendingWrite: GenerationWrite | null = null;
+    let pendingWrite: (Omit<GenerationWrite, 'optimizerState'> & { optimizerState: RunState }) | null = null;
     let pendingRecords = new Map<string, NewEvaluation>();
     const flush = (): void => {
       if (!pendingWrite) return;
-      store.writeGeneration(pendingWrite);
+      store.writeGeneration({ ...pendingWrite, optimizerState: JSON.stringify(pendingWrite.optimizerState) });
       pendingWrite = null;
       pendingRecords = new Map();
     };

@@ -59,7 +59,16 @@ function evaluatorOfWorker(): Promise<DesignEvaluatorLike> {
   return evaluator;
 }
 
+/** A turn of the event loop (a macrotask). */
+function nextTurn(): Promise<void> {
+  return new Promise((resolve) => setImmediate(resolve));
+}
+
 export default async function evaluateBatch(task: EvaluationTask): Promise<EvaluationTaskResult> {
+  // A worker holds up to two tasks (the pool's next one arrives while it evaluates): each starts on its
+  // own turn of the event loop, so the result of the first goes back before the second is evaluated,
+  // and the pool can hand out the remaining work by who is free.
+  await nextTurn();
   const evaluator = await evaluatorOfWorker();
   const nv = evaluator.variables.length;
   const nm = METRICS.length;

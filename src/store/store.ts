@@ -1036,9 +1036,10 @@ export class Store {
   rankZeroFeasibleMetrics(runId: number, metrics: readonly string[]): (number | null)[][][] {
     const last = this.lastGeneration(runId);
     if (last === undefined) return [];
-    for (const name of metrics) {
-      if (!this.knownColumns.has(METRIC_PREFIX + name)) throw new StoreError(`metric ${name} has no column in this store`);
-    }
+    const unknown = (): string | undefined => metrics.find((name) => !this.knownColumns.has(METRIC_PREFIX + name));
+    if (unknown() !== undefined) this.reloadColumns(); // another connection may have added it
+    const missing = unknown();
+    if (missing !== undefined) throw new StoreError(`metric ${missing} has no column in this store`);
     const columns = metrics.map((name) => `e.${quoteIdentifier(METRIC_PREFIX + name)}`);
     const rows = this.db
       .prepare(

@@ -12,10 +12,10 @@ import { createOptimizer, type AskTellOptimizer } from '../optimizer/algorithm.j
 import { TerminationTracker, type EndReason, type Termination, type TerminationState } from '../optimizer/termination.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
-import { canonicalJson, Store, type GenerationWrite, type NewEvaluation, type RunRow } from '../store/store.js';
+import { canonicalJson, Store, type GenerationWrite, type RunRow } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
 import { evaluationKey, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
-import { evaluateWithCache } from './batch.js';
+import { evaluateWithCache, WriteBehind } from './batch.js';
 
 export interface RunOptions extends PoolOptions {
   readonly dbPath: string;
@@ -452,17 +452,10 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     let archiveSize = optimizer.archive().length;
     let done = optimizer.generation >= 0 && termination.generations !== undefined && optimizer.generation >= termination.generations;
     if (done) endReason = 'budget';
-    // The store write of generation g runs on the main thread while the workers evaluate generation
-    // g + 1; its records are served from memory until then, so the database ends up exactly as if
-    // every generation had been written before the next was asked for.
-    let pendingWrite: (Omit<GenerationWrite, 'optimizerState'> & { optimizerState: RunState }) | null = null;
-    let pendingRecords = new Map<string, NewEvaluation>();
-    const flush = (): void => {
-      if (!pendingWrite) return;
-      store.writeGeneration({ ...pendingWrite, optimizerState: JSON.stringify(pendingWrite.optimizerState) });
-      pendingWrite = null;
-      pendingRecords = new Map();
-    };
+    // The store write of generation g runs on the main thread while the workers evaluate generation g + 1.
+    const writes = new WriteBehind<Omit<GenerationWrite, 'optimizerState'> & { optimizerState: RunState }>((held) =>
+      store.writeGeneration({ ...held, optimizerState: JSON.stringify(held.optimizerState) }),
+    );
     while (!done) {
       const generation = optimizer.generation + 1;
       const genStart = performance.now();
@@ -471,7 +464,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         // Warm start: the earlier run's final population first, then space-filling designs up to the initial size.
         designs = [...warm.designs, ...designs].slice(0, designs.length);
       }
-      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, pendingRecords, flush);
+      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, writes.records, writes.flush);
       optimizer.tell(designs, evaluations);
       evaluationsSoFar += designs.length;
       const decision = tracker.afterGeneration(optimizer.generation, evaluationsSoFar, population, optimizer.archive().map((m) => minimised(sp, m.evaluation)));
@@ -483,15 +476,14 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       const record = generationRecord(optimizer, sp, loaded.settingsHash, frame, { tracker, evaluationsSoFar, designs: designs.length, newRecords: newRecords.length, failed, elapsed });
       frame = record.frame;
       const counts = record.counts;
-      pendingWrite = {
+      writes.hold({
         runId,
         generation,
         newEvaluations: newRecords,
         members: record.members,
         stats: { ...counts, elapsedSeconds: elapsed, archiveSize, hvImprovement: lastImprovement },
         optimizerState: record.optimizerState,
-      };
-      for (const record of newRecords) pendingRecords.set(record.key, record);
+      });
       totalEvaluations += designs.length;
       totalNew += newRecords.length;
       options.onGeneration?.({
@@ -516,7 +508,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     }
     // No more evaluations: the threads end while the last generation and the final record are written.
     void pool.close();
-    flush();
+    writes.flush();
     if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
     store.setRunEnd(runId, status === 'finished' ? endReason ?? 'budget' : null, termination);
     store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);

@@ -210,13 +210,14 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
     const distalY = y + ry;
     pose.distalJoint[2 * i] = distalX;
     pose.distalJoint[2 * i + 1] = distalY;
-    const m = model.legs[i]!.solve(model, i, distalX, distalY, pose);
+    const reaches = model.legs[i]!.solve(model, i, distalX, distalY, pose);
     const margin = pose.legReach[i]!;
     if (margin < reach) reach = margin;
-    if (Number.isNaN(m)) {
+    if (!reaches) {
       reachable = false;
       continue;
     }
+    const m = pose.legJoint[i]!;
     if (m < joint) joint = m;
     if (n === 3) A[i * n + 2] = rx * pose.rodDirection[2 * i + 1]! - ry * pose.rodDirection[2 * i]!;
   }

@@ -156,6 +156,8 @@ export class ArchitecturePose {
   reachMargin = 0;
   /** Reach margin of each leg, m (see LegKind.solve). */
   readonly legReach: Float64Array;
+  /** Joint-range margin of each leg's actuated joint (see LegKind.solve). */
+  readonly legJoint: Float64Array;
   /** Smallest joint-range margin, in joint units (rad or m; +∞ when unlimited). */
   jointMargin = Infinity;
   /** Actuated joint positions q_i: rad (revolute) or m (prismatic slider position along its rail). */
@@ -226,6 +228,7 @@ export class ArchitecturePose {
     const n = dof;
     this.q = new Float64Array(n);
     this.legReach = new Float64Array(n);
+    this.legJoint = new Float64Array(n);
     this.actuatorDirection = new Float64Array(2 * n);
     this.proximalJoint = new Float64Array(2 * n);
     this.distalJoint = new Float64Array(2 * n);

@@ -33,7 +33,11 @@ const TWO_PI = 2 * Math.PI;
 export function jointRangeMargin(theta: number, range: JointRange | null): number {
   if (range === null) return Infinity;
   const span = range.max - range.min;
-  let t = (theta - range.min) % TWO_PI;
+  // t mod 2π with the sign of t, as `%` gives it, without its library call on the usual path: for
+  // 2π ≤ t < 4π one subtraction is exact (Sterbenz), so the result is bit-identical to `%`.
+  let t = theta - range.min;
+  if (t >= TWO_PI) t = t < 2 * TWO_PI ? t - TWO_PI : t % TWO_PI;
+  else if (t <= -TWO_PI) t %= TWO_PI;
   if (t < 0) t += TWO_PI;
   if (t <= span) return Math.min(t, span - t);
   return -Math.min(t - span, TWO_PI - t);

@@ -1,20 +1,15 @@
 /**
  * Adaptive workspace sampling at a stated accuracy (study setting `evaluation.tolerance`, relative).
  *
- * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). A cell whose
- * corners disagree in sign (or whose smallest corner margin is small against the spread of its
- * corners, so that the zero level may pass through it) is split into four, level after level; only
- * the sub-cells whose corners still disagree are split again. The area of each field's positive set
- * at level k is the sum of the cells known to be wholly inside plus, for the undecided sub-cells of
- * level k, the sub-cell estimate on two triangles (linear interpolation, as MarginGrid.positiveArea).
- * This boundary estimate converges with the square of the sub-cell size, so successive levels
- * A_k are extrapolated (L. F. Richardson 1911, "The approximate arithmetical solution by finite
- * differences of physical problems", Phil. Trans. R. Soc. A 210; from memory) when their differences
- * fall by about four, A ≈ A_k + (A_k − A_{k−1})/3, and the size of that correction, |A_k − A_{k−1}|/3,
- * is the reported error estimate (the larger of |A_k − A_{k−1}| and a quarter of the difference
- * before it when the differences do not fall as h²). Refinement stops when the estimate is below
- * half the tolerance (or at the deepest level). Outside the coarse nodes' reach the method is blind:
- * a part of the region thinner than the sub-cells and away from every split cell is missed.
+ * A coarse grid of nodes is sampled everywhere (workspace.ts labels its usable regions). The cells
+ * whose corners disagree in sign, or whose corner nearest the zero level is close against the spread
+ * of its corners (the zero level may pass through them), are listed. Level by level, a listed cell
+ * the boundary crosses simply is measured from its boundary (crossings.ts: the edge crossings, the
+ * arc's bulge, and a check sample whose miss is the cell's error estimate); any other listed cell is
+ * split into four and its undecided children are listed for the next level, down to MAX_LEVEL. The
+ * area is the cells known to be inside plus the measured ones; the error estimate is the sum of the
+ * cells' estimates. Outside the coarse nodes' reach the method is blind: a part of the region
+ * thinner than a coarse cell and away from every listed cell is missed.
  *
  * Sub-samples are cached by their position on the finest lattice (open addressing, no allocation
  * per point), so neighbouring cells share their edge samples. Two fields are refined from one pass:
@@ -23,11 +18,22 @@
  */
 import type { MarginGrid } from './grid.js';
 import { trianglePositiveFraction } from './grid.js';
+import { BoundaryCells } from './crossings.js';
+import { EmptyCircle } from './emptyCircle.js';
 
 /** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
 export const MAX_LEVEL = 6;
-/** Fewest levels before the error estimate may stop refinement (three estimates for the h² check). */
-const MIN_LEVEL = 2;
+/**
+ * Share of the tolerance (of the coarse area estimate) for the boundary cells' error estimates: each
+ * listed coarse cell may use an equal part of it, each child half of its parent's.
+ */
+const SIMPLE_BUDGET = 0.5;
+/**
+ * From this level on a simply crossed cell is measured whatever its error estimate (which is still
+ * added to the reported error): where two boundaries meet in a cell (a kink) the estimate falls only
+ * with the cell's area, and splitting it down to the deepest level costs more than it gains.
+ */
+const ACCEPT_LEVEL = 2;
 const CACHE_BITS = 17;
 const CACHE_SIZE = 1 << CACHE_BITS;
 /** Stop adding sub-samples beyond this many (half the cache): the estimate then stays at the last full level. */
@@ -44,15 +50,15 @@ export interface AreaEstimate {
   levels: number;
 }
 
-/** Sixteen unit directions of the compass search. */
-const COMPASS_X = Float64Array.from({ length: 16 }, (_, k) => Math.cos((k * Math.PI) / 8));
-const COMPASS_Y = Float64Array.from({ length: 16 }, (_, k) => Math.sin((k * Math.PI) / 8));
 
 /** Lattice refinement of a neck probe (per coarse cell; divides 2^MAX_LEVEL) and the most probes per design. */
 const PROBE_SPLIT = 16;
 /** A uniform coarse cell is refined when its corner nearest the zero level is within this share of its corner spread. */
 const NEAR_FACTOR = 0.5;
-/** Compass searches per inscribed radius (from the starts nearest to the best). */
+/** Eight unit directions of the hops between ascents (see climb). */
+const HOP_X = Float64Array.from({ length: 8 }, (_, k) => Math.cos((k * Math.PI) / 4));
+const HOP_Y = Float64Array.from({ length: 8 }, (_, k) => Math.sin((k * Math.PI) / 4));
+/** Ascents per inscribed radius (from the starts nearest to the best). */
 const SEARCHES = 8;
 const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
 const MAX_PROBES = 64;
@@ -93,7 +99,6 @@ export class AdaptiveArea {
   private readonly point = new Float64Array(2);
   private current = new CellList();
   private next = new CellList();
-  private readonly estimates = new Float64Array(MAX_LEVEL + 1);
   /** Region-masked usability margins of the coarse nodes. */
   private masked = new Float64Array(0);
   private grid: MarginGrid | null = null;
@@ -286,65 +291,167 @@ export class AdaptiveArea {
         partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
       }
     }
-    const est = this.estimates;
     let cellArea = h * h;
     full *= cellArea;
-    est[0] = full + partial * cellArea;
+    // Level by level: the listed cells the boundary crosses simply are measured from their boundary
+    // (crossings.ts); the others are split, their undecided children listed for the next level.
+    const cells = this.cells;
+    cells.begin(this.sampler!, field === 1 ? 1 : 0);
+    let share = (SIMPLE_BUDGET * tolerance * Math.abs(full + partial * cellArea)) / Math.max(this.current.count, 1);
+    let area = full;
+    let error = 0;
     let level = 0;
-    let result = est[0]!;
-    let error = Infinity;
-    while (level < MAX_LEVEL && this.current.count > 0) {
-      if (this.subsamples + 5 * this.current.count > MAX_SUBSAMPLES) break;
+    for (;;) {
+      this.measureSimple(field, level, share);
+      area += this.simpleArea;
+      error += this.simpleError;
+      if (this.current.count === 0) break;
+      if (level === MAX_LEVEL || this.subsamples + cells.samples + 5 * this.current.count > MAX_SUBSAMPLES) {
+        // Unresolved: the triangle estimate, with half of each cell as its error.
+        area += this.simplePartialLeft * cellArea;
+        error += 0.5 * this.current.count * cellArea;
+        break;
+      }
       level++;
       cellArea /= 4;
-      const step = S >> level;
-      const list = this.current;
-      const out = this.next;
-      out.count = 0;
-      partial = 0;
-      let fullCells = 0;
-      const at = list.at;
-      const corners = list.corners;
-      for (let c = 0; c < list.count; c++) {
-        const i0 = at[2 * c]!;
-        const j0 = at[2 * c + 1]!;
-        // The 3 × 3 nodes of the split cell: corners known, five new (or cached) values.
-        const v00 = corners[4 * c]!;
-        const v20 = corners[4 * c + 1]!;
-        const v02 = corners[4 * c + 2]!;
-        const v22 = corners[4 * c + 3]!;
-        const v10 = this.value(field, i0 + step, j0);
-        const v01 = this.value(field, i0, j0 + step);
-        const v11 = this.value(field, i0 + step, j0 + step);
-        const v21 = this.value(field, i0 + 2 * step, j0 + step);
-        const v12 = this.value(field, i0 + step, j0 + 2 * step);
-        partial += this.child(out, i0, j0, v00, v10, v01, v11);
-        partial += this.child(out, i0 + step, j0, v10, v20, v11, v21);
-        partial += this.child(out, i0, j0 + step, v01, v11, v02, v12);
-        partial += this.child(out, i0 + step, j0 + step, v11, v21, v12, v22);
-      }
-      fullCells = this.fullChildren;
-      this.fullChildren = 0;
-      full += fullCells * cellArea;
-      est[level] = full + partial * cellArea;
-      this.current = out;
-      this.next = list;
-      this.extrapolate(level);
-      result = this.resultArea;
-      error = this.resultError;
-      if (level >= MIN_LEVEL && error <= 0.5 * tolerance * Math.abs(result)) break;
+      share /= 2;
+      area += this.split(field, S >> level) * cellArea;
     }
-    if (level === 0) error = this.current.count === 0 ? 0 : est[0]!;
-    if (field === 0) this.collectBoundary(level);
-    return { area: result, error, levels: level };
+    this.subsamples += cells.samples;
+    if (field === 0) {
+      this.collectBoundary(level);
+      this.appendBoundary(cells.points, cells.pointCount);
+    }
+    return { area, error, levels: level };
+  }
+
+  /**
+   * Splits every listed cell (fine-lattice corner, four corner values) into four: five new (or
+   * cached) values; the undecided children become the list. Returns the count of children wholly
+   * inside.
+   */
+  private split(field: number, step: number): number {
+    const list = this.current;
+    const out = this.next;
+    out.count = 0;
+    const at = list.at;
+    const corners = list.corners;
+    for (let c = 0; c < list.count; c++) {
+      const i0 = at[2 * c]!;
+      const j0 = at[2 * c + 1]!;
+      const v00 = corners[4 * c]!;
+      const v20 = corners[4 * c + 1]!;
+      const v02 = corners[4 * c + 2]!;
+      const v22 = corners[4 * c + 3]!;
+      const v10 = this.value(field, i0 + step, j0);
+      const v01 = this.value(field, i0, j0 + step);
+      const v11 = this.value(field, i0 + step, j0 + step);
+      const v21 = this.value(field, i0 + 2 * step, j0 + step);
+      const v12 = this.value(field, i0 + step, j0 + 2 * step);
+      this.child(out, i0, j0, v00, v10, v01, v11);
+      this.child(out, i0 + step, j0, v10, v20, v11, v21);
+      this.child(out, i0, j0 + step, v01, v11, v02, v12);
+      this.child(out, i0 + step, j0 + step, v11, v21, v12, v22);
+    }
+    const inside = this.fullChildren;
+    this.fullChildren = 0;
+    this.current = out;
+    this.next = list;
+    return inside;
+  }
+
+  private readonly cells = new BoundaryCells();
+  private readonly edgeKeys = new Int32Array(4);
+  private simpleArea = 0;
+  private simpleError = 0;
+  private simplePartialLeft = 0;
+
+  /**
+   * The listed cells of `level` that the boundary crosses simply (two crossings, every corner a value
+   * of the field itself, not a coarse node of another region masked out) are measured by
+   * BoundaryCells and leave the list when their error estimate is within `share`; the others stay.
+   * Sets simpleArea and simpleError (m²) and simplePartialLeft (the triangle estimate of the cells
+   * left, in cells of this level).
+   */
+  private measureSimple(field: number, level: number, share: number): void {
+    const grid = this.grid!;
+    const list = this.current;
+    const cells = this.cells;
+    const step = (1 << MAX_LEVEL) >> level;
+    const size = step * this.hf;
+    const keys = this.edgeKeys;
+    // Edge keys: (level, orientation, fine-lattice start), unique while they fit 31 bits.
+    const width = this.fineWidth;
+    const keyed = (2 * MAX_LEVEL + 2) * width * width < 2 ** 31;
+    let area = 0;
+    let error = 0;
+    let partialLeft = 0;
+    let kept = 0;
+    const { at, corners } = list;
+    for (let c = 0; c < list.count; c++) {
+      const fi = at[2 * c]!;
+      const fj = at[2 * c + 1]!;
+      const a = corners[4 * c]!;
+      const b = corners[4 * c + 1]!;
+      const cc = corners[4 * c + 2]!;
+      const d = corners[4 * c + 3]!;
+      const plain = field === 1 || (this.isTrue(fi, fj, a) && this.isTrue(fi + step, fj, b) && this.isTrue(fi, fj + step, cc) && this.isTrue(fi + step, fj + step, d));
+      const inside = (a >= 0 ? 1 : 0) + (b >= 0 ? 1 : 0) + (cc >= 0 ? 1 : 0) + (d >= 0 ? 1 : 0);
+      if (plain && inside > 0 && inside < 4) {
+        const base = 2 * level;
+        keys[0] = keyed ? (base * width + fj) * width + fi : -1;
+        keys[1] = keyed ? ((base + 1) * width + fj) * width + fi + step : -1;
+        keys[2] = keyed ? (base * width + fj + step) * width + fi : -1;
+        keys[3] = keyed ? ((base + 1) * width + fj) * width + fi : -1;
+        const value = cells.cellArea(grid.x0 + fi * this.hf, grid.y0 + fj * this.hf, size, a, b, cc, d, keys);
+        if (!Number.isNaN(value) && (cells.cellError <= share || level >= ACCEPT_LEVEL)) {
+          area += value;
+          error += cells.cellError;
+          continue;
+        }
+      }
+      partialLeft += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, cc));
+      if (kept !== c) {
+        at[2 * kept] = fi;
+        at[2 * kept + 1] = fj;
+        for (let q = 0; q < 4; q++) corners[4 * kept + q] = corners[4 * c + q]!;
+      }
+      kept++;
+    }
+    list.count = kept;
+    this.simpleArea = area;
+    this.simpleError = error;
+    this.simplePartialLeft = partialLeft;
+  }
+
+  /**
+   * Whether a corner value at fine-lattice node (fi, fj) is the usability margin itself: true for
+   * sub-samples, and for coarse nodes unless masked out as a usable node of another region.
+   */
+  private isTrue(fi: number, fj: number, value: number): boolean {
+    const mask = (1 << MAX_LEVEL) - 1;
+    if ((fi & mask) !== 0 || (fj & mask) !== 0) return true;
+    return value === this.grid!.values[(fj >> MAX_LEVEL) * this.grid!.nx + (fi >> MAX_LEVEL)]!;
+  }
+
+  /** Appends points to the boundary list. */
+  private appendBoundary(points: Float64Array, count: number): void {
+    const need = 2 * (this.boundaryCount + count);
+    if (need > this.boundary.length) {
+      const grown = new Float64Array(Math.max(2 * this.boundary.length, need));
+      grown.set(this.boundary.subarray(0, 2 * this.boundaryCount));
+      this.boundary = grown;
+    }
+    this.boundary.set(points.subarray(0, 2 * count), 2 * this.boundaryCount);
+    this.boundaryCount += count;
   }
 
   /**
    * Radius of the largest circle inside the evaluation region (m), without a distance transform of
    * a fine grid: the coarse grid's deepest nodes (MarginGrid.deepCandidates) are the starting
    * centres; each is scored against the boundary points of the finest level (bucketed by coarse
-   * cell, nearest point by rings of cells), and the best few are moved by a compass search (sixteen
-   * directions, step halved when no move helps) that maximises the distance to the boundary.
+   * cell, nearest point by rings of cells), and the best few climb the medial axis of the boundary
+   * points to the largest empty circle (climb, emptyCircle.ts).
    * Call after area(0, …).
    */
   inscribedRadius(region: number): number {
@@ -400,208 +507,45 @@ export class AdaptiveArea {
       }
       this.searchedFrom[searched] = k;
       if (near) continue;
-      const value = this.compassSearch(k, this.nearest(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h));
+      const value = this.climb(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h, h);
       if (value > best) best = value;
     }
     return best;
   }
 
   /**
-   * Compass search from node k (distance `value` to the boundary): sixteen directions, the step
-   * halved when no move helps, down to 10⁻³ of the radius. Trial points within `step` of the centre
-   * can only have a nearest boundary point within value + 2·step of it, so the local list is
-   * re-gathered (or filtered) to that radius as the centre moves and the step shrinks.
+   * The empty circle grown from (x, y) (emptyCircle.ts), then hops: the medial axis of a long or
+   * uneven region has shallow local maxima, so around each one the distance is polled at eight
+   * points at h/2, h/4, h/8 (inside the circle, so inside the region); a better one starts a new
+   * ascent. Returns the largest radius reached (m).
    */
-  private compassSearch(k: number, value: number): number {
-    const grid = this.grid!;
-    const { nx, h } = grid;
-    let cx = grid.x0 + (k % nx) * h;
-    let cy = grid.y0 + Math.floor(k / nx) * h;
-    // Two lists of boundary points: `wide` holds every point within value_g + 3h of (gx, gy) (from
-    // the buckets), `local` every point within value_l + slack of (lx, ly) (filtered from `wide`).
-    // A trial point within `step` of centre c is served by a list about (ox, oy) with value v_o and
-    // margin m while |c − o| ≤ (m − 2 step)/2 (its nearest point is within v_o + |c − o| + step).
-    let gx = cx;
-    let gy = cy;
-    this.gatherLocal(cx, cy, value + 3 * h);
-    this.keepWide();
-    let step = 0.5 * h;
-    let lx = cx;
-    let ly = cy;
-    let slack = 6 * step;
-    this.filterFromWide(cx, cy, value + slack);
-    const stop = 1e-3 * Math.max(value, h);
-    let bestDir = 0;
-    while (step > stop) {
-      // Moves stay inside the circle already known to be free of boundary, so inside the region.
-      if (step >= value) { step *= 0.5; continue; }
-      // The eight even directions first, the eight between them only when those fail.
+  private climb(x: number, y: number, h: number): number {
+    const circle = this.circle;
+    let value = circle.grow(this.boundary, this.boundaryCount, x, y);
+    let cx = circle.x;
+    let cy = circle.y;
+    for (let hop = 0.5 * h; hop > 0.1 * h; ) {
       let moved = false;
-      for (let dir = 0; dir < 16; dir += 2) {
-        const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
-        if (d > value) { value = d; bestDir = dir; moved = true; }
-      }
-      if (!moved) {
-        for (let dir = 1; dir < 16; dir += 2) {
-          const d = this.nearestLocal(cx + step * COMPASS_X[dir]!, cy + step * COMPASS_Y[dir]!);
-          if (d > value) { value = d; bestDir = dir; moved = true; }
+      if (hop < value) {
+        for (let dir = 0; dir < 8 && !moved; dir++) {
+          const px = cx + hop * HOP_X[dir]!;
+          const py = cy + hop * HOP_Y[dir]!;
+          if (!(this.nearest(px, py) > value * (1 + 1e-9))) continue;
+          const next = circle.grow(this.boundary, this.boundaryCount, px, py);
+          if (next > value) {
+            value = next;
+            cx = circle.x;
+            cy = circle.y;
+            moved = true;
+          }
         }
       }
-      if (moved) {
-        cx += step * COMPASS_X[bestDir]!;
-        cy += step * COMPASS_Y[bestDir]!;
-      } else if (this.ridgeStep(cx, cy, step, value)) {
-        // On a ridge between two boundary points the distance rises along it: follow it.
-        value = this.ridgeValue;
-        cx = this.ridgeX;
-        cy = this.ridgeY;
-        moved = true;
-      } else {
-        step *= 0.5;
-      }
-      if (!moved || Math.abs(cx - lx) + Math.abs(cy - ly) > 0.5 * (slack - 2 * step)) {
-        if (Math.abs(cx - gx) + Math.abs(cy - gy) > 0.5 * (3 * h - 2 * step) - 6 * step) {
-          gx = cx;
-          gy = cy;
-          this.gatherLocal(cx, cy, value + 3 * h);
-          this.keepWide();
-        }
-        lx = cx;
-        ly = cy;
-        slack = 6 * step;
-        this.filterFromWide(cx, cy, value + slack);
-      }
+      hop = moved ? 0.5 * h : 0.5 * hop;
     }
     return value;
   }
 
-  private ridgeX = 0;
-  private ridgeY = 0;
-  private ridgeValue = 0;
-
-  /**
-   * Tries a step along the ridge at (x, y): perpendicular to the line through its two nearest
-   * boundary points that lie apart (more than a step), both ways; true (with ridgeX, ridgeY,
-   * ridgeValue) when one raises the distance above `value`.
-   */
-  private ridgeStep(x: number, y: number, step: number, value: number): boolean {
-    const l = this.local;
-    let b1 = -1;
-    let d1 = Infinity;
-    for (let p = 0; p < this.localCount; p++) {
-      const d = (l[2 * p]! - x) ** 2 + (l[2 * p + 1]! - y) ** 2;
-      if (d < d1) { d1 = d; b1 = p; }
-    }
-    if (b1 < 0) return false;
-    const x1 = l[2 * b1]!;
-    const y1 = l[2 * b1 + 1]!;
-    let b2 = -1;
-    let d2 = Infinity;
-    for (let p = 0; p < this.localCount; p++) {
-      const px = l[2 * p]!;
-      const py = l[2 * p + 1]!;
-      if ((px - x1) ** 2 + (py - y1) ** 2 <= 4 * step * step) continue;
-      const d = (px - x) ** 2 + (py - y) ** 2;
-      if (d < d2) { d2 = d; b2 = p; }
-    }
-    if (b2 < 0) return false;
-    let tx = -(l[2 * b2 + 1]! - y1);
-    let ty = l[2 * b2]! - x1;
-    const norm = Math.hypot(tx, ty);
-    if (!(norm > 0)) return false;
-    tx /= norm;
-    ty /= norm;
-    for (let sign = -1; sign <= 1; sign += 2) {
-      const px = x + sign * step * tx;
-      const py = y + sign * step * ty;
-      const d = this.nearestLocal(px, py);
-      if (d > value) {
-        this.ridgeX = px;
-        this.ridgeY = py;
-        this.ridgeValue = d;
-        return true;
-      }
-    }
-    return false;
-  }
-
-  private wide = new Float64Array(1024);
-  private wideCount = 0;
-
-  /** Copies the local list into the wide one. */
-  private keepWide(): void {
-    if (this.wide.length < this.local.length) this.wide = new Float64Array(this.local.length);
-    this.wide.set(this.local.subarray(0, 2 * this.localCount));
-    this.wideCount = this.localCount;
-  }
-
-  /** The local list: the wide list's points within `radius` of (x, y). */
-  private filterFromWide(x: number, y: number, radius: number): void {
-    const w = this.wide;
-    const l = this.local;
-    const r2 = radius * radius;
-    let kept = 0;
-    for (let p = 0; p < this.wideCount; p++) {
-      const px = w[2 * p]!;
-      const py = w[2 * p + 1]!;
-      if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
-      l[2 * kept] = px;
-      l[2 * kept + 1] = py;
-      kept++;
-    }
-    this.localCount = kept;
-  }
-
-  private local = new Float64Array(1024);
-  private localCount = 0;
-
-  /** Boundary points within `radius` of (x, y), into the local list (every point when the radius covers the grid). */
-  private gatherLocal(x: number, y: number, radius: number): void {
-    const grid = this.grid!;
-    const { nx, ny, h } = grid;
-    const b = this.boundary;
-    const start = this.bucketStart;
-    const order = this.bucketOrder;
-    const r2 = radius * radius;
-    const i0 = Math.max(Math.floor((x - radius - grid.x0) / h), 0);
-    const i1 = Math.min(Math.floor((x + radius - grid.x0) / h), nx - 1);
-    const j0 = Math.max(Math.floor((y - radius - grid.y0) / h), 0);
-    const j1 = Math.min(Math.floor((y + radius - grid.y0) / h), ny - 1);
-    this.localCount = 0;
-    for (let j = j0; j <= j1; j++) {
-      for (let i = i0; i <= i1; i++) {
-        const c = j * nx + i;
-        for (let q = start[c]!; q < start[c + 1]!; q++) {
-          const p = order[q]!;
-          const px = b[2 * p]!;
-          const py = b[2 * p + 1]!;
-          if ((px - x) * (px - x) + (py - y) * (py - y) > r2) continue;
-          if (2 * this.localCount + 2 > this.local.length) {
-            const grown = new Float64Array(this.local.length * 2);
-            grown.set(this.local);
-            this.local = grown;
-          }
-          this.local[2 * this.localCount] = px;
-          this.local[2 * this.localCount + 1] = py;
-          this.localCount++;
-        }
-      }
-    }
-  }
-
-  /** Distance (m) from (x, y) to the nearest point of the local list (Infinity when it is empty). */
-  private nearestLocal(x: number, y: number): number {
-    const l = this.local;
-    let bestSq = Infinity;
-    for (let p = 0; p < this.localCount; p++) {
-      const dx = l[2 * p]! - x;
-      const dy = l[2 * p + 1]! - y;
-      const d = dx * dx + dy * dy;
-      if (d < bestSq) bestSq = d;
-    }
-    return Math.sqrt(bestSq);
-  }
-
+  private readonly circle = new EmptyCircle();
   private readonly starts = new Int32Array(8);
   private readonly searchedFrom = new Int32Array(8);
   private readonly startScores = new Float64Array(8);
@@ -674,15 +618,14 @@ export class AdaptiveArea {
 
   private fullChildren = 0;
 
-  /** One child sub-cell: counts it when wholly inside, lists it when undecided; returns its partial share. */
-  private child(out: CellList, i: number, j: number, a: number, b: number, c: number, d: number): number {
+  /** One child sub-cell: counts it when wholly inside, lists it when undecided. */
+  private child(out: CellList, i: number, j: number, a: number, b: number, c: number, d: number): void {
     if (a >= 0 && b >= 0 && c >= 0 && d >= 0) {
       this.fullChildren++;
-      return 0;
+      return;
     }
-    if (a < 0 && b < 0 && c < 0 && d < 0) return 0;
+    if (a < 0 && b < 0 && c < 0 && d < 0) return;
     out.push(i, j, a, b, c, d);
-    return 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
   }
 
   /** Whether a node of the ring around coarse cell (i, j) lies in the region (masked ≥ 0 there). */
@@ -694,34 +637,6 @@ export class AdaptiveArea {
     }
     return false;
   }
-
-  /**
-   * Area and error from the estimates of levels 0 … level (see the file comment): Richardson's
-   * correction when the last two differences fall by about four (then its size is the error);
-   * otherwise the last estimate, with the larger of the last difference and a quarter of the one before as its error (an
-   * erratic sequence whose last step happens to be small is not taken as converged).
-   */
-  private extrapolate(level: number): void {
-    const est = this.estimates;
-    const last = est[level]!;
-    const d2 = last - est[level - 1]!;
-    this.resultArea = last;
-    if (level >= 2) {
-      const d1 = est[level - 1]! - est[level - 2]!;
-      const ratio = d1 / d2;
-      if (d2 !== 0 && ratio > 2.5 && ratio < 6.5) {
-        this.resultArea = last + d2 / 3;
-        this.resultError = Math.abs(d2) / 3;
-        return;
-      }
-      this.resultError = Math.max(Math.abs(d2), Math.abs(d1) / 4);
-      return;
-    }
-    this.resultError = Math.abs(d2);
-  }
-
-  private resultArea = 0;
-  private resultError = 0;
 
   /** Zero crossings along the edges of the finest undecided sub-cells of the workspace field. */
   private collectBoundary(level: number): void {

@@ -55,6 +55,8 @@ export interface RegionIntegral {
   samples: number;
 }
 
+const CACHE_BITS = 16;
+const CACHE_SIZE = 1 << CACHE_BITS;
 /** Bisection steps along an edge whose outer end is outside the reach (the crossing to 1/2⁸ of the edge). */
 const BISECTION_STEPS = 8;
 const STRIDE = 3;
@@ -108,6 +110,7 @@ export class RegionQuadrature {
   integrate(lattice: NodeLattice, field: LevelField, tolerance: number, candidates: 'all' | 'boundary', sampleCap: number): RegionIntegral {
     this.field = field;
     this.samples = 0;
+    this.beginCache(lattice);
     this.sampleCap = sampleCap;
     this.integralError = 0;
     this.areaError = 0;
@@ -246,12 +249,74 @@ export class RegionQuadrature {
     put(8, k + nu + 1);
   }
 
+  /**
+   * The field at (u, v) into levels[offset …]: from the cache when a neighbouring cell has solved this
+   * point of the finest lattice already (an edge midpoint is shared by two cells), else solved.
+   */
   private sampleInto(u: number, v: number, offset: number): void {
+    if (!this.cacheOn) {
+      this.solveInto(u, v, offset);
+      return;
+    }
+    const fi = Math.round((u - this.cacheU0) / this.cacheHu);
+    const fj = Math.round((v - this.cacheV0) / this.cacheHv);
+    const key = fj * this.cacheWidth + fi;
+    let slot = Math.imul(key, 0x9e3779b1) >>> (32 - CACHE_BITS);
+    for (;;) {
+      if (this.cacheStamp[slot] !== this.cacheEpoch) break;
+      if (this.cacheKey[slot] === key) {
+        this.levels[offset] = this.cacheValue[3 * slot]!;
+        this.levels[offset + 1] = this.cacheValue[3 * slot + 1]!;
+        this.levels[offset + 2] = this.cacheValue[3 * slot + 2]!;
+        return;
+      }
+      slot = (slot + 1) & (CACHE_SIZE - 1);
+    }
+    this.solveInto(u, v, offset);
+    if (this.cached + 1 > CACHE_SIZE >> 1) return;
+    this.cached++;
+    this.cacheStamp[slot] = this.cacheEpoch;
+    this.cacheKey[slot] = key;
+    for (let k = 0; k < STRIDE; k++) this.cacheValue[3 * slot + k] = this.levels[offset + k]!;
+  }
+
+  private solveInto(u: number, v: number, offset: number): void {
     const m = this.field!.sample(u, v, this.out);
     this.samples++;
     this.levels[offset] = m;
     this.levels[offset + 1] = this.out[0]!;
     this.levels[offset + 2] = this.out[1]!;
+  }
+
+  /** Solved points by their place on the finest lattice (open addressing), valid for one integrate call. */
+  private readonly cacheStamp = new Int32Array(CACHE_SIZE);
+  private readonly cacheKey = new Int32Array(CACHE_SIZE);
+  private readonly cacheValue = new Float64Array(3 * CACHE_SIZE);
+  private cacheEpoch = 0;
+  private cached = 0;
+  private cacheU0 = 0;
+  private cacheV0 = 0;
+  private cacheHu = 1;
+  private cacheHv = 1;
+  private cacheWidth = 0;
+  private cacheOn = false;
+
+  /** Starts the cache for a lattice: the finest lattice has 2^maxDepth points per lattice cell. */
+  private beginCache(lattice: NodeLattice): void {
+    const split = 2 ** this.maxDepth;
+    this.cacheU0 = lattice.u0;
+    this.cacheV0 = lattice.v0;
+    this.cacheHu = lattice.hu / split;
+    this.cacheHv = lattice.hv / split;
+    this.cacheWidth = (lattice.nu - 1) * split + 1;
+    // Keys are 32-bit: a lattice too fine for them (thousands of cells) is not cached.
+    this.cacheOn = this.cacheWidth * ((lattice.nv - 1) * split + 1) < 2 ** 31;
+    this.cached = 0;
+    this.cacheEpoch++;
+    if (this.cacheEpoch > 0x3fffffff) {
+      this.cacheStamp.fill(0);
+      this.cacheEpoch = 1;
+    }
   }
 
   /**

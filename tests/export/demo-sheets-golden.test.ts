@@ -11,6 +11,8 @@
  * per-pose extremes and the margins built on them), and, for platform-3prr and platform-3rrr, five
  * numbers that moved by at most 2.2e-7 relative when 1/κ of 3×3 matrices went from Jacobi sweeps to
  * the closed-form symmetric eigenvalues (home 1/κ, the auto characteristic length and what follows it).
+ * Later, on purpose: the parcel-sorter baselines' gci (8.0e-4 relative) when a task region assembled
+ * everywhere went to tensor Gauss–Legendre rules (see tests/architectures/one-engine-equality.test.ts).
  */
 import { describe, expect, it } from 'vitest';
 import { readdirSync, readFileSync } from 'node:fs';

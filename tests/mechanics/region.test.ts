@@ -87,6 +87,18 @@ describe('gci of a 2-PRR with equal rods against its closed form', () => {
     expect(r.value('min_inv_condition')).toBeCloseTo(Math.tan(12.5 * deg), 3);
   });
 
+  // A task region assembled everywhere takes the tensor Gauss–Legendre path (regionMetrics.ts
+  // smoothTaskMean): once with a smooth integrand, once across the kink of min(t, 1/t) at y = d/√2.
+  for (const [y0, y1] of [[0.15, 0.3], [0.3, 0.42]] as const) {
+    it(`over a task region assembled everywhere, y ∈ [${y0}, ${y1}]${y1 > D / Math.SQRT2 ? ' (across the kink at d/√2)' : ''}: the antiderivative, and the error estimate covers the error`, () => {
+      const exact = invCondPrrIntegral(y0, y1) / (y1 - y0);
+      const r = evaluate(study(`${PRR}task: { region: { shape: rectangle, centre: [0.05, ${(y0 + y1) / 2}], width: 0.2, height: ${y1 - y0} } }\nevaluation: { window: { x: [-0.6, 0.6], y: [-0.6, 0.6] } }\n`));
+      const error = Math.abs(r.value('gci') - exact);
+      expect(error / exact).toBeLessThan(0.005);
+      expect(r.error('gci')).toBeGreaterThanOrEqual(error);
+    });
+  }
+
   it('over a task region whose top edge lies on the leg singularity (square-root edge)', () => {
     // Rectangle x ∈ [−0.1, 0.1], y ∈ [0.3, 0.5 = d]: gci = ∫ 1/κ dy / 0.2 by the antiderivative.
     const exact = invCondPrrIntegral(0.3, D) / 0.2;

@@ -39,7 +39,7 @@ export const crankRod: LegKind = {
     };
   },
 
-  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): number {
+  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): boolean {
     const n = model.dof;
     const p = model.crank[i]!;
     const d = model.rod[i]!;
@@ -48,7 +48,7 @@ export const crankRod: LegKind = {
     const rho = Math.sqrt(wx * wx + wy * wy);
     const margin = Math.min(rho - Math.abs(p - d), p + d - rho);
     pose.legReach[i] = margin;
-    if (margin < 0 || rho === 0) return Number.NaN;
+    if (margin < 0 || rho === 0) return false;
     let cosAlpha = (p * p + rho * rho - d * d) / (2 * p * rho);
     cosAlpha = cosAlpha > 1 ? 1 : cosAlpha < -1 ? -1 : cosAlpha;
     const sinAlpha = model.sigma[i]! * Math.sqrt(1 - cosAlpha * cosAlpha);
@@ -73,7 +73,8 @@ export const crankRod: LegKind = {
     pose.B[i * n + i] = p * legSine;
     pose.A[i * n] = ux;
     pose.A[i * n + 1] = uy;
-    return jointRangeMargin(theta, model.jointLimits[i] ?? null);
+    pose.legJoint[i] = jointRangeMargin(theta, model.jointLimits[i] ?? null);
+    return true;
   },
 
   addBodies(model: LegModelView, i: number, pose: ArchitecturePose, gx: number, gy: number): void {

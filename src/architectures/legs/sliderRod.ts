@@ -34,7 +34,7 @@ export const sliderRod: LegKind = {
     };
   },
 
-  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): number {
+  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): boolean {
     const n = model.dof;
     const d = model.rod[i]!;
     const dirX = model.railX[i]!;
@@ -44,7 +44,7 @@ export const sliderRod: LegKind = {
     const offset = dirX * wy - dirY * wx; // cross(e_r, w): distance of B_i from the rail line
     const margin = d - Math.abs(offset);
     pose.legReach[i] = margin;
-    if (margin < 0) return Number.NaN;
+    if (margin < 0) return false;
     const q = wx * dirX + wy * dirY + model.sigma[i]! * Math.sqrt(Math.max(d * d - offset * offset, 0));
     pose.q[i] = q;
     const proxX = model.baseX[i]! + q * dirX;
@@ -62,7 +62,8 @@ export const sliderRod: LegKind = {
     pose.B[i * n + i] = legSine;
     pose.A[i * n] = ux;
     pose.A[i * n + 1] = uy;
-    return strokeMargin(q, model.jointLimits[i] ?? null);
+    pose.legJoint[i] = strokeMargin(q, model.jointLimits[i] ?? null);
+    return true;
   },
 
   addBodies(model: LegModelView, i: number, pose: ArchitecturePose, gx: number, gy: number): void {

@@ -41,7 +41,7 @@ export const strut: LegKind = {
     };
   },
 
-  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): number {
+  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): boolean {
     const n = model.dof;
     const wx = bx - model.baseX[i]!;
     const wy = by - model.baseY[i]!;
@@ -50,7 +50,7 @@ export const strut: LegKind = {
     const stroke = strokeMargin(rho, range);
     const margin = range ? stroke : rho;
     pose.legReach[i] = margin;
-    if (margin < 0 || rho === 0) return Number.NaN;
+    if (margin < 0 || rho === 0) return false;
     pose.q[i] = rho;
     const ux = wx / rho;
     const uy = wy / rho;
@@ -64,7 +64,8 @@ export const strut: LegKind = {
     pose.B[i * n + i] = 1;
     pose.A[i * n] = ux;
     pose.A[i * n + 1] = uy;
-    return stroke;
+    pose.legJoint[i] = stroke;
+    return true;
   },
 
   addBodies(model: LegModelView, i: number, pose: ArchitecturePose, gx: number, gy: number): void {

@@ -45,8 +45,8 @@ function workerFile(): string {
 const MAX_TASK_DESIGNS = 256;
 
 /**
- * Designs per task for a batch, in the order the tasks are queued. One worker takes the batch in one
- * task (nothing to balance). Several workers take decreasing tasks ("guided self-scheduling",
+ * Designs per task for a batch, in the order the tasks are queued. One worker takes the batch whole
+ * (nothing to balance; tasks of at most 256 designs). Several workers take decreasing tasks ("guided self-scheduling",
  * Polychronopoulos & Kuck 1987): each task is 1/(2·workers) of what is left, so the first tasks are
  * large (few messages) and the last ones hold a design or two, and every worker finishes within about
  * one design's time of the others, whatever each design costs.

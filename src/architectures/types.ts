@@ -178,13 +178,6 @@ export class ArchitecturePose {
   mechanismSine = 0;
   /** 1/κ(J_h) (1 = isotropic, 0 singular). */
   inverseCondition = 0;
-  /**
-   * A sampling pose: `solvePose` fills only what the margins read (status, reach, joint margin, leg
-   * sines, A, B, det A, 1/κ, mechanism sine). A 3-DOF platform then leaves J, J⁻¹, J_h, J_h⁻¹ unwritten, and a
-   * crank without joint limits its angle q_i (legs/platform3.ts, legs/crankRod.ts). Set once, on
-   * a pose of its own (never toggled on a shared one).
-   */
-  marginsOnly = false;
   /** A (rows per leg, columns x, y[, φ]) and B (diagonal, stored full). */
   readonly A: Float64Array;
   readonly B: Float64Array;
@@ -225,6 +218,18 @@ export class ArchitecturePose {
   /** Largest singular value of J_h. */
   maxSingularValue = 0;
 
+  /**
+   * Set by a caller that reads only the margins of the next solve (src/mechanics/workspace.ts
+   * PointKernel; the orientation scans and task quadrature of regionMetrics.ts on a pose of their
+   * own): a revolute leg whose joint is certainly more than 1 rad inside its range (by the sign test
+   * of `jointTest`) then skips its angle, writing 1 rad as its joint margin and NaN as q, and a 3-DOF
+   * platform leaves J, J⁻¹, J_h, J_h⁻¹ unwritten (legs/platform3.ts). Status, reach, leg sines, A, B,
+   * det A, 1/κ and the mechanism sine are written as always.
+   */
+  marginOnly = false;
+  /** Per leg: the unit direction of the middle of its joint range and cos(half span − 1 rad); (0, 0, 2): never skip. */
+  readonly jointTest: Float64Array;
+
   /** Scratch for the routines (not data). */
   readonly work = new Float64Array(WORK_LENGTH);
   readonly work2 = new Float64Array(WORK_LENGTH);
@@ -236,6 +241,9 @@ export class ArchitecturePose {
     this.q = new Float64Array(n);
     this.legReach = new Float64Array(n);
     this.legJoint = new Float64Array(n);
+    // (0, 0, 2): the dot product 0 never exceeds 2, no angle is skipped.
+    this.jointTest = new Float64Array(3 * n);
+    for (let i = 0; i < n; i++) this.jointTest[3 * i + 2] = 2;
     this.actuatorDirection = new Float64Array(2 * n);
     this.proximalJoint = new Float64Array(2 * n);
     this.distalJoint = new Float64Array(2 * n);

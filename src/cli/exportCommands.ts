@@ -1,8 +1,8 @@
 /** Commands that carry designs onward: export (JSON, CSV, MJCF) and rescore. */
 import type { Argv } from 'yargs';
 import { positiveInteger } from './argChecks.js';
-import { ExportError } from '../export/candidate.js';
-import { EXPORT_FORMATS, exportCandidates, exportCandidatesChecked, selectCandidates, type ExportFormat, type MjcfCheckSheet } from '../export/export.js';
+import { EXPORT_FORMATS, ExportError, type ExportFormat } from '../export/request.js';
+import type { MjcfCheckSheet } from '../export/export.js';
 import { roundAndEvaluate, RoundingError, type RoundingResult } from '../run/roundDesigns.js';
 import { formatQuantity, parseQuantity } from '../study/units.js';
 import type { StoredEvaluation } from '../store/store.js';
@@ -58,6 +58,8 @@ export function registerExportCommands(cli: Argv): Argv {
         ...(ids !== undefined ? { ids } : {}),
         ...(args.run !== undefined && !rounding ? { runId: args.run } : {}),
       };
+      // The exporters draw maps (chart libraries, about half a second to load): loaded here, not at start.
+      const { exportCandidates, exportCandidatesChecked } = await import('../export/export.js');
       const checked = args.verify === true ? await exportCandidatesChecked(args.db, options) : null;
       const result = checked ?? exportCandidates(args.db, options);
       if (rounding) out(roundingReport(rounding));
@@ -87,6 +89,7 @@ async function roundSelection(
     throw new ExportError(`--round ${selection.step}: give a length step such as 0.5mm (${(error as Error).message})`);
   }
   if (!(step > 0)) throw new ExportError(`--round ${selection.step}: the step must be a positive length, such as 0.5mm`);
+  const { selectCandidates } = await import('../export/export.js');
   const selected = selectCandidates(dbPath, {
     ...(selection.front ? { front: true } : {}),
     ...(selection.ids !== undefined ? { ids: selection.ids } : {}),

@@ -3,9 +3,8 @@ import { LoopsmithUserError } from '../core/errors.js';
 import { accessSync, constants, existsSync, mkdirSync } from 'node:fs';
 import { dirname, extname } from 'node:path';
 import type { Argv } from 'yargs';
-import { designMapSpec } from '../report/designMap.js';
-import { renderVegaLiteSvg, svgToPng } from '../report/render.js';
-import { writeReport } from '../report/report.js';
+// The chart modules (Vega, Vega-Lite, resvg: about half a second to load) are imported by the
+// commands that draw, not by every command the CLI starts with.
 import { loadStudyFile } from '../study/parse.js';
 import { chooseDesign } from '../api/design.js';
 import { checkOverrides, positiveInteger, UsageError } from './argChecks.js';
@@ -55,6 +54,7 @@ export function registerMapCommand(cli: Argv): Argv {
       accessSync(dirname(args.out), constants.W_OK);
       const cells = args.cells !== undefined ? { cells: args.cells } : {};
       // One map for every architecture (a comparison study: the member the design chooses).
+      const [{ designMapSpec }, { renderVegaLiteSvg, svgToPng }] = await Promise.all([import('../report/designMap.js'), import('../report/render.js')]);
       const svg = await renderVegaLiteSvg(designMapSpec(choice.study, choice.design, cells).spec);
       writeFileAtomically(args.out, extname(args.out).toLowerCase() === '.png' ? svgToPng(svg) : svg);
       out(`wrote ${args.out}`);
@@ -74,6 +74,7 @@ export function registerReportCommand(cli: Argv): Argv {
         .example('$0 report results/parcel-sorter.db --out results/parcel-sorter-report', 'an HTML report of the latest finished run'),
     async (args) => {
       if (!existsSync(args.db)) throw new ReportUsageError(`${args.db}: no such database (run a study first: loopsmith run STUDY)`);
+      const { writeReport } = await import('../report/report.js');
       const written = await writeReport(args.db, args.run, args.out);
       out(`wrote ${written.htmlPath}\nopen it in a browser (works offline, from disk)`);
     },

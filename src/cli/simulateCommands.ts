@@ -4,7 +4,6 @@ import { loadStudyFile } from '../study/parse.js';
 import { parseQuantity, type QuantityKind } from '../study/units.js';
 import { CONTROLLER_KINDS, SimulationError, type ControllerKind, type SimulationResult, type SimulationSummary } from '../simulate/simulate.js';
 import { prepareStudySimulation, simulateStudyDesign, type StudySimulationSetup } from '../simulate/study.js';
-import { writeSimulationOutputs } from '../simulate/plots.js';
 import { formatValue, table, toJson } from './format.js';
 import { checkOverrides } from './argChecks.js';
 import { variableKind } from '../mechanics/designSpace.js';
@@ -127,7 +126,8 @@ export function registerSimulateCommands(cli: Argv): Argv {
         ...hooks,
       });
       const json = toJson({ ...simulationJson(setup, result.summary), ...driveSimulationJson(setup, result, hooks) });
-      const written = args.out ? await writeSimulationOutputs(args.out, result, setup.limits, setup.study.name, json) : [];
+      // The plotting module (Vega, resvg) is loaded only when plots are written.
+      const written = args.out ? await (await import('../simulate/plots.js')).writeSimulationOutputs(args.out, result, setup.limits, setup.study.name, json) : [];
       if (args.json) {
         out(json);
         return;

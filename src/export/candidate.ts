@@ -11,7 +11,7 @@
  * ratedJointTorque/peakJointTorque), so that scripts written against it keep working
  * (docs/export.md); they are the same numbers under their old names.
  */
-import { LoopsmithUserError } from '../core/errors.js';
+import { ExportError } from './request.js';
 import {
   actuatorUnits,
   PoseStatus,
@@ -34,10 +34,7 @@ import type { DriveSpec, Study } from '../study/types.js';
 import { bodyFrames, loopClosureGap, pointInFrame } from './bodyTree.js';
 import { architectureMjcf } from './mjcf.js';
 
-/** A problem with an export request that the user can fix (unknown ids, empty selection, ...). */
-export class ExportError extends LoopsmithUserError {
-  override readonly name = 'ExportError';
-}
+export { ExportError };
 
 /** Version string of the candidate sheet layout (bumped when fields change meaning). */
 export const CANDIDATE_FORMAT = 'loopsmith-candidate/1';

@@ -18,8 +18,9 @@ import { mjcfCheckReference, runMjcfCheck, type MjcfCheckResult } from './mjcfCh
 import { pacedCycle } from '../simulate/study.js';
 import candidateSchema from './candidate.schema.json' with { type: 'json' };
 
-export type ExportFormat = 'json' | 'csv' | 'mjcf';
-export const EXPORT_FORMATS: readonly ExportFormat[] = ['json', 'csv', 'mjcf'];
+import { EXPORT_FORMATS, type ExportFormat } from './request.js';
+
+export { EXPORT_FORMATS, type ExportFormat };
 
 export interface ExportSelection {
   /** The feasible Pareto front of the run (default: the latest optimization or sweep run). */

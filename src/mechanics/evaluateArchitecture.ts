@@ -55,8 +55,6 @@ export class ArchitectureEvaluator {
   readonly variables: readonly DesignVariable[];
   readonly constraints: readonly ConstraintDefinition[];
   private readonly pose: ArchitecturePose;
-  /** The adaptive workspace's pose: margins only (ArchitecturePose.marginsOnly). */
-  private readonly samplingPose: ArchitecturePose;
   private readonly grid: MarginGrid;
   private readonly task: { x: Float64Array; y: Float64Array; weight: Float64Array } | null;
   /** Region averages and extremes (regionMetrics.ts). */
@@ -98,8 +96,6 @@ export class ArchitectureEvaluator {
     this.variables = designVariables(study);
     this.constraints = constraintDefinitions(study);
     this.pose = this.architecture.createPose();
-    this.samplingPose = this.architecture.createPose();
-    this.samplingPose.marginsOnly = true;
     this.cell = CellAnalysis.forStudy(study, this.architecture);
     const tolerance = this.cell ? undefined : study.evaluation.tolerance;
     this.adaptive = tolerance !== undefined ? new AdaptiveArea() : null;
@@ -228,7 +224,7 @@ export class ArchitectureEvaluator {
     }
     let region: number;
     if (this.adaptive) {
-      const sampled = sampleAdaptive(this.study, this.architecture, model, this.samplingPose, grid, box, this.phi0, this.adaptive, this.study.evaluation.tolerance!);
+      const sampled = sampleAdaptive(this.study, this.architecture, model, this.pose, grid, box, this.phi0, this.adaptive, this.study.evaluation.tolerance!);
       region = sampled.region;
       metrics[M.reachable] = sampled.reachableArea;
       metrics[M.workspace] = sampled.workspaceArea;

@@ -25,6 +25,7 @@ import { RegionQuadrature, type LevelField, type NodeLattice } from './regionQua
 import { projectOntoTask, taskLattice, taskPoint, type TaskLattice } from './taskSamples.js';
 import { gaussLegendre, tensorIntegral } from './gaussRule.js';
 import { architectureUsableMargin, UsabilityRule } from './usability.js';
+import { marginJointTests } from './workspace.js';
 
 /** Per-pose quantities, in this order; `SENSE` says which end is the worst (−1 smallest, +1 largest). */
 export const Q = {
@@ -230,7 +231,7 @@ export class RegionMetrics {
   private readonly study: Study;
   private readonly architecture: PlanarArchitecture<ArchitectureModelBase>;
   private readonly pose: ArchitecturePose;
-  /** The pose of the orientation scans and the task quadrature's points: margins only (ArchitecturePose.marginsOnly). */
+  /** The pose of the orientation scans and the task quadrature's points: margins only (ArchitecturePose.marginOnly, set for good). */
   private readonly samplingPose: ArchitecturePose;
   private readonly phi0: number;
   readonly lattice: TaskLattice | null;
@@ -281,7 +282,7 @@ export class RegionMetrics {
     this.architecture = architecture;
     this.pose = pose;
     this.samplingPose = architecture.createPose();
-    this.samplingPose.marginsOnly = true;
+    this.samplingPose.marginOnly = true;
     this.phi0 = phi0;
     this.lattice = study.task.region ? taskLattice(study.task.region, study.evaluation.taskSamples) : null;
     this.taskInvCond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
@@ -296,6 +297,8 @@ export class RegionMetrics {
     this.context = context;
     this.jointScale = jointScale;
     this.scanRule = new UsabilityRule(this.study, jointScale);
+    const tests = marginJointTests(model, jointScale);
+    if (tests) this.samplingPose.jointTest.set(tests);
     this.footprint = this.architecture.footprint(model);
     this.worst.reset();
     this.gci = 0;

@@ -11,6 +11,7 @@ import type { ArchitectureModelBase, ArchitecturePose, PlanarArchitecture, Plane
 import type { Study } from '../study/types.js';
 import type { AdaptiveArea } from './adaptive.js';
 import { MarginGrid } from './grid.js';
+import { JOINT_FAR } from '../architectures/legs/crankRod.js';
 import { architectureUsableMargin, jointMarginScale, UsabilityRule } from './usability.js';
 
 /** Called for every grid node after it is solved (the pose holds the node's solution). */
@@ -58,7 +59,7 @@ export function sampleGrid(
   const jointScale = modelJointScale(model);
   grid.layout(box.xmin, box.xmax, box.ymin, box.ymax, cells);
   const { nx, ny, x0, y0, h, values, secondary: reach } = grid;
-  const kernel = new PointKernel(study, architecture, model, pose, phi);
+  const kernel = new PointKernel(study, architecture, model, pose, phi, visit === undefined);
   kernel.continuous = continuous;
   for (let j = 0; j < ny; j++) {
     const y = y0 + j * h;
@@ -90,6 +91,13 @@ export class PointKernel {
    * cell edge is then interpolated between comparable values.
    */
   continuous = false;
+  /**
+   * The caller reads only `usable` and `reach`: revolute legs far inside their joint ranges skip
+   * their angle (ArchitecturePose.marginOnly). Exact: a joint margin of 1 rad or more (over a joint
+   * scale of at most 1) never is the smallest term of the usability margin, whose other terms are at
+   * most 1 (1/κ − c_min, |s| − sin μ, the mechanism sine term).
+   */
+  private readonly test: Float64Array | null;
   private readonly jointScale: number;
   private readonly rule: UsabilityRule;
   private readonly window: Study['evaluation']['window'];
@@ -100,15 +108,24 @@ export class PointKernel {
     private readonly model: ArchitectureModelBase,
     private readonly pose: ArchitecturePose,
     private readonly phi: number,
+    marginsOnly = false,
   ) {
     this.jointScale = modelJointScale(model);
     this.rule = new UsabilityRule(study, this.jointScale);
     this.window = study.evaluation.window;
     this.scale = this.window ? architecture.footprint(model) : 1;
+    this.test = marginsOnly ? marginJointTests(model, this.jointScale) : null;
   }
 
   sample(x: number, y: number): PoseStatus {
-    const status = this.architecture.solvePose(this.model, this.pose, x, y, this.phi);
+    const pose = this.pose;
+    const test = this.test;
+    if (test) {
+      for (let k = 0; k < test.length; k++) pose.jointTest[k] = test[k]!;
+      pose.marginOnly = true;
+    }
+    const status = this.architecture.solvePose(this.model, pose, x, y, this.phi);
+    pose.marginOnly = false;
     let r = this.pose.reachMargin;
     let u = this.continuous && status === PoseStatus.Unreachable ? Math.min(r / this.jointScale, -1e-12) : this.rule.margin(this.pose, status);
     const w = this.window;
@@ -121,6 +138,41 @@ export class PointKernel {
     this.reach = r;
     return status;
   }
+}
+
+/**
+ * Per leg of a legged model: the unit direction of the middle of its revolute joint's range and
+ * cos(half span − JOINT_FAR); −2 (always skip) for an unlimited revolute joint; (0, 0, 2) (never skip) for a
+ * prismatic joint, a span of 2π or more, or a half span within JOINT_FAR. Derived here: inside a range of span < 2π the joint margin
+ * is half the span less the angle to the middle, so it exceeds JOINT_FAR exactly when the crank's
+ * direction has a dot product with the middle's direction above that cosine. No leg skips when the
+ * joint scale exceeds JOINT_FAR (a margins-only solve still skips the Jacobians); null for a model
+ * without legs.
+ */
+export function marginJointTests(model: ArchitectureModelBase, jointScale: number): Float64Array | null {
+  if (!('legs' in model)) return null;
+  const legged = model as LeggedModel;
+  const n = legged.legs.length;
+  // (0, 0, 2) never skips: the dot product 0 does not exceed 2 (a direction with 2 would, up to 2√2).
+  const out = new Float64Array(3 * n);
+  for (let i = 0; i < n; i++) out[3 * i + 2] = 2;
+  if (jointScale > JOINT_FAR) return out;
+  for (let i = 0; i < n; i++) {
+    const range = legged.jointLimits[i] ?? null;
+    if (legged.legs[i]!.name !== 'crank-rod') continue;
+    if (!range) {
+      // Unlimited: the margin is +∞, so always more than JOINT_FAR (the dot product 0 exceeds −2).
+      out[3 * i + 2] = -2;
+      continue;
+    }
+    const half = (range.max - range.min) / 2;
+    if (!(half > JOINT_FAR) || !(2 * half < 2 * Math.PI)) continue;
+    const mid = range.min + half;
+    out[3 * i] = Math.cos(mid);
+    out[3 * i + 1] = Math.sin(mid);
+    out[3 * i + 2] = Math.cos(half - JOINT_FAR);
+  }
+  return out;
 }
 
 /** The label of the evaluation region on a labelled grid (see sampleGrid). */
@@ -218,7 +270,7 @@ export function sampleAdaptive(
   const region = sampleGrid(study, architecture, model, pose, grid, box, phi, coarseCells(tolerance), undefined, true);
   clipReachToBox(grid, box);
   const w = study.evaluation.window;
-  const kernel = new PointKernel(study, architecture, model, pose, phi);
+  const kernel = new PointKernel(study, architecture, model, pose, phi, true);
   kernel.continuous = true;
   const sampler = (x: number, y: number, out: Float64Array): void => {
     kernel.sample(x, y);

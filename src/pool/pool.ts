@@ -8,13 +8,13 @@ import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
 import { METRICS } from '../mechanics/metrics.js';
-import { parseStudyText } from '../study/parse.js';
+import type { Study } from '../study/types.js';
 import type { EvaluationTask, EvaluationTaskResult, WorkerSetup } from './worker.js';
 
 export interface PoolOptions {
   /** Worker threads; default: the machine's available parallelism. */
   readonly workers?: number;
-  /** Designs per task sent to a thread; default: chosen from batch size and workers. */
+  /** Designs per task sent to a thread; default: decreasing tasks sized to the pool (taskSizes). */
   readonly batchSize?: number;
   /** Module exporting `createEvaluator(study)` to use instead of the built-in engine (tests, other models). */
   readonly evaluatorModule?: string;
@@ -41,12 +41,30 @@ function workerFile(): string {
   throw new Error('compiled worker not found: run "npm run build" first');
 }
 
+/** Most designs in one task (bounds the message size and the work lost when a thread dies). */
+const MAX_TASK_DESIGNS = 256;
+
 /**
- * Designs per task for a batch: about four tasks per worker (few messages, and a worker that
- * finishes early still finds work), at most 256 designs per task.
+ * Designs per task for a batch, in the order the tasks are queued. One worker takes the batch whole
+ * (nothing to balance; tasks of at most 256 designs). Several workers take decreasing tasks ("guided self-scheduling",
+ * Polychronopoulos & Kuck 1987): each task is 1/(2·workers) of what is left, so the first tasks are
+ * large (few messages) and the last ones hold a design or two, and every worker finishes within about
+ * one design's time of the others, whatever each design costs.
  */
-export function batchSizeFor(designs: number, workers: number): number {
-  return Math.max(1, Math.min(256, Math.ceil(designs / (workers * 4))));
+export function taskSizes(designs: number, workers: number): number[] {
+  const sizes: number[] = [];
+  const share = workers <= 1 ? 1 : 2 * workers;
+  for (let left = designs; left > 0; ) {
+    const size = Math.max(1, Math.min(MAX_TASK_DESIGNS, Math.ceil(left / share)));
+    sizes.push(size);
+    left -= size;
+  }
+  return sizes;
+}
+
+/** Fixed-size tasks (PoolOptions.batchSize). */
+function fixedSizes(designs: number, size: number): number[] {
+  return Array.from({ length: Math.ceil(designs / size) }, (_, k) => Math.min(size, designs - k * size));
 }
 
 export class EvaluationPool {
@@ -54,9 +72,12 @@ export class EvaluationPool {
   private readonly piscina: Piscina;
   private readonly options: PoolOptions;
 
+  /**
+   * Starts the worker threads at once (they load their modules while the caller goes on); `study` is
+   * the parsed study, which reaches each worker once, as a structured clone.
+   */
   constructor(
-    studyText: string,
-    source: string,
+    study: Study,
     private readonly variableCount: number,
     private readonly constraintCount: number,
     options: PoolOptions = {},
@@ -65,7 +86,7 @@ export class EvaluationPool {
     this.workers = Math.max(1, Math.floor(options.workers ?? defaultWorkerCount()));
     // The study reaches each worker once, already parsed (no schema compilation or parsing there).
     const setup: WorkerSetup = {
-      study: parseStudyText(studyText, source).study,
+      study,
       ...(options.evaluatorModule ? { evaluatorModule: options.evaluatorModule } : {}),
     };
     this.piscina = new Piscina({
@@ -74,7 +95,10 @@ export class EvaluationPool {
       maxThreads: this.workers,
       idleTimeout: 60_000,
       workerData: setup,
-      // The whole batch is queued at once (unbounded queue); results are collected in order.
+      // The whole batch is queued at once (unbounded queue); results are collected in order. Each
+      // worker holds its next task while it evaluates one, so it never waits for the main thread
+      // (which writes the previous generation meanwhile) to hand out work.
+      concurrentTasksPerWorker: 2,
     });
   }
 
@@ -84,10 +108,12 @@ export class EvaluationPool {
    */
   async evaluate(designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<DesignOutcome[]> {
     if (designs.length === 0) return [];
-    const size = this.options.batchSize ?? batchSizeFor(designs.length, this.workers);
+    const sizes = this.options.batchSize ? fixedSizes(designs.length, this.options.batchSize) : taskSizes(designs.length, this.workers);
     const chunks: number[][] = [];
-    for (let start = 0; start < designs.length; start += size) {
-      chunks.push(Array.from({ length: Math.min(size, designs.length - start) }, (_, k) => start + k));
+    let start = 0;
+    for (const size of sizes) {
+      chunks.push(Array.from({ length: size }, (_, k) => start + k));
+      start += size;
     }
     const results = await Promise.all(chunks.map((chunk) => this.runChunk(chunk, designs, workspace)));
     return results.flat();
@@ -161,7 +187,11 @@ export class EvaluationPool {
     return out;
   }
 
-  async close(): Promise<void> {
-    await this.piscina.destroy();
+  private closing: Promise<void> | null = null;
+
+  /** Ends the worker threads (once, however often it is called). */
+  close(): Promise<void> {
+    this.closing ??= this.piscina.destroy();
+    return this.closing;
   }
 }

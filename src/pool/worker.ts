@@ -44,21 +44,31 @@ export interface DesignEvaluatorLike {
   evaluateWithWorkspace?(design: Float64Array, workspace: Float64Array): { metrics: Float64Array; margins: Float64Array; violation: number };
 }
 
-let evaluator: DesignEvaluatorLike | null = null;
+/** The worker's one evaluator, made on its first task (two tasks may be in hand at once: made once). */
+let evaluator: Promise<DesignEvaluatorLike> | null = null;
 
-async function evaluatorOfWorker(): Promise<DesignEvaluatorLike> {
-  if (evaluator) return evaluator;
+async function makeEvaluator(): Promise<DesignEvaluatorLike> {
   const setup = workerData as WorkerSetup;
-  if (setup.evaluatorModule) {
-    const mod = (await import(setup.evaluatorModule)) as { createEvaluator(study: unknown): DesignEvaluatorLike };
-    evaluator = mod.createEvaluator(setup.study);
-  } else {
-    evaluator = new Evaluator(setup.study);
-  }
+  if (!setup.evaluatorModule) return new Evaluator(setup.study);
+  const mod = (await import(setup.evaluatorModule)) as { createEvaluator(study: unknown): DesignEvaluatorLike };
+  return mod.createEvaluator(setup.study);
+}
+
+function evaluatorOfWorker(): Promise<DesignEvaluatorLike> {
+  evaluator ??= makeEvaluator();
   return evaluator;
 }
 
+/** A turn of the event loop (a macrotask). */
+function nextTurn(): Promise<void> {
+  return new Promise((resolve) => setImmediate(resolve));
+}
+
 export default async function evaluateBatch(task: EvaluationTask): Promise<EvaluationTaskResult> {
+  // A worker holds up to two tasks (the pool's next one arrives while it evaluates): each starts on its
+  // own turn of the event loop, so the result of the first goes back before the second is evaluated,
+  // and the pool can hand out the remaining work by who is free.
+  await nextTurn();
   const evaluator = await evaluatorOfWorker();
   const nv = evaluator.variables.length;
   const nm = METRICS.length;

@@ -1,7 +1,7 @@
 /** Evaluate a batch of designs through the store's cache and the worker pool. */
 import type { Evaluation } from '../optimizer/types.js';
 import type { EvaluationPool } from '../pool/pool.js';
-import type { NewEvaluation, Store } from '../store/store.js';
+import type { GenerationWrite, NewEvaluation, Store } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
 import { evaluationFromOutcome, evaluationFromStored, evaluationKey, newEvaluationRecord, type StudyProblem } from './problem.js';
 
@@ -71,4 +71,33 @@ export async function evaluateWithCache(
   });
   for (const k of repeats) evaluations[k] = evaluations[firstIndexOfKey.get(keys[k]!)!]!;
   return { evaluations, keys, newRecords, failed };
+}
+
+/**
+ * Write-behind of one batch's store write: it is held until the workers have the next batch (pass
+ * `records` and `flush` to evaluateWithCache), so the main thread writes while the threads evaluate.
+ * The records held are served from memory until then, so the database ends up exactly as if every
+ * batch had been written before the next was evaluated. `flush` before reading the store or ending.
+ */
+export class WriteBehind<W extends Pick<GenerationWrite, 'newEvaluations'>> {
+  private held: W | null = null;
+  /** New evaluations of the held write, by key (for the cache lookup of the next batch). */
+  records = new Map<string, NewEvaluation>();
+
+  constructor(private readonly write: (held: W) => void) {}
+
+  /** Holds a write (the previous one must have been flushed, as evaluateWithCache does). */
+  hold(held: W): void {
+    if (this.held) throw new Error('WriteBehind.hold: the previous write was not flushed');
+    this.held = held;
+    for (const record of held.newEvaluations) this.records.set(record.key, record);
+  }
+
+  readonly flush = (): void => {
+    if (!this.held) return;
+    const held = this.held;
+    this.held = null;
+    this.records = new Map();
+    this.write(held);
+  };
 }

@@ -12,10 +12,10 @@ import { createOptimizer, type AskTellOptimizer } from '../optimizer/algorithm.j
 import { TerminationTracker, type EndReason, type Termination, type TerminationState } from '../optimizer/termination.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
-import { canonicalJson, Store, type GenerationWrite, type NewEvaluation, type RunRow } from '../store/store.js';
+import { canonicalJson, Store, type GenerationWrite, type RunRow } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
 import { evaluationKey, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
-import { evaluateWithCache } from './batch.js';
+import { evaluateWithCache, WriteBehind } from './batch.js';
 
 export interface RunOptions extends PoolOptions {
   readonly dbPath: string;
@@ -196,21 +196,15 @@ function spreadFrame(frame: HypervolumeFrame | null): HypervolumeFrame | null {
  * a spread in every objective).
  */
 export function recordFinalHypervolumes(store: Store, runId: number, sp: StudyProblem): void {
-  const last = store.lastGeneration(runId);
-  if (last === undefined) return;
-  const fronts: number[][][] = [];
-  for (let g = 0; g <= last; g++) {
-    fronts.push(
-      store
-        .generationMembers(runId, g)
-        .filter((m) => m.rank === 0 && m.feasible && m.error === null)
-        .map((m) => sp.study.objectives.map((o) => {
-          const v = m.metrics[o.metric] ?? Number.NaN;
-          const finite = v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v;
-          return o.sense === 'max' ? -finite : finite;
-        })),
-    );
-  }
+  const objectives = sp.study.objectives;
+  const fronts = store.rankZeroFeasibleMetrics(runId, objectives.map((o) => o.metric)).map((members) =>
+    members.map((values) => objectives.map((o, k) => {
+      const v = values[k] ?? Number.NaN;
+      const finite = v === Infinity ? Number.MAX_VALUE : v === -Infinity ? -Number.MAX_VALUE : v;
+      return o.sense === 'max' ? -finite : finite;
+    })),
+  );
+  if (fronts.length === 0) return;
   const frame = frameFrom(fronts.flat());
   const values = new Map<number, number | null>();
   fronts.forEach((front, g) => values.set(g, frame ? frameHypervolume(front, frame) : null));
@@ -311,9 +305,8 @@ interface RunSetup {
 }
 
 /** Opens the store and settles the run's settings; refuses a bad --from or --more before anything is created. */
-function setUpRun(studyIn: LoadedStudy, options: RunOptions): RunSetup {
+function setUpRun(studyIn: LoadedStudy, sp: StudyProblem, options: RunOptions): RunSetup {
   const loaded = withEvaluatorNamespace(studyIn, options.evaluatorModule);
-  const sp = studyProblem(loaded.study);
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const population = options.population ?? loaded.study.optimizer.population;
   const algorithm = loaded.study.optimizer.algorithm;
@@ -414,7 +407,8 @@ function generationRecord(
     frame,
     members: members.map((m) => ({ key: evaluationKey(settingsHash, m.design), rank: m.rank, crowding: m.crowding })),
     counts: { evaluations: at.designs, newEvaluations: at.newRecords, failed: at.failed, feasibleCount, hypervolume, evaluationsPerSecond: at.elapsed > 0 ? at.newRecords / at.elapsed : 0 },
-    optimizerState: JSON.stringify(state),
+    // A fresh plain object (snapshot), made into text when the generation is written, off the critical path.
+    optimizerState: state,
   };
 }
 
@@ -426,10 +420,18 @@ function runSummary(tracker: TerminationTracker, figures: Omit<RunSummary, 'wind
 }
 
 export async function runOptimization(studyIn: LoadedStudy, options: RunOptions): Promise<RunSummary> {
-  const setup = setUpRun(studyIn, options);
-  const { loaded, sp, population, algorithm, warm, store, plan } = setup;
+  const sp = studyProblem(studyIn.study);
+  // The workers start first: they load their modules while this thread opens the store and settles the run.
+  const pool = new EvaluationPool(studyIn.study, sp.variables.length, sp.constraints.length, options);
+  let setup: RunSetup;
+  try {
+    setup = setUpRun(studyIn, sp, options);
+  } catch (error) {
+    await pool.close();
+    throw error;
+  }
+  const { loaded, population, algorithm, warm, store, plan } = setup;
   const nsgaSettings = plan.nsga;
-  const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
   let ownedRunId: number | undefined;
   try {
     store.ensureColumns(sp.columns);
@@ -450,17 +452,10 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     let archiveSize = optimizer.archive().length;
     let done = optimizer.generation >= 0 && termination.generations !== undefined && optimizer.generation >= termination.generations;
     if (done) endReason = 'budget';
-    // The store write of generation g runs on the main thread while the workers evaluate generation
-    // g + 1; its records are served from memory until then, so the database ends up exactly as if
-    // every generation had been written before the next was asked for.
-    let pendingWrite: GenerationWrite | null = null;
-    let pendingRecords = new Map<string, NewEvaluation>();
-    const flush = (): void => {
-      if (!pendingWrite) return;
-      store.writeGeneration(pendingWrite);
-      pendingWrite = null;
-      pendingRecords = new Map();
-    };
+    // The store write of generation g runs on the main thread while the workers evaluate generation g + 1.
+    const writes = new WriteBehind<Omit<GenerationWrite, 'optimizerState'> & { optimizerState: RunState }>((held) =>
+      store.writeGeneration({ ...held, optimizerState: JSON.stringify(held.optimizerState) }),
+    );
     while (!done) {
       const generation = optimizer.generation + 1;
       const genStart = performance.now();
@@ -469,7 +464,7 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         // Warm start: the earlier run's final population first, then space-filling designs up to the initial size.
         designs = [...warm.designs, ...designs].slice(0, designs.length);
       }
-      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, pendingRecords, flush);
+      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, writes.records, writes.flush);
       optimizer.tell(designs, evaluations);
       evaluationsSoFar += designs.length;
       const decision = tracker.afterGeneration(optimizer.generation, evaluationsSoFar, population, optimizer.archive().map((m) => minimised(sp, m.evaluation)));
@@ -481,15 +476,14 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       const record = generationRecord(optimizer, sp, loaded.settingsHash, frame, { tracker, evaluationsSoFar, designs: designs.length, newRecords: newRecords.length, failed, elapsed });
       frame = record.frame;
       const counts = record.counts;
-      pendingWrite = {
+      writes.hold({
         runId,
         generation,
         newEvaluations: newRecords,
         members: record.members,
         stats: { ...counts, elapsedSeconds: elapsed, archiveSize, hvImprovement: lastImprovement },
         optimizerState: record.optimizerState,
-      };
-      for (const record of newRecords) pendingRecords.set(record.key, record);
+      });
       totalEvaluations += designs.length;
       totalNew += newRecords.length;
       options.onGeneration?.({
@@ -512,7 +506,9 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
         break;
       }
     }
-    flush();
+    // No more evaluations: the threads end while the last generation and the final record are written.
+    void pool.close();
+    writes.flush();
     if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
     store.setRunEnd(runId, status === 'finished' ? endReason ?? 'budget' : null, termination);
     store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);

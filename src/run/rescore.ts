@@ -177,7 +177,7 @@ async function scoreDesigns(
   const mode: RescoreResult['mode'] = toEvaluate.length === 0 ? 'cached' : sameWorkspace ? 'per-pose' : 'full';
   const newRecords: NewEvaluation[] = [];
   if (toEvaluate.length > 0) {
-    const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
+    const pool = new EvaluationPool(loaded.study, sp.variables.length, sp.constraints.length, options);
     onPool(pool);
     const workspace = toEvaluate.map((k) => {
       const old = stored[k]!;

@@ -82,7 +82,7 @@ export async function roundAndEvaluate(options: RoundingOptions): Promise<Roundi
       }
       return { design: designFromValues(sp.variables, values, true), changed };
     });
-    pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
+    pool = new EvaluationPool(loaded.study, sp.variables.length, sp.constraints.length, options);
     const designs = rounded.map((r) => r.design);
     const { evaluations, keys, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs);
     store.ensureColumns(sp.columns);

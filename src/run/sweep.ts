@@ -7,9 +7,9 @@ import { designLayout, latinHypercube, KIND_CATEGORICAL } from '../optimizer/ope
 import { SeededRandom } from '../optimizer/random.js';
 import { isFeasible } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
-import { Store } from '../store/store.js';
+import { Store, type GenerationWrite } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
-import { evaluateWithCache } from './batch.js';
+import { evaluateWithCache, WriteBehind } from './batch.js';
 import { studyProblem, withEvaluatorNamespace } from './problem.js';
 
 export interface SweepOptions extends PoolOptions {
@@ -62,8 +62,15 @@ export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Pro
   const seed = options.seed ?? loaded.study.optimizer.seed;
   const layout = designLayout(sp.problem);
   const designs = options.method === 'grid' ? gridDesigns(layout, options.samples) : latinHypercube(options.samples, layout, new SeededRandom(seed));
-  const store = Store.open(options.dbPath, { access: 'write' });
-  const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, options);
+  // The workers start first: they load their modules while this thread opens the store.
+  const pool = new EvaluationPool(loaded.study, sp.variables.length, sp.constraints.length, options);
+  let store: Store;
+  try {
+    store = Store.open(options.dbPath, { access: 'write' });
+  } catch (error) {
+    await pool.close();
+    throw error;
+  }
   try {
     const studyId = store.upsertStudy({ name: loaded.study.name, architecture: loaded.study.architecture, fileText: loaded.text, settingsHash: loaded.settingsHash });
     store.ensureColumns(sp.columns);
@@ -72,14 +79,16 @@ export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Pro
     let feasible = 0;
     const started = performance.now();
     let status: 'finished' | 'stopped' = 'finished';
+    const writes = new WriteBehind<GenerationWrite>((held) => store.writeGeneration(held));
     for (let start = 0, generation = 0; start < designs.length; start += chunk, generation++) {
       const part = designs.slice(start, start + chunk);
       const t0 = performance.now();
-      const result = await evaluateWithCache(store, pool, sp, loaded, part);
+      const result = await evaluateWithCache(store, pool, sp, loaded, part, writes.records, writes.flush);
       const chunkFeasible = result.evaluations.filter(isFeasible).length;
       feasible += chunkFeasible;
       const elapsed = (performance.now() - t0) / 1000;
-      store.writeGeneration({
+      // Written while the workers evaluate the next chunk (or at the end).
+      writes.hold({
         runId,
         generation,
         newEvaluations: result.newRecords,
@@ -102,6 +111,7 @@ export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Pro
         break;
       }
     }
+    writes.flush();
     store.markRun(runId, status);
     return { runId, evaluations: designs.length, feasible, status };
   } finally {

@@ -147,7 +147,7 @@ async function runOneShard(dir: string, plan: Plan, loaded: LoadedStudy, index: 
   const scratch = mkdtempSync(join(scratchRoot(plan, options), `loopsmith-${plan.id.slice(0, 8)}-${shardName(index)}-`));
   const workers = options.workers ?? envInteger('SLURM_CPUS_PER_TASK') ?? plan.slurm.cpusPerTask;
   const sp = studyProblem(loaded.study);
-  const pool = new EvaluationPool(loaded.text, loaded.source, sp.variables.length, sp.constraints.length, { workers });
+  const pool = new EvaluationPool(loaded.study, sp.variables.length, sp.constraints.length, { workers });
   try {
     const store = Store.open(join(scratch, 'shard.db'));
     let designs: number;

@@ -292,6 +292,32 @@ interface ColumnSetNames {
   constraints: string[];
 }
 
+/** Values of the insert statement after key, settings hash, run and column set: violation, feasible, error, eval_seconds. */
+const FIXED_INSERT_VALUES = 4;
+
+/** Where each per-study column's value goes among the insert statement's values (after the fixed ones). */
+interface InsertSlots {
+  readonly count: number;
+  readonly variables: ReadonlyMap<string, { readonly index: number; readonly type: VariableType }>;
+  readonly metrics: ReadonlyMap<string, number>;
+  readonly constraints: ReadonlyMap<string, number>;
+}
+
+/** A new evaluation checked and laid out for the insert statement. */
+interface PreparedEvaluation {
+  readonly key: string;
+  readonly settingsHash: string;
+  readonly names: ColumnSetNames;
+  readonly signature: string;
+  readonly values: unknown[];
+}
+
+function sameStrings(a: readonly string[], b: readonly string[]): boolean {
+  if (a.length !== b.length) return false;
+  for (let k = 0; k < a.length; k++) if (a[k] !== b[k]) return false;
+  return true;
+}
+
 interface TableInfoRow {
   cid: number;
   name: string;
@@ -456,6 +482,10 @@ export class Store {
   private knownColumns = new Set<string>();
   private readonly columnSetIdBySignature = new Map<string, number>();
   private readonly columnSetById = new Map<number, ColumnSetNames>();
+  /** Parameter positions of the per-study columns in the insert statement (set with the statement). */
+  private insertSlots: InsertSlots = { count: 0, variables: new Map(), metrics: new Map(), constraints: new Map() };
+  /** The column set of the last evaluation written, with the names as it listed them (see columnSetOf). */
+  private lastColumnSet: { raw: readonly (readonly string[])[]; names: ColumnSetNames; signature: string } | null = null;
 
   // Statements over fixed columns, prepared once.
   private readonly insertStudyStatement: Database.Statement<unknown[]>;
@@ -937,7 +967,7 @@ export class Store {
 
       const idByKey = new Map<string, number>();
       for (const p of prepared) {
-        const signature = columnSetSignature(p.names);
+        const signature = p.signature;
         let columnSetId = this.columnSetIdBySignature.get(signature) ?? newColumnSets.get(signature)?.id;
         if (columnSetId === undefined) {
           columnSetId = this.storeColumnSet(p.names);
@@ -997,6 +1027,30 @@ export class Store {
         crowding: row['member_crowding'] as number,
       })),
     );
+  }
+
+  /**
+   * Per generation of a run (0 … last), the given metrics of its feasible, error-free members of rank
+   * 0, in population order: what a run's final hypervolume record reads, without decoding whole rows.
+   */
+  rankZeroFeasibleMetrics(runId: number, metrics: readonly string[]): (number | null)[][][] {
+    const last = this.lastGeneration(runId);
+    if (last === undefined) return [];
+    const unknown = (): string | undefined => metrics.find((name) => !this.knownColumns.has(METRIC_PREFIX + name));
+    if (unknown() !== undefined) this.reloadColumns(); // another connection may have added it
+    const missing = unknown();
+    if (missing !== undefined) throw new StoreError(`metric ${missing} has no column in this store`);
+    const columns = metrics.map((name) => `e.${quoteIdentifier(METRIC_PREFIX + name)}`);
+    const rows = this.db
+      .prepare(
+        `SELECT g.generation${columns.map((c) => `, ${c}`).join('')} FROM generation_members g JOIN evaluations e ON e.id = g.evaluation_id
+         WHERE g.run_id = ? AND g.rank = 0 AND e.feasible = 1 AND e.error IS NULL ORDER BY g.generation, g.position`,
+      )
+      .raw()
+      .all(runId) as (number | null)[][];
+    const fronts: (number | null)[][][] = Array.from({ length: last + 1 }, () => []);
+    for (const row of rows) fronts[row[0]!]?.push(row.slice(1));
+    return fronts;
   }
 
   /** Highest generation number with stats stored for the run, or undefined when none. */
@@ -1062,6 +1116,13 @@ export class Store {
 
     const dynamicColumns = this.dynamicColumnNames();
     const insertColumns = ['eval_key', 'settings_hash', 'first_run_id', 'column_set_id', 'violation', 'feasible', 'error', 'eval_seconds', ...dynamicColumns];
+    let slot = FIXED_INSERT_VALUES;
+    this.insertSlots = {
+      count: dynamicColumns.length,
+      variables: new Map(layout.variables.map((v) => [v.name, { index: slot++, type: v.type }])),
+      metrics: new Map(layout.metrics.map((name) => [name, slot++])),
+      constraints: new Map(layout.constraints.map((name) => [name, slot++])),
+    };
     this.insertEvaluationStatement = this.db.prepare(
       `INSERT INTO evaluations (${insertColumns.map(quoteIdentifier).join(', ')})
        VALUES (${insertColumns.map(() => '?').join(', ')}) ON CONFLICT (eval_key) DO NOTHING`,
@@ -1112,54 +1173,55 @@ export class Store {
   }
 
   /** Checks one new evaluation against the known columns and lays out its values for the insert statement. */
-  private prepareEvaluation(
-    evaluation: NewEvaluation,
-    index: number,
-  ): { key: string; settingsHash: string; names: ColumnSetNames; values: unknown[] } {
-    const where = `newEvaluations[${index}] (key ${evaluation.key})`;
-    if (typeof evaluation.key !== 'string' || evaluation.key.length === 0) throw new StoreError(`${where}: key must be a non-empty string`);
-    if (typeof evaluation.settingsHash !== 'string') throw new StoreError(`${where}: settingsHash must be a string`);
-    checkNumber(`${where}: violation`, evaluation.violation);
+  private prepareEvaluation(evaluation: NewEvaluation, index: number): PreparedEvaluation {
+    const where = (): string => `newEvaluations[${index}] (key ${evaluation.key})`;
+    if (typeof evaluation.key !== 'string' || evaluation.key.length === 0) throw new StoreError(`${where()}: key must be a non-empty string`);
+    if (typeof evaluation.settingsHash !== 'string') throw new StoreError(`${where()}: settingsHash must be a string`);
+    checkNumber(`${where()}: violation`, evaluation.violation);
 
-    const valueByColumn = new Map<string, number | string | null>();
-    const variableTypes = new Map(this.layout.variables.map((v) => [v.name, v.type]));
-    for (const [name, value] of Object.entries(evaluation.variables)) {
-      const type = variableTypes.get(name);
-      if (type === undefined) throw new StoreError(`${where}: variable ${name} has no column; call ensureColumns first`);
-      if (type === 'real' && (typeof value !== 'number' || Number.isNaN(value))) {
-        throw new StoreError(`${where}: variable ${name} must be a number, got ${String(value)}`);
+    const slots = this.insertSlots;
+    // Fixed columns first (as in the insert statement), then one slot per per-study column.
+    const values: unknown[] = new Array<unknown>(FIXED_INSERT_VALUES + slots.count).fill(null);
+    values[0] = evaluation.violation;
+    values[1] = evaluation.feasible ? 1 : 0;
+    values[2] = evaluation.error;
+    values[3] = evaluation.evalSeconds === null ? null : nullableReal(evaluation.evalSeconds);
+    for (const name in evaluation.variables) {
+      const value = evaluation.variables[name]!;
+      const slot = slots.variables.get(name);
+      if (slot === undefined) throw new StoreError(`${where()}: variable ${name} has no column; call ensureColumns first`);
+      if (slot.type === 'real' && (typeof value !== 'number' || Number.isNaN(value))) {
+        throw new StoreError(`${where()}: variable ${name} must be a number, got ${String(value)}`);
       }
-      if (type === 'text' && typeof value !== 'string') throw new StoreError(`${where}: variable ${name} must be a string, got ${String(value)}`);
-      valueByColumn.set(VARIABLE_PREFIX + name, value);
+      if (slot.type === 'text' && typeof value !== 'string') throw new StoreError(`${where()}: variable ${name} must be a string, got ${String(value)}`);
+      values[slot.index] = value;
     }
-    const addReals = (kind: string, prefix: string, record: Record<string, number | null>): void => {
-      for (const [name, value] of Object.entries(record)) {
-        const column = prefix + name;
-        if (!this.knownColumns.has(column)) throw new StoreError(`${where}: ${kind} ${name} has no column; call ensureColumns first`);
-        if (value !== null && typeof value !== 'number') throw new StoreError(`${where}: ${kind} ${name} must be a number or null, got ${String(value)}`);
-        valueByColumn.set(column, nullableReal(value));
+    const addReals = (kind: string, bySlot: ReadonlyMap<string, number>, record: Record<string, number | null>): void => {
+      for (const name in record) {
+        const value = record[name]!;
+        const slot = bySlot.get(name);
+        if (slot === undefined) throw new StoreError(`${where()}: ${kind} ${name} has no column; call ensureColumns first`);
+        if (value !== null && typeof value !== 'number') throw new StoreError(`${where()}: ${kind} ${name} must be a number or null, got ${String(value)}`);
+        values[slot] = nullableReal(value);
       }
     };
-    addReals('metric', METRIC_PREFIX, evaluation.metrics);
-    addReals('constraint', CONSTRAINT_PREFIX, evaluation.constraints);
+    addReals('metric', slots.metrics, evaluation.metrics);
+    addReals('constraint', slots.constraints, evaluation.constraints);
+    const { names, signature } = this.columnSetOf(evaluation);
+    return { key: evaluation.key, settingsHash: evaluation.settingsHash, names, signature, values };
+  }
 
-    const values: unknown[] = [
-      evaluation.violation,
-      evaluation.feasible ? 1 : 0,
-      evaluation.error,
-      evaluation.evalSeconds === null ? null : nullableReal(evaluation.evalSeconds),
-    ];
-    for (const column of this.dynamicColumnNames()) values.push(valueByColumn.get(column) ?? null);
-    return {
-      key: evaluation.key,
-      settingsHash: evaluation.settingsHash,
-      names: {
-        variables: Object.keys(evaluation.variables).sort(),
-        metrics: Object.keys(evaluation.metrics).sort(),
-        constraints: Object.keys(evaluation.constraints).sort(),
-      },
-      values,
-    };
+  /**
+   * The names an evaluation carries, sorted, with their signature. Evaluations of one study carry the
+   * same names in the same order, so the last answer is reused when the names match it one for one.
+   */
+  private columnSetOf(evaluation: NewEvaluation): { names: ColumnSetNames; signature: string } {
+    const raw = [Object.keys(evaluation.variables), Object.keys(evaluation.metrics), Object.keys(evaluation.constraints)] as const;
+    const last = this.lastColumnSet;
+    if (last && raw.every((list, k) => sameStrings(list, last.raw[k]!))) return last;
+    const names: ColumnSetNames = { variables: [...raw[0]].sort(), metrics: [...raw[1]].sort(), constraints: [...raw[2]].sort() };
+    this.lastColumnSet = { raw, names, signature: columnSetSignature(names) };
+    return this.lastColumnSet;
   }
 
   /** Inserts (or finds) a column set inside the caller's transaction and returns its id. */

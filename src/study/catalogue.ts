@@ -6,8 +6,17 @@
  * ("0.64 N*m"). Lines starting with "#" are comments in both.
  */
 import { LoopsmithUserError } from '../core/errors.js';
-import { parse as parseYaml } from 'yaml';
+import { createRequire } from 'node:module';
 import type { DriveSpec } from './types.js';
+
+/**
+ * The YAML parser, loaded on first use: evaluation threads import this module (through the drive
+ * trains) but never read a catalogue file, and loading the parser would slow every thread's start.
+ */
+function parseYaml(text: string, options: { maxAliasCount: number }): unknown {
+  const yaml = createRequire(import.meta.url)('yaml') as typeof import('yaml');
+  return yaml.parse(text, options);
+}
 
 export class CatalogueError extends LoopsmithUserError {
   override readonly name = 'CatalogueError';

@@ -8,7 +8,7 @@ import { mountBaseline, studyCell } from './cell.js';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
-import { Ajv, type ErrorObject } from 'ajv';
+import type { ErrorObject, ValidateFunction } from 'ajv';
 import { parseAllDocuments, parseDocument, stringify } from 'yaml';
 import type { AssemblyMode, JointRange } from '../core/pose.js';
 import { currentMetricName, metricInfo, metricKind, metricUnavailable } from '../core/metrics.js';
@@ -20,6 +20,7 @@ import { programVersion } from '../core/version.js';
 import { CatalogueError, catalogueRecords, findOption } from './catalogue.js';
 import { checkAccuracyMetricNeeds, parseAccuracySections } from './accuracySection.js';
 import { buildDriveTrainSetup, fixedDrives } from './driveTrains.js';
+import { studyValidator } from './validator.js';
 import {
   ARCHITECTURE_PREFIX,
   DEFAULT_EVALUATION_TOLERANCE,
@@ -74,7 +75,7 @@ export const DEFAULT_CONVERGENCE = { window: 20, tolerance: 0.001, maxEvaluation
 type Json = null | boolean | number | string | Json[] | { [key: string]: Json };
 type JsonObject = { [key: string]: Json };
 
-let validator: ReturnType<Ajv['compile']> | undefined;
+let validator: ValidateFunction | undefined;
 
 /**
  * The study schema as validation uses it: the file's shape with the architecture names of the one
@@ -95,10 +96,7 @@ export function studySchemaForRegistry(): Record<string, unknown> {
   return schema as unknown as Record<string, unknown>;
 }
 function validateShape(data: unknown): readonly ErrorObject[] {
-  if (!validator) {
-    const ajv = new Ajv({ allErrors: true, strict: false });
-    validator = ajv.compile(studySchemaForRegistry());
-  }
+  validator ??= studyValidator(studySchemaForRegistry());
   return validator(data) ? [] : (validator.errors ?? []);
 }
 

@@ -463,6 +463,33 @@ describe('writeGeneration', () => {
     ).toThrow(/next one to write is 2/);
   });
 
+  it('lists per generation the metrics of the feasible, error-free members of rank 0, in population order', () => {
+    const { store, runId } = storeWithRun(tempDbPath());
+    const members = (list: [string, number][]): GenerationWrite['members'] => list.map(([key, rank]) => ({ key, rank, crowding: 1 }));
+    // evaluation(i) above: 0–3 feasible, 4 failed (error), 5 infeasible (violation 0.05).
+    const writes: [NewEvaluation[], [string, number][]][] = [
+      [[0, 1, 2, 3].map((i) => evaluation(i)), [['key-2', 0], ['key-0', 0], ['key-3', 1], ['key-1', 0]]],
+      [[evaluation(4)], [['key-4', 0], ['key-2', 0], ['key-1', 1], ['key-0', 1]]],
+      [[evaluation(5)], [['key-5', 0], ['key-3', 1], ['key-1', 1], ['key-0', 0]]],
+    ];
+    writes.forEach(([newEvaluations, list], generation) =>
+      store.writeGeneration({ runId, generation, newEvaluations, members: members(list), stats: stats(4, newEvaluations.length), optimizerState: null }),
+    );
+    const metricsOf = (i: number): number[] => [evaluation(i).metrics['max_torque']!, evaluation(i).metrics['workspace_area']!];
+    expect(store.rankZeroFeasibleMetrics(runId, ['max_torque', 'workspace_area'])).toEqual([
+      [metricsOf(2), metricsOf(0), metricsOf(1)],
+      [metricsOf(2)],
+      [metricsOf(0)],
+    ]);
+    // The same as filtering the decoded members (the general read path).
+    const decoded = [0, 1, 2].map((g) =>
+      store.generationMembers(runId, g).filter((m) => m.rank === 0 && m.feasible && m.error === null).map((m) => [m.metrics['max_torque'], m.metrics['workspace_area']]),
+    );
+    expect(store.rankZeroFeasibleMetrics(runId, ['max_torque', 'workspace_area'])).toEqual(decoded);
+    expect(store.rankZeroFeasibleMetrics(runId + 1, ['max_torque'])).toEqual([]);
+    expect(() => store.rankZeroFeasibleMetrics(runId, ['no_such_metric'])).toThrow(/no_such_metric has no column/);
+  });
+
   it('rolls the whole generation back when a member key is unknown', () => {
     const path = tempDbPath();
     const { store, runId } = storeWithRun(path);

@@ -11,6 +11,9 @@ import type { ArchitecturePose } from '../types.js';
 import { addProximalRod, rodBodyCentre } from './bodies.js';
 import type { LegBody, LegGeometry, LegInput, LegKind, LegLumped, LegModelView } from './types.js';
 
+/** The joint margin (rad) written when the angle is skipped (ArchitecturePose.marginOnly): a lower bound. */
+export const JOINT_FAR = 1;
+
 export const crankRod: LegKind = {
   name: 'crank-rod',
   actuator: 'revolute',
@@ -56,14 +59,11 @@ export const crankRod: LegKind = {
     const ny = wy / rho;
     const dirX = nx * cosAlpha - ny * sinAlpha;
     const dirY = ny * cosAlpha + nx * sinAlpha;
-    const limits = model.jointLimits[i] ?? null;
-    let joint = Infinity;
-    // A sampling pose needs the angle only for a joint-range margin (see ArchitecturePose.marginsOnly).
-    if (!pose.marginsOnly || limits !== null) {
-      const theta = Math.atan2(dirY, dirX);
-      pose.q[i] = theta;
-      joint = jointRangeMargin(theta, limits);
-    }
+    // Joint more than 1 rad inside its range (the crank direction within half span − 1 rad of the
+    // range's middle: a dot product against a cosine): a caller reading only margins needs no angle.
+    const far = pose.marginOnly && dirX * pose.jointTest[3 * i]! + dirY * pose.jointTest[3 * i + 1]! > pose.jointTest[3 * i + 2]!;
+    const theta = far ? Number.NaN : Math.atan2(dirY, dirX);
+    pose.q[i] = theta;
     const proxX = model.baseX[i]! + p * dirX;
     const proxY = model.baseY[i]! + p * dirY;
     pose.actuatorDirection[2 * i] = dirX;
@@ -79,7 +79,7 @@ export const crankRod: LegKind = {
     pose.B[i * n + i] = p * legSine;
     pose.A[i * n] = ux;
     pose.A[i * n + 1] = uy;
-    pose.legJoint[i] = joint;
+    pose.legJoint[i] = far ? JOINT_FAR : jointRangeMargin(theta, model.jointLimits[i] ?? null);
     return true;
   },
 

@@ -17,8 +17,8 @@ export function finishKinematics3(model: ArchitectureModelBase, pose: Architectu
   const c0 = a4 * a8 - a5 * a7;
   const det = a0 * c0 - a1 * (a3 * a8 - a5 * a6) + a2 * (a3 * a7 - a4 * a6);
   pose.detA = det;
-  // A sampling pose (ArchitecturePose.marginsOnly) leaves J, J⁻¹, J_h, J_h⁻¹ unwritten.
-  if (!pose.marginsOnly) writeJacobians3(model.characteristicLength, pose, det, c0);
+  // A margins-only solve (ArchitecturePose.marginOnly) leaves J, J⁻¹, J_h, J_h⁻¹ unwritten.
+  if (!pose.marginOnly) writeJacobians3(model.characteristicLength, pose, det, c0);
   // M rows (Π_{j≠i} B_jj) row_i(A_h); the row norms of A_h.
   const m = pose.work2;
   const h2 = a2 / L, h5 = a5 / L, h8 = a8 / L;

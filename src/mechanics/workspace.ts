@@ -146,8 +146,9 @@ export class PointKernel {
  * prismatic joint, a span of 2π or more, or a half span within JOINT_FAR. Derived here: inside a range of span < 2π the joint margin
  * is half the span less the angle to the middle, so it exceeds JOINT_FAR exactly when the crank's
  * direction has a dot product with the middle's direction above that cosine. No leg skips when the
- * joint scale exceeds JOINT_FAR (a margins-only solve still skips the Jacobians); null for a model
- * without legs.
+ * joint scale exceeds JOINT_FAR. Null (the flag not worth setting) for a model without legs, and for
+ * a 2-DOF model whose legs never skip; a 3-DOF platform always gets its tests (a margins-only solve
+ * skips its Jacobians).
  */
 export function marginJointTests(model: ArchitectureModelBase, jointScale: number): Float64Array | null {
   if (!('legs' in model)) return null;
@@ -156,13 +157,17 @@ export function marginJointTests(model: ArchitectureModelBase, jointScale: numbe
   // (0, 0, 2) never skips: the dot product 0 does not exceed 2 (a direction with 2 would, up to 2√2).
   const out = new Float64Array(3 * n);
   for (let i = 0; i < n; i++) out[3 * i + 2] = 2;
-  if (jointScale > JOINT_FAR) return out;
+  // A 3-DOF platform gains from the flag anyway (no Jacobians); a 2-DOF one only by skipped angles.
+  const platform = legged.dof === 3;
+  if (jointScale > JOINT_FAR) return platform ? out : null;
+  let any = false;
   for (let i = 0; i < n; i++) {
     const range = legged.jointLimits[i] ?? null;
     if (legged.legs[i]!.name !== 'crank-rod') continue;
     if (!range) {
       // Unlimited: the margin is +∞, so always more than JOINT_FAR (the dot product 0 exceeds −2).
       out[3 * i + 2] = -2;
+      any = true;
       continue;
     }
     const half = (range.max - range.min) / 2;
@@ -171,8 +176,9 @@ export function marginJointTests(model: ArchitectureModelBase, jointScale: numbe
     out[3 * i] = Math.cos(mid);
     out[3 * i + 1] = Math.sin(mid);
     out[3 * i + 2] = Math.cos(half - JOINT_FAR);
+    any = true;
   }
-  return out;
+  return any || platform ? out : null;
 }
 
 /** The label of the evaluation region on a labelled grid (see sampleGrid). */

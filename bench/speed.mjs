@@ -5,6 +5,8 @@
 import { readFileSync, mkdtempSync, rmSync } from 'node:fs';
 import { availableParallelism, cpus, loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { execFileSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
 
 const root = new URL('../', import.meta.url);
 const { Evaluator, parseStudyText, runOptimization } = await import(new URL('dist/index.js', root).href);
@@ -111,6 +113,10 @@ const two = fastest(twos);
 const startups = [];
 for (let r = 0; r < 3; r++) startups.push((await endToEnd(demo, 2, 4, 1)).seconds);
 const workspaceWorst = accuracyFigures['five-bar'].workspace_area;
+// Allocation per evaluation: a child process whose young generation holds every allocation of the measured evaluations.
+const allocation = JSON.parse(
+  execFileSync(process.execPath, ['--expose-gc', '--min-semi-space-size=512', '--max-semi-space-size=512', fileURLToPath(new URL('bench/alloc.mjs', root))], { encoding: 'utf8' }),
+);
 const result = {
   node: process.version,
   cores: availableParallelism(),
@@ -122,6 +128,8 @@ const result = {
   ns_per_sample_cpu_time: single.nsPerSampleCpu,
   evaluations_per_cpu_second: single.evaluationsPerCpuSecond,
   samples_per_candidate: single.samplesPerCandidate,
+  bytes_allocated_per_evaluation: allocation.bytes_per_evaluation,
+  bytes_allocated_per_workspace_sample: allocation.bytes_per_workspace_sample,
   evaluations_per_second: single.evaluationsPerSecond,
   workspace_area_worst_error: workspaceWorst,
   workspace_area_worst_error_note: 'worst |relative error| against a fixed 1000-cell grid over 20 random asymmetric demo (five-bar) designs, tests/fixtures/area-reference.json',

@@ -189,11 +189,20 @@ export function buildLeggedModel(
 
 /** Inverse kinematics and velocity matrices; fills pose and returns its status. */
 export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: number, y: number, phi = 0): PoseStatus {
-  const n = model.dof;
-  const angle = n === 3 ? phi : 0;
+  // Small enough to be inlined where it is called: the point goes in through the pose's fields, not
+  // as arguments of the large solver (a number passed to a function that is not inlined is boxed).
   pose.x = x;
   pose.y = y;
-  pose.phi = angle;
+  pose.phi = model.dof === 3 ? phi : 0;
+  return solveLeggedPoseAtPoint(model, pose);
+}
+
+/** solveLeggedPose for the point and orientation already in pose.x, pose.y, pose.phi. */
+function solveLeggedPoseAtPoint(model: LeggedModel, pose: ArchitecturePose): PoseStatus {
+  const n = model.dof;
+  const x = pose.x;
+  const y = pose.y;
+  const angle = pose.phi;
   // No trigonometry at φ = ±0 (every 2-DOF pose, and sampling at φ_0 = 0): cos = 1, sin = φ exactly.
   const cphi = angle === 0 ? 1 : Math.cos(angle);
   const sphi = angle === 0 ? angle : Math.sin(angle);
@@ -212,7 +221,7 @@ export function solveLeggedPose(model: LeggedModel, pose: ArchitecturePose, x: n
     const distalY = y + ry;
     pose.distalJoint[2 * i] = distalX;
     pose.distalJoint[2 * i + 1] = distalY;
-    const reaches = model.legs[i]!.solve(model, i, distalX, distalY, pose);
+    const reaches = model.legs[i]!.solve(model, i, pose);
     const margin = pose.legReach[i]!;
     if (margin < reach) reach = margin;
     if (!reaches) {

@@ -88,7 +88,8 @@ export class BoundaryCells {
         slot = (slot + 1) & (EDGE_CACHE - 1);
       }
     }
-    const t = this.root(x0, y0, dx, dy, 0, v0, 1, v1);
+    this.root(x0, y0, dx, dy, 0, v0, 1, v1);
+    const t = this.rootT;
     this.crossX = x0 + t * dx;
     this.crossY = y0 + t * dy;
     if (slot < 0 || this.edgesCached + 1 > EDGE_CACHE >> 1) return;
@@ -100,10 +101,12 @@ export class BoundaryCells {
   }
 
   private crossX = 0;
+  /** The last root (written by root, not returned: a returned number would be boxed). */
+  private rootT = 0;
   private crossY = 0;
 
-  /** Root in t of the field along (x0, y0) + t (dx, dy) between t0 (value f0) and t1 (value f1) of opposite signs. */
-  private root(x0: number, y0: number, dx: number, dy: number, t0: number, f0: number, t1: number, f1: number): number {
+  /** Root in t (into rootT) of the field along (x0, y0) + t (dx, dy) between t0 (value f0) and t1 (value f1) of opposite signs. */
+  private root(x0: number, y0: number, dx: number, dy: number, t0: number, f0: number, t1: number, f1: number): void {
     const tolerance = ROOT_TOLERANCE * Math.abs(t1 - t0);
     let side = 0;
     let t = (t0 * f1 - t1 * f0) / (f1 - f0);
@@ -126,7 +129,7 @@ export class BoundaryCells {
       }
       if (f === 0) break;
     }
-    return t;
+    this.rootT = t;
   }
 
   /**
@@ -206,7 +209,7 @@ export class BoundaryCells {
     const by = e[3]!;
     const cx = bx - ax;
     const cy = by - ay;
-    const chord = Math.hypot(cx, cy);
+    const chord = Math.sqrt(cx * cx + cy * cy);
     if (!(chord > 0)) return Number.NaN;
     // Unit normal pointing to where the field falls (the bilinear gradient at the chord's middle).
     const mx = 0.5 * (ax + bx);
@@ -223,12 +226,13 @@ export class BoundaryCells {
     const far = fm >= 0 ? reach : -reach;
     const ff = this.sample(mx + far * nx, my + far * ny);
     if (fm >= 0 === ff >= 0) return Number.NaN;
-    const s = this.root(mx, my, nx, ny, 0, fm, far, ff);
+    this.root(mx, my, nx, ny, 0, fm, far, ff);
+    const s = this.rootT;
     // Check: the parabola at a quarter of the chord lies at 3/4 of the sagitta from it.
     const qx = ax + 0.25 * cx + 0.75 * s * nx;
     const qy = ay + 0.25 * cy + 0.75 * s * ny;
     const fq = this.sample(qx, qy);
-    const slope = Math.hypot(gx, gy);
+    const slope = Math.sqrt(gx * gx + gy * gy);
     const offset = slope > 0 ? Math.abs(fq) / slope : reach;
     // Plus the crossings' own uncertainty (ROOT_TOLERANCE of an edge, along the chord).
     this.cellError = (2 / 3) * chord * Math.min(offset, reach) + ROOT_TOLERANCE * h * chord;

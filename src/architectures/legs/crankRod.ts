@@ -42,7 +42,9 @@ export const crankRod: LegKind = {
     };
   },
 
-  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): boolean {
+  solve(model: LegModelView, i: number, pose: ArchitecturePose): boolean {
+    const bx = pose.distalJoint[2 * i]!;
+    const by = pose.distalJoint[2 * i + 1]!;
     const n = model.dof;
     const p = model.crank[i]!;
     const d = model.rod[i]!;

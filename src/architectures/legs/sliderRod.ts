@@ -34,7 +34,9 @@ export const sliderRod: LegKind = {
     };
   },
 
-  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): boolean {
+  solve(model: LegModelView, i: number, pose: ArchitecturePose): boolean {
+    const bx = pose.distalJoint[2 * i]!;
+    const by = pose.distalJoint[2 * i + 1]!;
     const n = model.dof;
     const d = model.rod[i]!;
     const dirX = model.railX[i]!;

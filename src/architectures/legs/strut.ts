@@ -41,7 +41,9 @@ export const strut: LegKind = {
     };
   },
 
-  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): boolean {
+  solve(model: LegModelView, i: number, pose: ArchitecturePose): boolean {
+    const bx = pose.distalJoint[2 * i]!;
+    const by = pose.distalJoint[2 * i + 1]!;
     const n = model.dof;
     const wx = bx - model.baseX[i]!;
     const wy = by - model.baseY[i]!;

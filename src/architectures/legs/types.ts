@@ -103,14 +103,15 @@ export interface LegKind {
   readonly actuator: ActuatorKind;
   lump(geometry: LegGeometry, input: LegInput): LegLumped;
   /**
-   * Inverse kinematics of leg i to the distal joint (bx, by): writes q_i, the actuator direction,
+   * Inverse kinematics of leg i to its distal joint B_i, read from pose.distalJoint[2i, 2i + 1]
+   * (passed in the pose, not as numbers, which would be boxed): writes q_i, the actuator direction,
    * proximal joint, rod direction u_i, leg sine s_i, A row entries (u_iᵀ) and B_ii, the leg's
    * reach margin in pose.legReach[i] (m, negative outside its reach) and its joint margin in
    * pose.legJoint[i] (rad or m, +∞ when unlimited). Returns false when the leg cannot reach B_i (then
    * only legReach[i] is written). The margin is not returned: a number returned from a function too
    * large to inline is boxed, one allocation per leg and point on the hot path.
    */
-  solve(model: LegModelView, i: number, bx: number, by: number, pose: ArchitecturePose): boolean;
+  solve(model: LegModelView, i: number, pose: ArchitecturePose): boolean;
   /**
    * Adds the leg's bodies to pose.D and pose.tauG and writes its rod-rate row, given the velocity
    * map of B_i per unit joint rate in pose.work2 (see legs/bodies.ts for the layout).

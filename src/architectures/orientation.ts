@@ -19,6 +19,13 @@ export interface OrientationScanOptions {
   readonly accept?: PoseAcceptance;
 }
 
+/** The scan lattice and settings of an orientation scan: tolerance, acceptance, samples per turn and their spacing h (rad). */
+function scanSettings(options: OrientationScanOptions): { tolerance: number; accept: NonNullable<OrientationScanOptions['accept']>; samples: number; h: number } {
+  const step = options.step ?? (2 * Math.PI) / 180;
+  const samples = Math.max(3, Math.ceil((2 * Math.PI) / step));
+  return { tolerance: options.tolerance ?? 1e-9, accept: options.accept ?? ASSEMBLED_AND_REGULAR, samples, h: (2 * Math.PI) / samples };
+}
+
 /**
  * Ranges of φ (rad) reachable at (x, y), over one turn [−π, π). Written as pairs (lo, hi) into
  * `out`; returns the number of ranges (at most out.length / 2; extra ones are dropped). A range that
@@ -34,11 +41,7 @@ export function orientationRanges<M extends ArchitectureModelBase>(
   out: Float64Array,
   options: OrientationScanOptions = {},
 ): number {
-  const step = options.step ?? (2 * Math.PI) / 180;
-  const tolerance = options.tolerance ?? 1e-9;
-  const accept = options.accept ?? ASSEMBLED_AND_REGULAR;
-  const samples = Math.max(3, Math.ceil((2 * Math.PI) / step));
-  const h = (2 * Math.PI) / samples;
+  const { tolerance, accept, samples, h } = scanSettings(options);
   const test = (phi: number): boolean => accept(pose, architecture.solvePose(model, pose, x, y, phi));
   const capacity = Math.floor(out.length / 2);
   let count = 0;
@@ -99,11 +102,7 @@ export function orientationRangeAt<M extends ArchitectureModelBase>(
   out: Float64Array,
   options: OrientationScanOptions = {},
 ): boolean {
-  const step = options.step ?? (2 * Math.PI) / 180;
-  const tolerance = options.tolerance ?? 1e-9;
-  const accept = options.accept ?? ASSEMBLED_AND_REGULAR;
-  const samples = Math.max(3, Math.ceil((2 * Math.PI) / step));
-  const h = (2 * Math.PI) / samples;
+  const { tolerance, accept, samples, h } = scanSettings(options);
   const wrapped = phi0 - 2 * Math.PI * Math.floor((phi0 + Math.PI) / (2 * Math.PI));
   let k0 = Math.floor((wrapped + Math.PI) / h);
   if (-Math.PI + k0 * h > wrapped) k0--;

@@ -18,7 +18,8 @@
  */
 import type { MarginGrid } from './grid.js';
 import { trianglePositiveFraction } from './grid.js';
-import { BoundaryCells } from './crossings.js';
+import { BoundaryCells, type PointSampler } from './crossings.js';
+import { SlotTable } from './slotTable.js';
 import { EmptyCircle } from './emptyCircle.js';
 import { ThinParts } from './thinParts.js';
 
@@ -40,8 +41,7 @@ const CACHE_SIZE = 1 << CACHE_BITS;
 /** Stop adding sub-samples beyond this many (half the cache): the estimate then stays at the last full level. */
 const MAX_SUBSAMPLES = CACHE_SIZE >> 1;
 
-/** Samples one point: writes the usability margin and the reach margin into out[0], out[1]. */
-export type PointSampler = (x: number, y: number, out: Float64Array) => void;
+export type { PointSampler };
 
 /** An area with its estimated error (both m²) and the refinement it took. */
 export interface AreaEstimate {
@@ -91,11 +91,10 @@ class CellList {
 
 /** The area of a field's positive set by adaptive refinement; one per evaluator (owns its buffers). */
 export class AdaptiveArea {
-  private readonly keys = new Int32Array(CACHE_SIZE);
-  private readonly stamps = new Int32Array(CACHE_SIZE);
+  /** Sub-samples by fine-lattice node (fj · fineWidth + fi): usability and reach margins per slot. */
+  private readonly cache = new SlotTable(CACHE_BITS);
   private readonly usable = new Float64Array(CACHE_SIZE);
   private readonly reach = new Float64Array(CACHE_SIZE);
-  private epoch = 0;
   private subsamples = 0;
   private readonly point = new Float64Array(2);
   private current = new CellList();
@@ -128,11 +127,7 @@ export class AdaptiveArea {
   begin(grid: MarginGrid, sampler: PointSampler, region: number): void {
     this.grid = grid;
     this.sampler = sampler;
-    this.epoch++;
-    if (this.epoch > 0x3fffffff) {
-      this.stamps.fill(0);
-      this.epoch = 1;
-    }
+    this.cache.clear();
     this.subsamples = 0;
     this.hf = grid.h / (1 << MAX_LEVEL);
     this.fineWidth = (grid.nx - 1) * (1 << MAX_LEVEL) + 1;
@@ -247,19 +242,18 @@ export class AdaptiveArea {
       return field === 0 ? this.masked[k]! : field === 1 ? grid.secondary[k]! : grid.values[k]!;
     }
     const key = fj * this.fineWidth + fi;
-    let slot = Math.imul(key, 0x9e3779b1) >>> (32 - CACHE_BITS);
-    for (;;) {
-      if (this.stamps[slot] !== this.epoch) break;
-      if (this.keys[slot] === key) return field === 1 ? this.reach[slot]! : this.usable[slot]!;
-      slot = (slot + 1) & (CACHE_SIZE - 1);
-    }
-    this.stamps[slot] = this.epoch;
-    this.keys[slot] = key;
+    const cache = this.cache;
+    const found = cache.find(key);
+    if (found >= 0) return field === 1 ? this.reach[found]! : this.usable[found]!;
+    const slot = cache.free;
     this.subsamples++;
     const point = this.point;
     this.sampler!(grid.x0 + fi * this.hf, grid.y0 + fj * this.hf, point);
-    this.usable[slot] = point[0]!;
-    this.reach[slot] = point[1]!;
+    if (slot >= 0) {
+      cache.claim(key);
+      this.usable[slot] = point[0]!;
+      this.reach[slot] = point[1]!;
+    }
     return field === 1 ? point[1]! : point[0]!;
   }
 

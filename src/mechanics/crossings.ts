@@ -16,33 +16,31 @@
  *   estimate. Where two boundaries meet inside the cell (a kink) this estimate is large, and the
  *   caller refines such a cell instead.
  *
- * Crossings are cached per coarse edge, so neighbouring cells share them. Every solved point is a
+ * Crossings are cached per edge (SlotTable), so neighbouring cells share them. Every solved point is a
  * sample of the field through the caller's sampler (no allocation per point).
  */
+import { SlotTable } from './slotTable.js';
+
 /** Samples one point: writes the usability margin and the reach margin into out[0], out[1]. */
-export type FieldSampler = (x: number, y: number, out: Float64Array) => void;
+export type PointSampler = (x: number, y: number, out: Float64Array) => void;
 
 /** Illinois steps per root at most, and the relative bracket width at which a root is taken as found. */
 const MAX_STEPS = 12;
 const ROOT_TOLERANCE = 1e-4;
-/** Slots of the crossing cache. */
+/** Slots of the crossing cache (bits). */
 const EDGE_BITS = 14;
-const EDGE_CACHE = 1 << EDGE_BITS;
 /** Boundary points written per simple cell for the inscribed radius: the crossings and this many along the parabola between them. */
 const POINTS_BETWEEN = 7;
 
 /** Per-cell results of BoundaryCells.cellArea. */
 export class BoundaryCells {
-  private sampler: FieldSampler | null = null;
+  private sampler: PointSampler | null = null;
   private field = 0;
   private readonly out = new Float64Array(2);
-  /** Crossings by edge key (open addressing; see cellArea), valid for one begin. */
-  private readonly edgeStamp = new Int32Array(EDGE_CACHE);
-  private readonly edgeKey = new Int32Array(EDGE_CACHE);
-  private readonly edgeX = new Float64Array(EDGE_CACHE);
-  private readonly edgeY = new Float64Array(EDGE_CACHE);
-  private edgesCached = 0;
-  private epoch = 0;
+  /** Crossings by edge key (see cellArea), valid for one begin: their points per slot. */
+  private readonly edges = new SlotTable(EDGE_BITS);
+  private readonly edgeX = new Float64Array(1 << EDGE_BITS);
+  private readonly edgeY = new Float64Array(1 << EDGE_BITS);
   /** Samples taken since begin. */
   samples = 0;
   /** Error estimate of the last cellArea, m² (≥ 0). */
@@ -52,17 +50,12 @@ export class BoundaryCells {
   pointCount = 0;
 
   /** Starts a field (0: usability margin, 1: reach margin). */
-  begin(sampler: FieldSampler, field: number): void {
+  begin(sampler: PointSampler, field: number): void {
     this.sampler = sampler;
     this.field = field;
     this.samples = 0;
     this.pointCount = 0;
-    this.edgesCached = 0;
-    this.epoch++;
-    if (this.epoch > 0x3fffffff) {
-      this.edgeStamp.fill(0);
-      this.epoch = 1;
-    }
+    this.edges.clear();
   }
 
   private sample(x: number, y: number): number {
@@ -76,26 +69,20 @@ export class BoundaryCells {
    * cached by `edge` (a key unique to the edge, or −1 for none); written to crossX, crossY.
    */
   private crossing(edge: number, x0: number, y0: number, dx: number, dy: number, v0: number, v1: number): void {
-    let slot = edge < 0 ? -1 : Math.imul(edge, 0x9e3779b1) >>> (32 - EDGE_BITS);
-    if (slot >= 0) {
-      for (;;) {
-        if (this.edgeStamp[slot] !== this.epoch) break;
-        if (this.edgeKey[slot] === edge) {
-          this.crossX = this.edgeX[slot]!;
-          this.crossY = this.edgeY[slot]!;
-          return;
-        }
-        slot = (slot + 1) & (EDGE_CACHE - 1);
-      }
+    const edges = this.edges;
+    const found = edge < 0 ? -1 : edges.find(edge);
+    if (found >= 0) {
+      this.crossX = this.edgeX[found]!;
+      this.crossY = this.edgeY[found]!;
+      return;
     }
+    const slot = edge < 0 ? -1 : edges.free;
     this.root(x0, y0, dx, dy, 0, v0, 1, v1);
     const t = this.rootT;
     this.crossX = x0 + t * dx;
     this.crossY = y0 + t * dy;
-    if (slot < 0 || this.edgesCached + 1 > EDGE_CACHE >> 1) return;
-    this.edgesCached++;
-    this.edgeStamp[slot] = this.epoch;
-    this.edgeKey[slot] = edge;
+    if (slot < 0) return;
+    edges.claim(edge);
     this.edgeX[slot] = this.crossX;
     this.edgeY[slot] = this.crossY;
   }

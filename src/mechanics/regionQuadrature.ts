@@ -18,6 +18,7 @@
  * sum's error is the difference over 2^p − 1 for a rule of order p; p = 2 for smooth cells, about
  * 1.5 at the square-root edges of singular boundaries).
  */
+import { SlotTable } from './slotTable.js';
 
 /** One point of the parameter plane, answered by the caller. */
 export interface LevelField {
@@ -55,8 +56,8 @@ export interface RegionIntegral {
   samples: number;
 }
 
+/** Slots of the point cache (bits). */
 const CACHE_BITS = 16;
-const CACHE_SIZE = 1 << CACHE_BITS;
 /** Bisection steps along an edge whose outer end is outside the reach (the crossing to 1/2⁸ of the edge). */
 const BISECTION_STEPS = 8;
 const STRIDE = 3;
@@ -261,23 +262,17 @@ export class RegionQuadrature {
     const fi = Math.round((u - this.cacheU0) / this.cacheHu);
     const fj = Math.round((v - this.cacheV0) / this.cacheHv);
     const key = fj * this.cacheWidth + fi;
-    let slot = Math.imul(key, 0x9e3779b1) >>> (32 - CACHE_BITS);
-    for (;;) {
-      if (this.cacheStamp[slot] !== this.cacheEpoch) break;
-      if (this.cacheKey[slot] === key) {
-        this.levels[offset] = this.cacheValue[3 * slot]!;
-        this.levels[offset + 1] = this.cacheValue[3 * slot + 1]!;
-        this.levels[offset + 2] = this.cacheValue[3 * slot + 2]!;
-        return;
-      }
-      slot = (slot + 1) & (CACHE_SIZE - 1);
+    const cache = this.cache;
+    const found = cache.find(key);
+    if (found >= 0) {
+      for (let k = 0; k < STRIDE; k++) this.levels[offset + k] = this.cacheValue[STRIDE * found + k]!;
+      return;
     }
+    const slot = cache.free;
     this.solveInto(u, v, offset);
-    if (this.cached + 1 > CACHE_SIZE >> 1) return;
-    this.cached++;
-    this.cacheStamp[slot] = this.cacheEpoch;
-    this.cacheKey[slot] = key;
-    for (let k = 0; k < STRIDE; k++) this.cacheValue[3 * slot + k] = this.levels[offset + k]!;
+    if (slot < 0) return;
+    cache.claim(key);
+    for (let k = 0; k < STRIDE; k++) this.cacheValue[STRIDE * slot + k] = this.levels[offset + k]!;
   }
 
   private solveInto(u: number, v: number, offset: number): void {
@@ -288,12 +283,9 @@ export class RegionQuadrature {
     this.levels[offset + 2] = this.out[1]!;
   }
 
-  /** Solved points by their place on the finest lattice (open addressing), valid for one integrate call. */
-  private readonly cacheStamp = new Int32Array(CACHE_SIZE);
-  private readonly cacheKey = new Int32Array(CACHE_SIZE);
-  private readonly cacheValue = new Float64Array(3 * CACHE_SIZE);
-  private cacheEpoch = 0;
-  private cached = 0;
+  /** Solved points by their place on the finest lattice, valid for one integrate call: STRIDE values per slot. */
+  private readonly cache = new SlotTable(CACHE_BITS);
+  private readonly cacheValue = new Float64Array(STRIDE << CACHE_BITS);
   private cacheU0 = 0;
   private cacheV0 = 0;
   private cacheHu = 1;
@@ -311,12 +303,7 @@ export class RegionQuadrature {
     this.cacheWidth = (lattice.nu - 1) * split + 1;
     // Keys are 32-bit: a lattice too fine for them (thousands of cells) is not cached.
     this.cacheOn = this.cacheWidth * ((lattice.nv - 1) * split + 1) < 2 ** 31;
-    this.cached = 0;
-    this.cacheEpoch++;
-    if (this.cacheEpoch > 0x3fffffff) {
-      this.cacheStamp.fill(0);
-      this.cacheEpoch = 1;
-    }
+    this.cache.clear();
   }
 
   /**

@@ -141,14 +141,11 @@ export class PointKernel {
 }
 
 /**
- * Per leg of a legged model: the unit direction of the middle of its revolute joint's range and
- * cos(half span − JOINT_FAR); −2 (always skip) for an unlimited revolute joint; (0, 0, 2) (never skip) for a
- * prismatic joint, a span of 2π or more, or a half span within JOINT_FAR. Derived here: inside a range of span < 2π the joint margin
- * is half the span less the angle to the middle, so it exceeds JOINT_FAR exactly when the crank's
- * direction has a dot product with the middle's direction above that cosine. No leg skips when the
- * joint scale exceeds JOINT_FAR. Null (the flag not worth setting) for a model without legs, and for
- * a 2-DOF model whose legs never skip; a 3-DOF platform always gets its tests (a margins-only solve
- * skips its Jacobians).
+ * The joint tests of a margins-only solve (ArchitecturePose.marginOnly), per leg as its kind writes
+ * them (LegKind.farJointTest; (0, 0, 2), never skip, otherwise). No leg skips when the joint scale
+ * exceeds JOINT_FAR (a skipped joint's margin is JOINT_FAR over that scale). Null (the flag not worth
+ * setting) for a model without legs, and for a 2-DOF model whose legs never skip; a 3-DOF platform
+ * always gets its tests (a margins-only solve skips its Jacobians).
  */
 export function marginJointTests(model: ArchitectureModelBase, jointScale: number): Float64Array | null {
   if (!('legs' in model)) return null;
@@ -161,23 +158,7 @@ export function marginJointTests(model: ArchitectureModelBase, jointScale: numbe
   const platform = legged.dof === 3;
   if (jointScale > JOINT_FAR) return platform ? out : null;
   let any = false;
-  for (let i = 0; i < n; i++) {
-    const range = legged.jointLimits[i] ?? null;
-    if (legged.legs[i]!.name !== 'crank-rod') continue;
-    if (!range) {
-      // Unlimited: the margin is +∞, so always more than JOINT_FAR (the dot product 0 exceeds −2).
-      out[3 * i + 2] = -2;
-      any = true;
-      continue;
-    }
-    const half = (range.max - range.min) / 2;
-    if (!(half > JOINT_FAR) || !(2 * half < 2 * Math.PI)) continue;
-    const mid = range.min + half;
-    out[3 * i] = Math.cos(mid);
-    out[3 * i + 1] = Math.sin(mid);
-    out[3 * i + 2] = Math.cos(half - JOINT_FAR);
-    any = true;
-  }
+  for (let i = 0; i < n; i++) if (legged.legs[i]!.farJointTest?.(legged, i, out)) any = true;
   return any || platform ? out : null;
 }
 

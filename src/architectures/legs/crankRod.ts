@@ -85,6 +85,29 @@ export const crankRod: LegKind = {
     return true;
   },
 
+  /**
+   * The unit direction of the middle of the joint's range and cos(half span − JOINT_FAR); −2 (always
+   * skip) when unlimited; nothing (never skip) for a span of 2π or more or a half span within
+   * JOINT_FAR. Derived here: inside a range of span < 2π the joint margin is half the span less the
+   * angle to the middle, so it exceeds JOINT_FAR exactly when the crank's direction has a dot product
+   * with the middle's direction above that cosine (the test in `solve`).
+   */
+  farJointTest(model: LegModelView, i: number, out: Float64Array): boolean {
+    const range = model.jointLimits[i] ?? null;
+    if (!range) {
+      // Unlimited: the margin is +∞, always more than JOINT_FAR (the dot product 0 exceeds −2).
+      out[3 * i + 2] = -2;
+      return true;
+    }
+    const half = (range.max - range.min) / 2;
+    if (!(half > JOINT_FAR) || !(2 * half < 2 * Math.PI)) return false;
+    const mid = range.min + half;
+    out[3 * i] = Math.cos(mid);
+    out[3 * i + 1] = Math.sin(mid);
+    out[3 * i + 2] = Math.cos(half - JOINT_FAR);
+    return true;
+  },
+
   addBodies(model: LegModelView, i: number, pose: ArchitecturePose, gx: number, gy: number): void {
     const n = model.dof;
     const ex = pose.actuatorDirection[2 * i]!;

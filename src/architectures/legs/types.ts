@@ -113,6 +113,12 @@ export interface LegKind {
    */
   solve(model: LegModelView, i: number, pose: ArchitecturePose): boolean;
   /**
+   * Optional, for solves that read only margins (ArchitecturePose.marginOnly): writes into
+   * out[3i … 3i + 2] the test by which `solve` may skip the joint's angle (see crankRod); returns
+   * false when the leg never skips (out left at its "never" entry). A leg without it never skips.
+   */
+  farJointTest?(model: LegModelView, i: number, out: Float64Array): boolean;
+  /**
    * Adds the leg's bodies to pose.D and pose.tauG and writes its rod-rate row, given the velocity
    * map of B_i per unit joint rate in pose.work2 (see legs/bodies.ts for the layout).
    */

@@ -141,18 +141,6 @@ function singularValuesInWork(n: number, m: Float64Array, work: Float64Array): v
 }
 
 /**
- * Inverse condition number σ_min/σ_max (2-norm) of an n×n matrix; 0 for a singular or zero matrix.
- * Uses work[0..n² + n).
- */
-export function inverseCondition(n: number, m: Float64Array, work: Float64Array): number {
-  singularValuesInWork(n, m, work);
-  const largest = work[n * n]!;
-  const smallest = work[n * n + n - 1]!;
-  if (!(largest > 0) || !Number.isFinite(largest)) return 0;
-  return smallest / largest;
-}
-
-/**
  * Inverse condition number σ_min/σ_max (2-norm) of a 3×3 matrix M in closed form (no rotation
  * sweeps): the eigenvalues λ_1 ≥ λ_2 ≥ λ_3 of S = MᵀM by the trigonometric solution of the
  * symmetric 3×3 eigenproblem on the deviator S − (tr S/3) I (Smith 1961, "Eigenvalues of a

@@ -20,9 +20,6 @@ import { strokeMargin, wrapAngle } from '../core/pose.js';
 import {
   determinant,
   generalizedEigenvalues,
-  inverseCondition,
-  inverseCondition3,
-  invert,
   maxSingularValue3,
   rowNorm,
   singularValues,
@@ -248,7 +245,8 @@ function solveLeggedPoseAtPoint(model: LeggedModel, pose: ArchitecturePose): Pos
 /**
  * From A and B (already in pose): det A, J, J⁻¹, the homogenised pair, 1/κ(J_h) and the mechanism
  * sine. Exported for architectures that fill A and B themselves. Two legs use the 2×2 closed forms
- * (src/architectures/linalg2.ts), whose rows are unit vectors: the mechanism sine is det A itself.
+ * (src/architectures/linalg2.ts), whose rows are unit vectors: the mechanism sine is det A itself;
+ * three legs the written-out 3 × 3 forms (legs/platform3.ts).
  */
 export function finishKinematics(model: ArchitectureModelBase, pose: ArchitecturePose): void {
   const n = model.dof;
@@ -256,49 +254,7 @@ export function finishKinematics(model: ArchitectureModelBase, pose: Architectur
     finishKinematics2(pose);
     return;
   }
-  if (n === 3) {
-    finishKinematics3(model, pose);
-    return;
-  }
-  const L = model.characteristicLength;
-  const { A, B, J, Jinv, Jh, Jhinv, work } = pose;
-  // J⁻¹ = B⁻¹A and J_h⁻¹ = B⁻¹ A diag(1, 1, 1/L).
-  for (let i = 0; i < n; i++) {
-    const bii = B[i * n + i]!;
-    for (let k = 0; k < n; k++) {
-      const v = A[i * n + k]! / bii;
-      Jinv[i * n + k] = v;
-      Jhinv[i * n + k] = k === 2 ? v / L : v;
-    }
-  }
-  // J = A⁻¹B (NaN when det A = 0).
-  const Ainv = work; // first n² entries
-  const det = invert(n, A, Ainv);
-  pose.detA = det;
-  for (let i = 0; i < n; i++) {
-    for (let k = 0; k < n; k++) {
-      const v = det === 0 ? Number.NaN : Ainv[i * n + k]! * B[k * n + k]!;
-      J[i * n + k] = v;
-      Jh[i * n + k] = i === 2 ? v * L : v;
-    }
-  }
-  // 1/κ(J_h) = 1/κ(J_h⁻¹) = 1/κ(M), M rows (Π_{j≠i} B_jj) row_i(A_h): finite at both singularity kinds.
-  const m = pose.work2;
-  let rowProduct = 1;
-  for (let i = 0; i < n; i++) {
-    let scale = 1;
-    for (let j = 0; j < n; j++) if (j !== i) scale *= B[j * n + j]!;
-    let norm = 0;
-    for (let k = 0; k < n; k++) {
-      const ah = k === 2 ? A[i * n + k]! / L : A[i * n + k]!;
-      m[i * n + k] = scale * ah;
-      norm += ah * ah;
-    }
-    rowProduct *= Math.sqrt(norm);
-  }
-  pose.inverseCondition = n === 3 ? inverseCondition3(m) : inverseCondition(n, m, work);
-  const detHomogenised = n === 3 ? det / L : det;
-  pose.mechanismSine = rowProduct > 0 ? detHomogenised / rowProduct : 0;
+  finishKinematics3(model, pose);
 }
 
 /** Two legs: J⁻¹ = B⁻¹A, det A = cross(u_1, u_2), J = A⁻¹B and 1/κ in closed form (J entries ±∞/NaN when det A = 0). */

@@ -65,6 +65,8 @@ export class TerminationTracker {
   private readonly monitor: ConvergenceMonitor;
   private convergedAt: number | null;
   private refinementFrom: number | null;
+  /** The last generation's observation while it is put off (see afterGeneration). */
+  private unobserved: (() => ConvergenceStatus) | null = null;
 
   constructor(termination: Termination, state?: TerminationState) {
     validateTermination(termination);
@@ -81,15 +83,30 @@ export class TerminationTracker {
 
   /**
    * Called after generation `generation` was told, with the evaluations told so far, the population
-   * size (evaluations of one more generation) and the archive in minimisation form.
+   * size (evaluations of one more generation) and the archive in minimisation form. The archive's
+   * hypervolume figures are measured now when the decision depends on them (a convergence test that
+   * counts), else when `status` is first read, or at the latest before the next generation or toJSON():
+   * the same figures either way, so a caller may start the next generation first. `archive` must
+   * stay unchanged until then.
    */
   afterGeneration(generation: number, evaluations: number, populationSize: number, archive: readonly ArrayLike<number>[]): TerminationDecision {
+    this.settle();
     const t = this.termination;
-    const status = this.monitor.observe(generation, archive);
+    let observed: ConvergenceStatus | null = null;
+    const observe = (): ConvergenceStatus => (observed ??= this.monitor.observe(generation, archive));
+    this.unobserved = observe;
     const refinement = t.refinementGenerations ?? 0;
     const refining = this.refinementFrom !== null;
-    const stop = (reason: EndReason): TerminationDecision => ({ status, stop: true, reason, startRefinement: false });
-    const go = (startRefinement: boolean): TerminationDecision => ({ status, stop: false, reason: null, startRefinement });
+    const decide = (stop: boolean, reason: EndReason | null, startRefinement: boolean): TerminationDecision => ({
+      get status() {
+        return observe();
+      },
+      stop,
+      reason,
+      startRefinement,
+    });
+    const stop = (reason: EndReason): TerminationDecision => decide(true, reason, false);
+    const go = (startRefinement: boolean): TerminationDecision => decide(false, null, startRefinement);
 
     const fits = (n: number): boolean => t.maxEvaluations === undefined || evaluations + n * populationSize <= t.maxEvaluations;
     if (t.generations !== undefined && generation >= t.generations) return stop(this.convergedAt !== null ? 'converged' : 'budget');
@@ -98,7 +115,7 @@ export class TerminationTracker {
       return generation >= this.refinementFrom! + refinement ? stop(this.convergedAt !== null ? 'converged' : 'budget') : go(false);
     }
     const convergenceCounts = t.convergence !== undefined && (t.notBefore === undefined || generation >= t.notBefore);
-    if (convergenceCounts && status.converged) {
+    if (convergenceCounts && observe().converged) {
       this.convergedAt = generation;
       if (refinement === 0) return stop('converged');
       this.refinementFrom = generation;
@@ -112,12 +129,19 @@ export class TerminationTracker {
     return go(false);
   }
 
+  /** Measures the last generation's archive if that was put off (see afterGeneration). */
+  private settle(): void {
+    this.unobserved?.();
+    this.unobserved = null;
+  }
+
   /** Generation at which the search converged (null while it has not). */
   get convergedGeneration(): number | null {
     return this.convergedAt;
   }
 
   toJSON(): TerminationState {
+    this.settle();
     return { convergence: this.monitor.toJSON(), convergedAt: this.convergedAt, refinementFrom: this.refinementFrom };
   }
 }

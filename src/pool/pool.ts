@@ -1,7 +1,10 @@
 /**
- * Pool of worker threads (piscina) that evaluates batches of designs. Results come back in design
- * order whatever the number of threads, so runs are reproducible. A design that crashes its worker
- * thread is isolated by re-running its batch one design at a time, and reported as failed.
+ * Pool of worker threads (piscina) that evaluates batches of designs. A batch lies in shared memory
+ * and every thread takes designs from it one at a time until none are left (self-scheduling at the
+ * finest grain: the threads finish within about one design of each other, whatever each design
+ * costs, with one message each way per thread and batch). Outcomes come back in design order
+ * whatever the number of threads, so runs are reproducible. A design that ends its worker thread is
+ * reported as failed; the thread is replaced and the rest of the batch is evaluated normally.
  */
 import { existsSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
@@ -9,12 +12,12 @@ import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
 import { METRICS } from '../mechanics/metrics.js';
 import type { Study } from '../study/types.js';
-import type { EvaluationTask, EvaluationTaskResult, WorkerSetup } from './worker.js';
+import { DESIGN_DONE, DESIGN_RUNNING, DESIGN_THREW, DESIGN_WAITING, type EvaluationTask, type EvaluationTaskResult, type SharedBatch, type WorkerSetup } from './worker.js';
 
 export interface PoolOptions {
   /** Worker threads; default: the machine's available parallelism. */
   readonly workers?: number;
-  /** Designs per task sent to a thread; default: decreasing tasks sized to the pool (taskSizes). */
+  /** Designs a thread takes from a batch at a time (default 1: the finest balance; the messages do not grow with it). */
   readonly batchSize?: number;
   /** Module exporting `createEvaluator(study)` to use instead of the built-in engine (tests, other models). */
   readonly evaluatorModule?: string;
@@ -41,36 +44,24 @@ function workerFile(): string {
   throw new Error('compiled worker not found: run "npm run build" first');
 }
 
-/** Most designs in one task (bounds the message size and the work lost when a thread dies). */
-const MAX_TASK_DESIGNS = 256;
-
-/**
- * Designs per task for a batch, in the order the tasks are queued. One worker takes the batch whole
- * (nothing to balance; tasks of at most 256 designs). Several workers take decreasing tasks ("guided self-scheduling",
- * Polychronopoulos & Kuck 1987): each task is 1/(2·workers) of what is left, so the first tasks are
- * large (few messages) and the last ones hold a design or two, and every worker finishes within about
- * one design's time of the others, whatever each design costs.
- */
-export function taskSizes(designs: number, workers: number): number[] {
-  const sizes: number[] = [];
-  const share = workers <= 1 ? 1 : 2 * workers;
-  for (let left = designs; left > 0; ) {
-    const size = Math.max(1, Math.min(MAX_TASK_DESIGNS, Math.ceil(left / share)));
-    sizes.push(size);
-    left -= size;
-  }
-  return sizes;
+/** A typed array of `length` elements in shared memory, filled with `fill`. */
+function shared<T extends Int32Array | Float64Array>(Kind: { new (buffer: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number }, length: number, fill: number): T {
+  const array = new Kind(new SharedArrayBuffer(Math.max(1, length) * Kind.BYTES_PER_ELEMENT));
+  array.fill(fill);
+  return array;
 }
 
-/** Fixed-size tasks (PoolOptions.batchSize). */
-function fixedSizes(designs: number, size: number): number[] {
-  return Array.from({ length: Math.ceil(designs / size) }, (_, k) => Math.min(size, designs - k * size));
+/** How the designs of a batch ended besides a normal outcome: the error of those that threw, of those that ended their thread. */
+interface BatchFailures {
+  readonly threw: Map<number, string>;
+  readonly crashed: Map<number, string>;
 }
 
 export class EvaluationPool {
   readonly workers: number;
   private readonly piscina: Piscina;
   private readonly options: PoolOptions;
+  private nextTaskId = 0;
 
   /**
    * Starts the worker threads at once (they load their modules while the caller goes on); `study` is
@@ -95,10 +86,8 @@ export class EvaluationPool {
       maxThreads: this.workers,
       idleTimeout: 60_000,
       workerData: setup,
-      // The whole batch is queued at once (unbounded queue); results are collected in order. Each
-      // worker holds its next task while it evaluates one, so it never waits for the main thread
-      // (which writes the previous generation meanwhile) to hand out work.
-      concurrentTasksPerWorker: 2,
+      // One task per thread and batch: a thread that starts late takes the task the first left.
+      concurrentTasksPerWorker: 1,
     });
   }
 
@@ -108,83 +97,85 @@ export class EvaluationPool {
    */
   async evaluate(designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<DesignOutcome[]> {
     if (designs.length === 0) return [];
-    const sizes = this.options.batchSize ? fixedSizes(designs.length, this.options.batchSize) : taskSizes(designs.length, this.workers);
-    const chunks: number[][] = [];
-    let start = 0;
-    for (const size of sizes) {
-      chunks.push(Array.from({ length: size }, (_, k) => start + k));
-      start += size;
-    }
-    const results = await Promise.all(chunks.map((chunk) => this.runChunk(chunk, designs, workspace)));
-    return results.flat();
+    const batch = this.sharedBatch(designs, workspace);
+    const failures: BatchFailures = { threw: new Map(), crashed: new Map() };
+    let pending = designs.map((_, k) => k);
+    while (pending.length > 0) pending = await this.round(batch, pending, failures);
+    return designs.map((_, k) => this.outcome(batch, k, failures));
   }
 
-  private async runChunk(chunk: readonly number[], designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<DesignOutcome[]> {
-    try {
-      return this.unpack(await this.runTask(chunk, designs, workspace), chunk.length);
-    } catch (error) {
-      if (chunk.length === 1) {
-        return [this.crashed(error)];
-      }
-      // A thread died: evaluate one by one to find the design that kills it.
-      const out: DesignOutcome[] = [];
-      for (const index of chunk) {
-        try {
-          out.push(...this.unpack(await this.runTask([index], designs, workspace), 1));
-        } catch (inner) {
-          out.push(this.crashed(inner));
-        }
-      }
-      return out;
-    }
-  }
-
-  private crashed(error: unknown): DesignOutcome {
-    const reason = error instanceof Error ? error.message : String(error);
-    return {
-      metrics: new Float64Array(METRICS.length).fill(Number.NaN),
-      margins: new Float64Array(this.constraintCount).fill(Number.NaN),
-      violation: Number.NaN,
-      error: `worker thread crashed: ${reason}`,
-      seconds: 0,
+  /** The designs and their outcome arrays in shared memory (outcomes NaN until written). */
+  private sharedBatch(designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): SharedBatch {
+    const n = designs.length;
+    const nv = this.variableCount;
+    const batch: SharedBatch = {
+      control: shared(Int32Array, 2, 0),
+      order: shared(Int32Array, n, 0),
+      state: shared(Int32Array, n, DESIGN_WAITING),
+      owner: shared(Int32Array, n, -1),
+      designs: shared(Float64Array, n * nv, 0),
+      ...(workspace ? { workspace: shared(Float64Array, n * 4, Number.NaN) } : {}),
+      metrics: shared(Float64Array, n * METRICS.length, Number.NaN),
+      margins: shared(Float64Array, n * this.constraintCount, Number.NaN),
+      violation: shared(Float64Array, n, Number.NaN),
+      seconds: shared(Float64Array, n, 0),
     };
+    designs.forEach((design, k) => {
+      batch.designs.set(design, k * nv);
+      const reuse = workspace?.[k];
+      if (reuse) batch.workspace!.set(reuse, k * 4);
+    });
+    return batch;
   }
 
-  private runTask(chunk: readonly number[], designs: readonly Float64Array[], workspace?: readonly (Float64Array | null)[]): Promise<EvaluationTaskResult> {
-    const flat = new Float64Array(chunk.length * this.variableCount);
-    chunk.forEach((index, k) => flat.set(designs[index]!, k * this.variableCount));
-    const transfer: ArrayBuffer[] = [flat.buffer as ArrayBuffer];
-    let reuse: Float64Array | undefined;
-    if (workspace) {
-      reuse = new Float64Array(chunk.length * 4).fill(Number.NaN);
-      chunk.forEach((index, k) => {
-        const w = workspace[index];
-        if (w) reuse!.set(w, k * 4);
-      });
-      transfer.push(reuse.buffer as ArrayBuffer);
+  /**
+   * One round: the threads take the `pending` designs until none are left. Returns the designs still
+   * to evaluate: none, unless a thread ended; then the design it was evaluating is marked crashed,
+   * and those it never reached or whose error text went down with it go to the next round.
+   */
+  private async round(batch: SharedBatch, pending: readonly number[], failures: BatchFailures): Promise<number[]> {
+    batch.order.set(pending);
+    Atomics.store(batch.control, 0, 0);
+    Atomics.store(batch.control, 1, pending.length);
+    const claim = Math.max(1, Math.floor(this.options.batchSize ?? 1));
+    const ids = Array.from({ length: Math.min(this.workers, Math.ceil(pending.length / claim)) }, () => this.nextTaskId++);
+    const settled = await Promise.allSettled(ids.map((id) => this.piscina.run({ batch, id, claim } satisfies EvaluationTask) as Promise<EvaluationTaskResult>));
+    const ended = new Map<number, unknown>();
+    settled.forEach((result, i) => {
+      if (result.status === 'fulfilled') for (const [k, text] of result.value.errors) failures.threw.set(k, text);
+      else ended.set(ids[i]!, result.reason);
+    });
+    const next: number[] = [];
+    for (const k of pending) {
+      const state = Atomics.load(batch.state, k);
+      const reason = ended.get(Atomics.load(batch.owner, k));
+      if (state === DESIGN_RUNNING && reason !== undefined) failures.crashed.set(k, crashText(reason));
+      else if (state !== DESIGN_DONE && !(state === DESIGN_THREW && reason === undefined)) next.push(k);
     }
-    const task: EvaluationTask = {
-      designs: flat,
-      count: chunk.length,
-      ...(reuse ? { workspace: reuse } : {}),
-    };
-    return this.piscina.run(task, { transferList: transfer }) as Promise<EvaluationTaskResult>;
+    if (next.length === pending.length) {
+      // No thread got anywhere (e.g. the evaluator cannot be made): every design fails with the reason.
+      const reason = crashText(ended.values().next().value);
+      for (const k of next) failures.crashed.set(k, reason);
+      return [];
+    }
+    for (const k of next) Atomics.store(batch.state, k, DESIGN_WAITING);
+    return next;
   }
 
-  private unpack(result: EvaluationTaskResult, count: number): DesignOutcome[] {
+  private outcome(batch: SharedBatch, k: number, failures: BatchFailures): DesignOutcome {
     const nm = METRICS.length;
     const nc = this.constraintCount;
-    const out: DesignOutcome[] = [];
-    for (let k = 0; k < count; k++) {
-      out.push({
-        metrics: result.metrics.slice(k * nm, (k + 1) * nm),
-        margins: result.margins.slice(k * nc, (k + 1) * nc),
-        violation: result.violation[k]!,
-        error: result.errors[k] ?? null,
-        seconds: result.seconds[k]!,
-      });
+    const crash = failures.crashed.get(k);
+    if (crash !== undefined) {
+      return { metrics: new Float64Array(nm).fill(Number.NaN), margins: new Float64Array(nc).fill(Number.NaN), violation: Number.NaN, error: crash, seconds: 0 };
     }
-    return out;
+    return {
+      metrics: batch.metrics.slice(k * nm, (k + 1) * nm),
+      margins: batch.margins.slice(k * nc, (k + 1) * nc),
+      violation: batch.violation[k]!,
+      error: failures.threw.get(k) ?? null,
+      seconds: batch.seconds[k]!,
+    };
   }
 
   private closing: Promise<void> | null = null;
@@ -194,4 +185,8 @@ export class EvaluationPool {
     this.closing ??= this.piscina.destroy();
     return this.closing;
   }
+}
+
+function crashText(reason: unknown): string {
+  return `worker thread crashed: ${reason instanceof Error ? reason.message : String(reason)}`;
 }

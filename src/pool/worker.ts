@@ -1,8 +1,11 @@
 /**
  * Worker-thread side of the evaluation pool. The parsed study reaches the worker once, as its
- * workerData (WorkerSetup); each task carries a batch of design vectors (flat). The worker keeps
- * one Evaluator, so its buffers are reused across every design it ever sees. A design whose
- * evaluation throws is returned with the error text.
+ * workerData (WorkerSetup). A task asks the worker to help with one batch held in shared memory
+ * (SharedBatch): it takes designs from the batch's claim counter until none are left, and writes
+ * each outcome into the batch, so the threads of the pool share a batch design by design and finish
+ * within about one design of each other, with one message each way per thread and batch. The worker
+ * keeps one Evaluator, so its buffers are reused across every design it ever sees. A design whose
+ * evaluation throws is reported with the error text.
  */
 import { workerData } from 'node:worker_threads';
 import { Evaluator } from '../mechanics/evaluate.js';
@@ -17,23 +20,47 @@ export interface WorkerSetup {
   readonly evaluatorModule?: string;
 }
 
-export interface EvaluationTask {
-  /** count × variableCount design values, row-major. */
+/** State of a design in a SharedBatch. */
+export const DESIGN_WAITING = 0;
+export const DESIGN_RUNNING = 1;
+export const DESIGN_DONE = 2;
+/** Its evaluation threw (the text is in the task's result). */
+export const DESIGN_THREW = 3;
+
+/** A batch of designs and their outcomes in memory shared by the main thread and the workers. */
+export interface SharedBatch {
+  /** [0]: next position of `order` to claim (Atomics.add); [1]: positions in `order`. */
+  readonly control: Int32Array;
+  /** Design indices in the order they are claimed. */
+  readonly order: Int32Array;
+  /** Per design: DESIGN_WAITING … DESIGN_THREW. */
+  readonly state: Int32Array;
+  /** Per design: id of the task that claimed it last. */
+  readonly owner: Int32Array;
+  /** Designs × variables, row-major. */
   readonly designs: Float64Array;
-  readonly count: number;
-  /** Optional: count × 4 stored workspace metrics per design (see Evaluator.evaluateWithWorkspace); a NaN row means a full evaluation. */
+  /** Optional: designs × 4 stored workspace metrics (see Evaluator.evaluateWithWorkspace); a NaN row means a full evaluation. */
   readonly workspace?: Float64Array;
+  /** Designs × METRICS.length (NaN until written). */
+  readonly metrics: Float64Array;
+  /** Designs × constraints (NaN until written). */
+  readonly margins: Float64Array;
+  readonly violation: Float64Array;
+  /** Wall time per design, s. */
+  readonly seconds: Float64Array;
+}
+
+export interface EvaluationTask {
+  readonly batch: SharedBatch;
+  /** Distinct id of this task (written to `owner` of each design it claims). */
+  readonly id: number;
+  /** Designs taken from the counter at a time. */
+  readonly claim: number;
 }
 
 export interface EvaluationTaskResult {
-  /** count × METRICS.length values. */
-  readonly metrics: Float64Array;
-  /** count × constraintCount margins. */
-  readonly margins: Float64Array;
-  readonly violation: Float64Array;
-  readonly errors: (string | null)[];
-  /** Wall time per design, s. */
-  readonly seconds: Float64Array;
+  /** [design index, error text] of the designs whose evaluation threw. */
+  readonly errors: [number, string][];
 }
 
 /** What an evaluator module provides (the built-in one is the five-bar Evaluator). */
@@ -44,7 +71,7 @@ export interface DesignEvaluatorLike {
   evaluateWithWorkspace?(design: Float64Array, workspace: Float64Array): { metrics: Float64Array; margins: Float64Array; violation: number };
 }
 
-/** The worker's one evaluator, made on its first task (two tasks may be in hand at once: made once). */
+/** The worker's one evaluator, made on its first task. */
 let evaluator: Promise<DesignEvaluatorLike> | null = null;
 
 async function makeEvaluator(): Promise<DesignEvaluatorLike> {
@@ -59,41 +86,46 @@ function evaluatorOfWorker(): Promise<DesignEvaluatorLike> {
   return evaluator;
 }
 
-/** A turn of the event loop (a macrotask). */
-function nextTurn(): Promise<void> {
-  return new Promise((resolve) => setImmediate(resolve));
-}
-
-export default async function evaluateBatch(task: EvaluationTask): Promise<EvaluationTaskResult> {
-  // A worker holds up to two tasks (the pool's next one arrives while it evaluates): each starts on its
-  // own turn of the event loop, so the result of the first goes back before the second is evaluated,
-  // and the pool can hand out the remaining work by who is free.
-  await nextTurn();
-  const evaluator = await evaluatorOfWorker();
+/** Evaluates design k of the batch into it; the error text when the evaluation throws, else null. */
+function evaluateInto(evaluator: DesignEvaluatorLike, batch: SharedBatch, k: number): string | null {
   const nv = evaluator.variables.length;
   const nm = METRICS.length;
   const nc = evaluator.constraints.length;
-  const metrics = new Float64Array(task.count * nm).fill(Number.NaN);
-  const margins = new Float64Array(task.count * nc).fill(Number.NaN);
-  const violation = new Float64Array(task.count).fill(Number.NaN);
-  const seconds = new Float64Array(task.count);
-  const errors: (string | null)[] = new Array<string | null>(task.count).fill(null);
-  for (let k = 0; k < task.count; k++) {
-    const design = task.designs.subarray(k * nv, (k + 1) * nv);
-    const start = performance.now();
-    try {
-      const reuse = task.workspace?.subarray(k * 4, (k + 1) * 4);
-      const result =
-        reuse && !Number.isNaN(reuse[0]!) && evaluator.evaluateWithWorkspace
-          ? evaluator.evaluateWithWorkspace(design, reuse)
-          : evaluator.evaluate(design);
-      metrics.set(result.metrics, k * nm);
-      margins.set(result.margins, k * nc);
-      violation[k] = result.violation;
-    } catch (error) {
-      errors[k] = error instanceof Error ? `${error.name}: ${error.message}` : String(error);
-    }
-    seconds[k] = (performance.now() - start) / 1000;
+  const design = batch.designs.slice(k * nv, (k + 1) * nv);
+  const start = performance.now();
+  let error: string | null = null;
+  try {
+    const reuse = batch.workspace?.slice(k * 4, (k + 1) * 4);
+    const result =
+      reuse && !Number.isNaN(reuse[0]!) && evaluator.evaluateWithWorkspace
+        ? evaluator.evaluateWithWorkspace(design, reuse)
+        : evaluator.evaluate(design);
+    batch.metrics.set(result.metrics, k * nm);
+    batch.margins.set(result.margins, k * nc);
+    batch.violation[k] = result.violation;
+  } catch (thrown) {
+    error = thrown instanceof Error ? `${thrown.name}: ${thrown.message}` : String(thrown);
   }
-  return { metrics, margins, violation, errors, seconds };
+  batch.seconds[k] = (performance.now() - start) / 1000;
+  return error;
+}
+
+export default async function evaluateBatch(task: EvaluationTask): Promise<EvaluationTaskResult> {
+  const evaluator = await evaluatorOfWorker();
+  const { batch, id, claim } = task;
+  const count = batch.control[1]!;
+  const errors: [number, string][] = [];
+  for (;;) {
+    const first = Atomics.add(batch.control, 0, claim);
+    if (first >= count) break;
+    for (let p = first; p < Math.min(first + claim, count); p++) {
+      const k = batch.order[p]!;
+      Atomics.store(batch.owner, k, id);
+      Atomics.store(batch.state, k, DESIGN_RUNNING);
+      const error = evaluateInto(evaluator, batch, k);
+      if (error !== null) errors.push([k, error]);
+      Atomics.store(batch.state, k, error === null ? DESIGN_DONE : DESIGN_THREW);
+    }
+  }
+  return { errors };
 }

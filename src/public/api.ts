@@ -29,7 +29,7 @@ const DB_PATH = is.text('path of the SQLite database');
 const RUN_ID = is.optional(is.integer(1, 'a run id'));
 const POOL_RULES: OptionRules<PoolOptions> = {
   workers: is.optional(is.integer(1, 'worker threads')),
-  batchSize: is.optional(is.integer(1, 'designs per task')),
+  batchSize: is.optional(is.integer(1, 'designs a thread takes at a time')),
   evaluatorModule: is.optional(is.text('module exporting createEvaluator')),
 };
 

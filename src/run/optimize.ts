@@ -9,13 +9,13 @@ import { designFromValues } from '../mechanics/designSpace.js';
 import { hypervolume } from '../optimizer/hypervolume.js';
 import { Nsga2, type Nsga2Settings, type Nsga2State } from '../optimizer/nsga2.js';
 import { createOptimizer, type AskTellOptimizer } from '../optimizer/algorithm.js';
-import { TerminationTracker, type EndReason, type Termination, type TerminationState } from '../optimizer/termination.js';
+import { TerminationTracker, type EndReason, type Termination, type TerminationDecision, type TerminationState } from '../optimizer/termination.js';
 import { isFeasible, type Evaluation } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
-import { canonicalJson, Store, type GenerationWrite, type RunRow } from '../store/store.js';
+import { canonicalJson, Store, type GenerationWrite, type NewEvaluation, type RunRow } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
 import { evaluationKey, studyProblem, type StudyProblem, withEvaluatorNamespace } from './problem.js';
-import { evaluateWithCache, WriteBehind } from './batch.js';
+import { startBatch, WriteBehind } from './batch.js';
 
 export interface RunOptions extends PoolOptions {
   readonly dbPath: string;
@@ -419,6 +419,120 @@ function runSummary(tracker: TerminationTracker, figures: Omit<RunSummary, 'wind
   return { ...figures, window, tolerance, stillImproving, convergedAt: tracker.convergedGeneration };
 }
 
+type RunWrite = Omit<GenerationWrite, 'optimizerState'> & { optimizerState: RunState };
+
+/** What the generations of one session share: the run, its optimizer and tracker, and the figures so far. */
+interface GenerationLoop {
+  readonly runId: number;
+  readonly sp: StudyProblem;
+  readonly loaded: LoadedStudy;
+  readonly options: RunOptions;
+  readonly optimizer: AskTellOptimizer;
+  readonly tracker: TerminationTracker;
+  /** Generations in all (bound shown in the progress). */
+  readonly generations: number;
+  readonly started: number;
+  readonly resumed: boolean;
+  frame: HypervolumeFrame | null;
+  evaluationsSoFar: number;
+  totalEvaluations: number;
+  totalNew: number;
+  lastImprovement: number | null;
+  archiveSize: number;
+  /** shouldStop() answered true after a generation: the batch in flight is dropped. */
+  stopRequested: boolean;
+}
+
+/** A generation told to the optimizer, as the loop saw it. */
+interface ToldGeneration {
+  readonly generation: number;
+  readonly decision: TerminationDecision;
+  readonly evaluationsSoFar: number;
+  readonly designs: number;
+  readonly newRecords: NewEvaluation[];
+  readonly failed: number;
+  readonly elapsed: number;
+}
+
+/**
+ * Finishes a told generation, while the workers evaluate the next one (the optimizer has only been
+ * asked for it since, which changes nothing of what is read here): the archive's convergence
+ * figures, the record (hypervolume, members, optimizer state), the progress callback and the stop
+ * request. Returns the generation's store write.
+ */
+function completeGeneration(loop: GenerationLoop, told: ToldGeneration): RunWrite {
+  const { optimizer, options } = loop;
+  const status = told.decision.status;
+  loop.lastImprovement = status.improvement;
+  loop.archiveSize = status.archiveSize;
+  const record = generationRecord(optimizer, loop.sp, loop.loaded.settingsHash, loop.frame, { tracker: loop.tracker, evaluationsSoFar: told.evaluationsSoFar, designs: told.designs, newRecords: told.newRecords.length, failed: told.failed, elapsed: told.elapsed });
+  loop.frame = record.frame;
+  const counts = record.counts;
+  options.onGeneration?.({
+    runId: loop.runId,
+    generation: told.generation,
+    generations: Math.max(loop.generations, told.generation + 1),
+    archiveSize: loop.archiveSize,
+    hvImprovement: loop.lastImprovement,
+    phase: optimizer instanceof Nsga2 ? optimizer.currentPhase : 'search',
+    ...counts,
+    elapsedSeconds: (performance.now() - loop.started) / 1000,
+    resumed: loop.resumed,
+  });
+  if (!told.decision.stop && options.shouldStop?.()) loop.stopRequested = true;
+  return {
+    runId: loop.runId,
+    generation: told.generation,
+    newEvaluations: told.newRecords,
+    members: record.members,
+    stats: { ...counts, elapsedSeconds: told.elapsed, archiveSize: loop.archiveSize, hvImprovement: loop.lastImprovement },
+    optimizerState: record.optimizerState,
+  };
+}
+
+/**
+ * The generations of one session. Between two generations the main thread does only what the next
+ * batch needs (tell, the stop decision, ask, the cache lookup); the rest of a generation is finished
+ * and written while the workers evaluate the next batch (WriteBehind), so the workers wait as little
+ * as possible. The store ends up as if each generation had been written before the next was asked.
+ */
+async function runGenerations(loop: GenerationLoop, population: number, store: Store, pool: EvaluationPool, warm: RunSetup['warm']): Promise<{ status: 'finished' | 'stopped'; endReason: EndReason | null }> {
+  const { optimizer, tracker, sp, loaded } = loop;
+  const termination = tracker.termination;
+  if (optimizer.generation >= 0 && termination.generations !== undefined && optimizer.generation >= termination.generations) return { status: 'finished', endReason: 'budget' };
+  const writes = new WriteBehind<RunWrite>((held) => store.writeGeneration({ ...held, optimizerState: JSON.stringify(held.optimizerState) }));
+  for (;;) {
+    const generation = optimizer.generation + 1;
+    const genStart = performance.now();
+    let designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
+    if (generation === 0 && warm) {
+      // Warm start: the earlier run's final population first, then space-filling designs up to the initial size.
+      designs = [...warm.designs, ...designs].slice(0, designs.length);
+    }
+    const batch = startBatch(store, pool, sp, loaded, designs, writes.records);
+    await batch.during(writes.flush);
+    if (loop.stopRequested) {
+      batch.abandon();
+      return { status: 'stopped', endReason: null };
+    }
+    const { evaluations, newRecords, failed } = await batch.result;
+    optimizer.tell(designs, evaluations);
+    loop.evaluationsSoFar += designs.length;
+    const decision = tracker.afterGeneration(optimizer.generation, loop.evaluationsSoFar, population, optimizer.archive().map((m) => minimised(sp, m.evaluation)));
+    if (decision.startRefinement && optimizer instanceof Nsga2) optimizer.startRefinement();
+    const told: ToldGeneration = { generation, decision, evaluationsSoFar: loop.evaluationsSoFar, designs: designs.length, newRecords, failed, elapsed: (performance.now() - genStart) / 1000 };
+    writes.hold(newRecords, () => completeGeneration(loop, told));
+    loop.totalEvaluations += designs.length;
+    loop.totalNew += newRecords.length;
+    if (decision.stop) {
+      // No more evaluations: the threads end while the last generation is written.
+      void pool.close();
+      writes.flush();
+      return { status: 'finished', endReason: decision.reason };
+    }
+  }
+}
+
 export async function runOptimization(studyIn: LoadedStudy, options: RunOptions): Promise<RunSummary> {
   const sp = studyProblem(studyIn.study);
   // The workers start first: they load their modules while this thread opens the store and settles the run.
@@ -437,78 +551,24 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
     store.ensureColumns(sp.columns);
     const start = startOrResume(setup, options, pool.workers, (id) => (ownedRunId = id));
     const { runId, optimizer, resumedFrom, termination } = start;
-    let { frame, evaluationsSoFar } = start;
     store.setRunEnd(runId, null, termination);
     const tracker = new TerminationTracker(termination, start.trackerState);
     const initialCount = algorithm === 'nsga2' ? Math.round((nsgaSettings.initialOversampling ?? 1) * population) : population;
-    const generations = generationBound(termination, population, initialCount);
-
-    let totalEvaluations = 0;
-    let totalNew = 0;
-    const started = performance.now();
-    let status: 'finished' | 'stopped' = 'finished';
-    let endReason: EndReason | null = null;
-    let lastImprovement: number | null = null;
-    let archiveSize = optimizer.archive().length;
-    let done = optimizer.generation >= 0 && termination.generations !== undefined && optimizer.generation >= termination.generations;
-    if (done) endReason = 'budget';
-    // The store write of generation g runs on the main thread while the workers evaluate generation g + 1.
-    const writes = new WriteBehind<Omit<GenerationWrite, 'optimizerState'> & { optimizerState: RunState }>((held) =>
-      store.writeGeneration({ ...held, optimizerState: JSON.stringify(held.optimizerState) }),
-    );
-    while (!done) {
-      const generation = optimizer.generation + 1;
-      const genStart = performance.now();
-      let designs = generation === 0 ? optimizer.initialDesigns() : optimizer.ask();
-      if (generation === 0 && warm) {
-        // Warm start: the earlier run's final population first, then space-filling designs up to the initial size.
-        designs = [...warm.designs, ...designs].slice(0, designs.length);
-      }
-      const { evaluations, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs, writes.records, writes.flush);
-      optimizer.tell(designs, evaluations);
-      evaluationsSoFar += designs.length;
-      const decision = tracker.afterGeneration(optimizer.generation, evaluationsSoFar, population, optimizer.archive().map((m) => minimised(sp, m.evaluation)));
-      if (decision.startRefinement && optimizer instanceof Nsga2) optimizer.startRefinement();
-      lastImprovement = decision.status.improvement;
-      archiveSize = decision.status.archiveSize;
-
-      const elapsed = (performance.now() - genStart) / 1000;
-      const record = generationRecord(optimizer, sp, loaded.settingsHash, frame, { tracker, evaluationsSoFar, designs: designs.length, newRecords: newRecords.length, failed, elapsed });
-      frame = record.frame;
-      const counts = record.counts;
-      writes.hold({
-        runId,
-        generation,
-        newEvaluations: newRecords,
-        members: record.members,
-        stats: { ...counts, elapsedSeconds: elapsed, archiveSize, hvImprovement: lastImprovement },
-        optimizerState: record.optimizerState,
-      });
-      totalEvaluations += designs.length;
-      totalNew += newRecords.length;
-      options.onGeneration?.({
-        runId,
-        generation,
-        generations: Math.max(generations, generation + 1),
-        archiveSize,
-        hvImprovement: lastImprovement,
-        phase: optimizer instanceof Nsga2 ? optimizer.currentPhase : 'search',
-        ...counts,
-        elapsedSeconds: (performance.now() - started) / 1000,
-        resumed: resumedFrom !== null,
-      });
-      if (decision.stop) {
-        endReason = decision.reason;
-        break;
-      }
-      if (options.shouldStop?.()) {
-        status = 'stopped';
-        break;
-      }
-    }
-    // No more evaluations: the threads end while the last generation and the final record are written.
+    const loop: GenerationLoop = {
+      runId, sp, loaded, options, optimizer, tracker,
+      generations: generationBound(termination, population, initialCount),
+      started: performance.now(),
+      resumed: resumedFrom !== null,
+      frame: start.frame,
+      evaluationsSoFar: start.evaluationsSoFar,
+      totalEvaluations: 0,
+      totalNew: 0,
+      lastImprovement: null,
+      archiveSize: optimizer.archive().length,
+      stopRequested: false,
+    };
+    const { status, endReason } = await runGenerations(loop, population, store, pool, warm);
     void pool.close();
-    writes.flush();
     if (status === 'finished') recordFinalHypervolumes(store, runId, sp);
     store.setRunEnd(runId, status === 'finished' ? endReason ?? 'budget' : null, termination);
     store.markRun(runId, status, status === 'stopped' ? `stopped by the user after generation ${optimizer.generation}` : null);
@@ -517,14 +577,14 @@ export async function runOptimization(studyIn: LoadedStudy, options: RunOptions)
       status,
       resumedFromGeneration: resumedFrom,
       generationsDone: optimizer.generation + 1,
-      evaluations: totalEvaluations,
-      newEvaluations: totalNew,
-      elapsedSeconds: (performance.now() - started) / 1000,
-      totalEvaluations: evaluationsSoFar,
+      evaluations: loop.totalEvaluations,
+      newEvaluations: loop.totalNew,
+      elapsedSeconds: (performance.now() - loop.started) / 1000,
+      totalEvaluations: loop.evaluationsSoFar,
       endReason: status === 'finished' ? endReason ?? 'budget' : null,
       termination,
-      hvImprovement: lastImprovement,
-      archiveSize,
+      hvImprovement: loop.lastImprovement,
+      archiveSize: loop.archiveSize,
     });
   } catch (error) {
     // The reason goes with the run. A run this process never claimed (another process writes it) is not touched.

@@ -14,7 +14,7 @@ import { isFeasible } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { Store, type StoredEvaluation } from '../store/store.js';
 import { parseStudyText } from '../study/parse.js';
-import { evaluateWithCache } from './batch.js';
+import { startBatch } from './batch.js';
 import { studyProblem } from './problem.js';
 
 export class RoundingError extends LoopsmithUserError {
@@ -84,7 +84,7 @@ export async function roundAndEvaluate(options: RoundingOptions): Promise<Roundi
     });
     pool = new EvaluationPool(loaded.study, sp.variables.length, sp.constraints.length, options);
     const designs = rounded.map((r) => r.design);
-    const { evaluations, keys, newRecords, failed } = await evaluateWithCache(store, pool, sp, loaded, designs);
+    const { evaluations, keys, newRecords, failed } = await startBatch(store, pool, sp, loaded, designs).result;
     store.ensureColumns(sp.columns);
     const runId = store.createRun({ studyId: run.studyId, kind: 'evaluate', parentRunId: run.id, seed: run.seed, settings: { rounding: options.step, from: run.id }, workers: pool.workers });
     const seen = new Set<string>();

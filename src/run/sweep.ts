@@ -9,7 +9,7 @@ import { isFeasible } from '../optimizer/types.js';
 import { EvaluationPool, type PoolOptions } from '../pool/pool.js';
 import { Store, type GenerationWrite } from '../store/store.js';
 import type { LoadedStudy } from '../study/parse.js';
-import { evaluateWithCache, WriteBehind } from './batch.js';
+import { startBatch, WriteBehind } from './batch.js';
 import { studyProblem, withEvaluatorNamespace } from './problem.js';
 
 export interface SweepOptions extends PoolOptions {
@@ -83,12 +83,14 @@ export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Pro
     for (let start = 0, generation = 0; start < designs.length; start += chunk, generation++) {
       const part = designs.slice(start, start + chunk);
       const t0 = performance.now();
-      const result = await evaluateWithCache(store, pool, sp, loaded, part, writes.records, writes.flush);
+      const batch = startBatch(store, pool, sp, loaded, part, writes.records);
+      await batch.during(writes.flush);
+      const result = await batch.result;
       const chunkFeasible = result.evaluations.filter(isFeasible).length;
       feasible += chunkFeasible;
       const elapsed = (performance.now() - t0) / 1000;
       // Written while the workers evaluate the next chunk (or at the end).
-      writes.hold({
+      writes.hold(result.newRecords, () => ({
         runId,
         generation,
         newEvaluations: result.newRecords,
@@ -104,7 +106,7 @@ export async function runSweep(studyIn: LoadedStudy, options: SweepOptions): Pro
           evaluationsPerSecond: elapsed > 0 ? result.newRecords.length / elapsed : 0,
         },
         optimizerState: null,
-      });
+      }));
       options.onChunk?.({ runId, done: Math.min(start + chunk, designs.length), total: designs.length, feasible, evaluationsPerSecond: elapsed > 0 ? result.newRecords.length / elapsed : 0, elapsedSeconds: (performance.now() - started) / 1000 });
       if (options.shouldStop?.() && start + chunk < designs.length) {
         status = 'stopped';

@@ -20,7 +20,7 @@ import { designLayout, latinHypercube } from '../optimizer/operators.js';
 import { SeededRandom } from '../optimizer/random.js';
 import { isFeasible } from '../optimizer/types.js';
 import { EvaluationPool } from '../pool/pool.js';
-import { evaluateWithCache } from '../run/batch.js';
+import { startBatch } from '../run/batch.js';
 import { evaluationKey, studyProblem, type StudyProblem } from '../run/problem.js';
 import { gridDesigns } from '../run/sweep.js';
 import { Store, type NewEvaluation, type StoredEvaluation } from '../store/store.js';
@@ -199,7 +199,7 @@ async function designShard(dir: string, plan: Plan, loaded: LoadedStudy, sp: Stu
   for (let from = 0, generation = 0; from < designs.length; from += CHUNK, generation++) {
     const part = designs.slice(from, from + CHUNK);
     const t0 = performance.now();
-    const result = await evaluateWithCache(store, pool, sp, loaded, part);
+    const result = await startBatch(store, pool, sp, loaded, part).result;
     const elapsed = (performance.now() - t0) / 1000;
     store.writeGeneration({
       runId,
@@ -289,7 +289,7 @@ async function islandShard(dir: string, plan: Plan, loaded: LoadedStudy, sp: Stu
       store.markRun(carryRun, 'finished');
     }
     const runId = store.createRun({ studyId, kind: 'optimize', seed: plan.seed, settings: provenance, workers: pool.workers });
-    let batch: Awaited<ReturnType<typeof evaluateWithCache>> | undefined;
+    let batch: Awaited<ReturnType<typeof startBatch>['result']> | undefined;
     let generation = 0;
     let t0 = performance.now();
     const end = await runIslandEpoch(
@@ -300,7 +300,7 @@ async function islandShard(dir: string, plan: Plan, loaded: LoadedStudy, sp: Stu
       start,
       async (designs) => {
         t0 = performance.now();
-        batch = await evaluateWithCache(store, pool, sp, loaded, designs);
+        batch = await startBatch(store, pool, sp, loaded, designs).result;
         return batch.evaluations;
       },
       (report) => {

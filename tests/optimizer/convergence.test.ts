@@ -58,6 +58,31 @@ describe('ConvergenceMonitor', () => {
   });
 });
 
+describe('TerminationTracker', () => {
+  // Archives of a front that fills in over generations (invented points on f2 = 1 - f1).
+  const archives = Array.from({ length: 12 }, (_, g) => Array.from({ length: g + 2 }, (_, i) => [i / (g + 1), 1 - i / (g + 1)]));
+
+  it('gives the same figures and state whether the archive is measured at once or only when read later', () => {
+    for (const termination of [{ generations: 10 }, { maxEvaluations: 400, convergence: { window: 3, tolerance: 0.01 } }]) {
+      const atOnce = new TerminationTracker(termination);
+      const later = new TerminationTracker(termination);
+      const eager: ConvergenceStatus[] = [];
+      const decisions: ReturnType<TerminationTracker['afterGeneration']>[] = [];
+      for (let g = 0; g < archives.length; g++) {
+        const decision = atOnce.afterGeneration(g, 20 * (g + 1), 20, archives[g]!);
+        eager.push(decision.status);
+        // The second tracker's figures are read only after the next generation was observed.
+        decisions.push(later.afterGeneration(g, 20 * (g + 1), 20, archives[g]!));
+        expect(decisions[g]!.stop).toBe(decision.stop);
+        expect(decisions[g]!.startRefinement).toBe(decision.startRefinement);
+        if (decision.stop) break;
+      }
+      expect(later.toJSON()).toEqual(atOnce.toJSON());
+      expect(decisions.map((d) => d.status)).toEqual(eager);
+    }
+  });
+});
+
 describe('termination on convergence with NSGA-II', () => {
   it('ZDT1 stops by itself with the archive hypervolume within 0.5 % of the analytic value', async () => {
     const { problem, evaluate } = zdt1();

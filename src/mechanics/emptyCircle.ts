@@ -273,7 +273,7 @@ export class PointBuckets {
 
   /**
    * Moving the centre (cx, cy) of a circle through point p₁ along the unit direction (gx, gy): the
-   * first point q (other than p₁ and `skip`) that becomes as near as p₁, at the step t (m, in
+   * first point q (other than p₁ and `skip`, or a copy of either) that becomes as near as p₁, at the step t (m, in
    * `step`) that solves |c + t g − q| = |c + t g − p₁|; −1 when none. A point at distance D from c
    * has t ≥ (D − r₁)/2 (r₁ = |c − p₁|; the denominator 2 g·(q − p₁) is at most 2(D + r₁)), so the
    * rings stop at D = r₁ + 2t; a cell is skipped when the same bound from its nearest distance and
@@ -285,6 +285,8 @@ export class PointBuckets {
     const ay = points[2 * p1 + 1]!;
     const d1 = (cx - ax) * (cx - ax) + (cy - ay) * (cy - ay);
     const r1 = Math.sqrt(d1);
+    const sx = skip >= 0 ? points[2 * skip]! : Number.NaN;
+    const sy = skip >= 0 ? points[2 * skip + 1]! : Number.NaN;
     this.locate(cx, cy);
     const { ci, cj, edge, rings } = this;
     // Half the spread of g·q over a cell.
@@ -310,9 +312,10 @@ export class PointBuckets {
           if ((ox * ox + oy * oy - d1) / most > best) continue;
           for (let s = start[c]!; s < start[c + 1]!; s++) {
             const q = order[s]!;
-            if (q === p1 || q === skip) continue;
             const qx = points[2 * q]!;
             const qy = points[2 * q + 1]!;
+            // A copy of an active point (neighbouring cells write their shared crossing each) is that point.
+            if ((qx === ax && qy === ay) || (qx === sx && qy === sy)) continue;
             const denominator = 2 * (gx * (qx - ax) + gy * (qy - ay));
             if (!(denominator > 0)) continue;
             const dq = (cx - qx) * (cx - qx) + (cy - qy) * (cy - qy);

@@ -26,9 +26,10 @@ function scanFirstAlong(points: Float64Array, count: number, cx: number, cy: num
   let best = Infinity;
   let hit = -1;
   for (let q = 0; q < count; q++) {
-    if (q === p1 || q === skip) continue;
     const qx = points[2 * q]!;
     const qy = points[2 * q + 1]!;
+    // Copies of p₁ or of the skipped point count as that point.
+    if ((qx === ax && qy === ay) || (skip >= 0 && qx === points[2 * skip] && qy === points[2 * skip + 1])) continue;
     const denominator = 2 * (gx * (qx - ax) + gy * (qy - ay));
     if (!(denominator > 0)) continue;
     const t = Math.max((cx - qx) ** 2 + (cy - qy) ** 2 - d1, 0) / denominator;
@@ -113,5 +114,27 @@ describe('PointBuckets answers as a scan of every point does', () => {
     const radius = circle.grow(buckets, 0.45, 0.3);
     expect(radius).toBeCloseTo(0.35, 9);
     expect(Math.hypot(circle.x - 0.6, circle.y - 0.4)).toBeLessThan(1e-6);
+  });
+
+  it('copies of points (neighbouring cells write their shared crossing each) do not change the ascent', () => {
+    // With each point written twice the ascent must reach the circle it reaches on the points written
+    // once: a copy of an active point met at a rounding-sized step would end it at a false vertex.
+    const rand = lcg(21);
+    const once = new PointBuckets();
+    const twice = new PointBuckets();
+    const circle = new EmptyCircle();
+    for (const points of clouds().slice(0, 2)) {
+      const count = points.length / 2;
+      const doubled = new Float64Array(4 * count);
+      for (let k = 0; k < count; k++) doubled.set([points[2 * k]!, points[2 * k + 1]!, points[2 * k]!, points[2 * k + 1]!], 4 * k);
+      once.build(points, count, 0, 0, 0.1, 12, 8);
+      twice.build(doubled, 2 * count, 0, 0, 0.1, 12, 8);
+      for (let k = 0; k < 300; k++) {
+        const x = 0.3 + 0.6 * rand();
+        const y = 0.15 + 0.5 * rand();
+        const expected = circle.grow(once, x, y);
+        expect(circle.grow(twice, x, y)).toBe(expected);
+      }
+    }
   });
 });

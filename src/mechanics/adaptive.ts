@@ -271,7 +271,7 @@ export class AdaptiveArea {
     let partial = 0;
     this.current.count = 0;
     const thin = field === 0 && this.thinArms ? this.thin : null;
-    thin?.mark(grid, this.masked);
+    thin?.mark(grid, this.masked, S);
     for (let j = 0; j + 1 < ny; j++) {
       for (let i = 0; i + 1 < nx; i++) {
         const k = j * nx + i;
@@ -330,7 +330,7 @@ export class AdaptiveArea {
       this.appendBoundary(cells.points, cells.pointCount);
     }
     if (!thin) return { area, error, levels: level };
-    thin.measure(grid, this.masked, S);
+    thin.measure(grid, this.masked);
     return { area: area + thin.area, error: error + thin.error, levels: level };
   }
 

@@ -170,7 +170,8 @@ export class PointBuckets {
   /**
    * The empty rings of every cell: the chessboard distance transform of the occupied cells, by a
    * forward and a backward pass over the 8-neighbourhood (exact for the chessboard metric;
-   * Rosenfeld & Pfaltz 1966, "Sequential operations in digital picture processing", JACM 13).
+   * Rosenfeld & Pfaltz 1966, "Sequential operations in digital picture processing", JACM 13; from
+   * memory).
    */
   private emptyRings(): void {
     const { nx, ny, start } = this;

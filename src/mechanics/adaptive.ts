@@ -155,8 +155,10 @@ export class AdaptiveArea {
   /**
    * Joins to the evaluation region the coarse regions connected to it through necks narrower than a
    * coarse cell: around every outside node that has a node of the region and a node of another
-   * region among its eight neighbours, the usable set is flood-filled on a lattice PROBE_SPLIT times
-   * finer over the 2 × 2 cells about that node; regions reached are joined (repeated until none is).
+   * region among its eight neighbours, the usable set is flood-filled on a lattice PROBE_SPLIT / 2
+   * times finer over the 2 × 2 cells about that node, and PROBE_SPLIT times finer when that reaches
+   * no other region (its points are shared, the coarser lattice being part of the finer); regions
+   * reached are joined (repeated until none is).
    */
   private connectNecks(): void {
     const grid = this.grid!;
@@ -180,18 +182,19 @@ export class AdaptiveArea {
           }
           if (!inside || !other) continue;
           probes++;
-          if (this.probe(i, j)) changed = true;
+          // A wide neck shows on the coarser lattice at a quarter of the points; else the finer one.
+          if (this.probe(i, j, PROBE_SPLIT >> 1) || this.probe(i, j, PROBE_SPLIT)) changed = true;
         }
       }
     }
   }
 
-  /** Flood fill of the usable set over the 2 × 2 coarse cells about node (i, j); joins the regions reached. */
-  private probe(i: number, j: number): boolean {
+  /** Flood fill of the usable set, on a lattice `split` times finer, over the 2 × 2 coarse cells about node (i, j); joins the regions reached. */
+  private probe(i: number, j: number, split: number): boolean {
     const grid = this.grid!;
     const { nx, labels } = grid;
-    const side = 2 * PROBE_SPLIT + 1;
-    const step = (1 << MAX_LEVEL) / PROBE_SPLIT;
+    const side = 2 * split + 1;
+    const step = (1 << MAX_LEVEL) / split;
     const fi0 = (i - 1) << MAX_LEVEL;
     const fj0 = (j - 1) << MAX_LEVEL;
     const queue = this.probeQueue;
@@ -203,7 +206,7 @@ export class AdaptiveArea {
       for (let di = 0; di <= 2; di++) {
         const label = labels[(j - 1 + dj) * nx + i - 1 + di]!;
         if (label < 0 || this.merged[label] !== 1) continue;
-        const q = dj * PROBE_SPLIT * side + di * PROBE_SPLIT;
+        const q = dj * split * side + di * split;
         seen[q] = 1;
         queue[tail++] = q;
       }
@@ -213,8 +216,8 @@ export class AdaptiveArea {
       const q = queue[head++]!;
       const qi = q % side;
       const qj = (q - qi) / side;
-      if (qi % PROBE_SPLIT === 0 && qj % PROBE_SPLIT === 0) {
-        const label = labels[(j - 1 + qj / PROBE_SPLIT) * nx + i - 1 + qi / PROBE_SPLIT]!;
+      if (qi % split === 0 && qj % split === 0) {
+        const label = labels[(j - 1 + qj / split) * nx + i - 1 + qi / split]!;
         if (label >= 0 && this.merged[label] !== 1) {
           this.merged[label] = 1;
           joined = true;

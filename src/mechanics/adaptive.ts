@@ -20,7 +20,7 @@ import type { MarginGrid } from './grid.js';
 import { trianglePositiveFraction } from './grid.js';
 import { BoundaryCells, type PointSampler } from './crossings.js';
 import { SlotTable } from './slotTable.js';
-import { EmptyCircle } from './emptyCircle.js';
+import { EmptyCircle, PointBuckets } from './emptyCircle.js';
 import { ThinParts } from './thinParts.js';
 
 /** Deepest refinement level (sub-cells of 1/2^MAX_LEVEL coarse cells). */
@@ -155,8 +155,10 @@ export class AdaptiveArea {
   /**
    * Joins to the evaluation region the coarse regions connected to it through necks narrower than a
    * coarse cell: around every outside node that has a node of the region and a node of another
-   * region among its eight neighbours, the usable set is flood-filled on a lattice PROBE_SPLIT times
-   * finer over the 2 × 2 cells about that node; regions reached are joined (repeated until none is).
+   * region among its eight neighbours, the usable set is flood-filled on a lattice PROBE_SPLIT / 2
+   * times finer over the 2 × 2 cells about that node, and PROBE_SPLIT times finer when that reaches
+   * no other region (its points are shared, the coarser lattice being part of the finer); regions
+   * reached are joined (repeated until none is).
    */
   private connectNecks(): void {
     const grid = this.grid!;
@@ -180,18 +182,19 @@ export class AdaptiveArea {
           }
           if (!inside || !other) continue;
           probes++;
-          if (this.probe(i, j)) changed = true;
+          // A wide neck shows on the coarser lattice at a quarter of the points; else the finer one.
+          if (this.probe(i, j, PROBE_SPLIT >> 1) || this.probe(i, j, PROBE_SPLIT)) changed = true;
         }
       }
     }
   }
 
-  /** Flood fill of the usable set over the 2 × 2 coarse cells about node (i, j); joins the regions reached. */
-  private probe(i: number, j: number): boolean {
+  /** Flood fill of the usable set, on a lattice `split` times finer, over the 2 × 2 coarse cells about node (i, j); joins the regions reached. */
+  private probe(i: number, j: number, split: number): boolean {
     const grid = this.grid!;
     const { nx, labels } = grid;
-    const side = 2 * PROBE_SPLIT + 1;
-    const step = (1 << MAX_LEVEL) / PROBE_SPLIT;
+    const side = 2 * split + 1;
+    const step = (1 << MAX_LEVEL) / split;
     const fi0 = (i - 1) << MAX_LEVEL;
     const fj0 = (j - 1) << MAX_LEVEL;
     const queue = this.probeQueue;
@@ -203,7 +206,7 @@ export class AdaptiveArea {
       for (let di = 0; di <= 2; di++) {
         const label = labels[(j - 1 + dj) * nx + i - 1 + di]!;
         if (label < 0 || this.merged[label] !== 1) continue;
-        const q = dj * PROBE_SPLIT * side + di * PROBE_SPLIT;
+        const q = dj * split * side + di * split;
         seen[q] = 1;
         queue[tail++] = q;
       }
@@ -213,8 +216,8 @@ export class AdaptiveArea {
       const q = queue[head++]!;
       const qi = q % side;
       const qj = (q - qi) / side;
-      if (qi % PROBE_SPLIT === 0 && qj % PROBE_SPLIT === 0) {
-        const label = labels[(j - 1 + qj / PROBE_SPLIT) * nx + i - 1 + qi / PROBE_SPLIT]!;
+      if (qi % split === 0 && qj % split === 0) {
+        const label = labels[(j - 1 + qj / split) * nx + i - 1 + qi / split]!;
         if (label >= 0 && this.merged[label] !== 1) {
           this.merged[label] = 1;
           joined = true;
@@ -271,7 +274,7 @@ export class AdaptiveArea {
     let partial = 0;
     this.current.count = 0;
     const thin = field === 0 && this.thinArms ? this.thin : null;
-    thin?.mark(grid, this.masked);
+    thin?.mark(grid, this.masked, S);
     for (let j = 0; j + 1 < ny; j++) {
       for (let i = 0; i + 1 < nx; i++) {
         const k = j * nx + i;
@@ -330,7 +333,7 @@ export class AdaptiveArea {
       this.appendBoundary(cells.points, cells.pointCount);
     }
     if (!thin) return { area, error, levels: level };
-    thin.measure(grid, this.masked, S);
+    thin.measure(grid, this.masked);
     return { area: area + thin.area, error: error + thin.error, levels: level };
   }
 
@@ -459,14 +462,14 @@ export class AdaptiveArea {
    * Radius of the largest circle inside the evaluation region (m), without a distance transform of
    * a fine grid: the coarse grid's deepest nodes (MarginGrid.deepCandidates) are the starting
    * centres; each is scored against the boundary points of the finest level (bucketed by coarse
-   * cell, nearest point by rings of cells), and the best few climb the medial axis of the boundary
+   * cell, nearest point by rings of cells: PointBuckets), and the best few climb the medial axis of the boundary
    * points to the largest empty circle (climb, emptyCircle.ts).
    * Call after area(0, …).
    */
   inscribedRadius(region: number): number {
     const grid = this.grid!;
     if (region < 0 || this.boundaryCount === 0) return 0;
-    this.bucketBoundary();
+    this.buckets.build(this.boundary, this.boundaryCount, grid.x0, grid.y0, grid.h, grid.nx, grid.ny);
     const { nx, h } = grid;
     // The deepest candidate nodes (coarse distance transform) of every coarse region joined to the
     // evaluation region are the starting centres.
@@ -530,7 +533,7 @@ export class AdaptiveArea {
    */
   private climb(x: number, y: number, h: number): number {
     const circle = this.circle;
-    let value = circle.grow(this.boundary, this.boundaryCount, x, y);
+    let value = circle.grow(this.buckets, x, y);
     let cx = circle.x;
     let cy = circle.y;
     for (let hop = 0.5 * h; hop > 0.1 * h; ) {
@@ -540,7 +543,7 @@ export class AdaptiveArea {
           const px = cx + hop * HOP_X[dir]!;
           const py = cy + hop * HOP_Y[dir]!;
           if (!(this.nearest(px, py) > value * (1 + 1e-9))) continue;
-          const next = circle.grow(this.boundary, this.boundaryCount, px, py);
+          const next = circle.grow(this.buckets, px, py);
           if (next > value) {
             value = next;
             cx = circle.x;
@@ -558,71 +561,12 @@ export class AdaptiveArea {
   private readonly starts = new Int32Array(8);
   private readonly searchedFrom = new Int32Array(8);
   private readonly startScores = new Float64Array(8);
-  private bucketStart = new Int32Array(0);
-  private bucketOrder = new Int32Array(0);
+  private readonly buckets = new PointBuckets();
 
-  /** Sorts the boundary points into coarse cells (counting sort). */
-  private bucketBoundary(): void {
-    const grid = this.grid!;
-    const cells = grid.nx * grid.ny;
-    if (this.bucketStart.length < cells + 1) this.bucketStart = new Int32Array(grid.capacity + 1);
-    if (this.bucketOrder.length < this.boundaryCount) this.bucketOrder = new Int32Array(this.boundary.length >> 1);
-    const start = this.bucketStart;
-    start.fill(0, 0, cells + 1);
-    const b = this.boundary;
-    for (let p = 0; p < this.boundaryCount; p++) start[this.cellOf(b[2 * p]!, b[2 * p + 1]!) + 1]!++;
-    for (let c = 0; c < cells; c++) start[c + 1]! += start[c]!;
-    for (let p = 0; p < this.boundaryCount; p++) {
-      const c = this.cellOf(b[2 * p]!, b[2 * p + 1]!);
-      this.bucketOrder[start[c]!++] = p;
-    }
-    // start[c] now holds the end of cell c: shift back to starts.
-    for (let c = cells; c > 0; c--) start[c] = start[c - 1]!;
-    start[0] = 0;
-  }
-
-  private cellOf(x: number, y: number): number {
-    const grid = this.grid!;
-    const i = Math.min(Math.max(Math.floor((x - grid.x0) / grid.h), 0), grid.nx - 1);
-    const j = Math.min(Math.max(Math.floor((y - grid.y0) / grid.h), 0), grid.ny - 1);
-    return j * grid.nx + i;
-  }
-
-  /** Distance (m) from (x, y) to the nearest boundary point: rings of cells until no closer one can exist. */
+  /** Distance (m) from (x, y) to the nearest boundary point (after buckets.build). */
   private nearest(x: number, y: number): number {
-    const grid = this.grid!;
-    const { nx, ny, h } = grid;
-    const fi = (x - grid.x0) / h;
-    const fj = (y - grid.y0) / h;
-    const ci = Math.floor(fi);
-    const cj = Math.floor(fj);
-    // Distance from (x, y) to the edge of its own cell: ring r holds no point closer than (r − 1) h + edge.
-    const edge = Math.min(fi - ci, ci + 1 - fi, fj - cj, cj + 1 - fj) * h;
-    const b = this.boundary;
-    const start = this.bucketStart;
-    const order = this.bucketOrder;
-    let bestSq = Infinity;
-    const maxRing = Math.max(nx, ny);
-    for (let r = 0; r <= maxRing; r++) {
-      const reach = r === 0 ? 0 : (r - 1) * h + edge;
-      if (reach * reach >= bestSq) break;
-      for (let j = cj - r; j <= cj + r; j++) {
-        if (j < 0 || j >= ny) continue;
-        const onRow = j === cj - r || j === cj + r;
-        for (let i = ci - r; i <= ci + r; i += onRow || r === 0 ? 1 : 2 * r) {
-          if (i < 0 || i >= nx) continue;
-          const c = j * nx + i;
-          for (let q = start[c]!; q < start[c + 1]!; q++) {
-            const p = order[q]!;
-            const dx = b[2 * p]! - x;
-            const dy = b[2 * p + 1]! - y;
-            const d = dx * dx + dy * dy;
-            if (d < bestSq) bestSq = d;
-          }
-        }
-      }
-    }
-    return Math.sqrt(bestSq);
+    this.buckets.nearest(x, y);
+    return Math.sqrt(this.buckets.nearestSq);
   }
 
   private fullChildren = 0;

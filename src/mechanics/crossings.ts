@@ -92,9 +92,12 @@ export class BoundaryCells {
   private rootT = 0;
   private crossY = 0;
 
-  /** Root in t (into rootT) of the field along (x0, y0) + t (dx, dy) between t0 (value f0) and t1 (value f1) of opposite signs. */
-  private root(x0: number, y0: number, dx: number, dy: number, t0: number, f0: number, t1: number, f1: number): void {
-    const tolerance = ROOT_TOLERANCE * Math.abs(t1 - t0);
+  /**
+   * Root in t (into rootT) of the field along (x0, y0) + t (dx, dy) between t0 (value f0) and t1
+   * (value f1) of opposite signs, to ROOT_TOLERANCE of `span` (default the bracket's width).
+   */
+  private root(x0: number, y0: number, dx: number, dy: number, t0: number, f0: number, t1: number, f1: number, span = Math.abs(t1 - t0)): void {
+    const tolerance = ROOT_TOLERANCE * span;
     let side = 0;
     let t = (t0 * f1 - t1 * f0) / (f1 - f0);
     let previous = Number.NaN;
@@ -211,9 +214,24 @@ export class BoundaryCells {
     const reach = 0.5 * chord;
     const fm = this.sample(mx, my);
     const far = fm >= 0 ? reach : -reach;
-    const ff = this.sample(mx + far * nx, my + far * ny);
-    if (fm >= 0 === ff >= 0) return Number.NaN;
-    this.root(mx, my, nx, ny, 0, fm, far, ff);
+    // First guess: a Newton step from the chord's middle with the bilinear gradient (the field falls
+    // along n); a bracket with the middle when it crosses, else with the far end, as the bisector's
+    // root must lie within half a chord.
+    const fall = -(nx * gx + ny * gy);
+    const guess = fall > 0 ? Math.max(Math.min(fm / fall, reach), -reach) : far;
+    const fg = this.sample(mx + guess * nx, my + guess * ny);
+    const secant = fm !== fg ? (guess * fm) / (fm - fg) : far;
+    if (Math.abs(secant - guess) <= ROOT_TOLERANCE * reach) {
+      // The secant through both values moves the guess less than root()'s tolerance: taken, as root() would.
+      this.rootT = secant;
+    } else if (fm >= 0 !== fg >= 0) {
+      this.root(mx, my, nx, ny, 0, fm, guess, fg, reach);
+    } else {
+      if (guess === far) return Number.NaN;
+      const ff = this.sample(mx + far * nx, my + far * ny);
+      if (fg >= 0 === ff >= 0) return Number.NaN;
+      this.root(mx, my, nx, ny, guess, fg, far, ff, reach);
+    }
     const s = this.rootT;
     // Check: the parabola at a quarter of the chord lies at 3/4 of the sagitta from it.
     const qx = ax + 0.25 * cx + 0.75 * s * nx;

@@ -13,14 +13,34 @@
  * node of the region join (the arm may turn away from the row). A cell with two or more nodes of the
  * region is left to the corner refinement.
  *
+ * Tips (derived here): where two terms of the margin meet inside a cell with one node of the region,
+ * the region's corner there may be a long thin wedge that leaves the refined children through edges
+ * whose ends are all outside. On a field smooth at the cell's scale the centre's value departs from
+ * the mean of the four corners by a second-order amount (an eighth of the cell's area times the
+ * field's Laplacian), at a kink by a first-order one. So such a cell is sampled at its centre (the
+ * refinement's first sample anyway) and marked when the centre stands above the corners' mean by more
+ * than KINK of their spread. KINK is chosen, not derived: on the 30 3-DOF reference designs of
+ * tests/mechanics/adaptive-accuracy.test.ts, 297 of the 558 cells with one node of the region lie
+ * within ±0.03 and 40 above 0.25, among them the two wedges that were lost (0.34 and 0.55).
+ *
  * Marked cells are left out of the corner refinement. Each is sampled on a lattice of SPLIT × SPLIT
  * sub-cells (through the sampler's cache), the usable sub-nodes connected to the evaluation region
  * are found by a flood fill over the marked cells together (seeded at the region's nodes and on the
  * sides shared with unmarked cells that have a node of the region), and their area is the sub-cell
  * estimate on two triangles per sub-cell with the unconnected nodes counted as outside (a part of
- * another region that enters a marked cell is not counted). The error estimate is a third of the
- * difference from the same estimate on every other sub-node (Richardson, h²; from memory). An arm
- * narrower than a sub-cell, or one whose ridge shows on no row or column, is still missed.
+ * another region that enters a marked cell is not counted).
+ *
+ * On the lattice the margin is treated as locally concave (the smallest of terms nearly linear over a
+ * sub-cell), whose usable set is convex: two usable nodes of one sub-cell are connected along the
+ * segment between them, so the flood also steps diagonally, and each sub-cell is split into its two
+ * triangles along the diagonal with the larger mean (the split whose linear pieces lie closer to a
+ * concave field). An arm narrower than a sub-cell crosses lattice edges whose ends are both outside:
+ * the ridge test above, run on the lattice's rows and columns at an outside node next to the flooded
+ * set, lets the flood pass such a node (a passage adds no area). The error estimate is a third of the
+ * difference from the same estimate on every other sub-node (Richardson, h²; from memory), plus, for
+ * every passage, its width on the crossed edge times one sub-cell (the strip the estimate leaves out
+ * between two lattice lines). A ridge that shows on no coarse row or column, in a cell with no node
+ * of the region, is still missed.
  */
 import type { MarginGrid } from './grid.js';
 import { trianglePositiveFraction } from './grid.js';
@@ -31,6 +51,8 @@ const SIDE = SPLIT + 1;
 const NODES = SIDE * SIDE;
 /** Most cells measured densely per design (beyond it the marks are dropped: the corner refinement takes them). */
 const MAX_CELLS = 48;
+/** A cell with one node of the region is marked when its centre exceeds its corners' mean by this share of their spread (a kink). */
+const KINK = 0.25;
 
 /** What the dense measure needs from the adaptive sampler. */
 export interface ThinHost {
@@ -52,6 +74,8 @@ export class ThinParts {
   /** Area (m²) and its error estimate of the last `measure`. */
   area = 0;
   error = 0;
+  /** Sum of the passages' widths on their crossed edges (lattice steps) in the last flood. */
+  private passages = 0;
 
   constructor(private readonly host: ThinHost) {}
 
@@ -61,16 +85,19 @@ export class ThinParts {
   }
 
   /**
-   * Marks the cells an arm may cross (see the file comment). `masked`: the region-masked margins of
-   * the coarse nodes (≥ 0 only in the evaluation region).
+   * Marks the cells an arm or a tip may cross (see the file comment). `masked`: the region-masked
+   * margins of the coarse nodes (≥ 0 only in the evaluation region); `fineStep`: fine-lattice units
+   * per coarse cell (2^MAX_LEVEL).
    */
-  mark(grid: MarginGrid, masked: Float64Array): void {
+  mark(grid: MarginGrid, masked: Float64Array, fineStep: number): void {
     const { nx, ny, values } = grid;
     if (this.slot.length < grid.capacity) this.slot = new Int32Array(grid.capacity);
     this.slot.fill(-1, 0, nx * ny);
     this.count = 0;
     this.masked = masked;
     this.nx = nx;
+    this.ny = ny;
+    this.fineStep = fineStep;
     for (let j = 0; j < ny; j++) {
       for (let i = 1; i + 2 < nx; i++) {
         const k = j * nx + i;
@@ -102,10 +129,32 @@ export class ThinParts {
         }
       }
     }
+    this.markKinks(grid, masked);
+  }
+
+  /** Marks the unmarked cells with one node of the region whose centre shows a kink (see the file comment). */
+  private markKinks(grid: MarginGrid, masked: Float64Array): void {
+    const { nx, ny, values } = grid;
+    const half = this.fineStep >> 1;
+    for (let j = 0; j + 1 < ny; j++) {
+      for (let i = 0; i + 1 < nx; i++) {
+        const k = j * nx + i;
+        if (this.slot[k]! >= 0 || this.count >= MAX_CELLS) continue;
+        if ((masked[k]! >= 0 ? 1 : 0) + (masked[k + 1]! >= 0 ? 1 : 0) + (masked[k + nx]! >= 0 ? 1 : 0) + (masked[k + nx + 1]! >= 0 ? 1 : 0) !== 1) continue;
+        const a = values[k]!;
+        const b = values[k + 1]!;
+        const c = values[k + nx]!;
+        const d = values[k + nx + 1]!;
+        const spread = Math.max(a, b, c, d) - Math.min(a, b, c, d);
+        const centre = this.host.sample(i * this.fineStep + half, j * this.fineStep + half);
+        if (centre - 0.25 * (a + b + c + d) > KINK * spread) this.add(k, true);
+      }
+    }
   }
 
   private masked: Float64Array = new Float64Array(0);
   private nx = 0;
+  private ny = 0;
 
   private add(k: number, valid: boolean): void {
     if (!valid || this.slot[k]! >= 0 || this.count >= MAX_CELLS) return;
@@ -119,14 +168,12 @@ export class ThinParts {
 
   /**
    * Samples the marked cells densely, floods the usable sub-nodes connected to the region and
-   * measures them (area, error); their boundary crossings go to the host. `fineStep`: fine-lattice
-   * units per coarse cell (2^MAX_LEVEL).
+   * measures them (area, error); their boundary crossings go to the host.
    */
-  measure(grid: MarginGrid, masked: Float64Array, fineStep: number): void {
+  measure(grid: MarginGrid, masked: Float64Array): void {
     this.area = 0;
     this.error = 0;
     if (this.count === 0) return;
-    this.fineStep = fineStep;
     this.values.fill(Number.NaN, 0, this.count * NODES);
     this.flood(grid, masked);
     const h = grid.h;
@@ -139,7 +186,7 @@ export class ThinParts {
     }
     const sub = (h / SPLIT) ** 2;
     this.area = fine * sub;
-    this.error = (Math.abs(fine - coarse) * sub) / 3;
+    this.error = (Math.abs(fine - coarse) / 3 + this.passages) * sub;
   }
 
   private fineStep = 0;
@@ -155,6 +202,36 @@ export class ThinParts {
     const w = this.host.sample((k % nx) * this.fineStep + a * step, Math.floor(k / nx) * this.fineStep + b * step);
     this.values[q] = w;
     return w;
+  }
+
+  /** Margin at lattice node (a, b) of slot s, which may lie beyond its cell (NaN beyond the grid). */
+  private around(s: number, a: number, b: number): number {
+    if (a >= 0 && a <= SPLIT && b >= 0 && b <= SPLIT) return this.value(s, a, b);
+    const k = this.cells[s]!;
+    const step = this.fineStep / SPLIT;
+    const fi = (k % this.nx) * this.fineStep + a * step;
+    const fj = Math.floor(k / this.nx) * this.fineStep + b * step;
+    if (fi < 0 || fj < 0 || fi > (this.nx - 1) * this.fineStep || fj > (this.ny - 1) * this.fineStep) return Number.NaN;
+    return this.host.sample(fi, fj);
+  }
+
+  /**
+   * The ridge test (ridgeWidth) on the lattice edges of the outside node (a, b) of slot s along its
+   * row and column: the widest crossing found (lattice steps), or −1 when no ridge crosses them.
+   */
+  private ridgeAt(s: number, a: number, b: number): number {
+    const v = this.value(s, a, b);
+    let width = -1;
+    for (let axis = 0; axis < 2; axis++) {
+      const da = 1 - axis;
+      const db = axis;
+      const next = this.around(s, a + da, b + db);
+      const prev = this.around(s, a - da, b - db);
+      // Each edge needs its far end outside and the margin rising towards it (lazy samples).
+      if (next < 0 && v > prev) width = Math.max(width, ridgeWidth(prev, v, next, this.around(s, a + 2 * da, b + 2 * db)));
+      if (prev < 0 && next < v) width = Math.max(width, ridgeWidth(this.around(s, a - 2 * da, b - 2 * db), prev, v, next));
+    }
+    return width;
   }
 
   /** Value of node (a, b) of slot s with unconnected usable nodes counted as outside. */
@@ -181,7 +258,9 @@ export class ThinParts {
         const v10 = this.connected(s, a + stride, b);
         const v01 = this.connected(s, a, b + stride);
         const v11 = this.connected(s, a + stride, b + stride);
-        sum += 0.5 * (trianglePositiveFraction(v00, v10, v11) + trianglePositiveFraction(v00, v11, v01));
+        // Split along the diagonal with the larger mean (see the file comment).
+        if (v10 + v01 > v00 + v11) sum += 0.5 * (trianglePositiveFraction(v10, v11, v01) + trianglePositiveFraction(v10, v01, v00));
+        else sum += 0.5 * (trianglePositiveFraction(v00, v10, v11) + trianglePositiveFraction(v00, v11, v01));
       }
     }
     return sum * stride * stride;
@@ -189,18 +268,34 @@ export class ThinParts {
 
   /**
    * Flood fill of the usable sub-nodes over the marked cells: seeded at the region's coarse nodes and
-   * on the sides shared with unmarked cells that have a node of the region; a node on a side shared
-   * by two marked cells passes to both.
+   * on the sides shared with unmarked cells that have a node of the region; from a usable node to its
+   * eight neighbours that are usable, and to its four neighbours that are passages (ridgeAt), from a
+   * passage to its four neighbours; a node on a side shared by two marked cells passes to both.
    */
   private flood(grid: MarginGrid, masked: Float64Array): void {
     const { nx, ny } = grid;
     const reached = this.reached;
     reached.fill(0, 0, this.count * NODES);
+    this.passages = 0;
     let tail = 0;
     const push = (s: number, a: number, b: number): void => {
       const q = s * NODES + b * SIDE + a;
       if (reached[q] === 1 || !(this.value(s, a, b) >= 0)) return;
       reached[q] = 1;
+      this.queue[tail++] = q;
+    };
+    // reached: 1 usable and flooded, 2 a passage, 3 an outside node found no passage.
+    const pass = (s: number, a: number, b: number): void => {
+      const q = s * NODES + b * SIDE + a;
+      if (reached[q] !== 0) return;
+      if (this.value(s, a, b) >= 0) {
+        reached[q] = 1;
+      } else {
+        const width = this.ridgeAt(s, a, b);
+        reached[q] = width >= 0 ? 2 : 3;
+        if (width < 0) return;
+        this.passages += width;
+      }
       this.queue[tail++] = q;
     };
     for (let s = 0; s < this.count; s++) {
@@ -229,11 +324,18 @@ export class ThinParts {
       const r = q - s * NODES;
       const a = r % SIDE;
       const b = (r - a) / SIDE;
-      if (a > 0) push(s, a - 1, b);
-      if (a < SPLIT) push(s, a + 1, b);
-      if (b > 0) push(s, a, b - 1);
-      if (b < SPLIT) push(s, a, b + 1);
-      if (a === 0 || a === SPLIT || b === 0 || b === SPLIT) this.alias(s, a, b, nx, push);
+      if (a > 0) pass(s, a - 1, b);
+      if (a < SPLIT) pass(s, a + 1, b);
+      if (b > 0) pass(s, a, b - 1);
+      if (b < SPLIT) pass(s, a, b + 1);
+      if (reached[q] === 1) {
+        for (let d = 0; d < 4; d++) {
+          const da = d & 1 ? 1 : -1;
+          const db = d & 2 ? 1 : -1;
+          if (a + da >= 0 && a + da <= SPLIT && b + db >= 0 && b + db <= SPLIT) push(s, a + da, b + db);
+        }
+      }
+      if (a === 0 || a === SPLIT || b === 0 || b === SPLIT) this.alias(s, a, b, nx, pass);
     }
   }
 
@@ -289,12 +391,21 @@ function touchesRegion(masked: Float64Array, n: number, nx: number): boolean {
  * crossing on the edge at a value ≥ 0.
  */
 export function ridgeCrosses(v0: number, v1: number, v2: number, v3: number): boolean {
-  if (v1 >= 0 || v2 >= 0) return false;
+  return ridgeWidth(v0, v1, v2, v3) >= 0;
+}
+
+/**
+ * The ridge test of ridgeCrosses with the width of the strip on the edge where both lines are ≥ 0
+ * (in node spacings): crest × (1/rise − 1/fall); −1 when no ridge crosses the edge.
+ */
+export function ridgeWidth(v0: number, v1: number, v2: number, v3: number): number {
+  if (v1 >= 0 || v2 >= 0) return -1;
   const rise = v1 - v0;
   const fall = v3 - v2;
-  if (!(rise > 0) || !(fall < 0)) return false;
+  if (!(rise > 0) || !(fall < 0)) return -1;
   // v1 + rise t = v2 + fall (t − 1) at t, the edge being t ∈ [0, 1].
   const t = (v2 - fall - v1) / (rise - fall);
-  if (!(t >= 0 && t <= 1)) return false;
-  return v1 + rise * t >= 0;
+  if (!(t >= 0 && t <= 1)) return -1;
+  const crest = v1 + rise * t;
+  return crest >= 0 ? crest * (1 / rise - 1 / fall) : -1;
 }

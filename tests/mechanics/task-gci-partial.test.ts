@@ -1,0 +1,67 @@
+/**
+ * gci over a task region that the design assembles only in part (src/mechanics/regionMetrics.ts,
+ * taskMean: the refined lattice quadrature of regionQuadrature.ts) against a plain midpoint rule on
+ * 800 × 300 points of the task rectangle (derived here: the mean of 1/κ over the points where the pose
+ * is assembled, 0 elsewhere; it moves by less than 0.02 % between 400 × 150 and 1600 × 600 points on
+ * these designs). The study is the invented parcel-sorter demo at the default tolerance.
+ *
+ * A known shortfall, pinned: these are the four of 100 random designs of the demo's ranges whose gci
+ * missed the midpoint value by more than its reported error estimate (about 0.22 % on each); all
+ * four come out low, by 0.43 %, 6.1 %, 1.6 % and 0.78 %. On design 2 a map of the points shows why:
+ * the assembled part of the task rectangle ends in a thin wedge between the reach boundary and a
+ * joint-limit boundary, thinner than a lattice cell, which the quadrature does not see. Each design
+ * is pinned at its present error (plus a quarter), so that it cannot get worse unnoticed; see
+ * docs/regions.md. Such designs do not cover their task region (task_coverage < 1).
+ */
+import { describe, expect, it } from 'vitest';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.js';
+import { metricIndex } from '../../src/core/metrics.js';
+import { PoseStatus } from '../../src/core/pose.js';
+import { parseStudyText } from '../../src/study/parse.js';
+import { REPO_ROOT } from '../fixtures/harness.js';
+
+/** base_span, crank_1, rod_1 (m): random designs of the demo's ranges. */
+const DESIGNS: readonly (readonly number[])[] = [
+  [0.23143819451332096, 0.2506058692932129, 0.25205268859863283],
+  [0.09205245018005372, 0.17774527966976167, 0.6398297071456909],
+  [0.15234327316284182, 0.1903311252593994, 0.6123380780220031],
+  [0.295285701751709, 0.21128010749816895, 0.30262662172317506],
+];
+/** Present relative error of each design's gci (negative: low), measured with this test's commit. */
+const KNOWN_ERROR = [-0.0044, -0.061, -0.016, -0.0079];
+
+function midpointGci(evaluator: ArchitectureEvaluator, design: readonly number[]): number {
+  const region = evaluator.study.task.region!;
+  if (region.shape !== 'rectangle') throw new Error('rectangle expected');
+  const model = evaluator.model(design);
+  const architecture = evaluator.architecture;
+  const pose = architecture.createPose();
+  const nu = 800;
+  const nv = 300;
+  let sum = 0;
+  for (let j = 0; j < nv; j++) {
+    for (let i = 0; i < nu; i++) {
+      const x = region.centreX + ((i + 0.5) / nu - 0.5) * region.width;
+      const y = region.centreY + ((j + 0.5) / nv - 0.5) * region.height;
+      if (architecture.solvePose(model, pose, x, y, 0) === PoseStatus.Assembled) sum += pose.inverseCondition;
+    }
+  }
+  return sum / (nu * nv);
+}
+
+describe('gci over a partly assembled task region against a midpoint rule', () => {
+  const text = readFileSync(join(REPO_ROOT, 'studies', 'parcel-sorter.yaml'), 'utf8').replace(/^\s*grid_cells:.*$/m, '');
+  const evaluator = new ArchitectureEvaluator(parseStudyText(text, 'parcel-sorter').study);
+  DESIGNS.forEach((design, k) => {
+    it(`design ${k}: low by no more than its pinned error, and the task is not covered`, () => {
+      const result = evaluator.evaluate(Float64Array.from(design));
+      const gci = result.metrics[metricIndex('gci')]!;
+      const reference = midpointGci(evaluator, design);
+      const error = gci / reference - 1;
+      expect(result.metrics[metricIndex('task_coverage')]!).toBeLessThan(1);
+      expect(Math.abs(error)).toBeLessThanOrEqual(1.25 * Math.abs(KNOWN_ERROR[k]!));
+    });
+  });
+});

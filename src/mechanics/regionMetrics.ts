@@ -427,9 +427,14 @@ export class RegionMetrics {
       this.nodeRefinable[k] = 1;
     }
     if (this.smoothTaskMean(lattice, values, second, nodes)) return;
-    // Split margins: the reach part is known everywhere, the joint and assembly part only where reached.
+    // Split margins where the lattice holds a node that is not assembled: the reach part known
+    // everywhere, the joint and assembly part only where reached (regionQuadrature.ts). A lattice
+    // assembled at every node keeps the single margin, the smaller of both, and its values as before.
+    let split = false;
+    for (let k = 0; k < nodes && !split; k++) if (!(values[3 * k]! >= 0 && second[k]! >= 0)) split = true;
+    if (!split) for (let k = 0; k < nodes; k++) values[3 * k] = Math.min(values[3 * k]!, second[k]!);
     const field: LevelField = {
-      split: true,
+      split,
       sample: (u, v, out) => {
         const jacobian = taskPoint(region, u, v, this.at);
         const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
@@ -437,7 +442,7 @@ export class RegionMetrics {
         out[1] = 1;
         const margin = this.assembledMargins(status, this.samplingPose);
         out[2] = this.secondMargin;
-        return margin;
+        return split || status === PoseStatus.Unreachable ? margin : Math.min(margin, this.secondMargin);
       },
     };
     const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable, second };

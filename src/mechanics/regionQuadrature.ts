@@ -14,10 +14,15 @@
  * A split field (`LevelField.split`) bounds its inside part by two margins: the first known
  * everywhere (a mechanism's reach), the second only where the first is ≥ 0 (joint ranges, assembly
  * sign: nothing to measure where a leg does not reach). Each triangle is cut by the first margin,
- * the field being solved at each crossing (its second margin and integrand there, not a code), then
- * by the second margin, linear between the vertices of that polygon. So a thin part between the two
+ * then by the second, linear between the vertices of that polygon. Where the inside end of an edge
+ * fails the second margin, the field is solved at the first margin's crossing (its second margin and
+ * integrand there, not the outside end's code), and the second margin's zero next to it by regula
+ * falsi. So a thin part between the two
  * boundaries is seen on the edges it crosses, even with no inside corner, and cells whose first
- * margin changes sign are tested as well as those with an inside corner.
+ * margin changes sign are tested as well as those with an inside corner. The integrand of a split
+ * field is taken as the square root of a linear function on each triangle (rootIntegral): exact where
+ * it falls as the square root of the distance to an edge (a mechanism's leg at the end of its reach),
+ * second order elsewhere.
  *
  * Adaptivity (classical local refinement): a candidate cell's rule is compared with the sum of its
  * four children's rules (five new points); when the difference exceeds the cell's share of the
@@ -77,8 +82,12 @@ const CACHE_BITS = 16;
 const BISECTION_STEPS = 8;
 /** Solves per crossing of a split field's first margin (regula falsi towards a point with margin ≥ 0). */
 const CROSSING_SOLVES = 3;
+/** Solves per crossing of the second margin next to a solved crossing of the first (regula falsi). */
+const SECOND_SOLVES = 2;
 /** After a crossing solve that lands outside, the next one aims this fraction (of the distance from the inside end) short of the secant's root. */
 const CROSSING_PULLBACK = 2 ** -BISECTION_STEPS;
+/** Relative spread of squared values below which rootIntegral takes the edge-midpoint rule. */
+const ROOT_SPREAD = 1e-4;
 /** Per lattice node (NodeLattice.values): margin, integrand, continuous flag. */
 const NODE_STRIDE = 3;
 /** Per point: margin, integrand, continuous flag, second margin (+∞ for a field that is not split). */
@@ -99,6 +108,9 @@ export class RegionQuadrature {
   /** Polygon scratch: up to 5 vertices (u, v, f, second margin), and the second clip's output. */
   private readonly poly = new Float64Array(20);
   private readonly clipped = new Float64Array(20);
+  /** Per polygon vertex: 1 when it is a solved crossing of the first margin (the second margin is steep there). */
+  private readonly solvedVertex = new Uint8Array(5);
+  private readonly clippedSolved = new Uint8Array(5);
   private field: LevelField | null = null;
   private splitField = false;
   private second: Float64Array | null = null;
@@ -525,7 +537,8 @@ export class RegionQuadrature {
     const L = this.levels;
     const inside = (p: number): boolean => L[p]! >= 0 && L[p + 3]! >= 0;
     const a = inside(p00), b = inside(p10), c = inside(p01), e = inside(p11);
-    if (a && b && c && e) {
+    // A split field's cells go through the triangles even when inside (its rule is rootIntegral's).
+    if (a && b && c && e && !this.splitField) {
       this.ruleIntegral = 0.25 * hu * hv * (L[p00 + 1]! + L[p10 + 1]! + L[p01 + 1]! + L[p11 + 1]!);
       this.ruleArea = hu * hv;
       return;
@@ -566,7 +579,8 @@ export class RegionQuadrature {
       const by = poly[4 * k + 5]! - poly[1]!;
       const t = 0.5 * Math.abs(ax * by - ay * bx);
       area += t;
-      integral += (t * (poly[2]! + poly[4 * k + 2]! + poly[4 * k + 6]!)) / 3;
+      if (this.splitField) integral += rootIntegral(t, poly[2]!, poly[4 * k + 2]!, poly[4 * k + 6]!);
+      else integral += (t * (poly[2]! + poly[4 * k + 2]! + poly[4 * k + 6]!)) / 3;
     }
     this.ruleIntegral = integral;
     this.ruleArea = area;
@@ -574,7 +588,8 @@ export class RegionQuadrature {
 
   /**
    * The part of the polygon's `n` vertices (u, v, f, second) where the second margin is ≥ 0, the
-   * margin and the integrand linear along its edges (Sutherland–Hodgman against one level line).
+   * margin and the square of the integrand linear along its edges (Sutherland–Hodgman against one
+   * level line); next to a solved crossing of the first margin, the zero is solved (secondRoot).
    * Written back into the polygon; returns its vertex count (at most n + 1: a convex polygon).
    */
   private clipSecond(n: number): number {
@@ -588,17 +603,47 @@ export class RegionQuadrature {
       const sb = poly[b + 3]!;
       if (sa >= 0) {
         for (let c = 0; c < 4; c++) out[4 * m + c] = poly[a + c]!;
+        this.clippedSolved[m] = this.solvedVertex[k]!;
         m++;
       }
       if (sa >= 0 !== sb >= 0) {
-        const t = sa / (sa - sb);
-        for (let c = 0; c < 3; c++) out[4 * m + c] = poly[a + c]! + t * (poly[b + c]! - poly[a + c]!);
+        const steep = this.solvedVertex[k]! === 1 || this.solvedVertex[(k + 1) % n]! === 1;
+        const t = steep ? (sa >= 0 ? this.secondRoot(a, b, sa, sb) : 1 - this.secondRoot(b, a, sb, sa)) : sa / (sa - sb);
+        this.clippedSolved[m] = 0;
+        for (let c = 0; c < 2; c++) out[4 * m + c] = poly[a + c]! + t * (poly[b + c]! - poly[a + c]!);
+        const fa = poly[a + 2]!;
+        const fb = poly[b + 2]!;
+        out[4 * m + 2] = Math.sqrt(Math.max(fa * fa + t * (fb * fb - fa * fa), 0));
         out[4 * m + 3] = 0;
         m++;
       }
     }
     for (let k = 0; k < 4 * m; k++) poly[k] = out[k]!;
+    for (let k = 0; k < m; k++) this.solvedVertex[k] = this.clippedSolved[k]!;
     return m;
+  }
+
+  /**
+   * Where the second margin is zero on the polygon edge from vertex offset `a` (second margin
+   * sa ≥ 0) to `b` (sb < 0), as a fraction of the edge: regula falsi with the field, SECOND_SOLVES
+   * solves at most (the joint margin rises as a square root towards a leg's reach boundary, so the
+   * chord from a crossing there misplaces the zero).
+   */
+  private secondRoot(a: number, b: number, sa: number, sb: number): number {
+    const poly = this.poly;
+    let lo = 0;
+    let hi = 1;
+    let sLo = sa;
+    let sHi = sb;
+    for (let k = 0; k < SECOND_SOLVES && this.samples < this.sampleCap; k++) {
+      const t = lo + ((hi - lo) * sLo) / (sLo - sHi);
+      const m = this.field!.sample(poly[a]! + t * (poly[b]! - poly[a]!), poly[a + 1]! + t * (poly[b + 1]! - poly[a + 1]!), this.out);
+      this.samples++;
+      const second = this.out[2]!;
+      if (!(m >= 0) || !Number.isFinite(second)) break;
+      if (second >= 0) { lo = t; sLo = second; } else { hi = t; sHi = second; }
+    }
+    return lo + ((hi - lo) * sLo) / (sLo - sHi);
   }
 
   /** Walks one edge a → b of a triangle: adds a when inside, then the crossing when the sign changes. Returns the vertex count. */
@@ -612,9 +657,11 @@ export class RegionQuadrature {
       poly[4 * n + 1] = va;
       poly[4 * n + 2] = L[pa + 1]!;
       poly[4 * n + 3] = L[pa + 3]!;
+      this.solvedVertex[n] = 0;
       n++;
     }
     if (ina !== inb) {
+      this.solvedVertex[n] = 0;
       if (ina) this.crossing(pa, pb, ua, va, ub, vb, 4 * n);
       else this.crossing(pb, pa, ub, vb, ua, va, 4 * n);
       n++;
@@ -699,5 +746,28 @@ export class RegionQuadrature {
     poly[slot + 1] = vin + t * (vout - vin);
     poly[slot + 2] = f;
     poly[slot + 3] = second;
+    this.solvedVertex[slot >> 2] = 1;
   }
+}
+
+/**
+ * ∫ √L over a triangle of area `area` where L is linear with the vertex values f1², f2², f3² (the
+ * integrand f interpolated as the square root of a linear function: exact where f falls as the
+ * square root of the distance to an edge, a leg singularity, and second order elsewhere). By the
+ * divided-difference form of the integral of a function of a linear one over a triangle,
+ * 2·area·G[a, b, c] with G(x) = (4/15) x^(5/2) (G'' = √x); the edge-midpoint rule where the values
+ * are too close for the differences.
+ */
+function rootIntegral(area: number, f1: number, f2: number, f3: number): number {
+  let a = f1 * f1;
+  let b = f2 * f2;
+  let c = f3 * f3;
+  if (a > b) { const s = a; a = b; b = s; }
+  if (b > c) { const s = b; b = c; c = s; }
+  if (a > b) { const s = a; a = b; b = s; }
+  const spread = c - a;
+  if (!(spread > ROOT_SPREAD * c)) return (area * (Math.sqrt(0.5 * (a + b)) + Math.sqrt(0.5 * (b + c)) + Math.sqrt(0.5 * (a + c)))) / 3;
+  const g = (x: number): number => (4 / 15) * x * x * Math.sqrt(x);
+  const slope = (x: number, y: number): number => (y - x > ROOT_SPREAD * spread ? (g(y) - g(x)) / (y - x) : (2 / 3) * Math.sqrt(0.5 * (x + y)) ** 3);
+  return (2 * area * (slope(b, c) - slope(a, b))) / spread;
 }

@@ -435,6 +435,7 @@ export class RegionMetrics {
     if (!split) for (let k = 0; k < nodes; k++) values[3 * k] = Math.min(values[3 * k]!, second[k]!);
     const field: LevelField = {
       split,
+      rootEdge: this.reachIsSingular(),
       sample: (u, v, out) => {
         const jacobian = taskPoint(region, u, v, this.at);
         const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
@@ -450,6 +451,16 @@ export class RegionMetrics {
     const result = this.quadrature.integrate(nodeLattice, field, 0.5 * this.tolerance, 'all', 200 * nodes);
     this.gci = result.integral / lattice.area;
     this.gciError = result.integralError / lattice.area;
+  }
+
+  /**
+   * Whether every leg of the design is singular at the end of its reach (crank and rod, or slider and
+   * rod, in line: 1/κ falls as the square root of the reach margin there); a strut's reach ends at its
+   * stroke, where 1/κ need not vanish.
+   */
+  private reachIsSingular(): boolean {
+    const model = this.model!;
+    return isLegged(model) && model.legs.every((leg) => leg.name !== 'strut');
   }
 
   /**

@@ -19,10 +19,9 @@
  * integrand there, not the outside end's code), and the second margin's zero next to it by regula
  * falsi. So a thin part between the two
  * boundaries is seen on the edges it crosses, even with no inside corner, and cells whose first
- * margin changes sign are tested as well as those with an inside corner. The integrand of a split
- * field is taken as the square root of a linear function on each triangle (rootIntegral): exact where
- * it falls as the square root of the distance to an edge (a mechanism's leg at the end of its reach),
- * second order elsewhere.
+ * margin changes sign are tested as well as those with an inside corner. Where the integrand falls as
+ * the square root of the first margin (`rootEdge`: a mechanism's leg at the end of its reach), it is
+ * taken as the square root of a linear function on the triangles near that edge (rootIntegral).
  *
  * Adaptivity (classical local refinement): a candidate cell's rule is compared with the sum of its
  * four children's rules (five new points); when the difference exceeds the cell's share of the
@@ -46,6 +45,12 @@ export interface LevelField {
    * everywhere and `sample` writing the second margin into out[2] (NaN where the margin is < 0).
    */
   readonly split?: boolean;
+  /**
+   * A split field whose integrand falls to 0 as the square root of the first margin at its zero (a
+   * leg at the end of its reach is singular: 1/κ ∝ its transmission sine ∝ √margin): near that edge
+   * its triangles take rootIntegral's rule.
+   */
+  readonly rootEdge?: boolean;
 }
 
 /** Values at the nodes of a lattice: stride 3 per node (margin, integrand, continuous flag). */
@@ -113,6 +118,7 @@ export class RegionQuadrature {
   private readonly clippedSolved = new Uint8Array(5);
   private field: LevelField | null = null;
   private splitField = false;
+  private rootEdge = false;
   private second: Float64Array | null = null;
   private ruleIntegral = 0;
   private ruleArea = 0;
@@ -148,6 +154,7 @@ export class RegionQuadrature {
   integrate(lattice: NodeLattice, field: LevelField, tolerance: number, candidates: 'all' | 'boundary', sampleCap: number): RegionIntegral {
     this.field = field;
     this.splitField = field.split === true;
+    this.rootEdge = this.splitField && field.rootEdge === true;
     this.second = this.splitField ? lattice.second! : null;
     this.samples = 0;
     this.beginCache(lattice);
@@ -537,8 +544,8 @@ export class RegionQuadrature {
     const L = this.levels;
     const inside = (p: number): boolean => L[p]! >= 0 && L[p + 3]! >= 0;
     const a = inside(p00), b = inside(p10), c = inside(p01), e = inside(p11);
-    // A split field's cells go through the triangles even when inside (its rule is rootIntegral's).
-    if (a && b && c && e && !this.splitField) {
+    // A split field's cell near the edge of reach goes through the triangles even when inside.
+    if (a && b && c && e && !(this.rootEdge && nearReach(L[p00]!, L[p10]!, L[p01]!, L[p11]!))) {
       this.ruleIntegral = 0.25 * hu * hv * (L[p00 + 1]! + L[p10 + 1]! + L[p01 + 1]! + L[p11 + 1]!);
       this.ruleArea = hu * hv;
       return;
@@ -568,7 +575,9 @@ export class RegionQuadrature {
     let n = this.edge(u1, v1, p1, u2, v2, p2, 0);
     n = this.edge(u2, v2, p2, u3, v3, p3, n);
     n = this.edge(u3, v3, p3, u1, v1, p1, n);
-    if (this.splitField) n = this.clipSecond(n);
+    // The square-root rule where the first margin (reach) extrapolates to zero within the triangle.
+    const root = this.rootEdge && nearReach(this.levels[p1]!, this.levels[p2]!, this.levels[p3]!, this.levels[p3]!);
+    if (this.splitField) n = this.clipSecond(n, root);
     const poly = this.poly;
     let integral = 0;
     let area = 0;
@@ -579,7 +588,7 @@ export class RegionQuadrature {
       const by = poly[4 * k + 5]! - poly[1]!;
       const t = 0.5 * Math.abs(ax * by - ay * bx);
       area += t;
-      if (this.splitField) integral += rootIntegral(t, poly[2]!, poly[4 * k + 2]!, poly[4 * k + 6]!);
+      if (root) integral += rootIntegral(t, poly[2]!, poly[4 * k + 2]!, poly[4 * k + 6]!);
       else integral += (t * (poly[2]! + poly[4 * k + 2]! + poly[4 * k + 6]!)) / 3;
     }
     this.ruleIntegral = integral;
@@ -588,11 +597,12 @@ export class RegionQuadrature {
 
   /**
    * The part of the polygon's `n` vertices (u, v, f, second) where the second margin is ≥ 0, the
-   * margin and the square of the integrand linear along its edges (Sutherland–Hodgman against one
-   * level line); next to a solved crossing of the first margin, the zero is solved (secondRoot).
+   * margin and the integrand (its square with `root`) linear along its edges (Sutherland–Hodgman
+   * against one level line); next to a solved crossing of the first margin, the zero is solved
+   * (secondRoot).
    * Written back into the polygon; returns its vertex count (at most n + 1: a convex polygon).
    */
-  private clipSecond(n: number): number {
+  private clipSecond(n: number, root: boolean): number {
     const poly = this.poly;
     const out = this.clipped;
     let m = 0;
@@ -613,7 +623,7 @@ export class RegionQuadrature {
         for (let c = 0; c < 2; c++) out[4 * m + c] = poly[a + c]! + t * (poly[b + c]! - poly[a + c]!);
         const fa = poly[a + 2]!;
         const fb = poly[b + 2]!;
-        out[4 * m + 2] = Math.sqrt(Math.max(fa * fa + t * (fb * fb - fa * fa), 0));
+        out[4 * m + 2] = root ? Math.sqrt(Math.max(fa * fa + t * (fb * fb - fa * fa), 0)) : fa + t * (fb - fa);
         out[4 * m + 3] = 0;
         m++;
       }
@@ -770,4 +780,16 @@ function rootIntegral(area: number, f1: number, f2: number, f3: number): number 
   const g = (x: number): number => (4 / 15) * x * x * Math.sqrt(x);
   const slope = (x: number, y: number): number => (y - x > ROOT_SPREAD * spread ? (g(y) - g(x)) / (y - x) : (2 / 3) * Math.sqrt(0.5 * (x + y)) ** 3);
   return (2 * area * (slope(b, c) - slope(a, b))) / spread;
+}
+
+/**
+ * Whether the first margin, linear over a triangle or cell with these corner values, reaches zero
+ * within about its own size (its smallest value not above its spread): there 1/κ may fall as the
+ * square root of the distance to a leg's reach boundary, and rootIntegral's rule is taken; farther in,
+ * the linear one (the square root of a linear function is concave, which the linear rule is not
+ * biased by where the integrand is smooth).
+ */
+function nearReach(m1: number, m2: number, m3: number, m4: number): boolean {
+  const low = Math.min(m1, m2, m3, m4);
+  return low <= Math.max(m1, m2, m3, m4) - low;
 }

@@ -245,6 +245,10 @@ export class RegionMetrics {
   private readonly usable: (status: PoseStatus) => number;
   private readonly taskInvCond: Float64Array;
   private readonly taskMargin: Float64Array;
+  private readonly taskSecond: Float64Array;
+  /** The second margin written by the last `assembledMargins` (joint ranges and assembly sign). */
+  private secondMargin = 0;
+  private nodeSecond = new Float64Array(0);
   /** Footprint of the design in hand, m (scales the reach margin). */
   private footprint = 1;
   private nodeValues = new Float64Array(0);
@@ -287,6 +291,7 @@ export class RegionMetrics {
     this.lattice = study.task.region ? taskLattice(study.task.region, study.evaluation.taskSamples) : null;
     this.taskInvCond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
     this.taskMargin = new Float64Array(this.lattice ? this.lattice.x.length : 0);
+    this.taskSecond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
     // One setting: absent (a fixed area grid) still refines averages and extremes to the default.
     this.tolerance = study.evaluation.tolerance ?? DEFAULT_EVALUATION_TOLERANCE;
   }
@@ -369,7 +374,8 @@ export class RegionMetrics {
       const status = this.solveValues(x, y);
       this.sampleBuiltArm(status);
       invCond[k] = status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition;
-      this.taskMargin[k] = this.assembledMargin(status);
+      this.taskMargin[k] = this.assembledMargins(status);
+      this.taskSecond[k] = this.secondMargin;
       let ok = region >= 0 && grid !== null && this.usable(status) >= 0 && grid.regionAt(x, y) === region;
       this.worst.fold(this.values, x, y, 0, POSE_QUANTITIES);
       if (orientation) {
@@ -396,6 +402,8 @@ export class RegionMetrics {
   private taskMean(lattice: TaskLattice, invCond: Float64Array): void {
     const nodes = lattice.nu * lattice.nv;
     const values = this.nodeBuffers(nodes);
+    if (this.nodeSecond.length < nodes) this.nodeSecond = new Float64Array(nodes);
+    const second = this.nodeSecond;
     const region = lattice.region;
     for (let k = 0; k < nodes; k++) {
       const j = Math.floor(k / lattice.nu);
@@ -406,31 +414,53 @@ export class RegionMetrics {
       if (sample >= 0) {
         f = invCond[sample]!;
         margin = this.taskMargin[sample]!;
+        second[k] = this.taskSecond[sample]!;
       } else {
         const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
         f = status === PoseStatus.Unreachable ? 0 : this.samplingPose.inverseCondition;
-        margin = this.assembledMargin(status, this.samplingPose);
+        margin = this.assembledMargins(status, this.samplingPose);
+        second[k] = this.secondMargin;
       }
       values[3 * k] = margin;
       values[3 * k + 1] = f * jacobian;
       values[3 * k + 2] = 1;
       this.nodeRefinable[k] = 1;
     }
-    if (this.smoothTaskMean(lattice, values, nodes)) return;
+    if (this.smoothTaskMean(lattice, values, second, nodes)) return;
+    // Split margins where the lattice holds a node that is not assembled: the reach part known
+    // everywhere, the joint and assembly part only where reached (regionQuadrature.ts). A lattice
+    // assembled at every node keeps the single margin, the smaller of both, and its values as before.
+    let split = false;
+    for (let k = 0; k < nodes && !split; k++) if (!(values[3 * k]! >= 0 && second[k]! >= 0)) split = true;
+    if (!split) for (let k = 0; k < nodes; k++) values[3 * k] = Math.min(values[3 * k]!, second[k]!);
     const field: LevelField = {
+      split,
+      rootEdge: this.reachIsSingular(),
       sample: (u, v, out) => {
         const jacobian = taskPoint(region, u, v, this.at);
         const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
         out[0] = (status === PoseStatus.Unreachable ? 0 : this.samplingPose.inverseCondition) * jacobian;
         out[1] = 1;
-        return this.assembledMargin(status, this.samplingPose);
+        const margin = this.assembledMargins(status, this.samplingPose);
+        out[2] = this.secondMargin;
+        return split || status === PoseStatus.Unreachable ? margin : Math.min(margin, this.secondMargin);
       },
     };
-    const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable };
+    const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable, second };
     // The area is exact here, but the error estimate may run a little low at edges: half the tolerance.
     const result = this.quadrature.integrate(nodeLattice, field, 0.5 * this.tolerance, 'all', 200 * nodes);
     this.gci = result.integral / lattice.area;
     this.gciError = result.integralError / lattice.area;
+  }
+
+  /**
+   * Whether every leg of the design is singular at the end of its reach (crank and rod, or slider and
+   * rod, in line: 1/κ falls as the square root of the reach margin there); a strut's reach ends at its
+   * stroke, where 1/κ need not vanish.
+   */
+  private reachIsSingular(): boolean {
+    const model = this.model!;
+    return isLegged(model) && model.legs.every((leg) => leg.name !== 'strut');
   }
 
   /**
@@ -440,14 +470,14 @@ export class RegionMetrics {
    * value) is within half the tolerance. False (nothing written) otherwise: an edge of the
    * assembled part or a sharp feature inside the region, left to the refined lattice quadrature.
    */
-  private smoothTaskMean(lattice: TaskLattice, values: Float64Array, nodes: number): boolean {
-    for (let k = 0; k < nodes; k++) if (!(values[3 * k]! >= 0)) return false;
+  private smoothTaskMean(lattice: TaskLattice, values: Float64Array, second: Float64Array, nodes: number): boolean {
+    for (let k = 0; k < nodes; k++) if (!(values[3 * k]! >= 0 && second[k]! >= 0)) return false;
     const region = lattice.region;
     const integrand = (u: number, v: number): number => {
       const jacobian = taskPoint(region, u, v, this.at);
       const pose = this.samplingPose;
       const status = this.architecture.solvePose(this.model!, pose, this.at[0]!, this.at[1]!, this.phi0);
-      if (status !== PoseStatus.Assembled || !(this.assembledMargin(status, pose) >= 0)) return Number.NaN;
+      if (status !== PoseStatus.Assembled || !(this.assembledMargins(status, pose) >= 0 && this.secondMargin >= 0)) return Number.NaN;
       return pose.inverseCondition * jacobian;
     };
     const low = tensorIntegral(SMOOTH_RULES[0], integrand);
@@ -466,17 +496,23 @@ export class RegionMetrics {
   }
 
   /**
-   * Signed margin of "assembled" at the pose just solved (≥ 0 where it is), continuous across the
-   * boundaries that end it: the reach margin over the footprint, the joint-range margin over its
-   * scale, and the mechanism sine times the assembly sign (det A changes sign between assemblies).
+   * Signed margins of "assembled" at the pose just solved, continuous across the boundaries that
+   * end it: returns the reach margin over the footprint (known everywhere; < 0 where a leg does not
+   * reach) and writes into `secondMargin` the smaller of the joint-range margin over its scale and
+   * the mechanism sine times the assembly sign (det A changes sign between assemblies); NaN where a
+   * leg does not reach. Both are ≥ 0 exactly where the pose is assembled.
    */
-  private assembledMargin(status: PoseStatus, pose: ArchitecturePose = this.pose): number {
+  private assembledMargins(status: PoseStatus, pose: ArchitecturePose = this.pose): number {
     const reach = pose.reachMargin / this.footprint;
-    if (status === PoseStatus.Unreachable) return Math.min(reach, -1e-300);
-    let m = Math.min(reach, pose.jointMargin / this.jointScale, this.model!.assembly * pose.mechanismSine);
-    if (status !== PoseStatus.Assembled && m >= 0) m = -1e-300;
-    if (status === PoseStatus.Assembled && m < 0) m = 0;
-    return m;
+    if (status === PoseStatus.Unreachable) {
+      this.secondMargin = Number.NaN;
+      return Math.min(reach, -1e-300);
+    }
+    let second = Math.min(pose.jointMargin / this.jointScale, this.model!.assembly * pose.mechanismSine);
+    if (status !== PoseStatus.Assembled && second >= 0) second = -1e-300;
+    if (status === PoseStatus.Assembled && second < 0) second = 0;
+    this.secondMargin = second;
+    return Math.max(reach, 0);
   }
 
   private nodeBuffers(nodes: number): Float64Array {

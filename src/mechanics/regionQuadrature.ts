@@ -11,6 +11,18 @@
  * outside the reach of the mechanism (the margin there is only a code), it is found by bisection
  * along the edge with the field itself.
  *
+ * A split field (`LevelField.split`) bounds its inside part by two margins: the first known
+ * everywhere (a mechanism's reach), the second only where the first is ≥ 0 (joint ranges, assembly
+ * sign: nothing to measure where a leg does not reach). Each triangle is cut by the first margin,
+ * then by the second, linear between the vertices of that polygon. Where the inside end of an edge
+ * fails the second margin, the field is solved at the first margin's crossing (its second margin and
+ * integrand there, not the outside end's code), and the second margin's zero next to it by regula
+ * falsi. So a thin part between the two
+ * boundaries is seen on the edges it crosses, even with no inside corner, and cells whose first
+ * margin changes sign are tested as well as those with an inside corner. Where the integrand falls as
+ * the square root of the first margin (`rootEdge`: a mechanism's leg at the end of its reach), it is
+ * taken as the square root of a linear function on the triangles near that edge (rootIntegral).
+ *
  * Adaptivity (classical local refinement): a candidate cell's rule is compared with the sum of its
  * four children's rules (five new points); when the difference exceeds the cell's share of the
  * error budget the children are refined in turn, each with a quarter of the share. The accepted
@@ -28,6 +40,17 @@ export interface LevelField {
    * continuous function at this point, 0 when it is only a code (nothing reachable there).
    */
   sample(u: number, v: number, out: Float64Array): number;
+  /**
+   * A split field: the inside part is {margin ≥ 0} ∩ {second ≥ 0}, with the margin continuous
+   * everywhere and `sample` writing the second margin into out[2] (NaN where the margin is < 0).
+   */
+  readonly split?: boolean;
+  /**
+   * A split field whose integrand falls to 0 as the square root of the first margin at its zero (a
+   * leg at the end of its reach is singular: 1/κ ∝ its transmission sine ∝ √margin): near that edge
+   * its triangles take rootIntegral's rule.
+   */
+  readonly rootEdge?: boolean;
 }
 
 /** Values at the nodes of a lattice: stride 3 per node (margin, integrand, continuous flag). */
@@ -42,6 +65,8 @@ export interface NodeLattice {
   readonly values: Float64Array;
   /** Per node: 0 when a cell at this node must not be refined (another region's node), else 1. */
   readonly refinable: Uint8Array;
+  /** Split fields: the second margin per node (NaN where the margin is < 0). */
+  readonly second?: Float64Array;
 }
 
 export interface RegionIntegral {
@@ -60,7 +85,18 @@ export interface RegionIntegral {
 const CACHE_BITS = 16;
 /** Bisection steps along an edge whose outer end is outside the reach (the crossing to 1/2⁸ of the edge). */
 const BISECTION_STEPS = 8;
-const STRIDE = 3;
+/** Solves per crossing of a split field's first margin (regula falsi towards a point with margin ≥ 0). */
+const CROSSING_SOLVES = 3;
+/** Solves per crossing of the second margin next to a solved crossing of the first (regula falsi). */
+const SECOND_SOLVES = 2;
+/** After a crossing solve that lands outside, the next one aims this fraction (of the distance from the inside end) short of the secant's root. */
+const CROSSING_PULLBACK = 2 ** -BISECTION_STEPS;
+/** Relative spread of squared values below which rootIntegral takes the edge-midpoint rule. */
+const ROOT_SPREAD = 1e-4;
+/** Per lattice node (NodeLattice.values): margin, integrand, continuous flag. */
+const NODE_STRIDE = 3;
+/** Per point: margin, integrand, continuous flag, second margin (+∞ for a field that is not split). */
+const STRIDE = 4;
 /** Per depth: 3 × 3 points. */
 const LEVEL = 9 * STRIDE;
 /** Slots of the corners of a 3 × 3 block. */
@@ -71,12 +107,19 @@ const RECORD = 16 + LEVEL;
 export class RegionQuadrature {
   readonly maxDepth: number;
   private readonly levels: Float64Array;
-  private readonly out = new Float64Array(2);
+  private readonly out = new Float64Array(3);
   private readonly childI: Float64Array;
   private readonly childA: Float64Array;
-  /** Polygon scratch: up to 4 vertices (u, v, f). */
-  private readonly poly = new Float64Array(12);
+  /** Polygon scratch: up to 5 vertices (u, v, f, second margin), and the second clip's output. */
+  private readonly poly = new Float64Array(20);
+  private readonly clipped = new Float64Array(20);
+  /** Per polygon vertex: 1 when it is a solved crossing of the first margin (the second margin is steep there). */
+  private readonly solvedVertex = new Uint8Array(5);
+  private readonly clippedSolved = new Uint8Array(5);
   private field: LevelField | null = null;
+  private splitField = false;
+  private rootEdge = false;
+  private second: Float64Array | null = null;
   private ruleIntegral = 0;
   private ruleArea = 0;
   private samples = 0;
@@ -110,6 +153,9 @@ export class RegionQuadrature {
    */
   integrate(lattice: NodeLattice, field: LevelField, tolerance: number, candidates: 'all' | 'boundary', sampleCap: number): RegionIntegral {
     this.field = field;
+    this.splitField = field.split === true;
+    this.rootEdge = this.splitField && field.rootEdge === true;
+    this.second = this.splitField ? lattice.second! : null;
     this.samples = 0;
     this.beginCache(lattice);
     this.sampleCap = sampleCap;
@@ -148,7 +194,7 @@ export class RegionQuadrature {
 
   /** Marks: 0 nothing inside, 1 counted by its rule only, 2 also tested by refinement. Returns the tested count. */
   private markCells(lattice: NodeLattice, candidates: 'all' | 'boundary'): number {
-    const { nu, nv, values, refinable } = lattice;
+    const { nu, nv, refinable } = lattice;
     const marks = this.cellMarks;
     const cu = nu - 1;
     marks.fill(0, 0, cu * (nv - 1));
@@ -156,11 +202,14 @@ export class RegionQuadrature {
       for (let i = 0; i + 1 < nu; i++) {
         const k = j * nu + i;
         let inside = 0;
-        if (values[k * STRIDE]! >= 0) inside++;
-        if (values[(k + 1) * STRIDE]! >= 0) inside++;
-        if (values[(k + nu) * STRIDE]! >= 0) inside++;
-        if (values[(k + nu + 1) * STRIDE]! >= 0) inside++;
-        if (inside === 0) continue;
+        let reached = 0;
+        for (let c = 0; c < 4; c++) {
+          const node = k + (c & 1) + (c >> 1) * nu;
+          if (this.nodeInside(lattice, node)) inside++;
+          if (lattice.values[node * NODE_STRIDE]! >= 0) reached++;
+        }
+        // A split field's cell whose first margin changes sign may hold a part between both boundaries.
+        if (inside === 0 && !(this.splitField && reached > 0 && reached < 4)) continue;
         marks[j * cu + i] = candidates === 'all' || inside < 4 ? 3 : 1;
       }
     }
@@ -196,6 +245,11 @@ export class RegionQuadrature {
     return count;
   }
 
+  /** Whether a lattice node is inside (both margins of a split field ≥ 0). */
+  private nodeInside(lattice: NodeLattice, node: number): boolean {
+    return lattice.values[node * NODE_STRIDE]! >= 0 && (this.second === null || this.second[node]! >= 0);
+  }
+
   /**
    * Error of the cells that are not tested: for 2 × 2 blocks of inside cells, the difference between
    * the rule on the block and on its four cells, divided by 3 (Richardson, O(h²) rule). A block whose
@@ -214,11 +268,11 @@ export class RegionQuadrature {
         for (let dj = 0; dj <= 2; dj++) {
           for (let di = 0; di <= 2; di++) {
             const w = (di === 1 ? 2 : 1) * (dj === 1 ? 2 : 1);
-            fine += w * values[((j + dj) * nu + i + di) * STRIDE + 1]!;
+            fine += w * values[((j + dj) * nu + i + di) * NODE_STRIDE + 1]!;
           }
         }
         fine *= area / 4;
-        const f = (di: number, dj: number): number => values[((j + dj) * nu + i + di) * STRIDE + 1]!;
+        const f = (di: number, dj: number): number => values[((j + dj) * nu + i + di) * NODE_STRIDE + 1]!;
         const coarse = area * (f(0, 0) + f(2, 0) + f(0, 2) + f(2, 2));
         const estimate = Math.abs(fine - coarse) / 3;
         if (estimate > 4 * cellBudget) continue;
@@ -239,9 +293,10 @@ export class RegionQuadrature {
     const { nu, values } = lattice;
     const base = d * LEVEL;
     const put = (slot: number, node: number): void => {
-      this.levels[base + slot * STRIDE] = values[node * STRIDE]!;
-      this.levels[base + slot * STRIDE + 1] = values[node * STRIDE + 1]!;
-      this.levels[base + slot * STRIDE + 2] = values[node * STRIDE + 2]!;
+      this.levels[base + slot * STRIDE] = values[node * NODE_STRIDE]!;
+      this.levels[base + slot * STRIDE + 1] = values[node * NODE_STRIDE + 1]!;
+      this.levels[base + slot * STRIDE + 2] = values[node * NODE_STRIDE + 2]!;
+      this.levels[base + slot * STRIDE + 3] = this.second === null ? Infinity : this.second[node]!;
     };
     const k = j * nu + i;
     put(0, k);
@@ -281,6 +336,7 @@ export class RegionQuadrature {
     this.levels[offset] = m;
     this.levels[offset + 1] = this.out[0]!;
     this.levels[offset + 2] = this.out[1]!;
+    this.levels[offset + 3] = this.splitField ? this.out[2]! : Infinity;
   }
 
   /** Solved points by their place on the finest lattice, valid for one integrate call: STRIDE values per slot. */
@@ -486,14 +542,17 @@ export class RegionQuadrature {
     const p01 = at + up * STRIDE;
     const p11 = p01 + right * STRIDE;
     const L = this.levels;
-    const inside = (p: number): boolean => L[p]! >= 0;
+    const inside = (p: number): boolean => L[p]! >= 0 && L[p + 3]! >= 0;
     const a = inside(p00), b = inside(p10), c = inside(p01), e = inside(p11);
-    if (a && b && c && e) {
+    // A split field's cell near the edge of reach goes through the triangles even when inside.
+    if (a && b && c && e && !(this.rootEdge && nearReach(L[p00]!, L[p10]!, L[p01]!, L[p11]!))) {
       this.ruleIntegral = 0.25 * hu * hv * (L[p00 + 1]! + L[p10 + 1]! + L[p01 + 1]! + L[p11 + 1]!);
       this.ruleArea = hu * hv;
       return;
     }
-    if (!a && !b && !c && !e) {
+    // No inside corner: nothing inside, unless a split field's first margin changes sign in the cell.
+    const reached = (L[p00]! >= 0 ? 1 : 0) + (L[p10]! >= 0 ? 1 : 0) + (L[p01]! >= 0 ? 1 : 0) + (L[p11]! >= 0 ? 1 : 0);
+    if (!a && !b && !c && !e && !(this.splitField && reached > 0 && reached < 4)) {
       this.ruleIntegral = 0;
       this.ruleArea = 0;
       return;
@@ -508,25 +567,93 @@ export class RegionQuadrature {
     this.ruleArea += area;
   }
 
-  /** Inside part of one triangle (vertices with their block offsets), exact for linear margin and integrand. */
+  /**
+   * Inside part of one triangle (vertices with their block offsets), exact for linear margins and
+   * integrand: cut by the margin, then (split fields) by the second margin.
+   */
   private triangle(u1: number, v1: number, p1: number, u2: number, v2: number, p2: number, u3: number, v3: number, p3: number): void {
     let n = this.edge(u1, v1, p1, u2, v2, p2, 0);
     n = this.edge(u2, v2, p2, u3, v3, p3, n);
     n = this.edge(u3, v3, p3, u1, v1, p1, n);
+    // The square-root rule where the first margin (reach) extrapolates to zero within the triangle.
+    const root = this.rootEdge && nearReach(this.levels[p1]!, this.levels[p2]!, this.levels[p3]!, this.levels[p3]!);
+    if (this.splitField) n = this.clipSecond(n, root);
     const poly = this.poly;
     let integral = 0;
     let area = 0;
     for (let k = 1; k + 1 < n; k++) {
-      const ax = poly[3 * k]! - poly[0]!;
-      const ay = poly[3 * k + 1]! - poly[1]!;
-      const bx = poly[3 * k + 3]! - poly[0]!;
-      const by = poly[3 * k + 4]! - poly[1]!;
+      const ax = poly[4 * k]! - poly[0]!;
+      const ay = poly[4 * k + 1]! - poly[1]!;
+      const bx = poly[4 * k + 4]! - poly[0]!;
+      const by = poly[4 * k + 5]! - poly[1]!;
       const t = 0.5 * Math.abs(ax * by - ay * bx);
       area += t;
-      integral += (t * (poly[2]! + poly[3 * k + 2]! + poly[3 * k + 5]!)) / 3;
+      if (root) integral += rootIntegral(t, poly[2]!, poly[4 * k + 2]!, poly[4 * k + 6]!);
+      else integral += (t * (poly[2]! + poly[4 * k + 2]! + poly[4 * k + 6]!)) / 3;
     }
     this.ruleIntegral = integral;
     this.ruleArea = area;
+  }
+
+  /**
+   * The part of the polygon's `n` vertices (u, v, f, second) where the second margin is ≥ 0, the
+   * margin and the integrand (its square with `root`) linear along its edges (Sutherland–Hodgman
+   * against one level line); next to a solved crossing of the first margin, the zero is solved
+   * (secondRoot).
+   * Written back into the polygon; returns its vertex count (at most n + 1: a convex polygon).
+   */
+  private clipSecond(n: number, root: boolean): number {
+    const poly = this.poly;
+    const out = this.clipped;
+    let m = 0;
+    for (let k = 0; k < n; k++) {
+      const a = 4 * k;
+      const b = 4 * ((k + 1) % n);
+      const sa = poly[a + 3]!;
+      const sb = poly[b + 3]!;
+      if (sa >= 0) {
+        for (let c = 0; c < 4; c++) out[4 * m + c] = poly[a + c]!;
+        this.clippedSolved[m] = this.solvedVertex[k]!;
+        m++;
+      }
+      if (sa >= 0 !== sb >= 0) {
+        const steep = this.solvedVertex[k]! === 1 || this.solvedVertex[(k + 1) % n]! === 1;
+        const t = steep ? (sa >= 0 ? this.secondRoot(a, b, sa, sb) : 1 - this.secondRoot(b, a, sb, sa)) : sa / (sa - sb);
+        this.clippedSolved[m] = 0;
+        for (let c = 0; c < 2; c++) out[4 * m + c] = poly[a + c]! + t * (poly[b + c]! - poly[a + c]!);
+        const fa = poly[a + 2]!;
+        const fb = poly[b + 2]!;
+        out[4 * m + 2] = root ? Math.sqrt(Math.max(fa * fa + t * (fb * fb - fa * fa), 0)) : fa + t * (fb - fa);
+        out[4 * m + 3] = 0;
+        m++;
+      }
+    }
+    for (let k = 0; k < 4 * m; k++) poly[k] = out[k]!;
+    for (let k = 0; k < m; k++) this.solvedVertex[k] = this.clippedSolved[k]!;
+    return m;
+  }
+
+  /**
+   * Where the second margin is zero on the polygon edge from vertex offset `a` (second margin
+   * sa ≥ 0) to `b` (sb < 0), as a fraction of the edge: regula falsi with the field, SECOND_SOLVES
+   * solves at most (the joint margin rises as a square root towards a leg's reach boundary, so the
+   * chord from a crossing there misplaces the zero).
+   */
+  private secondRoot(a: number, b: number, sa: number, sb: number): number {
+    const poly = this.poly;
+    let lo = 0;
+    let hi = 1;
+    let sLo = sa;
+    let sHi = sb;
+    for (let k = 0; k < SECOND_SOLVES && this.samples < this.sampleCap; k++) {
+      const t = lo + ((hi - lo) * sLo) / (sLo - sHi);
+      const m = this.field!.sample(poly[a]! + t * (poly[b]! - poly[a]!), poly[a + 1]! + t * (poly[b + 1]! - poly[a + 1]!), this.out);
+      this.samples++;
+      const second = this.out[2]!;
+      if (!(m >= 0) || !Number.isFinite(second)) break;
+      if (second >= 0) { lo = t; sLo = second; } else { hi = t; sHi = second; }
+    }
+    return lo + ((hi - lo) * sLo) / (sLo - sHi);
   }
 
   /** Walks one edge a → b of a triangle: adds a when inside, then the crossing when the sign changes. Returns the vertex count. */
@@ -536,20 +663,23 @@ export class RegionQuadrature {
     const ina = L[pa]! >= 0;
     const inb = L[pb]! >= 0;
     if (ina) {
-      poly[3 * n] = ua;
-      poly[3 * n + 1] = va;
-      poly[3 * n + 2] = L[pa + 1]!;
+      poly[4 * n] = ua;
+      poly[4 * n + 1] = va;
+      poly[4 * n + 2] = L[pa + 1]!;
+      poly[4 * n + 3] = L[pa + 3]!;
+      this.solvedVertex[n] = 0;
       n++;
     }
     if (ina !== inb) {
-      if (ina) this.crossing(pa, pb, ua, va, ub, vb, 3 * n);
-      else this.crossing(pb, pa, ub, vb, ua, va, 3 * n);
+      this.solvedVertex[n] = 0;
+      if (ina) this.crossing(pa, pb, ua, va, ub, vb, 4 * n);
+      else this.crossing(pb, pa, ub, vb, ua, va, 4 * n);
       n++;
     }
     return n;
   }
 
-  /** Zero crossing of the margin on the edge from an inside point to an outside one: (u, v, f) into poly at `slot`. */
+  /** Zero crossing of the margin on the edge from an inside point to an outside one: (u, v, f, second) into poly at `slot`. */
   private crossing(pin: number, pout: number, uin: number, vin: number, uout: number, vout: number, slot: number): void {
     const L = this.levels;
     const poly = this.poly;
@@ -557,6 +687,14 @@ export class RegionQuadrature {
     const mOut = L[pout]!;
     const fIn = L[pin + 1]!;
     const fOut = L[pout + 1]!;
+    // A split field's second margin at a crossing the field is not asked about: the inside end's.
+    poly[slot + 3] = L[pin + 3]!;
+    // Only where the inside end fails the second margin is the crossing's own second margin needed:
+    // a part between both boundaries may lie on the edge (elsewhere the inside end's is kept).
+    if (this.splitField && !(L[pin + 3]! >= 0)) {
+      this.solvedCrossing(pin, pout, uin, vin, uout, vout, slot);
+      return;
+    }
     if (L[pin + 2]! > 0 && L[pout + 2]! > 0) {
       const t = mIn / (mIn - mOut);
       poly[slot] = uin + t * (uout - uin);
@@ -584,4 +722,74 @@ export class RegionQuadrature {
     poly[slot + 1] = vin + t * (vout - vin);
     poly[slot + 2] = f;
   }
+
+  /**
+   * A split field's crossing of its (continuous) first margin: the point where the margin,
+   * interpolated linearly, is zero is solved, so that the second margin and the integrand there are
+   * the field's own (not the outside end's code); when the solve lands outside (margin < 0), a secant
+   * step moves in from there, CROSSING_SOLVES solves at most (then the inside end's values are kept).
+   */
+  private solvedCrossing(pin: number, pout: number, uin: number, vin: number, uout: number, vout: number, slot: number): void {
+    const L = this.levels;
+    const poly = this.poly;
+    const mIn = L[pin]!;
+    let hi = 1;
+    let mHi = L[pout]!;
+    let f = L[pin + 1]!;
+    let second = L[pin + 3]!;
+    let t = mIn / (mIn - mHi);
+    for (let k = 0; k < CROSSING_SOLVES && this.samples < this.sampleCap; k++) {
+      const m = this.field!.sample(uin + t * (uout - uin), vin + t * (vout - vin), this.out);
+      this.samples++;
+      if (m >= 0) {
+        f = this.out[0]!;
+        second = this.out[2]!;
+        break;
+      }
+      hi = t;
+      mHi = m;
+      // The secant's root, moved in by the bisection's resolution: a root landing on the outside
+      // (a convex margin) would be met again and again by regula falsi.
+      t = ((hi * mIn) / (mIn - mHi)) * (1 - CROSSING_PULLBACK);
+    }
+    poly[slot] = uin + t * (uout - uin);
+    poly[slot + 1] = vin + t * (vout - vin);
+    poly[slot + 2] = f;
+    poly[slot + 3] = second;
+    this.solvedVertex[slot >> 2] = 1;
+  }
+}
+
+/**
+ * ∫ √L over a triangle of area `area` where L is linear with the vertex values f1², f2², f3² (the
+ * integrand f interpolated as the square root of a linear function: exact where f falls as the
+ * square root of the distance to an edge, a leg singularity, and second order elsewhere). By the
+ * divided-difference form of the integral of a function of a linear one over a triangle,
+ * 2·area·G[a, b, c] with G(x) = (4/15) x^(5/2) (G'' = √x); the edge-midpoint rule where the values
+ * are too close for the differences.
+ */
+function rootIntegral(area: number, f1: number, f2: number, f3: number): number {
+  let a = f1 * f1;
+  let b = f2 * f2;
+  let c = f3 * f3;
+  if (a > b) { const s = a; a = b; b = s; }
+  if (b > c) { const s = b; b = c; c = s; }
+  if (a > b) { const s = a; a = b; b = s; }
+  const spread = c - a;
+  if (!(spread > ROOT_SPREAD * c)) return (area * (Math.sqrt(0.5 * (a + b)) + Math.sqrt(0.5 * (b + c)) + Math.sqrt(0.5 * (a + c)))) / 3;
+  const g = (x: number): number => (4 / 15) * x * x * Math.sqrt(x);
+  const slope = (x: number, y: number): number => (y - x > ROOT_SPREAD * spread ? (g(y) - g(x)) / (y - x) : (2 / 3) * Math.sqrt(0.5 * (x + y)) ** 3);
+  return (2 * area * (slope(b, c) - slope(a, b))) / spread;
+}
+
+/**
+ * Whether the first margin, linear over a triangle or cell with these corner values, reaches zero
+ * within about its own size (its smallest value not above its spread): there 1/κ may fall as the
+ * square root of the distance to a leg's reach boundary, and rootIntegral's rule is taken; farther in,
+ * the linear one (the square root of a linear function is concave, which the linear rule is not
+ * biased by where the integrand is smooth).
+ */
+function nearReach(m1: number, m2: number, m3: number, m4: number): boolean {
+  const low = Math.min(m1, m2, m3, m4);
+  return low <= Math.max(m1, m2, m3, m4) - low;
 }

@@ -460,7 +460,7 @@ export class RegionMetrics {
    */
   private reachIsSingular(): boolean {
     const model = this.model!;
-    return isLegged(model) && model.legs.every((leg) => leg.name !== 'strut');
+    return isLegged(model) && model.legs.every((leg) => leg.singularAtReach);
   }
 
   /**

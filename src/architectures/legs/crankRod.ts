@@ -17,6 +17,8 @@ export const JOINT_FAR = 1;
 export const crankRod: LegKind = {
   name: 'crank-rod',
   actuator: 'revolute',
+  // Crank and rod in line at both edges of the reach annulus.
+  singularAtReach: true,
 
   lump(leg: LegGeometry, input: LegInput): LegLumped {
     const p = leg.crank ?? 0;

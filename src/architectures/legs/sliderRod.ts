@@ -13,6 +13,8 @@ import type { LegBody, LegGeometry, LegInput, LegKind, LegLumped, LegModelView }
 export const sliderRod: LegKind = {
   name: 'slider-rod',
   actuator: 'prismatic',
+  // The rod perpendicular to the rail where its reach ends (the slider's motion then moves B_i not at all along the rod).
+  singularAtReach: true,
 
   lump(leg: LegGeometry, input: LegInput): LegLumped {
     const rodSection = input.rodSection;

@@ -19,6 +19,8 @@ import type { LegBody, LegGeometry, LegInput, LegKind, LegLumped, LegModelView }
 export const strut: LegKind = {
   name: 'strut',
   actuator: 'prismatic',
+  // Its reach ends at the stroke's limits, where 1/κ need not vanish.
+  singularAtReach: false,
 
   lump(_leg: LegGeometry, input: LegInput): LegLumped {
     const h = input.jointLimit ? input.jointLimit.min : 0;

@@ -101,6 +101,12 @@ export interface LegKind {
   /** The kind's name; the cut-open chain of forward simulation (src/simulate/legChain.ts) dispatches on it. */
   readonly name: 'crank-rod' | 'slider-rod' | 'strut';
   readonly actuator: ActuatorKind;
+  /**
+   * Whether the leg is singular where its reach ends (its links in line there, so 1/κ falls as the
+   * square root of the reach margin near that edge): the task-region quadrature's square-root rule
+   * (regionQuadrature.ts) applies at that edge only when every leg says so.
+   */
+  readonly singularAtReach: boolean;
   lump(geometry: LegGeometry, input: LegInput): LegLumped;
   /**
    * Inverse kinematics of leg i to its distal joint B_i, read from pose.distalJoint[2i, 2i + 1]

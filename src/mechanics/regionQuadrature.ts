@@ -764,7 +764,8 @@ export class RegionQuadrature {
  * ∫ √L over a triangle of area `area` where L is linear with the vertex values f1², f2², f3² (the
  * integrand f interpolated as the square root of a linear function: exact where f falls as the
  * square root of the distance to an edge, a leg singularity, and second order elsewhere). By the
- * divided-difference form of the integral of a function of a linear one over a triangle,
+ * divided-difference form of the integral of a function of a linear one over a triangle (the
+ * Hermite–Genocchi formula; from memory),
  * 2·area·G[a, b, c] with G(x) = (4/15) x^(5/2) (G'' = √x); the edge-midpoint rule where the values
  * are too close for the differences.
  */

@@ -233,6 +233,29 @@ export class PointBuckets {
     this.ring0 = ci >= 0 && cj >= 0 && ci < nx && cj < ny ? this.empty[cj * nx + ci]! : 0;
   }
 
+  /** The occupied cells of one ring (ringCells), reused. */
+  private ring = new Int32Array(0);
+
+  /**
+   * Writes the cells of ring r about the last `locate`'s cell that lie in the grid and hold a point
+   * into `ring`, row by row; returns their count.
+   */
+  private ringCells(r: number): number {
+    const { nx, ny, ci, cj, start } = this;
+    if (this.ring.length < 8 * r + 1) this.ring = new Int32Array(Math.max(8 * r + 1, 2 * this.ring.length));
+    const ring = this.ring;
+    let count = 0;
+    for (let j = Math.max(cj - r, 0); j <= Math.min(cj + r, ny - 1); j++) {
+      const onRow = j === cj - r || j === cj + r;
+      for (let i = ci - r; i <= ci + r; i += onRow || r === 0 ? 1 : 2 * r) {
+        if (i < 0 || i >= nx) continue;
+        const c = j * nx + i;
+        if (start[c + 1] !== start[c]) ring[count++] = c;
+      }
+    }
+    return count;
+  }
+
   private cellOf(x: number, y: number): number {
     const i = Math.min(Math.max(Math.floor((x - this.x0) / this.h), 0), this.nx - 1);
     const j = Math.min(Math.max(Math.floor((y - this.y0) / this.h), 0), this.ny - 1);
@@ -241,30 +264,29 @@ export class PointBuckets {
 
   /** Index of the point nearest to (x, y), −1 without points; its squared distance in nearestSq. */
   nearest(x: number, y: number): number {
-    const { nx, ny, h, points, start, order } = this;
+    const { nx, h, points, start, order } = this;
     this.locate(x, y);
-    const { ci, cj, edge, rings } = this;
+    const { edge, rings } = this;
     let bestSq = Infinity;
     let best = -1;
     for (let r = this.ring0; r <= rings; r++) {
       const reach = r === 0 ? 0 : (r - 1) * h + edge;
       if (reach * reach > bestSq) break;
-      for (let j = Math.max(cj - r, 0); j <= Math.min(cj + r, ny - 1); j++) {
-        const onRow = j === cj - r || j === cj + r;
-        for (let i = ci - r; i <= ci + r; i += onRow || r === 0 ? 1 : 2 * r) {
-          if (i < 0 || i >= nx) continue;
-          const c = j * nx + i;
-          if (start[c + 1] === start[c]) continue;
-          const ox = Math.max(this.x0 + i * h - x, x - this.x0 - (i + 1) * h, 0);
-          const oy = Math.max(this.y0 + j * h - y, y - this.y0 - (j + 1) * h, 0);
-          if (ox * ox + oy * oy > bestSq) continue;
-          for (let s = start[c]!; s < start[c + 1]!; s++) {
-            const p = order[s]!;
-            const dx = points[2 * p]! - x;
-            const dy = points[2 * p + 1]! - y;
-            const d = dx * dx + dy * dy;
-            if (d < bestSq || (d === bestSq && p < best)) { bestSq = d; best = p; }
-          }
+      const cells = this.ringCells(r);
+      const ring = this.ring;
+      for (let k = 0; k < cells; k++) {
+        const c = ring[k]!;
+        const i = c % nx;
+        const j = (c - i) / nx;
+        const ox = Math.max(this.x0 + i * h - x, x - this.x0 - (i + 1) * h, 0);
+        const oy = Math.max(this.y0 + j * h - y, y - this.y0 - (j + 1) * h, 0);
+        if (ox * ox + oy * oy > bestSq) continue;
+        for (let s = start[c]!; s < start[c + 1]!; s++) {
+          const p = order[s]!;
+          const dx = points[2 * p]! - x;
+          const dy = points[2 * p + 1]! - y;
+          const d = dx * dx + dy * dy;
+          if (d < bestSq || (d === bestSq && p < best)) { bestSq = d; best = p; }
         }
       }
     }
@@ -281,7 +303,7 @@ export class PointBuckets {
    * its largest denominator exceeds the best t, or when no point of it lies ahead of p₁ along g.
    */
   firstAlong(cx: number, cy: number, gx: number, gy: number, p1: number, skip: number): number {
-    const { nx, ny, h, points, start, order } = this;
+    const { nx, h, points, start, order } = this;
     const ax = points[2 * p1]!;
     const ay = points[2 * p1 + 1]!;
     const d1 = (cx - ax) * (cx - ax) + (cy - ay) * (cy - ay);
@@ -289,7 +311,7 @@ export class PointBuckets {
     const sx = skip >= 0 ? points[2 * skip]! : Number.NaN;
     const sy = skip >= 0 ? points[2 * skip + 1]! : Number.NaN;
     this.locate(cx, cy);
-    const { ci, cj, edge, rings } = this;
+    const { edge, rings } = this;
     // Half the spread of g·q over a cell.
     const spread = 0.5 * h * (Math.abs(gx) + Math.abs(gy));
     let best = Infinity;
@@ -297,32 +319,31 @@ export class PointBuckets {
     for (let r = this.ring0; r <= rings; r++) {
       const reach = r === 0 ? 0 : (r - 1) * h + edge;
       if (reach - r1 > 2 * best) break;
-      for (let j = Math.max(cj - r, 0); j <= Math.min(cj + r, ny - 1); j++) {
-        const onRow = j === cj - r || j === cj + r;
-        for (let i = ci - r; i <= ci + r; i += onRow || r === 0 ? 1 : 2 * r) {
-          if (i < 0 || i >= nx) continue;
-          const c = j * nx + i;
-          if (start[c + 1] === start[c]) continue;
-          // The cell's bound: its largest denominator and its nearest distance from c.
-          const xa = this.x0 + i * h;
-          const ya = this.y0 + j * h;
-          const most = 2 * (gx * (xa + 0.5 * h - ax) + gy * (ya + 0.5 * h - ay) + spread);
-          if (!(most > 0)) continue;
-          const ox = Math.max(xa - cx, cx - xa - h, 0);
-          const oy = Math.max(ya - cy, cy - ya - h, 0);
-          if ((ox * ox + oy * oy - d1) / most > best) continue;
-          for (let s = start[c]!; s < start[c + 1]!; s++) {
-            const q = order[s]!;
-            const qx = points[2 * q]!;
-            const qy = points[2 * q + 1]!;
-            // A copy of an active point (neighbouring cells write their shared crossing each) is that point.
-            if ((qx === ax && qy === ay) || (qx === sx && qy === sy)) continue;
-            const denominator = 2 * (gx * (qx - ax) + gy * (qy - ay));
-            if (!(denominator > 0)) continue;
-            const dq = (cx - qx) * (cx - qx) + (cy - qy) * (cy - qy);
-            const t = Math.max(dq - d1, 0) / denominator;
-            if (t < best || (t === best && q < hit)) { best = t; hit = q; }
-          }
+      const cells = this.ringCells(r);
+      const ring = this.ring;
+      for (let k = 0; k < cells; k++) {
+        const c = ring[k]!;
+        const i = c % nx;
+        const j = (c - i) / nx;
+        // The cell's bound: its largest denominator and its nearest distance from c.
+        const xa = this.x0 + i * h;
+        const ya = this.y0 + j * h;
+        const most = 2 * (gx * (xa + 0.5 * h - ax) + gy * (ya + 0.5 * h - ay) + spread);
+        if (!(most > 0)) continue;
+        const ox = Math.max(xa - cx, cx - xa - h, 0);
+        const oy = Math.max(ya - cy, cy - ya - h, 0);
+        if ((ox * ox + oy * oy - d1) / most > best) continue;
+        for (let s = start[c]!; s < start[c + 1]!; s++) {
+          const q = order[s]!;
+          const qx = points[2 * q]!;
+          const qy = points[2 * q + 1]!;
+          // A copy of an active point (neighbouring cells write their shared crossing each) is that point.
+          if ((qx === ax && qy === ay) || (qx === sx && qy === sy)) continue;
+          const denominator = 2 * (gx * (qx - ax) + gy * (qy - ay));
+          if (!(denominator > 0)) continue;
+          const dq = (cx - qx) * (cx - qx) + (cy - qy) * (cy - qy);
+          const t = Math.max(dq - d1, 0) / denominator;
+          if (t < best || (t === best && q < hit)) { best = t; hit = q; }
         }
       }
     }

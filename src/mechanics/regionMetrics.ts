@@ -280,7 +280,7 @@ export class RegionMetrics {
     builtArm: BuiltArmChecks | null = null,
   ) {
     this.study = study;
-    this.orientationScan = { step: study.orientation?.step, tolerance: 1e-7, accept: (p, status) => this.scanRule!.margin(p, status) >= 0 };
+    this.orientationScan = { step: study.orientation?.step, tolerance: 1e-7, margin: (p, status) => this.scanRule!.margin(p, status) };
     this.builtArm = builtArm;
     this.usable = usable ?? ((status) => architectureUsableMargin(this.pose, status, this.study, this.jointScale));
     this.architecture = architecture;
@@ -346,7 +346,7 @@ export class RegionMetrics {
     this.values[Q.orientationRange] = rangeWidthAt(this.ranges, count, orientation.phi0);
   }
 
-  /** Orientation scan settings: the study's step, bisection to 1e-7 rad, usable poses (the study's rule). */
+  /** Orientation scan settings: the study's step, boundaries to 1e-7 rad by regula falsi on the usability margin (the study's rule). */
   private readonly orientationScan: OrientationScanOptions;
   /** The study's usability rule for the design in hand (the orientation scans' acceptance; the same values as usabilityMargin). */
   private scanRule: UsabilityRule | null = null;

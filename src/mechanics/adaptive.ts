@@ -61,6 +61,10 @@ const HOP_X = Float64Array.from({ length: 8 }, (_, k) => Math.cos((k * Math.PI) 
 const HOP_Y = Float64Array.from({ length: 8 }, (_, k) => Math.sin((k * Math.PI) / 4));
 /** Ascents per inscribed radius (from the starts nearest to the best). */
 const SEARCHES = 8;
+/** Repairs of an inscribed circle against the field (repairCircle): rounds, probes on the circle, points it rests on at most. */
+const REPAIR_ROUNDS = 3;
+const REPAIR_PROBES = 24;
+const MAX_CONTACTS = 16;
 const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
 const MAX_PROBES = 64;
 
@@ -495,7 +499,6 @@ export class AdaptiveArea {
       }
     }
     // Exact distances of the starts; only those within half a cell of the best are searched from,
-    let best = 0;
     let first = 0;
     for (let s = 0; s < starts.length && starts[s]! >= 0; s++) {
       const k = starts[s]!;
@@ -503,6 +506,7 @@ export class AdaptiveArea {
       if (scores[s]! > first) first = scores[s]!;
     }
     // At most the SEARCHES best of them, in order of their distance.
+    let climbs = 0;
     for (let searched = 0; searched < SEARCHES; searched++) {
       let pick = -1;
       for (let s = 0; s < starts.length && starts[s]! >= 0; s++) {
@@ -520,9 +524,155 @@ export class AdaptiveArea {
       this.searchedFrom[searched] = k;
       if (near) continue;
       const value = this.climb(grid.x0 + (k % nx) * h, grid.y0 + Math.floor(k / nx) * h, h);
+      this.climbX[climbs] = this.circle.x;
+      this.climbY[climbs] = this.circle.y;
+      this.climbR[climbs] = value;
+      climbs++;
+    }
+    return this.repairBest(climbs, h);
+  }
+
+  /**
+   * The largest of the ascents' circles, checked against the field itself: the boundary points are
+   * crossings and points of fitted parabolas, and where a cell holds a kink of the boundary a
+   * parabola point can lie well inside the region (the circle then stops short) or outside it (the
+   * circle pokes out). So the best circle is repaired (repairCircle) and climbed again; while another
+   * ascent's unrepaired radius exceeds the best repaired one, that one is repaired too.
+   */
+  private repairBest(climbs: number, h: number): number {
+    let best = 0;
+    for (;;) {
+      let pick = -1;
+      for (let c = 0; c < climbs; c++) {
+        if (this.climbR[c]! > best && (pick < 0 || this.climbR[c]! > this.climbR[pick]!)) pick = c;
+      }
+      if (pick < 0) return best;
+      const value = this.repairCircle(this.climbX[pick]!, this.climbY[pick]!, this.climbR[pick]!, h);
+      this.climbR[pick] = -1;
       if (value > best) best = value;
     }
-    return best;
+  }
+
+  /**
+   * Up to REPAIR_ROUNDS times: each point the circle rests on that lies inside the region is moved
+   * out to the boundary along the ray from the centre, and the field is sampled at REPAIR_PROBES
+   * points just inside the circle, where any that lies outside the region adds the boundary's point on
+   * its ray; after a change the ascent is run again from the centre. Returns the radius (m).
+   */
+  private repairCircle(x: number, y: number, radius: number, h: number): number {
+    let cx = x;
+    let cy = y;
+    let r = radius;
+    const circle = this.circle;
+    for (let round = 0; round < REPAIR_ROUNDS; round++) {
+      let changed = false;
+      const inside = this.sampleAt(cx, cy);
+      if (!(inside >= 0)) return r;
+      // Points the circle rests on: those within a hair of its radius.
+      const points = this.boundary;
+      const count = this.contacts(cx, cy, r);
+      for (let c = 0; c < count; c++) {
+        const p = this.contactList[c]!;
+        const dx = points[2 * p]! - cx;
+        const dy = points[2 * p + 1]! - cy;
+        const d = Math.hypot(dx, dy);
+        if (!(d > 0) || !(this.sampleAt(points[2 * p]!, points[2 * p + 1]!) > 0)) continue;
+        // Inside: the boundary lies farther out along the ray.
+        const t = this.rayBoundary(cx, cy, dx / d, dy / d, d, 0.25 * h);
+        if (t > d * (1 + 1e-6)) {
+          points[2 * p] = cx + (t * dx) / d;
+          points[2 * p + 1] = cy + (t * dy) / d;
+          changed = true;
+        }
+      }
+      for (let q = 0; q < REPAIR_PROBES; q++) {
+        const ux = Math.cos((2 * Math.PI * q) / REPAIR_PROBES);
+        const uy = Math.sin((2 * Math.PI * q) / REPAIR_PROBES);
+        const rp = r * (1 - 1e-4);
+        if (this.sampleAt(cx + rp * ux, cy + rp * uy) >= 0) continue;
+        const t = this.rayBoundary(cx, cy, ux, uy, 0, rp);
+        this.pushBoundary(cx + t * ux, cy + t * uy);
+        changed = true;
+      }
+      if (!changed) return r;
+      const grid = this.grid!;
+      this.buckets.build(this.boundary, this.boundaryCount, grid.x0, grid.y0, grid.h, grid.nx, grid.ny);
+      r = this.climb(cx, cy, h);
+      cx = circle.x;
+      cy = circle.y;
+    }
+    return r;
+  }
+
+  /** Indices of the boundary points within a hair (1e-6 relative) of radius r from (cx, cy) into contactList (at most MAX_CONTACTS); their count. */
+  private contacts(cx: number, cy: number, r: number): number {
+    const points = this.boundary;
+    const reach = r * (1 + 1e-6);
+    const reachSq = reach * reach;
+    let count = 0;
+    for (let p = 0; p < this.boundaryCount && count < MAX_CONTACTS; p++) {
+      const dx = points[2 * p]! - cx;
+      const dy = points[2 * p + 1]! - cy;
+      if (dx * dx + dy * dy <= reachSq) this.contactList[count++] = p;
+    }
+    return count;
+  }
+
+  /** The usability margin at a point (sampled, counted; not cached). */
+  private sampleAt(x: number, y: number): number {
+    this.subsamples++;
+    this.sampler!(x, y, this.point);
+    return this.point[0]!;
+  }
+
+  /**
+   * The boundary's distance (m) along the ray from (cx, cy) in unit direction (ux, uy): the field is
+   * ≥ 0 at distance t0; from there, outwards in steps of `span` (doubling, at most 6) until it is
+   * negative, then regula falsi (Illinois) to 1e-4 of the bracket. The point stays inside the grid.
+   */
+  private rayBoundary(cx: number, cy: number, ux: number, uy: number, t0: number, span: number): number {
+    const grid = this.grid!;
+    const xMax = grid.x0 + (grid.nx - 1) * grid.h;
+    const yMax = grid.y0 + (grid.ny - 1) * grid.h;
+    // Largest t that keeps the point inside the grid.
+    let limit = Infinity;
+    if (ux > 0) limit = Math.min(limit, (xMax - cx) / ux);
+    if (ux < 0) limit = Math.min(limit, (grid.x0 - cx) / ux);
+    if (uy > 0) limit = Math.min(limit, (yMax - cy) / uy);
+    if (uy < 0) limit = Math.min(limit, (grid.y0 - cy) / uy);
+    let a = t0;
+    let fa = this.sampleAt(cx + a * ux, cy + a * uy);
+    let b = Math.min(t0 + span, limit);
+    let fb = this.sampleAt(cx + b * ux, cy + b * uy);
+    for (let grow = 0; fb >= 0 && grow < 6 && b < limit; grow++) {
+      a = b;
+      fa = fb;
+      span *= 2;
+      b = Math.min(b + span, limit);
+      fb = this.sampleAt(cx + b * ux, cy + b * uy);
+    }
+    if (fb >= 0 || !(fa >= 0)) return fb >= 0 ? b : a;
+    const tolerance = 1e-4 * (b - a);
+    let side = 0;
+    for (let step = 0; step < 12 && b - a > tolerance; step++) {
+      const t = fa > 0 || fb < 0 ? (a * fb - b * fa) / (fb - fa) : 0.5 * (a + b);
+      const m = t > a && t < b ? t : 0.5 * (a + b);
+      const f = this.sampleAt(cx + m * ux, cy + m * uy);
+      if (f >= 0) {
+        a = m;
+        fa = f;
+        if (side === 1) fb *= 0.5;
+        side = 1;
+      } else {
+        b = m;
+        fb = f;
+        if (side === -1) fa *= 0.5;
+        side = -1;
+      }
+      if (Math.abs(b - a) <= tolerance) break;
+    }
+    // The outside end of the bracket: a point on or just beyond the boundary.
+    return b;
   }
 
   /**
@@ -558,6 +708,10 @@ export class AdaptiveArea {
   }
 
   private readonly circle = new EmptyCircle();
+  private readonly climbX = new Float64Array(SEARCHES);
+  private readonly climbY = new Float64Array(SEARCHES);
+  private readonly climbR = new Float64Array(SEARCHES);
+  private readonly contactList = new Int32Array(MAX_CONTACTS);
   private readonly starts = new Int32Array(8);
   private readonly searchedFrom = new Int32Array(8);
   private readonly startScores = new Float64Array(8);

@@ -174,8 +174,71 @@ function evaluationRegion(
 ): number {
   const taskRegion = study.task.region;
   if (!taskRegion) return grid.workspaceRegion(null, false);
-  const centreStatus = architecture.solvePose(model, pose, taskRegion.centreX, taskRegion.centreY, phi);
-  return grid.workspaceRegion({ x: taskRegion.centreX, y: taskRegion.centreY }, architectureUsableMargin(pose, centreStatus, study, jointScale) >= 0);
+  const usable = (x: number, y: number): boolean => architectureUsableMargin(pose, architecture.solvePose(model, pose, x, y, phi), study, jointScale) >= 0;
+  const centreX = taskRegion.centreX;
+  const centreY = taskRegion.centreY;
+  const centreUsable = usable(centreX, centreY);
+  const region = grid.workspaceRegion({ x: centreX, y: centreY }, centreUsable);
+  return region >= 0 || !centreUsable ? region : regionThroughFlood(grid, centreX, centreY, usable);
+}
+
+/** Sub-cells per grid cell, and grid cells on each side of the centre's cell, of regionThroughFlood's lattice. */
+const FLOOD_SPLIT = 8;
+const FLOOD_CELLS = 2;
+
+/**
+ * The region holding a usable task centre when no corner of the centre's grid cell lies in a region
+ * (a part of the usable set narrower than a cell there, or a small region whose nodes are farther
+ * off): a flood fill of the usable points of a lattice FLOOD_SPLIT times finer over the cells within
+ * FLOOD_CELLS of the centre's cell, from the lattice nodes around the centre, stopping at the first
+ * grid node it reaches that is labelled. −1 when it reaches none (a region with no grid node near
+ * the centre is not measured). Runs only in that case, so its lattice is allocated here.
+ */
+function regionThroughFlood(grid: MarginGrid, cx: number, cy: number, usable: (x: number, y: number) => boolean): number {
+  const { nx, ny, h, x0, y0, labels } = grid;
+  const ci = Math.floor((cx - x0) / h);
+  const cj = Math.floor((cy - y0) / h);
+  const i0 = Math.max(ci - FLOOD_CELLS, 0);
+  const j0 = Math.max(cj - FLOOD_CELLS, 0);
+  const i1 = Math.min(ci + 1 + FLOOD_CELLS, nx - 1);
+  const j1 = Math.min(cj + 1 + FLOOD_CELLS, ny - 1);
+  if (!(i1 > i0 && j1 > j0)) return -1;
+  const side = (i1 - i0) * FLOOD_SPLIT + 1;
+  const rows = (j1 - j0) * FLOOD_SPLIT + 1;
+  const hf = h / FLOOD_SPLIT;
+  // 0: not looked at, 1: queued (usable), 2: not usable.
+  const state = new Uint8Array(side * rows);
+  const queue = new Int32Array(side * rows);
+  let head = 0;
+  let tail = 0;
+  const visit = (qi: number, qj: number): void => {
+    if (qi < 0 || qj < 0 || qi >= side || qj >= rows) return;
+    const q = qj * side + qi;
+    if (state[q] !== 0) return;
+    const on = usable(x0 + (i0 * FLOOD_SPLIT + qi) * hf, y0 + (j0 * FLOOD_SPLIT + qj) * hf);
+    state[q] = on ? 1 : 2;
+    if (on) queue[tail++] = q;
+  };
+  const fi = Math.floor((cx - x0) / hf) - i0 * FLOOD_SPLIT;
+  const fj = Math.floor((cy - y0) / hf) - j0 * FLOOD_SPLIT;
+  visit(fi, fj);
+  visit(fi + 1, fj);
+  visit(fi, fj + 1);
+  visit(fi + 1, fj + 1);
+  while (head < tail) {
+    const q = queue[head++]!;
+    const qi = q % side;
+    const qj = (q - qi) / side;
+    if (qi % FLOOD_SPLIT === 0 && qj % FLOOD_SPLIT === 0) {
+      const label = labels[(j0 + qj / FLOOD_SPLIT) * nx + i0 + qi / FLOOD_SPLIT]!;
+      if (label >= 0) return label;
+    }
+    visit(qi + 1, qj);
+    visit(qi - 1, qj);
+    visit(qi, qj + 1);
+    visit(qi, qj - 1);
+  }
+  return -1;
 }
 
 /** Bounds the reach margins of a sampled grid by the signed distance to the box (m). */

@@ -21,7 +21,7 @@ import { DEFAULT_EVALUATION_TOLERANCE, type Study } from '../study/types.js';
 import type { BuiltArmChecks } from '../accuracy/builtArm.js';
 import { ExtremeSearch, type ExtremeObjective } from './extremeSearch.js';
 import type { MarginGrid } from './grid.js';
-import { RegionQuadrature, type LevelField, type NodeLattice } from './regionQuadrature.js';
+import { MAX_LEGS, RegionQuadrature, type LevelField, type NodeLattice } from './regionQuadrature.js';
 import { projectOntoTask, taskLattice, taskPoint, type TaskLattice } from './taskSamples.js';
 import { gaussLegendre, tensorIntegral } from './gaussRule.js';
 import { architectureUsableMargin, UsabilityRule } from './usability.js';
@@ -246,9 +246,12 @@ export class RegionMetrics {
   private readonly taskInvCond: Float64Array;
   private readonly taskMargin: Float64Array;
   private readonly taskSecond: Float64Array;
+  /** Per task sample: each leg's reach margin over the footprint (MAX_LEGS per sample). */
+  private readonly taskLegs: Float64Array;
   /** The second margin written by the last `assembledMargins` (joint ranges and assembly sign). */
   private secondMargin = 0;
   private nodeSecond = new Float64Array(0);
+  private nodeLegs = new Float64Array(0);
   /** Footprint of the design in hand, m (scales the reach margin). */
   private footprint = 1;
   private nodeValues = new Float64Array(0);
@@ -292,6 +295,7 @@ export class RegionMetrics {
     this.taskInvCond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
     this.taskMargin = new Float64Array(this.lattice ? this.lattice.x.length : 0);
     this.taskSecond = new Float64Array(this.lattice ? this.lattice.x.length : 0);
+    this.taskLegs = new Float64Array(this.lattice ? MAX_LEGS * this.lattice.x.length : 0);
     // One setting: absent (a fixed area grid) still refines averages and extremes to the default.
     this.tolerance = study.evaluation.tolerance ?? DEFAULT_EVALUATION_TOLERANCE;
   }
@@ -376,6 +380,7 @@ export class RegionMetrics {
       invCond[k] = status === PoseStatus.Unreachable ? 0 : this.pose.inverseCondition;
       this.taskMargin[k] = this.assembledMargins(status);
       this.taskSecond[k] = this.secondMargin;
+      this.legMargins(this.pose, this.taskLegs, MAX_LEGS * k);
       let ok = region >= 0 && grid !== null && this.usable(status) >= 0 && grid.regionAt(x, y) === region;
       this.worst.fold(this.values, x, y, 0, POSE_QUANTITIES);
       if (orientation) {
@@ -403,7 +408,9 @@ export class RegionMetrics {
     const nodes = lattice.nu * lattice.nv;
     const values = this.nodeBuffers(nodes);
     if (this.nodeSecond.length < nodes) this.nodeSecond = new Float64Array(nodes);
+    if (this.nodeLegs.length < MAX_LEGS * nodes) this.nodeLegs = new Float64Array(MAX_LEGS * nodes);
     const second = this.nodeSecond;
+    const legs = this.nodeLegs;
     const region = lattice.region;
     for (let k = 0; k < nodes; k++) {
       const j = Math.floor(k / lattice.nu);
@@ -415,11 +422,13 @@ export class RegionMetrics {
         f = invCond[sample]!;
         margin = this.taskMargin[sample]!;
         second[k] = this.taskSecond[sample]!;
+        for (let leg = 0; leg < MAX_LEGS; leg++) legs[MAX_LEGS * k + leg] = this.taskLegs[MAX_LEGS * sample + leg]!;
       } else {
         const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
         f = status === PoseStatus.Unreachable ? 0 : this.samplingPose.inverseCondition;
         margin = this.assembledMargins(status, this.samplingPose);
         second[k] = this.secondMargin;
+        this.legMargins(this.samplingPose, legs, MAX_LEGS * k);
       }
       values[3 * k] = margin;
       values[3 * k + 1] = f * jacobian;
@@ -433,9 +442,14 @@ export class RegionMetrics {
     let split = false;
     for (let k = 0; k < nodes && !split; k++) if (!(values[3 * k]! >= 0 && second[k]! >= 0)) split = true;
     if (!split) for (let k = 0; k < nodes; k++) values[3 * k] = Math.min(values[3 * k]!, second[k]!);
+    // Legs that are not singular at the end of their reach (struts): each leg's reach margin apart,
+    // so that a corner of the assembled part between two legs' stroke limits is not cut off.
+    const rootEdge = this.reachIsSingular();
+    const legCount = split && !rootEdge ? this.legCount() : 0;
     const field: LevelField = {
       split,
-      rootEdge: this.reachIsSingular(),
+      rootEdge,
+      legs: legCount,
       sample: (u, v, out) => {
         const jacobian = taskPoint(region, u, v, this.at);
         const status = this.architecture.solvePose(this.model!, this.samplingPose, this.at[0]!, this.at[1]!, this.phi0);
@@ -443,14 +457,29 @@ export class RegionMetrics {
         out[1] = 1;
         const margin = this.assembledMargins(status, this.samplingPose);
         out[2] = this.secondMargin;
+        for (let leg = 0; leg < legCount; leg++) out[3 + leg] = this.samplingPose.legReach[leg]! / this.footprint;
         return split || status === PoseStatus.Unreachable ? margin : Math.min(margin, this.secondMargin);
       },
     };
-    const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable, second };
+    // The node lattice's leg margins are MAX_LEGS per node; the quadrature reads `legs` per node.
+    if (legCount > 0 && legCount < MAX_LEGS) for (let k = 0; k < nodes; k++) for (let leg = 0; leg < legCount; leg++) legs[legCount * k + leg] = legs[MAX_LEGS * k + leg]!;
+    const nodeLattice: NodeLattice = { nu: lattice.nu, nv: lattice.nv, u0: 0, v0: 0, hu: 1 / (lattice.nu - 1), hv: 1 / (lattice.nv - 1), values, refinable: this.nodeRefinable, second, legMargins: legs };
     // The area is exact here, but the error estimate may run a little low at edges: half the tolerance.
     const result = this.quadrature.integrate(nodeLattice, field, 0.5 * this.tolerance, 'all', 200 * nodes);
     this.gci = result.integral / lattice.area;
     this.gciError = result.integralError / lattice.area;
+  }
+
+  /** Legs whose reach margins the task quadrature carries apart: every leg of a legged design (at most MAX_LEGS), else 0. */
+  private legCount(): number {
+    const model = this.model!;
+    return isLegged(model) && model.legs.length <= MAX_LEGS ? model.legs.length : 0;
+  }
+
+  /** Each leg's reach margin over the footprint at the pose just solved, into out[at …] (MAX_LEGS; +∞ past the legs). */
+  private legMargins(pose: ArchitecturePose, out: Float64Array, at: number): void {
+    const n = pose.legReach.length;
+    for (let leg = 0; leg < MAX_LEGS; leg++) out[at + leg] = leg < n ? pose.legReach[leg]! / this.footprint : Infinity;
   }
 
   /**

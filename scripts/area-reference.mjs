@@ -12,26 +12,26 @@ const root = new URL('../', import.meta.url);
 const read = (file) => readFileSync(new URL(file, root), 'utf8');
 /** The demo studies made asymmetric (every leg its own lengths; the five-bar's pivots at different heights). */
 export const ACCURACY_CASES = [
-  { name: 'five-bar', file: 'studies/parcel-sorter.yaml', designs: 20, edits: [
+  { name: 'five-bar', file: 'studies/parcel-sorter.yaml', designs: 60, edits: [
     ['base_rise: 0 mm', 'base_rise: { min: -120 mm, max: 120 mm }'],
     ['crank_2: { same_as: crank_1 }', 'crank_2: { min: 150 mm, max: 450 mm }'],
     ['rod_2: { same_as: rod_1 }', 'rod_2: { min: 250 mm, max: 650 mm }'],
   ] },
-  { name: '2-prr', file: 'studies/rail-sorter-2prr.yaml', designs: 10, edits: [
+  { name: '2-prr', file: 'studies/rail-sorter-2prr.yaml', designs: 30, edits: [
     ['rod_2: { same_as: rod_1 }', 'rod_2: { min: 350 mm, max: 800 mm }'],
     ['rail_height: 0 mm', 'rail_height: { min: -50 mm, max: 50 mm }'],
   ] },
-  { name: '3-rrr', file: 'studies/platform-3rrr.yaml', designs: 10, edits: [
+  { name: '3-rrr', file: 'studies/platform-3rrr.yaml', designs: 30, edits: [
     ['crank_2: { same_as: crank_1 }', 'crank_2: { min: 150 mm, max: 350 mm }'],
     ['rod_2: { same_as: rod_1 }', 'rod_2: { min: 150 mm, max: 350 mm }'],
     ['crank_3: { same_as: crank_1 }', 'crank_3: { min: 150 mm, max: 350 mm }'],
     ['rod_3: { same_as: rod_1 }', 'rod_3: { min: 150 mm, max: 350 mm }'],
   ] },
-  { name: '3-prr', file: 'studies/platform-3prr.yaml', designs: 10, edits: [
+  { name: '3-prr', file: 'studies/platform-3prr.yaml', designs: 30, edits: [
     ['rod_2: { same_as: rod_1 }', 'rod_2: { min: 250 mm, max: 450 mm }'],
     ['rod_3: { same_as: rod_1 }', 'rod_3: { min: 250 mm, max: 450 mm }'],
   ] },
-  { name: '3-rpr', file: 'studies/platform-3rpr.yaml', designs: 10, edits: [] },
+  { name: '3-rpr', file: 'studies/platform-3rpr.yaml', designs: 30, edits: [] },
 ];
 
 /** Study text of a case with its grid setting replaced (`grid_cells: N`, or removed for the default tolerance). */

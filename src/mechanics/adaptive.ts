@@ -65,6 +65,8 @@ const SEARCHES = 8;
 const REPAIR_ROUNDS = 3;
 const REPAIR_PROBES = 24;
 const MAX_CONTACTS = 16;
+/** A repair counts only beyond this share of the radius (a tenth of the default tolerance): smaller gains or losses are left. */
+const REPAIR_SLACK = 5e-4;
 const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
 const MAX_PROBES = 64;
 
@@ -579,7 +581,7 @@ export class AdaptiveArea {
         if (!(d > 0) || !(this.sampleAt(points[2 * p]!, points[2 * p + 1]!) > 0)) continue;
         // Inside: the boundary lies farther out along the ray.
         const t = this.rayBoundary(cx, cy, dx / d, dy / d, d, 0.25 * h);
-        if (t > d * (1 + 1e-6)) {
+        if (t > d * (1 + REPAIR_SLACK)) {
           points[2 * p] = cx + (t * dx) / d;
           points[2 * p + 1] = cy + (t * dy) / d;
           changed = true;
@@ -588,7 +590,7 @@ export class AdaptiveArea {
       for (let q = 0; q < REPAIR_PROBES; q++) {
         const ux = Math.cos((2 * Math.PI * q) / REPAIR_PROBES);
         const uy = Math.sin((2 * Math.PI * q) / REPAIR_PROBES);
-        const rp = r * (1 - 1e-4);
+        const rp = r * (1 - REPAIR_SLACK);
         if (this.sampleAt(cx + rp * ux, cy + rp * uy) >= 0) continue;
         const t = this.rayBoundary(cx, cy, ux, uy, 0, rp);
         this.pushBoundary(cx + t * ux, cy + t * uy);

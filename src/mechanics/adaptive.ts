@@ -65,8 +65,18 @@ const SEARCHES = 8;
 const REPAIR_ROUNDS = 3;
 const REPAIR_PROBES = 24;
 const MAX_CONTACTS = 16;
+/** Rounds of refining the coarse cells the workspace region was found to run into (area), and the most cells per round. */
+const ESCAPE_ROUNDS = 4;
+const MAX_ESCAPES = 64;
+/** Coarse cell states of a workspace measurement (cellState). */
+const CELL_LISTED = 1;
+const CELL_FULL = 2;
+const CELL_THIN = 3;
+const CELL_ESCAPED = 4;
 /** A repair counts only beyond this share of the radius (a tenth of the default tolerance): smaller gains or losses are left. */
 const REPAIR_SLACK = 5e-4;
+/** Points within this share of the radius beyond the circle have the gaps to their neighbours probed (repairCircle). */
+const GAP_REACH = 0.02;
 const PROBE_NODES = (2 * PROBE_SPLIT + 1) ** 2;
 const MAX_PROBES = 64;
 
@@ -281,10 +291,18 @@ export class AdaptiveArea {
     this.current.count = 0;
     const thin = field === 0 && this.thinArms ? this.thin : null;
     thin?.mark(grid, this.masked, S);
+    // Per coarse cell (workspace field): CELL_LISTED, CELL_FULL, CELL_THIN, or 0 (left out).
+    if (this.cellState.length < nx * ny) this.cellState = new Uint8Array(grid.capacity);
+    const state = this.cellState;
+    state.fill(0, 0, nx * ny);
+    this.escapes = 0;
     for (let j = 0; j + 1 < ny; j++) {
       for (let i = 0; i + 1 < nx; i++) {
         const k = j * nx + i;
-        if (thin?.marked(k)) continue;
+        if (thin?.marked(k)) {
+          state[k] = CELL_THIN;
+          continue;
+        }
         const a = coarse[k]!;
         const b = coarse[k + 1]!;
         const c = coarse[k + nx]!;
@@ -298,31 +316,79 @@ export class AdaptiveArea {
           if (!(near < NEAR_FACTOR * (hi - lo))) {
             if (inside === 4) {
               full += 1;
+              state[k] = CELL_FULL;
             }
             continue;
           }
           if (field === 0 && inside === 0 && !this.nearRegion(i, j)) continue;
         }
+        state[k] = CELL_LISTED;
         this.current.push(i * S, j * S, a, b, c, d);
         partial += 0.5 * (trianglePositiveFraction(a, b, d) + trianglePositiveFraction(a, d, c));
       }
     }
-    let cellArea = h * h;
+    const cellArea = h * h;
     full *= cellArea;
-    // Level by level: the listed cells the boundary crosses simply are measured from their boundary
-    // (crossings.ts); the others are split, their undecided children listed for the next level.
     const cells = this.cells;
     cells.begin(this.sampler!, field === 1 ? 1 : 0);
-    let share = (SIMPLE_BUDGET * tolerance * Math.abs(full + partial * cellArea)) / Math.max(this.current.count, 1);
-    let area = full;
+    const share = (SIMPLE_BUDGET * tolerance * Math.abs(full + partial * cellArea)) / Math.max(this.current.count, 1);
+    if (field === 0) this.boundaryCount = 0;
+    this.refine(field, share);
+    let area = full + this.refinedArea;
+    let error = this.refinedError;
+    let level = this.refinedLevel;
+    // The workspace field: where the refinement found the region running on into a coarse cell that
+    // was left out (an arm between coarse nodes that are all outside), those cells are refined in
+    // turn with the same share each (ESCAPE_ROUNDS at most).
+    for (let round = 0; field === 0 && round < ESCAPE_ROUNDS && this.escapes > 0; round++) {
+      this.current.count = 0;
+      const count = this.escapes;
+      this.escapes = 0;
+      for (let e = 0; e < count; e++) {
+        const k = this.escapeList[e]!;
+        const i = k % nx;
+        const j = (k - i) / nx;
+        state[k] = CELL_LISTED;
+        this.current.push(i * S, j * S, coarse[k]!, coarse[k + 1]!, coarse[k + nx]!, coarse[k + nx + 1]!);
+      }
+      this.refine(field, share);
+      area += this.refinedArea;
+      error += this.refinedError;
+      level = Math.max(level, this.refinedLevel);
+    }
+    this.subsamples += cells.samples;
+    if (field === 0) this.appendBoundary(cells.points, cells.pointCount);
+    if (!thin) return { area, error, levels: level };
+    thin.measure(grid, this.masked);
+    return { area: area + thin.area, error: error + thin.error, levels: level };
+  }
+
+  /** Area, error (m²) and deepest level of the last `refine`. */
+  private refinedArea = 0;
+  private refinedError = 0;
+  private refinedLevel = 0;
+
+  /**
+   * Level by level from the coarse cells in `current`: the listed cells the boundary crosses simply
+   * are measured from their boundary (crossings.ts); the others are split, their undecided children
+   * listed for the next level. The workspace field's cells left at the end give their crossings to
+   * the boundary points, and the coarse cells the region runs into are collected (findEscapes).
+   */
+  private refine(field: number, coarseShare: number): void {
+    const S = 1 << MAX_LEVEL;
+    const h = this.grid!.h;
+    let cellArea = h * h;
+    let share = coarseShare;
+    let area = 0;
     let error = 0;
     let level = 0;
     for (;;) {
+      if (field === 0) this.findEscapes(S >> level);
       this.measureSimple(field, level, share);
       area += this.simpleArea;
       error += this.simpleError;
       if (this.current.count === 0) break;
-      if (level === MAX_LEVEL || this.subsamples + cells.samples + 5 * this.current.count > MAX_SUBSAMPLES) {
+      if (level === MAX_LEVEL || this.subsamples + this.cells.samples + 5 * this.current.count > MAX_SUBSAMPLES) {
         // Unresolved: the triangle estimate, with half of each cell as its error.
         area += this.simplePartialLeft * cellArea;
         error += 0.5 * this.current.count * cellArea;
@@ -333,14 +399,59 @@ export class AdaptiveArea {
       share /= 2;
       area += this.split(field, S >> level) * cellArea;
     }
-    this.subsamples += cells.samples;
-    if (field === 0) {
-      this.collectBoundary(level);
-      this.appendBoundary(cells.points, cells.pointCount);
+    if (field === 0) this.collectBoundary(level);
+    this.refinedArea = area;
+    this.refinedError = error;
+    this.refinedLevel = level;
+  }
+
+  /**
+   * For each listed cell of side `step` (fine-lattice units): a usable corner on a side of its coarse
+   * cell (not a coarse node) whose coarse neighbour across that side was left out means that the
+   * region runs on into the neighbour; the neighbour is added to escapeList (escapes: their count).
+   */
+  private findEscapes(step: number): void {
+    const list = this.current;
+    const { nx, ny } = this.grid!;
+    const S = 1 << MAX_LEVEL;
+    const { at, corners } = list;
+    for (let c = 0; c < list.count; c++) {
+      const fi = at[2 * c]!;
+      const fj = at[2 * c + 1]!;
+      for (let q = 0; q < 4; q++) {
+        if (!(corners[4 * c + q]! >= 0)) continue;
+        const ci = fi + (q & 1) * step;
+        const cj = fj + (q >> 1) * step;
+        const onColumn = ci % S === 0;
+        const onRow = cj % S === 0;
+        if (onColumn === onRow) continue;
+        // Not through a side that ends at a usable node of another region (the usable points on it
+        // may be that region's, which the sub-samples do not tell apart).
+        const n0 = Math.floor(cj / S) * nx + Math.floor(ci / S);
+        const n1 = onColumn ? n0 + nx : n0 + 1;
+        if (this.otherRegion(n0) || this.otherRegion(n1)) continue;
+        // The two coarse cells either side of the side the corner lies on.
+        const i0 = onColumn ? ci / S - 1 : Math.floor(ci / S);
+        const j0 = onRow ? cj / S - 1 : Math.floor(cj / S);
+        const i1 = onColumn ? i0 + 1 : i0;
+        const j1 = onRow ? j0 + 1 : j0;
+        this.escapeInto(i0, j0, nx, ny);
+        this.escapeInto(i1, j1, nx, ny);
+      }
     }
-    if (!thin) return { area, error, levels: level };
-    thin.measure(grid, this.masked);
-    return { area: area + thin.area, error: error + thin.error, levels: level };
+  }
+
+  /** Whether coarse node k is usable but not of the evaluation region (masked out). */
+  private otherRegion(k: number): boolean {
+    return this.grid!.values[k]! >= 0 && !(this.masked[k]! >= 0);
+  }
+
+  private escapeInto(i: number, j: number, nx: number, ny: number): void {
+    if (i < 0 || j < 0 || i + 1 >= nx || j + 1 >= ny) return;
+    const k = j * nx + i;
+    if (this.cellState[k] !== 0 || this.escapes >= MAX_ESCAPES) return;
+    this.cellState[k] = CELL_ESCAPED;
+    this.escapeList[this.escapes++] = k;
   }
 
   /**
@@ -378,6 +489,11 @@ export class AdaptiveArea {
     return inside;
   }
 
+  /** Per coarse cell of the last workspace measurement: CELL_LISTED, CELL_FULL, CELL_THIN or 0 (left out). */
+  private cellState = new Uint8Array(0);
+  /** Coarse cells the region was found to run into (refined next), and their count. */
+  private readonly escapeList = new Int32Array(MAX_ESCAPES);
+  private escapes = 0;
   private readonly cells = new BoundaryCells();
   private readonly edgeKeys = new Int32Array(4);
   private simpleArea = 0;
@@ -588,13 +704,21 @@ export class AdaptiveArea {
         }
       }
       for (let q = 0; q < REPAIR_PROBES; q++) {
-        const ux = Math.cos((2 * Math.PI * q) / REPAIR_PROBES);
-        const uy = Math.sin((2 * Math.PI * q) / REPAIR_PROBES);
-        const rp = r * (1 - REPAIR_SLACK);
-        if (this.sampleAt(cx + rp * ux, cy + rp * uy) >= 0) continue;
-        const t = this.rayBoundary(cx, cy, ux, uy, 0, rp);
-        this.pushBoundary(cx + t * ux, cy + t * uy);
-        changed = true;
+        if (this.probeCircle(cx, cy, r, Math.cos((2 * Math.PI * q) / REPAIR_PROBES), Math.sin((2 * Math.PI * q) / REPAIR_PROBES))) changed = true;
+      }
+      // Gaps: between a point near the circle and the point written next to it (the same cell's
+      // crossing, arc point or parabola point), the boundary may bulge into the circle where the
+      // points are sparse (cells whose parabola was not written): probed towards the gap's middle.
+      const near = this.contacts(cx, cy, r * (1 + GAP_REACH));
+      for (let c = 0; c < near; c++) {
+        const p = this.contactList[c]!;
+        for (let q = p - 1; q <= p + 1; q += 2) {
+          if (q < 0 || q >= this.boundaryCount) continue;
+          const mx = 0.5 * (points[2 * p]! + points[2 * q]!) - cx;
+          const my = 0.5 * (points[2 * p + 1]! + points[2 * q + 1]!) - cy;
+          const m = Math.hypot(mx, my);
+          if (m > 0 && m < r * (1 + GAP_REACH) && this.probeCircle(cx, cy, r, mx / m, my / m)) changed = true;
+        }
       }
       if (!changed) return r;
       const grid = this.grid!;
@@ -606,7 +730,19 @@ export class AdaptiveArea {
     return r;
   }
 
-  /** Indices of the boundary points within a hair (1e-6 relative) of radius r from (cx, cy) into contactList (at most MAX_CONTACTS); their count. */
+  /**
+   * Samples the field just inside the circle of radius r about (cx, cy) in unit direction (ux, uy);
+   * where it lies outside the region, adds the boundary's point on that ray. Returns whether it did.
+   */
+  private probeCircle(cx: number, cy: number, r: number, ux: number, uy: number): boolean {
+    const rp = r * (1 - REPAIR_SLACK);
+    if (this.sampleAt(cx + rp * ux, cy + rp * uy) >= 0) return false;
+    const t = this.rayBoundary(cx, cy, ux, uy, 0, rp);
+    this.pushBoundary(cx + t * ux, cy + t * uy);
+    return true;
+  }
+
+  /** Indices of the boundary points within r (plus a hair, 1e-6 relative) of (cx, cy) into contactList (at most MAX_CONTACTS); their count. */
   private contacts(cx: number, cy: number, r: number): number {
     const points = this.boundary;
     const reach = r * (1 + 1e-6);
@@ -752,7 +888,6 @@ export class AdaptiveArea {
     const step = (1 << MAX_LEVEL) >> level;
     const list = this.current;
     const grid = this.grid!;
-    this.boundaryCount = 0;
     for (let c = 0; c < list.count; c++) {
       const fi = list.at[2 * c]!;
       const fj = list.at[2 * c + 1]!;

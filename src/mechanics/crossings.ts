@@ -31,6 +31,8 @@ const ROOT_TOLERANCE = 1e-4;
 const EDGE_BITS = 14;
 /** Boundary points written per simple cell for the inscribed radius: the crossings and this many along the parabola between them. */
 const POINTS_BETWEEN = 7;
+/** The parabola's points are written only where the check sample puts the boundary within this share of the chord from it. */
+const PARABOLA_FIT = 1e-3;
 
 /** Per-cell results of BoundaryCells.cellArea. */
 export class BoundaryCells {
@@ -241,13 +243,18 @@ export class BoundaryCells {
     const offset = slope > 0 ? Math.abs(fq) / slope : reach;
     // Plus the crossings' own uncertainty (ROOT_TOLERANCE of an edge, along the chord).
     this.cellError = (2 / 3) * chord * Math.min(offset, reach) + ROOT_TOLERANCE * h * chord;
-    this.writePoints(ax, ay, cx, cy, s, nx, ny);
+    this.writePoints(ax, ay, cx, cy, s, nx, ny, offset <= PARABOLA_FIT * chord ? POINTS_BETWEEN : 1);
     return (2 / 3) * chord * s;
   }
 
-  /** The crossings and POINTS_BETWEEN points of the parabola between them, for the inscribed radius. */
-  private writePoints(ax: number, ay: number, cx: number, cy: number, s: number, nx: number, ny: number): void {
-    const need = 2 * (this.pointCount + POINTS_BETWEEN + 2);
+  /**
+   * The crossings and `between` points of the parabola between them (odd: the middle one is the
+   * arc's own point), for the inscribed radius. Where the check sample finds the parabola off the
+   * boundary (a kink in the cell) only the arc's point is written between the crossings: a parabola
+   * point inside the region would stop the inscribed circle short.
+   */
+  private writePoints(ax: number, ay: number, cx: number, cy: number, s: number, nx: number, ny: number, between: number): void {
+    const need = 2 * (this.pointCount + between + 2);
     if (need > this.points.length) {
       const grown = new Float64Array(Math.max(2 * this.points.length, need));
       grown.set(this.points);
@@ -255,8 +262,8 @@ export class BoundaryCells {
     }
     const p = this.points;
     let w = 2 * this.pointCount;
-    for (let k = 0; k <= POINTS_BETWEEN + 1; k++) {
-      const t = k / (POINTS_BETWEEN + 1);
+    for (let k = 0; k <= between + 1; k++) {
+      const t = k / (between + 1);
       const off = 4 * t * (1 - t) * s;
       p[w++] = ax + t * cx + off * nx;
       p[w++] = ay + t * cy + off * ny;

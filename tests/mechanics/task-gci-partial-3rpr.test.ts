@@ -21,9 +21,9 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.js';
 import { metricIndex } from '../../src/core/metrics.js';
-import { PoseStatus } from '../../src/core/pose.js';
 import { parseStudyText } from '../../src/study/parse.js';
 import { REPO_ROOT } from '../fixtures/harness.js';
+import { midpointGci } from '../helpers/midpointGci.js';
 
 /** base_radius, platform_radius (m), platform_twist (rad): random designs of the demo's ranges. */
 const DESIGNS: readonly (readonly number[])[] = [
@@ -35,26 +35,6 @@ const DESIGNS: readonly (readonly number[])[] = [
 /** The study's tolerance (the default, 0.5 %). */
 const TOLERANCE = 0.005;
 
-function midpointGci(evaluator: ArchitectureEvaluator, design: readonly number[]): number {
-  const region = evaluator.study.task.region!;
-  if (region.shape !== 'rectangle') throw new Error('rectangle expected');
-  const phi0 = evaluator.study.orientation!.phi0;
-  const model = evaluator.model(design);
-  const architecture = evaluator.architecture;
-  const pose = architecture.createPose();
-  const nu = 800;
-  const nv = 300;
-  let sum = 0;
-  for (let j = 0; j < nv; j++) {
-    for (let i = 0; i < nu; i++) {
-      const x = region.centreX + ((i + 0.5) / nu - 0.5) * region.width;
-      const y = region.centreY + ((j + 0.5) / nv - 0.5) * region.height;
-      if (architecture.solvePose(model, pose, x, y, phi0) === PoseStatus.Assembled) sum += pose.inverseCondition;
-    }
-  }
-  return sum / (nu * nv);
-}
-
 describe('3-RPR: gci over a partly assembled task region against a midpoint rule', () => {
   const text = readFileSync(join(REPO_ROOT, 'studies', 'platform-3rpr.yaml'), 'utf8').replace(/^\s*grid_cells:.*$/m, '');
   const evaluator = new ArchitectureEvaluator(parseStudyText(text, 'platform-3rpr').study);
@@ -63,7 +43,7 @@ describe('3-RPR: gci over a partly assembled task region against a midpoint rule
       const result = evaluator.evaluate(Float64Array.from(design));
       const gci = result.metrics[metricIndex('gci')]!;
       const estimate = result.errors[metricIndex('gci')]!;
-      const reference = midpointGci(evaluator, design);
+      const reference = midpointGci(evaluator, design, evaluator.study.orientation!.phi0);
       expect(result.metrics[metricIndex('task_coverage')]!).toBeLessThan(1);
       expect(Math.abs(gci / reference - 1)).toBeLessThanOrEqual(TOLERANCE);
       expect(Math.abs(gci - reference)).toBeLessThanOrEqual(estimate);

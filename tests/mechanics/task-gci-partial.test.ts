@@ -19,9 +19,9 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.js';
 import { metricIndex } from '../../src/core/metrics.js';
-import { PoseStatus } from '../../src/core/pose.js';
 import { parseStudyText } from '../../src/study/parse.js';
 import { REPO_ROOT } from '../fixtures/harness.js';
+import { midpointGci } from '../helpers/midpointGci.js';
 
 /** base_span, crank_1, rod_1 (m): random designs of the demo's ranges. */
 const DESIGNS: readonly (readonly number[])[] = [
@@ -32,25 +32,6 @@ const DESIGNS: readonly (readonly number[])[] = [
 ];
 /** The study's tolerance (the default, 0.5 %). */
 const TOLERANCE = 0.005;
-
-function midpointGci(evaluator: ArchitectureEvaluator, design: readonly number[]): number {
-  const region = evaluator.study.task.region!;
-  if (region.shape !== 'rectangle') throw new Error('rectangle expected');
-  const model = evaluator.model(design);
-  const architecture = evaluator.architecture;
-  const pose = architecture.createPose();
-  const nu = 800;
-  const nv = 300;
-  let sum = 0;
-  for (let j = 0; j < nv; j++) {
-    for (let i = 0; i < nu; i++) {
-      const x = region.centreX + ((i + 0.5) / nu - 0.5) * region.width;
-      const y = region.centreY + ((j + 0.5) / nv - 0.5) * region.height;
-      if (architecture.solvePose(model, pose, x, y, 0) === PoseStatus.Assembled) sum += pose.inverseCondition;
-    }
-  }
-  return sum / (nu * nv);
-}
 
 describe('gci over a partly assembled task region against a midpoint rule', () => {
   const text = readFileSync(join(REPO_ROOT, 'studies', 'parcel-sorter.yaml'), 'utf8').replace(/^\s*grid_cells:.*$/m, '');

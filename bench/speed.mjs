@@ -66,12 +66,18 @@ async function accuracy() {
   for (const c of ACCURACY_CASES) {
     const evaluator = new Evaluator(parseStudyText(caseText(read(c.file), c, ''), c.name).study);
     const worst = { workspace_area: 0, inscribed_radius: 0, reachable_area: 0 };
+    const beyond = { workspace_area: 0, inscribed_radius: 0 };
     const designs = reference.cases.find((x) => x.name === c.name).designs;
     for (const d of designs) {
       const m = evaluator.evaluate(Float64Array.from(d.design)).metrics;
-      for (const key of Object.keys(worst)) worst[key] = Math.max(worst[key], Math.abs(m[index(key)] / d[key] - 1));
+      for (const key of Object.keys(worst)) {
+        const error = Math.abs(m[index(key)] / d[key] - 1);
+        worst[key] = Math.max(worst[key], error);
+        if (key in beyond && error > 0.005) beyond[key]++;
+      }
     }
-    out[c.name] = { designs: designs.length, ...worst };
+    // Designs beyond 0.5 % (the ones tests/mechanics/adaptive-accuracy.test.ts pins: tips and regions smaller than a coarse cell).
+    out[c.name] = { designs: designs.length, ...worst, designs_beyond_0_5_percent: beyond };
   }
   return out;
 }

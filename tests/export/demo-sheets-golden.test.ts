@@ -13,6 +13,9 @@
  * the closed-form symmetric eigenvalues (home 1/κ, the auto characteristic length and what follows it).
  * Later, on purpose: the parcel-sorter baselines' gci (8.0e-4 relative) when a task region assembled
  * everywhere went to tensor Gauss–Legendre rules (see tests/architectures/one-engine-equality.test.ts).
+ * Later, on purpose: platform-3prr and platform-3rrr orientation_margin and orientation_range (by at
+ * most 1.6e-7 rad, 1.1e-7 relative) when the orientation scans placed their boundaries by regula
+ * falsi on the usability margin instead of bisection, to the same 1e-7 rad bracket.
  */
 import { describe, expect, it } from 'vitest';
 import { readdirSync, readFileSync } from 'node:fs';

@@ -149,6 +149,8 @@ export class RegionQuadrature {
   /** Legs whose margins the field carries apart (0: none), and their node values. */
   private legs = 0;
   private legMargins: Float64Array | null = null;
+  /** Values in use per point (STRIDE places each): margin, integrand, continuous flag, second margin, then `legs` leg margins. */
+  private width = 4;
   private ruleIntegral = 0;
   private ruleArea = 0;
   private samples = 0;
@@ -187,6 +189,7 @@ export class RegionQuadrature {
     this.second = this.splitField ? lattice.second! : null;
     this.legs = this.splitField && !this.rootEdge ? Math.min(field.legs ?? 0, MAX_LEGS) : 0;
     this.legMargins = this.legs > 0 ? lattice.legMargins! : null;
+    this.width = 4 + this.legs;
     this.samples = 0;
     this.beginCache(lattice);
     this.sampleCap = sampleCap;
@@ -376,14 +379,14 @@ export class RegionQuadrature {
     const cache = this.cache;
     const found = cache.find(key);
     if (found >= 0) {
-      for (let k = 0; k < STRIDE; k++) this.levels[offset + k] = this.cacheValue[STRIDE * found + k]!;
+      for (let k = 0; k < this.width; k++) this.levels[offset + k] = this.cacheValue[STRIDE * found + k]!;
       return;
     }
     const slot = cache.free;
     this.solveInto(u, v, offset);
     if (slot < 0) return;
     cache.claim(key);
-    for (let k = 0; k < STRIDE; k++) this.cacheValue[STRIDE * slot + k] = this.levels[offset + k]!;
+    for (let k = 0; k < this.width; k++) this.cacheValue[STRIDE * slot + k] = this.levels[offset + k]!;
   }
 
   private solveInto(u: number, v: number, offset: number): void {
@@ -492,7 +495,7 @@ export class RegionQuadrature {
         this.areaError += q[at + 7]!;
         continue;
       }
-      for (let k = 0; k < LEVEL; k++) this.levels[k] = q[at + 16 + k]!;
+      this.copyBlock(q, at + 16, this.levels, 0);
       const u = q[at]!, v = q[at + 1]!, cellU = q[at + 2]!, cellV = q[at + 3]!;
       this.sampleMidpoints(u, v, cellU, cellV);
       this.childRules(u, v, cellU, cellV);
@@ -508,17 +511,27 @@ export class RegionQuadrature {
         q[at + 8 + c] = this.childI[c]!;
         q[at + 12 + c] = this.childA[c]!;
       }
-      for (let k = 0; k < LEVEL; k++) q[at + 16 + k] = this.levels[k]!;
+      this.copyBlock(this.levels, 0, q, at + 16);
       this.key[r] = Math.max(q[at + 6]! / targetI, q[at + 7]! / targetA);
       this.order[tested++] = r;
     }
     return tested;
   }
 
+  /** Copies a 3 × 3 block (the first `width` values of each of its nine slots). */
+  private copyBlock(from: Float64Array, fromAt: number, to: Float64Array, toAt: number): void {
+    const width = this.width;
+    for (let slot = 0; slot < 9; slot++) {
+      const a = fromAt + slot * STRIDE;
+      const b = toAt + slot * STRIDE;
+      for (let k = 0; k < width; k++) to[b + k] = from[a + k]!;
+    }
+  }
+
   /** Queues the four children of the tested cell at record offset `at` for the next level. */
   private split(at: number, next: number): number {
     const q = this.queue;
-    for (let k = 0; k < LEVEL; k++) this.levels[k] = q[at + 16 + k]!;
+    this.copyBlock(q, at + 16, this.levels, 0);
     const u = q[at]!, v = q[at + 1]!;
     const hu2 = q[at + 2]! / 2;
     const hv2 = q[at + 3]! / 2;
@@ -530,7 +543,7 @@ export class RegionQuadrature {
       for (let corner = 0; corner < 4; corner++) {
         const from = ((cj + (corner >> 1)) * 3 + ci + (corner & 1)) * STRIDE;
         const to = LEVEL + ((corner >> 1) * 6 + (corner & 1) * 2) * STRIDE;
-        for (let k = 0; k < STRIDE; k++) this.levels[to + k] = this.levels[from + k]!;
+        for (let k = 0; k < this.width; k++) this.levels[to + k] = this.levels[from + k]!;
       }
       next = this.enqueue(1, next, u + ci * hu2, v + cj * hv2, hu2, hv2, this.queue[at + 8 + c]!, this.queue[at + 12 + c]!, shareI, shareA, true);
     }
@@ -555,7 +568,7 @@ export class RegionQuadrature {
     q[at] = u; q[at + 1] = v; q[at + 2] = hu; q[at + 3] = hv;
     q[at + 4] = ruleI; q[at + 5] = ruleA; q[at + 6] = shareI; q[at + 7] = shareA;
     for (const slot of CORNER_SLOTS) {
-      for (let k = 0; k < STRIDE; k++) q[at + 16 + slot * STRIDE + k] = this.levels[block * LEVEL + slot * STRIDE + k]!;
+      for (let k = 0; k < this.width; k++) q[at + 16 + slot * STRIDE + k] = this.levels[block * LEVEL + slot * STRIDE + k]!;
     }
     return count + 1;
   }

@@ -696,7 +696,8 @@ export class AdaptiveArea {
         const d = Math.hypot(dx, dy);
         if (!(d > 0) || !(this.sampleAt(points[2 * p]!, points[2 * p + 1]!) > 0)) continue;
         // Inside: the boundary lies farther out along the ray.
-        const t = this.rayBoundary(cx, cy, dx / d, dy / d, d, 0.25 * h);
+        // Small first steps: a gap to another region narrower than the step could be stepped over.
+        const t = this.rayBoundary(cx, cy, dx / d, dy / d, d, h / 16);
         if (t > d * (1 + REPAIR_SLACK)) {
           points[2 * p] = cx + (t * dx) / d;
           points[2 * p + 1] = cy + (t * dy) / d;

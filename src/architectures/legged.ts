@@ -106,6 +106,20 @@ export interface LeggedModel extends ArchitectureModelBase, LegModelView {
   readonly movingMass: number;
 }
 
+/**
+ * Per-leg numbers (at most 3) as an array of doubles of one kind for every model. V8 keeps packed and
+ * holey, small-integer and double arrays apart; `Array.prototype.map` makes one kind before it is
+ * optimized and another after, so the hot loops that read a model's arrays met both, were compiled
+ * again after each deoptimization, and stayed polymorphic. A slice of a literal of doubles is always
+ * a packed array of doubles; storing a small integer into it keeps it one.
+ */
+export function legNumbers(n: number, value: (i: number) => number): number[] {
+  const out = LEG_DOUBLES.slice(0, n);
+  for (let i = 0; i < n; i++) out[i] = value(i);
+  return out;
+}
+const LEG_DOUBLES: readonly number[] = [0.5, 0.5, 0.5];
+
 /** The leg kind of a leg geometry: its own, else the crank + rod or slider + rod leg of its actuator. */
 export function legKindOf(leg: LegGeometry): LegKind {
   return leg.leg ?? (leg.actuator === 'revolute' ? crankRod : sliderRod);
@@ -142,12 +156,12 @@ export function buildLeggedModel(
   }
   const platformMass = dof === 3 ? (input.platform?.mass ?? 0) : (input.endHubMass ?? 0);
   movingMass += platformMass;
-  const pinX = legs.map((l) => l.platformPin?.[0] ?? 0);
-  const pinY = legs.map((l) => l.platformPin?.[1] ?? 0);
+  const pinX = legNumbers(dof, (i) => legs[i]!.platformPin?.[0] ?? 0);
+  const pinY = legNumbers(dof, (i) => legs[i]!.platformPin?.[1] ?? 0);
   const circumradius = Math.max(...pinX.map((x, i) => Math.hypot(x, pinY[i]!)));
   const characteristicLength = dof === 2 ? 1 : (input.characteristicLength ?? circumradius);
   if (!(characteristicLength > 0)) throw new Error(`${architecture}: characteristic length must be positive`);
-  const field = <K extends keyof (typeof lumped)[number]>(key: K): number[] => lumped.map((l) => l[key]);
+  const field = <K extends keyof (typeof lumped)[number]>(key: K): number[] => legNumbers(dof, (i) => lumped[i]![key]);
   return {
     architecture,
     dof,
@@ -156,15 +170,15 @@ export function buildLeggedModel(
     assembly: input.assembly,
     characteristicLength,
     drives,
-    baseX: legs.map((l) => l.base[0]),
-    baseY: legs.map((l) => l.base[1]),
-    railX: legs.map((l) => Math.cos(l.railAngle ?? 0)),
-    railY: legs.map((l) => Math.sin(l.railAngle ?? 0)),
+    baseX: legNumbers(dof, (i) => legs[i]!.base[0]),
+    baseY: legNumbers(dof, (i) => legs[i]!.base[1]),
+    railX: legNumbers(dof, (i) => Math.cos(legs[i]!.railAngle ?? 0)),
+    railY: legNumbers(dof, (i) => Math.sin(legs[i]!.railAngle ?? 0)),
     crank: field('crank'),
     rod: field('rod'),
     platformX: pinX,
     platformY: pinY,
-    sigma,
+    sigma: legNumbers(dof, (i) => sigma[i]!),
     jointLimits,
     proximalMass: field('proximalMass'),
     proximalInertia: field('proximalInertia'),
@@ -175,7 +189,7 @@ export function buildLeggedModel(
     platformMass,
     platformInertia: dof === 3 ? (input.platform?.inertiaAboutCentre ?? 0) : 0,
     payloadMass: input.payloadMass,
-    reflectedInertia: legs.map((_, i) => (drives ? drives[i]!.reflectedInertia : 0)),
+    reflectedInertia: legNumbers(dof, (i) => (drives ? drives[i]!.reflectedInertia : 0)),
     gravity: input.gravity,
     complianceTransverse: field('complianceTransverse'),
     complianceProximalAxial: field('complianceProximalAxial'),

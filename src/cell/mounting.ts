@@ -6,7 +6,7 @@
  * once mounted). Gravity, the task, keep-outs and the duty cycle stay in the task frame, so turning
  * the base also turns the arm against gravity. Slider positions along a rail are unchanged.
  */
-import type { LeggedModel } from '../architectures/legged.js';
+import { legNumbers, type LeggedModel } from '../architectures/legged.js';
 import type { ArchitectureModelBase } from '../architectures/types.js';
 import { MOUNT_VARIABLES, type CellParameter, type CellSpec, type Mount } from './types.js';
 
@@ -21,18 +21,10 @@ export function mountModel<T extends ArchitectureModelBase>(model: T, mount: Mou
   const c = Math.cos(mount.angle);
   const s = Math.sin(mount.angle);
   const n = model.baseX.length;
-  const baseX: number[] = [];
-  const baseY: number[] = [];
-  const railX: number[] = [];
-  const railY: number[] = [];
-  for (let i = 0; i < n; i++) {
-    const x = model.baseX[i]!;
-    const y = model.baseY[i]!;
-    baseX.push(mount.x + c * x - s * y);
-    baseY.push(mount.y + s * x + c * y);
-    railX.push(c * model.railX[i]! - s * model.railY[i]!);
-    railY.push(s * model.railX[i]! + c * model.railY[i]!);
-  }
+  const baseX = legNumbers(n, (i) => mount.x + c * model.baseX[i]! - s * model.baseY[i]!);
+  const baseY = legNumbers(n, (i) => mount.y + s * model.baseX[i]! + c * model.baseY[i]!);
+  const railX = legNumbers(n, (i) => c * model.railX[i]! - s * model.railY[i]!);
+  const railY = legNumbers(n, (i) => s * model.railX[i]! + c * model.railY[i]!);
   const jointLimits = model.jointLimits.map((r, i) =>
     r && model.actuators[i] === 'revolute' ? { min: r.min + mount.angle, max: r.max + mount.angle } : r,
   );

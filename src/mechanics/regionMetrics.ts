@@ -23,7 +23,7 @@ import { ExtremeSearch, type ExtremeObjective } from './extremeSearch.js';
 import type { MarginGrid } from './grid.js';
 import { MAX_LEGS, RegionQuadrature, type LevelField, type NodeLattice } from './regionQuadrature.js';
 import { projectOntoTask, taskLattice, taskPoint, type TaskLattice } from './taskSamples.js';
-import { gaussLegendre, tensorIntegral } from './gaussRule.js';
+import { gaussLegendre, periodicTensorIntegrals, tensorIntegral } from './gaussRule.js';
 import { architectureUsableMargin, UsabilityRule } from './usability.js';
 import { marginJointTests } from './workspace.js';
 
@@ -226,6 +226,12 @@ class WorstValues {
  */
 const SMOOTH_RULES = [gaussLegendre(5), gaussLegendre(8)] as const;
 const SMOOTH_ERROR_FACTOR = 3;
+/**
+ * Points of the disc's periodic rule along its angle (smoothTaskMean): 16, with the 8 of every other
+ * one as the nested coarser rule. On the 3-RRR demo near its baseline (30 designs, against 256 angles
+ * × 40 radii) the 16 × 8 rule was within 2e-6 of the value, the 8 × 8 Gauss–Legendre rule 0.1 % off.
+ */
+const DISC_ANGLES = 16;
 
 export class RegionMetrics {
   private readonly study: Study;
@@ -240,6 +246,8 @@ export class RegionMetrics {
   private readonly values = new Float64Array(QUANTITIES);
   private readonly ranges = new Float64Array(2 * MAX_RANGES);
   private readonly at = new Float64Array(2);
+  /** The two sums of periodicTensorIntegrals (smoothTaskMean on a disc). */
+  private readonly smoothSums = new Float64Array(2);
   private readonly quadrature = new RegionQuadrature();
   private readonly search = new ExtremeSearch();
   private readonly usable: (status: PoseStatus) => number;
@@ -494,7 +502,8 @@ export class RegionMetrics {
 
   /**
    * gci over a task region assembled at every lattice node, by tensor Gauss–Legendre rules of
-   * SMOOTH_RULES (gaussRule.ts) in the region's parameters: accepted when every rule point is
+   * SMOOTH_RULES (gaussRule.ts) in the region's parameters (a disc: the trapezoidal rule of
+   * DISC_ANGLES points along its periodic angle): accepted when every rule point is
    * assembled too and three times the two rules' difference (the error estimate of the higher one's
    * value) is within half the tolerance. False (nothing written) otherwise: an edge of the
    * assembled part or a sharp feature inside the region, left to the refined lattice quadrature.
@@ -509,15 +518,30 @@ export class RegionMetrics {
       if (status !== PoseStatus.Assembled || !(this.assembledMargins(status, pose) >= 0 && this.secondMargin >= 0)) return Number.NaN;
       return pose.inverseCondition * jacobian;
     };
-    const low = tensorIntegral(SMOOTH_RULES[0], integrand);
-    if (low === null) return false;
-    const high = tensorIntegral(SMOOTH_RULES[1], integrand);
-    if (high === null) return false;
+    let high: number;
+    let difference: number;
+    if (region.shape === 'circle') {
+      // Polar parameters, periodic in the angle u: the trapezoidal rule along u, checked against its
+      // nested half (the angle's error) and against the lower Gauss–Legendre order in the radius.
+      const sums = this.smoothSums;
+      if (!periodicTensorIntegrals(DISC_ANGLES, SMOOTH_RULES[1], integrand, sums)) return false;
+      high = sums[0]!;
+      const halfAngles = sums[1]!;
+      if (!periodicTensorIntegrals(DISC_ANGLES, SMOOTH_RULES[0], integrand, sums)) return false;
+      difference = Math.abs(high - halfAngles) + Math.abs(high - sums[0]!);
+    } else {
+      const low = tensorIntegral(SMOOTH_RULES[0], integrand);
+      if (low === null) return false;
+      const upper = tensorIntegral(SMOOTH_RULES[1], integrand);
+      if (upper === null) return false;
+      high = upper;
+      difference = Math.abs(high - low);
+    }
     // The difference of the two rules overstates the error of the higher one for a smooth integrand,
     // but where 1/κ has a kink in the region (an isotropic point, a switch of the smaller singular
     // value) both converge slowly: three times the difference, measured to cover the error of the
     // 8 × 8 rule on random demo designs against the converged quadrature.
-    const error = SMOOTH_ERROR_FACTOR * Math.abs(high - low);
+    const error = SMOOTH_ERROR_FACTOR * difference;
     if (!(error <= 0.5 * this.tolerance * Math.abs(high))) return false;
     this.gci = high / lattice.area;
     this.gciError = error / lattice.area;

@@ -16,6 +16,9 @@
  * Later, on purpose: platform-3prr and platform-3rrr orientation_margin and orientation_range (by at
  * most 1.6e-7 rad, 1.1e-7 relative) when the orientation scans placed their boundaries by regula
  * falsi on the usability margin instead of bisection, to the same 1e-7 rad bracket.
+ * Later, on purpose: platform-3rrr's gci (0.74913 → 0.75012, 1.3e-3 relative) when a task disc
+ * assembled everywhere went to the trapezoidal rule along its angle (regionMetrics.ts smoothTaskMean);
+ * a 512-angle × 48-radius rule gives 0.7501163 for that design.
  */
 import { describe, expect, it } from 'vitest';
 import { readdirSync, readFileSync } from 'node:fs';

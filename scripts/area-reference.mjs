@@ -34,15 +34,21 @@ export const ACCURACY_CASES = [
   { name: '3-rpr', file: 'studies/platform-3rpr.yaml', designs: 30, edits: [] },
 ];
 
-/** Study text of a case with its grid setting replaced (`grid_cells: N`, or removed for the default tolerance). */
+/**
+ * Study text of a case with its grid setting replaced: the `grid_cells` and `tolerance` lines of its
+ * evaluation section removed, then `gridLine` (e.g. `grid_cells: 1000`, a fixed grid) put first in
+ * that section, or nothing (the default tolerance).
+ */
 export function caseText(text, c, gridLine) {
   let out = text;
   for (const [from, to] of c.edits) {
     if (!out.includes(from)) throw new Error(`${c.name}: "${from}" not found in ${c.file}`);
     out = out.replace(from, to);
   }
-  if (!/^\s*grid_cells:.*$/m.test(out)) throw new Error(`${c.name}: no grid_cells line`);
-  return out.replace(/^(\s*)grid_cells:.*$/m, gridLine ? `$1${gridLine}` : '');
+  const section = /^evaluation:\n((?:[ \t]+\S.*\n)*)/m.exec(out);
+  if (!section) throw new Error(`${c.name}: no evaluation section in ${c.file}`);
+  const body = section[1].replace(/^[ \t]+(?:grid_cells|tolerance|area_tolerance):.*\n/gm, '');
+  return out.slice(0, section.index) + `evaluation:\n${gridLine ? `  ${gridLine}\n` : ''}${body}` + out.slice(section.index + section[0].length);
 }
 
 /**

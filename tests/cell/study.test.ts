@@ -11,7 +11,10 @@ import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.
 import { designFromValues } from '../../src/mechanics/designSpace.js';
 import { METRIC_NAMES, metricIndex } from '../../src/core/metrics.js';
 
-const BASE = readFileSync(new URL('../../studies/parcel-sorter.yaml', import.meta.url), 'utf8');
+// The demo on a fixed grid of 120 cells: a study with a cell section keeps the fixed grid of
+// grid_cells (docs/evaluation.md), so the plain study is evaluated on the same grid to compare with it.
+const DEMO = readFileSync(new URL('../../studies/parcel-sorter.yaml', import.meta.url), 'utf8');
+const BASE = DEMO.replace(/^(\s*)tolerance:.*$/m, '$1grid_cells: 120');
 
 /** The parcel-sorter study (invented demo) with extra top-level YAML appended. */
 function study(extra = '', replace: [string, string][] = []) {
@@ -31,6 +34,7 @@ function evaluateBaseline(s: ReturnType<typeof study>, values: Record<string, nu
 const CELL_METRICS = ['min_clearance', 'passive_joint_margin', 'zone_coverage', 'cycle_coverage', 'regular_workspace_area', 'regular_workspace_width', 'regular_workspace_x', 'regular_workspace_y'];
 
 describe('cell section', () => {
+  it('the demo text was put on its fixed grid', () => expect(BASE).toMatch(/^\s*grid_cells: 120$/m));
   it('a study without it evaluates as before: every cell metric NaN', () => {
     const m = evaluateBaseline(study()).metrics;
     for (const name of CELL_METRICS) expect(Number.isNaN(m[metricIndex(name)]!)).toBe(true);

@@ -118,3 +118,81 @@ export class ExtremeSearch {
     return gain;
   }
 }
+
+/**
+ * Values of the points that a run of searches has evaluated, by their exact coordinates. Searches
+ * started at the same sample (the worst point of several quantities) poll the same neighbours at
+ * the same steps; a caller that computes every quantity at a point answers such a poll from here.
+ * Entries hold `width` numbers and a byte of the caller's flags. No allocation after construction.
+ */
+export class PointMemo {
+  /** Values of entry e at [e · width, (e + 1) · width). */
+  readonly values: Float64Array;
+  /** The caller's flags of each entry. */
+  readonly flags: Uint8Array;
+  private readonly xs: Float64Array;
+  private readonly ys: Float64Array;
+  /** Open addressing: entry + 1 in slots whose stamp is the current generation. */
+  private readonly slots: Int32Array;
+  private readonly stamps: Int32Array;
+  private readonly mask: number;
+  private generation = 1;
+  private count = 0;
+  private readonly bits = new Float64Array(2);
+  private readonly words = new Int32Array(this.bits.buffer);
+
+  constructor(
+    readonly width: number,
+    readonly capacity: number,
+  ) {
+    this.values = new Float64Array(width * capacity);
+    this.flags = new Uint8Array(capacity);
+    this.xs = new Float64Array(capacity);
+    this.ys = new Float64Array(capacity);
+    let size = 2;
+    while (size < 2 * capacity) size *= 2;
+    this.slots = new Int32Array(size);
+    this.stamps = new Int32Array(size);
+    this.mask = size - 1;
+  }
+
+  /** Forgets every entry. */
+  clear(): void {
+    this.generation++;
+    this.count = 0;
+  }
+
+  /** The entry of (x, y), or −1. */
+  find(x: number, y: number): number {
+    for (let slot = this.hash(x, y); ; slot = (slot + 1) & this.mask) {
+      if (this.stamps[slot] !== this.generation) return -1;
+      const entry = this.slots[slot]! - 1;
+      if (this.xs[entry] === x && this.ys[entry] === y) return entry;
+    }
+  }
+
+  /** A new entry for (x, y), which `find` did not hold; −1 when the memo is full. */
+  add(x: number, y: number): number {
+    if (this.count === this.capacity) return -1;
+    const entry = this.count++;
+    this.xs[entry] = x;
+    this.ys[entry] = y;
+    this.flags[entry] = 0;
+    let slot = this.hash(x, y);
+    while (this.stamps[slot] === this.generation) slot = (slot + 1) & this.mask;
+    this.stamps[slot] = this.generation;
+    this.slots[slot] = entry + 1;
+    return entry;
+  }
+
+  private hash(x: number, y: number): number {
+    this.bits[0] = x;
+    this.bits[1] = y;
+    const w = this.words;
+    let h = Math.imul(w[0]! ^ 0x2545f491, 0x9e3779b1);
+    h = Math.imul(h ^ w[1]!, 0x85ebca6b);
+    h = Math.imul(h ^ w[2]!, 0xc2b2ae35);
+    h = Math.imul(h ^ w[3]!, 0x27d4eb2f);
+    return (h ^ (h >>> 15)) & this.mask;
+  }
+}

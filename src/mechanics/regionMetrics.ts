@@ -19,7 +19,7 @@ import type { DriveTrain } from '../drives/types.js';
 import { metricIndex } from '../core/metrics.js';
 import { DEFAULT_EVALUATION_TOLERANCE, type Study } from '../study/types.js';
 import type { BuiltArmChecks } from '../accuracy/builtArm.js';
-import { ExtremeSearch, type ExtremeObjective } from './extremeSearch.js';
+import { ExtremeSearch, PointMemo, type ExtremeObjective } from './extremeSearch.js';
 import type { MarginGrid } from './grid.js';
 import { MAX_LEGS, RegionQuadrature, type LevelField, type NodeLattice } from './regionQuadrature.js';
 import { projectOntoTask, taskLattice, taskPoint, type TaskLattice } from './taskSamples.js';
@@ -52,6 +52,15 @@ const MAX_RANGES = 16;
 /** Budgets of one local search (evaluations): pose quantities, orientation quantities (a scan each). */
 const SEARCH_EVALUATIONS = 40;
 const ORIENTATION_SEARCH_EVALUATIONS = 8;
+/**
+ * Points remembered per refineExtremes (PointMemo): every search of a pass fits (15 quantities, two
+ * searches each, 40 evaluations at most). Flags of an entry: outside the region, pose quantities
+ * known, orientation quantities known too.
+ */
+const MEMO_POINTS = 1280;
+const MEMO_OUTSIDE = 1;
+const MEMO_POSE = 2;
+const MEMO_ORIENTATION = 3;
 /** A second search starts at the worst sample away from the first when it is within this fraction of the worst. */
 const SECOND_START_GAP = 0.01;
 /** Relative differences below this are rounding, not a worse pose (searches). */
@@ -250,6 +259,8 @@ export class RegionMetrics {
   private readonly smoothSums = new Float64Array(2);
   private readonly quadrature = new RegionQuadrature();
   private readonly search = new ExtremeSearch();
+  /** The points the searches of one refineExtremes have solved, with their quantities (searchValue). */
+  private readonly memo = new PointMemo(QUANTITIES, MEMO_POINTS);
   private readonly usable: (status: PoseStatus) => number;
   private readonly taskInvCond: Float64Array;
   private readonly taskMargin: Float64Array;
@@ -654,27 +665,54 @@ export class RegionMetrics {
 
   /** The value the current search maximises or minimises at (x, y); NaN outside the region. Folds every quantity. */
   private searchValue(x: number, y: number): number {
-    if (this.grid) {
-      // workspaceSample solves the pose; its quantities follow from the same solution.
-      const inside = this.workspaceSample(this.grid, x, y, this.values) >= 0 && this.grid.regionAt(x, y) === this.regionLabel;
-      if (!inside) return Number.NaN;
-      poseValues(this.architecture, this.model!, this.pose, this.lastStatus, this.context, this.values);
-      if (this.lastStatus !== PoseStatus.Assembled || this.pose.inverseCondition === 0) this.worst.singular = true;
+    const memo = this.memo;
+    const values = this.values;
+    let entry = memo.find(x, y);
+    if (entry >= 0) {
+      // Polled before in this pass (by another quantity's search): its values, folded again as before.
+      if (memo.flags[entry] === MEMO_OUTSIDE) return Number.NaN;
+      for (let k = 0; k < POSE_QUANTITIES; k++) values[k] = memo.values[QUANTITIES * entry + k]!;
     } else {
-      this.solveValues(x, y);
+      if (this.grid) {
+        // workspaceSample solves the pose; its quantities follow from the same solution.
+        const inside = this.workspaceSample(this.grid, x, y, values) >= 0 && this.grid.regionAt(x, y) === this.regionLabel;
+        if (!inside) {
+          entry = memo.add(x, y);
+          if (entry >= 0) memo.flags[entry] = MEMO_OUTSIDE;
+          return Number.NaN;
+        }
+        poseValues(this.architecture, this.model!, this.pose, this.lastStatus, this.context, values);
+        if (this.lastStatus !== PoseStatus.Assembled || this.pose.inverseCondition === 0) this.worst.singular = true;
+      } else {
+        this.solveValues(x, y);
+      }
+      entry = memo.add(x, y);
+      if (entry >= 0) {
+        memo.flags[entry] = MEMO_POSE;
+        for (let k = 0; k < POSE_QUANTITIES; k++) memo.values[QUANTITIES * entry + k] = values[k]!;
+      }
     }
-    this.worst.fold(this.values, x, y, 0, POSE_QUANTITIES, ROUNDING);
+    this.worst.fold(values, x, y, 0, POSE_QUANTITIES, ROUNDING);
     if (this.target >= Q.orientationMargin) {
-      this.orientationValues(x, y);
-      this.worst.fold(this.values, x, y, POSE_QUANTITIES, QUANTITIES, ROUNDING);
+      if (entry >= 0 && memo.flags[entry] === MEMO_ORIENTATION) {
+        for (let k = POSE_QUANTITIES; k < QUANTITIES; k++) values[k] = memo.values[QUANTITIES * entry + k]!;
+      } else {
+        this.orientationValues(x, y);
+        if (entry >= 0) {
+          memo.flags[entry] = MEMO_ORIENTATION;
+          for (let k = POSE_QUANTITIES; k < QUANTITIES; k++) memo.values[QUANTITIES * entry + k] = values[k]!;
+        }
+      }
+      this.worst.fold(values, x, y, POSE_QUANTITIES, QUANTITIES, ROUNDING);
     }
-    return this.values[this.target]!;
+    return values[this.target]!;
   }
 
   /** Local searches from the worst sample of every quantity that is not already at its worst possible value. */
   private refineExtremes(spacing: number): void {
     const worst = this.worst;
     if (worst.count === 0) return;
+    this.memo.clear();
     const region = this.study.task.region;
     const objective: ExtremeObjective = {
       value: (x, y) => this.searchValue(x, y),

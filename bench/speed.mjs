@@ -49,7 +49,10 @@ function baselineRate(text, count) {
   const baseline = designFromValues(evaluator.variables, s.baseline);
   const rand = lcg(4242);
   const designs = Array.from({ length: 32 }, () => Float64Array.from(baseline, (v, k) => (evaluator.variables[k].kind === 'real' ? v * (0.95 + 0.1 * rand()) : v)));
-  for (let k = 0; k < 8; k++) evaluator.evaluate(designs[k % 32]);
+  // Warm-up long enough for the optimizing compiler to finish the study's hot paths: its background
+  // threads count in this process's CPU time, and 8 evaluations left a study measured first up to a
+  // third slower than the same study measured again.
+  for (let k = 0; k < 96; k++) evaluator.evaluate(designs[k % 32]);
   const c0 = process.cpuUsage();
   for (let k = 0; k < count; k++) evaluator.evaluate(designs[k % 32]);
   const cpu = process.cpuUsage(c0);

@@ -714,9 +714,32 @@ export class RegionMetrics {
     if (worst.count === 0) return;
     this.memo.clear();
     const region = this.study.task.region;
-    const objective: ExtremeObjective = {
-      value: (x, y) => this.searchValue(x, y),
-      ...(this.grid || !region ? {} : { project: (x: number, y: number, out: Float64Array) => projectOntoTask(region, x, y, out) }),
+    // A task disc is searched in polar coordinates (arc length on the rim's circle, radius; the
+    // radius clamped to the disc): an extreme on the rim is then followed along it at full steps. In
+    // (x, y) each step off the rim was projected back onto it and moved a fraction of a step, so such
+    // searches used up their budget (half the 3-RRR demo's pose-quantity searches did).
+    const disc = !this.grid && region?.shape === 'circle' ? region : null;
+    const objective: ExtremeObjective = disc
+      ? {
+          value: (a, r) => this.searchValue(disc.centreX + r * Math.cos(a / disc.radius), disc.centreY + r * Math.sin(a / disc.radius)),
+          project: (a: number, r: number, out: Float64Array) => {
+            out[0] = a;
+            out[1] = r < 0 ? 0 : r > disc.radius ? disc.radius : r;
+          },
+        }
+      : {
+          value: (x, y) => this.searchValue(x, y),
+          ...(this.grid || !region ? {} : { project: (x: number, y: number, out: Float64Array) => projectOntoTask(region, x, y, out) }),
+        };
+    /** A point of the region in the search's coordinates, into this.at. */
+    const start = (x: number, y: number): void => {
+      if (!disc) {
+        this.at[0] = x;
+        this.at[1] = y;
+        return;
+      }
+      this.at[0] = disc.radius * Math.atan2(y - disc.centreY, x - disc.centreX);
+      this.at[1] = Math.min(Math.hypot(x - disc.centreX, y - disc.centreY), disc.radius);
     };
     const last = this.orientationTask ? QUANTITIES : POSE_QUANTITIES;
     for (let k = 0; k < last; k++) {
@@ -729,11 +752,13 @@ export class RegionMetrics {
       const second = worst.second[k]!;
       const secondX = worst.secondX[k]!;
       const secondY = worst.secondY[k]!;
-      const r = this.search.search(objective, sense, worst.x[k]!, worst.y[k]!, worst.value[k]!, spacing, spacing / 4096, this.tolerance, budget);
+      start(worst.x[k]!, worst.y[k]!);
+      const r = this.search.search(objective, sense, this.at[0]!, this.at[1]!, worst.value[k]!, spacing, spacing / 4096, this.tolerance, budget);
       let error = r.error;
       const value = r.value;
       if (k < Q.orientationMargin && Number.isFinite(second) && Math.abs(second - value) <= SECOND_START_GAP * Math.abs(value)) {
-        const r2 = this.search.search(objective, sense, secondX, secondY, second, spacing, spacing / 4096, this.tolerance, budget);
+        start(secondX, secondY);
+        const r2 = this.search.search(objective, sense, this.at[0]!, this.at[1]!, second, spacing, spacing / 4096, this.tolerance, budget);
         if (sense * (r2.value - value) > 0) error = r2.error;
       }
       worst.error[k] = error;

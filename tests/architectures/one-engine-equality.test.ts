@@ -30,6 +30,10 @@
  * −0.14, −0.14, −0.07, −0.09 %. Only these values were replaced in the fixture (the writer below
  * evaluates the studies with their tolerance, not on the fixed grid this test uses, so a full
  * rewrite would move the areas of marking-table too).
+ * Later, on purpose: the extremes of marking-table's baseline (its task is a disc) when the local
+ * searches on a disc went to polar coordinates (regionMetrics.ts refineExtremes): 11 values in
+ * `full` and in `reused` (8 metrics, 3 margins) moved by at most 2.4e-4 relative; only these
+ * values were replaced.
  */
 import { describe, expect, it } from 'vitest';
 import { existsSync, readFileSync, writeFileSync } from 'node:fs';

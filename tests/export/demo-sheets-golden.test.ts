@@ -19,6 +19,12 @@
  * Later, on purpose: platform-3rrr's gci (0.74913 → 0.75012, 1.3e-3 relative) when a task disc
  * assembled everywhere went to the trapezoidal rule along its angle (regionMetrics.ts smoothTaskMean);
  * a 512-angle × 48-radius rule gives 0.7501163 for that design.
+ * Later, on purpose: the extremes over task discs (platform-3rrr, marking-table: min_inv_condition,
+ * min_transmission_angle, min_stiffness, first_mode_in_plane, accel_capability, peak joint speeds,
+ * encoder_resolution, orientation_margin/range and the drive margins built on them; at most 2.4e-4
+ * relative) when the local searches on a disc went to polar coordinates (regionMetrics.ts
+ * refineExtremes, docs/regions.md "Extremes"): they now stop by the tolerance rule instead of
+ * running out of points while crawling along the rim.
  */
 import { describe, expect, it } from 'vitest';
 import { readdirSync, readFileSync } from 'node:fs';

@@ -6,7 +6,8 @@
  * - The rule itself on a closed form derived here: ∫₀¹ exp(cos 2πu) du = I₀(1), the modified Bessel
  *   function of the first kind, by its power series Σ (1/4)^k/(k!)² (common practice, no source).
  * - A 2-PRR whose 1/κ depends on y only (closed form derived in tests/mechanics/region.test.ts): the
- *   mean over a disc by an independent 1-D Simpson rule in y = y_c + r sin t.
+ *   mean over a disc by an independent 1-D Simpson rule in y = y_c + r sin t, and the smallest 1/κ
+ *   at the rim's lowest point.
  * - The invented 3-RRR demo's baseline, whose disc is centred on the platform's isotropic pose:
  *   against a plain midpoint rule in polar coordinates (derived here). The tensor Gauss–Legendre
  *   rule in the angle used before missed it by 0.13 % (within the tolerance, but it failed its own
@@ -89,6 +90,12 @@ describe('gci over a task disc assembled everywhere', () => {
     expect(Math.abs(gci / exact - 1)).toBeLessThan(1e-6);
     expect(estimate).toBeGreaterThanOrEqual(Math.abs(gci - exact));
     expect(estimate / gci).toBeLessThan(1e-4);
+    // The smallest 1/κ lies on the rim, at its lowest point y = y_c − r (1/κ = t rises with y there):
+    // the local search in polar coordinates follows the rim to it (regionMetrics.ts refineExtremes).
+    const lowest = invCond(yc - r);
+    const found = result.metrics[metricIndex('min_inv_condition')]!;
+    expect(Math.abs(found / lowest - 1)).toBeLessThan(1e-4);
+    expect(found).toBeGreaterThanOrEqual(lowest * (1 - 1e-12));
   });
 
   it('3-RRR demo baseline: within 2e-5 of a polar midpoint rule, with its error estimate', () => {

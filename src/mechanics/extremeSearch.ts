@@ -8,7 +8,8 @@
  *
  * Stopping, at a relative tolerance τ of the value: after two halvings at least, when the last level
  * improved the value by at most τ/4 of it and a parabola through the best point and its axis
- * neighbours predicts no larger gain; the larger of the two is the error estimate. Knows nothing about mechanisms.
+ * neighbours predicts no larger gain; twice the larger of the two is the error estimate (ERROR_FACTOR).
+ * Knows nothing about mechanisms.
  */
 
 /** The function searched: value at (x, y), NaN when (x, y) is outside the region. */
@@ -28,6 +29,14 @@ export interface ExtremeResult {
 }
 
 const DIRECTIONS = [1, 0, -1, 0, 0, 1, 0, -1] as const;
+/**
+ * The error estimate per (larger of the last level's gain and the parabola's prediction). At a kink
+ * of the value (where two terms of a minimum cross) the gains of successive halvings fall by about
+ * half, so about one more last gain remains, and the parabola does not see the kink. Measured on 25
+ * random 3-RRR designs against dense sampling of their task disc: the plain estimate was exceeded
+ * by min_inv_condition's error on 6 (by up to about 5 %), twice it on none.
+ */
+const ERROR_FACTOR = 2;
 
 export class ExtremeSearch {
   private readonly at = new Float64Array(2);
@@ -96,7 +105,7 @@ export class ExtremeSearch {
     r.value = best;
     r.x = bx;
     r.y = by;
-    r.error = Math.max(Number.isFinite(lastGain) ? lastGain : 0, Number.isFinite(predicted) ? predicted : Math.abs(best - start));
+    r.error = ERROR_FACTOR * Math.max(Number.isFinite(lastGain) ? lastGain : 0, Number.isFinite(predicted) ? predicted : Math.abs(best - start));
     r.evaluations = evaluations;
     return r;
   }

@@ -412,6 +412,11 @@ export interface PlanarArchitecture<TModel extends ArchitectureModelBase = Archi
   forwardKinematics(model: TModel, q: ArrayLike<number>, pose: Float64Array): boolean;
   /** Box that holds every reachable P at orientation φ (2-DOF: φ ignored); null when nothing is reachable. */
   reachableBox(model: TModel, phi?: number): PlaneBox | null;
+  /**
+   * Area of the reachable set inside the evaluation box (m²) where a closed form holds, else null or
+   * absent (the area is then sampled to the tolerance). `windowed`: evaluation.window cut the box.
+   */
+  exactReachableArea?(model: TModel, box: PlaneBox, windowed: boolean): number | null;
   /** Size proxy, m. */
   footprint(model: TModel): number;
   /** Mass of the moving links, sliders, hubs and platform (payload excluded), kg. */

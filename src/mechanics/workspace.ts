@@ -254,35 +254,6 @@ function clipReachToBox(grid: MarginGrid, box: PlaneBox): void {
   }
 }
 
-/** Area of the intersection of two discs of radii r1, r2 whose centres are d apart (m²; the lens formula). */
-export function discIntersectionArea(r1: number, r2: number, d: number): number {
-  if (r1 <= 0 || r2 <= 0) return 0;
-  if (d >= r1 + r2) return 0;
-  if (d <= Math.abs(r1 - r2)) return Math.PI * Math.min(r1, r2) ** 2;
-  const a1 = Math.acos(Math.min(Math.max((d * d + r1 * r1 - r2 * r2) / (2 * d * r1), -1), 1));
-  const a2 = Math.acos(Math.min(Math.max((d * d + r2 * r2 - r1 * r1) / (2 * d * r2), -1), 1));
-  const kite = 0.5 * Math.sqrt(Math.max((-d + r1 + r2) * (d + r1 - r2) * (d - r1 + r2) * (d + r1 + r2), 0));
-  return r1 * r1 * a1 + r2 * r2 * a2 - kite;
-}
-
-/**
- * Closed-form reachable area of a design with two crank + rod legs and no window (the five-bar):
- * the intersection of the annuli |p_i − d_i| ≤ |P − A_i| ≤ p_i + d_i, by inclusion–exclusion over
- * the four disc pairs (derived here: annulus = outer disc minus inner disc, inner ⊂ outer). Null for
- * any other design, whose reachable area is sampled.
- */
-export function twoCrankReachableArea(model: ArchitectureModelBase): number | null {
-  if (model.dof !== 2 || !('legs' in model)) return null;
-  const legged = model as LeggedModel;
-  if (legged.legs[0]!.name !== 'crank-rod' || legged.legs[1]!.name !== 'crank-rod') return null;
-  const d = Math.hypot(legged.baseX[1]! - legged.baseX[0]!, legged.baseY[1]! - legged.baseY[0]!);
-  const outer1 = legged.crank[0]! + legged.rod[0]!;
-  const inner1 = Math.abs(legged.crank[0]! - legged.rod[0]!);
-  const outer2 = legged.crank[1]! + legged.rod[1]!;
-  const inner2 = Math.abs(legged.crank[1]! - legged.rod[1]!);
-  return discIntersectionArea(outer1, outer2, d) - discIntersectionArea(outer1, inner2, d) - discIntersectionArea(inner1, outer2, d) + discIntersectionArea(inner1, inner2, d);
-}
-
 /** Coarse grid cells across the longer side of the box for a relative tolerance (adaptive sampling). */
 export function coarseCells(tolerance: number): number {
   return Math.round(Math.min(Math.max(24 * Math.sqrt(0.005 / tolerance), 16), 64));
@@ -330,7 +301,7 @@ export function sampleAdaptive(
   };
   adaptive.thinArms = architecture.dof === 3;
   adaptive.begin(grid, sampler, region);
-  const exact = w ? null : twoCrankReachableArea(model);
+  const exact = architecture.exactReachableArea ? architecture.exactReachableArea(model, box, !!w) : null;
   const reachable = exact !== null ? { area: exact, error: 0, levels: 0 } : adaptive.area(1, tolerance);
   const workspace = region >= 0 ? adaptive.area(0, tolerance) : { area: 0, error: 0, levels: 0 };
   const inscribedRadius = region >= 0 ? adaptive.inscribedRadius(region) : 0;

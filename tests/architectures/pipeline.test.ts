@@ -154,6 +154,26 @@ describe('2-PRR reachable band against its closed form', () => {
       expect(Math.abs(area - expected), `rod ${rod}: grid ${area} vs ${expected}`).toBeLessThan(2 * h * h);
     }
   });
+
+  it('at the stated accuracy the reachable area is the closed form of the band cut by the reachable box, with no error', () => {
+    // The demo's strokes [a_i, b_i] on the rail y = h: leg i's reach box is x ∈ [a_i − d_i, b_i + d_i],
+    // |y − h| ≤ d_i; the band |y − h| ≤ min(d_1, d_2) (derived above) fills the intersection of the two
+    // boxes in y, so the area is (min(b_i + d_i) − max(a_i − d_i)) × 2 min(d_i). Sampling it cost 1,100
+    // of the 2,600 points of a random demo design (prr2ReachableArea now).
+    const text = readFileSync(STUDY('rail-sorter-2prr.yaml'), 'utf8')
+      .replace(/^\s*grid_cells:.*$/m, '')
+      .replace(/^(\s*)rod_2: \{ same_as: rod_1 \}.*$/m, '$1rod_2: { min: 350 mm, max: 800 mm }');
+    const { study } = parseStudyText(text);
+    expect(study.evaluation.tolerance).toBe(0.005);
+    const evaluator = new Evaluator(study);
+    const [a1, b1, a2, b2] = [-0.85, -0.02, 0.02, 0.85];
+    for (const [rod1, rod2] of [[0.45, 0.6], [0.7, 0.5]] as const) {
+      const result = evaluator.evaluate(designFromValues(evaluator.variables, { rod_1: rod1, rod_2: rod2 }, true));
+      const expected = (Math.min(b1 + rod1, b2 + rod2) - Math.max(a1 - rod1, a2 - rod2)) * 2 * Math.min(rod1, rod2);
+      expect(metric(result.metrics, 'reachable_area')).toBeCloseTo(expected, 12);
+      expect(result.errors![metricIndex('reachable_area')]).toBe(0);
+    }
+  });
 });
 
 describe('3-RRR orientation requirement', () => {

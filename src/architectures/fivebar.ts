@@ -86,7 +86,7 @@ export const fiveBar: PlanarArchitecture<LeggedModel> = {
   poseDynamics: leggedPoseDynamics,
   forwardKinematics: (model, q, out) => twoLegForwardKinematics(model, q, out.length >= 2 ? out : new Float64Array(2)),
   reachableBox: (model) => leggedReachableBox(model),
-  exactReachableArea: (model, _box, windowed) => fiveBarReachableArea(model, windowed),
+  exactReachableArea: (model, _box, _phi, windowed) => fiveBarReachableArea(model, windowed),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,

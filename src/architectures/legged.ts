@@ -529,6 +529,56 @@ export function leggedReachableBox(model: LeggedModel, phi = 0): PlaneBox | null
 }
 
 /**
+ * Reachable area inside `box` of a model whose legs are all slider + rod (2-PRR, 3-PRR), at platform
+ * orientation φ (derived): leg i reaches P iff its distal pin B_i = P + R(φ) b_i lies within d_i of
+ * its rail line, |cross(e_i, B_i − O_i)| ≤ d_i (a stroke is a joint limit, not a limit of reach). So
+ * the reachable part of the box is the box cut by one strip per leg: a convex polygon, clipped half-
+ * plane by half-plane (Sutherland–Hodgman) and measured by the shoelace formula (common practice, no
+ * source). Null when a leg is of another kind.
+ */
+export function sliderStripsArea(model: LeggedModel, box: PlaneBox, phi = 0): number | null {
+  if (!model.legs.every((leg) => leg.name === sliderRod.name)) return null;
+  const c = Math.cos(phi);
+  const s = Math.sin(phi);
+  let polygon = [box.xmin, box.ymin, box.xmax, box.ymin, box.xmax, box.ymax, box.xmin, box.ymax];
+  for (let i = 0; i < model.dof; i++) {
+    const ex = model.railX[i]!;
+    const ey = model.railY[i]!;
+    // The strip's centre line in P: the rail line moved by −R(φ) b_i.
+    const ox = model.baseX[i]! - (c * model.platformX[i]! - s * model.platformY[i]!);
+    const oy = model.baseY[i]! - (s * model.platformX[i]! + c * model.platformY[i]!);
+    const d = model.rod[i]!;
+    for (const side of [1, -1]) polygon = clipHalfPlane(polygon, (x, y) => d - side * (ex * (y - oy) - ey * (x - ox)));
+  }
+  let twice = 0;
+  for (let k = 0; k < polygon.length; k += 2) {
+    const next = (k + 2) % polygon.length;
+    twice += polygon[k]! * polygon[next + 1]! - polygon[next]! * polygon[k + 1]!;
+  }
+  return Math.abs(twice) / 2;
+}
+
+/** The part of a convex polygon (x, y interleaved) where inside(x, y) ≥ 0, for inside linear in x, y. */
+function clipHalfPlane(polygon: readonly number[], inside: (x: number, y: number) => number): number[] {
+  const out: number[] = [];
+  const n = polygon.length / 2;
+  for (let k = 0; k < n; k++) {
+    const ax = polygon[2 * k]!;
+    const ay = polygon[2 * k + 1]!;
+    const bx = polygon[(2 * k + 2) % polygon.length]!;
+    const by = polygon[(2 * k + 3) % polygon.length]!;
+    const fa = inside(ax, ay);
+    const fb = inside(bx, by);
+    if (fa >= 0) out.push(ax, ay);
+    if (fa >= 0 !== fb >= 0) {
+      const t = fa / (fa - fb);
+      out.push(ax + t * (bx - ax), ay + t * (by - ay));
+    }
+  }
+  return out;
+}
+
+/**
  * Size proxy, m: the diameter of the base points (pivots; the stroke ends of limited rails, else
  * the rail origins) plus the longest leg reach plus the platform circumradius.
  */

@@ -21,8 +21,9 @@ import {
   type LeggedModel,
   leggedBodyTree,
   leggedTreeJoints,
+  sliderStripsArea,
 } from './legged.js';
-import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture, type PlaneBox } from './types.js';
+import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
 
 export const PRR2_PARAMETERS = [
   { name: 'rail_height', kind: 'length', description: 'height of the common slider rail above the base origin', signed: true, mayBeZero: true },
@@ -56,7 +57,7 @@ export const prr2: PlanarArchitecture<LeggedModel> = {
   poseDynamics: leggedPoseDynamics,
   forwardKinematics: twoLegForwardKinematics,
   reachableBox: (model) => leggedReachableBox(model, 0),
-  exactReachableArea: (model, box) => prr2ReachableArea(model, box),
+  exactReachableArea: (model, box) => sliderStripsArea(model, box, 0),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,
@@ -71,49 +72,4 @@ export const prr2: PlanarArchitecture<LeggedModel> = {
  */
 export function prr2ReachBandHalfHeight(model: LeggedModel): number {
   return Math.min(model.rod[0]!, model.rod[1]!);
-}
-
-/**
- * Reachable area of a 2-PRR inside the evaluation box (derived): leg i reaches P iff the circle of
- * radius d_i about P meets its rail line, |cross(e_i, P − O_i)| ≤ d_i (a stroke is a joint limit,
- * not a limit of reach), so the reachable part of the box is the box cut by both legs' strips. A
- * convex polygon: clipped half-plane by half-plane (Sutherland–Hodgman), measured by the shoelace
- * formula (common practice, no source).
- */
-export function prr2ReachableArea(model: LeggedModel, box: PlaneBox): number {
-  let polygon = [box.xmin, box.ymin, box.xmax, box.ymin, box.xmax, box.ymax, box.xmin, box.ymax];
-  for (let i = 0; i < 2; i++) {
-    const ex = model.railX[i]!;
-    const ey = model.railY[i]!;
-    const ox = model.baseX[i]!;
-    const oy = model.baseY[i]!;
-    const d = model.rod[i]!;
-    for (const side of [1, -1]) polygon = clipHalfPlane(polygon, (x, y) => d - side * (ex * (y - oy) - ey * (x - ox)));
-  }
-  let twice = 0;
-  for (let k = 0; k < polygon.length; k += 2) {
-    const next = (k + 2) % polygon.length;
-    twice += polygon[k]! * polygon[next + 1]! - polygon[next]! * polygon[k + 1]!;
-  }
-  return Math.abs(twice) / 2;
-}
-
-/** The part of a convex polygon (x, y interleaved) where inside(x, y) ≥ 0 (inside linear in x, y). */
-function clipHalfPlane(polygon: readonly number[], inside: (x: number, y: number) => number): number[] {
-  const out: number[] = [];
-  const n = polygon.length / 2;
-  for (let k = 0; k < n; k++) {
-    const ax = polygon[2 * k]!;
-    const ay = polygon[2 * k + 1]!;
-    const bx = polygon[(2 * k + 2) % polygon.length]!;
-    const by = polygon[(2 * k + 3) % polygon.length]!;
-    const fa = inside(ax, ay);
-    const fb = inside(bx, by);
-    if (fa >= 0) out.push(ax, ay);
-    if ((fa >= 0) !== (fb >= 0)) {
-      const t = fa / (fa - fb);
-      out.push(ax + t * (bx - ax), ay + t * (by - ay));
-    }
-  }
-  return out;
 }

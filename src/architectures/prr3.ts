@@ -22,6 +22,7 @@ import {
   type LeggedModel,
   leggedBodyTree,
   leggedTreeJoints,
+  sliderStripsArea,
 } from './legged.js';
 import { legAngle } from './rrr3.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
@@ -62,6 +63,7 @@ export const prr3: PlanarArchitecture<LeggedModel> = {
   poseDynamics: leggedPoseDynamics,
   forwardKinematics: leggedForwardKinematics,
   reachableBox: leggedReachableBox,
+  exactReachableArea: (model, box, phi) => sliderStripsArea(model, box, phi),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,

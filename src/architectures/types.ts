@@ -413,10 +413,11 @@ export interface PlanarArchitecture<TModel extends ArchitectureModelBase = Archi
   /** Box that holds every reachable P at orientation φ (2-DOF: φ ignored); null when nothing is reachable. */
   reachableBox(model: TModel, phi?: number): PlaneBox | null;
   /**
-   * Area of the reachable set inside the evaluation box (m²) where a closed form holds, else null or
-   * absent (the area is then sampled to the tolerance). `windowed`: evaluation.window cut the box.
+   * Area of the reachable set at orientation φ inside the evaluation box (m²) where a closed form
+   * holds, else null or absent (the area is then sampled to the tolerance). `windowed`:
+   * evaluation.window cut the box.
    */
-  exactReachableArea?(model: TModel, box: PlaneBox, windowed: boolean): number | null;
+  exactReachableArea?(model: TModel, box: PlaneBox, phi: number, windowed: boolean): number | null;
   /** Size proxy, m. */
   footprint(model: TModel): number;
   /** Mass of the moving links, sliders, hubs and platform (payload excluded), kg. */

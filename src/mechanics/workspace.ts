@@ -301,7 +301,7 @@ export function sampleAdaptive(
   };
   adaptive.thinArms = architecture.dof === 3;
   adaptive.begin(grid, sampler, region);
-  const exact = architecture.exactReachableArea ? architecture.exactReachableArea(model, box, !!w) : null;
+  const exact = architecture.exactReachableArea ? architecture.exactReachableArea(model, box, phi, !!w) : null;
   const reachable = exact !== null ? { area: exact, error: 0, levels: 0 } : adaptive.area(1, tolerance);
   const workspace = region >= 0 ? adaptive.area(0, tolerance) : { area: 0, error: 0, levels: 0 };
   const inscribedRadius = region >= 0 ? adaptive.inscribedRadius(region) : 0;

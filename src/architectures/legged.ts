@@ -28,6 +28,7 @@ import {
 } from './dense.js';
 import { generalizedEigen2, inverseCondition2, maxSingularValue2, minEigenSymmetric2 } from './linalg2.js';
 import { addBody, VBX, VBY, VX, VY, W } from './legs/bodies.js';
+import { annuliIntersectionArea } from './annuli.js';
 import { crankRod } from './legs/crankRod.js';
 import { finishKinematics3 } from './legs/platform3.js';
 import { sliderRod } from './legs/sliderRod.js';
@@ -576,6 +577,39 @@ function clipHalfPlane(polygon: readonly number[], inside: (x: number, y: number
     }
   }
   return out;
+}
+
+/**
+ * Reachable area at platform orientation φ of a model whose legs are all crank + rod legs or struts
+ * with a stroke (derived): leg i reaches P iff ρ_i = |B_i − A_i|, B_i = P + R(φ) b_i, lies in
+ * |p_i − d_i| ≤ ρ_i ≤ p_i + d_i (crank + rod) or in the stroke (strut), so in P the reachable set is
+ * the intersection of rings about A_i − R(φ) b_i (annuli.ts). It lies in the reachable box. Null when
+ * a leg is of another kind or a strut has no stroke.
+ */
+export function leggedRingsArea(model: LeggedModel, phi = 0): number | null {
+  const c = Math.cos(phi);
+  const s = Math.sin(phi);
+  const cx: number[] = [];
+  const cy: number[] = [];
+  const inner: number[] = [];
+  const outer: number[] = [];
+  for (let i = 0; i < model.dof; i++) {
+    const leg = model.legs[i]!;
+    if (leg.name === crankRod.name) {
+      inner.push(Math.abs(model.crank[i]! - model.rod[i]!));
+      outer.push(model.crank[i]! + model.rod[i]!);
+    } else if (leg.name === 'strut') {
+      const stroke = model.jointLimits[i] ?? null;
+      if (!stroke) return null;
+      inner.push(Math.max(stroke.min, 0));
+      outer.push(stroke.max);
+    } else {
+      return null;
+    }
+    cx.push(model.baseX[i]! - (c * model.platformX[i]! - s * model.platformY[i]!));
+    cy.push(model.baseY[i]! - (s * model.platformX[i]! + c * model.platformY[i]!));
+  }
+  return annuliIntersectionArea(cx, cy, inner, outer);
 }
 
 /**

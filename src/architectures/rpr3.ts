@@ -23,6 +23,7 @@ import {
   solveLeggedPose,
   type LegGeometry,
   type LeggedModel,
+  leggedRingsArea,
 } from './legged.js';
 import { strut } from './legs/strut.js';
 import { legAngle } from './rrr3.js';
@@ -59,6 +60,7 @@ export const rpr3: PlanarArchitecture<LeggedModel> = {
   poseDynamics: leggedPoseDynamics,
   forwardKinematics: leggedForwardKinematics,
   reachableBox: leggedReachableBox,
+  exactReachableArea: (model, _box, phi, windowed) => (windowed ? null : leggedRingsArea(model, phi)),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,

@@ -23,6 +23,7 @@ import {
   type LeggedModel,
   leggedBodyTree,
   leggedTreeJoints,
+  leggedRingsArea,
 } from './legged.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
 
@@ -68,6 +69,7 @@ export const rrr3: PlanarArchitecture<LeggedModel> = {
   poseDynamics: leggedPoseDynamics,
   forwardKinematics: leggedForwardKinematics,
   reachableBox: leggedReachableBox,
+  exactReachableArea: (model, _box, phi, windowed) => (windowed ? null : leggedRingsArea(model, phi)),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,

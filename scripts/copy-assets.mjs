@@ -4,7 +4,7 @@ import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
-const assets = ['store/schema.sql'];
+const assets = ['store/schema.sql', 'pool/workerEntry.cjs'];
 for (const rel of assets) {
   const from = join(root, 'src', rel);
   if (!existsSync(from)) continue;

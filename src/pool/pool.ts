@@ -35,12 +35,16 @@ export function defaultWorkerCount(): number {
   return Math.max(1, availableParallelism());
 }
 
+/**
+ * The threads' entry file: workerEntry.cjs beside the compiled worker.js, which it imports (see
+ * there why the threads do not load the ES module directly).
+ */
 function workerFile(): string {
-  const beside = new URL('./worker.js', import.meta.url);
-  if (existsSync(fileURLToPath(beside))) return fileURLToPath(beside);
-  // Running from TypeScript sources (tests): use the compiled worker (npm run build).
-  const compiled = new URL('../../dist/pool/worker.js', import.meta.url);
-  if (existsSync(fileURLToPath(compiled))) return fileURLToPath(compiled);
+  // Beside this file when it runs compiled; from TypeScript sources (tests), the build's (npm run build).
+  for (const folder of [new URL('./', import.meta.url), new URL('../../dist/pool/', import.meta.url)]) {
+    const entry = fileURLToPath(new URL('workerEntry.cjs', folder));
+    if (existsSync(fileURLToPath(new URL('worker.js', folder))) && existsSync(entry)) return entry;
+  }
   throw new Error('compiled worker not found: run "npm run build" first');
 }
 

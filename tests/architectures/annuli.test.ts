@@ -11,13 +11,13 @@ import { join } from 'node:path';
 import { annuliIntersectionArea } from '../../src/architectures/annuli.js';
 import { discIntersectionArea } from '../../src/architectures/fivebar.js';
 import { leggedRingsArea, type LeggedModel } from '../../src/architectures/legged.js';
-import { PoseStatus } from '../../src/core/pose.js';
 import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.js';
 import { designFromValues } from '../../src/mechanics/designSpace.js';
 import { evaluationBox } from '../../src/mechanics/workspace.js';
 import { metricIndex } from '../../src/core/metrics.js';
 import { parseStudyText } from '../../src/study/parse.js';
 import { REPO_ROOT } from '../fixtures/harness.js';
+import { reachableCount } from '../helpers/reachableCount.js';
 
 describe('annuliIntersectionArea', () => {
   it('one disc, one ring, concentric rings, repeated rings, rings that miss', () => {
@@ -85,17 +85,7 @@ describe('reachable areas of the 3-RRR and 3-RPR demos at the stated accuracy', 
       expect(result.metrics[metricIndex('reachable_area')]).toBe(exact);
       expect(result.errors![metricIndex('reachable_area')]).toBe(0);
       const box = evaluationBox(study, evaluator.architecture, model, phi)!;
-      const pose = evaluator.architecture.createPose();
-      const n = 800;
-      let reached = 0;
-      for (let j = 0; j < n; j++) {
-        for (let i = 0; i < n; i++) {
-          const x = box.xmin + ((i + 0.5) / n) * (box.xmax - box.xmin);
-          const y = box.ymin + ((j + 0.5) / n) * (box.ymax - box.ymin);
-          if (evaluator.architecture.solvePose(model, pose, x, y, phi) !== PoseStatus.Unreachable) reached++;
-        }
-      }
-      const counted = (reached / (n * n)) * (box.xmax - box.xmin) * (box.ymax - box.ymin);
+      const counted = reachableCount(evaluator.architecture, model, box, phi, 800);
       expect(Math.abs(counted / exact - 1)).toBeLessThan(0.005);
     });
   }
@@ -114,17 +104,7 @@ describe('a 3-RPR design whose reachable area sampling missed', () => {
     const model = evaluator.model(design) as LeggedModel;
     const phi = study.orientation?.phi0 ?? 0;
     const box = evaluationBox(study, evaluator.architecture, model, phi)!;
-    const pose = evaluator.architecture.createPose();
-    const n = 1000;
-    let reached = 0;
-    for (let j = 0; j < n; j++) {
-      for (let i = 0; i < n; i++) {
-        const x = box.xmin + ((i + 0.5) / n) * (box.xmax - box.xmin);
-        const y = box.ymin + ((j + 0.5) / n) * (box.ymax - box.ymin);
-        if (evaluator.architecture.solvePose(model, pose, x, y, phi) !== PoseStatus.Unreachable) reached++;
-      }
-    }
-    const counted = (reached / (n * n)) * (box.xmax - box.xmin) * (box.ymax - box.ymin);
+    const counted = reachableCount(evaluator.architecture, model, box, phi, 1000);
     expect(Math.abs(area / counted - 1)).toBeLessThan(1e-3);
   });
 });

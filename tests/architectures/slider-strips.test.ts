@@ -9,13 +9,13 @@ import { join } from 'node:path';
 import { sliderStripsArea, type LeggedModel } from '../../src/architectures/legged.js';
 import { crankRod } from '../../src/architectures/legs/crankRod.js';
 import { sliderRod } from '../../src/architectures/legs/sliderRod.js';
-import { PoseStatus } from '../../src/core/pose.js';
 import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.js';
 import { designFromValues } from '../../src/mechanics/designSpace.js';
 import { evaluationBox } from '../../src/mechanics/workspace.js';
 import { metricIndex } from '../../src/core/metrics.js';
 import { parseStudyText } from '../../src/study/parse.js';
 import { REPO_ROOT } from '../fixtures/harness.js';
+import { reachableCount } from '../helpers/reachableCount.js';
 
 /** Only the fields sliderStripsArea reads: rails through (baseX, baseY) along angles, pins, rods. */
 function sliders(angles: number[], rod: number, pins: [number, number][] = angles.map(() => [0, 0]), origins: [number, number][] = angles.map(() => [0, 0])): LeggedModel {
@@ -77,17 +77,7 @@ describe('sliderStripsArea', () => {
     expect(result.errors![metricIndex('reachable_area')]).toBe(0);
     // Midpoint count over the box, 800 × 800 points (derived here: the error is about the boundary's
     // length times a cell, under 0.5 % for this polygon).
-    const pose = evaluator.architecture.createPose();
-    const n = 800;
-    let reached = 0;
-    for (let j = 0; j < n; j++) {
-      for (let i = 0; i < n; i++) {
-        const x = box.xmin + ((i + 0.5) / n) * (box.xmax - box.xmin);
-        const y = box.ymin + ((j + 0.5) / n) * (box.ymax - box.ymin);
-        if (evaluator.architecture.solvePose(model, pose, x, y, phi) !== PoseStatus.Unreachable) reached++;
-      }
-    }
-    const counted = (reached / (n * n)) * (box.xmax - box.xmin) * (box.ymax - box.ymin);
+    const counted = reachableCount(evaluator.architecture, model, box, phi, 800);
     expect(Math.abs(counted / exact - 1)).toBeLessThan(0.005);
   });
 });

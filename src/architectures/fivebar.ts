@@ -16,6 +16,7 @@ import {
   solveLeggedPose,
   twoLegForwardKinematics,
   type LeggedModel,
+  leggedRingsArea,
 } from './legged.js';
 import { allWorkingModes, ArchitecturePose, parameterValue, signsOfMode, type ModelInput, type PlanarArchitecture } from './types.js';
 
@@ -46,33 +47,6 @@ export function buildFiveBarArchitectureModel(input: ModelInput): LeggedModel {
   );
 }
 
-/** Area of the intersection of two discs of radii r1, r2 whose centres are d apart (m²; the lens formula). */
-export function discIntersectionArea(r1: number, r2: number, d: number): number {
-  if (r1 <= 0 || r2 <= 0) return 0;
-  if (d >= r1 + r2) return 0;
-  if (d <= Math.abs(r1 - r2)) return Math.PI * Math.min(r1, r2) ** 2;
-  const a1 = Math.acos(Math.min(Math.max((d * d + r1 * r1 - r2 * r2) / (2 * d * r1), -1), 1));
-  const a2 = Math.acos(Math.min(Math.max((d * d + r2 * r2 - r1 * r1) / (2 * d * r2), -1), 1));
-  const kite = 0.5 * Math.sqrt(Math.max((-d + r1 + r2) * (d + r1 - r2) * (d - r1 + r2) * (d + r1 + r2), 0));
-  return r1 * r1 * a1 + r2 * r2 * a2 - kite;
-}
-
-/**
- * Reachable area of a five-bar: the intersection of the annuli |p_i − d_i| ≤ |P − A_i| ≤ p_i + d_i,
- * by inclusion–exclusion over the four disc pairs (derived here: annulus = outer disc minus inner
- * disc, inner ⊂ outer). It lies inside the reachable box, so it is the area in the evaluation box
- * unless a window cuts that box (then null: sampled).
- */
-export function fiveBarReachableArea(model: LeggedModel, windowed: boolean): number | null {
-  if (windowed) return null;
-  const d = Math.hypot(model.baseX[1]! - model.baseX[0]!, model.baseY[1]! - model.baseY[0]!);
-  const outer1 = model.crank[0]! + model.rod[0]!;
-  const inner1 = Math.abs(model.crank[0]! - model.rod[0]!);
-  const outer2 = model.crank[1]! + model.rod[1]!;
-  const inner2 = Math.abs(model.crank[1]! - model.rod[1]!);
-  return discIntersectionArea(outer1, outer2, d) - discIntersectionArea(outer1, inner2, d) - discIntersectionArea(inner1, outer2, d) + discIntersectionArea(inner1, inner2, d);
-}
-
 export const fiveBar: PlanarArchitecture<LeggedModel> = {
   name: 'five-bar',
   variablePrefix: 'fivebar',
@@ -86,7 +60,8 @@ export const fiveBar: PlanarArchitecture<LeggedModel> = {
   poseDynamics: leggedPoseDynamics,
   forwardKinematics: (model, q, out) => twoLegForwardKinematics(model, q, out.length >= 2 ? out : new Float64Array(2)),
   reachableBox: (model) => leggedReachableBox(model),
-  exactReachableArea: (model, _box, _phi, windowed) => fiveBarReachableArea(model, windowed),
+  // The intersection of the two annuli (legs' rings); without a window it lies in the box.
+  exactReachableArea: (model, _box, _phi, windowed) => (windowed ? null : leggedRingsArea(model)),
   footprint: leggedFootprint,
   movingMass: (model) => model.movingMass,
   cutOpenChain: leggedCutOpenChain,

@@ -530,15 +530,15 @@ export function leggedReachableBox(model: LeggedModel, phi = 0): PlaneBox | null
 }
 
 /**
- * Reachable area inside `box` of a model whose legs are all slider + rod (2-PRR, 3-PRR), at platform
- * orientation φ (derived): leg i reaches P iff its distal pin B_i = P + R(φ) b_i lies within d_i of
- * its rail line, |cross(e_i, B_i − O_i)| ≤ d_i (a stroke is a joint limit, not a limit of reach). So
+ * Reachable area inside `box` of a model whose legs all reach a strip (LegKind.reachStrip: slider +
+ * rod; the 2-PRR, 3-PRR), at platform orientation φ (derived): leg i reaches P iff its distal pin
+ * B_i = P + R(φ) b_i lies within d_i of its rail line, |cross(e_i, B_i − O_i)| ≤ d_i (a stroke is a joint limit, not a limit of reach). So
  * the reachable part of the box is the box cut by one strip per leg: a convex polygon, clipped half-
  * plane by half-plane (Sutherland–Hodgman) and measured by the shoelace formula (common practice, no
- * source). Null when a leg is of another kind.
+ * source). Null when a leg's reach is not a strip.
  */
 export function sliderStripsArea(model: LeggedModel, box: PlaneBox, phi = 0): number | null {
-  if (!model.legs.every((leg) => leg.name === sliderRod.name)) return null;
+  if (!model.legs.every((leg) => leg.reachStrip)) return null;
   const c = Math.cos(phi);
   const s = Math.sin(phi);
   let polygon = [box.xmin, box.ymin, box.xmax, box.ymin, box.xmax, box.ymax, box.xmin, box.ymax];
@@ -548,7 +548,7 @@ export function sliderStripsArea(model: LeggedModel, box: PlaneBox, phi = 0): nu
     // The strip's centre line in P: the rail line moved by −R(φ) b_i.
     const ox = model.baseX[i]! - (c * model.platformX[i]! - s * model.platformY[i]!);
     const oy = model.baseY[i]! - (s * model.platformX[i]! + c * model.platformY[i]!);
-    const d = model.rod[i]!;
+    const d = model.legs[i]!.reachStrip!(model, i);
     for (const side of [1, -1]) polygon = clipHalfPlane(polygon, (x, y) => d - side * (ex * (y - oy) - ey * (x - ox)));
   }
   let twice = 0;
@@ -580,11 +580,11 @@ function clipHalfPlane(polygon: readonly number[], inside: (x: number, y: number
 }
 
 /**
- * Reachable area at platform orientation φ of a model whose legs are all crank + rod legs or struts
- * with a stroke (derived): leg i reaches P iff ρ_i = |B_i − A_i|, B_i = P + R(φ) b_i, lies in
- * |p_i − d_i| ≤ ρ_i ≤ p_i + d_i (crank + rod) or in the stroke (strut), so in P the reachable set is
- * the intersection of rings about A_i − R(φ) b_i (annuli.ts). It lies in the reachable box. Null when
- * a leg is of another kind or a strut has no stroke.
+ * Reachable area at platform orientation φ of a model whose legs all reach a ring about their base
+ * point (LegKind.reachRing; derived): leg i reaches P iff ρ_i = |B_i − A_i|, B_i = P + R(φ) b_i, lies
+ * in its ring, so in P the reachable set is the intersection of rings about A_i − R(φ) b_i
+ * (annuli.ts): the five-bar, 3-RRR, 3-RPR. It lies in the reachable box. Null when a leg's reach is
+ * not a ring.
  */
 export function leggedRingsArea(model: LeggedModel, phi = 0): number | null {
   const c = Math.cos(phi);
@@ -593,19 +593,12 @@ export function leggedRingsArea(model: LeggedModel, phi = 0): number | null {
   const cy: number[] = [];
   const inner: number[] = [];
   const outer: number[] = [];
+  const ring = new Float64Array(2);
   for (let i = 0; i < model.dof; i++) {
     const leg = model.legs[i]!;
-    if (leg.name === crankRod.name) {
-      inner.push(Math.abs(model.crank[i]! - model.rod[i]!));
-      outer.push(model.crank[i]! + model.rod[i]!);
-    } else if (leg.name === 'strut') {
-      const stroke = model.jointLimits[i] ?? null;
-      if (!stroke) return null;
-      inner.push(Math.max(stroke.min, 0));
-      outer.push(stroke.max);
-    } else {
-      return null;
-    }
+    if (!leg.reachRing?.(model, i, ring)) return null;
+    inner.push(ring[0]!);
+    outer.push(ring[1]!);
     cx.push(model.baseX[i]! - (c * model.platformX[i]! - s * model.platformY[i]!));
     cy.push(model.baseY[i]! - (s * model.platformX[i]! + c * model.platformY[i]!));
   }

@@ -2,14 +2,14 @@
  * The closed-form area of an intersection of rings (src/architectures/annuli.ts, Green's theorem over
  * arcs), which gives the reachable area of crank + rod and strut legs at the stated accuracy (3-RRR,
  * 3-RPR: legged.ts leggedRingsArea). Checked against areas derived here by other means: discs and
- * rings, the lens formula and the five-bar's inclusion–exclusion over disc pairs, and counts of
+ * rings, the lens formula and inclusion–exclusion over disc pairs (a ring is its outer disc less its inner one), and counts of
  * reachable points.
  */
 import { describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { annuliIntersectionArea } from '../../src/architectures/annuli.js';
-import { discIntersectionArea } from '../../src/architectures/fivebar.js';
+import { discIntersectionArea } from '../helpers/discLens.js';
 import { leggedRingsArea, type LeggedModel } from '../../src/architectures/legged.js';
 import { ArchitectureEvaluator } from '../../src/mechanics/evaluateArchitecture.js';
 import { designFromValues } from '../../src/mechanics/designSpace.js';

@@ -137,6 +137,13 @@ export const crankRod: LegKind = {
     out[0] = ox - reach; out[1] = ox + reach; out[2] = oy - reach; out[3] = oy + reach;
   },
 
+  // The annulus |p − d| ≤ |B − A| ≤ p + d.
+  reachRing(model: LegModelView, i: number, out: Float64Array): boolean {
+    out[0] = Math.abs(model.crank[i]! - model.rod[i]!);
+    out[1] = model.crank[i]! + model.rod[i]!;
+    return true;
+  },
+
   basePoints: (model, i) => [[model.baseX[i]!, model.baseY[i]!]],
   reach: (model, i) => model.crank[i]! + model.rod[i]!,
 

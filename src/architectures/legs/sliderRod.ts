@@ -91,6 +91,9 @@ export const sliderRod: LegKind = {
     out[2] = model.rod[i]!;
   },
 
+  // B reaches the rail while |cross(e_r, B − O)| ≤ d (the stroke is a joint limit, not a limit of reach).
+  reachStrip: (model, i) => model.rod[i]!,
+
   reachBox(model: LegModelView, i: number, ox: number, oy: number, out: Float64Array): void {
     const d = model.rod[i]!;
     const ex = model.railX[i]!;

@@ -118,6 +118,15 @@ export const strut: LegKind = {
     out[0] = ox - reach; out[1] = ox + reach; out[2] = oy - reach; out[3] = oy + reach;
   },
 
+  // The stroke [min, max] of the strut length |B − A| (no ring without a stroke).
+  reachRing(model: LegModelView, i: number, out: Float64Array): boolean {
+    const stroke = model.jointLimits[i] ?? null;
+    if (!stroke) return false;
+    out[0] = Math.max(stroke.min, 0);
+    out[1] = stroke.max;
+    return true;
+  },
+
   basePoints: (model, i) => [[model.baseX[i]!, model.baseY[i]!]],
   reach: (model, i) => model.jointLimits[i]?.max ?? Infinity,
 

@@ -135,6 +135,17 @@ export interface LegKind {
   circle(model: LegModelView, i: number, q: number, out: Float64Array): void;
   /** Box holding every reachable B_i translated by (−ox, −oy) from the base: writes xmin, xmax, ymin, ymax. */
   reachBox(model: LegModelView, i: number, ox: number, oy: number, out: Float64Array): void;
+  /**
+   * The set of B_i the leg reaches, where it is a ring about the base point (crank + rod; a strut with
+   * a stroke): writes its inner and outer radius (m) into out[0], out[1] and returns true; false or
+   * absent otherwise. Gives the closed-form reachable area (legged.ts leggedRingsArea).
+   */
+  reachRing?(model: LegModelView, i: number, out: Float64Array): boolean;
+  /**
+   * The set of B_i the leg reaches, where it is a strip about the rail line through the base point
+   * along (railX, railY) (slider + rod): its half-width, m; absent otherwise (legged.ts sliderStripsArea).
+   */
+  reachStrip?(model: LegModelView, i: number): number;
   /** Fixed points of the leg on the base (pivot; the stroke ends of a limited rail, else its origin). */
   basePoints(model: LegModelView, i: number): [number, number][];
   /** Longest distance from the base point to B_i, m. */
